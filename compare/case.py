@@ -1,0 +1,324 @@
+"""Case files: TOML in, a validated frozen :class:`Case` out.
+
+This module owns the case-file format. Everything is checked here, at the
+edge: the models downstream trust the data they are given. Layout::
+
+    [case]       name, family, description
+    [core]       family dimensions (see compare.families)
+    [[gaps]]     limb, length, position (optional; default mid-limb)
+    [winding]    limb, turns, current, and thickness + length, or fill
+    [materials]  core = "<built-in>" | {csv = "file.csv"} |
+                 {H = [...], B = [...], H_unit = "A/m", B_unit = "T"} | {mu_r = 2000}
+    [hand]       fringing = "<model>"
+    [fe]         order, gap_elements, mesh_size, air_factor, tol
+    [margins]    (filled by later versions)
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from analytic.bh import BHDataError, LinearMaterial
+from analytic.fringing import FRINGING_MODELS
+from analytic.materials import bh_from_table, builtin, builtin_names, load_bh_csv
+
+from .errors import CaseError
+from .families import FAMILIES, Family, get_family
+from .geometry import Gap, Limb, Winding
+from .reader import TableReader
+
+__all__ = ["Case", "MaterialSpec", "HandSettings", "FESettings", "Margins",
+           "load_case", "case_from_dict"]
+
+MATERIAL_REGIONS = ("core",)
+
+
+@dataclass(frozen=True)
+class MaterialSpec:
+    """A region's material: where it came from and the loaded law.
+
+    ``law`` provides h_of_b, b_of_h, nu(s), dnu_ds(s) (SI) - a BHCurve or a
+    LinearMaterial from analytic.bh.
+    """
+
+    region: str
+    kind: str  # "builtin" | "csv" | "table" | "mu_r"
+    description: str
+    law: Any = field(repr=False, compare=False)
+
+
+@dataclass(frozen=True)
+class HandSettings:
+    """Settings of the magnetic-circuit model."""
+
+    fringing: str = "area"
+
+
+@dataclass(frozen=True)
+class FESettings:
+    """Settings of the finite-element model.
+
+    order : element order, 1 or 2.
+    gap_elements : minimum number of elements across each gap length.
+    mesh_size : element size in the core (m); None picks one from the geometry.
+    air_factor : air box side as a multiple of the core's largest dimension.
+    tol : relative Newton residual to stop at.
+    """
+
+    order: int = 2
+    gap_elements: int = 4
+    mesh_size: float | None = None
+    air_factor: float = 3.0
+    tol: float = 1e-8
+
+
+@dataclass(frozen=True)
+class Margins:
+    """Design margins (filled by later versions; empty is valid)."""
+
+
+@dataclass(frozen=True)
+class Case:
+    """One validated design case. All values SI."""
+
+    name: str
+    family: str
+    core: Any
+    gaps: tuple[Gap, ...]
+    winding: Winding
+    materials: tuple[MaterialSpec, ...]
+    hand: HandSettings = HandSettings()
+    fe: FESettings = FESettings()
+    margins: Margins = Margins()
+    description: str = ""
+    source: str = ""
+    sha256: str = ""
+
+    @property
+    def family_model(self) -> Family:
+        return FAMILIES[self.family]
+
+    @property
+    def limbs(self) -> dict[str, Limb]:
+        return self.family_model.limbs(self.core)
+
+    @property
+    def depth(self) -> float:
+        return self.core.depth
+
+    def material(self, region: str) -> MaterialSpec:
+        for m in self.materials:
+            if m.region == region:
+                return m
+        raise KeyError(region)
+
+
+# ---------------------------------------------------------------------------
+def load_case(path: str | Path) -> Case:
+    """Read and validate a TOML case file.
+
+    Raises
+    ------
+    CaseError
+        For any problem, naming the key path and the value.
+    """
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise CaseError(str(path), None, f"cannot read case file ({exc.strerror})") from None
+    try:
+        data = tomllib.loads(raw.decode("utf-8"))
+    except UnicodeDecodeError:
+        raise CaseError(str(path), None, "case file is not UTF-8 text") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise CaseError(str(path), None, f"TOML syntax error: {exc}") from None
+    return case_from_dict(data, base_dir=path.parent, source=str(path),
+                          sha256=hashlib.sha256(raw).hexdigest())
+
+
+def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = "",
+                   sha256: str = "") -> Case:
+    """Validate an already parsed TOML document (see :func:`load_case`)."""
+    root = TableReader(data, "")
+    meta = root.table("case")
+    name = meta.string("name", "unnamed")
+    family_name = meta.string("family")
+    description = meta.string("description", "")
+    meta.finish()
+    family = get_family(family_name)
+
+    core_t = root.table("core")
+    core = family.read_core(core_t)
+    core_t.finish()
+    limbs = family.limbs(core)
+
+    gaps = tuple(_read_gap(t, family, limbs) for t in root.tables("gaps"))
+    _check_gap_overlap(gaps)
+    winding = _read_winding(root.table("winding"), family, limbs)
+    materials = _read_materials(root.table("materials"), base_dir)
+    hand = _read_hand(root.table("hand", {}))
+    fe = _read_fe(root.table("fe", {}))
+    margins_t = root.table("margins", {})
+    margins_t.finish()
+    root.finish()
+    return Case(name=name, family=family_name, core=core, gaps=gaps, winding=winding,
+                materials=materials, hand=hand, fe=fe, margins=Margins(),
+                description=description, source=source, sha256=sha256)
+
+
+def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
+    limb_name = t.string("limb", choices=family.limb_names)
+    limb = limbs[limb_name]
+    length = t.quantity("length", "length")
+    if length >= limb.span:
+        raise CaseError(t.key("length"), t.data["length"],
+                        f"gap not shorter than its limb ({limb_name} limb straight part is "
+                        f"{limb.span * 1e3:g} mm)")
+    if length >= limb.width:
+        raise CaseError(t.key("length"), t.data["length"],
+                        f"gap not shorter than the width of the face it crosses ({limb_name} limb is "
+                        f"{limb.width * 1e3:g} mm wide); the fringing models do not hold")
+    mid = 0.5 * (limb.lo + limb.hi)
+    # Position of the gap centre, measured along the limb from the start of
+    # its straight part (bottom end of a vertical limb, left end of a
+    # horizontal one); default: the middle.
+    offset = t.quantity("position", "length", None, allow_zero=True)
+    pos = mid if offset is None else limb.lo + offset
+    if pos - 0.5 * length < limb.lo - 1e-12 or pos + 0.5 * length > limb.hi + 1e-12:
+        raise CaseError(t.key("position"), t.data.get("position"),
+                        f"gap does not lie within the {limb_name} limb's straight part "
+                        f"(0 to {limb.span * 1e3:g} mm)")
+    t.finish()
+    return Gap(limb_name, length, pos)
+
+
+def _check_gap_overlap(gaps: tuple[Gap, ...]) -> None:
+    for i, a in enumerate(gaps):
+        for j in range(i):
+            b = gaps[j]
+            if a.limb == b.limb and abs(a.position - b.position) < 0.5 * (a.length + b.length):
+                raise CaseError(f"gaps[{i}].position", a.position,
+                                f"gap overlaps gaps[{j}] on the {a.limb} limb")
+
+
+def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Winding:
+    limb_name = t.string("limb", choices=family.winding_limbs)
+    limb = limbs[limb_name]
+    turns = t.integer("turns", minimum=1)
+    current = t.quantity("current", "current", positive=False)
+    room = min(limb.room_minus, limb.room_plus)
+    if t.has("fill"):
+        if t.has("thickness") or t.has("length"):
+            raise CaseError(t.key("fill"), t.data["fill"],
+                            "give either fill or thickness and length, not both")
+        fill = t.number("fill", lo=0.0, hi=1.0)
+        if fill <= 0.0:
+            raise CaseError(t.key("fill"), t.data["fill"], "must be positive")
+        # Fill fraction of the window beside the limb: the coil takes the
+        # limb's whole straight length and that fraction of the window width.
+        thickness, length = fill * room, limb.span
+    else:
+        thickness = t.quantity("thickness", "length")
+        length = t.quantity("length", "length")
+        if thickness > room * (1 + 1e-9):
+            raise CaseError(t.key("thickness"), t.data["thickness"],
+                            f"winding does not fit the window: coil build {thickness * 1e3:g} mm "
+                            f"is more than the {room * 1e3:g} mm window width beside the "
+                            f"{limb_name} limb (the coil would overlap the core)")
+        if length > limb.span * (1 + 1e-9):
+            raise CaseError(t.key("length"), t.data["length"],
+                            f"winding does not fit the window: coil length {length * 1e3:g} mm "
+                            f"is more than the {limb.span * 1e3:g} mm window height along the "
+                            f"{limb_name} limb (the coil would overlap the core)")
+    t.finish()
+    return Winding(limb_name, turns, current, thickness, length)
+
+
+def _read_materials(t: TableReader, base_dir: Path | None) -> tuple[MaterialSpec, ...]:
+    specs = []
+    for region in MATERIAL_REGIONS:
+        specs.append(_read_material(t, region, base_dir))
+    t.finish()
+    return tuple(specs)
+
+
+def _read_material(t: TableReader, region: str, base_dir: Path | None) -> MaterialSpec:
+    key = t.key(region)
+    raw = t.raw(region)
+    try:
+        if isinstance(raw, str):
+            if raw not in builtin_names():
+                import difflib
+
+                close = difflib.get_close_matches(raw, builtin_names(), n=1)
+                hint = f"; did you mean '{close[0]}'?" if close else ""
+                raise CaseError(key, raw, f"unknown built-in material; known: "
+                                          f"{', '.join(builtin_names())}{hint}")
+            return MaterialSpec(region, "builtin", f"built-in {raw}", builtin(raw))
+        mt = TableReader(raw, key)
+        if mt.has("mu_r"):
+            mu_r = mt.number("mu_r", lo=1.0)
+            mt.finish()
+            return MaterialSpec(region, "mu_r", f"linear, mu_r = {mu_r:g}", LinearMaterial(mu_r))
+        if mt.has("csv"):
+            rel = mt.string("csv")
+            mt.finish()
+            p = Path(rel)
+            if not p.is_absolute() and base_dir is not None:
+                p = base_dir / p
+            if not p.is_file():
+                raise CaseError(mt.key("csv"), rel, f"no such B-H file ({p})")
+            return MaterialSpec(region, "csv", f"B-H table {rel}", load_bh_csv(p, name=p.stem))
+        if mt.has("H") or mt.has("B"):
+            h = _number_list(mt, "H")
+            b = _number_list(mt, "B")
+            h_unit = mt.string("H_unit", "A/m")
+            b_unit = mt.string("B_unit", "T")
+            mt.finish()
+            if len(h) != len(b):
+                raise CaseError(mt.key("B"), f"{len(b)} values",
+                                f"H has {len(h)} values; the two columns must be the same length")
+            law = bh_from_table(h, b, h_unit=h_unit, b_unit=b_unit, name=f"{region} table")
+            return MaterialSpec(region, "table", f"inline B-H table ({len(h)} points)", law)
+        raise CaseError(key, raw, "give a built-in name, {csv = ...}, {H = [...], B = [...]} "
+                                  "or {mu_r = ...}")
+    except BHDataError as exc:
+        raise CaseError(key, None, str(exc)) from None
+
+
+def _number_list(t: TableReader, name: str) -> list[float]:
+    raw = t.raw(name)
+    if not isinstance(raw, list) or not raw:
+        raise CaseError(t.key(name), raw, "must be a non-empty list of numbers")
+    out = []
+    for i, v in enumerate(raw):
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+            raise CaseError(f"{t.key(name)}[{i}]", v, "must be a finite number")
+        out.append(float(v))
+    return out
+
+
+def _read_hand(t: TableReader) -> HandSettings:
+    fringing = t.string("fringing", HandSettings.fringing, choices=tuple(FRINGING_MODELS))
+    t.finish()
+    return HandSettings(fringing=fringing)
+
+
+def _read_fe(t: TableReader) -> FESettings:
+    d = FESettings()
+    order = t.integer("order", d.order, minimum=1)
+    if order not in (1, 2):
+        raise CaseError(t.key("order"), order, "element order must be 1 or 2")
+    gap_elements = t.integer("gap_elements", d.gap_elements, minimum=1)
+    mesh_size = t.quantity("mesh_size", "length", None)
+    air_factor = t.number("air_factor", d.air_factor, lo=1.5, hi=100.0)
+    tol = t.number("tol", d.tol, lo=1e-14, hi=1e-2)
+    t.finish()
+    return FESettings(order=order, gap_elements=gap_elements, mesh_size=mesh_size,
+                      air_factor=air_factor, tol=tol)

@@ -1,0 +1,46 @@
+"""Exception types of the compare layer (case files, runs, outputs)."""
+
+from __future__ import annotations
+
+import math
+
+__all__ = ["CaseError", "RunError", "format_value"]
+
+
+def format_value(value: object) -> str:
+    """Short, quoted rendering of a case-file value for an error message."""
+    if isinstance(value, str):
+        text = repr(value)
+    elif isinstance(value, float) and not math.isfinite(value):
+        text = str(value)
+    else:
+        text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+class CaseError(ValueError):
+    """Bad input in a case file.
+
+    Attributes
+    ----------
+    key : str
+        Key path in the case file, e.g. ``"gaps[0].length"``.
+    value : object
+        The offending value (or ``None`` for a missing key).
+    reason : str
+        What is wrong with it.
+    """
+
+    def __init__(self, key: str, value: object, reason: str):
+        self.key = key
+        self.value = value
+        self.reason = reason
+        if value is None:
+            text = f"{key}: {reason}"
+        else:
+            text = f"{key} = {format_value(value)}: {reason}"
+        super().__init__(text)
+
+
+class RunError(RuntimeError):
+    """A model run failed (a nonlinear solve did not converge, meshing failed)."""

@@ -1,0 +1,143 @@
+"""Geometry pieces shared by the core families: limbs, gaps, windings.
+
+Coordinates are those of the planar cut (x to the right, y up, metres); the
+stack depth is out of plane. A *limb* is a straight part of the core between
+two yokes or corners; gaps cut across a limb's full width and coils sit
+beside it. Families (window core, EI core, ...) describe their limbs with
+:class:`Limb`, so gap and coil placement is written once.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+__all__ = ["Limb", "Gap", "Winding", "Rect", "gap_rect", "coil_rects"]
+
+Rect = tuple[float, float, float, float]
+"""An axis-aligned rectangle (x0, y0, x1, y1) in metres."""
+
+
+@dataclass(frozen=True)
+class Limb:
+    """A straight limb of a core in the planar cut.
+
+    Attributes
+    ----------
+    name : str
+        Limb name as used in the case file ("left", "centre", ...).
+    axis : str
+        "x" or "y": the direction the flux runs along the limb.
+    lo, hi : float
+        Span of the limb's straight part along ``axis`` (m): the part
+        beside the window, where gaps and coils may sit.
+    c0, c1 : float
+        Transverse extent of the limb (m), ``c1 - c0`` is its width.
+    room_minus, room_plus : float
+        Free room beside the limb on the ``c0`` and ``c1`` sides (m):
+        the window width on a window side, ``inf`` outside the core.
+    """
+
+    name: str
+    axis: str
+    lo: float
+    hi: float
+    c0: float
+    c1: float
+    room_minus: float
+    room_plus: float
+
+    @property
+    def width(self) -> float:
+        return self.c1 - self.c0
+
+    @property
+    def span(self) -> float:
+        return self.hi - self.lo
+
+    @property
+    def centre(self) -> float:
+        """Transverse coordinate of the limb's centre line (m)."""
+        return 0.5 * (self.c0 + self.c1)
+
+    def rect(self, a0: float, a1: float, t0: float, t1: float) -> Rect:
+        """Rectangle spanning [a0, a1] along the limb and [t0, t1] across it."""
+        if self.axis == "y":
+            return (t0, a0, t1, a1)
+        return (a0, t0, a1, t1)
+
+
+@dataclass(frozen=True)
+class Gap:
+    """An air gap cutting across a limb.
+
+    Attributes
+    ----------
+    limb : str
+        Name of the limb it cuts.
+    length : float
+        Gap length along the flux (m).
+    position : float
+        Coordinate of the gap centre along the limb's axis (m).
+    """
+
+    limb: str
+    length: float
+    position: float
+
+
+@dataclass(frozen=True)
+class Winding:
+    """A winding around one limb.
+
+    Attributes
+    ----------
+    limb : str
+        Limb it is wound on.
+    turns : int
+        Number of turns N (> 0).
+    current : float
+        Terminal current I (A); N*I is the MMF.
+    thickness : float
+        Coil build across the limb (m), the same on both sides.
+    length : float
+        Coil length along the limb (m), centred on the limb's straight part.
+    """
+
+    limb: str
+    turns: int
+    current: float
+    thickness: float
+    length: float
+
+    @property
+    def mmf(self) -> float:
+        """Ampere-turns N*I (A)."""
+        return self.turns * self.current
+
+
+def gap_rect(limb: Limb, gap: Gap) -> Rect:
+    """Rectangle of a gap: across the limb's full width."""
+    half = 0.5 * gap.length
+    return limb.rect(gap.position - half, gap.position + half, limb.c0, limb.c1)
+
+
+def coil_rects(limb: Limb, winding: Winding) -> tuple[Rect, Rect]:
+    """The two coil sides of a winding: (plus side, minus side).
+
+    The plus side lies on the limb's ``c1`` side and carries +N*I out of the
+    plane (+z); the minus side on the ``c0`` side carries -N*I.
+    """
+    mid = 0.5 * (limb.lo + limb.hi)
+    a0, a1 = mid - 0.5 * winding.length, mid + 0.5 * winding.length
+    plus = limb.rect(a0, a1, limb.c1, limb.c1 + winding.thickness)
+    minus = limb.rect(a0, a1, limb.c0 - winding.thickness, limb.c0)
+    return plus, minus
+
+
+def rect_area(r: Rect) -> float:
+    return (r[2] - r[0]) * (r[3] - r[1])
+
+
+def is_finite(*values: float) -> bool:
+    return all(math.isfinite(v) for v in values)
