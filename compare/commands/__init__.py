@@ -1,0 +1,1 @@
+"""Sub-commands of the magcheck CLI, one module each (add_args + run)."""

@@ -1,0 +1,66 @@
+"""``magcheck hand CASE``: the magnetic-circuit operating point of a case."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+from ..case import load_case
+from ..hand import UNITS, HandResult, run_hand
+from ..output import CAUTION, render_table, write_json
+from ..units import format_si
+
+HELP = "solve a case's magnetic circuit (the hand calculation) and print its operating point"
+
+
+def add_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("case", help="TOML case file")
+    p.add_argument("--json", metavar="FILE", help="also write the result as JSON")
+    p.add_argument("--fringing", metavar="MODEL", help="override the case's fringing model")
+    p.add_argument("--planar", action="store_true",
+                   help="in-plane fringing only (the form a planar field model sees)")
+
+
+def hand_json(case, result: HandResult) -> dict:
+    return {"case": {"name": case.name, "family": case.family, "file": case.source,
+                     "sha256": case.sha256},
+            "hand": result.to_dict(),
+            "caution": CAUTION}
+
+
+def run(args: argparse.Namespace) -> int:
+    case = load_case(args.case)
+    if args.fringing:
+        from ..reader import TableReader
+        from analytic.fringing import FRINGING_MODELS
+
+        TableReader({"fringing": args.fringing}, "--fringing").string(
+            "fringing", choices=tuple(FRINGING_MODELS))
+    res = run_hand(case, fringing=args.fringing, planar=args.planar)
+    print_hand(case, res, sys.stdout)
+    if args.json:
+        write_json(args.json, hand_json(case, res))
+    return 0
+
+
+def print_hand(case, res: HandResult, out) -> None:
+    w = case.winding
+    form = "planar (in-plane fringing only)" if res.planar else "3D"
+    rows = [[s["name"], s["kind"], f"{s['length'] * 1e3:.3f}", f"{s['area'] * 1e6:.2f}",
+             f"{s['B']:.4f}", f"{s['H']:.4g}", f"{s['mmf_drop']:.4g}"] for s in res.segments]
+    render_table(f"{case.name}: magnetic circuit, N = {w.turns}, I = {w.current:g} A, "
+                 f"NI = {w.mmf:g} A; fringing model '{res.fringing_model}', {form}",
+                 ["segment", "kind", "length mm", "area mm^2", "B T", "H A/m", "MMF drop A"],
+                 rows, out)
+    labels = {
+        "flux": "flux (winding limb)", "gap_B": "gap B (flux / effective gap area)",
+        "core_B": "core B (length-weighted mean over the path)",
+        "path_H": "path-averaged H (core segments)", "flux_linkage": "flux linkage N*flux",
+        "inductance": "inductance, secant lambda/I",
+        "incremental_inductance": "inductance, incremental d lambda/dI",
+        "energy": "stored energy (integral of H dB)",
+    }
+    rows2 = [[labels[k], format_si(getattr(res, k), UNITS[k])] for k in labels]
+    render_table("operating point", ["quantity", "value"], rows2, out,
+                 notes=[f"Newton: {res.iterations} iterations, relative residual "
+                        f"{res.residual:.1e}", CAUTION])

@@ -1,0 +1,50 @@
+"""``magcheck materials [NAME] [--plot FILE]``: the built-in B-H curves."""
+
+from __future__ import annotations
+
+import argparse
+import difflib
+import sys
+
+from analytic.materials import builtin, builtin_names
+
+from ..errors import CaseError
+from ..output import render_table
+
+HELP = "list the built-in B-H curves, or show and plot one"
+
+
+def add_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("name", nargs="?", help="a built-in material")
+    p.add_argument("--plot", metavar="FILE.png", help="draw the B-H curve to a PNG file")
+
+
+def _get(name: str):
+    if name not in builtin_names():
+        close = difflib.get_close_matches(name, builtin_names(), n=1)
+        hint = f"; did you mean '{close[0]}'?" if close else ""
+        raise CaseError("material", name, f"unknown built-in material; known: "
+                                          f"{', '.join(builtin_names())}{hint}")
+    return builtin(name)
+
+
+def run(args: argparse.Namespace) -> int:
+    out = sys.stdout
+    names = [args.name] if args.name else builtin_names()
+    rows = []
+    for n in names:
+        c = _get(n)
+        rows.append([n, f"{c.mu_r_initial:.0f}", f"{float(c.b_of_h(1000.0)):.3f}",
+                     f"{float(c.b_of_h(10000.0)):.3f}", f"{c.b_max:.3f}", f"{c.h_max:.4g}",
+                     c.source])
+    render_table("built-in B-H curves (invented for the demo)",
+                 ["name", "initial mu_r", "B at 1 kA/m T", "B at 10 kA/m T",
+                  "last B T", "last H A/m", "origin"], rows, out)
+    if args.plot:
+        if not args.name:
+            raise CaseError("--plot", args.plot, "name one material to plot")
+        from analytic.plotting import plot_bh
+
+        plot_bh(_get(args.name), args.plot)
+        out.write(f"wrote {args.plot}\n")
+    return 0

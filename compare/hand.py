@@ -1,0 +1,194 @@
+"""The hand calculation of a case: its reluctance network, solved.
+
+Builds the nonlinear magnetic-circuit model of a case from the family's
+mean-path segments, inserting each gap (with the case's fringing model) in
+series with the limb it cuts and the winding's MMF in its limb, and reduces
+the network solution to the quantities an engineer checks.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+from analytic.fringing import GapFace, effective_area, gap_permeance, get_fringing
+from analytic.network import CoreBranch, GapBranch, Network, NetworkResult, Winding, solve_network
+
+from .case import Case
+from .errors import RunError
+
+__all__ = ["HandResult", "build_network", "run_hand", "WINDING_NAME", "HAND_KEYS"]
+
+log = logging.getLogger(__name__)
+
+WINDING_NAME = "main"
+
+HAND_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
+             "incremental_inductance", "energy")
+"""Quantity keys of the hand JSON (a contract: later versions and scripts rely on them)."""
+
+UNITS = {"gap_B": "T", "core_B": "T", "path_H": "A/m", "flux": "Wb", "flux_linkage": "Wb",
+         "inductance": "H", "incremental_inductance": "H", "energy": "J"}
+
+
+@dataclass(frozen=True)
+class CircuitMap:
+    """Which network branches stand for what in the case."""
+
+    path_branches: tuple[str, ...]
+    gap_branches: tuple[str, ...]
+    winding_branch: str
+
+
+def gap_face(case: Case, index: int) -> GapFace:
+    """The face geometry of gap ``index`` for the fringing models.
+
+    width = the limb width it crosses (in the plane), depth = stack depth,
+    free height = the limb's straight length beside the window (the room
+    the fringing field has, and the winding length the flux-factor model's
+    G stands for).
+    """
+    gap = case.gaps[index]
+    limb = case.limbs[gap.limb]
+    return GapFace(length=gap.length, width=limb.width, depth=case.depth, free_height=limb.span)
+
+
+def build_network(case: Case, *, fringing: str | None = None,
+                  planar: bool = False) -> tuple[Network, CircuitMap]:
+    """The reluctance network of a case.
+
+    Parameters
+    ----------
+    fringing : str, optional
+        Fringing model name (default: the case's ``hand.fringing``).
+    planar : bool
+        True applies only the in-plane part of the fringing correction, the
+        form a planar 2D field model can be compared with (REFERENCES.md
+        section 6); False is the full 3D hand calculation.
+    """
+    model = get_fringing(fringing or case.hand.fringing)
+    material = case.material("core").law
+    fam = case.family_model
+    branches: list[Any] = []
+    nodes: set[str] = set()
+    path: list[str] = []
+    gap_names: dict[int, str] = {}
+    winding_branch = ""
+    for seg in fam.segments(case.core):
+        nodes.update((seg.node_a, seg.node_b))
+        gaps = sorted((i for i, g in enumerate(case.gaps) if g.limb == seg.limb),
+                      key=lambda i: case.gaps[i].position)
+        core_len = seg.length - sum(case.gaps[i].length for i in gaps)
+        a = seg.node_a
+        b = f"{seg.name}/core-end" if gaps else seg.node_b
+        branches.append(CoreBranch(seg.name, a, b, core_len, seg.area, material))
+        if seg.on_path:
+            path.append(seg.name)
+        if seg.limb == case.winding.limb:
+            winding_branch = seg.name
+        for k, i in enumerate(gaps):
+            nodes.add(b)
+            nxt = seg.node_b if k == len(gaps) - 1 else f"{seg.name}/gap{i}-end"
+            face = gap_face(case, i)
+            name = f"gap{i}"
+            branches.append(GapBranch(name, b, nxt, face.length,
+                                      gap_permeance(face, model, planar),
+                                      effective_area(face, model, planar)))
+            gap_names[i] = name
+            b = nxt
+    w = case.winding
+    net = Network(nodes=tuple(sorted(nodes)), branches=tuple(branches),
+                  windings=(Winding(WINDING_NAME, w.turns, w.current, winding_branch),))
+    cmap = CircuitMap(tuple(path), tuple(gap_names[i] for i in range(len(case.gaps))),
+                      winding_branch)
+    return net, cmap
+
+
+@dataclass(frozen=True)
+class HandResult:
+    """The hand calculation's operating point (SI units, see :data:`UNITS`)."""
+
+    case_name: str
+    fringing_model: str
+    planar: bool
+    gap_B: float
+    core_B: float
+    path_H: float
+    flux: float
+    flux_linkage: float
+    inductance: float
+    incremental_inductance: float
+    energy: float
+    iterations: int
+    residual: float
+    segments: tuple[dict, ...]
+    network: NetworkResult = field(repr=False, compare=False)
+
+    def values(self) -> dict[str, float]:
+        return {k: getattr(self, k) for k in HAND_KEYS}
+
+    def to_dict(self) -> dict:
+        """JSON-ready dict; keys of :data:`HAND_KEYS` are a stable contract."""
+        out: dict[str, Any] = {k: _json_float(getattr(self, k)) for k in HAND_KEYS}
+        out["fringing_model"] = self.fringing_model
+        out["planar"] = self.planar
+        out["segments"] = [dict(s) for s in self.segments]
+        out["converged"] = True
+        out["iterations"] = self.iterations
+        out["residual"] = self.residual
+        out["units"] = dict(UNITS)
+        return out
+
+
+def _json_float(v: float) -> float | None:
+    return v if math.isfinite(v) else None
+
+
+def _winding_value(value: Any) -> float:
+    """Network results give per-winding values as a mapping by winding name."""
+    if isinstance(value, dict):
+        return float(value[WINDING_NAME])
+    return float(value)
+
+
+def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
+             flux0: Any = None) -> HandResult:
+    """Solve the case's magnetic circuit.
+
+    Raises
+    ------
+    RunError
+        When the Newton solve of the network does not converge.
+    """
+    net, cmap = build_network(case, fringing=fringing, planar=planar)
+    res = solve_network(net, flux0=flux0)
+    if not res.converged:
+        raise RunError(f"magnetic-circuit solve did not converge: {res.message}")
+    by_name = {b.name: b for b in res.branches}
+    path = [by_name[n] for n in cmap.path_branches]
+    total = sum(b.length for b in path)
+    core_B = sum(abs(b.B) * b.length for b in path) / total
+    path_H = sum(abs(b.H) * b.length for b in path) / total
+    gap_B = abs(by_name[cmap.gap_branches[0]].B) if cmap.gap_branches else math.nan
+    flux = abs(by_name[cmap.winding_branch].flux)
+    segments = tuple(
+        {"name": b.name, "kind": b.kind, "length": b.length, "area": b.area,
+         "flux": abs(b.flux), "B": abs(b.B), "H": abs(b.H), "mmf_drop": abs(b.mmf_drop),
+         "energy": b.energy}
+        for b in res.branches)
+    return HandResult(
+        case_name=case.name,
+        fringing_model=get_fringing(fringing or case.hand.fringing).name,
+        planar=planar,
+        gap_B=gap_B, core_B=core_B, path_H=path_H, flux=flux,
+        flux_linkage=abs(_winding_value(res.flux_linkage)),
+        inductance=_winding_value(res.inductance),
+        incremental_inductance=_winding_value(res.incremental_inductance),
+        energy=float(res.energy),
+        iterations=res.iterations,
+        residual=float(res.residual_history[-1]) if res.residual_history else 0.0,
+        segments=segments,
+        network=res,
+    )

@@ -1,0 +1,88 @@
+"""The CLI's hand and materials commands, run in-process."""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+from scipy.constants import mu_0
+
+from compare.cli import main
+
+CASES = Path(__file__).resolve().parents[1] / "cases"
+HAND_KEYS = {"gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
+             "incremental_inductance", "energy", "fringing_model", "segments"}
+
+
+def test_hand_json_contract(tmp_path, capsys):
+    out = tmp_path / "hand.json"
+    assert main(["hand", str(CASES / "demo_choke.toml"), "--json", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "gap0" in text and "Caution" in text
+    data = json.loads(out.read_text())
+    hand = data["hand"]
+    assert HAND_KEYS <= set(hand)
+    assert hand["fringing_model"] == "area"
+    # Consistency identities of the contract (definitions, not references):
+    assert hand["flux_linkage"] == pytest.approx(80 * hand["flux"], rel=1e-12)
+    assert hand["inductance"] == pytest.approx(hand["flux_linkage"] / 6.0, rel=1e-12)
+    names = [s["name"] for s in hand["segments"]]
+    assert names == ["left", "top", "right", "gap0", "bottom"]
+    # Ampere's law around the loop: the MMF drops add up to N*I.
+    assert sum(s["mmf_drop"] for s in hand["segments"]) == pytest.approx(80 * 6.0, rel=1e-9)
+    gap = hand["segments"][3]
+    # Source: gap field from the gap MMF drop, B = mu0*F/g (definition of an
+    # air-gap reluctance; any fringing model changes only the flux).
+    assert gap["B"] == pytest.approx(mu_0 * gap["mmf_drop"] / gap["length"], rel=1e-9)
+
+
+def test_hand_planar_and_fringing_override(tmp_path):
+    p3, p2, p0 = (tmp_path / n for n in ("a.json", "b.json", "c.json"))
+    case = str(CASES / "demo_choke.toml")
+    assert main(["hand", case, "--json", str(p3)]) == 0
+    assert main(["hand", case, "--planar", "--json", str(p2)]) == 0
+    assert main(["hand", case, "--fringing", "none", "--json", str(p0)]) == 0
+    l3, l2, l0 = (json.loads(p.read_text())["hand"]["inductance"] for p in (p3, p2, p0))
+    # Area enlargement adds permeance; the planar form only the in-plane part.
+    assert l0 < l2 < l3
+
+
+def test_bad_case_exit_2(tmp_path, capsys):
+    bad = tmp_path / "bad.toml"
+    bad.write_text((CASES / "demo_choke.toml").read_text().replace('length = "0.6 mm"',
+                                                                    'length = "3 A"'))
+    assert main(["hand", str(bad)]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "gaps[0].length = '3 A'" in err and "Traceback" not in err
+
+
+def test_bad_fringing_override_exit_2(capsys):
+    assert main(["hand", str(CASES / "demo_choke.toml"), "--fringing", "aera"]) == 2
+    assert "did you mean 'area'" in capsys.readouterr().err
+
+
+def test_usage_error_exit_2(capsys):
+    assert main(["hand"]) == 2
+
+
+def test_materials_list_and_plot(tmp_path, capsys):
+    assert main(["materials"]) == 0
+    text = capsys.readouterr().out
+    for name in ("demo-sisteel", "demo-softiron", "demo-ferrite"):
+        assert name in text
+    png = tmp_path / "steel.png"
+    assert main(["materials", "demo-sisteel", "--plot", str(png)]) == 0
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert main(["materials", "demo-steel"]) == 2
+
+
+def test_ei_case_runs(tmp_path):
+    out = tmp_path / "ei.json"
+    assert main(["hand", str(CASES / "demo_ei_inductor.toml"), "--json", str(out)]) == 0
+    seg = {s["name"]: s for s in json.loads(out.read_text())["hand"]["segments"]}
+    # Symmetry: each outer limb carries half the centre-limb flux.
+    assert seg["left"]["flux"] == pytest.approx(0.5 * seg["centre"]["flux"], rel=1e-9)
+    assert seg["right"]["flux"] == pytest.approx(seg["left"]["flux"], rel=1e-9)
+    assert math.isfinite(seg["gap0"]["B"])
