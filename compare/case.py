@@ -79,7 +79,19 @@ class FESettings:
 
 @dataclass(frozen=True)
 class Margins:
-    """Design margins (filled by later versions; empty is valid)."""
+    """Design margins and hand-vs-FE agreement limits.
+
+    peak_B : maximum peak core flux density (T), checked on the FE's peak
+        (see compare.fe); None = no limit.
+    agreement : maximum |hand - FE| per quantity, percent of the FE value;
+        quantities not named keep compare.check.DEFAULT_LIMITS.
+    """
+
+    peak_B: float | None = None
+    agreement: tuple[tuple[str, float], ...] = ()
+
+    def agreement_limit(self, key: str, default: float | None) -> float | None:
+        return dict(self.agreement).get(key, default)
 
 
 @dataclass(frozen=True)
@@ -164,11 +176,10 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     materials = _read_materials(root.table("materials"), base_dir)
     hand = _read_hand(root.table("hand", {}))
     fe = _read_fe(root.table("fe", {}))
-    margins_t = root.table("margins", {})
-    margins_t.finish()
+    margins = _read_margins(root.table("margins", {}))
     root.finish()
     return Case(name=name, family=family_name, core=core, gaps=gaps, winding=winding,
-                materials=materials, hand=hand, fe=fe, margins=Margins(),
+                materials=materials, hand=hand, fe=fe, margins=margins,
                 description=description, source=source, sha256=sha256)
 
 
@@ -322,3 +333,20 @@ def _read_fe(t: TableReader) -> FESettings:
     t.finish()
     return FESettings(order=order, gap_elements=gap_elements, mesh_size=mesh_size,
                       air_factor=air_factor, tol=tol)
+
+
+AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
+                  "incremental_inductance", "energy")
+
+
+def _read_margins(t: TableReader) -> Margins:
+    peak = t.quantity("peak_B", "flux density", None)
+    at = t.table("agreement", {})
+    agreement = []
+    for key in list(at.data):
+        if key not in AGREEMENT_KEYS:
+            continue
+        agreement.append((key, at.number(key, lo=0.0, hi=1000.0)))
+    at.finish()
+    t.finish()
+    return Margins(peak_B=peak, agreement=tuple(agreement))

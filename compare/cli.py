@@ -22,9 +22,9 @@ EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_SOLVE = 0, 1, 2, 3
 def _commands():
     # Imported here so `magcheck --help` stays quick and each sub-command
     # lives in its own module with add_args(parser) and run(args).
-    from .commands import hand, materials
+    from .commands import check, hand, materials
 
-    return {"hand": hand, "materials": materials}
+    return {"check": check, "hand": hand, "materials": materials}
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -61,6 +61,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         except RunError as exc:
             print(f"magcheck: solve failed: {exc}", file=sys.stderr)
             return EXIT_SOLVE
+        except OSError as exc:
+            print(f"magcheck: cannot write output: {exc.filename or ''}: {exc.strerror or exc}",
+                  file=sys.stderr)
+            return EXIT_INPUT
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:

@@ -18,6 +18,12 @@ CAUTION = (
 )
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 def atomic_write_text(path: str | Path, text: str) -> None:
     """Write a text file completely or not at all (temp file + rename)."""
     path = Path(path)
@@ -26,6 +32,7 @@ def atomic_write_text(path: str | Path, text: str) -> None:
     try:
         with os.fdopen(fd, "w", encoding="utf-8", newline="") as f:
             f.write(text)
+        os.chmod(tmp, 0o666 & ~_umask())
         os.replace(tmp, path)
     except BaseException:
         try:

@@ -1,0 +1,244 @@
+"""The side-by-side check: hand calculation and field solution of one case.
+
+The like-for-like comparison is the hand model in its planar-consistent
+form (fringing in the plane only) against the planar FE per stack depth.
+Beside it stand the 3D hand value the engineer would use and the FE value
+with the depth-direction fringing correction (REFERENCES.md section 6:
+multiply the planar permeance by the model's out-of-plane factor).
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, field
+from typing import Any
+
+from analytic.fringing import FRINGING_MODELS, get_fringing
+
+from .case import Case
+from .fe import FEResult, run_fe_checked
+from .hand import HAND_KEYS, UNITS, HandResult, gap_face, run_hand
+
+__all__ = ["Row", "CheckResult", "run_check", "DEFAULT_LIMITS", "LABELS", "rank_fringing"]
+
+# Default agreement limits, percent of the FE value. Engineering judgement
+# (common practice, no source): a hand calc within 10 % on the gap and
+# inductance is a good one; H along the path is far from uniform, so its
+# mean is held to a looser band.
+DEFAULT_LIMITS: dict[str, float] = {
+    "gap_B": 10.0, "core_B": 10.0, "path_H": 30.0, "flux": 15.0, "flux_linkage": 15.0,
+    "inductance": 15.0, "incremental_inductance": 20.0, "energy": 15.0,
+}
+
+LABELS = {
+    "gap_B": "gap B", "core_B": "core B", "path_H": "path-averaged H", "flux": "flux",
+    "flux_linkage": "flux linkage", "inductance": "inductance (secant)",
+    "incremental_inductance": "inductance (incremental)", "energy": "stored energy",
+    "peak_B": "peak core B",
+}
+
+# Quantities that scale with the gap permeance, and so take the depth-fringing factor.
+_PERMEANCE_LIKE = ("flux", "flux_linkage", "inductance", "incremental_inductance", "energy",
+                   "core_B")
+
+UNCERTAIN_PCT = 1.0  # FE uncertainty above this (percent) is flagged
+
+
+@dataclass(frozen=True)
+class Row:
+    """One line of the comparison table (SI values, percentages)."""
+
+    key: str
+    label: str
+    unit: str
+    hand: float
+    fe: float
+    uncertainty: float
+    diff_pct: float
+    limit_pct: float | None
+    verdict: str
+    hand_3d: float = math.nan
+    fe_3d: float = math.nan
+    limit_value: float | None = None  # design margins: the limit itself (SI)
+    margin_pct: float = math.nan  # design margins: margin left, percent of the limit
+
+    @property
+    def uncertainty_pct(self) -> float:
+        return 100.0 * self.uncertainty / abs(self.fe) if self.fe else math.nan
+
+    def to_dict(self) -> dict:
+        return {"quantity": self.key, "label": self.label, "unit": self.unit,
+                "hand": self.hand, "fe": self.fe, "fe_uncertainty": self.uncertainty,
+                "fe_uncertainty_pct": self.uncertainty_pct, "difference_pct": self.diff_pct,
+                "limit_pct": self.limit_pct, "verdict": self.verdict,
+                "hand_3d": self.hand_3d, "fe_depth_corrected": self.fe_3d,
+                "limit_value": self.limit_value, "margin_pct": self.margin_pct}
+
+
+@dataclass(frozen=True)
+class CheckResult:
+    """Everything a check produced."""
+
+    case: Case
+    hand_3d: HandResult
+    hand_planar: HandResult
+    fe: FEResult
+    rows: tuple[Row, ...]
+    depth_factor: float
+    notes: tuple[str, ...]
+    timings: dict[str, float]
+    fringing_ranking: tuple[dict, ...] = ()
+    extra: dict = field(default_factory=dict)
+
+    @property
+    def passed(self) -> bool:
+        return all(r.verdict != "FAIL" for r in self.rows)
+
+    @property
+    def exit_code(self) -> int:
+        return 0 if self.passed else 1
+
+
+def _verdict(diff_pct: float, hand: float, fe: float, unc: float, limit: float | None) -> str:
+    if not (math.isfinite(hand) and math.isfinite(fe)):
+        return "n/a"
+    if math.isfinite(unc) and abs(hand - fe) <= unc:
+        return "within FE noise"
+    if limit is None:
+        return "info"
+    return "pass" if abs(diff_pct) <= limit else "FAIL"
+
+
+def _diff_pct(hand: float, fe: float) -> float:
+    if not (math.isfinite(hand) and math.isfinite(fe)) or fe == 0:
+        return math.nan
+    return 100.0 * (hand - fe) / abs(fe)
+
+
+def depth_factor(case: Case) -> float:
+    """Out-of-plane fringing factor of the first gap under the case's model (1 if none)."""
+    if not case.gaps:
+        return 1.0
+    _, k_depth = get_fringing(case.hand.fringing).factors(gap_face(case, 0))
+    return float(k_depth)
+
+
+def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult,
+               k_depth: float) -> tuple[Row, ...]:
+    rows = []
+    for k in HAND_KEYS:
+        h, f, u = hand_p.values()[k], fe.values[k], fe.uncertainty.get(k, math.nan)
+        d = _diff_pct(h, f)
+        lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
+        f3 = f * k_depth if k in _PERMEANCE_LIKE else f
+        rows.append(Row(k, LABELS[k], UNITS[k], h, f, u, d, lim, _verdict(d, h, f, u, lim),
+                        hand_3d=hand_3d.values()[k], fe_3d=f3))
+    peak, limit = fe.fine.peak_B, case.margins.peak_B
+    if limit is None:
+        verdict, margin = "info", math.nan
+    else:
+        verdict, margin = ("pass" if peak <= limit else "FAIL"), 100.0 * (limit - peak) / limit
+    rows.append(Row("peak_B", LABELS["peak_B"], "T", math.nan, peak,
+                    fe.uncertainty.get("peak_B", math.nan), math.nan, None, verdict,
+                    fe_3d=peak, limit_value=limit, margin_pct=margin))
+    return tuple(rows)
+
+
+def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult) -> tuple[str, ...]:
+    """Short notes, in the trade's words, on where the differences come from."""
+    r = {row.key: row for row in rows}
+    notes = ["Like for like: the hand column is the magnetic circuit with in-plane fringing only, "
+             "the FE column the planar field solution for the stack depth; '3D' columns add the "
+             f"depth-direction fringing of the '{hand_p.fringing_model}' model. A planar model sees "
+             "no end-turn leakage."]
+    fl = r["flux"]
+    if math.isfinite(fl.diff_pct) and fl.diff_pct < -3:
+        notes.append(f"The FE carries {-fl.diff_pct:.0f} % more flux in the winding limb than the "
+                     "hand model: leakage flux across the window links the winding but bypasses the "
+                     "gap, and the hand model has no leakage path.")
+    g = r["gap_B"]
+    if math.isfinite(g.diff_pct) and abs(g.diff_pct) > 3:
+        side = "over" if g.diff_pct > 0 else "under"
+        notes.append(f"The fringing model {side}states the gap B by {abs(g.diff_pct):.0f} %: the "
+                     "field spreads beyond the pole faces differently from the model's assumed "
+                     "fringing area.")
+    ph = r["path_H"]
+    if math.isfinite(ph.diff_pct) and abs(ph.diff_pct) > 5:
+        notes.append(f"Path-averaged H differs by {abs(ph.diff_pct):.0f} %: H is not uniform along "
+                     "the mean path; the flux crowds to the inner corners of the window, where H "
+                     "rises far above the limb average.")
+    law = case.material("core").law
+    peak = fe.fine.peak_B
+    knee = _knee(law)
+    if math.isfinite(knee) and peak > knee:
+        x, y = fe.fine.peak_B_at
+        notes.append(f"Parts of the core are past the knee of the B-H curve (peak |B| = "
+                     f"{peak:.2f} T at x = {x * 1e3:.1f} mm, y = {y * 1e3:.1f} mm, knee ~{knee:.2f} T): "
+                     "the hand model's uniform-B assumption does not hold there. Peak |B| at a sharp "
+                     "corner grows as the mesh is refined; read it with its uncertainty.")
+    unc = [row for row in rows if row.key != "peak_B" and row.uncertainty_pct > UNCERTAIN_PCT]
+    if unc:
+        names = ", ".join(row.label for row in unc)
+        notes.append(f"FE uncertainty above {UNCERTAIN_PCT:g} % for {names}: refine the mesh "
+                     "([fe] mesh_size smaller, gap_elements larger).")
+    return tuple(notes)
+
+
+def _knee(law: Any) -> float:
+    """B where the differential permeability has fallen to 1/10 of its maximum."""
+    import numpy as np
+
+    b_max = getattr(law, "b_max", math.inf)
+    if not math.isfinite(b_max):
+        return math.inf
+    b = np.linspace(0.01, 1.5 * b_max, 600)
+    dbdh = 1.0 / np.asarray(law.dh_db(b))
+    i = int(np.argmax(dbdh))
+    below = np.nonzero(dbdh[i:] < 0.1 * dbdh[i])[0]
+    return float(b[i + below[0]]) if below.size else math.inf
+
+
+def rank_fringing(case: Case, fe: FEResult) -> tuple[dict, ...]:
+    """Every fringing model's planar hand values against the FE, best first.
+
+    Ranked by the RMS of the percent differences of gap B, flux and
+    inductance (the figures a fringing model is meant to get right).
+    """
+    out = []
+    for name in FRINGING_MODELS:
+        h = run_hand(case, fringing=name, planar=True)
+        diffs = {k: _diff_pct(h.values()[k], fe.values[k])
+                 for k in ("gap_B", "flux", "inductance")}
+        finite = [d for d in diffs.values() if math.isfinite(d)]
+        rms = math.sqrt(sum(d * d for d in finite) / len(finite)) if finite else math.nan
+        out.append({"model": name, "title": get_fringing(name).title, "rms_difference_pct": rms,
+                    **{f"{k}_difference_pct": v for k, v in diffs.items()}})
+    out.sort(key=lambda d: (not math.isfinite(d["rms_difference_pct"]), d["rms_difference_pct"]))
+    return tuple(out)
+
+
+def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = True) -> CheckResult:
+    """Run both models on a case and compare them.
+
+    Raises
+    ------
+    compare.errors.RunError
+        When either nonlinear solve does not converge.
+    """
+    t0 = time.perf_counter()
+    hand_3d = run_hand(case)
+    hand_p = run_hand(case, planar=True)
+    t1 = time.perf_counter()
+    fe = run_fe_checked(case, estimate_error=estimate_error)
+    t2 = time.perf_counter()
+    k_depth = depth_factor(case)
+    rows = build_rows(case, hand_p, hand_3d, fe, k_depth)
+    notes = explain(case, rows, hand_p, fe)
+    ranking = rank_fringing(case, fe) if all_fringing else ()
+    t3 = time.perf_counter()
+    return CheckResult(case=case, hand_3d=hand_3d, hand_planar=hand_p, fe=fe, rows=rows,
+                       depth_factor=k_depth, notes=notes,
+                       timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
+                                "total": t3 - t0},
+                       fringing_ranking=ranking)

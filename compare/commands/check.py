@@ -1,0 +1,76 @@
+"""``magcheck check CASE``: hand calculation and field solution side by side."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+from ..case import load_case
+from ..check import CheckResult, run_check
+from ..output import CAUTION, atomic_write_text, render_table, write_json
+from ..serialize import TABLE_COLUMNS, check_csv, check_json, check_markdown, table_cells
+
+HELP = ("run the magnetic-circuit model and the planar FE model on one case and "
+        "compare them quantity by quantity")
+
+
+def add_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("case", help="TOML case file")
+    p.add_argument("--json", metavar="FILE", help="write the full result as JSON")
+    p.add_argument("--csv", metavar="FILE", help="write the comparison table as CSV")
+    p.add_argument("--markdown", metavar="FILE", help="write the comparison as Markdown")
+    p.add_argument("--report", metavar="DIR", help="write an HTML report with figures to DIR")
+    p.add_argument("--vtu", metavar="FILE", help="write the FE fields as VTU (for ParaView)")
+    p.add_argument("--all-fringing", action="store_true",
+                   help="rank every fringing model by its difference to the FE")
+    p.add_argument("--no-error-estimate", action="store_true",
+                   help="skip the refined second FE solve (no FE uncertainty; faster)")
+
+
+def print_check(res: CheckResult, out) -> None:
+    c = res.case
+    w = c.winding
+    rows = [table_cells(r) for r in res.rows]
+    fe = res.fe.fine
+    notes = list(res.notes)
+    notes.append(f"FE: {fe.nelements} elements, P{c.fe.order}, {fe.ndofs} DOFs, "
+                 f"{fe.iterations} Newton steps to residual {fe.residual:.1e}; "
+                 f"run time {res.timings['total']:.1f} s.")
+    render_table(f"{c.name}: hand calc vs planar FE, N = {w.turns}, I = {w.current:g} A "
+                 f"({res.hand_planar.fringing_model} fringing)", TABLE_COLUMNS, rows, out,
+                 notes=notes)
+    if res.fringing_ranking:
+        rk = [[d["model"], f"{d['gap_B_difference_pct']:+.1f}", f"{d['flux_difference_pct']:+.1f}",
+               f"{d['inductance_difference_pct']:+.1f}", f"{d['rms_difference_pct']:.1f}"]
+              for d in res.fringing_ranking]
+        render_table("fringing models vs FE (planar form), best first",
+                     ["model", "gap B diff %", "flux diff %", "inductance diff %", "RMS %"], rk, out)
+    out.write(("PASS: all limits and margins met" if res.passed
+               else "FAIL: a limit or margin is not met") + "\n")
+    out.write(CAUTION + "\n")
+
+
+def run(args: argparse.Namespace) -> int:
+    case = load_case(args.case)
+    res = run_check(case, all_fringing=args.all_fringing,
+                    estimate_error=not args.no_error_estimate)
+    print_check(res, sys.stdout)
+    if args.json:
+        write_json(args.json, check_json(res))
+    if args.csv:
+        atomic_write_text(args.csv, check_csv(res))
+    if args.markdown:
+        atomic_write_text(args.markdown, check_markdown(res))
+    if args.vtu:
+        from pathlib import Path
+
+        from fem2d.export import write_vtu
+
+        Path(args.vtu).resolve().parent.mkdir(parents=True, exist_ok=True)
+        write_vtu(res.fe.solution, args.vtu)
+    if args.report:
+        from ..report import write_report
+
+        path = write_report(res, args.report)
+        sys.stdout.write(f"report: {path}\n")
+    return res.exit_code

@@ -1,0 +1,186 @@
+"""The field model of a case: its planar layout, solved, reduced to quantities.
+
+Turns a case into a :class:`fem2d.layout.Layout` (core, one region per gap,
+the two coil sides, air), solves it with fem2d, and measures the same
+quantities the hand calculation gives, keyed alike (see
+:data:`compare.hand.HAND_KEYS`). The FE's own discretisation error is
+estimated from a second solve on a mesh refined by 2 in every direction.
+"""
+
+from __future__ import annotations
+
+import logging
+import math
+import time
+from dataclasses import dataclass, field, replace
+from typing import Any
+
+import numpy as np
+
+from fem2d import post
+from fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
+from fem2d.mesh import build_mesh
+from fem2d.solver import ConvergenceError, FieldSolution, solve
+
+from .case import Case
+from .errors import RunError
+from .geometry import Limb, coil_rects, gap_rect
+from .hand import HAND_KEYS
+
+__all__ = ["FEQuantities", "FEResult", "case_layout", "run_fe", "run_fe_checked",
+           "COIL_PLUS", "COIL_MINUS"]
+
+log = logging.getLogger(__name__)
+
+COIL_PLUS, COIL_MINUS = "coil+", "coil-"
+
+
+def case_layout(case: Case, *, refine: int = 1) -> Layout:
+    """The planar layout of a case.
+
+    Parameters
+    ----------
+    refine : int
+        Mesh refinement factor: element sizes divided by ``refine`` and the
+        elements across each gap multiplied by it (1 = the case's mesh).
+    """
+    fam = case.family_model
+    limbs = case.limbs
+    regions = [Region("core", tuple(Rect(*r) for r in fam.core_rects(case.core)),
+                      material="core", kind="core")]
+    for i, gap in enumerate(case.gaps):
+        regions.append(Region(f"gap{i}", (Rect(*gap_rect(limbs[gap.limb], gap)),),
+                              material="air", kind="gap"))
+    w = case.winding
+    plus, minus = coil_rects(limbs[w.limb], w)
+    regions.append(Region(COIL_PLUS, (Rect(*plus),), material="air", current=w.mmf, kind="coil"))
+    regions.append(Region(COIL_MINUS, (Rect(*minus),), material="air", current=-w.mmf,
+                          kind="coil"))
+    layout = Layout(tuple(regions), air=AirBox("box", factor=case.fe.air_factor),
+                    mesh=MeshSettings(size=case.fe.mesh_size,
+                                      gap_elements=case.fe.gap_elements * refine,
+                                      order=case.fe.order),
+                    depth=case.depth)
+    if refine != 1:
+        layout = replace(layout, mesh=replace(layout.mesh, size=layout.core_size() / refine))
+    return layout
+
+
+def _limb_flux_line(limb: Limb) -> tuple[tuple[float, float], tuple[float, float]]:
+    """A segment across a limb at the middle of its straight part."""
+    mid = 0.5 * (limb.lo + limb.hi)
+    if limb.axis == "y":
+        return (limb.c0, mid), (limb.c1, mid)
+    return (mid, limb.c0), (mid, limb.c1)
+
+
+@dataclass(frozen=True)
+class FEQuantities:
+    """FE counterparts of the hand quantities (SI), plus FE-only figures."""
+
+    values: dict[str, float]
+    peak_B: float
+    peak_B_at: tuple[float, float]
+    iterations: int
+    residual: float
+    ndofs: int
+    nelements: int
+    element_size: float
+    seconds: float
+
+
+@dataclass(frozen=True)
+class FEResult:
+    """The FE run of a case: values on the finer mesh and their uncertainty."""
+
+    fine: FEQuantities
+    coarse: FEQuantities | None
+    uncertainty: dict[str, float]
+    solution: FieldSolution = field(repr=False, compare=False)
+    path: Any = field(repr=False, compare=False, default=None)
+
+    @property
+    def values(self) -> dict[str, float]:
+        return self.fine.values
+
+
+def _materials(case: Case) -> dict[str, Any]:
+    return {"core": case.material("core").law}
+
+
+def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantities, Any]:
+    """Reduce a field solution to the hand quantities (magnitudes)."""
+    limbs = case.limbs
+    w = case.winding
+    vals: dict[str, float] = {}
+    if case.gaps:
+        g0 = case.gaps[0]
+        axis = (0.0, 1.0) if limbs[g0.limb].axis == "y" else (1.0, 0.0)
+        vals["gap_B"] = abs(post.region_mean_b(sol, "gap0", direction=axis))
+    else:
+        vals["gap_B"] = math.nan
+    vals["core_B"] = post.region_mean_b(sol, "core")
+    path = np.array(case.family_model.mean_path(case.core), dtype=float).T
+    samples = post.path_mean_h(sol, path, exclude=tuple(f"gap{i}" for i in range(len(case.gaps))))
+    vals["path_H"] = samples.mean_h
+    p0, p1 = _limb_flux_line(limbs[w.limb])
+    vals["flux"] = abs(post.flux_across(sol, p0, p1))
+    lam = post.flux_linkage(sol, w.turns, COIL_PLUS, COIL_MINUS)
+    vals["flux_linkage"] = abs(lam)
+    vals["inductance"] = abs(lam / w.current) if w.current != 0 else math.nan
+    vals["incremental_inductance"] = post.incremental_flux_linkage(sol, w.turns, COIL_PLUS,
+                                                                   COIL_MINUS)
+    if w.current == 0:
+        vals["inductance"] = vals["incremental_inductance"]
+    vals["energy"] = post.energy(sol)
+    peak, at = post.peak_b(sol, ["core"])
+    q = FEQuantities(values=vals, peak_B=float(peak), peak_B_at=(float(at[0]), float(at[1])),
+                     iterations=sol.iterations, residual=float(sol.residual_history[-1]),
+                     ndofs=sol.ndofs, nelements=int(sol.mesh.mesh.t.shape[1]),
+                     element_size=sol.mesh.layout.core_size(), seconds=seconds)
+    return q, samples
+
+
+def run_fe(case: Case, *, refine: int = 1, A0: np.ndarray | None = None,
+           linear_solver: Any = None) -> tuple[FEQuantities, FieldSolution, Any]:
+    """Mesh and solve a case once; returns (quantities, solution, path samples).
+
+    Raises
+    ------
+    RunError
+        When the Newton solve does not converge (the message says how far it got).
+    """
+    t0 = time.perf_counter()
+    layout = case_layout(case, refine=refine)
+    mesh = build_mesh(layout)
+    try:
+        sol = solve(mesh, _materials(case), tol=case.fe.tol, A0=A0, linear_solver=linear_solver)
+    except ConvergenceError as exc:
+        raise RunError(f"field solve did not converge: {exc}") from None
+    q, samples = measure(case, sol, 0.0)
+    q = replace(q, seconds=time.perf_counter() - t0)
+    log.info("FE solve (refine %d): %d elements, %d DOFs, %d Newton steps, %.2f s",
+             refine, q.nelements, q.ndofs, q.iterations, q.seconds)
+    return q, sol, samples
+
+
+def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
+    """Solve on the case's mesh and on one refined by 2; report the finer.
+
+    The uncertainty of each quantity is |Q_fine - Q_coarse|: a Richardson
+    estimate |Q_f - Q_c| / (2^p - 1) with the convergence order p taken as 1,
+    which bounds the error of Q_fine whenever the quantity converges at
+    least linearly in h (corner singularities of the core's inner corners can
+    pull P2 rates well below their smooth-solution h^2).
+    """
+    if not estimate_error:
+        q, sol, samples = run_fe(case)
+        return FEResult(q, None, {k: math.nan for k in HAND_KEYS}, sol, samples)
+    coarse, _, _ = run_fe(case)
+    fine, sol, samples = run_fe(case, refine=2)
+    unc = {}
+    for k in HAND_KEYS:
+        a, b = fine.values[k], coarse.values[k]
+        unc[k] = abs(a - b) if (math.isfinite(a) and math.isfinite(b)) else math.nan
+    unc["peak_B"] = abs(fine.peak_B - coarse.peak_B)
+    return FEResult(fine, coarse, unc, sol, samples)

@@ -1,0 +1,93 @@
+"""A self-contained HTML report of a check, with its figures beside it."""
+
+from __future__ import annotations
+
+import html
+from pathlib import Path
+
+from .check import CheckResult
+from .output import CAUTION, atomic_write_text
+from .serialize import TABLE_COLUMNS, table_cells, versions
+
+__all__ = ["write_report"]
+
+_STYLE = """
+body { font-family: system-ui, sans-serif; max-width: 980px; margin: 2em auto; color: #1d2733; }
+h1 { font-size: 1.5em; } h2 { font-size: 1.15em; margin-top: 1.6em; }
+table { border-collapse: collapse; font-size: 0.9em; }
+td, th { padding: 3px 9px; border-bottom: 1px solid #d5dbe1; text-align: right; }
+td:first-child, th:first-child { text-align: left; }
+.FAIL { color: #b3261e; font-weight: bold; } .pass { color: #1f7a4d; }
+.caution { background: #fff4e0; border-left: 4px solid #e0a030; padding: 0.6em 1em; }
+figure { margin: 1em 0; } figcaption { font-size: 0.85em; color: #55606b; }
+img { max-width: 100%; }
+"""
+
+_CAPTIONS = {
+    "geometry.png": "Regions (core, gaps, coil sides) and the finer mesh.",
+    "flux.png": "Flux lines (contours of A) over the |B| colour map.",
+    "gap_line.png": "B along a line across the middle of the first gap, beyond both pole faces.",
+    "path_h.png": "|H| along the core's mean path (gaps left out), with the hand value.",
+    "bh.png": "The core's B-H curve with the hand and FE operating points.",
+}
+
+
+def _table(headers, rows, classes=None) -> str:
+    out = ["<table><tr>" + "".join(f"<th>{html.escape(h)}</th>" for h in headers) + "</tr>"]
+    for i, r in enumerate(rows):
+        cells = []
+        for c in r:
+            cls = f' class="{c}"' if c in ("FAIL", "pass") else ""
+            cells.append(f"<td{cls}>{html.escape(str(c))}</td>")
+        out.append("<tr>" + "".join(cells) + "</tr>")
+    out.append("</table>")
+    return "\n".join(out)
+
+
+def write_report(res: CheckResult, folder: str | Path) -> Path:
+    """Write ``index.html`` and its PNG figures into folder; returns the HTML path."""
+    from .plots import save_figures
+
+    folder = Path(folder)
+    figures = save_figures(res, folder)
+    case = res.case
+    fe = res.fe.fine
+    parts = [
+        "<!doctype html><html><head><meta charset='utf-8'>",
+        f"<title>magcheck: {html.escape(case.name)}</title><style>{_STYLE}</style></head><body>",
+        f"<h1>magcheck: {html.escape(case.name)}</h1>",
+        f"<p>{html.escape(case.description)}</p>",
+        f"<p class='caution'>{html.escape(CAUTION)}</p>",
+        f"<h2>Hand calculation vs planar FE — {'PASS' if res.passed else 'FAIL'}</h2>",
+        _table(TABLE_COLUMNS, [table_cells(r) for r in res.rows]),
+        "<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in res.notes) + "</ul>",
+    ]
+    if res.fringing_ranking:
+        parts.append("<h2>Fringing models against the FE (planar form), best first</h2>")
+        parts.append(_table(["model", "gap B diff %", "flux diff %", "inductance diff %", "RMS %"],
+                            [[d["model"], f"{d['gap_B_difference_pct']:+.1f}",
+                              f"{d['flux_difference_pct']:+.1f}",
+                              f"{d['inductance_difference_pct']:+.1f}",
+                              f"{d['rms_difference_pct']:.1f}"] for d in res.fringing_ranking]))
+    parts.append("<h2>Figures</h2>")
+    for p in figures:
+        parts.append(f"<figure><img src='{p.name}' alt='{p.stem}'>"
+                     f"<figcaption>{html.escape(_CAPTIONS.get(p.name, ''))}</figcaption></figure>")
+    meta = [
+        ["case file", case.source], ["case sha256", case.sha256],
+        ["family", case.family], ["fringing model", res.hand_planar.fringing_model],
+        ["element order", f"P{case.fe.order}"], ["elements (finer mesh)", str(fe.nelements)],
+        ["DOFs (finer mesh)", str(fe.ndofs)],
+        ["element size in the core", f"{fe.element_size * 1e3:.3g} mm"],
+        ["Newton iterations (finer mesh)", str(fe.iterations)],
+        ["final relative residual", f"{fe.residual:.2e}"],
+        ["hand-model Newton iterations", str(res.hand_planar.iterations)],
+        *[[f"time: {k}", f"{v:.2f} s"] for k, v in res.timings.items()],
+        *[[f"version: {k}", v] for k, v in versions().items()],
+    ]
+    parts.append("<h2>Run</h2>")
+    parts.append(_table(["item", "value"], meta))
+    parts.append("</body></html>")
+    path = folder / "index.html"
+    atomic_write_text(path, "\n".join(parts))
+    return path

@@ -1,0 +1,128 @@
+"""A check result as JSON, CSV, Markdown and table rows (no physics here)."""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import platform
+from importlib import metadata
+
+from .check import CheckResult, Row
+from .hand import HAND_KEYS, UNITS
+from .output import CAUTION
+from .units import format_si
+
+__all__ = ["check_json", "check_csv", "check_markdown", "table_cells", "TABLE_COLUMNS",
+           "versions"]
+
+TABLE_COLUMNS = ["quantity", "hand", "FE", "FE +/-", "diff %", "limit %", "verdict",
+                 "hand 3D", "FE 3D"]
+
+
+def versions() -> dict[str, str]:
+    out = {"python": platform.python_version()}
+    for dist in ("magcheck", "numpy", "scipy", "scikit-fem", "gmsh", "meshio", "matplotlib",
+                 "pyamg"):
+        try:
+            out[dist] = metadata.version(dist)
+        except metadata.PackageNotFoundError:
+            out[dist] = "not installed"
+    return out
+
+
+def _fmt(v: float, unit: str) -> str:
+    return "-" if v is None or not math.isfinite(v) else format_si(v, unit)
+
+
+def _pct(v: float | None, digits: int = 1) -> str:
+    return "-" if v is None or not math.isfinite(v) else f"{v:+.{digits}f}"
+
+
+def table_cells(row: Row) -> list[str]:
+    """The row as display strings, in TABLE_COLUMNS order."""
+    if row.limit_value is not None:  # a design margin
+        limit = f"<= {format_si(row.limit_value, row.unit)}"
+    else:
+        limit = "-" if row.limit_pct is None else f"{row.limit_pct:g}"
+    unc = "-" if not math.isfinite(row.uncertainty) else (
+        f"{row.uncertainty_pct:.2g} %")
+    return [row.label, _fmt(row.hand, row.unit), _fmt(row.fe, row.unit), unc,
+            _pct(row.diff_pct), limit, row.verdict, _fmt(row.hand_3d, row.unit),
+            _fmt(row.fe_3d, row.unit)]
+
+
+def check_json(res: CheckResult) -> dict:
+    """The JSON document of a check.
+
+    ``hand`` holds the hand calculation exactly as ``magcheck hand`` gives it
+    (3D, the case's fringing model); ``hand_planar`` its planar-consistent
+    form; ``fe`` the FE values under the same keys plus ``uncertainty``;
+    ``comparison`` one entry per table row.
+    """
+    fe = res.fe
+    fe_block = {k: fe.values[k] for k in HAND_KEYS}
+    fe_block.update({
+        "uncertainty": {k: fe.uncertainty.get(k) for k in (*HAND_KEYS, "peak_B")},
+        "peak_B": fe.fine.peak_B,
+        "peak_B_at": list(fe.fine.peak_B_at),
+        "depth_fringing_factor": res.depth_factor,
+        "depth_corrected": {r.key: r.fe_3d for r in res.rows if r.key in HAND_KEYS},
+        "newton_iterations": fe.fine.iterations,
+        "residual": fe.fine.residual,
+        "elements": fe.fine.nelements,
+        "dofs": fe.fine.ndofs,
+        "element_order": res.case.fe.order,
+        "units": dict(UNITS, peak_B="T"),
+    })
+    case = res.case
+    return {
+        "case": {"name": case.name, "family": case.family, "file": case.source,
+                 "sha256": case.sha256},
+        "hand": res.hand_3d.to_dict(),
+        "hand_planar": res.hand_planar.to_dict(),
+        "fe": fe_block,
+        "comparison": [r.to_dict() for r in res.rows],
+        "fringing_ranking": list(res.fringing_ranking),
+        "notes": list(res.notes),
+        "passed": res.passed,
+        "exit_code": res.exit_code,
+        "timings_s": res.timings,
+        "versions": versions(),
+        "caution": CAUTION,
+    }
+
+
+def check_csv(res: CheckResult) -> str:
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    keys = list(res.rows[0].to_dict())
+    w.writerow(keys)
+    for r in res.rows:
+        w.writerow(["" if isinstance(v, float) and not math.isfinite(v) else
+                    ("" if v is None else v) for v in r.to_dict().values()])
+    return buf.getvalue()
+
+
+def check_markdown(res: CheckResult) -> str:
+    lines = [f"# magcheck: {res.case.name}", "",
+             f"Case file `{res.case.source}` (sha256 `{res.case.sha256[:12]}`), family "
+             f"`{res.case.family}`, fringing model `{res.hand_planar.fringing_model}`.", "",
+             "| " + " | ".join(TABLE_COLUMNS) + " |",
+             "|" + "---|" * len(TABLE_COLUMNS)]
+    for r in res.rows:
+        lines.append("| " + " | ".join(table_cells(r)) + " |")
+    lines.append("")
+    lines += [f"- {n}" for n in res.notes]
+    if res.fringing_ranking:
+        lines += ["", "Fringing models against the FE (planar form), best first:", "",
+                  "| model | gap B diff % | flux diff % | inductance diff % | RMS % |",
+                  "|---|---|---|---|---|"]
+        for d in res.fringing_ranking:
+            lines.append(f"| {d['model']} | {_pct(d['gap_B_difference_pct'])} | "
+                         f"{_pct(d['flux_difference_pct'])} | "
+                         f"{_pct(d['inductance_difference_pct'])} | "
+                         f"{d['rms_difference_pct']:.1f} |")
+    lines += ["", f"Verdict: {'all limits and margins met' if res.passed else 'FAILED'}.", "",
+              f"*{CAUTION}*", ""]
+    return "\n".join(lines)
