@@ -171,12 +171,15 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
     law = case.material("core").law
     peak = fe.fine.peak_B
     knee = _knee(law)
+    x, y = fe.fine.peak_B_at
     if math.isfinite(knee) and peak > knee:
-        x, y = fe.fine.peak_B_at
-        notes.append(f"Parts of the core are past the knee of the B-H curve (peak |B| = "
-                     f"{peak:.2f} T at x = {x * 1e3:.1f} mm, y = {y * 1e3:.1f} mm, knee ~{knee:.2f} T): "
-                     "the hand model's uniform-B assumption does not hold there. Peak |B| at a sharp "
-                     "corner grows as the mesh is refined; read it with its uncertainty.")
+        notes.append(f"Part of the core is past the knee of the B-H curve (~{knee:.2f} T): 0.5 % of "
+                     f"the core area is above {peak:.2f} T, so the hand model's uniform-B "
+                     "assumption does not hold there and its inductance is optimistic.")
+    notes.append(f"Peak core B is the |B| exceeded on 0.5 % of the core area. The pointwise "
+                 f"maximum, {fe.fine.max_B:.2f} T at x = {x * 1e3:.1f} mm, y = {y * 1e3:.1f} mm, "
+                 "sits at a sharp corner where a planar model's field is singular; it grows as "
+                 "the mesh is refined and is not a design figure.")
     unc = [row for row in rows if row.key != "peak_B" and row.uncertainty_pct > UNCERTAIN_PCT]
     if unc:
         names = ", ".join(row.label for row in unc)

@@ -65,7 +65,9 @@ def check_json(res: CheckResult) -> dict:
     fe_block.update({
         "uncertainty": {k: fe.uncertainty.get(k) for k in (*HAND_KEYS, "peak_B")},
         "peak_B": fe.fine.peak_B,
-        "peak_B_at": list(fe.fine.peak_B_at),
+        "peak_B_definition": "|B| exceeded on 0.5 % of the core area",
+        "max_B": fe.fine.max_B,
+        "max_B_at": list(fe.fine.peak_B_at),
         "depth_fringing_factor": res.depth_factor,
         "depth_corrected": {r.key: r.fe_3d for r in res.rows if r.key in HAND_KEYS},
         "newton_iterations": fe.fine.iterations,

@@ -1,0 +1,37 @@
+"""Every bundled case runs and matches its stored results (cases/baseline.json).
+
+Tolerances and their reasons are in compare/baseline.py: hand values 1e-6
+relative, FE values max(0.2 %, 2 x stored FE uncertainty). A deliberate
+change of results regenerates the file with tools/update_baseline.py.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from compare.baseline import drift, snapshot
+from compare.case import load_case
+from compare.check import run_check
+
+CASES = Path(__file__).resolve().parents[1] / "cases"
+BASELINE = json.loads((CASES / "baseline.json").read_text())
+CASE_FILES = sorted(CASES.glob("*.toml"))
+
+
+def test_every_case_has_a_baseline():
+    names = {load_case(p).name for p in CASE_FILES}
+    assert names == set(BASELINE)
+
+
+@pytest.mark.parametrize("path", CASE_FILES, ids=[p.stem for p in CASE_FILES])
+def test_case_matches_baseline(path):
+    case = load_case(path)
+    res = run_check(case)
+    stored = BASELINE[case.name]
+    moved = drift(snapshot(res), stored)
+    assert not moved, "\n".join(str(d) for d in moved)
+    # Every demo case is invented and says so.
+    assert "invented for the demo" in path.read_text().lower()

@@ -1,0 +1,146 @@
+"""The side-by-side check: hand vs FE against the ideal-core formula, the FE
+uncertainty against a finer reference solve, outputs and exit codes."""
+
+from __future__ import annotations
+
+import copy
+import json
+import math
+import tomllib
+from pathlib import Path
+
+import pytest
+from scipy.constants import mu_0
+
+from compare import fe as fe_mod
+from compare.case import case_from_dict, load_case
+from compare.check import run_check
+from compare.cli import main
+from compare.fe import run_fe
+from compare.hand import run_hand
+
+CASES = Path(__file__).resolve().parents[1] / "cases"
+
+
+def choke_dict() -> dict:
+    return tomllib.loads((CASES / "demo_choke.toml").read_text())
+
+
+def linear_core_case(gap_mm: float = 0.2, mu_r: float = 1e4):
+    d = choke_dict()
+    d["gaps"][0]["length"] = f"{gap_mm} mm"
+    d["materials"]["core"] = {"mu_r": mu_r}
+    d["winding"]["current"] = "1 A"
+    d["hand"]["fringing"] = "none"
+    return case_from_dict(d, base_dir=CASES)
+
+
+def test_linear_core_fe_and_hand_near_ideal_formula():
+    case = linear_core_case()
+    N, I, g = 80, 1.0, 0.2e-3
+    # Mean path of the 60 x 70 mm frame with 12 mm limbs: 2*(48 + 58) mm, less the gap.
+    l_c = 2 * (0.048 + 0.058) - g
+    # Source: exact solution of the ideal gapped core with finite mu_r,
+    # B = mu0*N*I/(l_g + l_c/mu_r) (REFERENCES.md section 2).
+    b_ideal = mu_0 * N * I / (g + l_c / 1e4)
+    hand = run_hand(case, fringing="none", planar=True)
+    assert hand.gap_B == pytest.approx(b_ideal, rel=1e-9)
+    q, _, _ = run_fe(case)
+    # Band 3 %: the gap-centre field is set by the gap MMF, which fringing
+    # barely changes, but the mean over the gap face includes the weaker
+    # field at its two edges (g/w = 0.017 here).
+    assert q.values["gap_B"] == pytest.approx(b_ideal, rel=0.03)
+    # Flux linkage exceeds the ideal value: in-plane fringing widens the gap's
+    # permeance and window leakage links the winding; both add flux, by a few
+    # percent to ~15 % for this window (stated band: 0 to +20 %).
+    lam_ideal = N * b_ideal * 0.012 * 0.020
+    ratio = q.values["flux_linkage"] / lam_ideal
+    assert 1.0 < ratio < 1.20
+
+
+@pytest.fixture(scope="module")
+def coarse_case():
+    d = choke_dict()
+    d["fe"] = {"mesh_size": "3 mm", "gap_elements": 2}
+    return case_from_dict(d, base_dir=CASES)
+
+
+def test_uncertainty_brackets_finer_reference(coarse_case):
+    res = fe_mod.run_fe_checked(coarse_case)
+    ref, _, _ = run_fe(coarse_case, refine=6)
+    for key in ("gap_B", "core_B", "flux", "flux_linkage", "inductance", "energy"):
+        err = abs(res.values[key] - ref.values[key])
+        # Source: Richardson-style estimate with order taken as 1 (see
+        # compare.fe.run_fe_checked); it must bound the error of the finer
+        # value against a solve on a mesh 3x finer again.
+        assert err <= res.uncertainty[key] * 1.0 + 1e-12 * abs(ref.values[key]), key
+
+
+@pytest.fixture(scope="module")
+def choke_run(tmp_path_factory):
+    out = tmp_path_factory.mktemp("check")
+    args = ["check", str(CASES / "demo_choke.toml"), "--json", str(out / "r.json"),
+            "--csv", str(out / "r.csv"), "--markdown", str(out / "r.md"),
+            "--report", str(out / "report"), "--vtu", str(out / "f.vtu"), "--all-fringing"]
+    code = main(args)
+    return code, out
+
+
+def test_check_outputs(choke_run):
+    code, out = choke_run
+    assert code == 0
+    data = json.loads((out / "r.json").read_text())
+    keys = {"gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
+            "incremental_inductance", "energy"}
+    assert keys <= set(data["hand"]) and keys <= set(data["fe"])
+    assert keys <= set(data["fe"]["uncertainty"])
+    assert {r["quantity"] for r in data["comparison"]} == keys | {"peak_B"}
+    # round trip: what the JSON says is what the CSV says
+    csv_lines = (out / "r.csv").read_text().splitlines()
+    assert len(csv_lines) == 1 + len(data["comparison"])
+    for row in data["comparison"]:
+        if row["hand"] is not None and row["fe"] is not None:
+            assert row["difference_pct"] == pytest.approx(
+                100 * (row["hand"] - row["fe"]) / abs(row["fe"]), rel=1e-9)
+    assert [d["model"] for d in data["fringing_ranking"]]
+    assert "Caution" in (out / "r.md").read_text()
+    html = (out / "report" / "index.html").read_text()
+    for fig in ("geometry.png", "flux.png", "gap_line.png", "path_h.png", "bh.png"):
+        png = out / "report" / fig
+        assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and fig in html
+    assert "design estimates" in html
+    import meshio
+
+    m = meshio.read(out / "f.vtu")
+    assert len(m.points) > 1000
+
+
+def test_margin_failure_exit_1(tmp_path):
+    d = choke_dict()
+    d["margins"] = {"agreement": {"inductance": 1.0}}
+    p = tmp_path / "tight.toml"
+    text = (CASES / "demo_choke.toml").read_text().replace(
+        "[margins]", "[margins]\nagreement = { inductance = 1.0 }")
+    p.write_text(text)
+    assert main(["check", str(p), "--no-error-estimate", "--json", str(tmp_path / "o.json")]) == 1
+    data = json.loads((tmp_path / "o.json").read_text())
+    row = next(r for r in data["comparison"] if r["quantity"] == "inductance")
+    assert row["verdict"] == "FAIL" and row["limit_pct"] == 1.0
+
+
+def test_bad_input_exit_2(tmp_path, capsys):
+    p = tmp_path / "bad.toml"
+    p.write_text((CASES / "demo_choke.toml").read_text().replace("turns = 80", "turns = 0"))
+    assert main(["check", str(p)]) == 2
+    assert "winding.turns = 0" in capsys.readouterr().err
+
+
+def test_solve_failure_exit_3(monkeypatch, capsys):
+    from fem2d.solver import ConvergenceError
+
+    def no_convergence(*a, **k):
+        raise ConvergenceError("Newton stopped after 50 steps at relative residual 3e-2")
+
+    monkeypatch.setattr(fe_mod, "solve", no_convergence)
+    assert main(["check", str(CASES / "demo_choke.toml")]) == 3
+    assert "did not converge" in capsys.readouterr().err
