@@ -1,0 +1,147 @@
+"""Benchmark of the fem2d engine on a window-core-like layout.
+
+Plain script: ``python bench/fe_bench.py [--quick]``; prints a table.
+The core, coil and B-H law are invented for the demo (a Brauer-type
+steel-like law, nu(s) = k1 exp(k2 s) + k3, Brauer, IEEE Trans. Magn.
+MAG-11, 1975).  Each case runs in a fresh subprocess so that its peak
+memory (``resource.getrusage`` maxrss) is its own.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import platform
+import subprocess
+import sys
+import time
+
+HERE = os.path.dirname(os.path.abspath(__file__))
+sys.path.insert(0, os.path.dirname(HERE))
+
+# invented for the demo: a steel-like Brauer law (mu_r(0) ~ 2000, ~1.9 T at 20 kA/m)
+K1, K2, K3 = 3.8, 2.17, 396.2
+DEPTH = 0.02
+VACUUM = os.environ.get("FE_BENCH_PURE_BRAUER") is None
+
+
+def window_core(size: float | None, order: int, gap: float = 1e-3):
+    """60 x 60 mm core, 15 mm limbs, gap in the right limb, coil sides in the
+    window and outside the left limb (invented for the demo)."""
+    from fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
+
+    mm = 1e-3
+    g = gap
+    regions = (
+        Region("core", (Rect(0, 0, 60 * mm, 15 * mm), Rect(0, 45 * mm, 60 * mm, 60 * mm),
+                        Rect(0, 15 * mm, 15 * mm, 45 * mm), Rect(45 * mm, 15 * mm, 60 * mm, 45 * mm)),
+               "steel", kind="core"),
+        Region("gap", (Rect(45 * mm, 30 * mm - g / 2, 60 * mm, 30 * mm + g / 2),), "air", kind="gap"),
+        Region("coil_in", (Rect(17 * mm, 17 * mm, 27 * mm, 43 * mm),), "copper", kind="coil"),
+        Region("coil_out", (Rect(-12 * mm, 17 * mm, -2 * mm, 43 * mm),), "copper", kind="coil"),
+    )
+    return Layout(regions, air=AirBox("box", factor=2.0),
+                  mesh=MeshSettings(size=size, order=order, threads=2), depth=DEPTH)
+
+
+def materials():
+    from fem2d.materials import AIR, BrauerReluctivity
+
+    return {"steel": BrauerReluctivity(K1, K2, K3, vacuum=VACUUM), "copper": AIR}
+
+
+def run_case(size, order, solver, NI_low, NI_high):
+    """One bench case in this process; returns a dict of measurements."""
+    import resource
+
+    import numpy as np
+
+    from fem2d import post
+    from fem2d.mesh import build_mesh
+    from fem2d.solver import solve
+
+    t0 = time.perf_counter()
+    rm = build_mesh(window_core(size, order))
+    t_mesh = time.perf_counter() - t0
+    mats = materials()
+    out = {"size_mm": size * 1e3, "order": order, "solver": solver, "ntri": int(rm.nelements)}
+    # one linear solve with the initial reluctivity (first Newton step) for the ratio
+    for tag, NI in (("low", NI_low), ("high", NI_high)):
+        cur = {"coil_in": NI, "coil_out": -NI}
+        t1 = time.perf_counter()
+        sol = solve(rm, mats, currents=cur, linear_solver=solver, check=False)
+        bg = post.region_mean_b(sol, "gap", direction=(0.0, 1.0))
+        t2 = time.perf_counter()
+        out[f"it_{tag}"] = sol.iterations
+        out[f"conv_{tag}"] = sol.converged
+        out[f"t_nl_{tag}"] = t2 - t1
+        out[f"bgap_{tag}"] = bg
+        out[f"t_asm_{tag}"] = sol.timings["assemble"] / max(sol.iterations, 1)
+        out[f"t_lin_step_{tag}"] = sol.timings["linear"] / max(sol.iterations, 1)
+        out["ndofs"] = int(sol.ndofs)
+    # a linear reference solve: same mesh and solver, linear material (mu_r(0))
+    from fem2d.materials import AIR, LinearReluctivity
+
+    lin = {"steel": LinearReluctivity(1.0 / (4e-7 * np.pi * (K1 + K3))), "copper": AIR}
+    t1 = time.perf_counter()
+    solve(rm, lin, currents={"coil_in": NI_low, "coil_out": -NI_low}, linear_solver=solver)
+    out["t_linear_solve"] = time.perf_counter() - t1
+    out["t_mesh"] = t_mesh
+    out["t_total_high"] = t_mesh + out["t_nl_high"]
+    out["ratio_high"] = out["t_nl_high"] / out["t_linear_solve"]
+    out["ratio_low"] = out["t_nl_low"] / out["t_linear_solve"]
+    out["maxrss_MiB"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    return out
+
+
+def main(argv=None):
+    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    p.add_argument("--quick", action="store_true", help="small meshes only")
+    p.add_argument("--case", help=argparse.SUPPRESS)
+    args = p.parse_args(argv)
+    NI_low, NI_high = 250.0, 2000.0
+    if args.case:
+        size, order, solver = json.loads(args.case)
+        print(json.dumps(run_case(size, order, solver, NI_low, NI_high), default=float))
+        return 0
+    import numpy as np
+    import scipy
+    import skfem
+
+    print(f"machine: {os.cpu_count()} cpus, {platform.processor() or platform.machine()}, "
+          f"python {platform.python_version()}, numpy {np.__version__}, scipy {scipy.__version__}, "
+          f"scikit-fem {skfem.__version__}")
+    print(f"window core 60x60 mm, limb 15 mm, gap 1 mm, depth {DEPTH * 1e3:.0f} mm; "
+          f"NI low {NI_low:.0f} A, high {NI_high:.0f} A")
+    # sizes chosen for roughly 5k / 20k / 80k / 300k triangles
+    cases = []
+    sizes = {5: 1.85e-3, 20: 0.77e-3, 80: 0.36e-3, 300: 0.18e-3}
+    keys = (5, 20) if args.quick else (5, 20, 80, 300)
+    for k in keys:
+        for order in (1, 2):
+            if k == 300 and order == 2:
+                continue
+            cases.append((sizes[k], order, "amg-cg"))
+    for k in ((20,) if args.quick else (20, 80)):
+        cases.append((sizes[k], 2, "superlu"))
+    hdr = (f"{'ntri':>7} {'P':>2} {'solver':>8} {'ndofs':>7} {'mesh s':>7} {'asm/it s':>8} "
+           f"{'lin/it s':>8} {'it lo':>5} {'it hi':>5} {'NL hi s':>8} {'lin s':>6} {'ratio':>6} "
+           f"{'total s':>8} {'MiB':>6} {'Bgap hi':>8}")
+    print(hdr)
+    for size, order, solver in cases:
+        cmd = [sys.executable, os.path.abspath(__file__), "--case", json.dumps([size, order, solver])]
+        res = subprocess.run(cmd, capture_output=True, text=True)
+        if res.returncode != 0:
+            print(f"case {size} {order} {solver} failed:\n{res.stderr[-2000:]}")
+            continue
+        r = json.loads(res.stdout.strip().splitlines()[-1])
+        print(f"{r['ntri']:>7} {order:>2} {solver:>8} {r['ndofs']:>7} {r['t_mesh']:>7.2f} "
+              f"{r['t_asm_high']:>8.3f} {r['t_lin_step_high']:>8.3f} {r['it_low']:>5} {r['it_high']:>5} "
+              f"{r['t_nl_high']:>8.2f} {r['t_linear_solve']:>6.2f} {r['ratio_high']:>6.1f} "
+              f"{r['t_total_high']:>8.2f} {r['maxrss_MiB']:>6.0f} {r['bgap_high']:>8.3f}")
+        sys.stdout.flush()
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,191 @@
+"""Fast assembly of the planar A_z problem into a fixed sparsity pattern.
+
+Local element matrices come from one batched matrix product of basis
+gradients weighted at the quadrature points; they are scattered into the
+CSR data array of the interior-DOF matrix through a precomputed index
+(``np.bincount``), so each Newton step reuses the same pattern.
+
+Weak form (planar magnetostatics, A = A_z, B = (dA/dy, -dA/dx), |B| = |grad A|):
+residual    r_i(A) = int nu(|grad A|^2) grad A . grad phi_i dx - int J phi_i dx
+tangent     K_ij   = int grad phi_i . (nu I + 2 dnu/ds grad A grad A^T) grad phi_j dx
+(Egger, Engertsberger, Radu, arXiv 2403.18520, the Newton linearisation of
+the energy W(A) = int w(|grad A|^2) dx - int J A dx, w(s) = 1/2 int_0^s nu).
+"""
+from __future__ import annotations
+
+import numpy as np
+import scipy.sparse as sp
+from skfem import Basis, ElementTriP1, ElementTriP2
+
+from .materials import AIR, MaterialError, energy_density
+from .mesh import RegionMesh
+
+__all__ = ["Assembler"]
+
+#: quadrature degree per element order (see Assembler)
+_INTORDER = {1: 1, 2: 4}
+
+
+class Assembler:
+    """Precomputed quadrature data, materials and sparsity for one mesh.
+
+    Parameters
+    ----------
+    rmesh : RegionMesh
+    materials : dict[str, Reluctivity]
+        Law per material name; "air" defaults to :data:`~fem2d.materials.AIR`.
+    currents : dict[str, float]
+        Total current per region name, A.
+    """
+
+    def __init__(self, rmesh: RegionMesh, materials: dict, currents: dict):
+        self.rmesh = rmesh
+        elem = ElementTriP2() if rmesh.order == 2 else ElementTriP1()
+        # quadrature: P1 gradients are constant per element, so one point is
+        # exact for nu(|B|^2) grad.grad; P2 uses degree 4 (6 points): degree 2
+        # keeps the O(h^2) rate too, but its errors vary less regularly under
+        # refinement on curved cells (mesh-convergence estimates suffered)
+        self.basis = basis = Basis(rmesh.mesh, elem, intorder=_INTORDER[rmesh.order])
+        self.nloc = nloc = elem.refdom.nnodes if rmesh.order == 1 else 6
+        self.ndofs = basis.N
+        self.dofs = np.asarray(basis.element_dofs, dtype=np.int64)  # (nloc, ne)
+        self.dx = np.asarray(basis.dx)  # (ne, nq), weights * |det J|, m^2
+        ne, nq = self.dx.shape
+        self.ne, self.nq = ne, nq
+        # G[e, i, a*nq + q] = d phi_i / d x_a at quadrature point q of element e
+        G = np.empty((ne, nloc, 2, nq))
+        Phi = np.empty((nloc, ne, nq))
+        for i in range(nloc):
+            f = basis.basis[i][0]
+            G[:, i, 0, :] = f.grad[0]
+            G[:, i, 1, :] = f.grad[1]
+            Phi[i] = np.asarray(f)
+        self.G = G
+        self.Gflat = G.reshape(ne, nloc, 2 * nq)
+        self.phi_int = np.einsum("ieq,eq->ie", Phi, self.dx)  # (nloc, ne), m^2
+        self.Phi = Phi
+        # region areas and material laws per element
+        self.region_names = rmesh.region_names
+        areas = {}
+        for name, idx in rmesh.subdomains.items():
+            areas[name] = float(self.dx[idx].sum())
+        self.areas = areas
+        lay = rmesh.layout
+        mat_of_region = {"air": "air"}
+        for r in lay.regions:
+            mat_of_region[r.name] = r.material
+        self.materials = dict(materials)
+        self.materials.setdefault("air", AIR)
+        laws, groups = [], []
+        for mname in dict.fromkeys(mat_of_region.values()):
+            if mname not in self.materials:
+                regs = [r for r, m in mat_of_region.items() if m == mname]
+                raise MaterialError(f"region {regs[0]!r}: material {mname!r} not in materials "
+                                    f"(have {sorted(self.materials)})")
+            idx = np.concatenate([rmesh.subdomains[r] for r, m in mat_of_region.items() if m == mname])
+            laws.append(self.materials[mname])
+            groups.append(np.sort(idx))
+        self.laws, self.groups = laws, groups
+        self.linear = all(self._is_linear(law) for law in laws)
+        # current density per element, A/m^2
+        self.currents = dict(currents)
+        Je = np.zeros(ne)
+        for name, cur in self.currents.items():
+            if cur != 0.0:
+                Je[rmesh.subdomains[name]] = cur / areas[name]
+        self.Je = Je
+        b = np.bincount(self.dofs.ravel(), weights=(self.phi_int * Je).ravel(), minlength=self.ndofs)
+        self.b = b
+        # Dirichlet ("outer") and interior DOFs; reduced numbering
+        self.D = basis.get_dofs(rmesh.boundaries["outer"]).all()
+        mask = np.ones(self.ndofs, dtype=bool)
+        mask[self.D] = False
+        self.I = np.nonzero(mask)[0]
+        red = np.full(self.ndofs, -1, dtype=np.int64)
+        red[self.I] = np.arange(len(self.I))
+        rows = np.broadcast_to(red[self.dofs][:, None, :], (nloc, nloc, ne))
+        cols = np.broadcast_to(red[self.dofs][None, :, :], (nloc, nloc, ne))
+        # flatten in the (e, i, j) order of the batched local matrices
+        rows = np.ascontiguousarray(rows.transpose(2, 0, 1)).ravel()
+        cols = np.ascontiguousarray(cols.transpose(2, 0, 1)).ravel()
+        keep = (rows >= 0) & (cols >= 0)
+        nI = len(self.I)
+        keys = rows[keep] * nI + cols[keep]
+        ukeys, inv = np.unique(keys, return_inverse=True)
+        self.keep = keep
+        self.scatter = inv
+        self.nnz = len(ukeys)
+        urows = ukeys // nI
+        self.indices = (ukeys % nI).astype(np.int32)
+        self.indptr = np.searchsorted(urows, np.arange(nI + 1)).astype(np.int32)
+        self.nI = nI
+
+    @staticmethod
+    def _is_linear(law) -> bool:
+        probe = np.array([0.0, 0.01, 0.25, 1.0, 2.25, 4.0, 9.0])
+        with np.errstate(all="ignore"):
+            return bool(np.all(np.asarray(law.dnu_ds(probe)) == 0.0))
+
+    # ------------------------------------------------------------------ fields
+    def grad(self, A: np.ndarray) -> np.ndarray:
+        """grad A at quadrature points, shape (2, ne, nq), T."""
+        Ae = A[self.dofs]  # (nloc, ne)
+        return np.einsum("eiaq,ie->aeq", self.G, Ae)
+
+    def coefficients(self, s: np.ndarray, derivative: bool = True):
+        """nu(s) and dnu/ds(s) at quadrature points, arrays (ne, nq)."""
+        nu = np.empty_like(s)
+        dnu = np.zeros_like(s) if derivative else None
+        for law, idx in zip(self.laws, self.groups):
+            si = s[idx]
+            nu[idx] = law.nu(si)
+            if derivative:
+                dnu[idx] = law.dnu_ds(si)
+        return nu, dnu
+
+    def energy_density(self, s: np.ndarray) -> np.ndarray:
+        """w(s) at quadrature points (ne, nq), J/m^3."""
+        w = np.empty_like(s)
+        for law, idx in zip(self.laws, self.groups):
+            w[idx] = energy_density(law, s[idx])
+        return w
+
+    # ---------------------------------------------------------------- assembly
+    def residual(self, g: np.ndarray, nu: np.ndarray) -> np.ndarray:
+        """Full residual vector r = F_int(A) - b, shape (ndofs,), A (per metre)."""
+        c = nu * self.dx
+        fl = np.einsum("eiaq,aeq->ie", self.G, g * c[None])
+        return np.bincount(self.dofs.ravel(), weights=fl.ravel(), minlength=self.ndofs) - self.b
+
+    def tangent(self, g: np.ndarray, nu: np.ndarray, dnu: np.ndarray | None) -> sp.csr_matrix:
+        """Interior-DOF tangent matrix K_II (CSR, fixed pattern), H^-1 per metre.
+
+        K_e = X_e diag(w_e) X_e^T with the columns of X_e the basis gradient
+        components d phi_i/dx_a at each quadrature point (weights nu dx) and,
+        for a nonlinear law, G_i . grad A (weights 2 dnu/ds dx): one batched
+        matrix product for all elements.
+        """
+        nq = self.nq
+        c = nu * self.dx  # (ne, nq)
+        if dnu is None or not np.any(dnu):
+            X = self.Gflat
+            W = np.concatenate([c, c], axis=1)  # (ne, 2nq)
+        else:
+            if not hasattr(self, "_X"):
+                self._X = np.empty((self.ne, self.nloc, 3 * nq))
+                self._X[:, :, :2 * nq] = self.Gflat
+                self._W = np.empty((self.ne, 3 * nq))
+            X, W = self._X, self._W
+            G = self.G
+            X[:, :, 2 * nq:] = G[:, :, 0, :] * g[0][:, None, :] + G[:, :, 1, :] * g[1][:, None, :]
+            W[:, :nq] = c
+            W[:, nq:2 * nq] = c
+            W[:, 2 * nq:] = 2.0 * dnu * self.dx
+        Ke = np.matmul(X * W[:, None, :], X.transpose(0, 2, 1))  # (ne, nloc, nloc)
+        data = np.bincount(self.scatter, weights=Ke.ravel()[self.keep], minlength=self.nnz)
+        return sp.csr_matrix((data, self.indices, self.indptr), shape=(self.nI, self.nI))
+
+    def energy(self, g: np.ndarray, A: np.ndarray) -> float:
+        """W(A) = int w(|grad A|^2) dx - int J A dx, J/m."""
+        s = g[0] ** 2 + g[1] ** 2
+        return float(np.sum(self.energy_density(s) * self.dx) - self.b @ A)

@@ -1,0 +1,378 @@
+"""Plain-data description of a planar 2D magnetostatic problem.
+
+A :class:`Layout` is a tuple of named :class:`Region` objects built from
+simple shapes, the air box around them, mesh settings and the out-of-plane
+depth.  Lengths are in metres, currents in amperes (ampere-turns).
+
+Regions are listed in priority order: where shapes overlap, the later region
+wins.  The air fills the rest of the air box and is named ``"air"``; the
+outer boundary of the air box is named ``"outer"``.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Union
+
+__all__ = [
+    "LayoutError",
+    "Rect",
+    "Disk",
+    "Annulus",
+    "Polygon",
+    "Shape",
+    "Region",
+    "AirBox",
+    "MeshSettings",
+    "Layout",
+    "RESERVED_NAMES",
+]
+
+RESERVED_NAMES = ("air", "outer")
+
+
+class LayoutError(ValueError):
+    """Invalid layout input; the message names the offending region/key and value."""
+
+
+def _finite(where: str, key: str, value: float) -> float:
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise LayoutError(f"{where}: {key} = {value!r} is not a number") from None
+    if not math.isfinite(v):
+        raise LayoutError(f"{where}: {key} = {value!r} is not finite")
+    return v
+
+
+def _positive(where: str, key: str, value: float) -> float:
+    v = _finite(where, key, value)
+    if v <= 0.0:
+        raise LayoutError(f"{where}: {key} = {value!r} must be > 0")
+    return v
+
+
+@dataclass(frozen=True)
+class Rect:
+    """Axis-aligned rectangle with corners (x0, y0) and (x1, y1), m; x1 > x0, y1 > y0."""
+
+    x0: float
+    y0: float
+    x1: float
+    y1: float
+
+    def check(self, where: str) -> None:
+        for k in ("x0", "y0", "x1", "y1"):
+            _finite(where, f"Rect.{k}", getattr(self, k))
+        if not self.x1 > self.x0:
+            raise LayoutError(f"{where}: Rect width x1 - x0 = {self.x1 - self.x0!r} must be > 0")
+        if not self.y1 > self.y0:
+            raise LayoutError(f"{where}: Rect height y1 - y0 = {self.y1 - self.y0!r} must be > 0")
+
+    def bbox(self) -> tuple[float, float, float, float]:
+        return (self.x0, self.y0, self.x1, self.y1)
+
+    def feature(self) -> float:
+        """Smallest dimension (m)."""
+        return min(self.x1 - self.x0, self.y1 - self.y0)
+
+    def extreme_points(self) -> list[tuple[float, float, float]]:
+        """Points (x, y, radius) whose discs cover the shape's outline."""
+        return [(self.x0, self.y0, 0.0), (self.x1, self.y0, 0.0),
+                (self.x1, self.y1, 0.0), (self.x0, self.y1, 0.0)]
+
+    def area(self) -> float:
+        return (self.x1 - self.x0) * (self.y1 - self.y0)
+
+
+@dataclass(frozen=True)
+class Disk:
+    """Disk of centre (cx, cy) and radius r, m."""
+
+    cx: float
+    cy: float
+    r: float
+
+    def check(self, where: str) -> None:
+        _finite(where, "Disk.cx", self.cx)
+        _finite(where, "Disk.cy", self.cy)
+        _positive(where, "Disk.r", self.r)
+
+    def bbox(self) -> tuple[float, float, float, float]:
+        return (self.cx - self.r, self.cy - self.r, self.cx + self.r, self.cy + self.r)
+
+    def feature(self) -> float:
+        return self.r
+
+    def extreme_points(self) -> list[tuple[float, float, float]]:
+        return [(self.cx, self.cy, self.r)]
+
+    def area(self) -> float:
+        return math.pi * self.r**2
+
+
+@dataclass(frozen=True)
+class Annulus:
+    """Ring of centre (cx, cy) between radii r_in < r_out, m."""
+
+    cx: float
+    cy: float
+    r_in: float
+    r_out: float
+
+    def check(self, where: str) -> None:
+        _finite(where, "Annulus.cx", self.cx)
+        _finite(where, "Annulus.cy", self.cy)
+        _positive(where, "Annulus.r_in", self.r_in)
+        _positive(where, "Annulus.r_out", self.r_out)
+        if not self.r_out > self.r_in:
+            raise LayoutError(
+                f"{where}: Annulus r_out = {self.r_out!r} must be > r_in = {self.r_in!r}")
+
+    def bbox(self) -> tuple[float, float, float, float]:
+        r = self.r_out
+        return (self.cx - r, self.cy - r, self.cx + r, self.cy + r)
+
+    def feature(self) -> float:
+        return self.r_out - self.r_in
+
+    def extreme_points(self) -> list[tuple[float, float, float]]:
+        return [(self.cx, self.cy, self.r_out)]
+
+    def area(self) -> float:
+        return math.pi * (self.r_out**2 - self.r_in**2)
+
+
+@dataclass(frozen=True)
+class Polygon:
+    """Simple closed polygon through ``points`` ((x, y) pairs, m, at least 3, not repeated)."""
+
+    points: tuple[tuple[float, float], ...]
+
+    def check(self, where: str) -> None:
+        if len(self.points) < 3:
+            raise LayoutError(f"{where}: Polygon needs >= 3 points, got {len(self.points)}")
+        for i, pt in enumerate(self.points):
+            if len(pt) != 2:
+                raise LayoutError(f"{where}: Polygon point {i} = {pt!r} is not an (x, y) pair")
+            _finite(where, f"Polygon.points[{i}].x", pt[0])
+            _finite(where, f"Polygon.points[{i}].y", pt[1])
+        if abs(self.area()) <= 0.0:
+            raise LayoutError(f"{where}: Polygon area = {self.area()!r} must be > 0")
+
+    def bbox(self) -> tuple[float, float, float, float]:
+        xs = [p[0] for p in self.points]
+        ys = [p[1] for p in self.points]
+        return (min(xs), min(ys), max(xs), max(ys))
+
+    def feature(self) -> float:
+        x0, y0, x1, y1 = self.bbox()
+        return min(x1 - x0, y1 - y0)
+
+    def extreme_points(self) -> list[tuple[float, float, float]]:
+        return [(float(x), float(y), 0.0) for x, y in self.points]
+
+    def area(self) -> float:
+        """Absolute shoelace area (m^2)."""
+        s = 0.0
+        n = len(self.points)
+        for i in range(n):
+            x0, y0 = self.points[i]
+            x1, y1 = self.points[(i + 1) % n]
+            s += x0 * y1 - x1 * y0
+        return abs(0.5 * s)
+
+
+Shape = Union[Rect, Disk, Annulus, Polygon]
+_SHAPES = (Rect, Disk, Annulus, Polygon)
+
+
+@dataclass(frozen=True)
+class Region:
+    """A named region built from shapes.
+
+    Parameters
+    ----------
+    name : str
+        Unique name; "air" and "outer" are reserved.
+    shapes : tuple of Shape
+        Their union forms the region (before later regions cut into it).
+    material : str
+        Key into the solver's ``materials`` mapping.
+    current : float
+        Total current through the region's cross-section, A (ampere-turns),
+        + means +z; spread uniformly, J = current / area (A/m^2).
+    kind : str
+        Free text for callers ("core", "gap", "coil", ...); kind "gap" gets
+        the gap mesh refinement.
+    """
+
+    name: str
+    shapes: tuple
+    material: str
+    current: float = 0.0
+    kind: str = "other"
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.name, str) or not self.name.strip():
+            raise LayoutError(f"region name {self.name!r} must be a non-empty string")
+        where = f"region {self.name!r}"
+        if self.name in RESERVED_NAMES:
+            raise LayoutError(f"{where}: name {self.name!r} is reserved")
+        shapes = self.shapes
+        if isinstance(shapes, _SHAPES):
+            shapes = (shapes,)
+            object.__setattr__(self, "shapes", shapes)
+        if not isinstance(shapes, (tuple, list)) or len(shapes) == 0:
+            raise LayoutError(f"{where}: shapes = {shapes!r} must be a non-empty tuple of shapes")
+        object.__setattr__(self, "shapes", tuple(shapes))
+        for s in self.shapes:
+            if not isinstance(s, _SHAPES):
+                raise LayoutError(f"{where}: shape {s!r} is not a Rect, Disk, Annulus or Polygon")
+            s.check(where)
+        if not isinstance(self.material, str) or not self.material:
+            raise LayoutError(f"{where}: material = {self.material!r} must be a non-empty string")
+        _finite(where, "current", self.current)
+        if not isinstance(self.kind, str):
+            raise LayoutError(f"{where}: kind = {self.kind!r} must be a string")
+
+    def bbox(self) -> tuple[float, float, float, float]:
+        boxes = [s.bbox() for s in self.shapes]
+        return (min(b[0] for b in boxes), min(b[1] for b in boxes),
+                max(b[2] for b in boxes), max(b[3] for b in boxes))
+
+    def feature(self) -> float:
+        """Smallest shape dimension (m), used for default mesh sizes."""
+        return min(s.feature() for s in self.shapes)
+
+
+@dataclass(frozen=True)
+class AirBox:
+    """The air domain around all regions.
+
+    ``shape`` "box" (square) or "disk"; its side (diameter) is ``size`` if
+    given, else ``factor`` x the largest extent of the regions' bounding box,
+    centred on that bounding box.
+    """
+
+    shape: str = "box"
+    factor: float = 3.0
+    size: float | None = None
+
+    def __post_init__(self) -> None:
+        if self.shape not in ("box", "disk"):
+            raise LayoutError(f"air: shape = {self.shape!r} must be 'box' or 'disk'")
+        _positive("air", "factor", self.factor)
+        if self.size is not None:
+            _positive("air", "size", self.size)
+
+
+@dataclass(frozen=True)
+class MeshSettings:
+    """Mesh controls.
+
+    Parameters
+    ----------
+    size : float or None
+        Element size in the regions, m; default: smallest region feature / 4
+        (regions of kind "gap" excluded: they get their own size).
+    gap_elements : int
+        At least this many elements across each "gap" region's shortest side.
+    grading : float
+        Growth rate of the element size with distance from a refined zone
+        (size grows by ``grading`` m per m of distance).
+    air_size_factor : float
+        Largest air element = ``air_size_factor`` x ``size``.
+    order : int
+        1 (straight P1 triangles) or 2 (curved 6-node triangles, P2 field).
+    threads : int
+        gmsh meshing threads (surfaces in parallel).  Default 1: gmsh's
+        OpenMP thread pool is not fork-safe, so a process that meshed with
+        threads > 1 must not later fork worker processes that mesh.
+    """
+
+    size: float | None = None
+    gap_elements: int = 4
+    grading: float = 0.3
+    air_size_factor: float = 8.0
+    order: int = 2
+    threads: int = 1
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.threads, int) or self.threads < 1:
+            raise LayoutError(f"mesh: threads = {self.threads!r} must be an int >= 1")
+        if self.size is not None:
+            _positive("mesh", "size", self.size)
+        if not isinstance(self.gap_elements, int) or self.gap_elements < 1:
+            raise LayoutError(f"mesh: gap_elements = {self.gap_elements!r} must be an int >= 1")
+        _positive("mesh", "grading", self.grading)
+        if _positive("mesh", "air_size_factor", self.air_size_factor) < 1.0:
+            raise LayoutError(f"mesh: air_size_factor = {self.air_size_factor!r} must be >= 1")
+        if self.order not in (1, 2):
+            raise LayoutError(f"mesh: order = {self.order!r} must be 1 or 2")
+
+
+@dataclass(frozen=True)
+class Layout:
+    """Regions (priority order: later wins), air box, mesh settings and depth (m)."""
+
+    regions: tuple
+    air: AirBox = field(default_factory=AirBox)
+    mesh: MeshSettings = field(default_factory=MeshSettings)
+    depth: float = 1.0
+
+    def __post_init__(self) -> None:
+        regions = tuple(self.regions)
+        object.__setattr__(self, "regions", regions)
+        if not regions:
+            raise LayoutError("layout: regions is empty")
+        seen: set[str] = set()
+        for r in regions:
+            if not isinstance(r, Region):
+                raise LayoutError(f"layout: {r!r} is not a Region")
+            if r.name in seen:
+                raise LayoutError(f"region {r.name!r}: duplicate name {r.name!r}")
+            seen.add(r.name)
+        _positive("layout", "depth", self.depth)
+        # every region must lie inside the air domain
+        cx, cy, half = self.air_geometry()
+        for r in regions:
+            for s in r.shapes:
+                for x, y, rad in s.extreme_points():
+                    if self.air.shape == "box":
+                        out = (abs(x - cx) + rad > half * (1 + 1e-12)
+                               or abs(y - cy) + rad > half * (1 + 1e-12))
+                    else:
+                        out = math.hypot(x - cx, y - cy) + rad > half * (1 + 1e-12)
+                    if out:
+                        raise LayoutError(
+                            f"region {r.name!r}: shape {s!r} sticks out of the air "
+                            f"{self.air.shape} of half-size {half!r} m centred at ({cx!r}, {cy!r})")
+
+    def bbox(self) -> tuple[float, float, float, float]:
+        """Bounding box (x0, y0, x1, y1) of all regions, m."""
+        boxes = [r.bbox() for r in self.regions]
+        return (min(b[0] for b in boxes), min(b[1] for b in boxes),
+                max(b[2] for b in boxes), max(b[3] for b in boxes))
+
+    def air_geometry(self) -> tuple[float, float, float]:
+        """Centre (cx, cy) and half-side (or radius) of the air domain, m."""
+        x0, y0, x1, y1 = self.bbox()
+        cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
+        size = self.air.size if self.air.size is not None else self.air.factor * max(x1 - x0, y1 - y0)
+        return cx, cy, 0.5 * size
+
+    def region(self, name: str) -> Region:
+        for r in self.regions:
+            if r.name == name:
+                return r
+        raise LayoutError(f"layout: no region named {name!r}")
+
+    def core_size(self) -> float:
+        """Default element size in the regions (m): smallest non-gap feature / 4."""
+        if self.mesh.size is not None:
+            return self.mesh.size
+        feats = [r.feature() for r in self.regions if r.kind != "gap"]
+        if not feats:
+            feats = [r.feature() for r in self.regions]
+        return min(feats) / 4.0

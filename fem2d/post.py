@@ -1,0 +1,371 @@
+"""Post-processing of a :class:`~fem2d.solver.FieldSolution`.
+
+All functions are plain functions of the solution.  Per-metre quantities
+are multiplied by ``layout.depth`` (m) where a total is asked.  B = curl
+(A e_z) = (dA/dy, -dA/dx) (T); H = nu(|B|^2) B (A/m).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .layout import LayoutError
+
+__all__ = [
+    "PostError",
+    "b_field",
+    "b_elements",
+    "h_field",
+    "region_mean_b",
+    "peak_b",
+    "sample_a",
+    "sample_b",
+    "PathSamples",
+    "path_mean_h",
+    "flux_across",
+    "flux_linkage",
+    "energy",
+    "coenergy",
+    "source_work",
+    "incremental_flux_linkage",
+]
+
+
+class PostError(ValueError):
+    """Bad post-processing input (point outside the mesh, unknown region, ...)."""
+
+
+def _asm(sol):
+    return sol.assembler
+
+
+def _names(regions) -> list[str]:
+    return [regions] if isinstance(regions, str) else list(regions)
+
+
+def _elements(sol, regions) -> np.ndarray:
+    try:
+        return sol.mesh.elements_of(regions)
+    except LayoutError as exc:
+        raise PostError(str(exc)) from None
+
+
+# ------------------------------------------------------------------ fields
+def b_field(sol) -> np.ndarray:
+    """B at the quadrature points, shape (2, n_elem, n_qp), T."""
+    g = _asm(sol).grad(sol.A)
+    return np.stack([g[1], -g[0]])
+
+
+def b_elements(sol) -> np.ndarray:
+    """Area-weighted element means of B, shape (2, n_elem), T."""
+    B = b_field(sol)
+    dx = _asm(sol).dx
+    return np.sum(B * dx, axis=2) / np.sum(dx, axis=1)
+
+
+def h_field(sol) -> np.ndarray:
+    """H = nu(|B|^2) B at the quadrature points, shape (2, n_elem, n_qp), A/m."""
+    B = b_field(sol)
+    nu, _ = _asm(sol).coefficients(B[0] ** 2 + B[1] ** 2, derivative=False)
+    return nu * B
+
+
+def region_mean_b(sol, region, direction=None) -> float:
+    """Area-weighted mean of B . direction over a region (or list), T.
+
+    ``direction`` (2,) is normalised; None gives the mean of |B|.
+    """
+    idx = _elements(sol, region)
+    B = b_field(sol)[:, idx]
+    dx = _asm(sol).dx[idx]
+    if direction is None:
+        val = np.sqrt(B[0] ** 2 + B[1] ** 2)
+    else:
+        d = np.asarray(direction, dtype=float).reshape(2)
+        n = np.linalg.norm(d)
+        if not (np.isfinite(n) and n > 0):
+            raise PostError(f"direction = {direction!r} must be a non-zero finite 2-vector")
+        d = d / n
+        val = d[0] * B[0] + d[1] * B[1]
+    return float(np.sum(val * dx) / np.sum(dx))
+
+
+def _qp_coords(sol) -> np.ndarray:
+    asm = _asm(sol)
+    if not hasattr(asm, "_qp_xy"):
+        asm._qp_xy = np.asarray(asm.basis.global_coordinates())  # (2, ne, nq)
+    return asm._qp_xy
+
+
+def peak_b(sol, regions) -> tuple[float, tuple[float, float]]:
+    """Peak |B| (T) over the quadrature points of the regions, and its (x, y) (m)."""
+    idx = _elements(sol, regions)
+    B = b_field(sol)[:, idx]
+    mag = np.sqrt(B[0] ** 2 + B[1] ** 2)
+    k = np.unravel_index(np.argmax(mag), mag.shape)
+    xy = _qp_coords(sol)[:, idx][:, k[0], k[1]]
+    return float(mag[k]), (float(xy[0]), float(xy[1]))
+
+
+# ----------------------------------------------------------- point probes
+class _Locator:
+    """Linear-scaling point location with curved-element inverse mapping."""
+
+    def __init__(self, asm):
+        from matplotlib.tri import Triangulation, TrapezoidMapTriFinder
+
+        mesh = asm.rmesh.mesh
+        self.elem = asm.basis.elem
+        self.nloc = asm.nloc
+        self.xk = asm.basis.doflocs[:, asm.dofs]  # (2, nloc, ne) geometry nodes
+        self.dofs = asm.dofs
+        p, t = mesh.p, mesh.t
+        self.finder = TrapezoidMapTriFinder(Triangulation(p[0], p[1], t.T))
+        f2t = mesh.f2t
+        self.nbr = np.where(f2t[0][mesh.t2f] == np.arange(t.shape[1]), f2t[1][mesh.t2f], f2t[0][mesh.t2f])
+        self.centroids = p[:, t].mean(axis=1)
+        self._tree = None
+
+    def _ref(self, X):
+        phi = np.empty((self.nloc, X.shape[1]))
+        dphi = np.empty((self.nloc, 2, X.shape[1]))
+        for i in range(self.nloc):
+            ph, dph = self.elem.lbasis(X, i)
+            phi[i] = ph
+            dphi[i] = dph
+        return phi, dphi
+
+    def inverse_map(self, x, tind):
+        """Reference coordinates of points x (2, n) in elements tind, by Newton."""
+        xk = self.xk[:, :, tind]  # (2, nloc, n)
+        v = xk[:, :3]
+        # affine initial guess from the corners
+        J0 = np.stack([v[:, 1] - v[:, 0], v[:, 2] - v[:, 0]], axis=1)  # (2, 2, n)
+        X = np.linalg.solve(J0.transpose(2, 0, 1), (x - v[:, 0]).T[..., None])[..., 0].T
+        for _ in range(6 if self.nloc == 6 else 0):
+            phi, dphi = self._ref(X)
+            xx = np.einsum("akn,kn->an", xk, phi)
+            J = np.einsum("akn,kbn->nab", xk, dphi)
+            dX = np.linalg.solve(J, (x - xx).T[..., None])[..., 0].T
+            X = X + dX
+            if np.max(np.abs(dX)) < 1e-13:
+                break
+        return X
+
+    @staticmethod
+    def _outside(X, tol=1e-9):
+        return -np.minimum(np.minimum(X[0], X[1]), 1.0 - X[0] - X[1]) > tol
+
+    def locate(self, x):
+        """Element index and reference coordinates of each point; raises if outside."""
+        tind = np.asarray(self.finder(x[0], x[1]), dtype=np.int64)
+        miss = tind < 0
+        if np.any(miss):
+            if self._tree is None:
+                from scipy.spatial import cKDTree
+
+                self._tree = cKDTree(self.centroids.T)
+            _, near = self._tree.query(x[:, miss].T)
+            tind[miss] = near
+        X = self.inverse_map(x, tind)
+        out = self._outside(X)
+        if np.any(out):
+            # curved edges: try the neighbours of the straight-sided guess
+            bad = np.nonzero(out)[0]
+            best = np.full(len(bad), np.inf)
+            for k in range(3):
+                nb = self.nbr[k, tind[bad]]
+                ok = nb >= 0
+                if not np.any(ok):
+                    continue
+                sel = bad[ok]
+                Xn = self.inverse_map(x[:, sel], nb[ok])
+                viol = -np.minimum(np.minimum(Xn[0], Xn[1]), 1.0 - Xn[0] - Xn[1])
+                better = viol < best[ok]
+                upd = sel[better]
+                tind[upd] = nb[ok][better]
+                X[:, upd] = Xn[:, better]
+                tmp = best[ok]
+                tmp[better] = viol[better]
+                best[ok] = tmp
+            still = self._outside(X, tol=1e-6)
+            if np.any(still):
+                j = int(np.nonzero(still)[0][0])
+                raise PostError(f"point ({x[0, j]!r}, {x[1, j]!r}) is outside the mesh")
+        return tind, X
+
+    def evaluate(self, A, x):
+        """A (Wb/m) and grad A (T) at points x (2, n)."""
+        tind, X = self.locate(x)
+        phi, dphi = self._ref(X)
+        xk = self.xk[:, :, tind]
+        J = np.einsum("akn,kbn->nab", xk, dphi)  # dx_a/dX_b
+        Ak = A[self.dofs[:, tind]]  # (nloc, n)
+        a = np.sum(Ak * phi, axis=0)
+        dA_ref = np.einsum("kn,kbn->nb", Ak, dphi)
+        gradA = np.linalg.solve(J.transpose(0, 2, 1), dA_ref[..., None])[..., 0].T
+        return a, gradA, tind
+
+
+def _locator(sol) -> _Locator:
+    asm = _asm(sol)
+    if not hasattr(asm, "_locator"):
+        asm._locator = _Locator(asm)
+    return asm._locator
+
+
+def _points(points) -> np.ndarray:
+    x = np.asarray(points, dtype=float)
+    if x.ndim == 1 and x.shape[0] == 2:
+        x = x[:, None]
+    if x.ndim != 2 or x.shape[0] != 2:
+        raise PostError(f"points shape {x.shape} must be (2, n)")
+    if not np.all(np.isfinite(x)):
+        raise PostError("points contain non-finite values")
+    return x
+
+
+def sample_a(sol, points) -> np.ndarray:
+    """A_z (Wb/m) at points, shape (2, n) -> (n,)."""
+    a, _, _ = _locator(sol).evaluate(sol.A, _points(points))
+    return a
+
+
+def sample_b(sol, points) -> np.ndarray:
+    """B (T) at points, shape (2, n) -> (2, n)."""
+    _, g, _ = _locator(sol).evaluate(sol.A, _points(points))
+    return np.stack([g[1], -g[0]])
+
+
+@dataclass(frozen=True)
+class PathSamples:
+    """Samples along a path: mean |H| (A/m) over the kept points, and per point
+    arc length s (m), |H| (A/m), |B| (T), region name and whether it was kept."""
+
+    mean_h: float
+    s: np.ndarray
+    h: np.ndarray
+    b: np.ndarray
+    region: np.ndarray
+    kept: np.ndarray
+
+
+def path_mean_h(sol, polyline, exclude=(), n: int = 2000, closed: bool = False) -> PathSamples:
+    """Mean |H| along a polyline by sampling n evenly spaced points.
+
+    Parameters
+    ----------
+    polyline : array, shape (2, m)
+        Vertices, m; ``closed=True`` joins the last vertex to the first.
+    exclude : tuple of str
+        Region names whose points are skipped (e.g. gaps).
+    n : int
+        Number of points (midpoints of n equal arc-length pieces).
+    """
+    P = _points(polyline)
+    if P.shape[1] < 2:
+        raise PostError(f"polyline needs >= 2 points, got {P.shape[1]}")
+    if closed:
+        P = np.hstack([P, P[:, :1]])
+    names = set(sol.mesh.region_names)
+    for e in _names(exclude):
+        if e not in names:
+            raise PostError(f"exclude: region {e!r} not in the mesh")
+    seg = np.linalg.norm(np.diff(P, axis=1), axis=0)
+    cum = np.concatenate([[0.0], np.cumsum(seg)])
+    if cum[-1] <= 0:
+        raise PostError("polyline has zero length")
+    s = (np.arange(n) + 0.5) * cum[-1] / n
+    x = np.vstack([np.interp(s, cum, P[0]), np.interp(s, cum, P[1])])
+    _, g, tind = _locator(sol).evaluate(sol.A, x)
+    b2 = g[0] ** 2 + g[1] ** 2
+    reg_ids = sol.mesh.element_region[tind]
+    nu = np.empty(n)
+    asm = _asm(sol)
+    for law, idx in zip(asm.laws, asm.groups):
+        m = np.isin(tind, idx)
+        nu[m] = law.nu(b2[m])
+    b = np.sqrt(b2)
+    h = nu * b
+    region = np.asarray(sol.mesh.region_names, dtype=object)[reg_ids]
+    kept = ~np.isin(region, list(_names(exclude)))
+    mean_h = float(np.mean(h[kept])) if np.any(kept) else float("nan")
+    return PathSamples(mean_h=mean_h, s=s, h=h, b=b, region=region, kept=kept)
+
+
+# --------------------------------------------------------- global quantities
+def flux_across(sol, p0, p1) -> float:
+    """Flux (Wb) through the segment p0 -> p1: depth * (A(p1) - A(p0)).
+
+    Positive along the normal n = (t_y, -t_x) (the segment's right-hand side),
+    since B . n = dA/dl for B = (dA/dy, -dA/dx).
+    """
+    a = sample_a(sol, np.array([p0, p1], dtype=float).T)
+    return float(sol.mesh.layout.depth * (a[1] - a[0]))
+
+
+def _mean_over(sol, vec, regions):
+    asm = _asm(sol)
+    idx = _elements(sol, regions)
+    integral = np.sum(asm.phi_int[:, idx] * vec[asm.dofs[:, idx]])
+    return integral / np.sum(asm.dx[idx])
+
+
+def flux_linkage(sol, turns: float, plus, minus) -> float:
+    """Flux linkage lambda = N depth (<A>_plus - <A>_minus) (Wb).
+
+    <A> is the area mean of A over the coil-side region(s) (Source: standard
+    planar formula, REFERENCES.md section 5).
+    """
+    return float(turns * sol.mesh.layout.depth
+                 * (_mean_over(sol, sol.A, plus) - _mean_over(sol, sol.A, minus)))
+
+
+def energy(sol) -> float:
+    """Stored energy W = depth * int w(|B|^2) dx, w = int_0^B H dB (J)."""
+    asm = _asm(sol)
+    g = asm.grad(sol.A)
+    s = g[0] ** 2 + g[1] ** 2
+    return float(sol.mesh.layout.depth * np.sum(asm.energy_density(s) * asm.dx))
+
+
+def coenergy(sol) -> float:
+    """Co-energy W' = depth * int (int_0^H B dH) dx = depth * int (nu s - w) dx (J)."""
+    asm = _asm(sol)
+    g = asm.grad(sol.A)
+    s = g[0] ** 2 + g[1] ** 2
+    nu, _ = asm.coefficients(s, derivative=False)
+    return float(sol.mesh.layout.depth * np.sum((nu * s - asm.energy_density(s)) * asm.dx))
+
+
+def source_work(sol) -> float:
+    """depth * int J A dx (J); equals W + W' at equilibrium with A = 0 on "outer"."""
+    return float(sol.mesh.layout.depth * (_asm(sol).b @ sol.A))
+
+
+def incremental_flux_linkage(sol, turns: float, plus, minus) -> float:
+    """Incremental inductance d lambda / dI (H) by one tangent solve.
+
+    The coil currents are taken as J = +N I / area on ``plus`` and -N I / area
+    on ``minus``; K(A*) dA/dI = db/dI with the tangent K at the converged A*
+    (no finite differences); then d lambda/dI = N depth (<dA/dI>_plus -
+    <dA/dI>_minus).
+    """
+    asm = _asm(sol)
+    if not sol.converged:
+        raise PostError("incremental_flux_linkage needs a converged solution")
+    db_loc = np.zeros_like(asm.phi_int)
+    for regs, sign in ((plus, 1.0), (minus, -1.0)):
+        idx = _elements(sol, regs)
+        area = float(np.sum(asm.dx[idx]))
+        db_loc[:, idx] += sign * turns / area * asm.phi_int[:, idx]
+    db = np.bincount(asm.dofs.ravel(), weights=db_loc.ravel(), minlength=asm.ndofs)
+    g = asm.grad(sol.A)
+    nu, dnu = asm.coefficients(g[0] ** 2 + g[1] ** 2)
+    K = asm.tangent(g, nu, None if asm.linear else dnu)
+    dA = np.zeros(asm.ndofs)
+    dA[asm.I] = sol.linear_solver(K)(db[asm.I])
+    return float(turns * sol.mesh.layout.depth
+                 * (_mean_over(sol, dA, plus) - _mean_over(sol, dA, minus)))
