@@ -9,6 +9,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
+from threadpoolctl import threadpool_limits
 
 from .layout import LayoutError
 
@@ -21,6 +22,7 @@ __all__ = [
     "peak_b",
     "sample_a",
     "sample_b",
+    "transfer",
     "PathSamples",
     "path_mean_h",
     "flux_across",
@@ -233,6 +235,19 @@ def sample_a(sol, points) -> np.ndarray:
     return a
 
 
+def transfer(sol, mesh) -> np.ndarray:
+    """A of ``sol`` interpolated onto the DOFs of another mesh of the same layout.
+
+    Used as a warm start for a solve on a refined mesh (``solve(..., A0=...)``);
+    every DOF location must lie inside the old mesh's domain.
+    """
+    from skfem import Basis, ElementTriP1, ElementTriP2
+
+    elem = ElementTriP2() if mesh.order == 2 else ElementTriP1()
+    doflocs = Basis(mesh.mesh, elem, intorder=1).doflocs
+    return sample_a(sol, doflocs)
+
+
 def sample_b(sol, points) -> np.ndarray:
     """B (T) at points, shape (2, n) -> (2, n)."""
     _, g, _ = _locator(sol).evaluate(sol.A, _points(points))
@@ -366,6 +381,9 @@ def incremental_flux_linkage(sol, turns: float, plus, minus) -> float:
     nu, dnu = asm.coefficients(g[0] ** 2 + g[1] ** 2)
     K = asm.tangent(g, nu, None if asm.linear else dnu)
     dA = np.zeros(asm.ndofs)
-    dA[asm.I] = sol.linear_solver(K)(db[asm.I])
+    # One thread for the pip-bundled BLAS, as in the Newton loop: threaded
+    # BLAS inside the AMG setup made this one solve ~10x slower on 2 cores.
+    with threadpool_limits(limits=1):
+        dA[asm.I] = sol.linear_solver(K)(db[asm.I])
     return float(turns * sol.mesh.layout.depth
                  * (_mean_over(sol, dA, plus) - _mean_over(sol, dA, minus)))
