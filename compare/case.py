@@ -11,7 +11,11 @@ edge: the models downstream trust the data they are given. Layout::
                  {H = [...], B = [...], H_unit = "A/m", B_unit = "T"} | {mu_r = 2000}
     [hand]       fringing = "<model>"
     [fe]         order, gap_elements, mesh_size, air_factor, tol
-    [margins]    (filled by later versions)
+    [margins]    peak_B, current_density (+ copper_fill), [[margins.inductance]]
+                 (at, min, max, kind), [[margins.saturation_current]] (drop_pct, min,
+                 kind), [margins.agreement] (percent per quantity)
+    [sweep]      vary = ["KEY=SPEC", ...], drops_pct, inductance; or [[sweep]] for several
+    [[tolerances]] key, distribution (uniform: minus/plus; normal: sigma, limit)
 """
 
 from __future__ import annotations
@@ -33,6 +37,7 @@ from .geometry import Gap, Limb, Winding
 from .reader import TableReader
 
 __all__ = ["Case", "MaterialSpec", "HandSettings", "FESettings", "Margins",
+           "InductanceLimit", "SaturationLimit", "SweepDecl", "Tolerance",
            "load_case", "case_from_dict"]
 
 MATERIAL_REGIONS = ("core",)
@@ -78,6 +83,29 @@ class FESettings:
 
 
 @dataclass(frozen=True)
+class InductanceLimit:
+    """Inductance at a stated current must lie within [min, max] (H; None = open).
+
+    at : winding current (A); kind : "secant" (lambda/I) or "incremental" (d lambda/dI).
+    """
+
+    at: float
+    min: float | None = None
+    max: float | None = None
+    kind: str = "secant"
+
+
+@dataclass(frozen=True)
+class SaturationLimit:
+    """The current at which the inductance has fallen by ``drop`` (fraction of
+    its low-current value) must be at least ``min`` (A)."""
+
+    drop: float
+    min: float
+    kind: str = "incremental"
+
+
+@dataclass(frozen=True)
 class Margins:
     """Design margins and hand-vs-FE agreement limits.
 
@@ -85,13 +113,52 @@ class Margins:
         (see compare.fe); None = no limit.
     agreement : maximum |hand - FE| per quantity, percent of the FE value;
         quantities not named keep compare.check.DEFAULT_LIMITS.
+    current_density : maximum winding current density (A/m^2) in the
+        conductor, N |I| / (copper_fill * coil cross-section); None = no limit.
+    copper_fill : conductor fraction of the coil cross-section (0, 1].
+    inductance : inductance limits at stated currents.
+    saturation : minimum saturation currents at stated drops.
     """
 
     peak_B: float | None = None
     agreement: tuple[tuple[str, float], ...] = ()
+    current_density: float | None = None
+    copper_fill: float = 1.0
+    inductance: tuple[InductanceLimit, ...] = ()
+    saturation: tuple[SaturationLimit, ...] = ()
 
     def agreement_limit(self, key: str, default: float | None) -> float | None:
         return dict(self.agreement).get(key, default)
+
+
+@dataclass(frozen=True)
+class SweepDecl:
+    """A sweep the case declares: ``--vary`` specs and saturation drop levels."""
+
+    vary: tuple[str, ...]
+    drops: tuple[float, ...] = (0.10, 0.20, 0.30)
+    inductance: str = "incremental"
+
+
+@dataclass(frozen=True)
+class Tolerance:
+    """A manufacturing tolerance on one case key (see compare.tolerance).
+
+    key : key path (``gaps[0].length``) or ``materials.core.scale_H`` /
+        ``materials.core.scale_B`` (B-H curve scale factors, nominal 1).
+    distribution : "uniform" (nominal - minus .. nominal + plus) or
+        "normal" (sigma, truncated at +-limit).
+    minus, plus, sigma, limit : SI deviations, or fractions of the nominal
+        value when ``relative`` (given as "5 %").
+    """
+
+    key: str
+    distribution: str
+    minus: float = 0.0
+    plus: float = 0.0
+    sigma: float = 0.0
+    limit: float = 0.0
+    relative: bool = False
 
 
 @dataclass(frozen=True)
@@ -107,6 +174,8 @@ class Case:
     hand: HandSettings = HandSettings()
     fe: FESettings = FESettings()
     margins: Margins = Margins()
+    sweeps: tuple[SweepDecl, ...] = ()
+    tolerances: tuple[Tolerance, ...] = ()
     description: str = ""
     source: str = ""
     sha256: str = ""
@@ -177,9 +246,12 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     hand = _read_hand(root.table("hand", {}))
     fe = _read_fe(root.table("fe", {}))
     margins = _read_margins(root.table("margins", {}))
+    sweeps = _read_sweeps(root, "sweep")
+    tolerances = tuple(_read_tolerance(t) for t in root.tables("tolerances"))
     root.finish()
     return Case(name=name, family=family_name, core=core, gaps=gaps, winding=winding,
-                materials=materials, hand=hand, fe=fe, margins=margins,
+                materials=materials, hand=hand, fe=fe, margins=margins, sweeps=sweeps,
+                tolerances=tolerances,
                 description=description, source=source, sha256=sha256)
 
 
@@ -339,6 +411,9 @@ AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductan
                   "incremental_inductance", "energy")
 
 
+INDUCTANCE_KINDS = ("secant", "incremental")
+
+
 def _read_margins(t: TableReader) -> Margins:
     peak = t.quantity("peak_B", "flux density", None)
     at = t.table("agreement", {})
@@ -348,5 +423,106 @@ def _read_margins(t: TableReader) -> Margins:
             continue
         agreement.append((key, at.number(key, lo=0.0, hi=1000.0)))
     at.finish()
+    jmax = t.quantity("current_density", "current density", None)
+    fill = t.number("copper_fill", 1.0, lo=0.0, hi=1.0)
+    if fill <= 0.0:
+        raise CaseError(t.key("copper_fill"), t.data["copper_fill"], "must be positive")
+    inductance = []
+    for it in t.tables("inductance"):
+        lo = it.quantity("min", "inductance", None)
+        hi = it.quantity("max", "inductance", None)
+        if lo is None and hi is None:
+            raise CaseError(it.key("min"), None, "give min, max or both")
+        if lo is not None and hi is not None and lo > hi:
+            raise CaseError(it.key("min"), it.data["min"], "min is above max")
+        inductance.append(InductanceLimit(
+            at=it.quantity("at", "current", positive=False),
+            min=lo, max=hi, kind=it.string("kind", "secant", choices=INDUCTANCE_KINDS)))
+        it.finish()
+    saturation = []
+    for st in t.tables("saturation_current"):
+        drop = st.number("drop_pct", lo=0.0, hi=99.0)
+        if drop <= 0.0:
+            raise CaseError(st.key("drop_pct"), st.data["drop_pct"], "must be positive")
+        saturation.append(SaturationLimit(
+            drop=drop / 100.0, min=st.quantity("min", "current"),
+            kind=st.string("kind", "incremental", choices=INDUCTANCE_KINDS)))
+        st.finish()
     t.finish()
-    return Margins(peak_B=peak, agreement=tuple(agreement))
+    return Margins(peak_B=peak, agreement=tuple(agreement), current_density=jmax,
+                   copper_fill=fill, inductance=tuple(inductance), saturation=tuple(saturation))
+
+
+def _read_sweeps(root: TableReader, name: str) -> tuple[SweepDecl, ...]:
+    raw = root.raw(name, [])
+    items = [raw] if isinstance(raw, dict) else raw
+    if not isinstance(items, list):
+        raise CaseError(name, raw, "must be a table [sweep] or an array of tables [[sweep]]")
+    from .sweep import parse_vary  # syntax of the specs (sweep imports this module)
+
+    out = []
+    for i, item in enumerate(items):
+        t = TableReader(item, name if isinstance(raw, dict) else f"{name}[{i}]")
+        vary = t.raw("vary")
+        if isinstance(vary, str):
+            vary = [vary]
+        if not isinstance(vary, list) or not vary or not all(isinstance(v, str) for v in vary):
+            raise CaseError(t.key("vary"), vary, 'must be a list of "KEY=SPEC" strings')
+        for spec in vary:
+            parse_vary(spec, where=t.key("vary"))
+        drops = t.raw("drops_pct", [10, 20, 30])
+        if (not isinstance(drops, list) or not drops
+                or not all(isinstance(d, (int, float)) and not isinstance(d, bool)
+                           and 0 < d < 100 for d in drops)):
+            raise CaseError(t.key("drops_pct"), drops, "must be a list of percentages in (0, 100)")
+        kind = t.string("inductance", "incremental", choices=INDUCTANCE_KINDS)
+        t.finish()
+        out.append(SweepDecl(tuple(vary), tuple(float(d) / 100.0 for d in drops), kind))
+    return tuple(out)
+
+
+DISTRIBUTIONS = ("uniform", "normal")
+
+
+def _read_tolerance(t: TableReader) -> Tolerance:
+    from .sweep import key_dimension, parse_key  # sweep imports this module
+
+    key = t.string("key")
+    try:
+        parse_key(key)
+        dim = key_dimension(key)
+    except CaseError as exc:
+        raise CaseError(t.key("key"), key, exc.reason) from None
+    dist = t.string("distribution", choices=DISTRIBUTIONS)
+    dim = "dimensionless" if dim == "integer" else dim
+    vals: dict[str, float] = {}
+    rel: set[bool] = set()
+    names = ("minus", "plus") if dist == "uniform" else ("sigma", "limit")
+    for n in names:
+        raw = t.raw(n, None)
+        if raw is None:
+            if n == "limit":
+                continue
+            raise CaseError(t.key(n), None, f"missing key (a {dist} tolerance needs "
+                                             f"{' and '.join(names)})")
+        if isinstance(raw, str) and raw.strip().endswith("%"):
+            try:
+                v = float(raw.strip()[:-1]) / 100.0
+            except ValueError:
+                raise CaseError(t.key(n), raw, "cannot read the percentage") from None
+            rel.add(True)
+        else:
+            v = t.quantity(n, dim, allow_zero=True)
+            rel.add(False)
+        if not (math.isfinite(v) and v >= 0.0):
+            raise CaseError(t.key(n), raw, "must be a finite deviation >= 0")
+        vals[n] = v
+    if len(rel) > 1:
+        raise CaseError(t.key(names[0]), t.data.get(names[0]),
+                        "give all deviations of one tolerance in % or all in units")
+    if dist == "normal":
+        if vals["sigma"] <= 0.0:
+            raise CaseError(t.key("sigma"), t.data["sigma"], "must be positive")
+        vals.setdefault("limit", 3.0 * vals["sigma"])
+    t.finish()
+    return Tolerance(key=key, distribution=dist, relative=rel == {True}, **vals)

@@ -62,6 +62,7 @@ class Row:
     fe_3d: float = math.nan
     limit_value: float | None = None  # design margins: the limit itself (SI)
     margin_pct: float = math.nan  # design margins: margin left, percent of the limit
+    limit_kind: str = "max"  # design margins: "max" (value <= limit) or "min" (value >= limit)
 
     @property
     def uncertainty_pct(self) -> float:
@@ -73,7 +74,8 @@ class Row:
                 "fe_uncertainty_pct": self.uncertainty_pct, "difference_pct": self.diff_pct,
                 "limit_pct": self.limit_pct, "verdict": self.verdict,
                 "hand_3d": self.hand_3d, "fe_depth_corrected": self.fe_3d,
-                "limit_value": self.limit_value, "margin_pct": self.margin_pct}
+                "limit_value": self.limit_value, "margin_pct": self.margin_pct,
+                "limit_kind": self.limit_kind}
 
 
 @dataclass(frozen=True)
@@ -142,7 +144,41 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
     rows.append(Row("peak_B", LABELS["peak_B"], "T", math.nan, peak,
                     fe.uncertainty.get("peak_B", math.nan), math.nan, None, verdict,
                     fe_3d=peak, limit_value=limit, margin_pct=margin))
+    rows.extend(margin_rows(case, fe, k_depth))
     return tuple(rows)
+
+
+def margin_rows(case: Case, fe: FEResult, k_depth: float) -> list[Row]:
+    """Rows for the design margins other than peak B (see compare.margins).
+
+    Inductance at a stated current is judged on the FE value with the
+    depth-direction fringing factor (the "FE 3D" column), solved on the FE
+    result's mesh at that current; saturation current on the 3D hand model's
+    L(I) (a field solution needs a sweep: ``magcheck sweep`` or a declared
+    ``[sweep]`` under ``magcheck verify``).
+    """
+    from .fe import solve_case
+    from .margins import design_margins, inductance_of, with_current
+
+    m = case.margins
+    if m.current_density is None and not m.inductance and not m.saturation:
+        return []
+    cache: dict[float, dict] = {case.winding.current: fe.values}
+
+    def fe_at(current: float, kind: str) -> float:
+        if current not in cache:
+            q, _, _ = solve_case(with_current(case, current), fe.solution.mesh)
+            cache[current] = q.values
+        return inductance_of(cache[current], kind) * k_depth
+
+    out = []
+    for r in design_margins(case, fe_at=fe_at):
+        if r.key == "peak_B":
+            continue
+        out.append(Row(f"margin:{r.key}", r.label + (" (hand)" if r.basis == "hand" else ""),
+                       r.unit, r.hand, r.value, math.nan, math.nan, None, r.verdict,
+                       limit_value=r.limit, margin_pct=r.margin_pct, limit_kind=r.kind))
+    return out
 
 
 def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult) -> tuple[str, ...]:

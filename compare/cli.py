@@ -22,9 +22,10 @@ EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_SOLVE = 0, 1, 2, 3
 def _commands():
     # Imported here so `magcheck --help` stays quick and each sub-command
     # lives in its own module with add_args(parser) and run(args).
-    from .commands import check, hand, materials
+    from .commands import check, hand, materials, sweep, tolerance, verify
 
-    return {"check": check, "hand": hand, "materials": materials}
+    return {"check": check, "hand": hand, "materials": materials, "sweep": sweep,
+            "verify": verify, "tolerance": tolerance}
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -1,0 +1,214 @@
+"""``magcheck sweep CASE --vary KEY=SPEC``: a case over a range or grid of values."""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import math
+import sys
+from pathlib import Path
+
+from ..executor import Progress
+from ..errors import CaseError
+from ..hand import UNITS
+from ..output import CAUTION, atomic_write_text, render_table, write_json
+from ..sweep import (CURRENT_KEY, DEFAULT_BLOCK, PREDICTORS, SweepResult, case_source, curves,
+                     parse_vary, run_sweep, sweep_margins, sweep_rows)
+from ..units import format_si
+
+HELP = ("solve a case over values of its keys (a current sweep gives L(I) and the "
+        "saturation current); hand and FE at every point")
+
+
+def add_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("case", help="TOML case file")
+    p.add_argument("--vary", action="append", metavar="KEY=SPEC", default=[],
+                   help="key and values: a range start:stop:count (winding.current=0:20A:41) "
+                        "or a list (gaps[0].length=0.5mm,0.8mm); repeat for a grid; default: "
+                        "the case's [sweep]")
+    p.add_argument("--drops", metavar="PCT,...",
+                   help="inductance drops (percent) for the saturation current; default 10,20,30")
+    p.add_argument("--inductance", choices=("incremental", "secant"),
+                   help="which inductance the drop is read from (default incremental)")
+    p.add_argument("--hand-only", action="store_true", help="skip the FE model (fast)")
+    p.add_argument("--predictor", choices=PREDICTORS, default="tangent",
+                   help="Newton start at each next point (default tangent: dA/dI)")
+    p.add_argument("--block", type=int, default=DEFAULT_BLOCK,
+                   help=f"points per task (default {DEFAULT_BLOCK}); results do not depend "
+                        "on the number of workers")
+    p.add_argument("--workers", type=int, help="worker processes (default: one per core)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="dask.distributed scheduler (default $DASK_SCHEDULER_ADDRESS)")
+    p.add_argument("--csv", metavar="FILE", help="write one row per point as CSV")
+    p.add_argument("--json", metavar="FILE", help="write points, saturation currents and margins")
+    p.add_argument("--plots", metavar="DIR", help="write the figures (PNG) to DIR")
+
+
+def _drops(text: str | None, default) -> tuple[float, ...]:
+    if text is None:
+        return tuple(default)
+    try:
+        vals = tuple(float(x) / 100.0 for x in text.split(","))
+    except ValueError:
+        raise CaseError("--drops", text, "write percentages, e.g. 10,20,30") from None
+    if not vals or not all(0 < v < 1 for v in vals):
+        raise CaseError("--drops", text, "percentages must lie in (0, 100)")
+    return vals
+
+
+def _fmt(v: float, unit: str) -> str:
+    return "-" if v is None or not math.isfinite(v) else format_si(v, unit)
+
+
+def print_sweep(res: SweepResult, margins, sat_table, out) -> None:
+    keys = list(res.keys) + ([] if CURRENT_KEY in res.keys else [CURRENT_KEY])
+    cols = keys + ["hand L", "hand dL/dI"]
+    if res.with_fe:
+        cols += ["FE L", "FE dL/dI", "FE peak B", "Newton", "start"]
+    rows = []
+    for p in res.points:
+        vals = dict(p.settings, **{CURRENT_KEY: p.current})
+        r = [f"{vals[k]:.4g}" for k in keys]
+        r += [_fmt(p.hand_planar.get("inductance", math.nan), "H"),
+              _fmt(p.hand_planar.get("incremental_inductance", math.nan), "H")]
+        if res.with_fe:
+            r += [_fmt(p.fe.get("inductance", math.nan), "H"),
+                  _fmt(p.fe.get("incremental_inductance", math.nan), "H"),
+                  _fmt(p.fe_peak_B, "T"), str(p.iterations) if p.converged else "FAILED", p.start]
+        rows.append(r)
+    notes = [f"{len(res.points)} points in {res.seconds:.1f} s ({res.executor}, "
+             f"{res.workers} worker(s)); hand columns: planar-consistent form (like for like "
+             "with the planar FE)."]
+    render_table(f"{res.case.name}: sweep of {', '.join(res.keys)}", cols, rows, out, notes=notes)
+    if sat_table:
+        drop_cols = [k for k in sat_table[0] if k.endswith("%")]
+        render_table("saturation current: where the inductance has fallen by ...",
+                     ["curve", "model", "L"] + drop_cols,
+                     [[r["curve"] or "-", {"fe": "FE", "hand": "hand 3D",
+                                           "hand_planar": "hand planar"}[r["model"]],
+                       r["inductance"]] + [_fmt(r[c], "A") for c in drop_cols]
+                      for r in sat_table], out,
+                     notes=["'-' = not reached in the swept range."])
+    if margins:
+        render_table("design margins along the sweep",
+                     ["margin", "value", "limit", "margin left", "verdict", "basis", "note"],
+                     [[m.label, _fmt(m.value, m.unit),
+                       ("<= " if m.kind == "max" else ">= ") + _fmt(m.limit, m.unit),
+                       "-" if not math.isfinite(m.margin_pct) else f"{m.margin_pct:+.1f} %",
+                       m.verdict, m.basis, m.note] for m in margins], out)
+    out.write(CAUTION + "\n")
+
+
+def sweep_csv(res: SweepResult) -> str:
+    rows = sweep_rows(res)
+    buf = io.StringIO()
+    w = csv.DictWriter(buf, fieldnames=list(rows[0]), lineterminator="\n")
+    w.writeheader()
+    for r in rows:
+        w.writerow({k: ("" if isinstance(v, float) and not math.isfinite(v) else v)
+                    for k, v in r.items()})
+    return buf.getvalue()
+
+
+def sweep_json(res: SweepResult, margins, sat_table) -> dict:
+    c = res.case
+    return {"case": {"name": c.name, "file": c.source, "sha256": c.sha256},
+            "vary": [{"spec": s.spec, "key": s.key, "values": list(s.values)} for s in res.specs],
+            "units": dict(UNITS, peak_B="T"),
+            "points": sweep_rows(res),
+            "saturation_current": sat_table,
+            "margins": [m.to_dict() for m in margins],
+            "predictor": res.predictor, "executor": res.executor, "workers": res.workers,
+            "seconds": res.seconds, "converged": res.converged, "caution": CAUTION}
+
+
+def save_sweep_figures(res: SweepResult, folder: str | Path) -> list[Path]:
+    """Figures of a sweep (Agg backend; every figure closed). Returns the paths."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    folder = Path(folder)
+    folder.mkdir(parents=True, exist_ok=True)
+    x_key = CURRENT_KEY if CURRENT_KEY in res.keys else res.keys[0]
+    x_label = "winding current I (A)" if x_key == CURRENT_KEY else x_key
+    paths = []
+    hand_c, fe_c = "#c8553d", "#264653"
+
+    def x_of(p):
+        return abs(p.current) if x_key == CURRENT_KEY else p.settings[x_key]
+
+    groups = curves(res) if x_key == CURRENT_KEY else [({}, list(res.points))]
+    panels = [
+        ("sweep_inductance.png", "inductance (mH)", 1e3,
+         [("inductance", "secant", "-"), ("incremental_inductance", "incremental", "--")]),
+        ("sweep_flux_linkage.png", "flux linkage (mWb)", 1e3, [("flux_linkage", "", "-")]),
+        ("sweep_core_B.png", "core B (T)", 1.0, [("core_B", "mean", "-"), ("peak_B", "peak", "--")]),
+    ]
+    for name, ylabel, scale, series in panels:
+        fig, ax = plt.subplots(figsize=(6.5, 4.2))
+        try:
+            for fixed, pts in groups:
+                tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
+                tag = f" ({tag})" if tag else ""
+                x = [x_of(p) for p in pts]
+                for key, what, ls in series:
+                    if key == "peak_B":
+                        hand = [p.hand_peak_B for p in pts]
+                        fe = [p.fe_peak_B for p in pts]
+                    else:
+                        hand = [p.hand_planar.get(key, math.nan) for p in pts]
+                        fe = [p.fe.get(key, math.nan) for p in pts]
+                    ax.plot(x, [v * scale for v in hand], ls, color=hand_c, marker=".",
+                            label=f"hand {what}{tag}".replace("  ", " "))
+                    if res.with_fe:
+                        ax.plot(x, [v * scale for v in fe], ls, color=fe_c, marker=".",
+                                label=f"FE {what}{tag}".replace("  ", " "))
+            ax.set_xlabel(x_label)
+            ax.set_ylabel(ylabel)
+            ax.grid(alpha=0.3)
+            ax.legend(fontsize=8)
+            ax.set_title(f"{res.case.name}: hand (planar form) and planar FE")
+            fig.tight_layout()
+            path = folder / name
+            fig.savefig(path, dpi=110)
+            paths.append(path)
+        finally:
+            plt.close(fig)
+    return paths
+
+
+def run(args: argparse.Namespace) -> int:
+    src, case = case_source(args.case)
+    specs_text = args.vary or (list(case.sweeps[0].vary) if case.sweeps else [])
+    if not specs_text:
+        raise CaseError("--vary", None, "give at least one --vary KEY=SPEC (the case declares "
+                                        "no [sweep])")
+    specs = [parse_vary(s) for s in specs_text]
+    decl = case.sweeps[0] if (case.sweeps and not args.vary) else None
+    drops = _drops(args.drops, decl.drops if decl else (0.10, 0.20, 0.30))
+    kind = args.inductance or (decl.inductance if decl else "incremental")
+    if args.workers is not None and args.workers < 1:
+        raise CaseError("--workers", args.workers, "must be at least 1")
+    with Progress("sweep") as bar:
+        res = run_sweep(src, specs, with_fe=not args.hand_only, predictor=args.predictor,
+                        block=args.block, workers=args.workers, scheduler=args.scheduler,
+                        on_done=bar)
+    margins, sat_table = sweep_margins(res, drops, kind)
+    print_sweep(res, margins, sat_table, sys.stdout)
+    if args.csv:
+        atomic_write_text(args.csv, sweep_csv(res))
+    if args.json:
+        write_json(args.json, sweep_json(res, margins, sat_table))
+    if args.plots:
+        for p in save_sweep_figures(res, args.plots):
+            sys.stdout.write(f"figure: {p}\n")
+    failed = [p for p in res.points if not p.converged]
+    if failed:
+        for p in failed:
+            print(f"magcheck: point {p.index} ({', '.join(f'{k} = {v:g}' for k, v in p.settings.items())}) "
+                  f"failed: {p.message}", file=sys.stderr)
+        return 3
+    return 1 if any(m.verdict == "FAIL" for m in margins) else 0

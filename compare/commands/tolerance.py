@@ -1,0 +1,120 @@
+"""``magcheck tolerance CASE --samples N --seed S``: Monte Carlo over the case's tolerances."""
+
+from __future__ import annotations
+
+import argparse
+import math
+import sys
+from pathlib import Path
+
+from ..errors import CaseError
+from ..executor import Progress
+from ..output import CAUTION, render_table, write_json
+from ..units import format_si
+
+PERCENTILES = (5.0, 50.0, 95.0)  # as compare.tolerance.PERCENTILES (not imported: start-up time)
+
+HELP = ("Monte Carlo over the tolerances a case declares: percentiles of inductance, peak "
+        "core B and saturation current, and the yield (samples meeting every margin)")
+
+_UNITS = {"inductance": "H", "peak_B": "T", "saturation_current": "A"}
+
+
+def add_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("case", help="TOML case file with [[tolerances]]")
+    p.add_argument("--samples", type=int, default=50, help="number of samples (default 50)")
+    p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
+    p.add_argument("--fe-samples", type=int, metavar="M",
+                   help="run the FE on the first M samples only and correct the rest through "
+                        "the fitted hand-vs-FE relation (default: all)")
+    p.add_argument("--workers", type=int, help="worker processes (default: one per core)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="dask.distributed scheduler (default $DASK_SCHEDULER_ADDRESS)")
+    p.add_argument("--min-yield", type=float, metavar="PCT",
+                   help="exit 1 when fewer than PCT %% of the samples meet every margin")
+    p.add_argument("--json", metavar="FILE", help="write samples and statistics as JSON")
+    p.add_argument("--plot", metavar="FILE.png", help="write the histograms")
+
+
+def _labels(res) -> dict[str, str]:
+    return {"inductance": f"inductance (secant) at {res.case.winding.current:g} A",
+            "peak_B": "peak core B",
+            "saturation_current": f"saturation current (hand, L -{100 * res.drop:g} %)"}
+
+
+def print_tolerance(res, out) -> None:
+    pct = res.percentiles(PERCENTILES)
+    labels = _labels(res)
+    rows = [[labels[k]] + [format_si(v, _UNITS[k]) if math.isfinite(v) else "-" for v in vals]
+            for k, vals in pct.items()]
+    notes = [f"{len(res.samples)} samples, seed {res.seed}; FE on {res.fe_samples}. "
+             + "; ".join(f"{k}: {v}" for k, v in res.fits.items()),
+             f"Yield (every margin met): {100 * res.yield_fraction:.1f} % "
+             f"({int(res.passed.sum())} of {res.passed.size}). Run time {res.seconds:.1f} s."]
+    render_table(f"{res.case.name}: tolerance study", ["figure"] + [f"P{q:g}" for q in PERCENTILES],
+                 rows, out, notes=notes)
+    out.write(CAUTION + "\n")
+
+
+def save_histograms(res, path: str | Path) -> Path:
+    """Histograms of the three figures (Agg backend; the figure is closed)."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    labels = _labels(res)
+    fig, axes = plt.subplots(1, 3, figsize=(12, 3.8))
+    try:
+        for ax, (k, v) in zip(axes, res.values.items()):
+            scale, unit = {"inductance": (1e3, "mH"), "peak_B": (1.0, "T"),
+                           "saturation_current": (1.0, "A")}[k]
+            x = v[v == v] * scale
+            ax.hist(x, bins=max(5, min(30, int(len(x) ** 0.5) + 1)), color="#264653", alpha=0.85)
+            ax.set_xlabel(f"{labels[k]} ({unit})", fontsize=8)
+            ax.grid(alpha=0.3)
+        axes[0].set_ylabel("samples")
+        fig.suptitle(f"{res.case.name}: {len(res.samples)} samples, seed {res.seed}, "
+                     f"yield {100 * res.yield_fraction:.1f} %")
+        fig.tight_layout()
+        fig.savefig(path, dpi=110)
+    finally:
+        plt.close(fig)
+    return path
+
+
+def run(args: argparse.Namespace) -> int:
+    if args.min_yield is not None and not 0.0 <= args.min_yield <= 100.0:
+        raise CaseError("--min-yield", args.min_yield, "must lie in [0, 100]")
+    if args.samples < 1:
+        raise CaseError("--samples", args.samples, "must be at least 1")
+    if args.workers is not None and args.workers < 1:
+        raise CaseError("--workers", args.workers, "must be at least 1")
+    from ..sweep import case_source
+    from ..tolerance import run_tolerance
+
+    src, case = case_source(args.case)
+    with Progress("tolerance") as bar:
+        res = run_tolerance(src, samples=args.samples, seed=args.seed, fe_samples=args.fe_samples,
+                            workers=args.workers, scheduler=args.scheduler, on_done=bar)
+    print_tolerance(res, sys.stdout)
+    if args.json:
+        write_json(args.json, {
+            "case": {"name": case.name, "file": case.source, "sha256": case.sha256},
+            "samples": args.samples, "seed": args.seed, "fe_samples": res.fe_samples,
+            "percentiles": {"q": list(PERCENTILES), **res.percentiles()},
+            "yield": res.yield_fraction, "fits": res.fits,
+            "values": {k: v.tolist() for k, v in res.values.items()},
+            "passed": res.passed.tolist(),
+            "settings": [s.settings for s in res.samples], "caution": CAUTION})
+    if args.plot:
+        sys.stdout.write(f"figure: {save_histograms(res, args.plot)}\n")
+    # The nominal design's own margins are judged by check/verify; a tolerance
+    # study fails (exit 1) only against a stated yield.
+    if args.min_yield is not None and 100.0 * res.yield_fraction < args.min_yield:
+        sys.stdout.write(f"FAIL: yield {100 * res.yield_fraction:.1f} % is below "
+                         f"{args.min_yield:g} %\n")
+        return 1
+    return 0

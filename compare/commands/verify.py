@@ -1,0 +1,95 @@
+"""``magcheck verify PATH...``: every stored design against its limits, margins and baseline."""
+
+from __future__ import annotations
+
+import argparse
+import math
+import sys
+
+from ..errors import CaseError
+from ..executor import Progress
+from ..output import CAUTION, atomic_write_text, render_table, write_json
+from ..units import format_si
+from ..verify import VerifyResult, item_text, junit_xml, run_verify
+
+HELP = ("run every case (and the sweeps it declares) under the given files or folders and "
+        "print a pass/fail table of every limit and margin")
+
+
+def add_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("paths", nargs="+", metavar="PATH", help="case files or folders of them")
+    p.add_argument("--junit", metavar="FILE", help="write JUnit XML (one test case per margin)")
+    p.add_argument("--baseline", metavar="FILE",
+                   help="stored results (e.g. cases/baseline.json): flag drift beyond tolerance")
+    p.add_argument("--json", metavar="FILE", help="write every item as JSON")
+    p.add_argument("--no-error-estimate", action="store_true",
+                   help="one FE mesh per case (faster; no FE uncertainty, so no baseline)")
+    p.add_argument("--workers", type=int, help="worker processes (default: one per core)")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="dask.distributed scheduler (default $DASK_SCHEDULER_ADDRESS)")
+
+
+def _value(v: float, unit: str) -> str:
+    if v is None or not math.isfinite(v):
+        return "-" if v is None or math.isnan(v) else str(v)
+    if unit == "%":
+        return f"{v:+.1f} %"
+    return format_si(v, unit) if unit else f"{v:.4g}"
+
+
+def print_verify(res: VerifyResult, out) -> None:
+    rows = []
+    for o in res.outcomes:
+        for it in o.items:
+            if it.limit is None:
+                limit = "-"
+            elif it.limit_kind == "abs":
+                limit = f"+-{it.limit:g} %" if it.unit == "%" else _value(it.limit, it.unit)
+            else:
+                limit = ("<= " if it.limit_kind == "max" else ">= ") + _value(it.limit, it.unit)
+            margin = "-" if not math.isfinite(it.margin_pct) else f"{it.margin_pct:+.1f} %"
+            rows.append([o.name, it.label, _value(it.value, it.unit), limit, margin, it.verdict])
+        if o.status != "ok":
+            rows.append([o.name, "bad input" if o.status == "input" else "solve", "-", "-", "-",
+                         "ERROR"])
+    notes = [f"{len(res.outcomes)} case(s) in {res.seconds:.1f} s. Agreement limits: hand vs "
+             "FE difference in % of the FE value ('margin left' in points of %); design "
+             "margins: margin left in % of the limit."]
+    for o in res.outcomes:
+        if o.status != "ok":
+            notes.append(f"{o.file}: {o.error}")
+        for it in o.items:
+            if it.failed:
+                notes.append(f"FAIL {o.name}: {item_text(it)}")
+    render_table("magcheck verify", ["case", "check", "value", "limit", "margin left", "verdict"],
+                 rows, out, notes=notes)
+    code = res.exit_code
+    out.write({0: "PASS: every limit and margin met", 1: "FAIL: a limit or margin is not met",
+               2: "ERROR: bad input", 3: "ERROR: a solve failed"}[code] + "\n")
+    out.write(CAUTION + "\n")
+
+
+def run(args: argparse.Namespace) -> int:
+    if args.workers is not None and args.workers < 1:
+        raise CaseError("--workers", args.workers, "must be at least 1")
+    if args.baseline and args.no_error_estimate:
+        raise CaseError("--no-error-estimate", True, "the baseline stores values of the checked "
+                                                     "(two-mesh) FE; drop one of the options")
+    with Progress("verify") as bar:
+        res = run_verify(args.paths, baseline=args.baseline, workers=args.workers,
+                         scheduler=args.scheduler, estimate_error=not args.no_error_estimate,
+                         on_done=bar)
+    print_verify(res, sys.stdout)
+    for o in res.outcomes:
+        if o.status != "ok":
+            print(f"magcheck: {'bad input' if o.status == 'input' else 'solve failed'}: "
+                  f"{o.error}", file=sys.stderr)
+    if args.junit:
+        atomic_write_text(args.junit, junit_xml(res))
+    if args.json:
+        write_json(args.json, {
+            "cases": [{"file": o.file, "name": o.name, "status": o.status, "error": o.error,
+                       "seconds": o.seconds, "items": [i.to_dict() for i in o.items],
+                       "saturation_current": list(o.saturation)} for o in res.outcomes],
+            "exit_code": res.exit_code, "caution": CAUTION})
+    return res.exit_code

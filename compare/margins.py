@@ -1,0 +1,267 @@
+"""Design margins of a case: values against the limits of its ``[margins]`` section.
+
+A margin compares one design figure with a limit the engineer states in the
+case file and says how much room is left, in percent of the limit:
+
+- a maximum (peak core B, current density, inductance at most):
+  margin = (limit - value) / limit;
+- a minimum (inductance at least, saturation current at least):
+  margin = (value - limit) / limit.
+
+A negative margin is a failed margin. The figures themselves:
+
+- current density J = N |I| / (k_cu * t * l) in the conductor (A/m^2), with
+  t * l the coil cross-section beside the limb (coil build x coil length) and
+  k_cu the copper fill of the case's ``margins.copper_fill`` (default 1: J over
+  the whole coil cross-section). Definition, no source needed.
+- saturation current at a drop d: the current at which the inductance has
+  fallen to (1 - d) times its low-current value (the way makers quote it;
+  common practice, no source, REFERENCES.md section 6). The low-current value
+  is the inductance at I = 0 (the initial inductance) when available.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import logging
+import math
+from dataclasses import dataclass
+from typing import Callable, Sequence
+
+import numpy as np
+
+from .case import Case
+from .hand import HandResult, run_hand
+
+__all__ = ["MarginResult", "current_density", "with_current", "inductance_of",
+           "saturation_from_curve", "hand_saturation_current", "DEFAULT_DROPS"]
+
+log = logging.getLogger(__name__)
+
+DEFAULT_DROPS = (0.10, 0.20, 0.30)
+"""Inductance drops at which the saturation current is reported (fractions)."""
+
+
+@dataclass(frozen=True)
+class MarginResult:
+    """One design margin evaluated.
+
+    Attributes
+    ----------
+    key : str
+        Stable identifier, e.g. ``"saturation_current@20%"``.
+    label, unit : str
+        Human label and SI unit of value and limit.
+    kind : str
+        ``"max"`` (value must not exceed the limit) or ``"min"``.
+    limit, value : float
+        SI; value is NaN when it could not be evaluated (then verdict "n/a").
+    hand : float
+        The hand calculation's value of the same figure (NaN if none).
+    basis : str
+        What the value comes from: ``"FE"``, ``"hand"`` or ``"case"``.
+    note : str
+        Why the value is what it is (e.g. "not reached in the swept range").
+    """
+
+    key: str
+    label: str
+    unit: str
+    kind: str
+    limit: float
+    value: float
+    hand: float = math.nan
+    basis: str = "FE"
+    note: str = ""
+
+    @property
+    def margin_pct(self) -> float:
+        """Margin left, percent of the limit (negative: failed)."""
+        if math.isnan(self.value) or self.limit == 0:
+            return math.nan
+        if self.kind == "max":
+            return 100.0 * (self.limit - self.value) / abs(self.limit)
+        return 100.0 * (self.value - self.limit) / abs(self.limit)
+
+    @property
+    def passed(self) -> bool | None:
+        """True/False, or None when the value is unknown (NaN)."""
+        if math.isnan(self.value):
+            return None
+        return self.value <= self.limit if self.kind == "max" else self.value >= self.limit
+
+    @property
+    def verdict(self) -> str:
+        p = self.passed
+        return "n/a" if p is None else ("pass" if p else "FAIL")
+
+    def to_dict(self) -> dict:
+        return {"key": self.key, "label": self.label, "unit": self.unit, "kind": self.kind,
+                "limit": self.limit, "value": self.value, "hand": self.hand,
+                "basis": self.basis, "margin_pct": self.margin_pct, "verdict": self.verdict,
+                "note": self.note}
+
+
+# --------------------------------------------------------------------------- figures
+def current_density(case: Case) -> float:
+    """Winding current density J = N |I| / (k_cu t l) (A/m^2).
+
+    t = coil build, l = coil length (m), k_cu = ``case.margins.copper_fill``.
+    """
+    w = case.winding
+    area = case.margins.copper_fill * w.thickness * w.length
+    return abs(w.turns * w.current) / area
+
+
+def with_current(case: Case, current: float) -> Case:
+    """The case with another winding current (A); everything else unchanged."""
+    return dataclasses.replace(case, winding=dataclasses.replace(case.winding,
+                                                                  current=float(current)))
+
+
+def inductance_of(values: dict[str, float], kind: str) -> float:
+    """The secant (``"secant"``) or incremental (``"incremental"``) inductance (H)."""
+    return values["inductance" if kind == "secant" else "incremental_inductance"]
+
+
+def saturation_from_curve(current: Sequence[float], inductance: Sequence[float],
+                          drops: Sequence[float] = DEFAULT_DROPS) -> dict[float, float]:
+    """Saturation currents read off a sampled L(I) curve.
+
+    Parameters
+    ----------
+    current, inductance : sequences of float, shape (n,)
+        Sampled curve (A, H), any order; |I| is used.
+    drops : fractions d in (0, 1)
+
+    Returns
+    -------
+    dict drop -> current (A)
+        The first |I| at which L falls below (1 - d) L0, with L0 the value at
+        the smallest |I|, by linear interpolation between the two samples that
+        bracket the crossing; NaN when the curve never falls that far.
+    """
+    i = np.abs(np.asarray(current, dtype=float))
+    lv = np.asarray(inductance, dtype=float)
+    ok = np.isfinite(lv)
+    i, lv = i[ok], lv[ok]
+    order = np.argsort(i, kind="stable")
+    i, lv = i[order], lv[order]
+    out: dict[float, float] = {}
+    if i.size < 2:
+        return {d: math.nan for d in drops}
+    l0 = lv[0]
+    for d in drops:
+        target = (1.0 - d) * l0
+        below = np.nonzero(lv < target)[0]
+        if below.size == 0 or below[0] == 0:
+            out[d] = math.nan
+            continue
+        k = int(below[0])
+        # Linear interpolation between samples k-1 (above) and k (below).
+        f = (lv[k - 1] - target) / (lv[k - 1] - lv[k])
+        out[d] = float(i[k - 1] + f * (i[k] - i[k - 1]))
+    return out
+
+
+def hand_saturation_current(case: Case, drop: float, *, kind: str = "incremental",
+                            planar: bool = False, rtol: float = 1e-6,
+                            hand: Callable[[Case], HandResult] | None = None) -> float:
+    """Saturation current of the hand model by root-finding on its L(I).
+
+    Solves L(I) = (1 - drop) L(0) for I > 0 with Brent's method, the bracket
+    grown by doubling from the case's current. L(0) is the initial inductance
+    of the magnetic circuit (its incremental value at zero current).
+
+    Returns
+    -------
+    float
+        Current (A), NaN when L never falls that far below 2^30 times the
+        case's current (a core that does not saturate, e.g. a linear one).
+    """
+    from scipy.optimize import brentq  # here: scipy.optimize is slow to import
+
+    run = hand or (lambda c: run_hand(c, planar=planar))
+
+    def L(current: float) -> float:
+        return inductance_of(run(with_current(case, current)).values(), kind)
+
+    l0 = run(with_current(case, 0.0)).incremental_inductance
+    target = (1.0 - drop) * l0
+
+    def f(current: float) -> float:
+        return L(current) - target
+
+    lo = 0.0
+    hi = max(abs(case.winding.current), 1e-3)
+    for _ in range(30):
+        if f(hi) < 0:
+            break
+        lo, hi = hi, 2.0 * hi
+    else:
+        return math.nan
+    # Brent's method on the bracket [lo, hi] where f changes sign.
+    return float(brentq(f, lo, hi, rtol=rtol, xtol=1e-9 * hi))
+
+
+# --------------------------------------------------------------------------- evaluation
+def _label_current(i: float) -> str:
+    return f"{i:g} A"
+
+
+def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: float = math.nan,
+                   fe_at: Callable[[float], float] | None = None,
+                   hand_at: Callable[[float, str], float] | None = None,
+                   saturation: Callable[[float, str], tuple[float, float, str, str]] | None = None,
+                   ) -> list[MarginResult]:
+    """Every margin of ``case.margins`` evaluated.
+
+    Parameters
+    ----------
+    fe_peak_B, hand_peak_B : peak core B (T) at the case's current.
+    fe_at : callable (current A, kind) -> FE inductance (H), optional
+        The field model's inductance at a stated current (NaN if unknown).
+    hand_at : callable (current A, kind) -> hand inductance (H), optional
+        Default: the 3D hand calculation at that current.
+    saturation : callable (drop, kind) -> (value A, hand value A, basis, note), optional
+        Default: the 3D hand model's root-find (:func:`hand_saturation_current`),
+        basis "hand".
+    """
+    m = case.margins
+    out: list[MarginResult] = []
+    if m.peak_B is not None:
+        out.append(MarginResult("peak_B", "peak core B", "T", "max", m.peak_B, fe_peak_B,
+                                hand=hand_peak_B, basis="FE"))
+    if m.current_density is not None:
+        j = current_density(case)
+        where = "conductor" if m.copper_fill < 1 else "coil cross-section"
+        out.append(MarginResult("current_density", f"current density ({where})", "A/m^2",
+                                "max", m.current_density, j, hand=j, basis="case"))
+
+    def hand_default(current: float, kind: str) -> float:
+        return inductance_of(run_hand(with_current(case, current)).values(), kind)
+
+    hand_at = hand_at or hand_default
+    for lim in m.inductance:
+        h = hand_at(lim.at, lim.kind)
+        f = fe_at(lim.at, lim.kind) if fe_at else math.nan
+        value, basis = (f, "FE") if math.isfinite(f) else (h, "hand")
+        label = f"inductance ({lim.kind}) at {_label_current(lim.at)}"
+        for kind, limit in (("min", lim.min), ("max", lim.max)):
+            if limit is not None:
+                out.append(MarginResult(f"inductance_{lim.kind}@{lim.at:g}A:{kind}",
+                                        f"{label}, {kind}", "H", kind, limit, value, hand=h,
+                                        basis=basis))
+    for lim in m.saturation:
+        if saturation is not None:
+            value, h, basis, note = saturation(lim.drop, lim.kind)
+        else:
+            value = h = hand_saturation_current(case, lim.drop, kind=lim.kind)
+            basis, note = "hand", ""
+            if not math.isfinite(value):
+                value = h = math.inf
+                note = "the hand model's inductance never falls that far"
+        out.append(MarginResult(f"saturation_current@{100 * lim.drop:g}%",
+                                f"saturation current ({lim.kind} L -{100 * lim.drop:g} %)",
+                                "A", "min", lim.min, value, hand=h, basis=basis, note=note))
+    return out

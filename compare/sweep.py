@@ -1,0 +1,750 @@
+"""Sweeps: a case solved over a list or grid of values of its numeric keys.
+
+A sweep varies case-file keys (``winding.current``, ``gaps[0].length``,
+``core.limb_width``, ...) given as ``KEY=SPEC``:
+
+- a range ``start:stop:count`` (``winding.current=0:20A:41``), or
+- a list ``v1,v2,...`` (``gaps[0].length=0.5mm,0.8mm,1.2mm``).
+
+A unit written on one item applies to the items written without one; plain
+numbers are SI. Several specs make a grid (the last one varies fastest).
+Every point is re-validated through :func:`compare.case.case_from_dict`, so
+a swept value is checked exactly like case-file input. Two extra keys scale
+the core's B-H curve (factor, nominal 1; see :func:`scale_law`):
+``materials.core.scale_H`` and ``materials.core.scale_B``.
+
+Execution. Points that share a mesh (same geometry; only current or
+material change) form a chain; a chain is cut into blocks of at most
+``block`` consecutive points. A block is one task: it meshes once and solves
+its points in order, each Newton solve starting from a prediction made from
+the previous point (:data:`PREDICTORS`). The blocks depend on the points
+alone, never on the number of workers or the executor, so neither changes
+the results (beyond the linear solver's rounding).
+"""
+
+from __future__ import annotations
+
+import copy
+import dataclasses
+import hashlib
+import itertools
+import logging
+import math
+import re
+import time
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Callable, Sequence
+
+import numpy as np
+from scipy.constants import mu_0
+
+from analytic.bh import BHCurve, BHDataError, LinearMaterial
+
+from .case import Case, MaterialSpec, case_from_dict
+from .errors import CaseError, RunError
+from .hand import HAND_KEYS, run_hand
+from .margins import MarginResult, saturation_from_curve
+from .units import UnitError, parse_quantity
+
+__all__ = ["VarySpec", "parse_vary", "parse_key", "key_dimension", "resolve_vary",
+           "scale_law", "CaseSource", "case_source", "make_case", "PointResult", "SweepResult",
+           "plan_sweep", "run_sweep", "run_block", "BlockTask", "tangent_dA_dI", "PREDICTORS",
+           "DEFAULT_BLOCK", "CURRENT_KEY"]
+
+log = logging.getLogger(__name__)
+
+CURRENT_KEY = "winding.current"
+SCALE_KEYS = ("materials.core.scale_H", "materials.core.scale_B")
+PREDICTORS = ("none", "previous", "secant", "tangent")
+"""Newton start for the next point of a block: cold (A = 0); the previous
+solution; linear extrapolation from the last two; or the previous solution
+plus (I_next - I) dA/dI from a tangent solve (only when nothing but the
+current changes; otherwise the previous solution)."""
+
+DEFAULT_BLOCK = 11
+"""Points per task. Fixed (not derived from the worker count) so that results
+do not depend on it; 41 points make 4 tasks, enough for 2-4 workers."""
+
+_KEY_RE = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)(?:\[(\d+)\])?$")
+_ITEM_RE = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+
+# --------------------------------------------------------------------------- keys
+def parse_key(key: str) -> tuple[str | int, ...]:
+    """``"gaps[0].length"`` -> ``("gaps", 0, "length")``.
+
+    Raises
+    ------
+    CaseError
+        When the key path cannot be read.
+    """
+    out: list[str | int] = []
+    if not key:
+        raise CaseError("key", key, "empty key path")
+    for part in key.split("."):
+        m = _KEY_RE.match(part)
+        if not m:
+            raise CaseError("key", key, f"cannot read key path part '{part}' "
+                                        "(write e.g. gaps[0].length)")
+        out.append(m.group(1))
+        if m.group(2) is not None:
+            out.append(int(m.group(2)))
+    return tuple(out)
+
+
+_NAMES = {
+    "core": ("outer_width", "outer_height", "limb_width", "depth", "centre_width",
+             "yoke_width", "window_width", "window_height", "left", "right", "top", "bottom"),
+    "gaps": ("length", "position"),
+    "winding": ("current", "turns", "thickness", "length", "fill"),
+}
+
+
+def key_dimension(key: str) -> str:
+    """The dimension (compare.units) of a variable case key, or ``"integer"``.
+
+    Only design keys may vary: [core] dimensions, [[gaps]] length and
+    position, [winding] current, turns, thickness, length and fill, and the
+    core material (``materials.core.mu_r``, ``scale_H``, ``scale_B``).
+    """
+    import difflib
+
+    parts = [p for p in parse_key(key) if isinstance(p, str)]
+    top, last = parts[0], parts[-1]
+    if key in SCALE_KEYS or key == "materials.core.mu_r":
+        return "dimensionless"
+    if top not in _NAMES:
+        raise CaseError("key", key, "cannot vary: only keys of [core], [[gaps]], [winding], "
+                                    "materials.core.mu_r and materials.core.scale_H/scale_B can")
+    if last not in _NAMES[top]:
+        close = difflib.get_close_matches(last, _NAMES[top], n=1)
+        hint = f"; did you mean '{close[0]}'?" if close else ""
+        raise CaseError("key", key, f"is not a numeric key of [{top}] that can vary "
+                                    f"(known: {', '.join(_NAMES[top])}){hint}")
+    if last == "current":
+        return "current"
+    if last == "turns":
+        return "integer"
+    if last == "fill":
+        return "dimensionless"
+    return "length"
+
+
+def _set_key(data: dict, path: tuple[str | int, ...], value: Any, key: str) -> None:
+    node: Any = data
+    for i, part in enumerate(path[:-1]):
+        try:
+            node = node[part]
+        except (KeyError, IndexError, TypeError):
+            raise CaseError("key", key, f"'{'.'.join(map(str, path[:i + 1]))}' is not in the "
+                                        "case file") from None
+    last = path[-1]
+    if isinstance(node, list):
+        if not isinstance(last, int) or last >= len(node):
+            raise CaseError("key", key, "index out of range in the case file")
+        node[last] = value
+        return
+    if not isinstance(node, dict):
+        raise CaseError("key", key, "its parent is not a table")
+    if isinstance(node.get(last), dict):
+        raise CaseError("key", key, f"is a table; vary one of its keys "
+                                    f"({', '.join(sorted(node[last]))})")
+    node[last] = value
+
+
+# --------------------------------------------------------------------------- specs
+@dataclass(frozen=True)
+class VarySpec:
+    """One ``KEY=SPEC`` as written: the key and its values in SI."""
+
+    spec: str
+    key: str
+    values: tuple[float, ...]
+
+
+def _vary_error(spec: str, where: str, reason: str) -> CaseError:
+    return CaseError(where, spec, reason)
+
+
+def parse_vary(spec: str, *, where: str = "--vary") -> VarySpec:
+    """Read ``KEY=SPEC`` into a :class:`VarySpec` (values in SI).
+
+    Raises
+    ------
+    CaseError
+        Naming ``where`` (e.g. ``--vary``) and the whole spec.
+    """
+    key, sep, rhs = spec.partition("=")
+    key, rhs = key.strip(), rhs.strip()
+    if not sep or not key or not rhs:
+        raise _vary_error(spec, where, "write KEY=SPEC, e.g. winding.current=0:20A:41 or "
+                                       "gaps[0].length=0.5mm,0.8mm")
+    try:
+        dim = key_dimension(key)
+    except CaseError as exc:
+        raise _vary_error(spec, where, f"key '{key}' {exc.reason}") from None
+    try:
+        values = resolve_vary(rhs, dim)
+    except (UnitError, ValueError) as exc:
+        raise _vary_error(spec, where, str(exc)) from None
+    return VarySpec(spec, key, values)
+
+
+def _items(text: str) -> list[tuple[str, str]]:
+    out = []
+    for tok in text.split(","):
+        m = _ITEM_RE.match(tok)
+        if not m:
+            raise ValueError(f"cannot read '{tok.strip()}' as a number with an optional unit")
+        out.append((m.group(1), m.group(2)))
+    return out
+
+
+def _to_si(items: list[tuple[str, str]], dim: str) -> list[float]:
+    units = {u for _, u in items if u}
+    if len(units) > 1 and any(not u for _, u in items):
+        raise ValueError(f"items without a unit but several units given ({', '.join(sorted(units))})")
+    default = next(iter(units)) if len(units) == 1 else ""
+    pdim = "dimensionless" if dim == "integer" else dim
+    out = []
+    for num, unit in items:
+        v = parse_quantity(f"{num} {unit or default}".strip(), pdim)
+        if not math.isfinite(v):
+            raise ValueError(f"'{num}' is not finite")
+        if dim == "integer":
+            if v != int(v):
+                raise ValueError(f"'{num}' is not a whole number")
+            v = int(v)
+        out.append(v)
+    return out
+
+
+def resolve_vary(text: str, dim: str) -> tuple[float, ...]:
+    """Values of a range ``a:b:n`` or list ``v1,v2,...`` in SI (see module doc)."""
+    if ":" in text:
+        parts = text.split(":")
+        if len(parts) != 3:
+            raise ValueError("a range is start:stop:count")
+        try:
+            n = int(parts[2])
+        except ValueError:
+            raise ValueError(f"count '{parts[2]}' is not a whole number") from None
+        if n < 1 or (n == 1 and parts[0] != parts[1]):
+            raise ValueError("count must be at least 2 (or 1 when start = stop)")
+        if n > 100000:
+            raise ValueError(f"count {n} is too large")
+        a, b = _to_si(_items(parts[0]) + _items(parts[1]), "dimensionless" if dim == "integer"
+                      else dim)
+        vals = np.linspace(a, b, n).tolist() if n > 1 else [a]
+        if dim == "integer":
+            if any(v != round(v) for v in vals):
+                raise ValueError("the range does not give whole numbers")
+            vals = [int(round(v)) for v in vals]
+        return tuple(vals)
+    vals = _to_si(_items(text), dim)
+    if not vals:
+        raise ValueError("no values")
+    return tuple(vals)
+
+
+# --------------------------------------------------------------------------- materials
+def scale_law(law: Any, k_h: float = 1.0, k_b: float = 1.0) -> Any:
+    """A B-H law scaled in H and/or B.
+
+    Scaling acts on the polarisation J(H) = B - mu0 H, so the result is a
+    valid curve (slope >= mu0, same mu0 tail) for any factors > 0:
+    J_new(H) = k_b J(H / k_h), B_new = mu0 H + J_new. k_h > 1: a magnetically
+    harder material (needs k_h times the H for the same polarisation);
+    k_b > 1: k_b times the polarisation (saturation) at the same H. A linear
+    law becomes mu_r_new = 1 + k_b (mu_r - 1) / k_h.
+
+    Raises
+    ------
+    BHDataError
+        When the scaled table is not a valid curve.
+    """
+    if k_h == 1.0 and k_b == 1.0:
+        return law
+    if isinstance(law, LinearMaterial):
+        return LinearMaterial(1.0 + k_b * (law.mu_r - 1.0) / k_h,
+                              name=f"{law.name} scaled")
+    h = np.asarray(law.h_points, dtype=float)
+    b = np.asarray(law.b_points, dtype=float)
+    j = b - mu_0 * h
+    h_new = k_h * h
+    return BHCurve.from_points(h_new, mu_0 * h_new + k_b * j,
+                               name=f"{law.name} (H x {k_h:g}, J x {k_b:g})",
+                               source=law.source)
+
+
+# --------------------------------------------------------------------------- cases
+@dataclass(frozen=True)
+class CaseSource:
+    """A case file's parsed TOML, kept to derive varied cases from."""
+
+    data: dict = field(repr=False, compare=False)
+    base_dir: Path | None
+    source: str
+    sha256: str
+
+
+def case_source(path: str | Path) -> tuple[CaseSource, Case]:
+    """Read a case file both as raw TOML (to vary) and validated."""
+    from .case import load_case
+
+    case = load_case(path)  # all errors of a bad file come from here
+    path = Path(path)
+    raw = path.read_bytes()
+    data = tomllib.loads(raw.decode("utf-8"))
+    return CaseSource(data, path.parent, str(path), hashlib.sha256(raw).hexdigest()), case
+
+
+def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str, str] | None = None) -> Case:
+    """The case of ``src`` with ``settings`` (key -> SI value) applied, validated.
+
+    Raises
+    ------
+    CaseError
+        Naming the ``--vary`` spec (when ``spec_of`` maps the key to it) and
+        the offending value.
+    """
+    data = copy.deepcopy(src.data)
+    scales = {k: v for k, v in settings.items() if k in SCALE_KEYS}
+    for key, value in settings.items():
+        if key in SCALE_KEYS:
+            continue
+        try:
+            _set_key(data, parse_key(key), value, key)
+        except CaseError as exc:
+            where = spec_of.get(key, key) if spec_of else key
+            raise CaseError(where, value, exc.reason) from None
+    try:
+        case = case_from_dict(data, base_dir=src.base_dir, source=src.source, sha256=src.sha256)
+    except CaseError as exc:
+        if spec_of:
+            point = ", ".join(f"{k} = {v:g}" for k, v in settings.items())
+            raise CaseError(exc.key, exc.value, f"{exc.reason} (at the point {point})") from None
+        raise
+    for k, v in scales.items():
+        if v <= 0:
+            where = spec_of.get(k, k) if spec_of else k
+            raise CaseError(where, v, "a B-H scale factor must be positive")
+    if scales:
+        spec = case.material("core")
+        try:
+            law = scale_law(spec.law, scales.get(SCALE_KEYS[0], 1.0), scales.get(SCALE_KEYS[1], 1.0))
+        except BHDataError as exc:
+            raise CaseError(SCALE_KEYS[0], scales, str(exc)) from None
+        new = MaterialSpec(spec.region, spec.kind, f"{spec.description}, scaled", law)
+        case = dataclasses.replace(case, materials=tuple(
+            new if m.region == "core" else m for m in case.materials))
+    return case
+
+
+# --------------------------------------------------------------------------- results
+@dataclass(frozen=True)
+class PointResult:
+    """One sweep point: its settings and both models' values (SI).
+
+    hand, hand_planar : the 3D hand calculation and its planar-consistent form.
+    hand_peak_B : highest segment B of the planar hand model's core (T).
+    fe : FE values keyed like the hand (empty when the FE was not run).
+    fe_peak_B : the FE's peak core B (|B| exceeded on 0.5 % of the core area).
+    start : Newton start used ("cold", "previous", "secant", "tangent").
+    first_residual : Newton's relative residual at its start (1 for a cold start):
+        how good the prediction was.
+    """
+
+    index: int
+    settings: dict[str, float]
+    current: float
+    hand: dict[str, float]
+    hand_planar: dict[str, float]
+    hand_peak_B: float
+    fe: dict[str, float] = field(default_factory=dict)
+    fe_peak_B: float = math.nan
+    iterations: int = 0
+    seconds: float = 0.0
+    start: str = "cold"
+    converged: bool = True
+    message: str = ""
+    ndofs: int = 0
+    depth_factor: float = 1.0
+    first_residual: float = math.nan
+
+    def to_dict(self) -> dict:
+        return dataclasses.asdict(self)
+
+
+@dataclass(frozen=True)
+class SweepResult:
+    """All points of a sweep, in grid order."""
+
+    case: Case
+    specs: tuple[VarySpec, ...]
+    points: tuple[PointResult, ...]
+    with_fe: bool
+    predictor: str
+    seconds: float
+    workers: int
+    executor: str
+
+    @property
+    def converged(self) -> bool:
+        return all(p.converged for p in self.points)
+
+    @property
+    def keys(self) -> tuple[str, ...]:
+        return tuple(s.key for s in self.specs)
+
+
+# --------------------------------------------------------------------------- work
+@dataclass(frozen=True)
+class BlockTask:
+    """Consecutive points of one chain (same mesh), solved in order in one process."""
+
+    indices: tuple[int, ...]
+    settings: tuple[dict, ...]
+    cases: tuple[Case, ...]
+    with_fe: bool = True
+    predictor: str = "tangent"
+
+
+def tangent_dA_dI(sol: Any, turns: int, plus: str = "coil+", minus: str = "coil-",
+                  rtol: float = 1e-5) -> np.ndarray:
+    """dA/dI at a converged solution by one tangent solve, shape (ndofs,), Wb/(m A).
+
+    K(A*) dA/dI = db/dI, with the consistent Newton tangent K at A* and the
+    load of a unit winding current: J = +-N / area on the two coil sides (the
+    same linearisation fem2d.post.incremental_flux_linkage uses for d lambda/dI).
+    ``rtol`` of an iterative linear solve: the prediction's own error is
+    second order in the current step (~1e-3 relative for a 0.5 A step through
+    the knee), so 1e-5 costs nothing in accuracy and half the CG iterations.
+    """
+    from threadpoolctl import threadpool_limits
+
+    asm = sol.assembler
+    db_loc = np.zeros_like(asm.phi_int)
+    for region, sign in ((plus, 1.0), (minus, -1.0)):
+        idx = sol.mesh.elements_of(region)
+        area = float(np.sum(asm.dx[idx]))
+        db_loc[:, idx] += sign * turns / area * asm.phi_int[:, idx]
+    db = np.bincount(asm.dofs.ravel(), weights=db_loc.ravel(), minlength=asm.ndofs)
+    with threadpool_limits(limits=1):
+        g = asm.grad(sol.A)
+        nu, dnu = asm.coefficients(g[0] ** 2 + g[1] ** 2)
+        K = asm.tangent(g, nu, None if asm.linear else dnu)
+        solver = sol.linear_solver(K)
+        dA = np.zeros(asm.ndofs)
+        try:
+            dA[asm.I] = solver(db[asm.I], rtol=rtol)
+        except TypeError:  # a direct solver takes no rtol
+            dA[asm.I] = solver(db[asm.I])
+    return dA
+
+
+def _block_linear_solver() -> Any:
+    """A preconditioner-reusing AMG-CG factory from fem2d, or None (its default)."""
+    try:
+        from fem2d.linsolve import AmgCgReuse
+    except ImportError:  # an fem2d without it: each solve builds its own
+        return None
+    return AmgCgReuse()
+
+
+def _hand_peak(hand_res) -> float:
+    return max((s["B"] for s in hand_res.segments if s["kind"] == "core"), default=math.nan)
+
+
+def _only_current_changes(a: dict, b: dict) -> bool:
+    return all(a.get(k) == b.get(k) for k in set(a) | set(b) if k != CURRENT_KEY)
+
+
+def run_block(task: BlockTask) -> tuple[PointResult, ...]:
+    """Solve the points of one block in order (runs in a worker process).
+
+    BLAS is held to one thread per process during each solve and its
+    post-processing (scoped: threadpoolctl restores it): with one worker per
+    core, more threads only compete; and the AMG setup of the incremental-
+    inductance solve ran ~10x slower with the default thread pool here.
+
+    Never raises for a failed solve: the point comes back with
+    ``converged=False`` and the message, and the next point starts cold.
+    """
+    from threadpoolctl import threadpool_limits
+
+    from .check import depth_factor
+    from .fe import COIL_MINUS, COIL_PLUS, mesh_case, solve_case
+
+    mesh = None
+    # One AMG-CG factory for the whole block: the preconditioner built for
+    # one tangent serves the next points too (same mesh, same sparsity) until
+    # CG slows down; the CG operator is always the current tangent, so the
+    # accuracy of every solve is unchanged.
+    linear = _block_linear_solver() if task.with_fe else None
+    history: list[tuple[dict, float, np.ndarray]] = []  # (settings, I, A) of solved points
+    slope: np.ndarray | None = None
+    hand_start: tuple = (None, None)
+    out = []
+    n = len(task.cases)
+    for j, (idx, settings, case) in enumerate(zip(task.indices, task.settings, task.cases)):
+        current = case.winding.current
+        try:
+            # The magnetic circuit starts from the previous point's branch
+            # fluxes (its Newton converges to rtol 1e-10 from any start).
+            h3 = run_hand(case, flux0=hand_start[0])
+            hp = run_hand(case, planar=True, flux0=hand_start[1])
+        except RunError as exc:
+            out.append(PointResult(idx, settings, current, {}, {}, math.nan, converged=False,
+                                   message=str(exc)))
+            history, slope, hand_start = [], None, (None, None)
+            continue
+        hand_start = tuple({b.name: b.flux for b in h.network.branches} for h in (h3, hp))
+        base = dict(index=idx, settings=settings, current=current, hand=h3.values(),
+                    hand_planar=hp.values(), hand_peak_B=_hand_peak(hp),
+                    depth_factor=depth_factor(case))
+        if not task.with_fe:
+            out.append(PointResult(**base))
+            continue
+        t0 = time.perf_counter()
+        A0, start = None, "cold"
+        if history and task.predictor != "none":
+            s_prev, i_prev, a_prev = history[-1]
+            A0, start = a_prev, "previous"
+            same = _only_current_changes(s_prev, settings)
+            if task.predictor == "tangent" and same and slope is not None:
+                A0, start = a_prev + (current - i_prev) * slope, "tangent"
+            elif (task.predictor == "secant" and same and len(history) >= 2
+                  and _only_current_changes(history[-2][0], settings)
+                  and history[-2][1] != i_prev):
+                s2, i2, a2 = history[-2]
+                A0 = a_prev + (current - i_prev) / (i_prev - i2) * (a_prev - a2)
+                start = "secant"
+        try:
+            if mesh is None:
+                mesh = mesh_case(case)
+            try:
+                with threadpool_limits(limits=1):
+                    q, sol, _ = solve_case(case, mesh, A0=A0, linear_solver=linear)
+            except RunError:
+                if A0 is None:
+                    raise
+                # A warm start that fails is retried cold: the point then
+                # equals a single-point run.
+                log.info("point %d: %s start failed, retrying cold", idx, start)
+                start = f"cold (after {start})"
+                with threadpool_limits(limits=1):
+                    q, sol, _ = solve_case(case, mesh, linear_solver=linear)
+        except Exception as exc:  # a meshing or solve failure ends this point only
+            if not isinstance(exc, RunError):
+                log.warning("point %d failed: %s", idx, exc)
+            out.append(PointResult(**base, seconds=time.perf_counter() - t0, start=start,
+                                   converged=False, message=str(exc)))
+            history, slope = [], None
+            continue
+        history = (history + [(settings, current, sol.A.copy())])[-2:]
+        slope = None
+        if (task.predictor == "tangent" and j + 1 < n
+                and _only_current_changes(settings, task.settings[j + 1])):
+            slope = tangent_dA_dI(sol, case.winding.turns, COIL_PLUS, COIL_MINUS)
+        out.append(PointResult(**base, fe=dict(q.values), fe_peak_B=q.peak_B,
+                               iterations=q.iterations, seconds=time.perf_counter() - t0,
+                               start=start, ndofs=q.ndofs,
+                               first_residual=float(sol.residual_history[0])))
+    return tuple(out)
+
+
+def plan_sweep(src: CaseSource, specs: Sequence[VarySpec], *, with_fe: bool = True,
+               predictor: str = "tangent", block: int = DEFAULT_BLOCK) -> list[BlockTask]:
+    """Validate every point and cut the grid into blocks (see module doc).
+
+    Raises
+    ------
+    CaseError
+        For a bad spec or a swept value the case file would reject.
+    """
+    if predictor not in PREDICTORS:
+        raise CaseError("--predictor", predictor, f"must be one of {', '.join(PREDICTORS)}")
+    if block < 1:
+        raise CaseError("--block", block, "must be at least 1")
+    keys = [s.key for s in specs]
+    if len(set(keys)) != len(keys):
+        raise CaseError("--vary", ", ".join(keys), "a key is varied twice")
+    spec_of = {s.key: f"--vary {s.spec}" for s in specs}
+    points = []
+    for idx, combo in enumerate(itertools.product(*(s.values for s in specs))):
+        settings = dict(zip(keys, combo))
+        points.append((idx, settings, make_case(src, settings, spec_of=spec_of)))
+    chains: dict[str, list] = {}
+    if with_fe:
+        from .fe import geometry_key
+
+        for p in points:
+            chains.setdefault(repr(geometry_key(p[2])), []).append(p)
+    else:
+        chains["hand"] = points
+    tasks = []
+    for chain in chains.values():
+        for k in range(0, len(chain), block):
+            part = chain[k:k + block]
+            tasks.append(BlockTask(tuple(p[0] for p in part), tuple(p[1] for p in part),
+                                   tuple(p[2] for p in part), with_fe, predictor))
+    return tasks
+
+
+def run_sweep(src: CaseSource, specs: Sequence[VarySpec], *, with_fe: bool = True,
+              predictor: str = "tangent", block: int = DEFAULT_BLOCK,
+              workers: int | None = None, scheduler: str | None = None,
+              on_done: Callable[[int, int], None] | None = None) -> SweepResult:
+    """Run a sweep (see module doc); points come back in grid order.
+
+    Parameters
+    ----------
+    workers : int, optional
+        Worker processes (default: one per core; 1 = in this process).
+    scheduler : str, optional
+        Address of a dask.distributed scheduler to run the blocks on instead.
+    on_done : callable (done, total), optional
+        Called as blocks finish (progress display).
+    """
+    from .executor import run_tasks
+
+    t0 = time.perf_counter()
+    tasks = plan_sweep(src, specs, with_fe=with_fe, predictor=predictor, block=block)
+    base = make_case(src, {})
+    if not with_fe and scheduler is None and workers is None:
+        workers = 1  # the hand model is ms per point: processes would only cost
+    results, info = run_tasks(run_block, tasks, workers=workers, scheduler=scheduler,
+                              on_done=on_done)
+    pts = sorted((p for r in results for p in r), key=lambda p: p.index)
+    return SweepResult(base, tuple(specs), tuple(pts), with_fe, predictor,
+                       time.perf_counter() - t0, info.workers, info.kind)
+
+
+# --------------------------------------------------------------------------- curves
+def curves(res: SweepResult) -> list[tuple[dict, list[PointResult]]]:
+    """Points grouped by everything but the current, each sorted by |I|.
+
+    Returns a list of (fixed settings, points) pairs, one per L(I) curve.
+    """
+    groups: dict[tuple, tuple[dict, list]] = {}
+    for p in res.points:
+        fixed = {k: v for k, v in p.settings.items() if k != CURRENT_KEY}
+        groups.setdefault(tuple(sorted(fixed.items())), (fixed, []))[1].append(p)
+    return [(fixed, sorted(pts, key=lambda p: abs(p.current))) for fixed, pts in groups.values()]
+
+
+def sweep_rows(res: SweepResult) -> list[dict]:
+    """One flat dict per point (CSV/JSON rows): settings, hand, hand planar, FE."""
+    rows = []
+    for p in res.points:
+        r: dict[str, Any] = {"index": p.index, **p.settings}
+        if CURRENT_KEY not in p.settings:
+            r[CURRENT_KEY] = p.current
+        r.update({f"hand_{k}": p.hand.get(k, math.nan) for k in HAND_KEYS})
+        r.update({f"hand_planar_{k}": p.hand_planar.get(k, math.nan) for k in HAND_KEYS})
+        r["hand_planar_peak_B"] = p.hand_peak_B
+        if res.with_fe:
+            r.update({f"fe_{k}": p.fe.get(k, math.nan) for k in HAND_KEYS})
+            r["fe_peak_B"] = p.fe_peak_B
+            r["fe_newton_iterations"] = p.iterations
+            r["fe_start"] = p.start
+            r["fe_seconds"] = p.seconds
+        r["converged"] = p.converged
+        r["message"] = p.message
+        rows.append(r)
+    return rows
+
+
+def _interp(points: list[PointResult], current: float, get: Callable[[PointResult], float]) -> float:
+    """Linear interpolation of a point quantity at |I| = current along a curve
+    (NaN outside the swept range)."""
+    i = np.array([abs(p.current) for p in points])
+    v = np.array([get(p) for p in points], dtype=float)
+    ok = np.isfinite(v)
+    i, v = i[ok], v[ok]
+    if i.size == 0 or not (i.min() - 1e-12 <= abs(current) <= i.max() + 1e-12):
+        return math.nan
+    if i.size == 1:
+        return float(v[0])
+    return float(np.interp(abs(current), i, v))
+
+
+def curve_saturation(points: list[PointResult], drops: Sequence[float], kind: str,
+                     model: str) -> dict[float, float]:
+    """Saturation currents of one curve for ``model`` "fe", "hand" or "hand_planar"."""
+    block = {"fe": lambda p: p.fe, "hand": lambda p: p.hand,
+             "hand_planar": lambda p: p.hand_planar}[model]
+    vals = [block(p).get("inductance" if kind == "secant" else "incremental_inductance",
+                         math.nan) for p in points]
+    return saturation_from_curve([p.current for p in points], vals, drops)
+
+
+def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "incremental"
+                  ) -> tuple[list[MarginResult], list[dict]]:
+    """Margins judged along each L(I) curve of a sweep, and the saturation table.
+
+    - saturation current (``case.margins`` saturation limits): read off the
+      FE curve (the hand 3D curve for a hand-only sweep); when the curve does
+      not fall that far the saturation current is at least the highest swept
+      current, which passes when that is above the limit and is "n/a" otherwise;
+    - inductance at a stated current: FE (times the depth-fringing factor,
+      as ``magcheck check``) interpolated linearly along the curve;
+    - peak core B at the case's own current, interpolated along the curve.
+
+    Returns (margins, saturation rows: one dict per curve and model with the
+    current at each drop of ``drops`` and of the limits).
+    """
+    case = res.case
+    m = case.margins
+    drops_all = sorted(set(drops) | {lim.drop for lim in m.saturation})
+    margins: list[MarginResult] = []
+    table: list[dict] = []
+    cs = curves(res)
+    fe_model = "fe" if res.with_fe else "hand"
+    for fixed, pts in cs:
+        tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
+        suffix = f" [{tag}]" if tag else ""
+        if len(pts) < 2:
+            continue
+        imax = max(abs(p.current) for p in pts)
+        sat = {}
+        for model in (("fe", "hand", "hand_planar") if res.with_fe else ("hand", "hand_planar")):
+            sat[model] = curve_saturation(pts, drops_all, kind, model)
+            table.append({"curve": tag, "model": model, "inductance": kind,
+                          **{f"{100 * d:g}%": sat[model][d] for d in drops_all}})
+        for lim in m.saturation:
+            s_main = curve_saturation(pts, [lim.drop], lim.kind, fe_model)[lim.drop]
+            s_hand = curve_saturation(pts, [lim.drop], lim.kind, "hand")[lim.drop]
+            note = ""
+            if not math.isfinite(s_main):
+                note = f"not reached up to {imax:g} A"
+                s_main = imax if imax >= lim.min else math.nan
+            margins.append(MarginResult(
+                f"saturation_current@{100 * lim.drop:g}%{suffix}",
+                f"saturation current ({lim.kind} L -{100 * lim.drop:g} %){suffix}", "A", "min",
+                lim.min, s_main, hand=s_hand, basis="FE" if res.with_fe else "hand", note=note))
+        for lim in m.inductance:
+            key = "inductance" if lim.kind == "secant" else "incremental_inductance"
+            if res.with_fe:
+                value = _interp(pts, lim.at, lambda p: p.fe.get(key, math.nan) * p.depth_factor)
+            else:
+                value = _interp(pts, lim.at, lambda p: p.hand.get(key, math.nan))
+            h = _interp(pts, lim.at, lambda p: p.hand.get(key, math.nan))
+            for kind_, limit in (("min", lim.min), ("max", lim.max)):
+                if limit is not None:
+                    margins.append(MarginResult(
+                        f"inductance_{lim.kind}@{lim.at:g}A:{kind_}{suffix}",
+                        f"inductance ({lim.kind}) at {lim.at:g} A, {kind_}{suffix}", "H", kind_,
+                        limit, value, hand=h, basis="FE" if res.with_fe else "hand",
+                        note="" if math.isfinite(value) else "current outside the swept range"))
+        if m.peak_B is not None and res.with_fe:
+            value = _interp(pts, case.winding.current, lambda p: p.fe_peak_B)
+            h = _interp(pts, case.winding.current, lambda p: p.hand_peak_B)
+            margins.append(MarginResult(
+                f"peak_B{suffix}", f"peak core B at {case.winding.current:g} A{suffix}", "T",
+                "max", m.peak_B, value, hand=h, basis="FE",
+                note="" if math.isfinite(value) else "case current outside the swept range"))
+    return margins, table

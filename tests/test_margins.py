@@ -1,0 +1,169 @@
+"""Design margins: the case-file section, each figure against its definition or
+an exact solution, and `magcheck check` reporting every margin."""
+
+from __future__ import annotations
+
+import json
+import math
+import tomllib
+from pathlib import Path
+
+import pytest
+from scipy.constants import mu_0
+from scipy.optimize import brentq
+
+from compare.case import case_from_dict, load_case
+from compare.cli import main
+from compare.errors import CaseError
+from compare.hand import run_hand
+from compare.margins import (MarginResult, current_density, design_margins,
+                             hand_saturation_current, with_current)
+
+CASES = Path(__file__).resolve().parents[1] / "cases"
+
+
+def choke_dict() -> dict:
+    return tomllib.loads((CASES / "demo_choke.toml").read_text())
+
+
+def with_margins(margins: dict, **changes) -> object:
+    d = choke_dict()
+    d["margins"] = margins
+    for k, v in changes.items():
+        d[k].update(v)
+    return case_from_dict(d, base_dir=CASES)
+
+
+def test_margin_arithmetic():
+    m = MarginResult("x", "x", "T", "max", 1.6, 1.2)
+    assert m.margin_pct == pytest.approx(25.0) and m.verdict == "pass"
+    m = MarginResult("x", "x", "A", "min", 10.0, 8.0)
+    assert m.margin_pct == pytest.approx(-20.0) and m.verdict == "FAIL"
+    assert MarginResult("x", "x", "A", "min", 10.0, math.nan).verdict == "n/a"
+
+
+def test_current_density_definition():
+    case = with_margins({"current_density": "4 A/mm^2", "copper_fill": 0.5})
+    # Source: definition J = N I / (k_cu * coil build * coil length):
+    # 80 turns x 6 A / (0.5 x 10 mm x 40 mm) = 480 A / 200 mm^2 = 2.4 A/mm^2.
+    assert current_density(case) == pytest.approx(2.4e6, rel=1e-12)
+    (m,) = design_margins(case)
+    assert m.value == pytest.approx(2.4e6) and m.margin_pct == pytest.approx(40.0)
+
+
+def test_inductance_margin_against_ideal_gapped_core():
+    g, mu_r, N = 0.6e-3, 3000.0, 80
+    case = with_margins({"inductance": [{"at": "2 A", "min": "1 mH", "max": "2 mH"}]},
+                        materials={"core": {"mu_r": mu_r}}, hand={"fringing": "none"})
+    lims = design_margins(case)
+    # Source: exact solution of the ideal gapped core with finite mu_r
+    # (REFERENCES.md section 2): L = mu0 N^2 A / (l_g + l_c/mu_r), with
+    # A = 12 mm x 20 mm and l_c = mean path 2 (48 + 58) mm less the gap.
+    l_c = 2 * (0.048 + 0.058) - g
+    L = mu_0 * N ** 2 * 0.012 * 0.020 / (g + l_c / mu_r)
+    by = {m.kind: m for m in lims}
+    # 1e-9: the magnetic circuit of a uniform-width frame is exactly this series sum.
+    assert by["min"].value == pytest.approx(L, rel=1e-9)
+    assert by["max"].verdict == ("pass" if L <= 2e-3 else "FAIL")
+    assert by["min"].margin_pct == pytest.approx(100 * (L - 1e-3) / 1e-3, rel=1e-9)
+
+
+def test_saturation_margin_by_independent_root():
+    case = with_margins({"saturation_current": [{"drop_pct": 30, "min": "20 A"}]})
+    (m,) = design_margins(case)
+
+    def f(i):
+        return (run_hand(with_current(case, i)).incremental_inductance
+                - 0.7 * run_hand(with_current(case, 0.0)).incremental_inductance)
+
+    # Source: independent root-find (scipy brentq on a bracket found by hand,
+    # 6 A passes, 12 A fails) on the hand model's own L(I); 1e-5: both
+    # converge to ~1e-6 relative.
+    ref = brentq(f, 6.0, 12.0, xtol=1e-10)
+    assert m.value == pytest.approx(ref, rel=1e-5)
+    assert m.verdict == "FAIL" and m.margin_pct < 0
+
+
+def test_linear_core_never_saturates():
+    case = with_margins({"saturation_current": [{"drop_pct": 10, "min": "1 A"}]},
+                        materials={"core": {"mu_r": 2000}})
+    assert math.isnan(hand_saturation_current(case, 0.1))
+    (m,) = design_margins(case)
+    assert m.value == math.inf and m.verdict == "pass"
+
+
+@pytest.mark.parametrize("margins, key", [
+    ({"inductance": [{"at": "2 A"}]}, "margins.inductance[0].min"),
+    ({"inductance": [{"at": "2 A", "min": "3 mH", "max": "2 mH"}]}, "margins.inductance[0].min"),
+    ({"inductance": [{"at": "2 A", "min": "2 T"}]}, "margins.inductance[0].min"),
+    ({"saturation_current": [{"drop_pct": 120, "min": "5 A"}]},
+     "margins.saturation_current[0].drop_pct"),
+    ({"saturation_current": [{"drop_pct": 20, "min": "5 A", "kind": "avg"}]},
+     "margins.saturation_current[0].kind"),
+    ({"copper_fill": 0}, "margins.copper_fill"),
+    ({"current_density": "4 A/mm"}, "margins.current_density"),
+    ({"peak_b": "1.6 T"}, "margins.peak_b"),
+])
+def test_bad_margins_name_key(margins, key):
+    with pytest.raises(CaseError) as exc:
+        with_margins(margins)
+    assert str(exc.value).startswith(key)
+
+
+def test_existing_margin_keys_still_work():
+    case = with_margins({"peak_B": "1.6 T", "agreement": {"inductance": 12}})
+    assert case.margins.peak_B == 1.6
+    assert case.margins.agreement_limit("inductance", 15.0) == 12
+
+
+def test_sweep_and_tolerance_sections_read():
+    case = load_case(CASES / "demo_choke_margins.toml")
+    assert case.sweeps[0].vary == ("winding.current=0:12A:13",)
+    assert case.sweeps[0].drops == pytest.approx((0.1, 0.2, 0.3))
+    keys = [t.key for t in case.tolerances]
+    assert keys == ["gaps[0].length", "materials.core.scale_H", "core.limb_width"]
+    t = case.tolerances[1]
+    assert t.relative and t.sigma == pytest.approx(0.05) and t.limit == pytest.approx(0.15)
+    assert case.tolerances[2].limit == pytest.approx(3 * 0.05e-3)  # default: 3 sigma
+
+
+@pytest.mark.parametrize("extra, key", [
+    ('[sweep]\nvary = ["winding.current=0:1X:3"]\n', "sweep.vary"),
+    ('[sweep]\nvary = ["winding.current=0:1A:3"]\ndrops_pct = [0]\n', "sweep.drops_pct"),
+    ('[[tolerances]]\nkey = "fe.tol"\ndistribution = "uniform"\nminus = 0\nplus = 0\n',
+     "tolerances[0].key"),
+    ('[[tolerances]]\nkey = "gaps[0].length"\ndistribution = "normal"\n', "tolerances[0].sigma"),
+    ('[[tolerances]]\nkey = "gaps[0].length"\ndistribution = "cauchy"\nsigma = 1\n',
+     "tolerances[0].distribution"),
+])
+def test_bad_sweep_and_tolerances_name_key(tmp_path, extra, key, capsys):
+    p = tmp_path / "c.toml"
+    p.write_text((CASES / "demo_choke.toml").read_text() + "\n" + extra)
+    assert main(["hand", str(p)]) == 2
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1 and key in err
+
+
+def test_check_reports_every_margin(tmp_path):
+    text = (CASES / "demo_choke.toml").read_text().replace("[fe]\n", '[fe]\nmesh_size = "3 mm"\ngap_elements = 2\n')
+    text = text.replace("current = \"6 A\"", "current = \"8 A\"")
+    text += ('peak_B = "1.7 T"\ncurrent_density = "3 A/mm^2"\ncopper_fill = 0.5\n'
+             '[[margins.inductance]]\nat = "8 A"\nmin = "2.5 mH"\n'
+             '[[margins.saturation_current]]\ndrop_pct = 20\nmin = "5 A"\n')
+    p = tmp_path / "m.toml"
+    p.write_text(text)
+    code = main(["check", str(p), "--no-error-estimate", "--json", str(tmp_path / "o.json")])
+    data = json.loads((tmp_path / "o.json").read_text())
+    rows = {r["quantity"]: r for r in data["comparison"]}
+    assert {"peak_B", "margin:current_density", "margin:inductance_secant@8A:min",
+            "margin:saturation_current@20%"} <= set(rows)
+    j = rows["margin:current_density"]
+    # Source: definition; 80 x 8 A / (0.5 x 400 mm^2) = 3.2 A/mm^2 > 3 A/mm^2.
+    assert j["fe"] == pytest.approx(3.2e6) and j["verdict"] == "FAIL"
+    assert j["margin_pct"] == pytest.approx(100 * (3.0 - 3.2) / 3.0)
+    ind = rows["margin:inductance_secant@8A:min"]
+    assert ind["limit_kind"] == "min" and ind["limit_value"] == pytest.approx(2.5e-3)
+    # The margin is judged on the FE inductance with the depth-fringing
+    # factor, i.e. the row's own "FE 3D" value of the inductance row.
+    assert ind["fe"] == pytest.approx(rows["inductance"]["fe_depth_corrected"], rel=1e-12)
+    assert code == 1  # the current-density margin fails
