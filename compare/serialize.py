@@ -42,7 +42,8 @@ def _pct(v: float | None, digits: int = 1) -> str:
 def table_cells(row: Row) -> list[str]:
     """The row as display strings, in TABLE_COLUMNS order."""
     if row.limit_value is not None:  # a design margin
-        limit = f"<= {format_si(row.limit_value, row.unit)}"
+        sign = ">=" if row.limit_kind == "min" else "<="
+        limit = f"{sign} {format_si(row.limit_value, row.unit)}"
     else:
         limit = "-" if row.limit_pct is None else f"{row.limit_pct:g}"
     unc = "-" if not math.isfinite(row.uncertainty) else (

@@ -1,7 +1,7 @@
 """Rewrite cases/baseline.json from the current code: run after a deliberate
 change of results, and say in the commit why the values moved.
 
-    python tools/update_baseline.py [cases/]
+    PYTHONPATH=. python tools/update_baseline.py [cases/]
 """
 
 from __future__ import annotations
