@@ -28,6 +28,7 @@ from .geometry import Limb, coil_rects, gap_rect
 from .hand import HAND_KEYS
 
 __all__ = ["FEQuantities", "FEResult", "case_layout", "mesh_case", "geometry_key", "solve_case",
+           "solve_case_full", "FESolve",
            "run_fe", "run_fe_checked",
            "COIL_PLUS", "COIL_MINUS"]
 
@@ -132,8 +133,12 @@ def core_b_quantile(sol: FieldSolution, fraction: float, region: str = "core") -
     return float(mag[order][min(k, len(order) - 1)])
 
 
-def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantities, Any]:
-    """Reduce a field solution to the hand quantities (magnitudes)."""
+def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantities, Any, np.ndarray]:
+    """Reduce a field solution to the hand quantities (magnitudes).
+
+    Returns the quantities, the mean-path samples and dA/dI (the tangent
+    solve of the incremental inductance, reused as a sweep predictor).
+    """
     limbs = case.limbs
     w = case.winding
     vals: dict[str, float] = {}
@@ -152,8 +157,9 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     lam = post.flux_linkage(sol, w.turns, COIL_PLUS, COIL_MINUS)
     vals["flux_linkage"] = abs(lam)
     vals["inductance"] = abs(lam / w.current) if w.current != 0 else math.nan
+    dA_dI = post.incremental_potential(sol, w.turns, COIL_PLUS, COIL_MINUS)
     vals["incremental_inductance"] = post.incremental_flux_linkage(sol, w.turns, COIL_PLUS,
-                                                                   COIL_MINUS)
+                                                                   COIL_MINUS, dA=dA_dI)
     if w.current == 0:
         vals["inductance"] = vals["incremental_inductance"]
     vals["energy"] = post.energy(sol)
@@ -163,7 +169,7 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
                      iterations=sol.iterations, residual=float(sol.residual_history[-1]),
                      ndofs=sol.ndofs, nelements=int(sol.mesh.mesh.t.shape[1]),
                      element_size=sol.mesh.layout.core_size(), seconds=seconds)
-    return q, samples
+    return q, samples, dA_dI
 
 
 def mesh_case(case: Case, *, refine: int = 1) -> RegionMesh:
@@ -178,9 +184,19 @@ def geometry_key(case: Case, refine: int = 1) -> Layout:
     return replace(lay, regions=tuple(replace(r, current=0.0) for r in lay.regions))
 
 
-def solve_case(case: Case, mesh: RegionMesh, *, A0: np.ndarray | None = None,
-               linear_solver: Any = None) -> tuple[FEQuantities, FieldSolution, Any]:
-    """Solve a case on a ready mesh; returns (quantities, solution, path samples).
+@dataclass(frozen=True)
+class FESolve:
+    """One FE solve of a case: quantities, field, path samples and dA/dI."""
+
+    quantities: FEQuantities
+    solution: FieldSolution
+    path: Any
+    dA_dI: np.ndarray
+
+
+def solve_case_full(case: Case, mesh: RegionMesh, *, A0: np.ndarray | None = None,
+                    linear_solver: Any = None) -> FESolve:
+    """Solve a case on a ready mesh and measure it.
 
     The coil currents are taken from the case, not from the mesh's layout.
 
@@ -196,11 +212,18 @@ def solve_case(case: Case, mesh: RegionMesh, *, A0: np.ndarray | None = None,
                     tol=case.fe.tol, A0=A0, linear_solver=linear_solver)
     except ConvergenceError as exc:
         raise RunError(f"field solve did not converge: {exc}") from None
-    q, samples = measure(case, sol, 0.0)
+    q, samples, dA_dI = measure(case, sol, 0.0)
     q = replace(q, seconds=time.perf_counter() - t0 + mesh.timings.get("mesh", 0.0))
     log.info("FE solve: %d elements, %d DOFs, %d Newton steps, %.2f s",
              q.nelements, q.ndofs, q.iterations, q.seconds)
-    return q, sol, samples
+    return FESolve(q, sol, samples, dA_dI)
+
+
+def solve_case(case: Case, mesh: RegionMesh, *, A0: np.ndarray | None = None,
+               linear_solver: Any = None) -> tuple[FEQuantities, FieldSolution, Any]:
+    """:func:`solve_case_full` as (quantities, solution, path samples)."""
+    r = solve_case_full(case, mesh, A0=A0, linear_solver=linear_solver)
+    return r.quantities, r.solution, r.path
 
 
 def run_fe(case: Case, *, refine: int = 1, A0: np.ndarray | None = None,

@@ -50,7 +50,7 @@ from .units import UnitError, parse_quantity
 
 __all__ = ["VarySpec", "parse_vary", "parse_key", "key_dimension", "resolve_vary",
            "scale_law", "CaseSource", "case_source", "make_case", "PointResult", "SweepResult",
-           "plan_sweep", "run_sweep", "run_block", "BlockTask", "tangent_dA_dI", "PREDICTORS",
+           "plan_sweep", "run_sweep", "run_block", "BlockTask", "PREDICTORS",
            "DEFAULT_BLOCK", "CURRENT_KEY"]
 
 log = logging.getLogger(__name__)
@@ -412,39 +412,6 @@ class BlockTask:
     predictor: str = "tangent"
 
 
-def tangent_dA_dI(sol: Any, turns: int, plus: str = "coil+", minus: str = "coil-",
-                  rtol: float = 1e-5) -> np.ndarray:
-    """dA/dI at a converged solution by one tangent solve, shape (ndofs,), Wb/(m A).
-
-    K(A*) dA/dI = db/dI, with the consistent Newton tangent K at A* and the
-    load of a unit winding current: J = +-N / area on the two coil sides (the
-    same linearisation fem2d.post.incremental_flux_linkage uses for d lambda/dI).
-    ``rtol`` of an iterative linear solve: the prediction's own error is
-    second order in the current step (~1e-3 relative for a 0.5 A step through
-    the knee), so 1e-5 costs nothing in accuracy and half the CG iterations.
-    """
-    from threadpoolctl import threadpool_limits
-
-    asm = sol.assembler
-    db_loc = np.zeros_like(asm.phi_int)
-    for region, sign in ((plus, 1.0), (minus, -1.0)):
-        idx = sol.mesh.elements_of(region)
-        area = float(np.sum(asm.dx[idx]))
-        db_loc[:, idx] += sign * turns / area * asm.phi_int[:, idx]
-    db = np.bincount(asm.dofs.ravel(), weights=db_loc.ravel(), minlength=asm.ndofs)
-    with threadpool_limits(limits=1):
-        g = asm.grad(sol.A)
-        nu, dnu = asm.coefficients(g[0] ** 2 + g[1] ** 2)
-        K = asm.tangent(g, nu, None if asm.linear else dnu)
-        solver = sol.linear_solver(K)
-        dA = np.zeros(asm.ndofs)
-        try:
-            dA[asm.I] = solver(db[asm.I], rtol=rtol)
-        except TypeError:  # a direct solver takes no rtol
-            dA[asm.I] = solver(db[asm.I])
-    return dA
-
-
 def _block_linear_solver() -> Any:
     """A preconditioner-reusing AMG-CG factory from fem2d, or None (its default)."""
     try:
@@ -476,7 +443,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
     from threadpoolctl import threadpool_limits
 
     from .check import depth_factor
-    from .fe import COIL_MINUS, COIL_PLUS, mesh_case, solve_case
+    from .fe import mesh_case, solve_case_full
 
     mesh = None
     # One AMG-CG factory for the whole block: the preconditioner built for
@@ -527,7 +494,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
                 mesh = mesh_case(case)
             try:
                 with threadpool_limits(limits=1):
-                    q, sol, _ = solve_case(case, mesh, A0=A0, linear_solver=linear)
+                    fs = solve_case_full(case, mesh, A0=A0, linear_solver=linear)
             except RunError:
                 if A0 is None:
                     raise
@@ -536,7 +503,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
                 log.info("point %d: %s start failed, retrying cold", idx, start)
                 start = f"cold (after {start})"
                 with threadpool_limits(limits=1):
-                    q, sol, _ = solve_case(case, mesh, linear_solver=linear)
+                    fs = solve_case_full(case, mesh, linear_solver=linear)
         except Exception as exc:  # a meshing or solve failure ends this point only
             if not isinstance(exc, RunError):
                 log.warning("point %d failed: %s", idx, exc)
@@ -544,11 +511,13 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
                                    converged=False, message=str(exc)))
             history, slope = [], None
             continue
+        q, sol = fs.quantities, fs.solution
         history = (history + [(settings, current, sol.A.copy())])[-2:]
         slope = None
         if (task.predictor == "tangent" and j + 1 < n
                 and _only_current_changes(settings, task.settings[j + 1])):
-            slope = tangent_dA_dI(sol, case.winding.turns, COIL_PLUS, COIL_MINUS)
+            # dA/dI from the incremental-inductance tangent solve: no extra solve.
+            slope = fs.dA_dI
         out.append(PointResult(**base, fe=dict(q.values), fe_peak_B=q.peak_B,
                                iterations=q.iterations, seconds=time.perf_counter() - t0,
                                start=start, ndofs=q.ndofs,

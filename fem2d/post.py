@@ -31,6 +31,7 @@ __all__ = [
     "coenergy",
     "source_work",
     "incremental_flux_linkage",
+    "incremental_potential",
 ]
 
 
@@ -360,30 +361,42 @@ def source_work(sol) -> float:
     return float(sol.mesh.layout.depth * (_asm(sol).b @ sol.A))
 
 
-def incremental_flux_linkage(sol, turns: float, plus, minus) -> float:
-    """Incremental inductance d lambda / dI (H) by one tangent solve.
+def incremental_potential(sol, turns: float, plus, minus) -> np.ndarray:
+    """dA/dI (Wb/(m A)) at the converged state by one tangent solve.
 
     The coil currents are taken as J = +N I / area on ``plus`` and -N I / area
-    on ``minus``; K(A*) dA/dI = db/dI with the tangent K at the converged A*
-    (no finite differences); then d lambda/dI = N depth (<dA/dI>_plus -
-    <dA/dI>_minus).
+    on ``minus``; K(A*) dA/dI = db/dI with the consistent tangent K at the
+    converged A* (no finite differences). Shape (ndofs,), zero on "outer".
+    Serves both the incremental inductance and a Newton predictor for the
+    next point of a current sweep.
     """
     asm = _asm(sol)
     if not sol.converged:
-        raise PostError("incremental_flux_linkage needs a converged solution")
+        raise PostError("incremental_potential needs a converged solution")
     db_loc = np.zeros_like(asm.phi_int)
     for regs, sign in ((plus, 1.0), (minus, -1.0)):
         idx = _elements(sol, regs)
         area = float(np.sum(asm.dx[idx]))
         db_loc[:, idx] += sign * turns / area * asm.phi_int[:, idx]
     db = np.bincount(asm.dofs.ravel(), weights=db_loc.ravel(), minlength=asm.ndofs)
-    g = asm.grad(sol.A)
-    nu, dnu = asm.coefficients(g[0] ** 2 + g[1] ** 2)
-    K = asm.tangent(g, nu, None if asm.linear else dnu)
     dA = np.zeros(asm.ndofs)
     # One thread for the pip-bundled BLAS, as in the Newton loop: threaded
     # BLAS inside the AMG setup made this one solve ~10x slower on 2 cores.
     with threadpool_limits(limits=1):
+        g = asm.grad(sol.A)
+        nu, dnu = asm.coefficients(g[0] ** 2 + g[1] ** 2)
+        K = asm.tangent(g, nu, None if asm.linear else dnu)
         dA[asm.I] = sol.linear_solver(K)(db[asm.I])
+    return dA
+
+
+def incremental_flux_linkage(sol, turns: float, plus, minus, dA: np.ndarray | None = None) -> float:
+    """Incremental inductance d lambda / dI (H) by one tangent solve.
+
+    d lambda/dI = N depth (<dA/dI>_plus - <dA/dI>_minus), with dA/dI from
+    :func:`incremental_potential` (pass ``dA`` if it is already computed).
+    """
+    if dA is None:
+        dA = incremental_potential(sol, turns, plus, minus)
     return float(turns * sol.mesh.layout.depth
                  * (_mean_over(sol, dA, plus) - _mean_over(sol, dA, minus)))

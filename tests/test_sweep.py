@@ -253,7 +253,7 @@ def test_failed_point_reported_not_raised(fe_src, monkeypatch):
     def boom(*a, **k):
         raise RunError("field solve did not converge: test")
 
-    monkeypatch.setattr(fe_mod, "solve_case", boom)
+    monkeypatch.setattr(fe_mod, "solve_case_full", boom)
     pts = run_block(tasks[0])
     assert [p.converged for p in pts] == [False, False]
     assert "did not converge" in pts[0].message
