@@ -37,7 +37,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
-from scipy.constants import mu_0
+from .constants import mu_0
 
 logger = logging.getLogger(__name__)
 

@@ -18,7 +18,7 @@ import math
 from dataclasses import dataclass
 from typing import Callable
 
-from scipy.constants import mu_0
+from .constants import mu_0
 
 logger = logging.getLogger(__name__)
 

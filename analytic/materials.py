@@ -31,7 +31,7 @@ from pathlib import Path
 
 import numpy as np
 from numpy.typing import ArrayLike
-from scipy.constants import mu_0
+from .constants import mu_0
 
 from .bh import B_UNITS, H_UNITS, BHCurve, BHDataError
 

@@ -19,32 +19,47 @@ __all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_SOLVE"]
 EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_SOLVE = 0, 1, 2, 3
 
 
-def _commands():
-    # Imported here so `magcheck --help` stays quick and each sub-command
-    # lives in its own module with add_args(parser) and run(args).
-    from .commands import check, hand, materials, sweep, tolerance, verify
+# Sub-command -> one-line help. Each lives in compare/commands/<name>.py with
+# add_args(parser) and run(args); only the one asked for is imported, so a
+# light command (hand, materials) does not pay for the FE stack's imports.
+COMMANDS: dict[str, str] = {
+    "check": "run the magnetic-circuit model and the planar FE model on one case and "
+             "compare them quantity by quantity",
+    "hand": "solve a case's magnetic circuit (the hand calculation) and print its operating point",
+    "materials": "list the built-in B-H curves, or show and plot one",
+    "sweep": "solve a case over values of its keys (a current sweep gives L(I) and the "
+             "saturation current); hand and FE at every point",
+    "verify": "run every case (and the sweeps it declares) under the given files or folders "
+              "and print a pass/fail table of every limit and margin",
+    "tolerance": "Monte Carlo over the tolerances a case declares: percentiles of inductance, "
+                 "peak core B and saturation current, and the yield (samples meeting every margin)",
+}
 
-    return {"check": check, "hand": hand, "materials": materials, "sweep": sweep,
-            "verify": verify, "tolerance": tolerance}
 
+def build_parser(command: str | None = None) -> argparse.ArgumentParser:
+    """The argument parser; the arguments of ``command`` only (all when None)."""
+    import importlib
 
-def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="magcheck",
         description="Check a magnetic-circuit hand calculation of a gapped core "
                     "against a 2D field solution.")
     parser.add_argument("-v", "--verbose", action="store_true", help="log progress to stderr")
     sub = parser.add_subparsers(dest="command", required=True)
-    for name, mod in _commands().items():
-        p = sub.add_parser(name, help=mod.HELP, description=mod.HELP)
-        mod.add_args(p)
-        p.set_defaults(_run=mod.run)
+    for name, text in COMMANDS.items():
+        p = sub.add_parser(name, help=text, description=text)
+        if command is None or name == command:
+            mod = importlib.import_module(f"compare.commands.{name}")
+            mod.add_args(p)
+            p.set_defaults(_run=mod.run)
     return parser
 
 
 def main(argv: Sequence[str] | None = None) -> int:
     """Run magcheck; returns the exit code (see module docstring)."""
-    parser = build_parser()
+    argv = list(sys.argv[1:] if argv is None else argv)
+    chosen = next((a for a in argv if a in COMMANDS), None)
+    parser = build_parser(chosen if chosen is not None and "-h" not in argv[:1] else None)
     try:
         args = parser.parse_args(argv)
     except SystemExit as exc:  # argparse: --help (0) or usage error (2)

@@ -38,7 +38,7 @@ from pathlib import Path
 from typing import Any, Callable, Sequence
 
 import numpy as np
-from scipy.constants import mu_0
+from analytic.constants import mu_0
 
 from analytic.bh import BHCurve, BHDataError, LinearMaterial
 

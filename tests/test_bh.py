@@ -399,3 +399,12 @@ def test_random_valid_tables_are_monotone_and_invertible():
         np.testing.assert_allclose(c.b_of_h(c.h_of_b(bb)), bb, rtol=1e-9, atol=1e-300)
         # table points reproduced exactly (interpolation, not approximation); tolerance: rounding
         np.testing.assert_allclose(c.h_of_b(b), h, rtol=1e-12)
+
+
+def test_mu0_agrees_with_scipy():
+    # Source: scipy.constants (CODATA); fem2d uses scipy's value directly.
+    import scipy.constants
+
+    from analytic.constants import mu_0
+
+    assert mu_0 == scipy.constants.mu_0

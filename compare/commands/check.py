@@ -10,8 +10,6 @@ from ..check import CheckResult, run_check
 from ..output import CAUTION, atomic_write_text, render_table, write_json
 from ..serialize import TABLE_COLUMNS, check_csv, check_json, check_markdown, table_cells
 
-HELP = ("run the magnetic-circuit model and the planar FE model on one case and "
-        "compare them quantity by quantity")
 
 
 def add_args(p: argparse.ArgumentParser) -> None:

@@ -10,7 +10,6 @@ from ..hand import UNITS, HandResult, run_hand
 from ..output import CAUTION, render_table, write_json
 from ..units import format_si
 
-HELP = "solve a case's magnetic circuit (the hand calculation) and print its operating point"
 
 
 def add_args(p: argparse.ArgumentParser) -> None:

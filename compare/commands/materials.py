@@ -11,7 +11,6 @@ from analytic.materials import builtin, builtin_names
 from ..errors import CaseError
 from ..output import render_table
 
-HELP = "list the built-in B-H curves, or show and plot one"
 
 
 def add_args(p: argparse.ArgumentParser) -> None:

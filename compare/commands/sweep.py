@@ -17,9 +17,6 @@ from ..sweep import (CURRENT_KEY, DEFAULT_BLOCK, PREDICTORS, SweepResult, case_s
                      parse_vary, run_sweep, sweep_margins, sweep_rows)
 from ..units import format_si
 
-HELP = ("solve a case over values of its keys (a current sweep gives L(I) and the "
-        "saturation current); hand and FE at every point")
-
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("case", help="TOML case file")

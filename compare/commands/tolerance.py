@@ -14,9 +14,6 @@ from ..units import format_si
 
 PERCENTILES = (5.0, 50.0, 95.0)  # as compare.tolerance.PERCENTILES (not imported: start-up time)
 
-HELP = ("Monte Carlo over the tolerances a case declares: percentiles of inductance, peak "
-        "core B and saturation current, and the yield (samples meeting every margin)")
-
 _UNITS = {"inductance": "H", "peak_B": "T", "saturation_current": "A"}
 
 

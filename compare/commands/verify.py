@@ -12,9 +12,6 @@ from ..output import CAUTION, atomic_write_text, render_table, write_json
 from ..units import format_si
 from ..verify import VerifyResult, item_text, junit_xml, run_verify
 
-HELP = ("run every case (and the sweeps it declares) under the given files or folders and "
-        "print a pass/fail table of every limit and margin")
-
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("paths", nargs="+", metavar="PATH", help="case files or folders of them")
