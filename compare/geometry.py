@@ -97,7 +97,7 @@ class Winding:
     turns : int
         Number of turns N (> 0).
     current : float
-        Terminal current I (A); N*I is the MMF.
+        Terminal current I (A); N*I is the MMF in ampere-turns.
     thickness : float
         Coil build across the limb (m), the same on both sides.
     length : float
