@@ -175,8 +175,9 @@ def margin_rows(case: Case, fe: FEResult, k_depth: float) -> list[Row]:
     for r in design_margins(case, fe_at=fe_at):
         if r.key == "peak_B":
             continue
+        fe_value = math.nan if r.basis == "hand" else r.value  # judged on the hand model
         out.append(Row(f"margin:{r.key}", r.label + (" (hand)" if r.basis == "hand" else ""),
-                       r.unit, r.hand, r.value, math.nan, math.nan, None, r.verdict,
+                       r.unit, r.hand, fe_value, math.nan, math.nan, None, r.verdict,
                        limit_value=r.limit, margin_pct=r.margin_pct, limit_kind=r.kind))
     return out
 

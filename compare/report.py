@@ -37,7 +37,8 @@ def _table(headers, rows, classes=None) -> str:
     for i, r in enumerate(rows):
         cells = []
         for c in r:
-            cls = f' class="{c}"' if c in ("FAIL", "pass") else ""
+            word = str(c).split(",")[0]
+            cls = f' class="{word}"' if word in ("FAIL", "pass") else ""
             cells.append(f"<td{cls}>{html.escape(str(c))}</td>")
         out.append("<tr>" + "".join(cells) + "</tr>")
     out.append("</table>")

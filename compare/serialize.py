@@ -48,8 +48,11 @@ def table_cells(row: Row) -> list[str]:
         limit = "-" if row.limit_pct is None else f"{row.limit_pct:g}"
     unc = "-" if not math.isfinite(row.uncertainty) else (
         f"{row.uncertainty_pct:.2g} %")
+    verdict = row.verdict
+    if row.limit_value is not None and math.isfinite(row.margin_pct):
+        verdict = f"{row.verdict}, {row.margin_pct:.0f} % left"  # margin left, % of the limit
     return [row.label, _fmt(row.hand, row.unit), _fmt(row.fe, row.unit), unc,
-            _pct(row.diff_pct), limit, row.verdict, _fmt(row.hand_3d, row.unit),
+            _pct(row.diff_pct), limit, verdict, _fmt(row.hand_3d, row.unit),
             _fmt(row.fe_3d, row.unit)]
 
 

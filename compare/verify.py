@@ -127,7 +127,8 @@ def _check_items(res) -> list[Item]:
     items = []
     for r in res.rows:
         if r.limit_value is not None:  # design margin
-            items.append(Item("margin", r.key.removeprefix("margin:"), r.label, r.unit, r.fe,
+            judged = r.fe if math.isfinite(r.fe) else r.hand  # hand-based margins have no FE value
+            items.append(Item("margin", r.key.removeprefix("margin:"), r.label, r.unit, judged,
                               r.limit_value, r.limit_kind, r.margin_pct, r.verdict))
         elif r.limit_pct is not None:  # hand-vs-FE agreement limit, percent
             items.append(Item("limit", f"agreement:{r.key}", f"hand vs FE: {r.label}", "%",
