@@ -245,7 +245,7 @@ def rank_fringing(case: Case, fe: FEResult) -> tuple[dict, ...]:
     Ranked by the RMS of the percent differences of gap B, flux and
     inductance (the figures a fringing model is meant to get right).
     """
-    out = []
+    out: list[dict[str, Any]] = []
     for name in FRINGING_MODELS:
         h = run_hand(case, fringing=name, planar=True)
         diffs = {k: _diff_pct(h.values()[k], fe.values[k])

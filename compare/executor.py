@@ -136,7 +136,7 @@ class Progress:
         self.label = label
         self.delay = delay
         self.stream = stream if stream is not None else sys.stderr
-        self.bar = None
+        self.bar: Any = None
         self.enabled = bool(getattr(self.stream, "isatty", lambda: False)())
         self.t0 = time.perf_counter()
 

@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Protocol
+from typing import Any, Protocol
 
 from .errors import CaseError
 from .geometry import Limb, Rect
@@ -61,15 +61,15 @@ class Family(Protocol):
     limb_names: tuple[str, ...]
     winding_limbs: tuple[str, ...]
 
-    def read_core(self, t: TableReader) -> object: ...
+    def read_core(self, t: TableReader) -> Any: ...
 
-    def limbs(self, core: object) -> dict[str, Limb]: ...
+    def limbs(self, core: Any) -> dict[str, Limb]: ...
 
-    def core_rects(self, core: object) -> list[Rect]: ...
+    def core_rects(self, core: Any) -> list[Rect]: ...
 
-    def segments(self, core: object) -> list[Segment]: ...
+    def segments(self, core: Any) -> list[Segment]: ...
 
-    def mean_path(self, core: object) -> list[tuple[float, float]]: ...
+    def mean_path(self, core: Any) -> list[tuple[float, float]]: ...
 
 
 # ---------------------------------------------------------------------------
@@ -102,9 +102,9 @@ class WindowCoreDims:
 class WindowCore:
     """``window-core``: rectangular frame, one window, four limbs."""
 
-    name = "window-core"
-    limb_names = ("left", "right", "top", "bottom")
-    winding_limbs = limb_names
+    name: str = "window-core"
+    limb_names: tuple[str, ...] = ("left", "right", "top", "bottom")
+    winding_limbs: tuple[str, ...] = limb_names
 
     def read_core(self, t: TableReader) -> WindowCoreDims:
         ow = t.quantity("outer_width", "length")
@@ -201,9 +201,9 @@ class EICoreDims:
 class EICore:
     """``ei-core``: centre limb with the winding, flux splitting into two outer limbs."""
 
-    name = "ei-core"
-    limb_names = ("centre", "left", "right")
-    winding_limbs = ("centre",)
+    name: str = "ei-core"
+    limb_names: tuple[str, ...] = ("centre", "left", "right")
+    winding_limbs: tuple[str, ...] = ("centre",)
 
     def read_core(self, t: TableReader) -> EICoreDims:
         centre = t.quantity("centre_width", "length")

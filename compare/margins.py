@@ -210,7 +210,7 @@ def _label_current(i: float) -> str:
 
 
 def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: float = math.nan,
-                   fe_at: Callable[[float], float] | None = None,
+                   fe_at: Callable[[float, str], float] | None = None,
                    hand_at: Callable[[float, str], float] | None = None,
                    saturation: Callable[[float, str], tuple[float, float, str, str]] | None = None,
                    ) -> list[MarginResult]:
@@ -252,16 +252,16 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
                 out.append(MarginResult(f"inductance_{lim.kind}@{lim.at:g}A:{kind}",
                                         f"{label}, {kind}", "H", kind, limit, value, hand=h,
                                         basis=basis))
-    for lim in m.saturation:
+    for sat in m.saturation:
         if saturation is not None:
-            value, h, basis, note = saturation(lim.drop, lim.kind)
+            value, h, basis, note = saturation(sat.drop, sat.kind)
         else:
-            value = h = hand_saturation_current(case, lim.drop, kind=lim.kind)
+            value = h = hand_saturation_current(case, sat.drop, kind=sat.kind)
             basis, note = "hand", ""
             if not math.isfinite(value):
                 value = h = math.inf
                 note = "the hand model's inductance never falls that far"
-        out.append(MarginResult(f"saturation_current@{100 * lim.drop:g}%",
-                                f"saturation current ({lim.kind} L -{100 * lim.drop:g} %)",
-                                "A", "min", lim.min, value, hand=h, basis=basis, note=note))
+        out.append(MarginResult(f"saturation_current@{100 * sat.drop:g}%",
+                                f"saturation current ({sat.kind} L -{100 * sat.drop:g} %)",
+                                "A", "min", sat.min, value, hand=h, basis=basis, note=note))
     return out

@@ -70,7 +70,7 @@ def render_table(title: str, columns: Sequence[str], rows: Sequence[Sequence[str
 
         table = Table(title=title, title_justify="left")
         for c, a in zip(columns, align):
-            table.add_column(c, justify=a)
+            table.add_column(c, justify="left" if a == "left" else "right")
         for r in rows:
             table.add_row(*r)
         console = Console(file=stream)

@@ -7,6 +7,7 @@ import io
 import math
 import platform
 from importlib import metadata
+from typing import Any
 
 from .check import CheckResult, Row
 from .hand import HAND_KEYS, UNITS
@@ -65,7 +66,7 @@ def check_json(res: CheckResult) -> dict:
     ``comparison`` one entry per table row.
     """
     fe = res.fe
-    fe_block = {k: fe.values[k] for k in HAND_KEYS}
+    fe_block: dict[str, Any] = {k: fe.values[k] for k in HAND_KEYS}
     fe_block.update({
         "uncertainty": {k: fe.uncertainty.get(k) for k in (*HAND_KEYS, "peak_B")},
         "peak_B": fe.fine.peak_B,

@@ -469,7 +469,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
             history, slope, hand_start = [], None, (None, None)
             continue
         hand_start = tuple({b.name: b.flux for b in h.network.branches} for h in (h3, hp))
-        base = dict(index=idx, settings=settings, current=current, hand=h3.values(),
+        base: dict[str, Any] = dict(index=idx, settings=settings, current=current, hand=h3.values(),
                     hand_planar=hp.values(), hand_peak_B=_hand_peak(hp),
                     depth_factor=depth_factor(case))
         if not task.with_fe:
@@ -695,18 +695,18 @@ def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "in
                 f"saturation_current@{100 * lim.drop:g}%{suffix}",
                 f"saturation current ({lim.kind} L -{100 * lim.drop:g} %){suffix}", "A", "min",
                 lim.min, s_main, hand=s_hand, basis="FE" if res.with_fe else "hand", note=note))
-        for lim in m.inductance:
-            key = "inductance" if lim.kind == "secant" else "incremental_inductance"
+        for ind in m.inductance:
+            key = "inductance" if ind.kind == "secant" else "incremental_inductance"
             if res.with_fe:
-                value = _interp(pts, lim.at, lambda p: p.fe.get(key, math.nan) * p.depth_factor)
+                value = _interp(pts, ind.at, lambda p: p.fe.get(key, math.nan) * p.depth_factor)
             else:
-                value = _interp(pts, lim.at, lambda p: p.hand.get(key, math.nan))
-            h = _interp(pts, lim.at, lambda p: p.hand.get(key, math.nan))
-            for kind_, limit in (("min", lim.min), ("max", lim.max)):
+                value = _interp(pts, ind.at, lambda p: p.hand.get(key, math.nan))
+            h = _interp(pts, ind.at, lambda p: p.hand.get(key, math.nan))
+            for kind_, limit in (("min", ind.min), ("max", ind.max)):
                 if limit is not None:
                     margins.append(MarginResult(
-                        f"inductance_{lim.kind}@{lim.at:g}A:{kind_}{suffix}",
-                        f"inductance ({lim.kind}) at {lim.at:g} A, {kind_}{suffix}", "H", kind_,
+                        f"inductance_{ind.kind}@{ind.at:g}A:{kind_}{suffix}",
+                        f"inductance ({ind.kind}) at {ind.at:g} A, {kind_}{suffix}", "H", kind_,
                         limit, value, hand=h, basis="FE" if res.with_fe else "hand",
                         note="" if math.isfinite(value) else "current outside the swept range"))
         if m.peak_B is not None and res.with_fe:

@@ -316,9 +316,9 @@ def junit_xml(res: VerifyResult) -> str:
         suite.set("failures", str(nfail))
         suite.set("errors", str(nerr))
         suite.set("skipped", str(nskip))
-    total = sum(int(s.get("tests")) for s in suites)
+    total = sum(int(s.get("tests", "0")) for s in suites)
     suites.set("tests", str(total))
-    suites.set("failures", str(sum(int(s.get("failures")) for s in suites)))
-    suites.set("errors", str(sum(int(s.get("errors")) for s in suites)))
+    suites.set("failures", str(sum(int(s.get("failures", "0")) for s in suites)))
+    suites.set("errors", str(sum(int(s.get("errors", "0")) for s in suites)))
     ET.indent(suites)
     return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(suites, encoding="unicode") + "\n"

@@ -135,13 +135,13 @@ class Assembler:
     def coefficients(self, s: np.ndarray, derivative: bool = True):
         """nu(s) and dnu/ds(s) at quadrature points, arrays (ne, nq)."""
         nu = np.empty_like(s)
-        dnu = np.zeros_like(s) if derivative else None
+        dnu = np.zeros_like(s)
         for law, idx in zip(self.laws, self.groups):
             si = s[idx]
             nu[idx] = law.nu(si)
             if derivative:
                 dnu[idx] = law.dnu_ds(si)
-        return nu, dnu
+        return nu, (dnu if derivative else None)
 
     def energy_density(self, s: np.ndarray) -> np.ndarray:
         """w(s) at quadrature points (ne, nq), J/m^3."""

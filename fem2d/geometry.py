@@ -176,11 +176,11 @@ def _build(gmsh, layout: Layout) -> GmshArrays:
     gmsh.model.mesh.renumberNodes()
     t2 = time.perf_counter()
 
-    tags, coords, _ = gmsh.model.mesh.getNodes()
-    tags = np.asarray(tags, dtype=np.int64)
+    node_tags_raw, coords, _ = gmsh.model.mesh.getNodes()
+    node_tags = np.asarray(node_tags_raw, dtype=np.int64)
     xyz = np.asarray(coords).reshape(-1, 3)
-    lookup = np.full(int(tags.max()) + 1, -1, dtype=np.int64)
-    lookup[tags] = np.arange(len(tags))
+    lookup = np.full(int(node_tags.max()) + 1, -1, dtype=np.int64)
+    lookup[node_tags] = np.arange(len(node_tags))
     etype = _TRI[layout.mesh.order]
     nper = 3 * layout.mesh.order
     tri_blocks, id_blocks = [], []
@@ -204,7 +204,7 @@ def _build(gmsh, layout: Layout) -> GmshArrays:
     edges = np.hstack(edge_blocks)
     # keep only nodes used by triangles, numbered 0..n-1
     used, inv = np.unique(tris, return_inverse=True)
-    renum = np.full(len(tags), -1, dtype=np.int64)
+    renum = np.full(len(node_tags), -1, dtype=np.int64)
     renum[used] = np.arange(len(used))
     tris = inv.reshape(tris.shape).astype(np.int64)
     edges = renum[edges]

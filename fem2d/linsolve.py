@@ -14,7 +14,7 @@ A factory takes a CSR matrix and returns ``solve(rhs) -> x``.  Registry:
 from __future__ import annotations
 
 import logging
-from typing import Callable
+from typing import Any, Callable
 
 import numpy as np
 import scipy.sparse as sp
@@ -49,8 +49,8 @@ class IterativeSolve:
     def __init__(self, K: sp.csr_matrix, M, rtol: float, maxiter: int, name: str):
         self.K, self.M, self.rtol, self.maxiter, self.name = K, M, rtol, maxiter, name
         self.iterations = 0
-        self.rate = None  # CG iterations per decade of residual reduction
-        self.on_done = None
+        self.rate: float | None = None  # CG iterations per decade of residual reduction
+        self.on_done: Callable[[IterativeSolve], None] | None = None
 
     def __call__(self, rhs: np.ndarray, rtol: float | None = None) -> np.ndarray:
         rtol = self.rtol if rtol is None else max(float(rtol), self.rtol)
@@ -67,7 +67,7 @@ class IterativeSolve:
         if self.on_done is not None:
             self.on_done(self)
         if info != 0:
-            res = np.linalg.norm(rhs - self.K @ x) / max(np.linalg.norm(rhs), 1e-300)
+            res = float(np.linalg.norm(rhs - self.K @ x)) / max(float(np.linalg.norm(rhs)), 1e-300)
             if res > 1e3 * rtol:
                 raise LinearSolverError(
                     f"{self.name}: no convergence after {self.maxiter} iterations (rel. residual {res:.2e})")
@@ -98,9 +98,9 @@ class AmgCgReuse:
 
     def __init__(self, rtol: float = 1e-12, maxiter: int = 1000, growth: float = 1.2):
         self.rtol, self.maxiter, self.growth = rtol, maxiter, growth
-        self._M = None
-        self._last = None
-        self._base_rate = None
+        self._M: Any = None
+        self._last: IterativeSolve | None = None
+        self._base_rate: float | None = None
 
     def __call__(self, K: sp.csr_matrix) -> IterativeSolve:
         last = self._last

@@ -4,6 +4,8 @@ The array layout is decided here once: scikit-fem's (dim, n).
 """
 from __future__ import annotations
 
+from typing import Any
+
 import time
 from dataclasses import dataclass, field
 
@@ -35,7 +37,7 @@ class RegionMesh:
     region_names : tuple of str
     """
 
-    mesh: object
+    mesh: Any
     subdomains: dict
     boundaries: dict
     layout: Layout

@@ -12,7 +12,7 @@ from __future__ import annotations
 import logging
 import time
 from dataclasses import dataclass, field
-from typing import Callable
+from typing import Any, Callable
 
 import numpy as np
 from threadpoolctl import threadpool_limits
@@ -61,7 +61,7 @@ class FieldSolution:
     """
 
     A: np.ndarray
-    basis: object
+    basis: Any
     mesh: RegionMesh
     converged: bool
     iterations: int
@@ -72,7 +72,7 @@ class FieldSolution:
     currents: dict
     timings: dict
     ndofs: int
-    assembler: Assembler = field(repr=False, compare=False, default=None)
+    assembler: Any = field(repr=False, compare=False, default=None)
     linear_solver: object = field(repr=False, compare=False, default=None)
 
     def raise_if_failed(self) -> "FieldSolution":
@@ -282,7 +282,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
         Az[I] = 0.0
         gz = asm.grad(Az)
         nuz, _ = asm.coefficients(gz[0] ** 2 + gz[1] ** 2, derivative=False)
-        ref = max(np.linalg.norm(asm.b[I]), np.linalg.norm(asm.residual(gz, nuz)[I]))
+        ref = max(float(np.linalg.norm(asm.b[I])), float(np.linalg.norm(asm.residual(gz, nuz)[I])))
         if ref == 0.0:
             ref = 1.0
         g = asm.grad(A)

@@ -202,10 +202,10 @@ def run(args: argparse.Namespace) -> int:
     if args.plots:
         for p in save_sweep_figures(res, args.plots):
             sys.stdout.write(f"figure: {p}\n")
-    failed = [p for p in res.points if not p.converged]
+    failed = [pt for pt in res.points if not pt.converged]
     if failed:
-        for p in failed:
-            print(f"magcheck: point {p.index} ({', '.join(f'{k} = {v:g}' for k, v in p.settings.items())}) "
-                  f"failed: {p.message}", file=sys.stderr)
+        for pt in failed:
+            print(f"magcheck: point {pt.index} ({', '.join(f'{k} = {v:g}' for k, v in pt.settings.items())}) "
+                  f"failed: {pt.message}", file=sys.stderr)
         return 3
     return 1 if any(m.verdict == "FAIL" for m in margins) else 0
