@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import math
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 from analytic.fringing import FRINGING_MODELS, get_fringing
@@ -91,7 +91,6 @@ class CheckResult:
     notes: tuple[str, ...]
     timings: dict[str, float]
     fringing_ranking: tuple[dict, ...] = ()
-    extra: dict = field(default_factory=dict)
 
     @property
     def passed(self) -> bool:

@@ -9,7 +9,6 @@ beside it. Families (window core, EI core, ...) describe their limbs with
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 __all__ = ["Limb", "Gap", "Winding", "Rect", "gap_rect", "coil_rects"]
@@ -133,11 +132,3 @@ def coil_rects(limb: Limb, winding: Winding) -> tuple[Rect, Rect]:
     plus = limb.rect(a0, a1, limb.c1, limb.c1 + winding.thickness)
     minus = limb.rect(a0, a1, limb.c0 - winding.thickness, limb.c0)
     return plus, minus
-
-
-def rect_area(r: Rect) -> float:
-    return (r[2] - r[0]) * (r[3] - r[1])
-
-
-def is_finite(*values: float) -> bool:
-    return all(math.isfinite(v) for v in values)

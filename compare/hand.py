@@ -146,13 +146,6 @@ def _json_float(v: float) -> float | None:
     return v if math.isfinite(v) else None
 
 
-def _winding_value(value: Any) -> float:
-    """Network results give per-winding values as a mapping by winding name."""
-    if isinstance(value, dict):
-        return float(value[WINDING_NAME])
-    return float(value)
-
-
 def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
              flux0: Any = None) -> HandResult:
     """Solve the case's magnetic circuit.
@@ -183,9 +176,9 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
         fringing_model=get_fringing(fringing or case.hand.fringing).name,
         planar=planar,
         gap_B=gap_B, core_B=core_B, path_H=path_H, flux=flux,
-        flux_linkage=abs(_winding_value(res.flux_linkage)),
-        inductance=_winding_value(res.inductance),
-        incremental_inductance=_winding_value(res.incremental_inductance),
+        flux_linkage=abs(res.flux_linkage[WINDING_NAME]),
+        inductance=res.inductance[WINDING_NAME],
+        incremental_inductance=res.incremental_inductance[WINDING_NAME],
         energy=float(res.energy),
         iterations=res.iterations,
         residual=float(res.residual_history[-1]) if res.residual_history else 0.0,

@@ -12,7 +12,6 @@ import matplotlib
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
-from matplotlib.collections import LineCollection  # noqa: E402
 from matplotlib.patches import Rectangle  # noqa: E402
 from matplotlib.tri import Triangulation  # noqa: E402
 

@@ -32,9 +32,9 @@ _CAPTIONS = {
 }
 
 
-def _table(headers, rows, classes=None) -> str:
+def _table(headers, rows) -> str:
     out = ["<table><tr>" + "".join(f"<th>{html.escape(h)}</th>" for h in headers) + "</tr>"]
-    for i, r in enumerate(rows):
+    for r in rows:
         cells = []
         for c in r:
             word = str(c).split(",")[0]

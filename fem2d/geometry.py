@@ -73,58 +73,63 @@ def _add_shape(occ, s) -> list[tuple[int, int]]:
     raise LayoutError(f"unknown shape {s!r}")  # pragma: no cover - Region checks shapes
 
 
+def _constant_field(gmsh, surfs: list[int], size_in: float, size_out: float) -> int:
+    """A Constant size field: ``size_in`` on the surfaces, ``size_out`` elsewhere."""
+    fld = gmsh.model.mesh.field
+    c = fld.add("Constant")
+    fld.setNumber(c, "VIn", size_in)
+    fld.setNumber(c, "VOut", size_out)
+    fld.setNumbers(c, "SurfacesList", surfs)
+    return c
+
+
+def _graded_field(gmsh, surfs: list[int], size_min: float, size_max: float, dist_min: float,
+                  dist_max: float, sampling: int, stop_at_max: bool) -> int:
+    """Distance to the surfaces' boundary curves fed to a Threshold field.
+
+    ``stop_at_max``: beyond ``dist_max`` the field returns a huge size, so a
+    Min field ignores it there (without it a Threshold holds ``size_max``
+    everywhere beyond, which inside a Min keeps the whole air that fine).
+    """
+    fld = gmsh.model.mesh.field
+    curves = sorted({abs(t) for s in surfs
+                     for _, t in gmsh.model.getBoundary([(2, s)], oriented=False)})
+    d = fld.add("Distance")
+    fld.setNumbers(d, "CurvesList", curves)
+    fld.setNumber(d, "Sampling", sampling)
+    th = fld.add("Threshold")
+    fld.setNumber(th, "InField", d)
+    fld.setNumber(th, "SizeMin", size_min)
+    fld.setNumber(th, "SizeMax", size_max)
+    fld.setNumber(th, "DistMin", dist_min)
+    fld.setNumber(th, "DistMax", dist_max)
+    if stop_at_max:
+        fld.setNumber(th, "StopAtDistMax", 1)
+    return th
+
+
 def _size_fields(gmsh, layout: Layout, owner_surfs: dict[int, list[int]]) -> None:
     """Mesh-size fields: regions at h, gaps at g/n, air graded up to h*air_size_factor."""
     fld = gmsh.model.mesh.field
     ms = layout.mesh
     h = layout.core_size()
     h_air = h * ms.air_size_factor
-    ids = []
     region_surfs = [t for i, ts in owner_surfs.items() if i > 0 for t in ts]
-    # constant size inside every region
-    c = fld.add("Constant")
-    fld.setNumber(c, "VIn", h)
-    fld.setNumber(c, "VOut", h_air)
-    fld.setNumbers(c, "SurfacesList", region_surfs)
-    ids.append(c)
-    # graded growth into the air from the regions' boundaries
-    curves = sorted({abs(t) for s in region_surfs
-                     for _, t in gmsh.model.getBoundary([(2, s)], oriented=False)})
-    d = fld.add("Distance")
-    fld.setNumbers(d, "CurvesList", curves)
-    fld.setNumber(d, "Sampling", 200)
-    th = fld.add("Threshold")
-    fld.setNumber(th, "InField", d)
-    fld.setNumber(th, "SizeMin", h)
-    fld.setNumber(th, "SizeMax", h_air)
-    fld.setNumber(th, "DistMin", 0.0)
-    fld.setNumber(th, "DistMax", (h_air - h) / ms.grading)
-    ids.append(th)
+    ids = [
+        # constant size inside every region
+        _constant_field(gmsh, region_surfs, h, h_air),
+        # graded growth into the air from the regions' boundaries
+        _graded_field(gmsh, region_surfs, h, h_air, 0.0, (h_air - h) / ms.grading, 200, False),
+    ]
     # gap refinement: at least gap_elements across the shortest side
     for i, r in enumerate(layout.regions, start=1):
         if r.kind != "gap" or not owner_surfs.get(i):
             continue
         g = r.feature()
         hg = min(h, g / ms.gap_elements)
-        cg = fld.add("Constant")
-        fld.setNumber(cg, "VIn", hg)
-        fld.setNumber(cg, "VOut", h_air)
-        fld.setNumbers(cg, "SurfacesList", owner_surfs[i])
-        ids.append(cg)
-        gcurves = sorted({abs(t) for s in owner_surfs[i]
-                          for _, t in gmsh.model.getBoundary([(2, s)], oriented=False)})
-        dg = fld.add("Distance")
-        fld.setNumbers(dg, "CurvesList", gcurves)
-        fld.setNumber(dg, "Sampling", 100)
-        tg = fld.add("Threshold")
-        fld.setNumber(tg, "InField", dg)
-        fld.setNumber(tg, "SizeMin", hg)
-        fld.setNumber(tg, "SizeMax", h)
-        fld.setNumber(tg, "DistMin", 0.5 * g)
-        fld.setNumber(tg, "DistMax", 0.5 * g + (h - hg) / ms.grading)
-        # beyond DistMax return a huge size so the Min field ignores it there
-        fld.setNumber(tg, "StopAtDistMax", 1)
-        ids.append(tg)
+        ids.append(_constant_field(gmsh, owner_surfs[i], hg, h_air))
+        ids.append(_graded_field(gmsh, owner_surfs[i], hg, h, 0.5 * g,
+                                 0.5 * g + (h - hg) / ms.grading, 100, True))
     m = fld.add("Min")
     fld.setNumbers(m, "FieldsList", ids)
     fld.setAsBackgroundMesh(m)
