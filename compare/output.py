@@ -1,15 +1,20 @@
-"""Output at the edge: atomic file writes, terminal tables, the caution text."""
+"""Output at the edge: the one writer of every output file, terminal tables, the caution text."""
 
 from __future__ import annotations
 
+import errno
+import io
 import json
 import math
 import os
+import stat
+import sys
 import tempfile
 from pathlib import Path
-from typing import Any, Sequence, TextIO
+from typing import Any, Callable, Sequence, TextIO
 
-__all__ = ["CAUTION", "atomic_write_text", "write_json", "render_table"]
+__all__ = ["CAUTION", "STDOUT", "FIGURE_FORMATS", "write_output", "atomic_write_text",
+           "write_produced", "figure_format", "save_figure", "write_json", "render_table"]
 
 CAUTION = (
     "Caution: magcheck's results are design estimates. Confirm them by measurement "
@@ -18,28 +23,117 @@ CAUTION = (
 )
 
 
+STDOUT = "-"
+"""The path that means standard output (``--json -``, ``--csv -``, ``--markdown -``)."""
+
+FIGURE_FORMATS: tuple[str, ...] = ("png", "svg", "pdf")
+"""Figure file suffixes every figure option accepts."""
+
+
 def _umask() -> int:
     mask = os.umask(0)
     os.umask(mask)
     return mask
 
 
-def atomic_write_text(path: str | Path, text: str) -> None:
-    """Write a text file completely or not at all (temp file + rename)."""
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+def write_output(path: str | Path, data: str | bytes) -> Path | None:
+    """Write one output, destroying nothing at ``path`` beyond the file it writes.
+
+    - ``"-"``: standard output (returns None).
+    - A symlink is written through to its final target (atomically beside the
+      target); the link itself stays.
+    - A regular file or a new path: a temporary file beside it, then a rename,
+      so the file is complete or absent; missing parent folders are created;
+      an existing file keeps its permission bits, a new one follows the umask.
+    - Anything else that exists (``/dev/null``, ``/dev/stdout``, a FIFO, a
+      character device) is opened and written directly, never replaced.
+    - A folder is an error (``IsADirectoryError``, reported by the CLI).
+
+    Text is written as UTF-8 with the newlines given. Returns the path written
+    (the link's target for a symlink).
+    """
+    blob = data.encode("utf-8") if isinstance(data, str) else bytes(data)
+    if os.fspath(path) == STDOUT:
+        stream = sys.stdout
+        stream.flush()
+        buffer = getattr(stream, "buffer", None)
+        if buffer is not None:
+            buffer.write(blob)
+            buffer.flush()
+        else:  # a text-only stream (tests capture stdout this way)
+            stream.write(blob.decode("utf-8"))
+            stream.flush()
+        return None
+    target = Path(os.path.realpath(path)) if os.path.islink(path) else Path(path)
     try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as f:
-            f.write(text)
-        os.chmod(tmp, 0o666 & ~_umask())
-        os.replace(tmp, path)
+        st: os.stat_result | None = os.stat(target)
+    except FileNotFoundError:
+        st = None
+    if st is not None and stat.S_ISDIR(st.st_mode):
+        raise IsADirectoryError(errno.EISDIR, "is a folder, not a file", os.fspath(path))
+    if st is not None and not stat.S_ISREG(st.st_mode):
+        with open(target, "wb") as f:  # device, FIFO, socket: write into it
+            f.write(blob)
+        return target
+    target.parent.mkdir(parents=True, exist_ok=True)
+    mode = stat.S_IMODE(st.st_mode) if st is not None else 0o666 & ~_umask()
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+    try:
+        with os.fdopen(fd, "wb") as f:
+            f.write(blob)
+        os.chmod(tmp, mode)
+        os.replace(tmp, target)
     except BaseException:
         try:
             os.unlink(tmp)
         except FileNotFoundError:
             pass
         raise
+    return target
+
+
+def atomic_write_text(path: str | Path, text: str) -> Path | None:
+    """Write a text output (see `write_output`)."""
+    return write_output(path, text)
+
+
+def write_produced(path: str | Path, produce: Callable[[str], object], suffix: str) -> Path | None:
+    """Write an output that a third-party writer can only make as a named file.
+
+    ``produce(tmp_path)`` writes the file into a private temporary folder; its
+    bytes then go through `write_output`, so the same rules hold (VTU via meshio).
+    """
+    with tempfile.TemporaryDirectory(prefix="magcheck-") as folder:
+        tmp = os.path.join(folder, "out" + suffix)
+        produce(tmp)
+        with open(tmp, "rb") as f:
+            blob = f.read()
+    return write_output(path, blob)
+
+
+def figure_format(path: str | Path, option: str) -> str:
+    """The figure format of ``path`` from its suffix; bad input names the option.
+
+    Raises `CaseError` (CLI exit 2) for a missing or unsupported suffix.
+    """
+    from .errors import CaseError
+
+    suffix = Path(os.fspath(path)).suffix.lower().lstrip(".")
+    works = ", ".join("." + f for f in FIGURE_FORMATS)
+    if not suffix:
+        raise CaseError(option, os.fspath(path), f"has no figure suffix; use one of {works}")
+    if suffix not in FIGURE_FORMATS:
+        raise CaseError(option, os.fspath(path),
+                        f"figure suffix .{suffix} is not supported; use one of {works}")
+    return suffix
+
+
+def save_figure(fig: Any, path: str | Path, *, option: str = "--plot", dpi: int = 110) -> Path | None:
+    """Render a matplotlib figure and write it with `write_output` (format from the suffix)."""
+    fmt = figure_format(path, option)
+    buf = io.BytesIO()
+    fig.savefig(buf, format=fmt, dpi=dpi)
+    return write_output(path, buf.getvalue())
 
 
 def _clean(obj: Any) -> Any:
@@ -55,8 +149,9 @@ def _clean(obj: Any) -> Any:
     return obj
 
 
-def write_json(path: str | Path, data: dict) -> None:
-    atomic_write_text(path, json.dumps(_clean(data), indent=2, allow_nan=False) + "\n")
+def write_json(path: str | Path, data: dict) -> Path | None:
+    """Write standard JSON (non-finite floats as null) with `write_output`."""
+    return write_output(path, json.dumps(_clean(data), indent=2, allow_nan=False) + "\n")
 
 
 def render_table(title: str, columns: Sequence[str], rows: Sequence[Sequence[str]],
