@@ -34,6 +34,7 @@ from analytic.materials import bh_from_table, builtin, builtin_names, load_bh_cs
 from .errors import CaseError
 from .families import FAMILIES, Family, get_family
 from .geometry import Gap, Limb, Winding
+from .keys import key_dimension, parse_key, parse_vary
 from .reader import TableReader
 
 __all__ = ["Case", "MaterialSpec", "HandSettings", "FESettings", "Margins",
@@ -458,7 +459,6 @@ def _read_sweeps(root: TableReader, name: str) -> tuple[SweepDecl, ...]:
     items = [raw] if isinstance(raw, dict) else raw
     if not isinstance(items, list):
         raise CaseError(name, raw, "must be a table [sweep] or an array of tables [[sweep]]")
-    from .sweep import parse_vary  # syntax of the specs (sweep imports this module)
 
     out = []
     for i, item in enumerate(items):
@@ -485,7 +485,6 @@ DISTRIBUTIONS = ("uniform", "normal")
 
 
 def _read_tolerance(t: TableReader) -> Tolerance:
-    from .sweep import key_dimension, parse_key  # sweep imports this module
 
     key = t.string("key")
     try:

@@ -39,7 +39,8 @@ import numpy as np
 from .case import Case, Tolerance
 from .errors import CaseError, RunError
 from .margins import MarginResult, design_margins, hand_saturation_current, inductance_of, with_current
-from .sweep import SCALE_KEYS, CaseSource, key_dimension, make_case, parse_key
+from .keys import SCALE_KEYS, key_dimension, parse_key
+from .sweep import CaseSource, make_case
 from .units import UnitError, parse_quantity
 
 __all__ = ["nominal_value", "draw_samples", "SampleResult", "ToleranceResult", "run_tolerance",
