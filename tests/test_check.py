@@ -140,6 +140,7 @@ def choke_run(tmp_path_factory):
     return code, out
 
 
+@pytest.mark.slow
 def test_check_outputs(choke_run):
     code, out = choke_run
     assert code == 0

@@ -56,6 +56,7 @@ def test_unreachable_scheduler_is_bad_input(capsys):
     assert "--scheduler" in capsys.readouterr().err
 
 
+@pytest.mark.slow
 def test_dask_local_cluster_equals_serial(tmp_path):
     distributed = pytest.importorskip("distributed")
     # A linear core: this test is about the executor (order, one gmsh session

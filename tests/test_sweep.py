@@ -131,6 +131,7 @@ def test_hand_saturation_current_against_independent_root():
         assert hand_saturation_current(case, drop) == pytest.approx(ref, rel=1e-5)
 
 
+@pytest.mark.slow
 def test_hand_sweep_saturation_current(tmp_path):
     src, case = case_source(CHOKE)
     res = run_sweep(src, [parse_vary("winding.current=0:20A:41")], with_fe=False)
@@ -145,6 +146,7 @@ def test_hand_sweep_saturation_current(tmp_path):
         assert row[f"{100 * drop:g}%"] == pytest.approx(ref, rel=0.02)
 
 
+@pytest.mark.slow
 def test_sweep_margins_judge_declared_limits(tmp_path):
     extra = ('\n[[margins.saturation_current]]\ndrop_pct = 20\nmin = "5 A"\n'
              '\n[[margins.saturation_current]]\ndrop_pct = 10\nmin = "9 A"\n')
@@ -176,6 +178,7 @@ FE_SPEC = "winding.current=2A,4A,8A,10A"
 WARM_SPEC = "winding.current=7A,7.5A,8A,8.5A"
 
 
+@pytest.mark.slow
 def test_warm_start_matches_cold_and_predicts_better(fe_src):
     spec = [parse_vary(WARM_SPEC)]
     cold = run_sweep(fe_src, spec, predictor="none", workers=1)
@@ -201,6 +204,7 @@ def test_warm_start_matches_cold_and_predicts_better(fe_src):
             assert p_tan.first_residual < 0.5 * p_prev.first_residual < 0.5
 
 
+@pytest.mark.slow
 def test_processes_equal_serial(fe_src):
     spec = [parse_vary(FE_SPEC)]
     serial = run_sweep(fe_src, spec, workers=1, block=3)

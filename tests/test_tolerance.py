@@ -58,6 +58,7 @@ def test_undeclared_key_is_bad_input(src):
     assert "tolerances[0].key" in str(exc.value) and "nominal" in str(exc.value)
 
 
+@pytest.mark.slow
 def test_hand_only_reproducible_and_worker_independent(src):
     a = run_tolerance(src, samples=6, seed=3, fe_samples=0, workers=1)
     b = run_tolerance(src, samples=6, seed=3, fe_samples=0, workers=2)
@@ -115,6 +116,7 @@ def test_fe_subset_values_and_correction(tmp_path):
     assert res.yield_fraction == pytest.approx(np.mean(peak <= 1.7), abs=1e-12)
 
 
+@pytest.mark.slow
 def test_tolerance_cli(tmp_path):
     # The saturation-current limit set near the middle of its spread (about
     # 6-7 A for these tolerances), so some samples meet it and some do not.

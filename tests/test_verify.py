@@ -96,6 +96,7 @@ def test_bad_case_exit_2_others_still_run(folder, tmp_path, capsys):
     assert root.get("errors") == "1" and len(root.findall("testsuite")) == 2
 
 
+@pytest.mark.slow
 def test_baseline_drift_flagged(folder, tmp_path):
     path = folder / "good.toml"
     stored = {"good": snapshot(run_check(load_case(path)))}
