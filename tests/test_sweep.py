@@ -85,9 +85,10 @@ def test_scale_law_acts_on_polarisation():
     # Source: exact, by the definition in compare.sweep.scale_law:
     # B_new(H) = mu0 H + k_b (B(H/k_h) - mu0 H/k_h).
     expect = mu_0 * h + k_b * (law.b_of_h(h / k_h) - mu_0 * h / k_h)
-    # 1e-6: the curve is rebuilt by monotone cubic interpolation through the
-    # scaled table; between knots the two interpolants differ slightly.
-    assert np.allclose(s.b_of_h(h), expect, rtol=2e-3)
+    # 2e-6: the curve is rebuilt by monotone cubic interpolation through the
+    # scaled table; between knots the two interpolants differ slightly (by at
+    # most 1.1e-6 relative over H = 1 A/m .. 1 MA/m, measured on a dense grid).
+    assert np.allclose(s.b_of_h(h), expect, rtol=2e-6, atol=0.0)
     assert np.allclose(s.b_of_h(law.h_points[1:] * k_h),
                        mu_0 * law.h_points[1:] * k_h + k_b * (law.b_points[1:] - mu_0 * law.h_points[1:]),
                        rtol=1e-9)  # at the knots the table is reproduced to round-off
@@ -210,11 +211,13 @@ def test_processes_equal_serial(fe_src):
     serial = run_sweep(fe_src, spec, workers=1, block=3)
     par = run_sweep(fe_src, spec, workers=2, block=3)
     assert par.executor == "processes" and par.workers == 2
-    assert sum(p.converged for p in serial.points) >= 2
+    # Every point converges on this mesh (2..10 A, warm starts in blocks of 3);
+    # a stalled point would leave nothing to compare, so it fails the test.
+    assert [p.converged for p in serial.points] == [True] * 4
+    assert [p.converged for p in par.points] == [True] * 4
     for a, b in zip(serial.points, par.points):
         assert a.index == b.index and a.settings == b.settings
-        if not (a.converged and b.converged):
-            continue  # a stalled Newton run (reported, exit 3) has no values to compare
+        assert a.start == b.start  # same blocks: the same warm-start sequence
         for k in ("inductance", "incremental_inductance", "energy"):
             # Same blocks, same warm-start sequence; only the AMG setup's
             # random start vector differs, inside the Newton tolerance (1e-8).
