@@ -18,6 +18,7 @@ from compare.check import run_check
 from compare.cli import main
 from compare.fe import run_fe
 from compare.hand import run_hand
+from figures import assert_drawn
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -158,11 +159,32 @@ def test_check_outputs(choke_run):
             assert row["difference_pct"] == pytest.approx(
                 100 * (row["hand"] - row["fe"]) / abs(row["fe"]), rel=1e-9)
     assert [d["model"] for d in data["fringing_ranking"]]
+    # The ranking: every fringing model once, each one's differences those of
+    # its planar hand values against the FE values of this run, best RMS first.
+    from analytic.fringing import FRINGING_MODELS
+
+    ranking = data["fringing_ranking"]
+    assert sorted(d["model"] for d in ranking) == sorted(FRINGING_MODELS)
+    case = load_case(CASES / "demo_choke.toml")
+    for d in ranking:
+        h = run_hand(case, fringing=d["model"], planar=True).values()
+        diffs = [100 * (h[k] - data["fe"][k]) / data["fe"][k] for k in ("gap_B", "flux", "inductance")]
+        assert d["inductance_difference_pct"] == pytest.approx(diffs[2], rel=1e-9)
+        assert d["rms_difference_pct"] == pytest.approx(
+            math.sqrt(sum(x * x for x in diffs) / 3), rel=1e-9)
+    rms = [d["rms_difference_pct"] for d in ranking]
+    assert rms == sorted(rms)
+    # The ideal gap (no fringing) has the smallest permeance of all models, so
+    # its inductance lies furthest below the FE's (which has all the fringing
+    # and window leakage): its inductance difference is the most negative.
+    by = {d["model"]: d["inductance_difference_pct"] for d in ranking}
+    assert by["none"] == min(by.values()) and by["none"] < 0
     assert "Caution" in (out / "r.md").read_text()
     html = (out / "report" / "index.html").read_text()
     for fig in ("geometry.png", "flux.png", "gap_line.png", "path_h.png", "bh.png"):
         png = out / "report" / fig
         assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and fig in html
+        assert_drawn(png)
     assert "design estimates" in html
     import meshio
 

@@ -8,6 +8,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from figures import assert_drawn
 from scipy.constants import mu_0
 from scipy.optimize import brentq
 
@@ -238,6 +239,7 @@ def test_sweep_cli_outputs(tmp_path):
     assert len((out / "s.csv").read_text().splitlines()) == 4
     for name in ("sweep_inductance.png", "sweep_flux_linkage.png", "sweep_core_B.png"):
         assert (out / "fig" / name).read_bytes()[:4] == b"\x89PNG"
+        assert_drawn(out / "fig" / name)
     # The CSV and the JSON say the same (round trip of the point table).
     import csv
 

@@ -9,6 +9,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from figures import assert_drawn
 
 from compare.case import Tolerance
 from compare.check import depth_factor
@@ -136,6 +137,7 @@ def test_tolerance_cli(tmp_path):
     sat = np.array(data["values"]["saturation_current"])
     assert data["yield"] == pytest.approx(np.mean(sat >= 6.5))
     assert (tmp_path / "h.png").read_bytes()[:4] == b"\x89PNG"
+    assert_drawn(tmp_path / "h.png")
     assert main(args + ["--min-yield", "100"]) == 1
     assert main(["tolerance", str(CASES / "demo_choke.toml"), "--samples", "3"]) == 2
 
