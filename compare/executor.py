@@ -98,6 +98,41 @@ def run_tasks(fn: Callable[[Any], Any], tasks: Sequence[Any], *, workers: int | 
     return results, ExecInfo("processes", n, time.perf_counter() - t0)
 
 
+def _probe_address(address: str) -> None:
+    """Fail fast on a plain TCP scheduler address nothing listens on.
+
+    dask's client retries a refused connection until its timeout runs out; a
+    single socket connect answers at once when the port is closed. Other
+    schemes (tls://, ...) and host names that do not resolve are left to dask.
+
+    Raises
+    ------
+    CaseError
+        When the connection is refused or times out.
+    """
+    import socket
+    from urllib.parse import urlsplit
+
+    from .errors import CaseError
+
+    text = address if "://" in address else f"tcp://{address}"
+    try:
+        parts = urlsplit(text)
+        host, port = parts.hostname, parts.port
+    except ValueError:
+        return
+    if parts.scheme != "tcp" or not host or port is None:
+        return
+    try:
+        with socket.create_connection((host, port), timeout=CONNECT_TIMEOUT):
+            pass
+    except socket.gaierror:
+        return
+    except OSError as exc:
+        raise CaseError("--scheduler", address,
+                        f"cannot reach the dask scheduler ({exc})") from None
+
+
 def _run_dask(fn, tasks, address, on_done) -> tuple[list, int]:
     try:
         from dask.distributed import Client
@@ -107,6 +142,7 @@ def _run_dask(fn, tasks, address, on_done) -> tuple[list, int]:
         raise CaseError("--scheduler", address, "dask.distributed is not installed") from None
     from .errors import CaseError
 
+    _probe_address(address)
     try:
         client = Client(address, timeout=CONNECT_TIMEOUT, set_as_default=False)
     except (OSError, TimeoutError) as exc:

@@ -26,6 +26,7 @@ def test_every_case_has_a_baseline():
     assert names == set(BASELINE)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("path", CASE_FILES, ids=[p.stem for p in CASE_FILES])
 def test_case_matches_baseline(path):
     case = load_case(path)

@@ -7,6 +7,7 @@ import math
 from pathlib import Path
 
 import pytest
+from figures import assert_drawn
 from scipy.constants import mu_0
 
 from compare.cli import main
@@ -75,6 +76,7 @@ def test_materials_list_and_plot(tmp_path, capsys):
     png = tmp_path / "steel.png"
     assert main(["materials", "demo-sisteel", "--plot", str(png)]) == 0
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    assert_drawn(png)
     assert main(["materials", "demo-steel"]) == 2
 
 
@@ -86,6 +88,20 @@ def test_ei_case_runs(tmp_path):
     assert seg["left"]["flux"] == pytest.approx(0.5 * seg["centre"]["flux"], rel=1e-9)
     assert seg["right"]["flux"] == pytest.approx(seg["left"]["flux"], rel=1e-9)
     assert math.isfinite(seg["gap0"]["B"])
+    # The gap B is the centre-limb flux over the conformal model's effective
+    # area a*b/(sigma_a*sigma_b), a = 16 mm (centre width), b = 24 mm (depth),
+    # g = 0.5 mm, free height h = 30 mm (window height).
+    # Source: Muehlethaler, Kolar, Ecklebe, ICPE-ECCE Asia 2011 [confirmed:
+    # approach], symmetric leg-to-leg form sigma = 1/(1 + (2g/(pi w))(1 +
+    # ln(pi h/(2g)))) [derived, REFERENCES.md section 1]. Tolerance 1e-9: the
+    # same closed form evaluated twice, float rounding only.
+    def sigma(w: float, g: float = 0.5e-3, h: float = 30e-3) -> float:
+        return 1 / (1 + 2 * g / (math.pi * w) * (1 + math.log(math.pi * h / (2 * g))))
+
+    area = 16e-3 * 24e-3 / (sigma(16e-3) * sigma(24e-3))
+    assert seg["gap0"]["area"] == pytest.approx(area, rel=1e-9)
+    assert seg["gap0"]["flux"] == pytest.approx(seg["centre"]["flux"], rel=1e-9)  # in series
+    assert seg["gap0"]["B"] == pytest.approx(seg["centre"]["flux"] / area, rel=1e-9)
 
 
 def test_installed_console_script_runs_outside_the_source_tree(tmp_path):

@@ -56,6 +56,7 @@ def test_unreachable_scheduler_is_bad_input(capsys):
     assert "--scheduler" in capsys.readouterr().err
 
 
+@pytest.mark.slow
 def test_dask_local_cluster_equals_serial(tmp_path):
     distributed = pytest.importorskip("distributed")
     # A linear core: this test is about the executor (order, one gmsh session
@@ -101,3 +102,24 @@ def test_progress_on_a_terminal_only_for_long_runs(monkeypatch):
         p(2, 4)  # 5 s in: the bar appears
         p(3, 4)
     assert "sweep" in buf.getvalue()
+
+
+def test_scheduler_address_probe():
+    import socket
+
+    from compare.errors import CaseError
+    from compare.executor import _probe_address
+
+    # A closed loopback port refuses at once: bad input naming the option and value.
+    with pytest.raises(CaseError) as exc:
+        _probe_address("tcp://127.0.0.1:9")
+    assert exc.value.key == "--scheduler" and exc.value.value == "tcp://127.0.0.1:9"
+    # A listening port passes the probe (dask then does the real handshake).
+    with socket.socket() as srv:
+        srv.bind(("127.0.0.1", 0))
+        srv.listen(1)
+        port = srv.getsockname()[1]
+        assert _probe_address(f"tcp://127.0.0.1:{port}") is None
+        assert _probe_address(f"127.0.0.1:{port}") is None
+    # Schemes other than plain TCP are left to dask.
+    assert _probe_address("inproc://whatever") is None

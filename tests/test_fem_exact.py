@@ -209,4 +209,14 @@ def test_gapped_core_tends_to_ideal_gap_formula():
     # Bounds: 6 % for all cases, 0.5 % for the most ideal one.
     for key, val in ratios.items():
         assert 0.94 < val < 1.06, (key, val)
+    # Tighter, per case. Below: the mean B across the face dips over ~g/2 at
+    # each of its two edges (common practice, no source; measured deficit
+    # 0.4 g/w): ratio > 1 - g/(2w). Above: the flux may shorten its core path
+    # to the window's inner perimeter 4 (60 mm - 2w), no further, so the ratio
+    # is at most (g + l_c/mu_r)/(g + l_inner/mu_r) [derived from the ideal
+    # gapped-core formula, REFERENCES.md section 2].
+    l_inner = 4 * (60 * mm - 2 * w)
+    for (gap, mu_r), val in ratios.items():
+        assert val > 1 - gap / (2 * w), (gap, mu_r, val)
+        assert val < (gap + (lc - gap) / mu_r) / (gap + (l_inner - gap) / mu_r), (gap, mu_r, val)
     assert ratios[(0.2 * mm, 1e5)] == pytest.approx(1.0, abs=5e-3)

@@ -350,3 +350,17 @@ def test_bad_solver_options():
     with pytest.raises(NetworkError, match=r"max_iter = 2\.5"):
         solve_network(net, max_iter=2.5)
     assert math.isfinite(solve_network(net).energy)
+    # The default options solve it: the energy against the scalar loop
+    # equation N I = H(B) l_c + B l_g/mu0 (Ampere's law on the single loop,
+    # REFERENCES.md section 2, nonlinear thin core) and W = A l_c int_0^B H db
+    # + (B A)^2 l_g/(2 mu0 A). Tolerances: brentq to 1e-14 T and quad to 1e-12
+    # relative; the network's Newton stops at 1e-10 relative residual, and W is
+    # stationary at the solution, so 1e-8 holds with room.
+    from scipy.integrate import quad
+
+    l_c, l_g, area, turns = 0.3, 1e-3, 1e-4, 100
+    b = brentq(lambda x: float(SISTEEL.h_of_b(x)) * l_c + x * l_g / mu_0 - turns * 1.0,
+               0.0, 2.0, xtol=1e-14)
+    w_core = quad(lambda x: float(SISTEEL.h_of_b(x)), 0.0, b, epsabs=0, epsrel=1e-12)[0]
+    energy = area * l_c * w_core + (b * area) ** 2 * l_g / (2 * mu_0 * area)
+    assert solve_network(net).energy == pytest.approx(energy, rel=1e-8)

@@ -8,6 +8,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from figures import assert_drawn
 from scipy.constants import mu_0
 from scipy.optimize import brentq
 
@@ -85,9 +86,10 @@ def test_scale_law_acts_on_polarisation():
     # Source: exact, by the definition in compare.sweep.scale_law:
     # B_new(H) = mu0 H + k_b (B(H/k_h) - mu0 H/k_h).
     expect = mu_0 * h + k_b * (law.b_of_h(h / k_h) - mu_0 * h / k_h)
-    # 1e-6: the curve is rebuilt by monotone cubic interpolation through the
-    # scaled table; between knots the two interpolants differ slightly.
-    assert np.allclose(s.b_of_h(h), expect, rtol=2e-3)
+    # 2e-6: the curve is rebuilt by monotone cubic interpolation through the
+    # scaled table; between knots the two interpolants differ slightly (by at
+    # most 1.1e-6 relative over H = 1 A/m .. 1 MA/m, measured on a dense grid).
+    assert np.allclose(s.b_of_h(h), expect, rtol=2e-6, atol=0.0)
     assert np.allclose(s.b_of_h(law.h_points[1:] * k_h),
                        mu_0 * law.h_points[1:] * k_h + k_b * (law.b_points[1:] - mu_0 * law.h_points[1:]),
                        rtol=1e-9)  # at the knots the table is reproduced to round-off
@@ -131,6 +133,7 @@ def test_hand_saturation_current_against_independent_root():
         assert hand_saturation_current(case, drop) == pytest.approx(ref, rel=1e-5)
 
 
+@pytest.mark.slow
 def test_hand_sweep_saturation_current(tmp_path):
     src, case = case_source(CHOKE)
     res = run_sweep(src, [parse_vary("winding.current=0:20A:41")], with_fe=False)
@@ -145,6 +148,7 @@ def test_hand_sweep_saturation_current(tmp_path):
         assert row[f"{100 * drop:g}%"] == pytest.approx(ref, rel=0.02)
 
 
+@pytest.mark.slow
 def test_sweep_margins_judge_declared_limits(tmp_path):
     extra = ('\n[[margins.saturation_current]]\ndrop_pct = 20\nmin = "5 A"\n'
              '\n[[margins.saturation_current]]\ndrop_pct = 10\nmin = "9 A"\n')
@@ -176,6 +180,7 @@ FE_SPEC = "winding.current=2A,4A,8A,10A"
 WARM_SPEC = "winding.current=7A,7.5A,8A,8.5A"
 
 
+@pytest.mark.slow
 def test_warm_start_matches_cold_and_predicts_better(fe_src):
     spec = [parse_vary(WARM_SPEC)]
     cold = run_sweep(fe_src, spec, predictor="none", workers=1)
@@ -201,16 +206,19 @@ def test_warm_start_matches_cold_and_predicts_better(fe_src):
             assert p_tan.first_residual < 0.5 * p_prev.first_residual < 0.5
 
 
+@pytest.mark.slow
 def test_processes_equal_serial(fe_src):
     spec = [parse_vary(FE_SPEC)]
     serial = run_sweep(fe_src, spec, workers=1, block=3)
     par = run_sweep(fe_src, spec, workers=2, block=3)
     assert par.executor == "processes" and par.workers == 2
-    assert sum(p.converged for p in serial.points) >= 2
+    # Every point converges on this mesh (2..10 A, warm starts in blocks of 3);
+    # a stalled point would leave nothing to compare, so it fails the test.
+    assert [p.converged for p in serial.points] == [True] * 4
+    assert [p.converged for p in par.points] == [True] * 4
     for a, b in zip(serial.points, par.points):
         assert a.index == b.index and a.settings == b.settings
-        if not (a.converged and b.converged):
-            continue  # a stalled Newton run (reported, exit 3) has no values to compare
+        assert a.start == b.start  # same blocks: the same warm-start sequence
         for k in ("inductance", "incremental_inductance", "energy"):
             # Same blocks, same warm-start sequence; only the AMG setup's
             # random start vector differs, inside the Newton tolerance (1e-8).
@@ -231,6 +239,7 @@ def test_sweep_cli_outputs(tmp_path):
     assert len((out / "s.csv").read_text().splitlines()) == 4
     for name in ("sweep_inductance.png", "sweep_flux_linkage.png", "sweep_core_B.png"):
         assert (out / "fig" / name).read_bytes()[:4] == b"\x89PNG"
+        assert_drawn(out / "fig" / name)
     # The CSV and the JSON say the same (round trip of the point table).
     import csv
 
