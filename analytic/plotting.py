@@ -11,23 +11,31 @@ from matplotlib.figure import Figure
 
 
 def plot_bh(curve, path: str | Path, operating_points: Iterable[tuple[float, float]] | None = None) -> Path:
-    """Save B over log-scaled H of ``curve`` to ``path``; returns the path.
+    """Save `bh_figure` of ``curve`` to ``path`` (format from the suffix); returns the path.
+
+    For scripts; the magcheck CLI writes figures through its own output writer.
+    """
+    path = Path(path)
+    bh_figure(curve, operating_points).savefig(path, dpi=100)
+    return path
+
+
+def bh_figure(curve, operating_points: Iterable[tuple[float, float]] | None = None) -> Figure:
+    """B over log-scaled H of ``curve``: the interpolant, its extrapolation to
+    2*h_max (slope mu0) and the table points.
 
     Parameters
     ----------
     curve : BHCurve
-        Curve to draw (interpolant, extrapolation to 2*h_max, measured points).
-    path : str or Path
-        Output image file (format from the suffix).
+        Curve to draw.
     operating_points : iterable of (H, B), optional
         Points (A/m, T) to mark, e.g. branch solutions.
 
     Notes
     -----
-    Uses a standalone :class:`~matplotlib.figure.Figure` with an Agg canvas, so
-    no global pyplot state is touched and nothing needs closing.
+    A standalone :class:`~matplotlib.figure.Figure` with an Agg canvas, so no
+    global pyplot state is touched and nothing needs closing.
     """
-    path = Path(path)
     h_pts = np.asarray(curve.h_points)
     b_pts = np.asarray(curve.b_points)
     h_lo = h_pts[1] / 10
@@ -46,5 +54,4 @@ def plot_bh(curve, path: str | Path, operating_points: Iterable[tuple[float, flo
     ax.set_title(curve.name or "B-H curve")
     ax.grid(True, which="both", alpha=0.3)
     ax.legend(loc="lower right", fontsize=8)
-    fig.savefig(path, dpi=100)
-    return path
+    return fig

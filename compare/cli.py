@@ -1,22 +1,25 @@
 """The ``magcheck`` command line: a thin layer over the compare API.
 
 Exit codes (a contract): 0 all well (and every limit and margin met);
-1 a limit or margin failed; 2 bad input; 3 a solve failed.
+1 a limit or margin failed; 2 bad input; 3 a solve failed; 130 interrupted
+(Ctrl-C). A closed standard output ends the run quietly with 0.
 """
 
 from __future__ import annotations
 
 import argparse
 import logging
+import os
 import sys
 import warnings
 from typing import Sequence
 
 from .errors import CaseError, RunError
 
-__all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_SOLVE"]
+__all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_SOLVE", "EXIT_INTERRUPT"]
 
 EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_SOLVE = 0, 1, 2, 3
+EXIT_INTERRUPT = 130
 
 
 # Sub-command -> one-line help. Each lives in compare/commands/<name>.py with
@@ -45,9 +48,13 @@ def build_parser(command: str | None = None) -> argparse.ArgumentParser:
         description="Check a magnetic-circuit hand calculation of a gapped core "
                     "against a 2D field solution.")
     parser.add_argument("-v", "--verbose", action="store_true", help="log progress to stderr")
+    parser.add_argument("--version", action="version", version=f"magcheck {_version()}")
     sub = parser.add_subparsers(dest="command", required=True)
     for name, text in COMMANDS.items():
         p = sub.add_parser(name, help=text, description=text)
+        # -v after the sub-command too; SUPPRESS keeps a -v given before it
+        p.add_argument("-v", "--verbose", action="store_true", default=argparse.SUPPRESS,
+                       help="log progress to stderr")
         if command is None or name == command:
             mod = importlib.import_module(f"compare.commands.{name}")
             mod.add_args(p)
@@ -55,8 +62,40 @@ def build_parser(command: str | None = None) -> argparse.ArgumentParser:
     return parser
 
 
+def _version() -> str:
+    from importlib.metadata import PackageNotFoundError, version
+
+    try:
+        return version("magcheck")
+    except PackageNotFoundError:  # run from a source tree without installing
+        return "unknown"
+
+
 def main(argv: Sequence[str] | None = None) -> int:
-    """Run magcheck; returns the exit code (see module docstring)."""
+    """Run magcheck; returns the exit code (see module docstring).
+
+    A closed standard output (``magcheck hand CASE | head -1``) ends the run
+    quietly with exit 0, the usual convention of command-line tools; Ctrl-C
+    ends it with one line and exit 130 (128 + SIGINT).
+    """
+    try:
+        code = _main(argv)
+        sys.stdout.flush()  # a closed pipe shows here, not at interpreter exit
+        return code
+    except BrokenPipeError:
+        # Quiet the interpreter's final flush of the dead pipe.
+        try:
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+        except (OSError, ValueError):
+            pass
+        return EXIT_OK
+    except KeyboardInterrupt:
+        print("magcheck: interrupted", file=sys.stderr)
+        return EXIT_INTERRUPT
+
+
+def _main(argv: Sequence[str] | None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     chosen = next((a for a in argv if a in COMMANDS), None)
     parser = build_parser(chosen if chosen is not None and "-h" not in argv[:1] else None)
@@ -77,6 +116,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         except RunError as exc:
             print(f"magcheck: solve failed: {exc}", file=sys.stderr)
             return EXIT_SOLVE
+        except BrokenPipeError:
+            raise
         except OSError as exc:
             print(f"magcheck: cannot write output: {exc.filename or ''}: {exc.strerror or exc}",
                   file=sys.stderr)

@@ -89,13 +89,33 @@ def run_tasks(fn: Callable[[Any], Any], tasks: Sequence[Any], *, workers: int | 
     from concurrent.futures import ProcessPoolExecutor, as_completed
 
     results = [None] * total
-    with ProcessPoolExecutor(max_workers=n, mp_context=mp.get_context("spawn")) as pool:
+    pool = ProcessPoolExecutor(max_workers=n, mp_context=mp.get_context("spawn"))
+    try:
         futures = {pool.submit(fn, t): i for i, t in enumerate(tasks)}
         for done, fut in enumerate(as_completed(futures), start=1):
             results[futures[fut]] = fut.result()
             if on_done:
                 on_done(done, total)
+    except BaseException:
+        # Ctrl-C or a failed task: no worker outlives the run.
+        _terminate(pool)
+        raise
+    pool.shutdown(wait=True)
     return results, ExecInfo("processes", n, time.perf_counter() - t0)
+
+
+def _terminate(pool: Any) -> None:
+    """Cancel the queued tasks and end the pool's worker processes now."""
+    procs = list((getattr(pool, "_processes", None) or {}).values())
+    pool.shutdown(wait=False, cancel_futures=True)
+    for proc in procs:
+        if proc.is_alive():
+            proc.terminate()
+    for proc in procs:
+        proc.join(timeout=5)
+        if proc.is_alive():
+            proc.kill()
+            proc.join(timeout=5)
 
 
 def _probe_address(address: str) -> None:

@@ -162,12 +162,15 @@ def render_table(title: str, columns: Sequence[str], rows: Sequence[Sequence[str
     if getattr(stream, "isatty", lambda: False)():
         from rich.console import Console
         from rich.table import Table
+        from rich.text import Text
 
-        table = Table(title=title, title_justify="left")
+        # Text objects: a case name like "choke [rev B] [/]" is printed literally,
+        # never read as terminal markup.
+        table = Table(title=Text(title), title_justify="left")
         for c, a in zip(columns, align):
-            table.add_column(c, justify="left" if a == "left" else "right")
+            table.add_column(Text(str(c)), justify="left" if a == "left" else "right")
         for r in rows:
-            table.add_row(*r)
+            table.add_row(*(Text(str(cell)) for cell in r))
         console = Console(file=stream)
         console.print(table)
         for n in notes:

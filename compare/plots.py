@@ -3,8 +3,6 @@ figure; :func:`save_figures` writes them and closes every one."""
 
 from __future__ import annotations
 
-import os
-import tempfile
 from pathlib import Path
 
 import matplotlib
@@ -19,6 +17,7 @@ from fem2d import post  # noqa: E402
 
 from .check import CheckResult  # noqa: E402
 from .geometry import Limb  # noqa: E402
+from .output import save_figure  # noqa: E402
 
 __all__ = ["save_figures", "FIGURES"]
 
@@ -153,20 +152,14 @@ FIGURES = {
 
 
 def save_figures(res: CheckResult, folder: str | Path) -> list[Path]:
-    """Write every figure as PNG into folder (each file complete or absent)."""
+    """Write every figure as PNG into folder (through compare.output's writer)."""
     folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
     paths = []
     for name, make in FIGURES.items():
         fig = make(res)
         try:
             fig.tight_layout()
-            fd, tmp = tempfile.mkstemp(prefix=f".{name}.", suffix=".png", dir=folder)
-            os.close(fd)
-            fig.savefig(tmp, dpi=110)
-            os.chmod(tmp, 0o644)
-            os.replace(tmp, folder / name)
-            paths.append(folder / name)
+            paths.append(save_figure(fig, folder / name, option="--report") or folder / name)
         finally:
             plt.close(fig)
     return paths

@@ -1,7 +1,8 @@
-"""VTU export of a solution via meshio (readable by ParaView).
+"""VTU export of a solution via meshio (readable by common VTK viewers).
 
-Written to a temporary file in the target folder, then renamed, so the file
-is complete or absent.
+`vtu_mesh` builds the meshio Mesh (callers with their own writer use it);
+`write_vtu` writes it to a temporary file in the target folder, then renames
+it, so the file is complete or absent.
 """
 from __future__ import annotations
 
@@ -13,16 +14,15 @@ from scipy.constants import mu_0
 
 from .post import b_elements
 
-__all__ = ["write_vtu"]
+__all__ = ["vtu_mesh", "write_vtu"]
 
 
-def write_vtu(sol, path) -> str:
-    """Write mesh, A (point data, Wb/m), B (cell vector, T), |B| (T), H (cell
-    vector, A/m), mu_r (cell, secant B/(mu0 H)) and region id (cell) to ``path``.
+def vtu_mesh(sol):
+    """The solution as a meshio Mesh: A (point data, Wb/m), B (cell vector, T),
+    |B| (T), H (cell vector, A/m), mu_r (cell, secant B/(mu0 H)) and region id (cell).
 
-    P2 curved meshes are written as 6-node triangles ("triangle6", corners
-    then edge nodes 0-1, 1-2, 2-0), P1 as 3-node triangles.
-    Returns the path written.
+    P2 curved meshes are 6-node triangles ("triangle6", corners then edge
+    nodes 0-1, 1-2, 2-0), P1 3-node triangles.
     """
     import meshio
 
@@ -36,7 +36,7 @@ def write_vtu(sol, path) -> str:
     for law, idx in zip(asm.laws, asm.groups):
         nu[idx] = law.nu(s[idx])
     He = nu * Be
-    m = meshio.Mesh(
+    return meshio.Mesh(
         points=np.column_stack([pts[0], pts[1], np.zeros(pts.shape[1])]),
         cells=[(ctype, cells.astype(np.int64))],
         point_data={"A": np.asarray(sol.A, dtype=float)},
@@ -48,12 +48,23 @@ def write_vtu(sol, path) -> str:
             "region": [np.asarray(sol.mesh.element_region, dtype=np.int32)],
         },
     )
+
+
+def write_vtu(sol, path) -> str:
+    """Write `vtu_mesh` of ``sol`` to ``path`` (a temporary file beside it, then a
+    rename, mode per the umask). Returns the path written."""
+    import meshio
+
+    m = vtu_mesh(sol)
     path = os.fspath(path)
     folder = os.path.dirname(os.path.abspath(path))
     fd, tmp = tempfile.mkstemp(suffix=".vtu", dir=folder)
     os.close(fd)
     try:
         meshio.write(tmp, m, file_format="vtu")
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(tmp, 0o666 & ~mask)
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):

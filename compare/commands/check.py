@@ -7,18 +7,18 @@ import sys
 
 from ..case import load_case
 from ..check import CheckResult, run_check
-from ..output import CAUTION, atomic_write_text, render_table, write_json
+from ..output import CAUTION, atomic_write_text, render_table, write_json, write_produced
 from ..serialize import TABLE_COLUMNS, check_csv, check_json, check_markdown, table_cells
 
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("case", help="TOML case file")
-    p.add_argument("--json", metavar="FILE", help="write the full result as JSON")
-    p.add_argument("--csv", metavar="FILE", help="write the comparison table as CSV")
-    p.add_argument("--markdown", metavar="FILE", help="write the comparison as Markdown")
+    p.add_argument("--json", metavar="FILE", help="write the full result as JSON (- for standard output)")
+    p.add_argument("--csv", metavar="FILE", help="write the comparison table as CSV (- for standard output)")
+    p.add_argument("--markdown", metavar="FILE", help="write the comparison as Markdown (- for standard output)")
     p.add_argument("--report", metavar="DIR", help="write an HTML report with figures to DIR")
-    p.add_argument("--vtu", metavar="FILE", help="write the FE fields as VTU (for ParaView)")
+    p.add_argument("--vtu", metavar="FILE", help="write the FE fields as VTU")
     p.add_argument("--all-fringing", action="store_true",
                    help="rank every fringing model by its difference to the FE")
     p.add_argument("--no-error-estimate", action="store_true",
@@ -60,12 +60,12 @@ def run(args: argparse.Namespace) -> int:
     if args.markdown:
         atomic_write_text(args.markdown, check_markdown(res))
     if args.vtu:
-        from pathlib import Path
+        import meshio
 
-        from fem2d.export import write_vtu
+        from fem2d.export import vtu_mesh
 
-        Path(args.vtu).resolve().parent.mkdir(parents=True, exist_ok=True)
-        write_vtu(res.fe.solution, args.vtu)
+        mesh = vtu_mesh(res.fe.solution)
+        write_produced(args.vtu, lambda tmp: meshio.write(tmp, mesh, file_format="vtu"), ".vtu")
     if args.report:
         from ..report import write_report
 

@@ -9,13 +9,13 @@ import sys
 from analytic.materials import builtin, builtin_names
 
 from ..errors import CaseError
-from ..output import render_table
+from ..output import figure_format, render_table, save_figure
 
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("name", nargs="?", help="a built-in material")
-    p.add_argument("--plot", metavar="FILE.png", help="draw the B-H curve to a PNG file")
+    p.add_argument("--plot", metavar="FILE", help="draw the B-H curve to FILE (.png, .svg or .pdf)")
 
 
 def _get(name: str):
@@ -29,6 +29,10 @@ def _get(name: str):
 
 def run(args: argparse.Namespace) -> int:
     out = sys.stdout
+    if args.plot:
+        figure_format(args.plot, "--plot")
+        if not args.name:
+            raise CaseError("--plot", args.plot, "name one material to plot")
     names = [args.name] if args.name else builtin_names()
     rows = []
     for n in names:
@@ -40,10 +44,8 @@ def run(args: argparse.Namespace) -> int:
                  ["name", "initial mu_r", "B at 1 kA/m T", "B at 10 kA/m T",
                   "last B T", "last H A/m", "origin"], rows, out)
     if args.plot:
-        if not args.name:
-            raise CaseError("--plot", args.plot, "name one material to plot")
-        from analytic.plotting import plot_bh
+        from analytic.plotting import bh_figure
 
-        plot_bh(_get(args.name), args.plot)
-        out.write(f"wrote {args.plot}\n")
+        written = save_figure(bh_figure(_get(args.name)), args.plot, option="--plot", dpi=100)
+        out.write(f"wrote {written or args.plot}\n")
     return 0

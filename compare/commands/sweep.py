@@ -12,7 +12,7 @@ from pathlib import Path
 from ..executor import Progress
 from ..errors import CaseError
 from ..hand import UNITS
-from ..output import CAUTION, atomic_write_text, render_table, write_json
+from ..output import CAUTION, atomic_write_text, render_table, save_figure, write_json
 from ..sweep import (CURRENT_KEY, DEFAULT_BLOCK, PREDICTORS, SweepResult, case_source, curves,
                      parse_vary, run_sweep, sweep_margins, sweep_rows)
 from ..units import format_si
@@ -128,7 +128,6 @@ def save_sweep_figures(res: SweepResult, folder: str | Path) -> list[Path]:
     import matplotlib.pyplot as plt
 
     folder = Path(folder)
-    folder.mkdir(parents=True, exist_ok=True)
     x_key = CURRENT_KEY if CURRENT_KEY in res.keys else res.keys[0]
     x_label = "winding current I (A)" if x_key == CURRENT_KEY else x_key
     paths = []
@@ -170,8 +169,7 @@ def save_sweep_figures(res: SweepResult, folder: str | Path) -> list[Path]:
             ax.set_title(f"{res.case.name}: hand (planar form) and planar FE")
             fig.tight_layout()
             path = folder / name
-            fig.savefig(path, dpi=110)
-            paths.append(path)
+            paths.append(save_figure(fig, path, option="--plots") or path)
         finally:
             plt.close(fig)
     return paths

@@ -9,7 +9,7 @@ from pathlib import Path
 
 from ..errors import CaseError
 from ..executor import Progress
-from ..output import CAUTION, render_table, write_json
+from ..output import CAUTION, figure_format, render_table, save_figure, write_json
 from ..units import format_si
 
 PERCENTILES = (5.0, 50.0, 95.0)  # as compare.tolerance.PERCENTILES (not imported: start-up time)
@@ -30,7 +30,7 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--min-yield", type=float, metavar="PCT",
                    help="exit 1 when fewer than PCT %% of the samples meet every margin")
     p.add_argument("--json", metavar="FILE", help="write samples and statistics as JSON")
-    p.add_argument("--plot", metavar="FILE.png", help="write the histograms")
+    p.add_argument("--plot", metavar="FILE", help="write the histograms (.png, .svg or .pdf)")
 
 
 def _labels(res) -> dict[str, str]:
@@ -60,8 +60,6 @@ def save_histograms(res, path: str | Path) -> Path:
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
-    path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
     labels = _labels(res)
     fig, axes = plt.subplots(1, 3, figsize=(12, 3.8))
     try:
@@ -76,15 +74,17 @@ def save_histograms(res, path: str | Path) -> Path:
         fig.suptitle(f"{res.case.name}: {len(res.samples)} samples, seed {res.seed}, "
                      f"yield {100 * res.yield_fraction:.1f} %")
         fig.tight_layout()
-        fig.savefig(path, dpi=110)
+        written = save_figure(fig, path, option="--plot")
     finally:
         plt.close(fig)
-    return path
+    return written or Path(path)
 
 
 def run(args: argparse.Namespace) -> int:
     if args.min_yield is not None and not 0.0 <= args.min_yield <= 100.0:
         raise CaseError("--min-yield", args.min_yield, "must lie in [0, 100]")
+    if args.plot:
+        figure_format(args.plot, "--plot")  # bad input before the long run
     if args.samples < 1:
         raise CaseError("--samples", args.samples, "must be at least 1")
     if args.workers is not None and args.workers < 1:
