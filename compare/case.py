@@ -74,6 +74,8 @@ class FESettings:
     mesh_size : element size in the core (m); None picks one from the geometry.
     air_factor : air box side as a multiple of the core's largest dimension.
     tol : relative Newton residual to stop at.
+    allow_large : mesh even when the element estimate exceeds
+        compare.fe.MAX_TRIANGLES (``[fe] allow_large = true`` or ``--allow-large``).
     """
 
     order: int = 2
@@ -81,6 +83,7 @@ class FESettings:
     mesh_size: float | None = None
     air_factor: float = 3.0
     tol: float = 1e-8
+    allow_large: bool = False
 
 
 @dataclass(frozen=True)
@@ -403,9 +406,12 @@ def _read_fe(t: TableReader) -> FESettings:
     mesh_size = t.quantity("mesh_size", "length", None)
     air_factor = t.number("air_factor", d.air_factor, lo=1.5, hi=100.0)
     tol = t.number("tol", d.tol, lo=1e-14, hi=1e-2)
+    allow_large = t.raw("allow_large", False)
+    if not isinstance(allow_large, bool):
+        raise CaseError(t.key("allow_large"), allow_large, "must be true or false")
     t.finish()
     return FESettings(order=order, gap_elements=gap_elements, mesh_size=mesh_size,
-                      air_factor=air_factor, tol=tol)
+                      air_factor=air_factor, tol=tol, allow_large=allow_large)
 
 
 AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",

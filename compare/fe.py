@@ -18,18 +18,19 @@ from typing import Any
 import numpy as np
 
 from fem2d import post
+from fem2d.geometry import estimate_triangles
 from fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
 from fem2d.mesh import RegionMesh, build_mesh
 from fem2d.solver import ConvergenceError, FieldSolution, solve
 
 from .case import Case
-from .errors import RunError
+from .errors import CaseError, RunError
 from .geometry import Limb, coil_rects, gap_rect
 from .hand import HAND_KEYS
 
 __all__ = ["FEQuantities", "FEResult", "case_layout", "mesh_case", "geometry_key", "solve_case",
            "solve_case_full", "FESolve",
-           "run_fe", "run_fe_checked",
+           "run_fe", "run_fe_checked", "guard_mesh_size", "MAX_TRIANGLES",
            "COIL_PLUS", "COIL_MINUS"]
 
 log = logging.getLogger(__name__)
@@ -173,10 +174,47 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     return q, samples, dA_dI
 
 
+MAX_TRIANGLES = 2_000_000
+"""Largest mesh meshed without ``allow_large``. At 300k P1 triangles the
+engine took 28 s and 965 MiB on a 2-core machine (bench/fe_bench.py); 2
+million is minutes and several GiB per solve, and the check solves a second
+mesh with 2.25x the elements: almost always a unit slip in mesh_size."""
+
+
+def guard_mesh_size(case: Case, *, refine: float = 1.0) -> int:
+    """The estimated triangle count of the case's mesh; refuses a huge one.
+
+    Raises
+    ------
+    CaseError
+        Naming ``fe.gap_elements`` or ``fe.mesh_size`` (whichever drives the
+        estimate), the estimate and the override, when the estimate exceeds
+        MAX_TRIANGLES and ``case.fe.allow_large`` is off.
+    """
+    layout = case_layout(case, refine=refine)
+    n = estimate_triangles(layout)
+    log.info("mesh: core element size %.4g mm, %d elements across each gap, ~%d triangles "
+             "estimated (refine %g)", layout.core_size() * 1e3, layout.mesh.gap_elements, n, refine)
+    if n > MAX_TRIANGLES and not case.fe.allow_large:
+        no_gap = replace(layout, mesh=replace(layout.mesh, gap_elements=1))
+        gap_driven = estimate_triangles(no_gap) < 0.5 * n
+        key, value = (("fe.gap_elements", case.fe.gap_elements) if gap_driven
+                      else ("fe.mesh_size", case.fe.mesh_size if case.fe.mesh_size is not None
+                            else f"{layout.core_size():.3g} m (default)"))
+        what = "the refined mesh of the uncertainty estimate" if refine != 1 else "the mesh"
+        raise CaseError(key, value, f"{what} would have about {n:,} triangles (limit "
+                                    f"{MAX_TRIANGLES:,}); coarsen it, or set [fe] allow_large = "
+                                    "true (or --allow-large) to mesh it anyway")
+    return n
+
+
 def mesh_case(case: Case, *, refine: float = 1.0) -> RegionMesh:
-    """Mesh a case's layout (gmsh). The mesh does not depend on the current,
-    so sweeps over current reuse it (see :func:`geometry_key`)."""
-    return build_mesh(case_layout(case, refine=refine))
+    """Mesh a case's layout (gmsh), after `guard_mesh_size`. The mesh does not
+    depend on the current, so sweeps over current reuse it (see :func:`geometry_key`)."""
+    guard_mesh_size(case, refine=refine)
+    mesh = build_mesh(case_layout(case, refine=refine))
+    log.info("mesh: %d triangles", len(mesh.element_region))
+    return mesh
 
 
 def geometry_key(case: Case, refine: float = 1.0) -> Layout:
@@ -250,6 +288,7 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
     if not estimate_error:
         q, sol, samples = run_fe(case)
         return FEResult(q, None, {k: math.nan for k in HAND_KEYS}, sol, samples)
+    guard_mesh_size(case, refine=REFINE)  # both meshes checked before any is made
     coarse, coarse_sol, _ = run_fe(case)
     fine_mesh = mesh_case(case, refine=REFINE)
     # Warm start from the coarse field: the same answer (to the Newton

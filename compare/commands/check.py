@@ -21,6 +21,9 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--vtu", metavar="FILE", help="write the FE fields as VTU")
     p.add_argument("--all-fringing", action="store_true",
                    help="rank every fringing model by its difference to the FE")
+    p.add_argument("--allow-large", action="store_true",
+                   help="mesh even when the element estimate exceeds the limit "
+                        "(as [fe] allow_large = true)")
     p.add_argument("--no-error-estimate", action="store_true",
                    help="skip the refined second FE solve (no FE uncertainty; faster)")
 
@@ -50,6 +53,10 @@ def print_check(res: CheckResult, out) -> None:
 
 def run(args: argparse.Namespace) -> int:
     case = load_case(args.case)
+    if args.allow_large:
+        from dataclasses import replace
+
+        case = replace(case, fe=replace(case.fe, allow_large=True))
     res = run_check(case, all_fringing=args.all_fringing,
                     estimate_error=not args.no_error_estimate)
     print_check(res, sys.stdout)
