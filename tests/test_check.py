@@ -120,6 +120,7 @@ def test_uncertainty_not_grossly_pessimistic(checked_and_reference):
         assert res.uncertainty[key] <= factor * err, (key, res.uncertainty[key] / err)
 
 
+@pytest.mark.slow
 def test_uncertainty_is_its_stated_rule(coarse_case):
     res = fe_mod.run_fe_checked(coarse_case)
     coarse, _, _ = run_fe(coarse_case)

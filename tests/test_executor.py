@@ -123,3 +123,14 @@ def test_scheduler_address_probe():
         assert _probe_address(f"127.0.0.1:{port}") is None
     # Schemes other than plain TCP are left to dask.
     assert _probe_address("inproc://whatever") is None
+
+
+def test_default_workers_follow_the_task_count():
+    # Few tasks run in this process: worker start-up (~2 s of imports) outweighs
+    # the gain (measured in compare.executor.MIN_TASKS_FOR_PROCESSES's docstring).
+    from compare.executor import MIN_TASKS_FOR_PROCESSES, default_workers
+
+    assert default_workers(1) == 1
+    assert default_workers(MIN_TASKS_FOR_PROCESSES - 1) == 1
+    assert default_workers(MIN_TASKS_FOR_PROCESSES) == default_workers()
+    assert default_workers() >= 1

@@ -22,8 +22,14 @@ def _with_fe(case, **fe):
     return dataclasses.replace(case, fe=dataclasses.replace(case.fe, **fe))
 
 
-@pytest.mark.parametrize("name", ["demo_choke", "demo_ei_inductor", "demo_saturating_choke"])
-@pytest.mark.parametrize("fe", [{}, {"gap_elements": 12}, {"mesh_size": 0.5e-3}])
+@pytest.mark.parametrize("name, fe", [
+    ("demo_choke", {}),
+    pytest.param("demo_ei_inductor", {}, marks=pytest.mark.slow),
+    pytest.param("demo_saturating_choke", {}, marks=pytest.mark.slow),
+    pytest.param("demo_choke", {"gap_elements": 12}, marks=pytest.mark.slow),
+    pytest.param("demo_saturating_choke", {"gap_elements": 12}, marks=pytest.mark.slow),
+    pytest.param("demo_ei_inductor", {"mesh_size": 0.5e-3}, marks=pytest.mark.slow),
+])
 def test_estimate_tracks_the_real_count(name, fe):
     case = _with_fe(load_case(CASES / f"{name}.toml"), **fe)
     for refine in (1.0, 1.5):

@@ -124,6 +124,7 @@ def _independent_hand_root(case, drop: float) -> float:
     return brentq(lambda i: L(i) - target, grid[k - 1], grid[k], xtol=1e-10)
 
 
+@pytest.mark.slow
 def test_hand_saturation_current_against_independent_root():
     src, case = case_source(CHOKE)
     for drop in (0.1, 0.3):
@@ -225,6 +226,7 @@ def test_processes_equal_serial(fe_src):
             assert b.fe[k] == pytest.approx(a.fe[k], rel=1e-6), k
 
 
+@pytest.mark.slow
 def test_sweep_cli_outputs(tmp_path):
     p = coarse_choke(tmp_path)
     out = tmp_path / "o"

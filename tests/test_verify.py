@@ -117,6 +117,7 @@ def test_baseline_drift_flagged(folder, tmp_path):
     assert "-0.99" in drifted[0].message  # current vs stored, in percent
 
 
+@pytest.mark.slow
 def test_declared_sweep_margins(tmp_path):
     p = tmp_path / "s.toml"
     p.write_text(coarse_text('[[margins.saturation_current]]\ndrop_pct = 20\nmin = "5 A"\n',
