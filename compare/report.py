@@ -45,6 +45,59 @@ def _table(headers, rows) -> str:
     return "\n".join(out)
 
 
+def _mm(v: float) -> str:
+    return f"{v * 1e3:.4g} mm"
+
+
+def input_rows(res: CheckResult) -> list[list[str]]:
+    """The case as solved, one row per input: enough to read the operating
+    point from the report alone (SI values shown in engineering units)."""
+    import dataclasses
+    import os
+
+    case = res.case
+    rows = [["case file (as given)", case.source],
+            ["case file (absolute)", os.path.abspath(case.source) if case.source else ""],
+            ["case sha256", case.sha256], ["family", case.family]]
+    core = case.core
+    for f in dataclasses.fields(core):
+        v = getattr(core, f.name)
+        if isinstance(v, float):
+            rows.append([f"core.{f.name}", _mm(v)])
+        elif dataclasses.is_dataclass(v):
+            for g in dataclasses.fields(v):
+                w = getattr(v, g.name)
+                rows.append([f"core.{f.name}.{g.name}", _mm(w) if isinstance(w, float) else str(w)])
+        else:
+            rows.append([f"core.{f.name}", str(v)])
+    for i, g in enumerate(case.gaps):
+        rows.append([f"gaps[{i}]", f"{g.limb} limb, length {_mm(g.length)}, "
+                                   f"centre {_mm(g.position)} from the limb's start"])
+    if not case.gaps:
+        rows.append(["gaps", "none"])
+    w = case.winding
+    rows += [["winding", f"on the {w.limb} limb, N = {w.turns}, I = {w.current:g} A, "
+                         f"NI = {w.mmf:g} A"],
+             ["coil build", f"thickness {_mm(w.thickness)}, length {_mm(w.length)}"]]
+    for m in case.materials:
+        rows.append([f"material of {m.region}", f"{m.description} ({m.kind})"])
+    rows.append(["fringing model (hand)", case.hand.fringing])
+    fe, fine = case.fe, res.fe.fine
+    rows += [["FE settings", f"order {fe.order}, {fe.gap_elements} elements across each gap, "
+                             f"mesh size {'auto' if fe.mesh_size is None else _mm(fe.mesh_size)}, "
+                             f"air box {fe.air_factor:g}x, Newton tol {fe.tol:g}"],
+             ["FE mesh (finer)", f"{fine.nelements} elements, {fine.ndofs} DOFs, core element "
+                                 f"size {_mm(fine.element_size)}"]]
+    return rows
+
+
+def _case_text(res: CheckResult) -> str:
+    try:
+        return Path(res.case.source).read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError):
+        return ""
+
+
 def write_report(res: CheckResult, folder: str | Path) -> Path:
     """Write ``index.html`` and its PNG figures into folder; returns the HTML path."""
     from .plots import save_figures
@@ -62,7 +115,13 @@ def write_report(res: CheckResult, folder: str | Path) -> Path:
         f"<h2>Hand calculation vs planar FE — {'PASS' if res.passed else 'FAIL'}</h2>",
         _table(TABLE_COLUMNS, [table_cells(r) for r in res.rows]),
         "<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in res.notes) + "</ul>",
+        "<h2>Inputs</h2>",
+        _table(["input", "value"], input_rows(res)),
     ]
+    text = _case_text(res)
+    if text:
+        parts.append(f"<h2>Case file</h2><p>{html.escape(res.case.source)}, sha256 "
+                     f"{html.escape(res.case.sha256)}</p><pre>{html.escape(text)}</pre>")
     if res.fringing_ranking:
         parts.append("<h2>Fringing models against the FE (planar form), best first</h2>")
         parts.append(_table(["model", "gap B diff %", "flux diff %", "inductance diff %", "RMS %"],

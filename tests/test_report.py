@@ -1,0 +1,46 @@
+"""The HTML report states its inputs: the operating point can be read from it alone."""
+
+from __future__ import annotations
+
+import hashlib
+import html
+from pathlib import Path
+
+import pytest
+
+from compare.case import load_case
+from compare.check import run_check
+from compare.report import write_report
+
+CASES = Path(__file__).resolve().parents[1] / "cases"
+
+
+@pytest.fixture(scope="module")
+def report(tmp_path_factory):
+    src = (CASES / "demo_choke.toml").read_text().replace(
+        'name = "demo-choke"', 'name = "choke <script>alert(1)</script>"')
+    folder = tmp_path_factory.mktemp("rep")
+    case_path = folder / "c.toml"
+    case_path.write_text(src)
+    res = run_check(load_case(case_path), estimate_error=False)
+    page = write_report(res, folder / "out").read_text()
+    return page, src, case_path, res
+
+
+def test_report_shows_every_input(report):
+    page, src, case_path, res = report
+    case = res.case
+    assert f"N = {case.winding.turns}, I = {case.winding.current:g} A" in page
+    for key, mm in [("outer_width", "60 mm"), ("outer_height", "70 mm"), ("depth", "20 mm")]:
+        assert f"core.{key}" in page and mm in page
+    assert "length 0.6 mm" in page  # the gap
+    assert "thickness 10 mm, length 40 mm" in page  # the coil build
+    assert hashlib.sha256(src.encode()).hexdigest() in page
+    assert str(case_path.resolve()) in page
+    assert "demo-sisteel" in page and "area" in page
+
+
+def test_report_escapes_case_text(report):
+    page, src, _, _ = report
+    assert "<script>" not in page
+    assert html.escape(src) in page  # the whole case file, escaped, in a <pre>
