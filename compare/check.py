@@ -112,9 +112,11 @@ def _verdict(diff_pct: float, hand: float, fe: float, unc: float, limit: float |
 
 
 def _diff_pct(hand: float, fe: float) -> float:
+    """(hand - FE) / FE in percent: the same figure for a quantity and its
+    sign-reversed counterpart (negative currents, compare.hand.signed)."""
     if not (math.isfinite(hand) and math.isfinite(fe)) or fe == 0:
         return math.nan
-    return 100.0 * (hand - fe) / abs(fe)
+    return 100.0 * (hand - fe) / fe
 
 
 def depth_factor(case: Case) -> float:
