@@ -195,6 +195,10 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
         notes.append(f"The FE carries {-fl.diff_pct:.0f} % more flux in the winding limb than the "
                      "hand model: leakage flux across the window links the winding but bypasses the "
                      "gap, and the hand model has no leakage path.")
+    elif math.isfinite(fl.diff_pct) and fl.diff_pct > 3:
+        notes.append(f"The hand model carries {fl.diff_pct:.0f} % more flux in the winding limb "
+                     "than the FE: its gap permeance (the fringing model) or its core "
+                     "permeance is larger than the field solution's.")
     g = r["gap_B"]
     if math.isfinite(g.diff_pct) and abs(g.diff_pct) > 3:
         side = "over" if g.diff_pct > 0 else "under"
@@ -213,7 +217,7 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
     if math.isfinite(knee) and peak > knee:
         notes.append(f"Part of the core is past the knee of the B-H curve (~{knee:.2f} T): 0.5 % of "
                      f"the core area is above {peak:.2f} T, so the hand model's uniform-B "
-                     "assumption does not hold there and its inductance is optimistic.")
+                     "assumption does not hold there" + _inductance_direction(r["inductance"]))
     notes.append(f"Peak core B is the |B| exceeded on 0.5 % of the core area. The pointwise "
                  f"maximum, {fe.fine.max_B:.2f} T at x = {x * 1e3:.1f} mm, y = {y * 1e3:.1f} mm, "
                  "sits at a sharp corner where a planar model's field is singular; it grows as "
@@ -224,6 +228,22 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
         notes.append(f"FE uncertainty above {UNCERTAIN_PCT:g} % for {names}: refine the mesh "
                      "([fe] mesh_size smaller, gap_elements larger).")
     return tuple(notes)
+
+
+def _inductance_direction(row: Row) -> str:
+    """The end of the saturation note: which way the hand inductance is off.
+
+    Optimistic (hand above the FE) and pessimistic (below) follow the sign
+    of the difference, never the mere presence of saturation.
+    """
+    d = row.diff_pct
+    if not math.isfinite(d) or abs(d) < 0.5:
+        return "; the hand inductance still agrees with the FE within 0.5 %."
+    if d > 0:
+        return (f"; the hand inductance is {d:.1f} % above the FE: optimistic, the local "
+                "saturation lowers the field model's inductance.")
+    return (f"; the hand inductance is {-d:.1f} % below the FE: pessimistic here, what the hand "
+            "model leaves out (leakage, fringing) outweighs the local saturation it misses.")
 
 
 def _knee(law: Any) -> float:

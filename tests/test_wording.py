@@ -1,0 +1,84 @@
+"""Wording of the check's notes, errors and printed summaries.
+
+The notes with a direction (more/less, over/under, optimistic/pessimistic)
+must follow the sign of the difference they describe; each test forces both
+directions with hand-built rows.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+from types import SimpleNamespace
+
+import pytest
+
+from compare.case import load_case
+from compare.check import LABELS, Row, explain
+
+CASES = Path(__file__).resolve().parent.parent / "cases"
+KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
+        "incremental_inductance", "energy")
+
+
+def _rows(**diffs: float) -> tuple[Row, ...]:
+    """Rows with FE = 1 and hand = 1 + diff/100 (so diff_pct is the given one)."""
+    out = []
+    for k in KEYS:
+        d = diffs.get(k, 0.0)
+        out.append(Row(k, LABELS[k], "-", 1.0 + d / 100.0, 1.0, 0.0, d, 10.0, "pass"))
+    return tuple(out)
+
+
+def _fe(peak_B: float = 0.1) -> SimpleNamespace:
+    return SimpleNamespace(fine=SimpleNamespace(peak_B=peak_B, max_B=peak_B, peak_B_at=(0.0, 0.0)))
+
+
+HAND = SimpleNamespace(fringing_model="area")
+
+
+def _notes(case, rows, peak_B: float = 0.1) -> str:
+    return "\n".join(explain(case, rows, HAND, _fe(peak_B)))  # type: ignore[arg-type]
+
+
+@pytest.fixture(scope="module")
+def saturating():
+    return load_case(CASES / "demo_saturating_choke.toml")
+
+
+@pytest.mark.parametrize("d", [-12.0, +12.0])
+def test_flux_note_names_the_side_that_carries_more(saturating, d: float) -> None:
+    text = _notes(saturating, _rows(flux=d))
+    if d < 0:
+        assert "The FE carries 12 % more flux" in text
+        assert "hand model carries" not in text
+    else:
+        assert "The hand model carries 12 % more flux" in text
+        assert "FE carries" not in text
+
+
+@pytest.mark.parametrize("d, word", [(-8.0, "understates"), (+8.0, "overstates")])
+def test_gap_note_over_or_under(saturating, d: float, word: str) -> None:
+    text = _notes(saturating, _rows(gap_B=d))
+    assert f"fringing model {word} the gap B by 8 %" in text
+    other = "overstates" if word == "understates" else "understates"
+    assert other not in text
+
+
+@pytest.mark.parametrize("d", [-3.8, +3.8])
+def test_saturation_note_optimistic_only_when_hand_is_above(saturating, d: float) -> None:
+    # A peak B of 2.5 T is past the knee of every built-in steel curve.
+    text = _notes(saturating, _rows(inductance=d), peak_B=2.5)
+    assert "past the knee" in text
+    if d > 0:
+        assert "3.8 % above the FE: optimistic" in text
+        assert "pessimistic" not in text
+    else:
+        assert "3.8 % below the FE: pessimistic" in text
+        assert "optimistic" not in text
+
+
+def test_saturation_note_without_a_difference_has_no_direction(saturating) -> None:
+    text = _notes(saturating, _rows(inductance=0.1), peak_B=2.5)
+    assert "past the knee" in text
+    assert "optimistic" not in text and "pessimistic" not in text
