@@ -423,7 +423,7 @@ def _read_margins(t: TableReader) -> Margins:
         if key not in AGREEMENT_KEYS:
             continue
         agreement.append((key, at.number(key, lo=0.0, hi=1000.0)))
-    at.finish()
+    at.finish(valid=AGREEMENT_KEYS)
     jmax = t.quantity("current_density", "current density", None)
     fill = t.number("copper_fill", 1.0, lo=0.0, hi=1.0)
     if fill <= 0.0:

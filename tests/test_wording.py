@@ -82,3 +82,39 @@ def test_saturation_note_without_a_difference_has_no_direction(saturating) -> No
     text = _notes(saturating, _rows(inductance=0.1), peak_B=2.5)
     assert "past the knee" in text
     assert "optimistic" not in text and "pessimistic" not in text
+
+
+def _demo_dict() -> dict:
+    import tomllib
+    return tomllib.loads((CASES / "demo_choke.toml").read_text())
+
+
+ALL_AGREEMENT = ("gap_B, core_B, path_H, flux, flux_linkage, inductance, "
+                 "incremental_inductance, energy")
+
+
+def test_agreement_typo_lists_every_key_with_a_suggestion() -> None:
+    from compare.case import case_from_dict
+    from compare.errors import CaseError
+    data = _demo_dict()
+    data.setdefault("margins", {})["agreement"] = {"inductanse": 8}
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(data, base_dir=CASES)
+    text = str(exc.value)
+    assert text.startswith("margins.agreement.inductanse = 8: unknown key")
+    assert "did you mean 'inductance'?" in text
+    assert f"valid keys: {ALL_AGREEMENT}" in text
+    assert "takes no keys" not in text
+
+
+def test_agreement_unknown_key_beside_a_valid_one_lists_all_keys() -> None:
+    from compare.case import case_from_dict
+    from compare.errors import CaseError
+    data = _demo_dict()
+    data.setdefault("margins", {})["agreement"] = {"inductance": 8, "foo": 3}
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(data, base_dir=CASES)
+    text = str(exc.value)
+    assert text.startswith("margins.agreement.foo = 3: unknown key")
+    assert "did you mean" not in text
+    assert text.endswith(f"valid keys: {ALL_AGREEMENT}")
