@@ -102,8 +102,8 @@ class CheckResult:
 
 
 def _verdict(diff_pct: float, hand: float, fe: float, unc: float, limit: float | None) -> str:
-    if not (math.isfinite(hand) and math.isfinite(fe)):
-        return "n/a"
+    if not (math.isfinite(hand) and math.isfinite(fe) and math.isfinite(diff_pct)):
+        return "n/a"  # no value, or no relative difference (FE value zero)
     if math.isfinite(unc) and abs(hand - fe) <= unc:
         return "within FE noise"
     if limit is None:
@@ -127,12 +127,20 @@ def depth_factor(case: Case) -> float:
     return float(k_depth)
 
 
+ZERO_AT_ZERO_CURRENT = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "energy")
+"""Quantities that are exactly zero at zero winding current: no difference, verdict n/a.
+
+The secant inductance there is its small-signal limit, the incremental
+inductance at zero current, in both models."""
+
+
 def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult,
                k_depth: float) -> tuple[Row, ...]:
     rows = []
+    zero = case.winding.current == 0.0
     for k in HAND_KEYS:
         h, f, u = hand_p.values()[k], fe.values[k], fe.uncertainty.get(k, math.nan)
-        d = _diff_pct(h, f)
+        d = math.nan if (zero and k in ZERO_AT_ZERO_CURRENT) else _diff_pct(h, f)
         lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
         f3 = f * k_depth if k in _PERMEANCE_LIKE else f
         rows.append(Row(k, LABELS[k], UNITS[k], h, f, u, d, lim, _verdict(d, h, f, u, lim),
@@ -190,6 +198,11 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
              "the FE column the planar field solution for the stack depth; '3D' columns add the "
              f"depth-direction fringing of the '{hand_p.fringing_model}' model. A planar model sees "
              "no end-turn leakage."]
+    if case.winding.current == 0.0:
+        notes.append("At zero current the flux, flux linkage, gap B, core B, path-averaged H and "
+                     "stored energy are zero in both models: no difference, verdict n/a. The "
+                     "secant inductance is given as its small-signal limit, the incremental "
+                     "inductance at zero current, in both models.")
     fl = r["flux"]
     if math.isfinite(fl.diff_pct) and fl.diff_pct < -3:
         notes.append(f"The FE carries {-fl.diff_pct:.0f} % more flux in the winding limb than the "

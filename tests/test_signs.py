@@ -78,3 +78,47 @@ def test_fe_is_odd_in_the_current() -> None:
         assert neg.values[k] > 0
         assert neg.values[k] == pytest.approx(pos.values[k], rel=1e-6), k
     assert neg.peak_B == pytest.approx(pos.peak_B, rel=1e-6)
+
+
+def test_a_zero_fe_value_gets_no_verdict() -> None:
+    # No relative difference exists against a zero FE value; equal zeros are
+    # not "within FE noise" but not comparable (n/a).
+    assert _verdict(_diff_pct(0.0, 0.0), 0.0, 0.0, 0.0, 10.0) == "n/a"
+    assert _verdict(_diff_pct(1e-3, 0.0), 1e-3, 0.0, 0.0, 10.0) == "n/a"
+
+
+@pytest.mark.slow
+def test_zero_current_check_reports_small_signal_inductance_and_na() -> None:
+    import json
+
+    from compare.case import case_from_dict
+    from compare.check import ZERO_AT_ZERO_CURRENT, run_check
+    import tomllib
+
+    from compare.output import _clean
+    from compare.serialize import check_json, table_cells
+
+    data = tomllib.loads((CASES / "demo_choke.toml").read_text())
+    data["winding"]["current"] = "0 A"
+    case = case_from_dict(data, base_dir=CASES)
+    res = run_check(case)
+    rows = {r.key: r for r in res.rows}
+    for k in ZERO_AT_ZERO_CURRENT:
+        r = rows[k]
+        # Source: exact - with no source current both fields are identically zero.
+        assert r.hand == 0.0 and r.fe == 0.0, k
+        assert math.isnan(r.diff_pct) and r.verdict == "n/a", k
+        assert "nan" not in " ".join(table_cells(r)), k
+    # The secant inductance at I = 0 is its small-signal limit, dlambda/dI at 0.
+    for model in (res.hand_planar, res.hand_3d):
+        assert model.inductance == pytest.approx(model.incremental_inductance, rel=1e-12)
+        assert model.inductance > 0
+    assert rows["inductance"].fe == pytest.approx(rows["incremental_inductance"].fe, rel=1e-12)
+    assert rows["inductance"].verdict in ("pass", "FAIL")
+    assert math.isfinite(rows["inductance"].diff_pct)
+    assert any(n.startswith("At zero current") for n in res.notes)
+    doc = _clean(check_json(res))  # what write_json writes
+    text = json.dumps(doc, allow_nan=False)  # valid JSON: non-finite values are null
+    assert "NaN" not in text
+    by_key = {r["quantity"]: r for r in doc["comparison"]}
+    assert by_key["flux"]["difference_pct"] is None and by_key["flux"]["verdict"] == "n/a"
