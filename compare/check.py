@@ -16,7 +16,7 @@ from typing import Any
 
 from analytic.fringing import FRINGING_MODELS, get_fringing
 
-from .case import Case
+from .case import Case, plausibility_issues
 from .fe import FEResult, run_fe_checked
 from .hand import HAND_KEYS, UNITS, HandResult, gap_face, run_hand
 
@@ -198,6 +198,8 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
              "the FE column the planar field solution for the stack depth; '3D' columns add the "
              f"depth-direction fringing of the '{hand_p.fringing_model}' model. A planar model sees "
              "no end-turn leakage."]
+    for w in plausibility_issues(case):
+        notes.append(f"Check the input: {w}.")
     if case.winding.current == 0.0:
         notes.append("At zero current the flux, flux linkage, gap B, core B, path-averaged H and "
                      "stored energy are zero in both models: no difference, verdict n/a. The "

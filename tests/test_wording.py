@@ -118,3 +118,78 @@ def test_agreement_unknown_key_beside_a_valid_one_lists_all_keys() -> None:
     assert text.startswith("margins.agreement.foo = 3: unknown key")
     assert "did you mean" not in text
     assert text.endswith(f"valid keys: {ALL_AGREEMENT}")
+
+
+def _case_with(**edits) -> "object":
+    """demo_choke with edits {"table.key": value}, loaded with warnings recorded."""
+    import warnings
+
+    from compare.case import case_from_dict
+    data = _demo_dict()
+    for dotted, value in edits.items():
+        table, key = dotted.split(".")
+        data[table][key] = value
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        case = case_from_dict(data, base_dir=CASES)
+    return case, [str(w.message) for w in caught if w.category.__name__ == "CaseWarning"]
+
+
+@pytest.mark.parametrize("key, value, needle", [
+    ("core.depth", 20, "core.depth = '20 m': outside the plausible 1 mm .. 2 m"),
+    ("core.outer_width", "3 m", "core.outer_width = '3 m': outside the plausible 1 mm .. 2 m"),
+    ("core.outer_height", "2.5 m", "core.outer_height = '2.5 m': outside the plausible"),
+])
+def test_implausible_core_dimension_warns(key: str, value, needle: str) -> None:
+    # 3 m / 2.5 m outer sizes need limb widths that still fit: keep the demo's.
+    _, msgs = _case_with(**{key: value})
+    assert any(needle in m for m in msgs), msgs
+
+
+def test_tiny_depth_warns() -> None:
+    _, msgs = _case_with(**{"core.depth": "0.5 mm"})
+    assert any(m.startswith("core.depth = '0.0005 m'") for m in msgs), msgs
+
+
+def test_sub_micron_gap_warns() -> None:
+    import warnings
+
+    from compare.case import case_from_dict
+    data = _demo_dict()
+    data["gaps"][0]["length"] = "0.5 um"
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        case_from_dict(data, base_dir=CASES)
+    msgs = [str(w.message) for w in caught]
+    assert any(m.startswith("gaps[0].length = '5e-07 m': below 1 um") for m in msgs), msgs
+
+
+def test_air_like_core_warns_and_the_notes_say_so() -> None:
+    from compare.case import plausibility_issues
+    case, msgs = _case_with(**{"materials.core": {"mu_r": 1}})
+    assert any(m.startswith("materials.core.mu_r = 1.0: core mu_r below 5") for m in msgs), msgs
+    rows = _rows()
+    text = _notes(case, rows)
+    assert "Check the input: materials.core.mu_r = 1.0" in text
+    assert len(plausibility_issues(case)) == 1
+
+
+def test_bh_curve_initial_permeability_is_checked() -> None:
+    # A B-H table whose initial slope is 3 mu0 (B = 3 mu0 H, then flattening).
+    mu0 = 4e-7 * math.pi
+    h = [0.0, 1000.0, 2000.0, 4000.0]
+    b = [0.0, 3 * mu0 * 1000.0, 5 * mu0 * 1000.0, 8 * mu0 * 1000.0]
+    _, msgs = _case_with(**{"materials.core": {"H": h, "B": b}})
+    assert any(m.startswith("materials.core = ") and "initial relative permeability below 5" in m
+               for m in msgs), msgs
+
+
+def test_bundled_cases_raise_no_plausibility_warning() -> None:
+    import warnings
+
+    from compare.case import load_case
+    for path in sorted(CASES.glob("*.toml")):
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            load_case(path)
+        assert [str(w.message) for w in caught] == [], path.name
