@@ -122,3 +122,22 @@ def test_zero_current_check_reports_small_signal_inductance_and_na() -> None:
     assert "NaN" not in text
     by_key = {r["quantity"]: r for r in doc["comparison"]}
     assert by_key["flux"]["difference_pct"] is None and by_key["flux"]["verdict"] == "n/a"
+
+
+def test_saturation_current_and_inductance_do_not_depend_on_the_sign() -> None:
+    # Source: exact symmetry (module docstring) - L(-I) = L(I), so the
+    # current at which L has dropped by d is the same |I| for both signs.
+    from compare.margins import hand_saturation_current, saturation_from_curve
+    case = load_case(CASES / "demo_saturating_choke.toml")
+    i = case.winding.current
+    pos = hand_saturation_current(with_current(case, i), 0.2)
+    neg = hand_saturation_current(with_current(case, -i), 0.2)
+    assert math.isfinite(pos) and pos > 0
+    # Tolerance 1e-6 relative: Brent's method stops at rtol = 1e-6.
+    assert neg == pytest.approx(pos, rel=1e-6)
+    currents = [0.0, 1.0, 2.0, 3.0, 4.0, 6.0, 8.0]
+    ls = [run_hand(with_current(case, c)).incremental_inductance for c in currents]
+    ls_neg = [run_hand(with_current(case, -c)).incremental_inductance for c in currents]
+    assert ls_neg == pytest.approx(ls, rel=1e-9)
+    assert saturation_from_curve([-c for c in currents], ls_neg) == pytest.approx(
+        saturation_from_curve(currents, ls), rel=1e-12, nan_ok=True)
