@@ -23,6 +23,7 @@ from __future__ import annotations
 import hashlib
 import math
 import tomllib
+import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -31,7 +32,7 @@ from analytic.bh import BHDataError, LinearMaterial
 from analytic.fringing import FRINGING_MODELS
 from analytic.materials import bh_from_table, builtin, builtin_names, load_bh_csv
 
-from .errors import CaseError
+from .errors import CaseError, CaseWarning
 from .families import FAMILIES, Family, get_family
 from .geometry import Gap, Limb, Winding
 from .keys import key_dimension, parse_key, parse_vary
@@ -253,10 +254,54 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     sweeps = _read_sweeps(root, "sweep")
     tolerances = tuple(_read_tolerance(t) for t in root.tables("tolerances"))
     root.finish()
-    return Case(name=name, family=family_name, core=core, gaps=gaps, winding=winding,
+    case = Case(name=name, family=family_name, core=core, gaps=gaps, winding=winding,
                 materials=materials, hand=hand, fe=fe, margins=margins, sweeps=sweeps,
                 tolerances=tolerances,
                 description=description, source=source, sha256=sha256)
+    for w in plausibility_issues(case):
+        warnings.warn(w, stacklevel=2)
+    return case
+
+
+# Plausibility bounds (common practice, no source): magnetic parts designed by
+# hand run from a few mm to about a metre; a bare number is metres, so "20"
+# meant as 20 mm lands far outside. A gap under 1 um is below lapping
+# flatness; a core with mu_r under 5 is hardly magnetic.
+CORE_SIZE_RANGE = (1e-3, 2.0)  # m, outer core dimensions and stack depth
+GAP_MIN = 1e-6  # m
+MU_R_MIN = 5.0
+
+
+def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
+    """Valid but implausible inputs of a case, as warnings (not raised).
+
+    Checks the outer core dimensions and the stack depth against
+    :data:`CORE_SIZE_RANGE`, each gap against :data:`GAP_MIN`, and the core's
+    (initial) relative permeability against :data:`MU_R_MIN`.
+    """
+    out = []
+    lo, hi = CORE_SIZE_RANGE
+    dims = [(name, getattr(case.core, name)) for name in ("outer_width", "outer_height")
+            if isinstance(getattr(case.core, name, None), float)]
+    dims.append(("depth", case.depth))
+    for name, v in dims:
+        if not lo <= v <= hi:
+            out.append(CaseWarning(f"core.{name}", f"{v:g} m",
+                                   "outside the plausible 1 mm .. 2 m for a core dimension "
+                                   "(a bare number is metres: write e.g. \"20 mm\")"))
+    for i, g in enumerate(case.gaps):
+        if g.length < GAP_MIN:
+            out.append(CaseWarning(f"gaps[{i}].length", f"{g.length:g} m",
+                                   "below 1 um: shorter than a ground face is flat"))
+    spec = case.material("core")
+    mu_r = float(spec.law.mu_r_initial)
+    if mu_r < MU_R_MIN:
+        what = "mu_r" if spec.kind == "mu_r" else "initial relative permeability"
+        key = "materials.core.mu_r" if spec.kind == "mu_r" else "materials.core"
+        out.append(CaseWarning(key, mu_r, f"core {what} below {MU_R_MIN:g}: the core is hardly "
+                                          "magnetic, so the differences to the FE are not about "
+                                          "fringing"))
+    return tuple(out)
 
 
 def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
@@ -429,7 +474,7 @@ def _read_margins(t: TableReader) -> Margins:
         if key not in AGREEMENT_KEYS:
             continue
         agreement.append((key, at.number(key, lo=0.0, hi=1000.0)))
-    at.finish()
+    at.finish(valid=AGREEMENT_KEYS)
     jmax = t.quantity("current_density", "current density", None)
     fill = t.number("copper_fill", 1.0, lo=0.0, hi=1.0)
     if fill <= 0.0:

@@ -16,7 +16,7 @@ from typing import Any
 
 from analytic.fringing import FRINGING_MODELS, get_fringing
 
-from .case import Case
+from .case import Case, plausibility_issues
 from .fe import FEResult, run_fe_checked
 from .hand import HAND_KEYS, UNITS, HandResult, gap_face, run_hand
 
@@ -102,8 +102,8 @@ class CheckResult:
 
 
 def _verdict(diff_pct: float, hand: float, fe: float, unc: float, limit: float | None) -> str:
-    if not (math.isfinite(hand) and math.isfinite(fe)):
-        return "n/a"
+    if not (math.isfinite(hand) and math.isfinite(fe) and math.isfinite(diff_pct)):
+        return "n/a"  # no value, or no relative difference (FE value zero)
     if math.isfinite(unc) and abs(hand - fe) <= unc:
         return "within FE noise"
     if limit is None:
@@ -112,9 +112,11 @@ def _verdict(diff_pct: float, hand: float, fe: float, unc: float, limit: float |
 
 
 def _diff_pct(hand: float, fe: float) -> float:
+    """(hand - FE) / FE in percent: the same figure for a quantity and its
+    sign-reversed counterpart (negative currents, compare.hand.signed)."""
     if not (math.isfinite(hand) and math.isfinite(fe)) or fe == 0:
         return math.nan
-    return 100.0 * (hand - fe) / abs(fe)
+    return 100.0 * (hand - fe) / fe
 
 
 def depth_factor(case: Case) -> float:
@@ -125,12 +127,20 @@ def depth_factor(case: Case) -> float:
     return float(k_depth)
 
 
+ZERO_AT_ZERO_CURRENT = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "energy")
+"""Quantities that are exactly zero at zero winding current: no difference, verdict n/a.
+
+The secant inductance there is its small-signal limit, the incremental
+inductance at zero current, in both models."""
+
+
 def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult,
                k_depth: float) -> tuple[Row, ...]:
     rows = []
+    zero = case.winding.current == 0.0
     for k in HAND_KEYS:
         h, f, u = hand_p.values()[k], fe.values[k], fe.uncertainty.get(k, math.nan)
-        d = _diff_pct(h, f)
+        d = math.nan if (zero and k in ZERO_AT_ZERO_CURRENT) else _diff_pct(h, f)
         lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
         f3 = f * k_depth if k in _PERMEANCE_LIKE else f
         rows.append(Row(k, LABELS[k], UNITS[k], h, f, u, d, lim, _verdict(d, h, f, u, lim),
@@ -188,11 +198,22 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
              "the FE column the planar field solution for the stack depth; '3D' columns add the "
              f"depth-direction fringing of the '{hand_p.fringing_model}' model. A planar model sees "
              "no end-turn leakage."]
+    for w in plausibility_issues(case):
+        notes.append(f"Check the input: {w}.")
+    if case.winding.current == 0.0:
+        notes.append("At zero current the flux, flux linkage, gap B, core B, path-averaged H and "
+                     "stored energy are zero in both models: no difference, verdict n/a. The "
+                     "secant inductance is given as its small-signal limit, the incremental "
+                     "inductance at zero current, in both models.")
     fl = r["flux"]
     if math.isfinite(fl.diff_pct) and fl.diff_pct < -3:
         notes.append(f"The FE carries {-fl.diff_pct:.0f} % more flux in the winding limb than the "
                      "hand model: leakage flux across the window links the winding but bypasses the "
                      "gap, and the hand model has no leakage path.")
+    elif math.isfinite(fl.diff_pct) and fl.diff_pct > 3:
+        notes.append(f"The hand model carries {fl.diff_pct:.0f} % more flux in the winding limb "
+                     "than the FE: its gap permeance (the fringing model) or its core "
+                     "permeance is larger than the field solution's.")
     g = r["gap_B"]
     if math.isfinite(g.diff_pct) and abs(g.diff_pct) > 3:
         side = "over" if g.diff_pct > 0 else "under"
@@ -211,7 +232,7 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
     if math.isfinite(knee) and peak > knee:
         notes.append(f"Part of the core is past the knee of the B-H curve (~{knee:.2f} T): 0.5 % of "
                      f"the core area is above {peak:.2f} T, so the hand model's uniform-B "
-                     "assumption does not hold there and its inductance is optimistic.")
+                     "assumption does not hold there" + _inductance_direction(r["inductance"]))
     notes.append(f"Peak core B is the |B| exceeded on 0.5 % of the core area. The pointwise "
                  f"maximum, {fe.fine.max_B:.2f} T at x = {x * 1e3:.1f} mm, y = {y * 1e3:.1f} mm, "
                  "sits at a sharp corner where a planar model's field is singular; it grows as "
@@ -222,6 +243,22 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
         notes.append(f"FE uncertainty above {UNCERTAIN_PCT:g} % for {names}: refine the mesh "
                      "([fe] mesh_size smaller, gap_elements larger).")
     return tuple(notes)
+
+
+def _inductance_direction(row: Row) -> str:
+    """The end of the saturation note: which way the hand inductance is off.
+
+    Optimistic (hand above the FE) and pessimistic (below) follow the sign
+    of the difference, never the mere presence of saturation.
+    """
+    d = row.diff_pct
+    if not math.isfinite(d) or abs(d) < 0.5:
+        return "; the hand inductance still agrees with the FE within 0.5 %."
+    if d > 0:
+        return (f"; the hand inductance is {d:.1f} % above the FE: optimistic, the local "
+                "saturation lowers the field model's inductance.")
+    return (f"; the hand inductance is {-d:.1f} % below the FE: pessimistic here, what the hand "
+            "model leaves out (leakage, fringing) outweighs the local saturation it misses.")
 
 
 def _knee(law: Any) -> float:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["CaseError", "RunError", "format_value"]
+__all__ = ["CaseError", "RunError", "CaseWarning", "format_value"]
 
 
 def format_value(value: object) -> str:
@@ -44,3 +44,18 @@ class CaseError(ValueError):
 
 class RunError(RuntimeError):
     """A model run failed (a nonlinear solve did not converge, meshing failed)."""
+
+
+class CaseWarning(UserWarning):
+    """Valid but implausible input (e.g. a bare number taken as metres for a
+    core dimension, a core mu_r near that of air).
+
+    Attributes: ``key`` (key path), ``value`` (SI value), ``reason``; the
+    message reads like a :class:`CaseError`'s.
+    """
+
+    def __init__(self, key: str, value: object, reason: str):
+        self.key = key
+        self.value = value
+        self.reason = reason
+        super().__init__(f"{key} = {format_value(value)}: {reason}")

@@ -26,7 +26,7 @@ from fem2d.solver import ConvergenceError, FieldSolution, solve
 from .case import Case
 from .errors import CaseError, RunError
 from .geometry import Limb, coil_rects, gap_rect
-from .hand import HAND_KEYS
+from .hand import HAND_KEYS, signed
 
 __all__ = ["FEQuantities", "FEResult", "case_layout", "mesh_case", "geometry_key", "solve_case",
            "solve_case_full", "FESolve",
@@ -136,7 +136,11 @@ def core_b_quantile(sol: FieldSolution, fraction: float, region: str = "core") -
 
 
 def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantities, Any, np.ndarray]:
-    """Reduce a field solution to the hand quantities (magnitudes).
+    """Reduce a field solution to the hand quantities.
+
+    Signs follow :func:`compare.hand.signed` (flux, flux linkage and gap B
+    take the sign of the winding current; magnitudes and inductances are
+    positive), the same convention as the hand model.
 
     Returns the quantities, the mean-path samples and dA/dI (the tangent
     solve of the incremental inductance, reused as a sweep predictor).
@@ -147,7 +151,7 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     if case.gaps:
         g0 = case.gaps[0]
         axis = (0.0, 1.0) if limbs[g0.limb].axis == "y" else (1.0, 0.0)
-        vals["gap_B"] = abs(post.region_mean_b(sol, "gap0", direction=axis))
+        vals["gap_B"] = signed(post.region_mean_b(sol, "gap0", direction=axis), w.current)
     else:
         vals["gap_B"] = math.nan
     vals["core_B"] = post.region_mean_b(sol, "core")
@@ -155,9 +159,9 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     samples = post.path_mean_h(sol, path, exclude=tuple(f"gap{i}" for i in range(len(case.gaps))))
     vals["path_H"] = samples.mean_h
     p0, p1 = _limb_flux_line(limbs[w.limb])
-    vals["flux"] = abs(post.flux_across(sol, p0, p1))
+    vals["flux"] = signed(post.flux_across(sol, p0, p1), w.current)
     lam = post.flux_linkage(sol, w.turns, COIL_PLUS, COIL_MINUS)
-    vals["flux_linkage"] = abs(lam)
+    vals["flux_linkage"] = signed(lam, w.current)
     vals["inductance"] = abs(lam / w.current) if w.current != 0 else math.nan
     dA_dI = post.incremental_potential(sol, w.turns, COIL_PLUS, COIL_MINUS)
     vals["incremental_inductance"] = post.incremental_flux_linkage(sol, w.turns, COIL_PLUS,

@@ -19,7 +19,7 @@ from analytic.network import CoreBranch, GapBranch, Network, NetworkResult, Wind
 from .case import Case
 from .errors import RunError
 
-__all__ = ["HandResult", "build_network", "run_hand", "WINDING_NAME", "HAND_KEYS"]
+__all__ = ["HandResult", "build_network", "run_hand", "WINDING_NAME", "HAND_KEYS", "signed"]
 
 log = logging.getLogger(__name__)
 
@@ -142,6 +142,23 @@ class HandResult:
         return out
 
 
+def signed(magnitude: float, current: float) -> float:
+    """The sign convention of both models' reported quantities, in one place.
+
+    Flux (Wb), flux linkage (Wb), gap B (T, the component along the limb) and
+    each segment's B, H, flux and MMF drop are reported with the sign of the
+    winding current: positive for a positive current, the negative of the
+    same magnitude for the reversed current. This is exact, not a choice of
+    branch: the magnetostatic problem with an isotropic B-H law, H(-B) =
+    -H(B), is odd in the source, so reversing I reverses every field vector
+    and keeps every magnitude. Magnitudes (core B as mean |B|, path H as mean
+    |H|, peak B, energy) and inductances (secant lambda/I and incremental)
+    stay positive. ``magnitude`` is taken as |magnitude|; NaN passes through.
+    """
+    m = abs(magnitude)
+    return -m if current < 0 else m
+
+
 def _json_float(v: float) -> float | None:
     return v if math.isfinite(v) else None
 
@@ -164,20 +181,21 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     total = sum(b.length for b in path)
     core_B = sum(abs(b.B) * b.length for b in path) / total
     path_H = sum(abs(b.H) * b.length for b in path) / total
-    gap_B = abs(by_name[cmap.gap_branches[0]].B) if cmap.gap_branches else math.nan
-    flux = abs(by_name[cmap.winding_branch].flux)
+    i = case.winding.current
+    gap_B = signed(by_name[cmap.gap_branches[0]].B, i) if cmap.gap_branches else math.nan
+    flux = signed(by_name[cmap.winding_branch].flux, i)
     segments = tuple(
         {"name": b.name, "kind": b.kind, "length": b.length, "area": b.area,
-         "flux": abs(b.flux), "B": abs(b.B), "H": abs(b.H), "mmf_drop": abs(b.mmf_drop),
-         "energy": b.energy}
+         "flux": signed(b.flux, i), "B": signed(b.B, i), "H": signed(b.H, i),
+         "mmf_drop": signed(b.mmf_drop, i), "energy": b.energy}
         for b in res.branches)
     return HandResult(
         case_name=case.name,
         fringing_model=get_fringing(fringing or case.hand.fringing).name,
         planar=planar,
         gap_B=gap_B, core_B=core_B, path_H=path_H, flux=flux,
-        flux_linkage=abs(res.flux_linkage[WINDING_NAME]),
-        inductance=res.inductance[WINDING_NAME],
+        flux_linkage=signed(res.flux_linkage[WINDING_NAME], i),
+        inductance=abs(res.inductance[WINDING_NAME]),
         incremental_inductance=res.incremental_inductance[WINDING_NAME],
         energy=float(res.energy),
         iterations=res.iterations,

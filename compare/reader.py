@@ -138,10 +138,20 @@ class TableReader:
         """The unconverted value (for fields with several accepted forms)."""
         return self._raw(name, default)
 
-    def finish(self) -> None:
-        """Reject keys that no getter asked for."""
+    def finish(self, valid: tuple[str, ...] | None = None) -> None:
+        """Reject keys that no getter asked for.
+
+        ``valid``: the table's full set of keys, for tables whose keys are
+        optional (e.g. ``[margins] agreement``); the error then lists all of
+        them instead of only those the file happened to use.
+        """
         for name in self.data:
             if name not in self._used:
+                if valid is not None:
+                    close = difflib.get_close_matches(name, valid, n=1, cutoff=0.6)
+                    hint = f"did you mean '{close[0]}'? " if close else ""
+                    raise CaseError(self.key(name), self.data[name],
+                                    f"unknown key; {hint}valid keys: {', '.join(valid)}")
                 known = sorted(self._used)
                 raise CaseError(self.key(name), self.data[name], "unknown key" + _suggest(name, known))
 

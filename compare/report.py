@@ -65,14 +65,14 @@ def input_rows(res: CheckResult) -> list[list[str]]:
         if isinstance(v, float):
             rows.append([f"core.{f.name}", _mm(v)])
         elif dataclasses.is_dataclass(v):
-            for g in dataclasses.fields(v):
-                w = getattr(v, g.name)
-                rows.append([f"core.{f.name}.{g.name}", _mm(w) if isinstance(w, float) else str(w)])
+            for sub in dataclasses.fields(v):
+                w = getattr(v, sub.name)
+                rows.append([f"core.{f.name}.{sub.name}", _mm(w) if isinstance(w, float) else str(w)])
         else:
             rows.append([f"core.{f.name}", str(v)])
-    for i, g in enumerate(case.gaps):
-        rows.append([f"gaps[{i}]", f"{g.limb} limb, length {_mm(g.length)}, "
-                                   f"centre {_mm(g.position)} from the limb's start"])
+    for i, gap in enumerate(case.gaps):
+        rows.append([f"gaps[{i}]", f"{gap.limb} limb, length {_mm(gap.length)}, "
+                                   f"centre {_mm(gap.position)} from the limb's start"])
     if not case.gaps:
         rows.append(["gaps", "none"])
     w = case.winding

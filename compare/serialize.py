@@ -47,7 +47,8 @@ def table_cells(row: Row) -> list[str]:
         limit = f"{sign} {format_si(row.limit_value, row.unit)}"
     else:
         limit = "-" if row.limit_pct is None else f"{row.limit_pct:g}"
-    unc = "-" if not math.isfinite(row.uncertainty) else (
+    # Percent of the FE value; "-" when it has none (no estimate, or FE value zero).
+    unc = "-" if not math.isfinite(row.uncertainty_pct) else (
         f"{row.uncertainty_pct:.2g} %")
     verdict = row.verdict
     if row.limit_value is not None and math.isfinite(row.margin_pct):

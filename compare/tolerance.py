@@ -193,17 +193,28 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
     return tuple(out)
 
 
-def _fit(hand: np.ndarray, fe: np.ndarray) -> Callable[[np.ndarray], np.ndarray]:
-    """FE ~ a + b hand by least squares (mean ratio with < 3 points or no spread)."""
+def _fit(hand: np.ndarray, fe: np.ndarray) -> tuple[Callable[[np.ndarray], np.ndarray], str]:
+    """FE ~ a + b hand by least squares (mean ratio with < 3 points or no spread).
+
+    Returns the estimator and a sentence saying which of the two was done
+    (printed by ``magcheck tolerance``, so it must match the branch taken).
+    """
     ok = np.isfinite(hand) & np.isfinite(fe)
     hand, fe = hand[ok], fe[ok]
-    if hand.size == 0:
-        return lambda x: np.full_like(np.asarray(x, dtype=float), np.nan)
-    if hand.size < 3 or np.ptp(hand) <= 1e-12 * max(np.abs(hand).max(), 1e-300):
+    n = int(hand.size)
+    plural = "" if n == 1 else "s"
+    if n == 0:
+        return (lambda x: np.full_like(np.asarray(x, dtype=float), np.nan),
+                "no finite FE sample, no estimate")
+    if n < 3 or np.ptp(hand) <= 1e-12 * max(np.abs(hand).max(), 1e-300):
         r = float(np.mean(fe / hand))
-        return lambda x: r * np.asarray(x, dtype=float)
+        why = "fewer than 3 FE samples" if n < 3 else "no spread in the hand values"
+        return (lambda x: r * np.asarray(x, dtype=float),
+                f"FE = r hand, r = {r:.4g} the mean FE/hand ratio of {n} FE sample{plural} "
+                f"({why}: no straight-line fit)")
     b, a = np.polyfit(hand, fe, 1)
-    return lambda x: a + b * np.asarray(x, dtype=float)
+    return (lambda x: a + b * np.asarray(x, dtype=float),
+            f"FE = a + b hand, fitted on {n} FE samples (least squares)")
 
 
 @dataclass(frozen=True)
@@ -286,11 +297,10 @@ def run_tolerance(src: CaseSource, *, samples: int, seed: int, fe_samples: int |
         ind, peak = (fe_l, fe_p) if fe_mask.all() else (hand_l, hand_p)
         fits["all"] = "FE on every sample" if fe_mask.all() else "hand model only (no FE)"
     else:
-        f_l, f_p = _fit(hand_l[fe_mask], fe_l[fe_mask]), _fit(hand_p[fe_mask], fe_p[fe_mask])
+        (f_l, fits["inductance"]), (f_p, fits["peak_B"]) = (
+            _fit(hand_l[fe_mask], fe_l[fe_mask]), _fit(hand_p[fe_mask], fe_p[fe_mask]))
         ind = np.where(fe_mask, fe_l, f_l(hand_l))
         peak = np.where(fe_mask, fe_p, f_p(hand_p))
-        fits["inductance"] = fits["peak_B"] = (f"FE = a + b hand, fitted on {int(fe_mask.sum())} "
-                                               "FE samples")
     # Margins: FE samples as evaluated; others corrected per margin key.
     keys = [m.key for m in res[0].margins]
     passed = np.ones(len(res), dtype=bool)
@@ -299,7 +309,7 @@ def run_tolerance(src: CaseSource, *, samples: int, seed: int, fe_samples: int |
         hv = np.array([r.margins[j].hand for r in res])
         m0 = res[0].margins[j]
         if m0.basis == "FE" and fe_mask.any() and not fe_mask.all():
-            val = np.where(fe_mask, val, _fit(hv[fe_mask], val[fe_mask])(hv))
+            val = np.where(fe_mask, val, _fit(hv[fe_mask], val[fe_mask])[0](hv))
         with np.errstate(invalid="ignore"):
             ok = val <= m0.limit if m0.kind == "max" else val >= m0.limit
         passed &= ok | ~np.isfinite(val)

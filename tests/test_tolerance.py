@@ -249,3 +249,35 @@ def test_straight_line_branch_recovers_intercept_and_slope(tmp_path, affine_fe):
     assert vals[:4] == pytest.approx(A_P + B_P * hand_p[:4], rel=1e-12)
     # Pass/fail of peak B (limit 1.7 T) follows the corrected values.
     assert np.all(res.passed <= (A_P + B_P * hand_p <= 1.7))
+
+
+def _printed(res) -> str:
+    import io
+
+    from compare.commands.tolerance import print_tolerance
+    buf = io.StringIO()
+    print_tolerance(res, buf)
+    return buf.getvalue()
+
+
+@pytest.mark.parametrize("m", [1, 2])
+def test_printed_text_names_the_mean_ratio_below_three_fe_samples(tmp_path, affine_fe, m):
+    # The estimator with fewer than 3 FE samples is the mean FE/hand ratio
+    # (compare/tolerance.py): the printed text must say so, not "a + b hand".
+    src = linear_tolerance_source(tmp_path)
+    res = run_tolerance(src, samples=4, seed=5, fe_samples=m, workers=1)
+    text = " ".join(_printed(res).split())
+    assert "a + b hand" not in text
+    s = "" if m == 1 else "s"
+    assert f"mean FE/hand ratio of {m} FE sample{s} (fewer than 3 FE samples" in text
+    hand = np.array([x.hand_inductance for x in res.samples[:m]])
+    r = np.mean((A_L + B_L * hand) / hand)
+    assert f"r = {r:.4g}" in text
+
+
+def test_printed_text_names_the_straight_line_fit_from_three_fe_samples(tmp_path, affine_fe):
+    src = linear_tolerance_source(tmp_path)
+    res = run_tolerance(src, samples=5, seed=5, fe_samples=3, workers=1)
+    text = " ".join(_printed(res).split())
+    assert "inductance: FE = a + b hand, fitted on 3 FE samples (least squares)" in text
+    assert "mean FE/hand ratio" not in text
