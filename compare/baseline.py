@@ -5,9 +5,20 @@ A baseline file maps a case name to a snapshot of its check: hand values
 
 - hand values: 1e-6 relative. The magnetic-circuit solve is converged to
   1e-10; the margin is for BLAS and platform rounding.
-- FE values: the larger of 0.2 % and twice the stored FE uncertainty. A
-  mesh generator update moves nodes, so FE values may change by up to their
-  discretisation error; anything beyond that is a real change.
+- FE values: the larger of 0.2 % and twice the stored FE uncertainty, the
+  uncertainty term capped at 1 % of the value. A mesh generator update moves
+  nodes, so FE values may change by up to their discretisation error; the
+  cap keeps a case whose own uncertainty is large (a coarse mesh, a corner
+  value) from hiding a real change behind it.
+- Depth-corrected FE values (``fe_3d``) and margin rows (``margins``): as FE
+  values.
+- FE uncertainties: within a factor 3 of the stored value, or below 0.1 % of
+  the quantity. They are differences of two meshes' values, so they move
+  more than the values do; a tenfold change (a wrong estimate) is caught.
+
+The stored ``case_sha256`` ties each entry to the case file it was made from
+(tests/test_cases_regression.py fails when a case file changed without its
+entry being regenerated).
 """
 
 from __future__ import annotations
@@ -20,10 +31,18 @@ from pathlib import Path
 from .check import CheckResult
 from .hand import HAND_KEYS
 
-__all__ = ["snapshot", "Drift", "drift", "load_baseline", "HAND_RTOL", "FE_RTOL_FLOOR"]
+__all__ = ["snapshot", "Drift", "drift", "load_baseline", "HAND_RTOL", "FE_RTOL_FLOOR",
+           "FE_UNC_CAP", "UNITS"]
+
+UNITS = {"gap_B": "T", "core_B": "T", "path_H": "A/m", "flux": "Wb", "flux_linkage": "Wb",
+         "inductance": "H", "incremental_inductance": "H", "energy": "J", "peak_B": "T"}
 
 HAND_RTOL = 1e-6
 FE_RTOL_FLOOR = 2e-3
+FE_UNC_CAP = 1e-2
+"""Largest relative widening of an FE tolerance by the stored uncertainty."""
+UNC_FACTOR = 3.0
+UNC_FLOOR = 1e-3
 
 
 def snapshot(res: CheckResult) -> dict:
@@ -33,6 +52,9 @@ def snapshot(res: CheckResult) -> dict:
         "hand_planar": {k: res.hand_planar.values()[k] for k in HAND_KEYS},
         "fe": {k: res.fe.values[k] for k in HAND_KEYS} | {"peak_B": res.fe.fine.peak_B},
         "fe_uncertainty": {k: res.fe.uncertainty.get(k) for k in (*HAND_KEYS, "peak_B")},
+        "fe_3d": {r.key: r.fe_3d for r in res.rows if r.key in HAND_KEYS},
+        "margins": {r.key: r.fe if r.fe == r.fe else r.hand for r in res.rows
+                    if r.limit_value is not None},
         "case_sha256": res.case.sha256,
     }
 
@@ -44,16 +66,26 @@ class Drift:
     block: str
     key: str
     stored: float
-    current: float
-    tolerance: float  # absolute
+    current: float | None
+    tolerance: float  # absolute (a factor for fe_uncertainty)
 
     @property
     def rel(self) -> float:
-        return (self.current - self.stored) / abs(self.stored) if self.stored else math.inf
+        if self.current is None or not self.stored:
+            return math.inf
+        return (self.current - self.stored) / abs(self.stored)
+
+    @property
+    def unit(self) -> str:
+        return UNITS.get(self.key, "")
 
     def __str__(self) -> str:
-        return (f"{self.block}.{self.key}: {self.current:.6g} vs stored {self.stored:.6g} "
-                f"({100 * self.rel:+.3f} %, tolerance {self.tolerance:.3g})")
+        u = f" {self.unit}" if self.unit else ""
+        cur = "missing" if self.current is None else f"{self.current:.6g}{u}"
+        tol = (f"factor {self.tolerance:g}" if self.block == "fe_uncertainty"
+               else f"tolerance {self.tolerance:.3g}{u}")
+        return (f"{self.block}.{self.key}: {cur} vs stored {self.stored:.6g}{u} "
+                f"({100 * self.rel:+.3f} %, {tol})")
 
 
 def _close(a: float | None, b: float | None, tol: float) -> bool:
@@ -72,12 +104,27 @@ def drift(current: dict, stored: dict) -> list[Drift]:
             if not _close(c, s, tol):
                 out.append(Drift(block, k, s, c, tol))
     unc = stored.get("fe_uncertainty", {})
-    for k, s in stored["fe"].items():
-        c = current["fe"].get(k)
+
+    def fe_tol(k: str, s: float | None) -> float:
         u = unc.get(k)
-        tol = max(FE_RTOL_FLOOR * abs(s or 0.0), 2.0 * (u if u is not None and math.isfinite(u) else 0.0))
-        if not _close(c, s, tol):
-            out.append(Drift("fe", k, s, c, tol))
+        u = u if u is not None and math.isfinite(u) else 0.0
+        mag = abs(s or 0.0)
+        return max(FE_RTOL_FLOOR * mag, min(2.0 * u, FE_UNC_CAP * mag))
+
+    for block in ("fe", "fe_3d", "margins"):
+        for k, s in stored.get(block, {}).items():
+            c = current.get(block, {}).get(k)
+            tol = fe_tol(k if block != "margins" else "", s)
+            if not _close(c, s, tol):
+                out.append(Drift(block, k, s, c, tol))
+    ref = stored.get("fe", {})
+    for k, s in unc.items():
+        c = current.get("fe_uncertainty", {}).get(k)
+        if s is None or c is None or not (math.isfinite(s) and math.isfinite(c)):
+            continue
+        floor = UNC_FLOOR * abs(ref.get(k) or 0.0)
+        if max(c, floor) > UNC_FACTOR * max(s, floor) or max(s, floor) > UNC_FACTOR * max(c, floor):
+            out.append(Drift("fe_uncertainty", k, s, c, UNC_FACTOR))
     return out
 
 

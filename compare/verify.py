@@ -176,12 +176,20 @@ def verify_case(path: str, stored: dict | None = None, *, use_baseline: bool = F
             if stored is None:
                 items.append(Item("baseline", "baseline", "stored results", "", math.nan, None,
                                   "", math.nan, "n/a", "no stored results for this case"))
+            elif stored.get("case_sha256") not in (None, "", case.sha256):
+                items.append(Item("baseline", "baseline", "stored results", "", math.nan, None,
+                                  "", math.nan, "FAIL",
+                                  f"the case file differs from the one the baseline entry "
+                                  f"'{name}' was made from (sha256 {case.sha256[:12]}... vs "
+                                  f"{str(stored['case_sha256'])[:12]}...): its values are not "
+                                  "comparable; regenerate the entry or rename the case"))
             else:
                 moved = drift(snapshot(res), stored)
                 if moved:
                     for d in moved:
                         items.append(Item("baseline", f"baseline:{d.block}.{d.key}",
-                                          f"drift of {d.block}.{d.key}", "", d.current, d.stored,
+                                          f"drift of {d.block}.{d.key}", d.unit,
+                                          math.nan if d.current is None else d.current, d.stored,
                                           "abs", math.nan, "FAIL", str(d)))
                 else:
                     items.append(Item("baseline", "baseline", "stored results", "", math.nan,
@@ -236,8 +244,14 @@ def run_verify(paths: Sequence[str | Path], *, baseline: str | Path | None = Non
         if not isinstance(stored_all, dict):
             raise CaseError("--baseline", str(baseline), "must map case names to results")
     tasks = []
+    first_file: dict[str, Path] = {}
     for f in files:
         name = _case_name(f)
+        if name is not None and name in first_file:
+            raise CaseError("case.name", name, f"used by two case files, {first_file[name]} and "
+                                               f"{f}: give each case its own name")
+        if name is not None:
+            first_file[name] = f
         tasks.append(_Task(str(f), stored_all.get(name), baseline is not None, estimate_error))
     outcomes, _ = run_tasks(_run_task, tasks, workers=workers, scheduler=scheduler,
                             on_done=on_done)

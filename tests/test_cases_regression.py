@@ -26,6 +26,16 @@ def test_every_case_has_a_baseline():
     assert names == set(BASELINE)
 
 
+@pytest.mark.parametrize("path", CASE_FILES, ids=[p.stem for p in CASE_FILES])
+def test_baseline_entry_was_made_from_this_case_file(path):
+    # A case edited without regenerating its entry would compare new physics
+    # against old numbers (or hide a change): the stored hash must match.
+    case = load_case(path)
+    assert BASELINE[case.name]["case_sha256"] == case.sha256, (
+        f"{path.name} changed since its baseline entry was made: run "
+        f"PYTHONPATH=. python tools/update_baseline.py --cases {case.name} and say why in the commit")
+
+
 @pytest.mark.slow
 @pytest.mark.parametrize("path", CASE_FILES, ids=[p.stem for p in CASE_FILES])
 def test_case_matches_baseline(path):
