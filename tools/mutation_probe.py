@@ -1,0 +1,252 @@
+"""Mutation probe: does the test suite catch wrong physics?
+
+Each mutation is a one-line change of the physics or the comparison (a wrong
+area, a swapped fit, an inflated uncertainty...). The probe applies each one in
+a scratch copy of the committed tree (``git worktree add --detach``), runs the
+tests that should catch it there, and prints a table: killed (a test failed) or
+survived (every test passed: the suite would not notice that bug).
+
+    python tools/mutation_probe.py              # every mutation
+    python tools/mutation_probe.py --list       # names and descriptions
+    python tools/mutation_probe.py --only ei-centre-length,unc-x10
+
+A snippet that no longer occurs exactly once in its file stops the probe with
+an error naming it: update the list when the code moves. A tool for the
+engineer changing the physics, not part of CI (it takes minutes).
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import subprocess
+import sys
+import tempfile
+import time
+from dataclasses import dataclass
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+@dataclass(frozen=True)
+class Mutation:
+    name: str
+    file: str
+    old: str
+    new: str
+    description: str
+    tests: tuple[str, ...]
+
+
+M = Mutation
+MUTATIONS: tuple[Mutation, ...] = (
+    # ---------------------------------------------------------------- compare: geometry -> circuit
+    M("window-other-limb-area", "compare/families.py",
+      'Segment("right", "tr", "br", yt - yb, c.right * d, "right"),',
+      'Segment("right", "tr", "br", yt - yb, c.left * d, "right"),',
+      "a window-core segment takes another limb's width for its area",
+      ("tests/test_circuit_geometry.py", "tests/test_network.py")),
+    M("ei-centre-length", "compare/families.py",
+      'Segment("centre", "bc", "tc", yt - yb, c.centre * d, "centre"),',
+      'Segment("centre", "bc", "tc", 1.1 * (yt - yb), c.centre * d, "centre"),',
+      "the EI centre limb 10 % too long",
+      ("tests/test_circuit_geometry.py", "tests/test_network.py", "tests/test_check.py")),
+    M("first-gap-face", "compare/hand.py",
+      "face = gap_face(case, i)", "face = gap_face(case, 0)",
+      "every gap of a case uses the first gap's face",
+      ("tests/test_circuit_geometry.py",)),
+    # ---------------------------------------------------------------- compare: FE measurements
+    M("unc-x10", "compare/fe.py",
+      "unc[k] = abs(a - b) / (REFINE - 1.0) if",
+      "unc[k] = 10 * abs(a - b) / (REFINE - 1.0) if",
+      "the FE uncertainty multiplied by 10",
+      ("tests/test_check.py",)),
+    M("unc-half", "compare/fe.py",
+      "unc[k] = abs(a - b) / (REFINE - 1.0) if",
+      "unc[k] = 0.5 * abs(a - b) / (REFINE - 1.0) if",
+      "the FE uncertainty halved (no longer a bound)",
+      ("tests/test_check.py",)),
+    M("fe-incremental-5pct", "compare/fe.py",
+      'vals["incremental_inductance"] = post.incremental_flux_linkage(',
+      'vals["incremental_inductance"] = 1.05 * post.incremental_flux_linkage(',
+      "a 5 % error in the FE incremental inductance",
+      ("tests/test_fe_linear.py", "tests/test_check.py")),
+    M("fe-secant-abs-lost", "compare/fe.py",
+      'vals["inductance"] = abs(lam / w.current) if w.current != 0 else math.nan',
+      'vals["inductance"] = lam if w.current != 0 else math.nan',
+      "the FE secant inductance is the flux linkage, not lambda/I",
+      ("tests/test_fe_linear.py", "tests/test_check.py")),
+    M("peak-quantile", "compare/fe.py",
+      "PEAK_AREA_FRACTION = 0.005", "PEAK_AREA_FRACTION = 0.05",
+      "peak core B taken over 5 % of the area instead of 0.5 %",
+      ("tests/test_check.py", "tests/test_cases_regression.py")),
+    # ---------------------------------------------------------------- compare: comparison
+    M("depth-factor-in-plane", "compare/check.py",
+      "_, k_depth = get_fringing(case.hand.fringing).factors(gap_face(case, 0))",
+      "k_depth, _ = get_fringing(case.hand.fringing).factors(gap_face(case, 0))",
+      "the 3D depth correction takes the in-plane factor",
+      ("tests/test_check.py", "tests/test_tolerance.py", "tests/test_cases_regression.py")),
+    M("verdict-limit-direction", "compare/check.py",
+      'return "pass" if abs(diff_pct) <= limit else "FAIL"',
+      'return "pass" if abs(diff_pct) >= limit else "FAIL"',
+      "an agreement limit judged the wrong way round",
+      ("tests/test_check.py", "tests/test_margins.py")),
+    M("noise-band", "compare/check.py",
+      "if math.isfinite(unc) and abs(hand - fe) <= unc:",
+      "if math.isfinite(unc) and abs(hand - fe) <= 10 * unc:",
+      "'within FE noise' given for ten times the uncertainty",
+      ("tests/test_check.py", "tests/test_wording.py")),
+    # ---------------------------------------------------------------- compare: margins, sweeps, tolerance
+    M("tolerance-fit-swapped", "compare/tolerance.py",
+      "b, a = np.polyfit(hand, fe, 1)", "a, b = np.polyfit(hand, fe, 1)",
+      "the tolerance study's straight-line fit with slope and intercept swapped",
+      ("tests/test_tolerance.py",)),
+    M("saturation-drop", "compare/margins.py",
+      "target = (1.0 - d) * l0", "target = (1.0 - 0.5 * d) * l0",
+      "the saturation current read at half the stated inductance drop",
+      ("tests/test_sweep.py", "tests/test_margins.py")),
+    M("current-density-fill", "compare/margins.py",
+      "area = case.margins.copper_fill * w.thickness * w.length",
+      "area = w.thickness * w.length",
+      "the current density ignores the copper fill",
+      ("tests/test_margins.py",)),
+    M("oersted", "compare/units.py",
+      '"Oe": (1000.0 / (4.0 * math.pi), DIMENSIONS["field strength"]),',
+      '"Oe": (1000.0 / (2.0 * math.pi), DIMENSIONS["field strength"]),',
+      "1 Oe = 1000/(2 pi) A/m in the case-file units",
+      ("tests/test_units.py", "tests/test_case_loader.py")),
+    M("bh-oersted", "analytic/bh.py",
+      'H_UNITS: dict[str, float] = {"A/m": 1.0, "kA/m": 1e3, "Oe": 1000.0 / (4.0 * math.pi)}',
+      'H_UNITS: dict[str, float] = {"A/m": 1.0, "kA/m": 1e3, "Oe": 1000.0 / (2.0 * math.pi)}',
+      "1 Oe = 1000/(2 pi) A/m in B-H tables",
+      ("tests/test_bh.py",)),
+    # ---------------------------------------------------------------- analytic
+    M("mu0", "analytic/constants.py",
+      "mu_0 = 1.25663706127e-6", "mu_0 = 1.25663706127e-7",
+      "mu0 ten times too small",
+      ("tests/test_network.py", "tests/test_fringing.py")),
+    M("area-fringing-depth", "analytic/fringing.py",
+      "return (face.width + g) / face.width, (face.depth + g) / face.depth",
+      "return (face.width + g) / face.width, (face.depth + 2 * g) / face.depth",
+      "area fringing adds 2g, not g, in depth",
+      ("tests/test_fringing.py", "tests/test_network.py")),
+    M("flux-factor-log", "analytic/fringing.py",
+      "math.log(2.0 * face.free_height / g)", "math.log(face.free_height / g)",
+      "the flux factor's log term without the 2",
+      ("tests/test_fringing.py",)),
+    M("conformal-term", "analytic/fringing.py",
+      "term = max(1.0 + math.log(math.pi * h / (2.0 * g)), 0.0)",
+      "term = max(1.0 + math.log(math.pi * h / (4.0 * g)), 0.0)",
+      "the conformal-map element with l = g instead of g/2",
+      ("tests/test_fringing.py",)),
+    M("linear-nu", "analytic/bh.py",
+      "return np.full_like(_as_float_array(s), 1.0 / self.mu)",
+      "return np.full_like(_as_float_array(s), 1.1 / self.mu)",
+      "a linear material's reluctivity 10 % high",
+      ("tests/test_bh.py", "tests/test_fem_exact.py", "tests/test_fe_linear.py")),
+    M("network-coenergy", "analytic/network.py",
+      "coenergy = 0.5 * br.permeance * fk**2",
+      "coenergy = br.permeance * fk**2",
+      "a gap's co-energy without the 1/2",
+      ("tests/test_network.py",)),
+    # ---------------------------------------------------------------- fem2d
+    M("b-curl-sign", "fem2d/post.py",
+      "g = _asm(sol).grad(sol.A)\n    return np.stack([g[1], -g[0]])",
+      "g = _asm(sol).grad(sol.A)\n    return np.stack([g[1], g[0]])",
+      "B = curl A with a wrong sign on B_y",
+      ("tests/test_fem_exact.py", "tests/test_fem_infra.py")),
+    M("flux-depth", "fem2d/post.py",
+      "return float(sol.mesh.layout.depth * (a[1] - a[0]))",
+      "return float(a[1] - a[0])",
+      "flux across a line per metre, not times the stack depth",
+      ("tests/test_fem_exact.py", "tests/test_fem_infra.py", "tests/test_check.py")),
+    M("energy-depth", "fem2d/post.py",
+      "return float(sol.mesh.layout.depth * np.sum(asm.energy_density(s) * asm.dx))",
+      "return float(np.sum(asm.energy_density(s) * asm.dx))",
+      "stored energy per metre, not times the stack depth",
+      ("tests/test_fem_exact.py", "tests/test_fem_infra.py", "tests/test_fe_linear.py")),
+    M("line-search-armijo", "fem2d/solver.py",
+      "armijo_ok = Wa <= W + c * a * slope + scale",
+      "armijo_ok = True",
+      "the Newton line search accepts any step",
+      ("tests/test_fem_newton.py", "tests/test_fem_exact.py")),
+    M("mesh-estimate", "fem2d/geometry.py",
+      "_CAL_BULK, _CAL_GAP = 1.45, 1.9", "_CAL_BULK, _CAL_GAP = 0.7, 1.9",
+      "the mesh-size estimate off by a factor 2",
+      ("tests/test_mesh_guard.py",)),
+)
+
+
+def _check(mutations: tuple[Mutation, ...]) -> None:
+    for m in mutations:
+        text = (ROOT / m.file).read_text(encoding="utf-8")
+        n = text.count(m.old)
+        if n != 1:
+            raise SystemExit(f"mutation_probe: {m.name}: the snippet occurs {n} times in {m.file} "
+                             f"(expected once): update it to the current code\n  {m.old}")
+
+
+def _run_one(m: Mutation, scratch: Path, timeout: float) -> tuple[str, str, float]:
+    path = scratch / m.file
+    original = path.read_text(encoding="utf-8")
+    path.write_text(original.replace(m.old, m.new, 1), encoding="utf-8")
+    env = dict(os.environ, PYTHONPATH=str(scratch), PYTHONDONTWRITEBYTECODE="1")
+    t0 = time.perf_counter()
+    try:
+        proc = subprocess.run([sys.executable, "-m", "pytest", "-x", "-q", "-p", "no:cacheprovider",
+                               *m.tests], cwd=scratch, env=env, capture_output=True, text=True,
+                              timeout=timeout)
+        seconds = time.perf_counter() - t0
+        if proc.returncode == 0:
+            return "survived", "", seconds
+        failed = [ln.split(" ")[1] for ln in proc.stdout.splitlines() if ln.startswith("FAILED ")
+                  or ln.startswith("ERROR ")]
+        return "killed", failed[0] if failed else f"pytest exit {proc.returncode}", seconds
+    except subprocess.TimeoutExpired:
+        return "killed", f"timeout {timeout:.0f} s", time.perf_counter() - t0
+    finally:
+        path.write_text(original, encoding="utf-8")
+
+
+def main(argv: list[str] | None = None) -> int:
+    p = argparse.ArgumentParser(description="Apply physics mutations and report which the tests catch.")
+    p.add_argument("--list", action="store_true", help="list the mutations and exit")
+    p.add_argument("--only", help="comma-separated mutation names")
+    p.add_argument("--timeout", type=float, default=600.0, help="seconds per mutation")
+    args = p.parse_args(argv)
+    chosen = MUTATIONS
+    if args.only:
+        names = {n.strip() for n in args.only.split(",")}
+        unknown = names - {m.name for m in MUTATIONS}
+        if unknown:
+            raise SystemExit(f"mutation_probe: unknown mutation(s): {', '.join(sorted(unknown))}")
+        chosen = tuple(m for m in MUTATIONS if m.name in names)
+    _check(chosen)
+    if args.list:
+        for m in chosen:
+            print(f"{m.name:24s} {m.file:22s} {m.description}")
+        return 0
+    with tempfile.TemporaryDirectory(prefix="magcheck-probe-") as tmp:
+        scratch = Path(tmp) / "tree"
+        subprocess.run(["git", "worktree", "add", "--detach", "-q", str(scratch), "HEAD"],
+                       cwd=ROOT, check=True)
+        try:
+            rows = []
+            for m in chosen:
+                verdict, by, seconds = _run_one(m, scratch, args.timeout)
+                rows.append((m, verdict, by, seconds))
+                print(f"{m.name:24s} {verdict:8s} {seconds:6.1f} s  {by}", flush=True)
+        finally:
+            subprocess.run(["git", "worktree", "remove", "--force", str(scratch)], cwd=ROOT,
+                           check=False)
+    killed = sum(1 for _, v, _, _ in rows if v == "killed")
+    print(f"\n{len(rows)} mutations: {killed} killed, {len(rows) - killed} survived")
+    for m, v, _, _ in rows:
+        if v == "survived":
+            print(f"  survived: {m.name} ({m.file}): {m.description}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
