@@ -173,3 +173,76 @@ def test_high_permeability_limit_is_the_gaps_alone():
     # MMF split between the gaps in proportion to their reluctances g/a.
     share0 = (G0 / RIGHT) / (G0 / RIGHT + G1 / TOP)
     assert seg["gap0"]["mmf_drop"] == pytest.approx(share0 * N * I, rel=1e-5)
+
+
+# --------------------------------------------------------------------------- EI core
+# Invented dimensions (mm): centre limb 20, outer limbs 7 (not the default half
+# of the centre), yokes 9, windows 11 x 28, stack 15; a 0.4 mm centre gap;
+# 60 turns at 1.5 A on the centre limb.
+EC, EO, EY, EWW, EWH, ED = 20, 7, 9, 11, 28, 15
+EG, EN, EI_ = 0.4, 60, 1.5
+# Written out by hand (today's accounting: each limb runs between the yoke
+# centre lines, each yoke between limb centre lines).
+E_XL, E_XC = EO / 2, EO + EWW + EC / 2
+E_YB, E_YT = EY / 2, EWH + 2 * EY - EY / 2
+E_SEG = {  # name: (length mm, area mm^2)
+    "centre": (E_YT - E_YB, EC * ED),        # 37 mm, 300 mm^2
+    "left": (E_YT - E_YB, EO * ED),          # 37 mm, 105 mm^2
+    "right": (E_YT - E_YB, EO * ED),
+    "top-left": (E_XC - E_XL, EY * ED),      # 24.5 mm, 135 mm^2
+    "bottom-left": (E_XC - E_XL, EY * ED),
+    "top-right": (E_XC - E_XL, EY * ED),
+    "bottom-right": (E_XC - E_XL, EY * ED),
+}
+
+
+def ei_case(mu_r: float):
+    return case_from_dict({
+        "case": {"name": "ei-unequal", "family": "ei-core"},
+        "core": {"centre_width": f"{EC} mm", "outer_width": f"{EO} mm",
+                 "yoke_width": f"{EY} mm", "window_width": f"{EWW} mm",
+                 "window_height": f"{EWH} mm", "depth": f"{ED} mm"},
+        "gaps": [{"limb": "centre", "length": f"{EG} mm"}],
+        "winding": {"limb": "centre", "turns": EN, "current": f"{EI_} A",
+                    "thickness": "6 mm", "length": "20 mm"},
+        "materials": {"core": {"mu_r": mu_r}},
+        "hand": {"fringing": "none"},
+    })
+
+
+def test_segments_of_an_ei_core_with_unequal_limbs():
+    case = ei_case(2000.0)
+    segs = {s.name: s for s in case.family_model.segments(case.core)}
+    assert set(segs) == set(E_SEG)
+    for name, (length, area) in E_SEG.items():
+        # Exact arithmetic on the dimensions above; 1e-12 is float rounding.
+        assert segs[name].length == pytest.approx(length * MM, rel=1e-12), name
+        assert segs[name].area == pytest.approx(area * MM**2, rel=1e-12), name
+
+
+@pytest.mark.parametrize("mu_r", [500.0, 5000.0])
+def test_ei_series_parallel_circuit_closed_form(mu_r):
+    # Source: exact solution of the linear magnetic circuit (Kirchhoff's laws
+    # for MMF and flux): the centre limb and its gap in series with the two
+    # outer branches (outer limb + its two yokes) in parallel.
+    def rel(name):
+        length, area = E_SEG[name]
+        return length * MM / (mu_0 * mu_r * area * MM**2)
+
+    gap_len = EG * MM
+    r_centre = rel("centre") * (E_SEG["centre"][0] * MM - gap_len) / (E_SEG["centre"][0] * MM)
+    r_gap = gap_len / (mu_0 * EC * MM * ED * MM)
+    r_side = rel("left") + rel("top-left") + rel("bottom-left")
+    r_total = r_centre + r_gap + r_side / 2
+    flux = EN * EI_ / r_total
+    res = run_hand(ei_case(mu_r))
+    # Tolerance 1e-9: linear network solved to 1e-10 relative.
+    assert res.flux == pytest.approx(flux, rel=1e-9)
+    assert res.inductance == pytest.approx(EN**2 / r_total, rel=1e-9)
+
+
+def test_ei_high_permeability_limit_is_the_gap_alone():
+    # Source: ideal gapped core (REFERENCES.md section 2 [exact]): mu_r -> inf,
+    # B_g = mu0 N I / g. Tolerance 1e-5: the core's reluctance at mu_r = 1e9.
+    res = run_hand(ei_case(1e9))
+    assert res.gap_B == pytest.approx(mu_0 * EN * EI_ / (EG * MM), rel=1e-5)
