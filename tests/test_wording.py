@@ -193,3 +193,15 @@ def test_bundled_cases_raise_no_plausibility_warning() -> None:
             warnings.simplefilter("always")
             load_case(path)
         assert [str(w.message) for w in caught] == [], path.name
+
+
+def test_within_fe_noise_only_inside_the_uncertainty():
+    # 'within FE noise' means |hand - FE| <= the FE uncertainty, nothing wider
+    # (README, "The check"); just outside it the agreement limit decides.
+    from compare.check import _verdict
+
+    fe, unc = 1.0, 0.01
+    assert _verdict(0.5, 1.005, fe, unc, 10.0) == "within FE noise"
+    assert _verdict(2.0, 1.02, fe, unc, 10.0) == "pass"
+    assert _verdict(-2.0, 0.98, fe, unc, 1.0) == "FAIL"
+    assert _verdict(20.0, 1.2, fe, unc, 10.0) == "FAIL"
