@@ -88,11 +88,11 @@ def _gap_line(limb: Limb, pos: float, n: int = 400) -> tuple[np.ndarray, np.ndar
 
 
 def fig_gap_line(res: CheckResult):
-    fig, ax = plt.subplots(figsize=(6.5, 4))
+    """B across the first gap; None for a core without a gap (no figure)."""
     case = res.case
     if not case.gaps:
-        ax.text(0.5, 0.5, "no gap", ha="center")
-        return fig
+        return None
+    fig, ax = plt.subplots(figsize=(6.5, 4))
     gap = case.gaps[0]
     limb = case.limbs[gap.limb]
     pts, t, comp = _gap_line(limb, gap.position)
@@ -105,7 +105,8 @@ def fig_gap_line(res: CheckResult):
         ax.axvline(c * 1e3, color="#888888", lw=0.8, ls=":")
     ax.set_xlabel("position across the limb (mm); dotted: pole-face edges")
     ax.set_ylabel("B (T)")
-    ax.set_title(f"B across the middle of gap0 ({gap.length * 1e3:g} mm): fringing beyond the faces")
+    ax.set_title(f"B across the middle of the gap in the {gap.limb} limb ({gap.length * 1e3:g} mm): "
+                 "fringing beyond the faces", fontsize=9)
     ax.legend(fontsize=8)
     return fig
 
@@ -117,7 +118,14 @@ def fig_path_h(res: CheckResult):
     ax.plot(s.s[kept] * 1e3, s.h[kept], ".", ms=1.5, color=FE_COLOUR, label="FE |H| on the path")
     ax.axhline(res.fe.values["path_H"], color=FE_COLOUR, lw=1, label="FE path mean")
     ax.axhline(res.hand_planar.path_H, color=HAND_COLOUR, ls="--", label="hand path mean")
-    ax.set_yscale("log")
+    h = s.h[kept]
+    h = h[np.isfinite(h) & (h > 0)]
+    if h.size and h.max() > 10.0 * h.min():
+        ax.set_yscale("log")  # over a decade: log, with labelled minor ticks
+        from matplotlib.ticker import LogFormatterSciNotation
+
+        ax.yaxis.set_minor_formatter(LogFormatterSciNotation(labelOnlyBase=False,
+                                                             minor_thresholds=(2, 0.4)))
     ax.set_xlabel("distance along the mean path (mm); gaps left out")
     ax.set_ylabel("|H| (A/m)")
     ax.set_title("H along the mean path")
@@ -157,6 +165,8 @@ def save_figures(res: CheckResult, folder: str | Path) -> list[Path]:
     paths = []
     for name, make in FIGURES.items():
         fig = make(res)
+        if fig is None:  # nothing to show (a gapless core has no gap figure)
+            continue
         try:
             fig.tight_layout()
             paths.append(save_figure(fig, folder / name, option="--report") or folder / name)

@@ -4,11 +4,12 @@ from __future__ import annotations
 
 import hashlib
 import html
+import tomllib
 from pathlib import Path
 
 import pytest
 
-from compare.case import load_case
+from compare.case import case_from_dict, load_case
 from compare.check import run_check
 from compare.report import write_report
 
@@ -44,3 +45,28 @@ def test_report_escapes_case_text(report):
     page, src, _, _ = report
     assert "<script>" not in page
     assert html.escape(src) in page  # the whole case file, escaped, in a <pre>
+
+
+def test_gap_figure_uses_the_case_names_and_is_left_out_without_a_gap(tmp_path):
+    from compare.plots import fig_gap_line
+
+    data = tomllib.loads((CASES / "demo_choke.toml").read_text())
+    res = run_check(case_from_dict(data, base_dir=CASES), estimate_error=False)
+    fig = fig_gap_line(res)
+    assert "right limb" in fig.axes[0].get_title() and "gap0" not in fig.axes[0].get_title()
+    data.pop("gaps")
+    gapless = run_check(case_from_dict(data, base_dir=CASES), estimate_error=False)
+    assert fig_gap_line(gapless) is None
+    page = write_report(gapless, tmp_path / "r").read_text()
+    assert "gap_line.png" not in page and not (tmp_path / "r" / "gap_line.png").exists()
+
+
+def test_path_h_axis_is_linear_within_a_decade(report):
+    # The demo choke's |H| along the path spans less than a decade: a linear
+    # axis with its default ticks, not a log axis with two labels.
+    from compare.plots import fig_path_h
+
+    _, _, _, res = report
+    ax = fig_path_h(res).axes[0]
+    assert ax.get_yscale() == "linear"
+    assert len([t for t in ax.get_yticklabels() if t.get_text()]) >= 4
