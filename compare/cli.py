@@ -92,6 +92,14 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_OK
     except KeyboardInterrupt:
         print("magcheck: interrupted", file=sys.stderr)
+        from fem2d.geometry import meshing_in_progress
+
+        if meshing_in_progress():
+            # gmsh is still working in the abandoned helper thread: end the
+            # process now rather than let interpreter shutdown race its C code
+            sys.stdout.flush()
+            sys.stderr.flush()
+            os._exit(EXIT_INTERRUPT)
         return EXIT_INTERRUPT
 
 

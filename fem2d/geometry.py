@@ -4,6 +4,15 @@ One gmsh session per call (``gmsh.initialize(interruptible=False)``, always
 finalized), nothing printed, no files written: node and element arrays are
 read straight from the gmsh API.  gmsh keeps one global session per process,
 so calls are serialised with a lock; two threads never mesh at once.
+
+Ctrl-C while meshing: a Python signal handler runs only between bytecodes,
+so while gmsh works inside one C call the main thread would not see SIGINT
+until the mesh is done (a minute or more for a mesh far too fine).  Called
+from the main thread, the session therefore runs in a helper thread while
+the main thread waits in short joins, where KeyboardInterrupt is raised at
+once.  The abandoned helper cannot be stopped; :func:`meshing_in_progress`
+tells the caller so it can end the process without the interpreter's
+shutdown racing gmsh's C code.
 """
 from __future__ import annotations
 
@@ -17,7 +26,8 @@ import numpy as np
 
 from .layout import Annulus, Disk, Layout, LayoutError, Polygon, Rect
 
-__all__ = ["GmshArrays", "mesh_layout", "estimate_triangles", "TRIANGLE_ESTIMATE_RATIO"]
+__all__ = ["GmshArrays", "mesh_layout", "meshing_in_progress", "estimate_triangles",
+           "TRIANGLE_ESTIMATE_RATIO"]
 
 logger = logging.getLogger(__name__)
 _LOCK = threading.Lock()
@@ -271,12 +281,50 @@ def _build(gmsh, layout: Layout) -> GmshArrays:
                       timings={"geometry": t1 - t0, "generate": t2 - t1, "read": t3 - t2})
 
 
+#: sessions running in helper threads, each a threading.Event set when done
+_RUNNING: set = set()
+
+
+def meshing_in_progress() -> bool:
+    """True while a gmsh session runs in a helper thread (for instance one the
+    main thread abandoned on Ctrl-C)."""
+    return any(not done.is_set() for done in list(_RUNNING))
+
+
 def mesh_layout(layout: Layout) -> GmshArrays:
     """Mesh ``layout`` in a fresh gmsh session and return the raw arrays.
 
     Safe to call many times, from any thread (calls are serialised) and in
-    worker processes.  Prints nothing and writes no files.
+    worker processes.  Prints nothing and writes no files.  From the main
+    thread the session runs in a helper thread so that Ctrl-C interrupts the
+    wait at once (module docstring).
     """
+    if threading.current_thread() is not threading.main_thread():
+        return _mesh_session(layout)
+    box: dict = {}
+    done = threading.Event()
+
+    def work() -> None:
+        try:
+            box["arrays"] = _mesh_session(layout)
+        except BaseException as exc:  # handed back to the caller below
+            box["error"] = exc
+        finally:
+            done.set()
+
+    _RUNNING.add(done)
+    threading.Thread(target=work, name="fem2d-gmsh-session", daemon=True).start()
+    # An Event, not Thread.join: a KeyboardInterrupt inside join can leave
+    # the thread marked as stopped while it still runs.
+    while not done.wait(0.05):  # returns as soon as the session ends; SIGINT lands here
+        pass
+    _RUNNING.discard(done)
+    if "error" in box:
+        raise box["error"]
+    return box["arrays"]
+
+
+def _mesh_session(layout: Layout) -> GmshArrays:
     import gmsh
 
     with _LOCK:

@@ -201,6 +201,38 @@ def test_ctrl_c_exits_130_with_one_line_and_no_orphans(tmp_path):
     assert not out.exists() and _leftover_temp_files(tmp_path) == []
 
 
+@pytest.mark.slow
+def test_ctrl_c_while_gmsh_meshes_exits_at_once(tmp_path):
+    """A mesh of about 1.3 million triangles takes gmsh over 30 s in one C
+    call; SIGINT two seconds into it must end the run within a few seconds
+    with one line and exit 130, writing nothing."""
+    case = tmp_path / "fine.toml"
+    text = (CASES / "demo_choke.toml").read_text()
+    case.write_text(text.replace("[fe]\n", '[fe]\nmesh_size = "0.1 mm"\nallow_large = true\n'))
+    out = tmp_path / "fine.json"
+    proc = subprocess.Popen([sys.executable, "-m", "compare.cli", "check", str(case), "-v",
+                             "--json", str(out)],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, cwd=ROOT, env=_env())
+    assert proc.stderr is not None
+    seen = []
+    for raw in proc.stderr:  # wait for the estimate logged just before meshing
+        seen.append(raw.decode())
+        if "triangles estimated" in seen[-1]:
+            break
+    else:
+        pytest.fail("no mesh estimate logged: " + "".join(seen))
+    time.sleep(2.0)
+    proc.send_signal(signal.SIGINT)
+    t0 = time.monotonic()
+    _, rest = proc.communicate(timeout=120)
+    waited = time.monotonic() - t0
+    err = "".join(seen) + rest.decode()
+    assert proc.returncode == 130, err
+    assert waited < 5.0, f"the run went on for {waited:.1f} s after Ctrl-C"
+    assert err.strip().splitlines()[-1] == "magcheck: interrupted" and "Traceback" not in err
+    assert not out.exists() and _leftover_temp_files(tmp_path) == []
+
+
 # --------------------------------------------------------------------- terminal text
 def _on_a_terminal(args: list[str], cwd: Path) -> tuple[int, str]:
     """Run the CLI under a pseudo-terminal (stdout is a tty, so rich is used)."""
