@@ -106,14 +106,24 @@ class CaseSource:
     sha256: str
 
 
-def case_source(path: str | Path) -> tuple[CaseSource, Case]:
-    """Read a case file both as raw TOML (to vary) and validated."""
+def case_source(path: str | Path, *, allow_large: bool = False) -> tuple[CaseSource, Case]:
+    """Read a case file both as raw TOML (to vary) and validated.
+
+    ``allow_large`` sets ``[fe] allow_large = true`` in both (the
+    ``--allow-large`` option); the file's hash stays that of the file.
+    """
+    from dataclasses import replace
+
     from .case import load_case
 
     case = load_case(path)  # all errors of a bad file come from here
     path = Path(path)
     raw = path.read_bytes()
     data = tomllib.loads(raw.decode("utf-8"))
+    if allow_large:
+        fe = data.get("fe")
+        data["fe"] = {**(fe if isinstance(fe, dict) else {}), "allow_large": True}
+        case = replace(case, fe=replace(case.fe, allow_large=True))
     return CaseSource(data, path.parent, str(path), hashlib.sha256(raw).hexdigest()), case
 
 

@@ -85,3 +85,31 @@ def test_allow_large_must_be_boolean():
     with pytest.raises(CaseError) as exc:
         case_from_dict(tomllib.loads(text), base_dir=CASES)
     assert exc.value.key == "fe.allow_large"
+
+
+@pytest.mark.parametrize("command", [
+    ["sweep", "--vary", "winding.current=1:2A:2"],
+    ["tolerance", "--samples", "2", "--fe-samples", "1"],
+])
+def test_sweep_and_tolerance_refuse_a_far_too_fine_mesh_before_running(command, tmp_path, capsys):
+    text = (CASES / "demo_choke_margins.toml").read_text().replace(
+        "[fe]", '[fe]\nmesh_size = "0.02 mm"', 1)
+    path = tmp_path / "fine.toml"
+    path.write_text(text)
+    assert main([command[0], str(path), *command[1:]]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "fe.mesh_size = 2e-05" in err[0] and "--allow-large" in err[0]
+
+
+def test_allow_large_option_of_sweep_and_tolerance_reaches_every_derived_case(tmp_path):
+    from compare.sweep import case_source, make_case
+
+    path = _tiny_mesh_case(tmp_path)
+    src, case = case_source(path, allow_large=True)
+    assert case.fe.allow_large
+    varied = make_case(src, {"winding.current": 3.0})
+    assert varied.fe.allow_large and varied.winding.current == 3.0
+    assert guard_mesh_size(varied) > MAX_TRIANGLES  # let through, as asked
+    plain, _ = case_source(path)
+    assert not make_case(plain, {}).fe.allow_large
+    assert src.sha256 == plain.sha256  # the file's hash, not the option's

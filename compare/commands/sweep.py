@@ -34,7 +34,10 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--block", type=int, default=DEFAULT_BLOCK,
                    help=f"points per task (default {DEFAULT_BLOCK}); results do not depend "
                         "on the number of workers")
-    p.add_argument("--workers", type=int, help="worker processes (default: one per core)")
+    p.add_argument("--allow-large", action="store_true",
+                   help="mesh even when the element estimate exceeds the limit "
+                        "(as [fe] allow_large = true)")
+    p.add_argument("--workers", type=int, help="worker processes (default: one per core, one for fewer than 4 tasks)")
     p.add_argument("--scheduler", metavar="ADDRESS",
                    help="dask.distributed scheduler (default $DASK_SCHEDULER_ADDRESS)")
     p.add_argument("--csv", metavar="FILE", help="write one row per point as CSV")
@@ -176,7 +179,7 @@ def save_sweep_figures(res: SweepResult, folder: str | Path) -> list[Path]:
 
 
 def run(args: argparse.Namespace) -> int:
-    src, case = case_source(args.case)
+    src, case = case_source(args.case, allow_large=args.allow_large)
     specs_text = args.vary or (list(case.sweeps[0].vary) if case.sweeps else [])
     if not specs_text:
         raise CaseError("--vary", None, "give at least one --vary KEY=SPEC (the case declares "
@@ -187,6 +190,10 @@ def run(args: argparse.Namespace) -> int:
     kind = args.inductance or (decl.inductance if decl else "incremental")
     if args.workers is not None and args.workers < 1:
         raise CaseError("--workers", args.workers, "must be at least 1")
+    if not args.hand_only:
+        from ..fe import guard_mesh_size
+
+        guard_mesh_size(case)  # a mesh far too fine is bad input before the run, not n failures
     with Progress("sweep") as bar:
         res = run_sweep(src, specs, with_fe=not args.hand_only, predictor=args.predictor,
                         block=args.block, workers=args.workers, scheduler=args.scheduler,

@@ -24,7 +24,10 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--fe-samples", type=int, metavar="M",
                    help="run the FE on the first M samples only and correct the rest through "
                         "the fitted hand-vs-FE relation (default: all)")
-    p.add_argument("--workers", type=int, help="worker processes (default: one per core)")
+    p.add_argument("--allow-large", action="store_true",
+                   help="mesh even when the element estimate exceeds the limit "
+                        "(as [fe] allow_large = true)")
+    p.add_argument("--workers", type=int, help="worker processes (default: one per core, one for fewer than 4 tasks)")
     p.add_argument("--scheduler", metavar="ADDRESS",
                    help="dask.distributed scheduler (default $DASK_SCHEDULER_ADDRESS)")
     p.add_argument("--min-yield", type=float, metavar="PCT",
@@ -92,7 +95,7 @@ def run(args: argparse.Namespace) -> int:
     from ..sweep import case_source
     from ..tolerance import run_tolerance
 
-    src, case = case_source(args.case)
+    src, case = case_source(args.case, allow_large=args.allow_large)
     with Progress("tolerance") as bar:
         res = run_tolerance(src, samples=args.samples, seed=args.seed, fe_samples=args.fe_samples,
                             workers=args.workers, scheduler=args.scheduler, on_done=bar)
