@@ -128,11 +128,13 @@ def figure_format(path: str | Path, option: str) -> str:
     return suffix
 
 
-def save_figure(fig: Any, path: str | Path, *, option: str = "--plot", dpi: int = 110) -> Path | None:
-    """Render a matplotlib figure and write it with `write_output` (format from the suffix)."""
+def save_figure(fig: Any, path: str | Path, *, option: str = "--plot", dpi: int = 110,
+                metadata: dict[str, str] | None = None) -> Path | None:
+    """Render a matplotlib figure and write it with `write_output` (format from
+    the suffix); ``metadata`` goes into the file's text fields (PNG tEXt)."""
     fmt = figure_format(path, option)
     buf = io.BytesIO()
-    fig.savefig(buf, format=fmt, dpi=dpi)
+    fig.savefig(buf, format=fmt, dpi=dpi, metadata=metadata)
     return write_output(path, buf.getvalue())
 
 

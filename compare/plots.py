@@ -3,6 +3,7 @@ figure; :func:`save_figures` writes them and closes every one."""
 
 from __future__ import annotations
 
+import math
 from pathlib import Path
 
 import matplotlib
@@ -10,6 +11,7 @@ import matplotlib
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
+from matplotlib.colors import LinearSegmentedColormap, LogNorm  # noqa: E402
 from matplotlib.patches import Rectangle  # noqa: E402
 from matplotlib.tri import Triangulation  # noqa: E402
 
@@ -19,7 +21,7 @@ from .check import CheckResult  # noqa: E402
 from .geometry import Limb  # noqa: E402
 from .output import save_figure  # noqa: E402
 
-__all__ = ["save_figures", "FIGURES"]
+__all__ = ["save_figures", "FIGURES", "caption", "flux_levels"]
 
 # magcheck's own palette: slate core, amber gaps, teal/rose coil sides.
 REGION_COLOURS = {"core": "#5b6c80", "gap": "#e0a030", "coil+": "#2a9d8f", "coil-": "#c8553d"}
@@ -64,18 +66,112 @@ def fig_geometry(res: CheckResult):
     return fig
 
 
+#: about this many flux lines span the whole range of A
+FLUX_LINES = 60
+#: the |B| colour scale spans this many decades below the peak
+B_DECADES = 3
+
+
+def _nice_step(raw: float) -> float:
+    """The 1-2-5 number at or above raw (raw > 0)."""
+    exp = math.floor(math.log10(raw))
+    for m in (1.0, 2.0, 5.0, 10.0):
+        if m * 10.0 ** exp >= raw * (1 - 1e-12):
+            return m * 10.0 ** exp
+    return 10.0 ** (exp + 1)  # pragma: no cover
+
+
+def flux_levels(res: CheckResult, lines: int = FLUX_LINES) -> tuple[np.ndarray, float]:
+    """Contour levels of A for the flux plot and the flux between two
+    neighbouring lines (Wb).
+
+    In the planar model the flux (per the stack depth d) between two points
+    is d (A2 - A1) (REFERENCES.md section 5), so equally spaced levels make
+    the number of lines crossing any segment proportional to the flux through
+    it, in the window as in the limbs.  The step is a 1-2-5 number and A = 0
+    (the box boundary) is one of the levels.
+    """
+    sol = res.fe.solution
+    a = sol.A[sol.basis.nodal_dofs[0]]
+    lo, hi = float(a.min()), float(a.max())
+    if not hi > lo:
+        return np.array([]), 0.0
+    step = _nice_step((hi - lo) / lines)
+    levels = np.arange(math.floor(lo / step) + 1, math.ceil(hi / step)) * step
+    return levels, step * sol.mesh.layout.depth
+
+
+def _si(value: float, unit: str) -> str:
+    for factor, prefix in ((1.0, ""), (1e-3, "m"), (1e-6, "\u00b5"), (1e-9, "n")):
+        if abs(value) >= factor * (1 - 1e-9):
+            return f"{value / factor:.3g} {prefix}{unit}"
+    return f"{value:.3g} {unit}"
+
+
+#: the dotted air lines are this many times denser than the solid lines
+AIR_LINE_FACTOR = 10
+
+
+def _fine_levels(levels: np.ndarray) -> np.ndarray:
+    if levels.size < 2:
+        return np.array([])
+    step = (levels[1] - levels[0]) / AIR_LINE_FACTOR
+    k = np.arange(math.floor(levels[0] / step) - AIR_LINE_FACTOR,
+                  math.ceil(levels[-1] / step) + AIR_LINE_FACTOR + 1)
+    return k[k % AIR_LINE_FACTOR != 0] * step
+
+
+def _iron_mask(res: CheckResult) -> np.ndarray:
+    """True for the elements of core regions (the dotted lines leave them out)."""
+    rmesh = res.fe.solution.mesh
+    mask = np.zeros(rmesh.nelements, dtype=bool)
+    for region in rmesh.layout.regions:
+        if region.kind == "core":
+            mask[rmesh.elements_of(region.name)] = True
+    return mask
+
+
+def flux_caption(res: CheckResult) -> str:
+    """What the flux plot shows, with the flux per line."""
+    _, per_line = flux_levels(res)
+    return (f"Flux lines (equally spaced contours of A: one solid line per {_si(per_line, 'Wb')} "
+            f"of flux through the {res.fe.solution.mesh.layout.depth * 1e3:g} mm stack; in the "
+            f"air, dotted lines at one per {_si(per_line / AIR_LINE_FACTOR, 'Wb')} show the "
+            f"leakage and fringing flux) over |B| on a logarithmic scale spanning {B_DECADES} "
+            "decades.")
+
+
+# pale (weak field) to deep red (strong), stopping short of the darkest red so
+# that the dark flux lines stay visible over saturated iron
+_B_MAP = LinearSegmentedColormap.from_list(
+    "magcheck_b", plt.get_cmap("YlOrRd")(np.linspace(0.0, 0.8, 256)))
+
+
 def fig_flux(res: CheckResult):
     sol = res.fe.solution
     fig, ax = plt.subplots(figsize=(6.5, 6))
     tri = _tri(res)
     bmag = np.linalg.norm(post.b_elements(sol), axis=0)
-    pc = ax.tripcolor(tri, facecolors=bmag, cmap="magma", shading="flat")
+    top = float(bmag.max()) if bmag.size and bmag.max() > 0 else 1.0
+    norm = LogNorm(vmin=top * 10.0 ** -B_DECADES, vmax=top, clip=True)
+    pc = ax.tripcolor(tri, facecolors=np.maximum(bmag, norm.vmin), cmap=_B_MAP, norm=norm,
+                      shading="flat")
+    levels, per_line = flux_levels(res)
     a_vert = sol.A[sol.basis.nodal_dofs[0]][: tri.x.size]
-    ax.tricontour(tri, a_vert, levels=24, colors="#d9f0ff", linewidths=0.6)
+    if levels.size:
+        ax.tricontour(tri, a_vert, levels=levels, colors="#102a43", linewidths=0.45)
+        # outside the iron, dotted lines at a tenth of the step show the
+        # leakage and fringing flux that is smaller than one solid line
+        fine = _fine_levels(levels)
+        air = Triangulation(tri.x, tri.y, tri.triangles, mask=_iron_mask(res))
+        if fine.size:
+            ax.tricontour(air, a_vert, levels=fine, colors="#1f5f8b", linewidths=0.35,
+                          linestyles=":")
     _outlines(ax, res, lw=0.8)
     _zoom(ax, res)
-    fig.colorbar(pc, ax=ax, label="|B| (T)", shrink=0.85)
-    ax.set_title("Flux lines over |B|")
+    fig.colorbar(pc, ax=ax, label="|B| (T), logarithmic", shrink=0.85)
+    ax.set_title(f"Flux lines over |B|: solid one per {_si(per_line, 'Wb')}, dotted (air) one per "
+                 f"{_si(per_line / AIR_LINE_FACTOR, 'Wb')}", fontsize=9)
     return fig
 
 
@@ -157,6 +253,21 @@ FIGURES = {
     "path_h.png": fig_path_h,
     "bh.png": fig_bh,
 }
+
+
+_CAPTIONS = {
+    "geometry.png": "Regions (core, gaps, coil sides) and the finer mesh.",
+    "gap_line.png": "B along a line across the middle of the first gap, beyond both pole faces.",
+    "path_h.png": "|H| along the core's mean path (gaps left out), with the hand value.",
+    "bh.png": "The core's B-H curve with the hand and FE operating points.",
+}
+
+
+def caption(name: str, res: CheckResult) -> str:
+    """The caption of figure ``name`` of a check."""
+    if name == "flux.png":
+        return flux_caption(res)
+    return _CAPTIONS.get(name, "")
 
 
 def save_figures(res: CheckResult, folder: str | Path) -> list[Path]:

@@ -23,13 +23,6 @@ figure { margin: 1em 0; } figcaption { font-size: 0.85em; color: #55606b; }
 img { max-width: 100%; }
 """
 
-_CAPTIONS = {
-    "geometry.png": "Regions (core, gaps, coil sides) and the finer mesh.",
-    "flux.png": "Flux lines (contours of A) over the |B| colour map.",
-    "gap_line.png": "B along a line across the middle of the first gap, beyond both pole faces.",
-    "path_h.png": "|H| along the core's mean path (gaps left out), with the hand value.",
-    "bh.png": "The core's B-H curve with the hand and FE operating points.",
-}
 
 
 def _table(headers, rows) -> str:
@@ -100,7 +93,7 @@ def _case_text(res: CheckResult) -> str:
 
 def write_report(res: CheckResult, folder: str | Path) -> Path:
     """Write ``index.html`` and its PNG figures into folder; returns the HTML path."""
-    from .plots import save_figures
+    from .plots import caption, save_figures
 
     folder = Path(folder)
     figures = save_figures(res, folder)
@@ -132,7 +125,7 @@ def write_report(res: CheckResult, folder: str | Path) -> Path:
     parts.append("<h2>Figures</h2>")
     for p in figures:
         parts.append(f"<figure><img src='{p.name}' alt='{p.stem}'>"
-                     f"<figcaption>{html.escape(_CAPTIONS.get(p.name, ''))}</figcaption></figure>")
+                     f"<figcaption>{html.escape(caption(p.name, res))}</figcaption></figure>")
     meta = [
         ["case file", case.source], ["case sha256", case.sha256],
         ["family", case.family], ["fringing model", res.hand_planar.fringing_model],

@@ -70,3 +70,39 @@ def test_path_h_axis_is_linear_within_a_decade(report):
     ax = fig_path_h(res).axes[0]
     assert ax.get_yscale() == "linear"
     assert len([t for t in ax.get_yticklabels() if t.get_text()]) >= 4
+
+
+def test_flux_lines_count_the_flux_between_them(report):
+    # Equal-flux contours: the number of lines crossing a segment is the flux
+    # through it over the flux per line (planar model: flux = d (A2 - A1),
+    # REFERENCES.md section 5), to one line.
+    import numpy as np
+    from matplotlib.colors import LogNorm
+
+    from compare.plots import fig_flux, flux_caption, flux_levels
+    from fem2d import post
+
+    _, _, _, res = report
+    sol = res.fe.solution
+    levels, per_line = flux_levels(res)
+    step = np.diff(levels)
+    assert np.allclose(step, step[0], rtol=1e-9)
+    assert per_line == pytest.approx(step[0] * res.case.depth, rel=1e-12)
+    assert np.min(np.abs(levels)) < 1e-9 * step[0]  # A = 0 (the box) is a line
+    # across the left limb at mid-height: every line of the limb's flux
+    p0, p1 = (-0.001, 0.035), (0.013, 0.035)
+    flux = abs(post.flux_across(sol, p0, p1))
+    a0, a1 = sorted(post.sample_a(sol, np.array([p0, p1]).T))
+    crossing = np.count_nonzero((levels > a0) & (levels < a1))
+    assert abs(crossing - flux / per_line) <= 1.0
+    assert 20 <= crossing <= 80  # dense enough to read, sparse enough to see
+    fig = fig_flux(res)
+    mappable = fig.axes[0].collections[0]
+    assert isinstance(mappable.norm, LogNorm)
+    assert mappable.norm.vmax / mappable.norm.vmin == pytest.approx(1e3)
+    assert "one solid line per 10 µWb" in flux_caption(res)  # 20 mm stack, ~0.4 mWb
+
+
+def test_report_captions_the_flux_plot_with_its_flux_per_line(report):
+    page, _, _, _ = report
+    assert "one solid line per" in page and "Wb" in page and "logarithmic" in page
