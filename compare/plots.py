@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import math
 from pathlib import Path
+from typing import Any, Sequence
 
 import matplotlib
 
@@ -21,7 +22,8 @@ from .check import CheckResult  # noqa: E402
 from .geometry import Limb  # noqa: E402
 from .output import save_figure  # noqa: E402
 
-__all__ = ["save_figures", "FIGURES", "caption", "flux_levels"]
+__all__ = ["save_figures", "FIGURES", "caption", "flux_levels", "sweep_figures",
+           "save_sweep_figures", "tolerance_figure", "save_tolerance_figure"]
 
 # magcheck's own palette: slate core, amber gaps, teal/rose coil sides.
 REGION_COLOURS = {"core": "#5b6c80", "gap": "#e0a030", "coil+": "#2a9d8f", "coil-": "#c8553d"}
@@ -153,8 +155,9 @@ def fig_flux(res: CheckResult):
     tri = _tri(res)
     bmag = np.linalg.norm(post.b_elements(sol), axis=0)
     top = float(bmag.max()) if bmag.size and bmag.max() > 0 else 1.0
-    norm = LogNorm(vmin=top * 10.0 ** -B_DECADES, vmax=top, clip=True)
-    pc = ax.tripcolor(tri, facecolors=np.maximum(bmag, norm.vmin), cmap=_B_MAP, norm=norm,
+    floor = top * 10.0 ** -B_DECADES
+    norm = LogNorm(vmin=floor, vmax=top, clip=True)
+    pc = ax.tripcolor(tri, facecolors=np.maximum(bmag, floor), cmap=_B_MAP, norm=norm,
                       shading="flat")
     levels, per_line = flux_levels(res)
     a_vert = sol.A[sol.basis.nodal_dofs[0]][: tri.x.size]
@@ -284,3 +287,170 @@ def save_figures(res: CheckResult, folder: str | Path) -> list[Path]:
         finally:
             plt.close(fig)
     return paths
+
+
+# ----------------------------------------------------------------- sweeps
+#: line style of each model: colour, marker and marker fill.  Hand markers are
+#: open and larger and drawn on top, so an FE curve under a hand curve still
+#: shows (and the other way round); the second series of a panel is dashed
+#: with its own marker.
+_SWEEP_STYLE: dict[tuple[str, int], dict[str, Any]] = {
+    ("hand", 0): dict(color=HAND_COLOUR, marker="o", mfc="none", ms=5, zorder=3),
+    ("hand", 1): dict(color=HAND_COLOUR, marker="^", mfc="none", ms=5, zorder=3),
+    ("FE", 0): dict(color=FE_COLOUR, marker="s", ms=3, zorder=2),
+    ("FE", 1): dict(color=FE_COLOUR, marker="D", ms=3, zorder=2),
+}
+_SERIES_LINE = ("-", "--")
+_GROUP_SHADES = (1.0, 0.65, 0.4, 0.25)
+
+SWEEP_PANELS = (
+    ("sweep_inductance.png", "inductance (mH)", 1e3,
+     (("inductance", "secant"), ("incremental_inductance", "incremental"))),
+    ("sweep_flux_linkage.png", "flux linkage (mWb)", 1e3, (("flux_linkage", ""),)),
+    ("sweep_core_B.png", "core B (T)", 1.0, (("core_B", "mean"), ("peak_B", "peak"))),
+)
+
+
+def _shade(colour: str, amount: float) -> tuple:
+    """colour blended toward white: 1 keeps it, 0 is white."""
+    from matplotlib.colors import to_rgb
+
+    r, g, b = to_rgb(colour)
+    return (1 - amount + amount * r, 1 - amount + amount * g, 1 - amount + amount * b)
+
+
+def _saturation_marks(ax, sat_rows, tag: str, shade: float) -> None:
+    """Vertical dotted lines at the saturation currents of one curve (FE and
+    the planar hand form, the two drawn on these axes)."""
+    for row in sat_rows:
+        if row.get("curve", "") != tag or row["model"] not in ("fe", "hand_planar"):
+            continue
+        colour = FE_COLOUR if row["model"] == "fe" else HAND_COLOUR
+        who = "FE" if row["model"] == "fe" else "hand"
+        for label, current in row.items():
+            if not label.endswith("%") or not math.isfinite(current):
+                continue
+            ax.axvline(current, color=_shade(colour, shade), ls=":", lw=1.0, zorder=1,
+                       label=f"{who}: {row['inductance']} L -{label} at {current:.3g} A")
+
+
+def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]:
+    """The figures of a sweep as (file name, figure): inductance (secant and
+    incremental), flux linkage and core B (mean and peak) against the swept
+    key; one curve per combination of the other swept keys.  When the current
+    is swept, the inductance panel marks the saturation currents of
+    ``saturation`` (rows of `compare.sweep.sweep_margins`)."""
+    from .sweep import CURRENT_KEY, curves
+
+    x_key = CURRENT_KEY if CURRENT_KEY in res.keys else res.keys[0]
+    x_label = "winding current I (A)" if x_key == CURRENT_KEY else x_key
+
+    def x_of(p):
+        return abs(p.current) if x_key == CURRENT_KEY else p.settings[x_key]
+
+    groups = curves(res) if x_key == CURRENT_KEY else [({}, list(res.points))]
+    out = []
+    for name, ylabel, scale, series in SWEEP_PANELS:
+        fig, ax = plt.subplots(figsize=(6.5, 4.2))
+        for g, (fixed, pts) in enumerate(groups):
+            shade = _GROUP_SHADES[min(g, len(_GROUP_SHADES) - 1)]
+            tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
+            suffix = f" ({tag})" if tag else ""
+            x = [x_of(p) for p in pts]
+            for s, (key, what) in enumerate(series):
+                if key == "peak_B":
+                    by_model = {"hand": [p.hand_peak_B for p in pts], "FE": [p.fe_peak_B for p in pts]}
+                else:
+                    by_model = {"hand": [p.hand_planar.get(key, math.nan) for p in pts],
+                                "FE": [p.fe.get(key, math.nan) for p in pts]}
+                for model, ys in by_model.items():
+                    if model == "FE" and not res.with_fe:
+                        continue
+                    style: dict[str, Any] = dict(_SWEEP_STYLE[(model, s)])
+                    style["color"] = _shade(style["color"], shade)
+                    ax.plot(x, [v * scale for v in ys], _SERIES_LINE[s], lw=1.2,
+                            label=" ".join(w for w in (model, what) if w) + suffix, **style)
+            if name == "sweep_inductance.png" and x_key == CURRENT_KEY:
+                _saturation_marks(ax, saturation, tag, shade)
+        ax.set_xlabel(x_label)
+        ax.set_ylabel(ylabel)
+        ax.grid(alpha=0.3)
+        ax.legend(fontsize=7)
+        ax.set_title(f"{res.case.name}: hand (planar form) and planar FE")
+        out.append((name, fig))
+    return out
+
+
+def save_sweep_figures(res, folder: str | Path, saturation: Sequence[dict] = ()) -> list[Path]:
+    """Write `sweep_figures` as PNG into folder; every figure closed."""
+    folder = Path(folder)
+    paths = []
+    figures = sweep_figures(res, saturation)
+    try:
+        for name, fig in figures:
+            fig.tight_layout()
+            paths.append(save_figure(fig, folder / name, option="--plots") or folder / name)
+    finally:
+        for _, fig in figures:
+            plt.close(fig)
+    return paths
+
+
+# ----------------------------------------------------------------- tolerance
+def _tolerance_limits(res) -> dict[str, list[tuple[str, float]]]:
+    """The design's limits on each histogram's figure, as (label, value (SI)):
+    secant-inductance limits at the case's own current, the peak-B maximum,
+    and the minimum saturation current at the study's drop (incremental L)."""
+    m = res.case.margins
+    at = res.case.winding.current
+    out: dict[str, list[tuple[str, float]]] = {"inductance": [], "peak_B": [],
+                                               "saturation_current": []}
+    for ind in m.inductance:
+        if ind.kind == "secant" and math.isclose(ind.at, at, rel_tol=1e-9, abs_tol=1e-12):
+            out["inductance"] += [(f"{k} {v * 1e3:.4g} mH", v) for k, v in
+                                  (("min", ind.min), ("max", ind.max)) if v is not None]
+    if m.peak_B is not None:
+        out["peak_B"].append((f"max {m.peak_B:.4g} T", m.peak_B))
+    for lim in m.saturation:
+        if lim.kind == "incremental" and math.isclose(lim.drop, res.drop):
+            out["saturation_current"].append((f"min {lim.min:.4g} A", lim.min))
+    return out
+
+
+_TOLERANCE_UNITS = {"inductance": (1e3, "mH"), "peak_B": (1.0, "T"),
+                    "saturation_current": (1.0, "A")}
+
+
+def tolerance_figure(res, labels: dict[str, str]):
+    """Histograms of the tolerance study's figures, counts on an integer
+    axis, the design's limits drawn as vertical lines (`_tolerance_limits`)."""
+    from matplotlib.ticker import MaxNLocator
+
+    limits = _tolerance_limits(res)
+    fig, axes = plt.subplots(1, 3, figsize=(12, 3.8))
+    for ax, (k, v) in zip(axes, res.values.items()):
+        scale, unit = _TOLERANCE_UNITS[k]
+        x = v[np.isfinite(v)] * scale
+        ax.hist(x, bins=max(5, min(30, int(len(x) ** 0.5) + 1)), color=FE_COLOUR, alpha=0.85)
+        for label, value in limits[k]:
+            ax.axvline(value * scale, color=HAND_COLOUR, lw=1.5, ls="--", label=f"limit: {label}")
+        if limits[k]:
+            ax.legend(fontsize=7)
+        ax.yaxis.set_major_locator(MaxNLocator(integer=True))
+        ax.set_xlabel(f"{labels[k]} ({unit})", fontsize=8)
+        ax.grid(alpha=0.3)
+    axes[0].set_ylabel("samples")
+    fig.suptitle(f"{res.case.name}: {len(res.samples)} samples, seed {res.seed}, "
+                 f"yield {100 * res.yield_fraction:.1f} %")
+    return fig
+
+
+def save_tolerance_figure(res, labels: dict[str, str], path: str | Path) -> Path:
+    """Write `tolerance_figure` (format from the suffix); the figure is closed."""
+    fig = tolerance_figure(res, labels)
+    try:
+        fig.tight_layout()
+        written = save_figure(fig, path, option="--plot")
+    finally:
+        plt.close(fig)
+    return written or Path(path)

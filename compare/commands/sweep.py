@@ -7,13 +7,12 @@ import csv
 import io
 import math
 import sys
-from pathlib import Path
 
 from ..executor import Progress
 from ..errors import CaseError
 from ..hand import UNITS
-from ..output import CAUTION, atomic_write_text, render_table, save_figure, write_json
-from ..sweep import (CURRENT_KEY, DEFAULT_BLOCK, PREDICTORS, SweepResult, case_source, curves,
+from ..output import CAUTION, atomic_write_text, render_table, write_json
+from ..sweep import (CURRENT_KEY, DEFAULT_BLOCK, PREDICTORS, SweepResult, case_source,
                      parse_vary, run_sweep, sweep_margins, sweep_rows)
 from ..units import format_si
 
@@ -123,61 +122,6 @@ def sweep_json(res: SweepResult, margins, sat_table) -> dict:
             "seconds": res.seconds, "converged": res.converged, "caution": CAUTION}
 
 
-def save_sweep_figures(res: SweepResult, folder: str | Path) -> list[Path]:
-    """Figures of a sweep (Agg backend; every figure closed). Returns the paths."""
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    folder = Path(folder)
-    x_key = CURRENT_KEY if CURRENT_KEY in res.keys else res.keys[0]
-    x_label = "winding current I (A)" if x_key == CURRENT_KEY else x_key
-    paths = []
-    hand_c, fe_c = "#c8553d", "#264653"
-
-    def x_of(p):
-        return abs(p.current) if x_key == CURRENT_KEY else p.settings[x_key]
-
-    groups = curves(res) if x_key == CURRENT_KEY else [({}, list(res.points))]
-    panels = [
-        ("sweep_inductance.png", "inductance (mH)", 1e3,
-         [("inductance", "secant", "-"), ("incremental_inductance", "incremental", "--")]),
-        ("sweep_flux_linkage.png", "flux linkage (mWb)", 1e3, [("flux_linkage", "", "-")]),
-        ("sweep_core_B.png", "core B (T)", 1.0, [("core_B", "mean", "-"), ("peak_B", "peak", "--")]),
-    ]
-    for name, ylabel, scale, series in panels:
-        fig, ax = plt.subplots(figsize=(6.5, 4.2))
-        try:
-            for fixed, pts in groups:
-                tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
-                tag = f" ({tag})" if tag else ""
-                x = [x_of(p) for p in pts]
-                for key, what, ls in series:
-                    if key == "peak_B":
-                        hand = [p.hand_peak_B for p in pts]
-                        fe = [p.fe_peak_B for p in pts]
-                    else:
-                        hand = [p.hand_planar.get(key, math.nan) for p in pts]
-                        fe = [p.fe.get(key, math.nan) for p in pts]
-                    ax.plot(x, [v * scale for v in hand], ls, color=hand_c, marker=".",
-                            label=f"hand {what}{tag}".replace("  ", " "))
-                    if res.with_fe:
-                        ax.plot(x, [v * scale for v in fe], ls, color=fe_c, marker=".",
-                                label=f"FE {what}{tag}".replace("  ", " "))
-            ax.set_xlabel(x_label)
-            ax.set_ylabel(ylabel)
-            ax.grid(alpha=0.3)
-            ax.legend(fontsize=8)
-            ax.set_title(f"{res.case.name}: hand (planar form) and planar FE")
-            fig.tight_layout()
-            path = folder / name
-            paths.append(save_figure(fig, path, option="--plots") or path)
-        finally:
-            plt.close(fig)
-    return paths
-
-
 def run(args: argparse.Namespace) -> int:
     src, case = case_source(args.case, allow_large=args.allow_large)
     specs_text = args.vary or (list(case.sweeps[0].vary) if case.sweeps else [])
@@ -205,7 +149,9 @@ def run(args: argparse.Namespace) -> int:
     if args.json:
         write_json(args.json, sweep_json(res, margins, sat_table))
     if args.plots:
-        for p in save_sweep_figures(res, args.plots):
+        from ..plots import save_sweep_figures
+
+        for p in save_sweep_figures(res, args.plots, sat_table):
             sys.stdout.write(f"figure: {p}\n")
     failed = [pt for pt in res.points if not pt.converged]
     if failed:

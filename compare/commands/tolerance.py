@@ -5,11 +5,10 @@ from __future__ import annotations
 import argparse
 import math
 import sys
-from pathlib import Path
 
 from ..errors import CaseError
 from ..executor import Progress
-from ..output import CAUTION, figure_format, render_table, save_figure, write_json
+from ..output import CAUTION, figure_format, render_table, write_json
 from ..units import format_si
 
 PERCENTILES = (5.0, 50.0, 95.0)  # as compare.tolerance.PERCENTILES (not imported: start-up time)
@@ -56,33 +55,6 @@ def print_tolerance(res, out) -> None:
     out.write(CAUTION + "\n")
 
 
-def save_histograms(res, path: str | Path) -> Path:
-    """Histograms of the three figures (Agg backend; the figure is closed)."""
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    labels = _labels(res)
-    fig, axes = plt.subplots(1, 3, figsize=(12, 3.8))
-    try:
-        for ax, (k, v) in zip(axes, res.values.items()):
-            scale, unit = {"inductance": (1e3, "mH"), "peak_B": (1.0, "T"),
-                           "saturation_current": (1.0, "A")}[k]
-            x = v[v == v] * scale
-            ax.hist(x, bins=max(5, min(30, int(len(x) ** 0.5) + 1)), color="#264653", alpha=0.85)
-            ax.set_xlabel(f"{labels[k]} ({unit})", fontsize=8)
-            ax.grid(alpha=0.3)
-        axes[0].set_ylabel("samples")
-        fig.suptitle(f"{res.case.name}: {len(res.samples)} samples, seed {res.seed}, "
-                     f"yield {100 * res.yield_fraction:.1f} %")
-        fig.tight_layout()
-        written = save_figure(fig, path, option="--plot")
-    finally:
-        plt.close(fig)
-    return written or Path(path)
-
-
 def run(args: argparse.Namespace) -> int:
     if args.min_yield is not None and not 0.0 <= args.min_yield <= 100.0:
         raise CaseError("--min-yield", args.min_yield, "must lie in [0, 100]")
@@ -110,7 +82,9 @@ def run(args: argparse.Namespace) -> int:
             "passed": res.passed.tolist(),
             "settings": [s.settings for s in res.samples], "caution": CAUTION})
     if args.plot:
-        sys.stdout.write(f"figure: {save_histograms(res, args.plot)}\n")
+        from ..plots import save_tolerance_figure
+
+        sys.stdout.write(f"figure: {save_tolerance_figure(res, _labels(res), args.plot)}\n")
     # The nominal design's own margins are judged by check/verify; a tolerance
     # study fails (exit 1) only against a stated yield.
     if args.min_yield is not None and 100.0 * res.yield_fraction < args.min_yield:
