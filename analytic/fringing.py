@@ -31,6 +31,45 @@ class GapFaceError(ValueError):
     """Invalid gap dimensions; the message names the field and value."""
 
 
+def _positive(owner: str, key: str, value) -> float:
+    try:
+        v = float(value)
+        ok = math.isfinite(v) and v > 0.0
+    except (TypeError, ValueError):
+        ok = False
+    if not ok:
+        raise GapFaceError(f"{owner}: {key} = {value!r} m must be a finite positive length")
+    return v
+
+
+@dataclass(frozen=True)
+class GapSides:
+    """The free pole face each side of a gap, measured along the limb axis
+    from the gap's edge to where the face ends (a yoke across a window, or the
+    core's outer corner outside it), in metres.
+
+    Attributes
+    ----------
+    minus, plus : (toward lo, toward hi)
+        On the two in-plane sides of the limb (its c0 and c1 faces, in the
+        planar cut): how far the face runs each way along the limb.
+    depth : (toward lo, toward hi)
+        On the front and back faces of the stack (the same on both): the
+        laminations' flat face runs to the core's outer edge.
+    """
+
+    minus: tuple[float, float]
+    plus: tuple[float, float]
+    depth: tuple[float, float]
+
+    def __post_init__(self) -> None:
+        for key in ("minus", "plus", "depth"):
+            pair = tuple(getattr(self, key))
+            if len(pair) != 2:
+                raise GapFaceError(f"gap sides: {key} = {pair!r} must be two lengths")
+            object.__setattr__(self, key, tuple(_positive("gap sides", key, v) for v in pair))
+
+
 @dataclass(frozen=True)
 class GapFace:
     """Geometry of one air gap between two facing pole faces.
@@ -45,23 +84,28 @@ class GapFace:
         Out-of-plane face dimension b, the stack depth (m).
     free_height : float
         Height available for fringing h, e.g. window height / winding length G (m).
+    sides : GapSides, optional
+        The free face on each side of the gap (per-side models such as
+        ``conformal`` use it; without it every side has ``free_height``
+        each way).
     """
 
     length: float
     width: float
     depth: float
     free_height: float
+    sides: GapSides | None = None
 
     def __post_init__(self) -> None:
         for key in ("length", "width", "depth", "free_height"):
-            value = getattr(self, key)
-            try:
-                ok = math.isfinite(float(value)) and float(value) > 0.0
-            except (TypeError, ValueError):
-                ok = False
-            if not ok:
-                raise GapFaceError(f"gap face: {key} = {value!r} m must be a finite positive length")
-            object.__setattr__(self, key, float(value))
+            object.__setattr__(self, key, _positive("gap face", key, getattr(self, key)))
+
+    def free_faces(self) -> GapSides:
+        """`sides`, or free_height each way on every side when not given."""
+        if self.sides is not None:
+            return self.sides
+        h = self.free_height
+        return GapSides((h, h), (h, h), (h, h))
 
     @property
     def ideal_permeance(self) -> float:
@@ -98,9 +142,8 @@ def flux_factor(face: GapFace) -> float:
 
     McLyman, Transformer and Inductor Design Handbook, 4th ed., 2011
     [secondary, via Liao & Chen, J. Eng. 2022, eq. 20]; A_c = a*b, G = free height.
-    The published factor lumps the in-plane and out-of-plane fringing together;
-    the ``flux-factor`` model puts all of it in k_plane and returns k_depth = 1,
-    so its planar and 3D permeances are equal.
+    The published factor lumps the in-plane and out-of-plane fringing
+    together; :func:`flux_factor_split` divides it between the two.
     When 2G/g <= 1 the logarithm is non-positive and the published formula would
     give F < 1 (less than the ideal permeance); F is then clamped to 1.
     """
@@ -109,8 +152,30 @@ def flux_factor(face: GapFace) -> float:
     return max(f, 1.0)
 
 
+def flux_factor_split(face: GapFace) -> tuple[float, float]:
+    """The flux factor F split into in-plane and depth parts (k_plane, k_depth).
+
+    The excess F - 1 is fringing flux around the face's perimeter.  The
+    in-plane fringing (the part a planar cut contains) leaves the two edges
+    of length b (the depth), the depth fringing the two edges of length a,
+    so by perimeter share [derived here]
+
+        k_plane = 1 + (F - 1) b/(a + b),     k_depth = F / k_plane,
+
+    which keeps the published 3D factor exactly (k_plane k_depth = F) and
+    gives k_depth = 1 + (F - 1) a/(a + b) + O((F - 1)^2).  The same shares
+    come out of the area model to first order: (a+g)(b+g)/(ab) - 1 =
+    g/a + g/b + g^2/(ab), whose in-plane part g/a is the fraction b/(a+b)
+    of g/a + g/b.
+    """
+    f = flux_factor(face)
+    a, b = face.width, face.depth
+    k_plane = 1.0 + (f - 1.0) * b / (a + b)
+    return k_plane, f / k_plane
+
+
 def _flux_factor(face: GapFace) -> tuple[float, float]:
-    return flux_factor(face), 1.0
+    return flux_factor_split(face)
 
 
 def conformal_sigma(w: float, g: float, h: float) -> float:
@@ -141,9 +206,46 @@ def conformal_sigma(w: float, g: float, h: float) -> float:
     return 1.0 / (1.0 + 2.0 * g / (math.pi * w) * term)
 
 
+def conformal_element(w: float, g: float, h: float) -> float:
+    """Permeance per unit depth (H/m) of one basic element of a leg-to-leg
+    gap: half the face width w/2 up to one edge, half the gap length g/2 to
+    the mid-gap symmetry plane, free face h beyond the edge:
+    mu0*[w/g + (2/pi)(1 + ln(pi h/(2 g)))] (the element of
+    :func:`conformal_sigma` with l = g/2; the fringing term clamped at 0).
+    """
+    term = max(1.0 + math.log(math.pi * h / (2.0 * g)), 0.0)
+    return mu_0 * (w / g + 2.0 / math.pi * term)
+
+
+def conformal_factor(w: float, g: float, minus: tuple[float, float],
+                     plus: tuple[float, float]) -> float:
+    """Fringing factor across one face dimension w with its own free face
+    each side of the gap (Muehlethaler, Kolar, Ecklebe 2011: a gap is
+    assembled from basic elements in series and parallel).
+
+    Each edge (minus, plus) has two elements in series, one either side of
+    the mid-gap plane, each with the free face h that side has (toward lo,
+    toward hi); the two edges' columns are in parallel.  Against the ideal
+    mu0*w/g per depth:
+
+        k = [1/(1/P(h_minus,lo) + 1/P(h_minus,hi)) + 1/(1/P(h_plus,lo) + 1/P(h_plus,hi))] / (mu0 w/g)
+
+    with P = :func:`conformal_element`.  The same free face h on all four
+    elements gives 1/conformal_sigma(w, g, h), the symmetric formula.
+    """
+    def column(pair: tuple[float, float]) -> float:
+        p_lo, p_hi = conformal_element(w, g, pair[0]), conformal_element(w, g, pair[1])
+        return 1.0 / (1.0 / p_lo + 1.0 / p_hi)
+
+    return (column(minus) + column(plus)) / (mu_0 * w / g)
+
+
 def _conformal(face: GapFace) -> tuple[float, float]:
-    g, h = face.length, face.free_height
-    return 1.0 / conformal_sigma(face.width, g, h), 1.0 / conformal_sigma(face.depth, g, h)
+    """Per-side free faces (face.free_faces()): in-plane the limb's two side
+    faces, depth the stack's front and back faces (same free face both)."""
+    g, sides = face.length, face.free_faces()
+    return (conformal_factor(face.width, g, sides.minus, sides.plus),
+            conformal_factor(face.depth, g, sides.depth, sides.depth))
 
 
 FRINGING_MODELS: dict[str, FringingModel] = {
@@ -158,14 +260,14 @@ FRINGING_MODELS: dict[str, FringingModel] = {
         ),
         FringingModel(
             "flux-factor",
-            "Fringing flux factor 1 + (g/sqrt(Ac)) ln(2G/g), all in k_plane",
+            "Fringing flux factor 1 + (g/sqrt(Ac)) ln(2G/g), split by perimeter share",
             "McLyman, Transformer and Inductor Design Handbook, 4th ed., 2011 "
             "[secondary, via Liao & Chen, J. Eng. 2022, eq. 20]",
             _flux_factor,
         ),
         FringingModel(
             "conformal",
-            "Conformal-map basic elements, sigma_x*sigma_y",
+            "Conformal-map basic elements with each side's free face, sigma_x*sigma_y",
             "Muehlethaler, Kolar, Ecklebe, 'A novel approach for 3D air gap reluctance calculations', "
             "ICPE-ECCE Asia 2011 [approach confirmed; element formula from memory; symmetric gap derived]",
             _conformal,

@@ -40,7 +40,7 @@ LABELS = {
 
 # Quantities that scale with the gap permeance, and so take the depth-fringing factor.
 _PERMEANCE_LIKE = ("flux", "flux_linkage", "inductance", "incremental_inductance", "energy",
-                   "core_B")
+                   "core_B", "path_H")
 
 UNCERTAIN_PCT = 1.0  # FE uncertainty above this (percent) is flagged
 
@@ -119,6 +119,40 @@ def _diff_pct(hand: float, fe: float) -> float:
     return 100.0 * (hand - fe) / fe
 
 
+def depth_corrections(hand_p: HandResult, hand_3d: HandResult) -> dict[str, float]:
+    """Per quantity, the factor taking a planar FE value to its 3D estimate
+    (the "FE 3D" column): the hand network's own 3D / planar ratio.
+
+    Depth fringing raises only the gap permeances, each by its k_depth; what
+    that does to the circuit depends on the gaps' share of its reluctance.
+    For a linear circuit with core reluctance R_c and gap reluctance R_g the
+    flux rises by (R_c + R_g) / (R_c + R_g/k_depth), not by k_depth (which
+    overstates it by the core's share).  The hand network holds exactly that
+    share, with the nonlinear core, several gaps and parallel limbs, so the
+    rule is: FE 3D = FE x hand 3D / hand planar, for flux, flux linkage,
+    inductances, energy, core B and path H.  Gap B (the field in the middle
+    of the gap) is left as it is.  At zero current, where those quantities
+    are zero, the secant-inductance ratio (the small-signal one) serves.
+    """
+    hp, h3 = hand_p.values(), hand_3d.values()
+    base = h3["inductance"] / hp["inductance"] if hp["inductance"] else 1.0
+    out = {}
+    for k in HAND_KEYS:
+        if k not in _PERMEANCE_LIKE:
+            out[k] = 1.0
+        elif hp[k] and math.isfinite(hp[k]) and math.isfinite(h3[k]):
+            out[k] = h3[k] / hp[k]
+        else:
+            out[k] = base
+    return out
+
+
+def fe_3d_factor(case: Case, key: str = "inductance") -> float:
+    """`depth_corrections` of one quantity at the case's own operating point
+    (solves the hand network in both forms)."""
+    return depth_corrections(run_hand(case, planar=True), run_hand(case))[key]
+
+
 def depth_factor(case: Case) -> float:
     """Out-of-plane fringing factor of the first gap under the case's model (1 if none)."""
     if not case.gaps:
@@ -135,14 +169,16 @@ inductance at zero current, in both models."""
 
 
 def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult,
-               k_depth: float) -> tuple[Row, ...]:
+               k_depth: float | None = None) -> tuple[Row, ...]:
+    """The comparison rows (``k_depth`` is unused, kept for callers)."""
     rows = []
+    k3 = depth_corrections(hand_p, hand_3d)
     zero = case.winding.current == 0.0
     for k in HAND_KEYS:
         h, f, u = hand_p.values()[k], fe.values[k], fe.uncertainty.get(k, math.nan)
         d = math.nan if (zero and k in ZERO_AT_ZERO_CURRENT) else _diff_pct(h, f)
         lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
-        f3 = f * k_depth if k in _PERMEANCE_LIKE else f
+        f3 = f * k3[k]
         rows.append(Row(k, LABELS[k], UNITS[k], h, f, u, d, lim, _verdict(d, h, f, u, lim),
                         hand_3d=hand_3d.values()[k], fe_3d=f3))
     peak, limit = fe.fine.peak_B, case.margins.peak_B
@@ -161,7 +197,7 @@ def margin_rows(case: Case, fe: FEResult, k_depth: float) -> list[Row]:
     """Rows for the design margins other than peak B (see compare.margins).
 
     Inductance at a stated current is judged on the FE value with the
-    depth-direction fringing factor (the "FE 3D" column), solved on the FE
+    depth correction of `depth_corrections` (the "FE 3D" column), solved on the FE
     result's mesh at that current; saturation current on the 3D hand model's
     L(I) (a field solution needs a sweep: ``magcheck sweep`` or a declared
     ``[sweep]`` under ``magcheck verify``).
@@ -175,10 +211,12 @@ def margin_rows(case: Case, fe: FEResult, k_depth: float) -> list[Row]:
     cache: dict[float, dict] = {case.winding.current: fe.values}
 
     def fe_at(current: float, kind: str) -> float:
+        at = with_current(case, current)
         if current not in cache:
-            q, _, _ = solve_case(with_current(case, current), fe.solution.mesh)
+            q, _, _ = solve_case(at, fe.solution.mesh)
             cache[current] = q.values
-        return inductance_of(cache[current], kind) * k_depth
+        key = "inductance" if kind == "secant" else "incremental_inductance"
+        return inductance_of(cache[current], kind) * fe_3d_factor(at, key)
 
     out = []
     for r in design_margins(case, fe_at=fe_at):

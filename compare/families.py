@@ -134,11 +134,12 @@ class WindowCore:
         ww, wh = c.window_width, c.window_height
         y_lo, y_hi = c.bottom, c.outer_height - c.top
         x_lo, x_hi = c.left, c.outer_width - c.right
+        W, H = c.outer_width, c.outer_height
         return {
-            "left": Limb("left", "y", y_lo, y_hi, 0.0, c.left, INF, ww),
-            "right": Limb("right", "y", y_lo, y_hi, x_hi, c.outer_width, ww, INF),
-            "bottom": Limb("bottom", "x", x_lo, x_hi, 0.0, c.bottom, INF, wh),
-            "top": Limb("top", "x", x_lo, x_hi, y_hi, c.outer_height, wh, INF),
+            "left": Limb("left", "y", y_lo, y_hi, 0.0, c.left, INF, ww, 0.0, H),
+            "right": Limb("right", "y", y_lo, y_hi, x_hi, W, ww, INF, 0.0, H),
+            "bottom": Limb("bottom", "x", x_lo, x_hi, 0.0, c.bottom, INF, wh, 0.0, W),
+            "top": Limb("top", "x", x_lo, x_hi, y_hi, H, wh, INF, 0.0, W),
         }
 
     def core_rects(self, c: WindowCoreDims) -> list[Rect]:
@@ -219,12 +220,13 @@ class EICore:
     def limbs(self, c: EICoreDims) -> dict[str, Limb]:
         y_lo, y_hi = c.yoke, c.yoke + c.window_height
         xc0 = c.outer + c.window_width
+        H = c.outer_height
         return {
-            "left": Limb("left", "y", y_lo, y_hi, 0.0, c.outer, INF, c.window_width),
+            "left": Limb("left", "y", y_lo, y_hi, 0.0, c.outer, INF, c.window_width, 0.0, H),
             "centre": Limb("centre", "y", y_lo, y_hi, xc0, xc0 + c.centre,
-                           c.window_width, c.window_width),
+                           c.window_width, c.window_width, 0.0, H),
             "right": Limb("right", "y", y_lo, y_hi, c.outer_width - c.outer, c.outer_width,
-                          c.window_width, INF),
+                          c.window_width, INF, 0.0, H),
         }
 
     def core_rects(self, c: EICoreDims) -> list[Rect]:
@@ -246,16 +248,30 @@ class EICore:
         return xl, xc, xr, yb, yt
 
     def segments(self, c: EICoreDims) -> list[Segment]:
+        """Mean-path segments, each piece of iron counted once.
+
+        Outer corners as in the window core: each limb runs to the other's
+        centre line, so a corner square is half in each (common practice,
+        no source).  A T-junction (c x yoke, where the centre limb meets the
+        two yokes) is two such corners: each half of the centre limb (width
+        c/2, half the flux) turns into one yoke.  By the same rule the centre
+        limb runs to the yokes' centre line (its length claims c x yoke/2 of
+        the junction) and each yoke runs to the half-limb's centre line, c/4
+        from the centre line (claiming c/4 x yoke each): c x yoke in all,
+        counted once [derived here; the plain centre-line rule counts it
+        1.5 times].
+        """
         xl, xc, xr, yb, yt = self._lines(c)
         d = c.depth
+        q = 0.25 * c.centre  # the yokes stop at the half-limbs' centre lines
         return [
             Segment("centre", "bc", "tc", yt - yb, c.centre * d, "centre"),
-            Segment("top-left", "tc", "tl", xc - xl, c.yoke * d, "yoke"),
+            Segment("top-left", "tc", "tl", xc - xl - q, c.yoke * d, "yoke"),
             Segment("left", "tl", "bl", yt - yb, c.outer * d, "left"),
-            Segment("bottom-left", "bl", "bc", xc - xl, c.yoke * d, "yoke"),
-            Segment("top-right", "tc", "tr", xr - xc, c.yoke * d, "yoke", on_path=False),
+            Segment("bottom-left", "bl", "bc", xc - xl - q, c.yoke * d, "yoke"),
+            Segment("top-right", "tc", "tr", xr - xc - q, c.yoke * d, "yoke", on_path=False),
             Segment("right", "tr", "br", yt - yb, c.outer * d, "right", on_path=False),
-            Segment("bottom-right", "br", "bc", xr - xc, c.yoke * d, "yoke", on_path=False),
+            Segment("bottom-right", "br", "bc", xr - xc - q, c.yoke * d, "yoke", on_path=False),
         ]
 
     def mean_path(self, c: EICoreDims) -> list[tuple[float, float]]:

@@ -9,6 +9,7 @@ beside it. Families (window core, EI core, ...) describe their limbs with
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 __all__ = ["Limb", "Gap", "Winding", "Rect", "gap_rect", "coil_rects"]
@@ -35,6 +36,10 @@ class Limb:
     room_minus, room_plus : float
         Free room beside the limb on the ``c0`` and ``c1`` sides (m):
         the window width on a window side, ``inf`` outside the core.
+    outer_lo, outer_hi : float, optional
+        Extent of the core's outer boundary along ``axis`` (m): where a face
+        of the limb that looks outside the core, and the stack's flat front
+        and back faces, end (the outer corners).  Default: lo and hi.
     """
 
     name: str
@@ -45,6 +50,22 @@ class Limb:
     c1: float
     room_minus: float
     room_plus: float
+    outer_lo: float | None = None
+    outer_hi: float | None = None
+
+    def face_run(self, side: str, start: float, end: float) -> tuple[float, float]:
+        """How far the limb's ``side`` face ("minus", "plus" or "depth") runs
+        beyond [start, end] along the axis: (toward lo, toward hi), in m.
+
+        A face across a window ends at the yoke (lo, hi); a face outside the
+        core and the stack's front and back faces end at the outer corners.
+        """
+        room = {"minus": self.room_minus, "plus": self.room_plus, "depth": math.inf}[side]
+        lo, hi = self.lo, self.hi
+        if math.isinf(room):
+            lo = self.lo if self.outer_lo is None else self.outer_lo
+            hi = self.hi if self.outer_hi is None else self.outer_hi
+        return start - lo, hi - end
 
     @property
     def width(self) -> float:

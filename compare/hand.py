@@ -13,7 +13,7 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
-from analytic.fringing import GapFace, effective_area, gap_permeance, get_fringing
+from analytic.fringing import GapFace, GapSides, effective_area, gap_permeance, get_fringing
 from analytic.network import CoreBranch, GapBranch, Network, NetworkResult, Winding, solve_network
 
 from .case import Case
@@ -46,13 +46,18 @@ def gap_face(case: Case, index: int) -> GapFace:
     """The face geometry of gap ``index`` for the fringing models.
 
     width = the limb width it crosses (in the plane), depth = stack depth,
-    free height = the limb's straight length beside the window (the room
-    the fringing field has, and the winding length the flux-factor model's
-    G stands for).
+    free height = the limb's straight length beside the window (the
+    winding length the flux-factor model's G stands for), sides = the free
+    pole face each side of the gap as the geometry has it
+    (:meth:`compare.geometry.Limb.face_run`): to the yoke across a window,
+    to the outer corner outside the core and on the stack's front and back.
     """
     gap = case.gaps[index]
     limb = case.limbs[gap.limb]
-    return GapFace(length=gap.length, width=limb.width, depth=case.depth, free_height=limb.span)
+    start, end = gap.position - 0.5 * gap.length, gap.position + 0.5 * gap.length
+    sides = GapSides(*(limb.face_run(s, start, end) for s in ("minus", "plus", "depth")))
+    return GapFace(length=gap.length, width=limb.width, depth=case.depth, free_height=limb.span,
+                   sides=sides)
 
 
 def build_network(case: Case, *, fringing: str | None = None,

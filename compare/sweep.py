@@ -179,6 +179,8 @@ class PointResult:
     fe : FE values keyed like the hand (empty when the FE was not run).
     fe_peak_B : the FE's peak core B (|B| exceeded on 0.5 % of the core area).
     start : Newton start used ("cold", "previous", "secant", "tangent").
+    depth_factor : the secant inductance's FE 3D correction, hand 3D L / hand planar L
+        (compare.check.depth_corrections).
     first_residual : Newton's relative residual at its start (1 for a cold start):
         how good the prediction was.
     """
@@ -268,7 +270,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
     """
     from threadpoolctl import threadpool_limits
 
-    from .check import depth_factor
+    from .check import depth_corrections
     from .fe import mesh_case, solve_case_full
 
     mesh = None
@@ -297,7 +299,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
         hand_start = tuple({b.name: b.flux for b in h.network.branches} for h in (h3, hp))
         base: dict[str, Any] = dict(index=idx, settings=settings, current=current, hand=h3.values(),
                     hand_planar=hp.values(), hand_peak_B=_hand_peak(hp),
-                    depth_factor=depth_factor(case))
+                    depth_factor=depth_corrections(hp, h3)["inductance"])
         if not task.with_fe:
             out.append(PointResult(**base))
             continue
@@ -477,6 +479,13 @@ def curve_saturation(points: list[PointResult], drops: Sequence[float], kind: st
     return saturation_from_curve([p.current for p in points], vals, drops)
 
 
+def _fe_3d(p: PointResult, key: str) -> float:
+    """The point's depth correction of ``key`` (compare.check.depth_corrections):
+    hand 3D over hand planar."""
+    h, hp = p.hand.get(key, math.nan), p.hand_planar.get(key, math.nan)
+    return h / hp if hp and math.isfinite(hp) and math.isfinite(h) else p.depth_factor
+
+
 def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "incremental"
                   ) -> tuple[list[MarginResult], list[dict]]:
     """Margins judged along each L(I) curve of a sweep, and the saturation table.
@@ -524,7 +533,7 @@ def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "in
         for ind in m.inductance:
             key = "inductance" if ind.kind == "secant" else "incremental_inductance"
             if res.with_fe:
-                value = _interp(pts, ind.at, lambda p: p.fe.get(key, math.nan) * p.depth_factor)
+                value = _interp(pts, ind.at, lambda p: p.fe.get(key, math.nan) * _fe_3d(p, key))
             else:
                 value = _interp(pts, ind.at, lambda p: p.hand.get(key, math.nan))
             h = _interp(pts, ind.at, lambda p: p.hand.get(key, math.nan))

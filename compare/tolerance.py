@@ -152,7 +152,7 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
     """Evaluate samples (runs in a worker process; failures come back as ok=False)."""
     from threadpoolctl import threadpool_limits
 
-    from .check import depth_factor
+    from .check import fe_3d_factor
     from .fe import mesh_case, solve_case
     from .hand import run_hand
 
@@ -167,15 +167,16 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
                 mesh = mesh_case(case)
                 with threadpool_limits(limits=1):  # one BLAS thread per worker (see sweep.run_block)
                     q, _, _ = solve_case(case, mesh)
-                k = depth_factor(case)
-                fe_peak, fe_l = q.peak_B, q.values["inductance"] * k
+                fe_peak, fe_l = q.peak_B, q.values["inductance"] * fe_3d_factor(case)
                 cache = {case.winding.current: q.values}
 
-                def fe_at(current: float, kind: str, case=case, mesh=mesh, k=k, cache=cache) -> float:
+                def fe_at(current: float, kind: str, case=case, mesh=mesh, cache=cache) -> float:
+                    at = with_current(case, current)
                     if current not in cache:
                         with threadpool_limits(limits=1):
-                            cache[current] = solve_case(with_current(case, current), mesh)[0].values
-                    return inductance_of(cache[current], kind) * k
+                            cache[current] = solve_case(at, mesh)[0].values
+                    key = "inductance" if kind == "secant" else "incremental_inductance"
+                    return inductance_of(cache[current], kind) * fe_3d_factor(at, key)
 
             def saturation(drop: float, kind: str, case=case, sat=sat):
                 v = sat if (drop == task.drop and kind == "incremental") else \

@@ -14,7 +14,7 @@ from scipy.constants import mu_0
 
 from compare import fe as fe_mod
 from compare.case import case_from_dict, load_case
-from compare.check import run_check
+from compare.check import depth_factor, run_check
 from compare.cli import main
 from compare.fe import run_fe
 from compare.hand import run_hand
@@ -233,25 +233,49 @@ def test_solve_failure_exit_3(monkeypatch, capsys):
 
 
 @pytest.mark.parametrize("fringing", ["area", "conformal"])
-def test_depth_corrected_fe_column_uses_the_depth_factor(fringing):
-    # The 'FE 3D' column is the planar FE value times the fringing model's
-    # out-of-plane factor, written out here from its formula:
-    # area: (b + g)/b (Matsch 1964, ch. 3; REFERENCES.md section 1 [confirmed]);
-    # conformal: 1/sigma(b, g, h) with the model's own sigma (Muehlethaler,
-    # Kolar, Ecklebe 2011; REFERENCES.md section 1), h the face's free height.
-    from analytic.fringing import conformal_sigma
-    from compare.hand import gap_face
-
+def test_depth_corrected_fe_column_uses_the_hand_networks_3d_ratio(fringing):
+    # The 'FE 3D' column is the planar FE value times the hand network's own
+    # 3D/planar ratio of that quantity (compare.check.depth_corrections):
+    # depth fringing raises only the gap permeance, so the circuit gains by
+    # the gap's share of its reluctance, less than the face factor k_depth.
     data = tomllib.loads((CASES / "demo_choke.toml").read_text())
     data["hand"] = {"fringing": fringing}
     case = case_from_dict(data, base_dir=CASES)
     res = run_check(case, estimate_error=False)
-    g, b = case.gaps[0].length, case.depth
-    face = gap_face(case, 0)
-    k = (b + g) / b if fringing == "area" else 1.0 / conformal_sigma(b, g, face.free_height)
-    assert k > 1.0 + 1e-3  # a real correction, or the check below proves nothing
     rows = {r.key: r for r in res.rows}
-    for key in ("flux", "flux_linkage", "inductance", "energy"):
+    h3, hp = res.hand_3d.values(), res.hand_planar.values()
+    k_face = depth_factor(case)
+    for key in ("flux", "flux_linkage", "inductance", "energy", "core_B", "path_H"):
+        k = h3[key] / hp[key]
+        assert k > 1.0 + 1e-4, key  # a real correction, or the check below proves nothing
+        if key in ("flux", "flux_linkage", "inductance"):
+            assert k < k_face, key  # the core's share of the reluctance takes its part
         # Tolerance 1e-12: one multiplication.
         assert rows[key].fe_3d == pytest.approx(k * rows[key].fe, rel=1e-12), key
     assert rows["gap_B"].fe_3d == rows["gap_B"].fe  # B at the gap centre is not permeance-like
+
+
+def test_depth_correction_is_the_gaps_reluctance_share_for_a_linear_core():
+    # Source: exact solution of the linear series circuit (Kirchhoff): core
+    # reluctance R_c, gap R_g (in-plane fringing in the planar form); depth
+    # fringing divides R_g by k_depth, so the flux (and L) rise by
+    # (R_c + R_g)/(R_c + R_g/k_depth).  Tolerance 1e-9: networks solved to 1e-10.
+    from analytic.fringing import gap_permeance, get_fringing
+    from compare.check import depth_corrections
+    from compare.hand import gap_face
+
+    data = tomllib.loads((CASES / "demo_choke.toml").read_text())
+    data["materials"] = {"core": {"mu_r": 800.0}}
+    case = case_from_dict(data, base_dir=CASES)
+    face = gap_face(case, 0)
+    r_g = 1.0 / gap_permeance(face, "area", planar=True)
+    _, k_depth = get_fringing("area").factors(face)
+    from scipy.constants import mu_0
+    r_c = sum((s.length - (case.gaps[0].length if s.limb == "right" else 0.0))
+              / (mu_0 * 800.0 * s.area) for s in case.family_model.segments(case.core))
+    want = (r_c + r_g) / (r_c + r_g / k_depth)
+    k = depth_corrections(run_hand(case, planar=True), run_hand(case))
+    assert k["inductance"] == pytest.approx(want, rel=1e-9)
+    assert k["flux"] == pytest.approx(want, rel=1e-9)
+    assert k["energy"] == pytest.approx(want, rel=1e-9)  # W = L I^2/2 at the same I
+    assert want < k_depth - 1e-3  # the face factor would overstate it

@@ -181,19 +181,31 @@ def test_high_permeability_limit_is_the_gaps_alone():
 # 60 turns at 1.5 A on the centre limb.
 EC, EO, EY, EWW, EWH, ED = 20, 7, 9, 11, 28, 15
 EG, EN, EI_ = 0.4, 60, 1.5
-# Written out by hand (today's accounting: each limb runs between the yoke
-# centre lines, each yoke between limb centre lines).
+# Written out by hand: each limb runs between the yoke centre lines; each yoke
+# from the outer limb's centre line to the centre line of its half of the
+# centre limb (c/4 from the centre), so a T-junction square is counted once
+# (compare.families.EICore.segments).
 E_XL, E_XC = EO / 2, EO + EWW + EC / 2
 E_YB, E_YT = EY / 2, EWH + 2 * EY - EY / 2
+E_YOKE = E_XC - E_XL - EC / 4                 # 19.5 mm
 E_SEG = {  # name: (length mm, area mm^2)
     "centre": (E_YT - E_YB, EC * ED),        # 37 mm, 300 mm^2
     "left": (E_YT - E_YB, EO * ED),          # 37 mm, 105 mm^2
     "right": (E_YT - E_YB, EO * ED),
-    "top-left": (E_XC - E_XL, EY * ED),      # 24.5 mm, 135 mm^2
-    "bottom-left": (E_XC - E_XL, EY * ED),
-    "top-right": (E_XC - E_XL, EY * ED),
-    "bottom-right": (E_XC - E_XL, EY * ED),
+    "top-left": (E_YOKE, EY * ED),           # 19.5 mm, 135 mm^2
+    "bottom-left": (E_YOKE, EY * ED),
+    "top-right": (E_YOKE, EY * ED),
+    "bottom-right": (E_YOKE, EY * ED),
 }
+
+
+def test_ei_segments_count_the_iron_once():
+    # The segments' volume (length x area) equals the real core's: outer
+    # rectangle minus the two windows (exact arithmetic on the dimensions).
+    case = ei_case(2000.0)
+    volume = sum(s.length * s.area for s in case.family_model.segments(case.core))
+    width, height = 2 * EO + 2 * EWW + EC, EWH + 2 * EY
+    assert volume == pytest.approx((width * height - 2 * EWW * EWH) * ED * MM**3, rel=1e-12)
 
 
 def ei_case(mu_r: float):

@@ -90,15 +90,17 @@ def test_ei_case_runs(tmp_path):
     assert math.isfinite(seg["gap0"]["B"])
     # The gap B is the centre-limb flux over the conformal model's effective
     # area a*b/(sigma_a*sigma_b), a = 16 mm (centre width), b = 24 mm (depth),
-    # g = 0.5 mm, free height h = 30 mm (window height).
+    # g = 0.5 mm.  Free face each side of the mid-limb gap: in the plane, to
+    # the yoke across each window, (30 - 0.5)/2 = 14.75 mm; on the stack's
+    # front and back, to the core's outer edge, (30 + 2*8 - 0.5)/2 = 22.75 mm.
     # Source: Muehlethaler, Kolar, Ecklebe, ICPE-ECCE Asia 2011 [confirmed:
     # approach], symmetric leg-to-leg form sigma = 1/(1 + (2g/(pi w))(1 +
-    # ln(pi h/(2g)))) [derived, REFERENCES.md section 1]. Tolerance 1e-9: the
-    # same closed form evaluated twice, float rounding only.
-    def sigma(w: float, g: float = 0.5e-3, h: float = 30e-3) -> float:
+    # ln(pi h/(2g)))) [derived, REFERENCES.md section 1] with h the element's
+    # free face. Tolerance 1e-9: the same closed form evaluated twice.
+    def sigma(w: float, h: float, g: float = 0.5e-3) -> float:
         return 1 / (1 + 2 * g / (math.pi * w) * (1 + math.log(math.pi * h / (2 * g))))
 
-    area = 16e-3 * 24e-3 / (sigma(16e-3) * sigma(24e-3))
+    area = 16e-3 * 24e-3 / (sigma(16e-3, 14.75e-3) * sigma(24e-3, 22.75e-3))
     assert seg["gap0"]["area"] == pytest.approx(area, rel=1e-9)
     assert seg["gap0"]["flux"] == pytest.approx(seg["centre"]["flux"], rel=1e-9)  # in series
     assert seg["gap0"]["B"] == pytest.approx(seg["centre"]["flux"] / area, rel=1e-9)

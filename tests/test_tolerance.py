@@ -12,7 +12,7 @@ import pytest
 from figures import assert_drawn
 
 from compare.case import Tolerance, load_case
-from compare.check import depth_factor
+from compare.check import fe_3d_factor
 from compare.cli import main
 from compare.errors import CaseError
 from compare.fe import run_fe
@@ -89,11 +89,11 @@ def test_fe_subset_values_and_correction(tmp_path):
     s0 = res.samples[0]
     case0 = make_case(src, s0.settings)
     q, _, _ = run_fe(case0)
-    # The FE samples carry the FE inductance with the depth-fringing factor
+    # The FE samples carry the FE inductance with the depth correction
     # (as `magcheck check` judges it); same mesh and solve, so to the Newton
     # tolerance (1e-8 residual -> ~1e-6 relative in the quantities).
     assert res.values["inductance"][0] == pytest.approx(q.values["inductance"]
-                                                        * depth_factor(case0), rel=1e-6)
+                                                        * fe_3d_factor(case0), rel=1e-6)
     assert res.values["peak_B"][0] == pytest.approx(q.peak_B, rel=1e-6)
     # The other samples: FE estimated from the hand value by the mean ratio
     # (2 FE samples < 3): the ratio is the FE samples' own.
@@ -190,7 +190,7 @@ def affine_fe(monkeypatch):
     def solve_case(case, mesh, **kw):
         calls.append(case.gaps[0].length)
         h = run_hand(case)
-        k = depth_factor(case)
+        k = fe_3d_factor(case)
         vals = dict(h.values())
         for key in ("inductance", "incremental_inductance"):
             vals[key] = (A_L + B_L * vals[key]) / k
