@@ -193,7 +193,7 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
     return tuple(rows)
 
 
-def margin_rows(case: Case, fe: FEResult, k_depth: float) -> list[Row]:
+def margin_rows(case: Case, fe: FEResult, k_depth: float | None = None) -> list[Row]:
     """Rows for the design margins other than peak B (see compare.margins).
 
     Inductance at a stated current is judged on the FE value with the
