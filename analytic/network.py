@@ -125,6 +125,9 @@ class GapBranch:
         Gap permeance (Wb/A), e.g. from :func:`analytic.fringing.gap_permeance`.
     effective_area : float
         Area (m^2) used to report B.
+    kind : str
+        "gap" (an air gap of the core) or "leakage" (a linear air path that
+        bypasses part of the core, e.g. across a winding window).
     """
 
     name: str
@@ -133,6 +136,7 @@ class GapBranch:
     length: float
     permeance: float
     effective_area: float
+    kind: str = "gap"
 
     def __post_init__(self) -> None:
         for key in ("length", "permeance", "effective_area"):
@@ -596,7 +600,7 @@ def _branch_results(net: Network, f: NDArray, phi: NDArray) -> tuple[BranchResul
             area = br.effective_area
             energy = pk**2 / (2 * br.permeance)
             coenergy = 0.5 * br.permeance * fk**2
-            kind = "gap"
+            kind = br.kind
         else:
             area = br.area
             b = pk / area

@@ -61,9 +61,15 @@ class MaterialSpec:
 
 @dataclass(frozen=True)
 class HandSettings:
-    """Settings of the magnetic-circuit model."""
+    """Settings of the magnetic-circuit model.
+
+    fringing : the gap fringing model (analytic.fringing.FRINGING_MODELS).
+    leakage : add the leakage across the winding window(s)
+        (analytic.leakage; ``[hand] leakage = true``).
+    """
 
     fringing: str = "area"
+    leakage: bool = False
 
 
 @dataclass(frozen=True)
@@ -438,8 +444,16 @@ def _number_list(t: TableReader, name: str) -> list[float]:
 
 def _read_hand(t: TableReader) -> HandSettings:
     fringing = t.string("fringing", HandSettings.fringing, choices=tuple(FRINGING_MODELS))
+    leakage = _boolean(t, "leakage", HandSettings.leakage)
     t.finish()
-    return HandSettings(fringing=fringing)
+    return HandSettings(fringing=fringing, leakage=leakage)
+
+
+def _boolean(t: TableReader, key: str, default: bool) -> bool:
+    value = t.raw(key, default)
+    if not isinstance(value, bool):
+        raise CaseError(t.key(key), value, "must be true or false")
+    return value
 
 
 def _read_fe(t: TableReader) -> FESettings:

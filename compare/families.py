@@ -18,7 +18,7 @@ from .errors import CaseError
 from .geometry import Limb, Rect
 from .reader import TableReader
 
-__all__ = ["Segment", "Family", "FAMILIES", "WindowCore", "EICore", "get_family"]
+__all__ = ["Segment", "Window", "Family", "FAMILIES", "WindowCore", "EICore", "get_family"]
 
 INF = math.inf
 
@@ -54,6 +54,21 @@ class Segment:
     on_path: bool = True
 
 
+@dataclass(frozen=True)
+class Window:
+    """A winding window beside a limb, for the leakage across it.
+
+    width : from the limb's face to the facing limb's face (m).
+    facing : the limb across the window.
+    lo_side : limbs (yokes) the return loop of the leakage runs along at the
+        lo end of the winding limb: their gaps are always crossed.
+    """
+
+    width: float
+    facing: str
+    lo_side: tuple[str, ...] = ()
+
+
 class Family(Protocol):
     """What a core family provides. Lengths in m, areas in m^2."""
 
@@ -70,6 +85,8 @@ class Family(Protocol):
     def segments(self, core: Any) -> list[Segment]: ...
 
     def mean_path(self, core: Any) -> list[tuple[float, float]]: ...
+
+    def windows(self, core: Any, limb: str) -> list[Window]: ...
 
 
 # ---------------------------------------------------------------------------
@@ -171,6 +188,15 @@ class WindowCore:
     def mean_path(self, c: WindowCoreDims) -> list[tuple[float, float]]:
         xl, xr, yb, yt = self._corners(c)
         return [(xl, yb), (xl, yt), (xr, yt), (xr, yb), (xl, yb)]
+
+    def windows(self, c: WindowCoreDims, limb: str) -> list[Window]:
+        """The one window, seen from ``limb``: across it the opposite limb;
+        the return loop runs along the bottom (vertical limbs) or the left
+        limb (horizontal ones). The coil's outer side is outside the core."""
+        return [{"left": Window(c.window_width, "right", ("bottom",)),
+                 "right": Window(c.window_width, "left", ("bottom",)),
+                 "bottom": Window(c.window_height, "top", ("left",)),
+                 "top": Window(c.window_height, "bottom", ("left",))}[limb]]
 
 
 # ---------------------------------------------------------------------------
@@ -277,6 +303,12 @@ class EICore:
     def mean_path(self, c: EICoreDims) -> list[tuple[float, float]]:
         xl, xc, _, yb, yt = self._lines(c)
         return [(xc, yb), (xc, yt), (xl, yt), (xl, yb), (xc, yb)]
+
+    def windows(self, c: EICoreDims, limb: str) -> list[Window]:
+        """Both windows beside the centre limb (the yokes carry no gaps)."""
+        if limb != "centre":
+            return []
+        return [Window(c.window_width, "left"), Window(c.window_width, "right")]
 
 
 FAMILIES: dict[str, Family] = {f.name: f for f in (WindowCore(), EICore())}

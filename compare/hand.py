@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from analytic.fringing import GapFace, GapSides, effective_area, gap_permeance, get_fringing
+from analytic.constants import mu_0
 from analytic.network import CoreBranch, GapBranch, Network, NetworkResult, Winding, solve_network
 
 from .case import Case
@@ -61,7 +62,7 @@ def gap_face(case: Case, index: int) -> GapFace:
 
 
 def build_network(case: Case, *, fringing: str | None = None,
-                  planar: bool = False) -> tuple[Network, CircuitMap]:
+                  planar: bool = False, leakage: bool = False) -> tuple[Network, CircuitMap]:
     """The reluctance network of a case.
 
     Parameters
@@ -103,6 +104,8 @@ def build_network(case: Case, *, fringing: str | None = None,
                                       effective_area(face, model, planar)))
             gap_names[i] = name
             b = nxt
+    if leakage:
+        branches.extend(window_bypass(case))
     w = case.winding
     net = Network(nodes=tuple(sorted(nodes)), branches=tuple(branches),
                   windings=(Winding(WINDING_NAME, w.turns, w.current, winding_branch),))
@@ -130,6 +133,8 @@ class HandResult:
     residual: float
     segments: tuple[dict, ...]
     network: NetworkResult = field(repr=False, compare=False)
+    leakage_permeance: float = 0.0
+    refinements: tuple[str, ...] = ()
 
     def values(self) -> dict[str, float]:
         return {k: getattr(self, k) for k in HAND_KEYS}
@@ -144,6 +149,8 @@ class HandResult:
         out["iterations"] = self.iterations
         out["residual"] = self.residual
         out["units"] = dict(UNITS)
+        out["leakage_permeance"] = self.leakage_permeance
+        out["refinements"] = list(self.refinements)
         return out
 
 
@@ -168,19 +175,100 @@ def _json_float(v: float) -> float | None:
     return v if math.isfinite(v) else None
 
 
+def window_bypass(case: Case) -> list[GapBranch]:
+    """The window's yoke-to-yoke leakage paths, as linear branches across the
+    facing limb's end nodes (in parallel with that limb and its gaps).
+
+    Across the window, between the two yokes, the potential difference is
+    the MMF drop of the facing limb (its gap): a vertical line at x beyond
+    the coil encloses no current.  With straight field lines (length the
+    window's height h along the limb) the path's permeance is
+    mu0 d (w - t + t/3) / h: the window's free width w - t, and the coil's
+    build t weighted by 1/3, since a line through the coil encloses the part
+    of the coil side beyond it (linear, so u^2 averages to 1/3 for a gap
+    taking all of N I) [derived here; straight-line flux tubes as in Roters,
+    Electromagnetic Devices, 1941 [from memory]].  A facing limb without a
+    gap carries almost no MMF across it, so the branch then carries almost
+    no flux (the network finds that by itself).
+    """
+    w = case.winding
+    limb = case.limbs[w.limb]
+    segs = {seg.limb: seg for seg in case.family_model.segments(case.core)}
+    out = []
+    for k, win in enumerate(case.family_model.windows(case.core, w.limb)):
+        if win.facing not in segs:
+            continue
+        seg = segs[win.facing]
+        t = min(w.thickness, win.width)
+        width = win.width - t + t / 3.0
+        height = limb.span
+        p = mu_0 * case.depth * width / height
+        out.append(GapBranch(f"window{k}-bypass", seg.node_a, seg.node_b, height, p,
+                             width * case.depth, kind="leakage"))
+    return out
+
+
+def _gap_shares(case: Case, res: NetworkResult, cmap: CircuitMap) -> list[float]:
+    """Each gap's MMF drop over the winding's N I (magnitudes); at zero
+    current the shares of the network at 1 A (its small-signal split)."""
+    ni = abs(case.winding.mmf)
+    if ni == 0.0:
+        from dataclasses import replace
+
+        one = replace(case, winding=replace(case.winding, current=1.0))
+        net, cm = build_network(one)
+        return _gap_shares(one, solve_network(net), cm)
+    by_name = {b.name: b for b in res.branches}
+    return [abs(by_name[g].mmf_drop) / ni for g in cmap.gap_branches]
+
+
+def window_leakage_of(case: Case, shares: list[float]):
+    """Leakage permeance (Wb/A) across the winding's windows and the leakage
+    flux through the winding limb's middle per ampere-turn (Wb/A), summed
+    over the windows the family reports (analytic.leakage.window_leakage)."""
+    from analytic.leakage import window_leakage
+
+    w = case.winding
+    limb = case.limbs[w.limb]
+    mid = 0.5 * (limb.lo + limb.hi)
+    coil = (mid - 0.5 * w.length, mid + 0.5 * w.length)
+    total_p, total_flux = 0.0, 0.0
+    for win in case.family_model.windows(case.core, w.limb):
+        steps, offset = [], 0.0
+        for gap, share in zip(case.gaps, shares):
+            if gap.limb in (w.limb, win.facing):
+                steps.append((gap.position, share))
+            elif gap.limb in win.lo_side:
+                offset += share
+        lk = window_leakage(win.width, case.depth, (limb.lo, limb.hi), coil, steps, offset, mid)
+        total_p += lk.permeance
+        total_flux += lk.middle_flux
+    return total_p, total_flux
+
+
 def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
-             flux0: Any = None) -> HandResult:
+             flux0: Any = None, leakage: bool | None = None) -> HandResult:
     """Solve the case's magnetic circuit.
+
+    ``fringing`` and ``leakage`` override the case's ``[hand]`` settings
+    (the difference breakdown switches refinements on one at a time).
+    With leakage, the window leakage (compare.hand.window_leakage_of) adds
+    N^2 P_leak to both inductances, N^2 P_leak I to the flux linkage,
+    N^2 P_leak I^2/2 to the energy and its share to the winding limb's
+    flux; gap B, core B and path H are the gapped path's.
 
     Raises
     ------
     RunError
         When the Newton solve of the network does not converge.
     """
-    net, cmap = build_network(case, fringing=fringing, planar=planar)
+    with_leakage = case.hand.leakage if leakage is None else leakage
+    net, cmap = build_network(case, fringing=fringing, planar=planar, leakage=with_leakage)
     res = solve_network(net, flux0=flux0)
     if not res.converged:
         raise RunError(f"magnetic-circuit solve did not converge: {res.message}")
+    p_leak, flux_leak = window_leakage_of(case, _gap_shares(case, res, cmap)) if with_leakage \
+        else (0.0, 0.0)
     by_name = {b.name: b for b in res.branches}
     path = [by_name[n] for n in cmap.path_branches]
     total = sum(b.length for b in path)
@@ -188,7 +276,8 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     path_H = sum(abs(b.H) * b.length for b in path) / total
     i = case.winding.current
     gap_B = signed(by_name[cmap.gap_branches[0]].B, i) if cmap.gap_branches else math.nan
-    flux = signed(by_name[cmap.winding_branch].flux, i)
+    n = case.winding.turns
+    flux = signed(abs(by_name[cmap.winding_branch].flux) + n * abs(i) * flux_leak, i)
     segments = tuple(
         {"name": b.name, "kind": b.kind, "length": b.length, "area": b.area,
          "flux": signed(b.flux, i), "B": signed(b.B, i), "H": signed(b.H, i),
@@ -199,12 +288,14 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
         fringing_model=get_fringing(fringing or case.hand.fringing).name,
         planar=planar,
         gap_B=gap_B, core_B=core_B, path_H=path_H, flux=flux,
-        flux_linkage=signed(res.flux_linkage[WINDING_NAME], i),
-        inductance=abs(res.inductance[WINDING_NAME]),
-        incremental_inductance=res.incremental_inductance[WINDING_NAME],
-        energy=float(res.energy),
+        flux_linkage=signed(abs(res.flux_linkage[WINDING_NAME]) + n * n * abs(i) * p_leak, i),
+        inductance=abs(res.inductance[WINDING_NAME]) + n * n * p_leak,
+        incremental_inductance=res.incremental_inductance[WINDING_NAME] + n * n * p_leak,
+        energy=float(res.energy) + 0.5 * n * n * p_leak * i * i,
         iterations=res.iterations,
         residual=float(res.residual_history[-1]) if res.residual_history else 0.0,
         segments=segments,
         network=res,
+        leakage_permeance=p_leak,
+        refinements=("window leakage",) if with_leakage else (),
     )
