@@ -56,7 +56,8 @@ def gap_face(case: Case, index: int) -> GapFace:
     gap = case.gaps[index]
     limb = case.limbs[gap.limb]
     start, end = gap.position - 0.5 * gap.length, gap.position + 0.5 * gap.length
-    sides = GapSides(*(limb.face_run(s, start, end) for s in ("minus", "plus", "depth")))
+    sides = GapSides(*(limb.face_run(s, start, end) for s in ("minus", "plus", "depth")),
+                     room=(limb.room_minus, limb.room_plus))
     return GapFace(length=gap.length, width=limb.width, depth=case.depth, free_height=limb.span,
                    sides=sides)
 

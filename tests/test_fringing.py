@@ -191,7 +191,7 @@ def test_all_factors_at_least_one():
 
 
 def test_registry_and_unknown_name():
-    assert set(FRINGING_MODELS) == {"none", "area", "flux-factor", "conformal"}
+    assert set(FRINGING_MODELS) == {"none", "area", "flux-factor", "conformal", "flux-tube"}
     for name, model in FRINGING_MODELS.items():
         assert model.name == name and model.title and model.source
     with pytest.raises(UnknownModelError, match=r"'conformall'.*did you mean 'conformal'\?.*flux-factor"):
@@ -206,3 +206,40 @@ def test_bad_face_rejected(key, bad):
     kwargs[key] = bad
     with pytest.raises(GapFaceError, match=rf"{key} = "):
         GapFace(**kwargs)
+
+
+def test_flux_tube_model_edge_by_edge():
+    # Source: Roters, Electromagnetic Devices, 1941 [secondary, REFERENCES.md
+    # section 1]: per pole edge of length L a half solid cylinder 0.26 mu0 L
+    # and a half hollow cylinder (mu0 L/pi) ln(1 + t/r_i), r_i = g/2.
+    # Composed here: in-plane edges (length b) each with the shorter free face
+    # of its two sides, capped by the room across; depth edges (length a).
+    from analytic.fringing import GapSides
+
+    g, a, b = 0.8e-3, 12e-3, 20e-3
+    sides = GapSides(minus=(5e-3, 25e-3), plus=(40e-3, 40e-3), depth=(45e-3, 60e-3),
+                     room=(math.inf, 9e-3))
+    face = GapFace(length=g, width=a, depth=b, free_height=30e-3, sides=sides)
+
+    def edge(length, t):  # permeance of one edge over mu0
+        return 0.26 * length + length / math.pi * math.log(1 + t / (g / 2))
+
+    p0 = a * b / g
+    k_plane = 1 + (edge(b, 5e-3) + edge(b, 9e-3)) / p0   # minus: 5 mm face; plus: 9 mm room
+    k_depth = 1 + 2 * edge(a, 45e-3) / p0
+    got = get_fringing("flux-tube").factors(face)
+    assert got == pytest.approx((k_plane, k_depth), rel=1e-13)
+
+
+def test_flux_tube_needs_room_beside_the_gap():
+    # A window half as wide halves the tube's reach: less fringing, and the
+    # half cylinder alone (0.26 per edge) when the room is ~0.
+    from analytic.fringing import GapSides
+
+    g, a = 1e-3, 10e-3
+    wide = GapSides((30e-3, 30e-3), (30e-3, 30e-3), (30e-3, 30e-3), room=(20e-3, 20e-3))
+    narrow = GapSides((30e-3, 30e-3), (30e-3, 30e-3), (30e-3, 30e-3), room=(1e-9, 1e-9))
+    kw = get_fringing("flux-tube").factors(GapFace(g, a, a, 30e-3, sides=wide))[0]
+    kn = get_fringing("flux-tube").factors(GapFace(g, a, a, 30e-3, sides=narrow))[0]
+    assert kn < kw
+    assert kn == pytest.approx(1 + g / a * 2 * 0.26, rel=1e-6)
