@@ -66,10 +66,13 @@ class HandSettings:
     fringing : the gap fringing model (analytic.fringing.FRINGING_MODELS).
     leakage : add the leakage across the winding window(s)
         (analytic.leakage; ``[hand] leakage = true``).
+    stacking : core B and H on the net iron area k_s A ([core] stacking),
+        the gaps on the gross face (``[hand] stacking = true``).
     """
 
     fringing: str = "area"
     leakage: bool = False
+    stacking: bool = False
 
 
 @dataclass(frozen=True)
@@ -190,6 +193,11 @@ class Case:
     description: str = ""
     source: str = ""
     sha256: str = ""
+    stacking: float = 1.0
+    """Lamination stacking factor k_s ([core] stacking): iron over gross
+    cross-section.  The FE always uses the homogenised core (polarisation
+    scaled by k_s, analytic.bh.scale_law); the hand model uses the net iron
+    area k_s A when ``[hand] stacking = true``."""
 
     @property
     def family_model(self) -> Family:
@@ -246,6 +254,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     family = get_family(family_name)
 
     core_t = root.table("core")
+    stacking = core_t.number("stacking", 1.0, lo=0.3, hi=1.0)
     core = family.read_core(core_t)
     core_t.finish()
     limbs = family.limbs(core)
@@ -262,7 +271,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     root.finish()
     case = Case(name=name, family=family_name, core=core, gaps=gaps, winding=winding,
                 materials=materials, hand=hand, fe=fe, margins=margins, sweeps=sweeps,
-                tolerances=tolerances,
+                tolerances=tolerances, stacking=stacking,
                 description=description, source=source, sha256=sha256)
     for w in plausibility_issues(case):
         warnings.warn(w, stacklevel=2)
@@ -445,8 +454,9 @@ def _number_list(t: TableReader, name: str) -> list[float]:
 def _read_hand(t: TableReader) -> HandSettings:
     fringing = t.string("fringing", HandSettings.fringing, choices=tuple(FRINGING_MODELS))
     leakage = _boolean(t, "leakage", HandSettings.leakage)
+    stacking = _boolean(t, "stacking", HandSettings.stacking)
     t.finish()
-    return HandSettings(fringing=fringing, leakage=leakage)
+    return HandSettings(fringing=fringing, leakage=leakage, stacking=stacking)
 
 
 def _boolean(t: TableReader, key: str, default: bool) -> bool:

@@ -56,14 +56,14 @@ def gap_face(case: Case, index: int) -> GapFace:
     gap = case.gaps[index]
     limb = case.limbs[gap.limb]
     start, end = gap.position - 0.5 * gap.length, gap.position + 0.5 * gap.length
-    sides = GapSides(*(limb.face_run(s, start, end) for s in ("minus", "plus", "depth")),
-                     room=(limb.room_minus, limb.room_plus))
+    minus, plus, depth = (limb.face_run(s, start, end) for s in ("minus", "plus", "depth"))
+    sides = GapSides(minus, plus, depth, room=(limb.room_minus, limb.room_plus))
     return GapFace(length=gap.length, width=limb.width, depth=case.depth, free_height=limb.span,
                    sides=sides)
 
 
-def build_network(case: Case, *, fringing: str | None = None,
-                  planar: bool = False, leakage: bool = False) -> tuple[Network, CircuitMap]:
+def build_network(case: Case, *, fringing: str | None = None, planar: bool = False,
+                  leakage: bool = False, stacking: bool = False) -> tuple[Network, CircuitMap]:
     """The reluctance network of a case.
 
     Parameters
@@ -90,7 +90,8 @@ def build_network(case: Case, *, fringing: str | None = None,
         core_len = seg.length - sum(case.gaps[i].length for i in gaps)
         a = seg.node_a
         b = f"{seg.name}/core-end" if gaps else seg.node_b
-        branches.append(CoreBranch(seg.name, a, b, core_len, seg.area, material))
+        area = seg.area * (case.stacking if stacking else 1.0)
+        branches.append(CoreBranch(seg.name, a, b, core_len, area, material))
         if seg.on_path:
             path.append(seg.name)
         if seg.limb == case.winding.limb:
@@ -248,10 +249,11 @@ def window_leakage_of(case: Case, shares: list[float]):
 
 
 def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
-             flux0: Any = None, leakage: bool | None = None) -> HandResult:
+             flux0: Any = None, leakage: bool | None = None,
+             stacking: bool | None = None) -> HandResult:
     """Solve the case's magnetic circuit.
 
-    ``fringing`` and ``leakage`` override the case's ``[hand]`` settings
+    ``fringing``, ``leakage`` and ``stacking`` override the case's ``[hand]`` settings
     (the difference breakdown switches refinements on one at a time).
     With leakage, the window leakage (compare.hand.window_leakage_of) adds
     N^2 P_leak to both inductances, N^2 P_leak I to the flux linkage,
@@ -264,7 +266,9 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
         When the Newton solve of the network does not converge.
     """
     with_leakage = case.hand.leakage if leakage is None else leakage
-    net, cmap = build_network(case, fringing=fringing, planar=planar, leakage=with_leakage)
+    with_stacking = (case.hand.stacking if stacking is None else stacking) and case.stacking != 1.0
+    net, cmap = build_network(case, fringing=fringing, planar=planar, leakage=with_leakage,
+                              stacking=with_stacking)
     res = solve_network(net, flux0=flux0)
     if not res.converged:
         raise RunError(f"magnetic-circuit solve did not converge: {res.message}")
@@ -298,5 +302,6 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
         segments=segments,
         network=res,
         leakage_permeance=p_leak,
-        refinements=("window leakage",) if with_leakage else (),
+        refinements=tuple(name for name, on in (("window leakage", with_leakage),
+                                                ("stacking factor", with_stacking)) if on),
     )

@@ -39,7 +39,7 @@ from typing import Any, Callable, Sequence
 import numpy as np
 from analytic.constants import mu_0
 
-from analytic.bh import BHCurve, BHDataError, LinearMaterial
+from analytic.bh import BHDataError, scale_law  # noqa: F401 (scale_law re-exported)
 
 from .case import Case, MaterialSpec, case_from_dict
 from .errors import CaseError, RunError
@@ -66,35 +66,6 @@ DEFAULT_BLOCK = 11
 do not depend on it; 41 points make 4 tasks, enough for 2-4 workers."""
 
 # --------------------------------------------------------------------------- materials
-def scale_law(law: Any, k_h: float = 1.0, k_b: float = 1.0) -> Any:
-    """A B-H law scaled in H and/or B.
-
-    Scaling acts on the polarisation J(H) = B - mu0 H, so the result is a
-    valid curve (slope >= mu0, same mu0 tail) for any factors > 0:
-    J_new(H) = k_b J(H / k_h), B_new = mu0 H + J_new. k_h > 1: a magnetically
-    harder material (needs k_h times the H for the same polarisation);
-    k_b > 1: k_b times the polarisation (saturation) at the same H. A linear
-    law becomes mu_r_new = 1 + k_b (mu_r - 1) / k_h.
-
-    Raises
-    ------
-    BHDataError
-        When the scaled table is not a valid curve.
-    """
-    if k_h == 1.0 and k_b == 1.0:
-        return law
-    if isinstance(law, LinearMaterial):
-        return LinearMaterial(1.0 + k_b * (law.mu_r - 1.0) / k_h,
-                              name=f"{law.name} scaled")
-    h = np.asarray(law.h_points, dtype=float)
-    b = np.asarray(law.b_points, dtype=float)
-    j = b - mu_0 * h
-    h_new = k_h * h
-    return BHCurve.from_points(h_new, mu_0 * h_new + k_b * j,
-                               name=f"{law.name} (H x {k_h:g}, J x {k_b:g})",
-                               source=law.source)
-
-
 # --------------------------------------------------------------------------- cases
 @dataclass(frozen=True)
 class CaseSource:
