@@ -68,11 +68,15 @@ class HandSettings:
         (analytic.leakage; ``[hand] leakage = true``).
     stacking : core B and H on the net iron area k_s A ([core] stacking),
         the gaps on the gross face (``[hand] stacking = true``).
+    effective_parameters : one core branch of the IEC 60205 effective
+        length and area instead of the mean-path segments
+        (``[hand] effective_parameters = true``).
     """
 
     fringing: str = "area"
     leakage: bool = False
     stacking: bool = False
+    effective_parameters: bool = False
 
 
 @dataclass(frozen=True)
@@ -455,8 +459,10 @@ def _read_hand(t: TableReader) -> HandSettings:
     fringing = t.string("fringing", HandSettings.fringing, choices=tuple(FRINGING_MODELS))
     leakage = _boolean(t, "leakage", HandSettings.leakage)
     stacking = _boolean(t, "stacking", HandSettings.stacking)
+    effective = _boolean(t, "effective_parameters", HandSettings.effective_parameters)
     t.finish()
-    return HandSettings(fringing=fringing, leakage=leakage, stacking=stacking)
+    return HandSettings(fringing=fringing, leakage=leakage, stacking=stacking,
+                        effective_parameters=effective)
 
 
 def _boolean(t: TableReader, key: str, default: bool) -> bool:

@@ -88,6 +88,8 @@ class Family(Protocol):
 
     def windows(self, core: Any, limb: str) -> list[Window]: ...
 
+    def effective_path(self, core: Any) -> tuple[list[tuple[str, float, float]], tuple[str, ...]]: ...
+
 
 # ---------------------------------------------------------------------------
 @dataclass(frozen=True)
@@ -188,6 +190,11 @@ class WindowCore:
     def mean_path(self, c: WindowCoreDims) -> list[tuple[float, float]]:
         xl, xr, yb, yt = self._corners(c)
         return [(xl, yb), (xl, yt), (xr, yt), (xr, yb), (xl, yb)]
+
+    def effective_path(self, c: WindowCoreDims) -> tuple[list[tuple[str, float, float]], tuple[str, ...]]:
+        """The four segments in series as IEC 60205 parts (limb, length incl.
+        gaps, area) and the limbs whose gaps lie on that one loop: all four."""
+        return [(s.limb, s.length, s.area) for s in self.segments(c)], self.limb_names
 
     def windows(self, c: WindowCoreDims, limb: str) -> list[Window]:
         """The one window, seen from ``limb``: across it the opposite limb;
@@ -303,6 +310,16 @@ class EICore:
     def mean_path(self, c: EICoreDims) -> list[tuple[float, float]]:
         xl, xc, _, yb, yt = self._lines(c)
         return [(xc, yb), (xc, yt), (xl, yt), (xl, yb), (xc, yb)]
+
+    def effective_path(self, c: EICoreDims) -> tuple[list[tuple[str, float, float]], tuple[str, ...]]:
+        """IEC 60205 parts of the symmetric EI core: the centre limb, and
+        the two outer paths in parallel as one with twice the area (yoke,
+        outer limb, yoke); only centre-limb gaps lie on that single loop."""
+        segs = {s.name: s for s in self.segments(c)}
+        parts = [("centre", segs["centre"].length, segs["centre"].area)]
+        parts += [(segs[n].limb, segs[n].length, 2.0 * segs[n].area)
+                  for n in ("top-left", "left", "bottom-left")]
+        return parts, ("centre",)
 
     def windows(self, c: EICoreDims, limb: str) -> list[Window]:
         """Both windows beside the centre limb (the yokes carry no gaps)."""

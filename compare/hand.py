@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import logging
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from analytic.fringing import GapFace, GapSides, effective_area, gap_permeance, get_fringing
@@ -18,7 +18,7 @@ from analytic.constants import mu_0
 from analytic.network import CoreBranch, GapBranch, Network, NetworkResult, Winding, solve_network
 
 from .case import Case
-from .errors import RunError
+from .errors import CaseError, RunError
 
 __all__ = ["HandResult", "build_network", "run_hand", "WINDING_NAME", "HAND_KEYS", "signed"]
 
@@ -63,7 +63,8 @@ def gap_face(case: Case, index: int) -> GapFace:
 
 
 def build_network(case: Case, *, fringing: str | None = None, planar: bool = False,
-                  leakage: bool = False, stacking: bool = False) -> tuple[Network, CircuitMap]:
+                  leakage: bool = False, stacking: bool = False,
+                  effective: bool = False) -> tuple[Network, CircuitMap]:
     """The reluctance network of a case.
 
     Parameters
@@ -74,8 +75,22 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
         True applies only the in-plane part of the fringing correction, the
         form a planar 2D field model can be compared with (REFERENCES.md
         section 6); False is the full 3D hand calculation.
+    leakage : bool
+        Add, for each winding window, the yoke-to-yoke path across it in
+        parallel with the facing limb (`window_bypass`).
+    stacking : bool
+        Core segments on the net iron area k_s A (``case.stacking``); gaps
+        keep the gross face (the core's flux density on the iron, the gap on
+        the full pole face: McLyman, Transformer and Inductor Design
+        Handbook, 4th ed., 2011 [from memory]).
+    effective : bool
+        One core branch of the IEC 60205 effective length and area
+        (analytic.effective) instead of the mean-path segments, the gaps in
+        series with it (`_effective_network`).
     """
     model = get_fringing(fringing or case.hand.fringing)
+    if effective:
+        return _effective_network(case, model, planar, leakage, stacking)
     material = case.material("core").law
     fam = case.family_model
     branches: list[Any] = []
@@ -114,6 +129,52 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
     cmap = CircuitMap(tuple(path), tuple(gap_names[i] for i in range(len(case.gaps))),
                       winding_branch)
     return net, cmap
+
+
+def _effective_network(case: Case, model, planar: bool, leakage: bool,
+                       stacking: bool) -> tuple[Network, CircuitMap]:
+    """The single loop: a core branch of length l_e (less the gaps) and area
+    A_e (times k_s with ``stacking``), the winding on it, every gap in series
+    and, with ``leakage``, the window bypass across the gaps (the facing
+    limb's iron is part of the effective core here)."""
+    from analytic.effective import effective_parameters
+
+    parts, loop_limbs = case.family_model.effective_path(case.core)
+    off = [i for i, g in enumerate(case.gaps) if g.limb not in loop_limbs]
+    if off:
+        g = case.gaps[off[0]]
+        raise CaseError(f"gaps[{off[0]}].limb", g.limb,
+                        "hand.effective_parameters needs every gap on the winding's single "
+                        f"loop ({', '.join(loop_limbs)}); turn it off for this core")
+    # the iron only: each gap's length comes off the part it cuts, so that
+    # l_e/A_e is the core's own C1 (exact against the segments for a linear core)
+    iron = [(length - sum(g.length for g in case.gaps if g.limb == limb), area)
+            for limb, length, area in parts]
+    eff = effective_parameters(iron)
+    area = eff.area * (case.stacking if stacking else 1.0)
+    branches: list[Any] = [CoreBranch("core", "e0", "e1", eff.length, area,
+                                      case.material("core").law)]
+    nodes = {"e0", "e1"}
+    b = "e1"
+    for i, _ in enumerate(case.gaps):
+        nxt = "e0" if i == len(case.gaps) - 1 else f"gap{i}-end"
+        nodes.add(nxt)
+        face = gap_face(case, i)
+        branches.append(GapBranch(f"gap{i}", b, nxt, face.length, gap_permeance(face, model, planar),
+                                  effective_area(face, model, planar)))
+        b = nxt
+    path = ["core"]
+    if not case.gaps:  # close the loop with the core's other half
+        half = 0.5 * eff.length
+        branches = [CoreBranch("core", "e0", "e1", half, area, case.material("core").law),
+                    CoreBranch("core/return", "e1", "e0", half, area, case.material("core").law)]
+        path.append("core/return")
+    if leakage and case.gaps:
+        branches.extend(replace(br, node_a="e1", node_b="e0") for br in window_bypass(case))
+    w = case.winding
+    net = Network(nodes=tuple(sorted(nodes)), branches=tuple(branches),
+                  windings=(Winding(WINDING_NAME, w.turns, w.current, "core"),))
+    return net, CircuitMap(tuple(path), tuple(f"gap{i}" for i in range(len(case.gaps))), "core")
 
 
 @dataclass(frozen=True)
@@ -215,7 +276,6 @@ def _gap_shares(case: Case, res: NetworkResult, cmap: CircuitMap) -> list[float]
     current the shares of the network at 1 A (its small-signal split)."""
     ni = abs(case.winding.mmf)
     if ni == 0.0:
-        from dataclasses import replace
 
         one = replace(case, winding=replace(case.winding, current=1.0))
         net, cm = build_network(one)
@@ -250,10 +310,10 @@ def window_leakage_of(case: Case, shares: list[float]):
 
 def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
              flux0: Any = None, leakage: bool | None = None,
-             stacking: bool | None = None) -> HandResult:
+             stacking: bool | None = None, effective: bool | None = None) -> HandResult:
     """Solve the case's magnetic circuit.
 
-    ``fringing``, ``leakage`` and ``stacking`` override the case's ``[hand]`` settings
+    ``fringing``, ``leakage``, ``stacking`` and ``effective`` override the case's ``[hand]`` settings
     (the difference breakdown switches refinements on one at a time).
     With leakage, the window leakage (compare.hand.window_leakage_of) adds
     N^2 P_leak to both inductances, N^2 P_leak I to the flux linkage,
@@ -267,8 +327,9 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     """
     with_leakage = case.hand.leakage if leakage is None else leakage
     with_stacking = (case.hand.stacking if stacking is None else stacking) and case.stacking != 1.0
+    with_effective = case.hand.effective_parameters if effective is None else effective
     net, cmap = build_network(case, fringing=fringing, planar=planar, leakage=with_leakage,
-                              stacking=with_stacking)
+                              stacking=with_stacking, effective=with_effective)
     res = solve_network(net, flux0=flux0)
     if not res.converged:
         raise RunError(f"magnetic-circuit solve did not converge: {res.message}")
@@ -303,5 +364,6 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
         network=res,
         leakage_permeance=p_leak,
         refinements=tuple(name for name, on in (("window leakage", with_leakage),
-                                                ("stacking factor", with_stacking)) if on),
+                                                ("stacking factor", with_stacking),
+                                                ("effective parameters", with_effective)) if on),
     )
