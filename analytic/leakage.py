@@ -7,7 +7,7 @@ small against the length they cross), the magnetic potential difference
 across the window at a point t along the limb is, by Ampere's law round
 the loop limb - window - facing limb - yoke,
 
-    U(t) = N I u(t),   u(t) = s(t) - sum of the gap MMF shares the loop crosses,
+    U(t) = N I u(t),   u(t) = s(t) - sum of the MMF drops the loop crosses / N I,
 
 s(t) the fraction of the winding's ampere-turns on the loop's side of t
 (rising linearly along the coil).  The flux crossing the window between t
@@ -27,9 +27,13 @@ The other window path, from yoke to yoke across the window in parallel
 with the facing limb's gap, is a linear branch of the network itself
 (compare.hand.window_bypass), since the MMF it sees is the gap's.
 
+The drops are the gaps' and the iron's, from the solved network: a gap's
+as a step where the loop crosses it, the yoke's at the lo end as a constant,
+the two limbs' spread evenly along them (``slope``).
+
 Assumptions (stated in the report): straight field lines across the window
-(no bulging; a wide or short window leaks more by its ends); ideal iron
-(the iron's own MMF drops are left out of u); no leakage outside the core
+(no bulging; a wide or short window leaks more by its ends); the iron's
+drop spread evenly along each limb; no leakage outside the core
 or round the end turns (a planar model has none either).
 """
 
@@ -64,15 +68,16 @@ class WindowLeakage:
 
 
 def _u(t: float, coil: tuple[float, float], steps: Sequence[tuple[float, float]],
-       offset: float) -> float:
+       offset: float, slope: float, lo: float) -> float:
     c0, c1 = coil
     s = 0.0 if t <= c0 else 1.0 if t >= c1 else (t - c0) / (c1 - c0)
-    return s - offset - sum(share for pos, share in steps if pos < t)
+    return s - offset - slope * (t - lo) - sum(share for pos, share in steps if pos < t)
 
 
 def window_leakage(width: float, depth: float, span: tuple[float, float],
                    coil: tuple[float, float], steps: Sequence[tuple[float, float]] = (),
-                   offset: float = 0.0, middle: float | None = None) -> WindowLeakage:
+                   offset: float = 0.0, middle: float | None = None,
+                   slope: float = 0.0) -> WindowLeakage:
     """Leakage permeance across a window (module docstring).
 
     Parameters
@@ -87,6 +92,9 @@ def window_leakage(width: float, depth: float, span: tuple[float, float],
     offset : the summed shares of gaps the loop always crosses (in the yoke
         at the span's lo end).
     middle : where the limb's flux is measured (default: the span's middle).
+    slope : the iron's MMF drop per metre over N I (1/m) along the two limbs
+        the loop runs on (winding limb and facing limb, together): with a
+        saturating core the potential across the window falls by it.
 
     The integral is exact: u is piecewise linear, integrated piece by piece
     with Simpson's rule (exact for the quadratic u^2).
@@ -106,7 +114,8 @@ def window_leakage(width: float, depth: float, span: tuple[float, float],
     for a, b in zip(knots[:-1], knots[1:]):
         if b - a <= eps:
             continue
-        ua, ub = _u(a + eps, (c0, c1), steps, offset), _u(b - eps, (c0, c1), steps, offset)
+        ua = _u(a + eps, (c0, c1), steps, offset, slope, lo)
+        ub = _u(b - eps, (c0, c1), steps, offset, slope, lo)
         um = 0.5 * (ua + ub)  # u is linear on the piece
         p_int += (b - a) * (ua * ua + 4 * um * um + ub * ub) / 6.0
         # flux passing the middle: leaving beyond it (u > 0), entering before it (u < 0)

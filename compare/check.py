@@ -91,6 +91,8 @@ class CheckResult:
     notes: tuple[str, ...]
     timings: dict[str, float]
     fringing_ranking: tuple[dict, ...] = ()
+    breakdown: tuple = ()
+    """compare.breakdown.Step per refinement, in order (the difference breakdown)."""
 
     @property
     def passed(self) -> bool:
@@ -349,10 +351,15 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
     k_depth = depth_factor(case)
     rows = build_rows(case, hand_p, hand_3d, fe, k_depth)
     notes = explain(case, rows, hand_p, fe)
-    ranking = rank_fringing(case, fe) if all_fringing else ()
+    full_ranking = rank_fringing(case, fe)
+    ranking = full_ranking if all_fringing else ()
+    from .breakdown import difference_breakdown
+
+    breakdown = difference_breakdown(case, fe.values, full_ranking[0]["model"] if full_ranking
+                                     else None)
     t3 = time.perf_counter()
     return CheckResult(case=case, hand_3d=hand_3d, hand_planar=hand_p, fe=fe, rows=rows,
                        depth_factor=k_depth, notes=notes,
                        timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
                                 "total": t3 - t0},
-                       fringing_ranking=ranking)
+                       fringing_ranking=ranking, breakdown=breakdown)

@@ -62,11 +62,14 @@ class Window:
     facing : the limb across the window.
     lo_side : limbs (yokes) the return loop of the leakage runs along at the
         lo end of the winding limb: their gaps are always crossed.
+    lo_segments : the network segments of that return (their iron's MMF
+        drop is always crossed); default: the lo_side limbs' segments.
     """
 
     width: float
     facing: str
     lo_side: tuple[str, ...] = ()
+    lo_segments: tuple[str, ...] | None = None
 
 
 class Family(Protocol):
@@ -325,7 +328,8 @@ class EICore:
         """Both windows beside the centre limb (the yokes carry no gaps)."""
         if limb != "centre":
             return []
-        return [Window(c.window_width, "left"), Window(c.window_width, "right")]
+        return [Window(c.window_width, "left", lo_segments=("bottom-left",)),
+                Window(c.window_width, "right", lo_segments=("bottom-right",))]
 
 
 FAMILIES: dict[str, Family] = {f.name: f for f in (WindowCore(), EICore())}

@@ -133,10 +133,10 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
 
 def _effective_network(case: Case, model, planar: bool, leakage: bool,
                        stacking: bool) -> tuple[Network, CircuitMap]:
-    """The single loop: a core branch of length l_e (less the gaps) and area
-    A_e (times k_s with ``stacking``), the winding on it, every gap in series
-    and, with ``leakage``, the window bypass across the gaps (the facing
-    limb's iron is part of the effective core here)."""
+    """The single loop: the core as branches of area A_e (times k_s with
+    ``stacking``) and total length l_e (the iron's IEC 60205 parameters),
+    the winding on the first, every gap in series and, with ``leakage``, the
+    window bypass across the facing limb's part and its gaps."""
     from analytic.effective import effective_parameters
 
     parts, loop_limbs = case.family_model.effective_path(case.core)
@@ -152,25 +152,43 @@ def _effective_network(case: Case, model, planar: bool, leakage: bool,
             for limb, length, area in parts]
     eff = effective_parameters(iron)
     area = eff.area * (case.stacking if stacking else 1.0)
-    branches: list[Any] = [CoreBranch("core", "e0", "e1", eff.length, area,
-                                      case.material("core").law)]
-    nodes = {"e0", "e1"}
-    b = "e1"
-    for i, _ in enumerate(case.gaps):
-        nxt = "e0" if i == len(case.gaps) - 1 else f"gap{i}-end"
-        nodes.add(nxt)
-        face = gap_face(case, i)
-        branches.append(GapBranch(f"gap{i}", b, nxt, face.length, gap_permeance(face, model, planar),
-                                  effective_area(face, model, planar)))
-        b = nxt
-    path = ["core"]
-    if not case.gaps:  # close the loop with the core's other half
-        half = 0.5 * eff.length
-        branches = [CoreBranch("core", "e0", "e1", half, area, case.material("core").law),
-                    CoreBranch("core/return", "e1", "e0", half, area, case.material("core").law)]
-        path.append("core/return")
+    law = case.material("core").law
+    # The loop, in order: the winding side of the core, the gaps elsewhere,
+    # the facing limb's share of the effective core, the facing limb's gaps.
+    # The window bypass spans the last two, as it spans the facing limb in
+    # the segment model (so a uniform core gives the same circuit either way).
+    windows = case.family_model.windows(case.core, case.winding.limb)
+    facing = windows[0].facing if windows else None
+    total_iron = sum(length for length, _ in iron)
+    share = sum(length for (limb, _, _), (length, _) in zip(parts, iron) if limb == facing)
+    frac = share / total_iron if total_iron > 0 else 0.0
+    near = [i for i, g in enumerate(case.gaps) if g.limb != facing]
+    far = [i for i, g in enumerate(case.gaps) if g.limb == facing]
+    chain: list[tuple[str, Any]] = [("core", eff.length * (1.0 - frac))]
+    chain += [(f"gap{i}", i) for i in near]
+    if frac > 0:
+        chain.append(("core/facing", eff.length * frac))
+    chain += [(f"gap{i}", i) for i in far]
+    if len(chain) == 1:  # no gap, no facing part: close the loop with a second half
+        chain = [("core", 0.5 * eff.length), ("core/return", 0.5 * eff.length)]
+    branches: list[Any] = []
+    names = [f"e{k}" for k in range(len(chain))]
+    bypass_from = None
+    for k, (name, what) in enumerate(chain):
+        a, b = names[k], names[(k + 1) % len(chain)]
+        if name.startswith("gap"):
+            face = gap_face(case, what)
+            branches.append(GapBranch(name, a, b, face.length, gap_permeance(face, model, planar),
+                                      effective_area(face, model, planar)))
+        else:
+            branches.append(CoreBranch(name, a, b, what, area, law))
+            if name == "core/facing":
+                bypass_from = a
+    nodes = set(names)
+    path = [n for n, _ in chain if n.startswith("core")]
     if leakage and case.gaps:
-        branches.extend(replace(br, node_a="e1", node_b="e0") for br in window_bypass(case))
+        start = bypass_from or names[1]
+        branches.extend(replace(br, node_a=start, node_b="e0") for br in window_bypass(case))
     w = case.winding
     net = Network(nodes=tuple(sorted(nodes)), branches=tuple(branches),
                   windings=(Winding(WINDING_NAME, w.turns, w.current, "core"),))
@@ -271,41 +289,66 @@ def window_bypass(case: Case) -> list[GapBranch]:
     return out
 
 
-def _gap_shares(case: Case, res: NetworkResult, cmap: CircuitMap) -> list[float]:
-    """Each gap's MMF drop over the winding's N I (magnitudes); at zero
-    current the shares of the network at 1 A (its small-signal split)."""
+def _drops(case: Case, res: NetworkResult, cmap: CircuitMap) -> dict[str, float]:
+    """Each branch's MMF drop over the winding's N I (magnitudes); at zero
+    current those of the network at 1 A (its small-signal split)."""
     ni = abs(case.winding.mmf)
     if ni == 0.0:
-
         one = replace(case, winding=replace(case.winding, current=1.0))
         net, cm = build_network(one)
-        return _gap_shares(one, solve_network(net), cm)
-    by_name = {b.name: b for b in res.branches}
-    return [abs(by_name[g].mmf_drop) / ni for g in cmap.gap_branches]
+        return _drops(one, solve_network(net), cm)
+    return {b.name: abs(b.mmf_drop) / ni for b in res.branches}
 
 
-def window_leakage_of(case: Case, shares: list[float]):
+def window_leakage_of(case: Case, drops: dict[str, float]) -> tuple[float, float]:
     """Leakage permeance (Wb/A) across the winding's windows and the leakage
     flux through the winding limb's middle per ampere-turn (Wb/A), summed
-    over the windows the family reports (analytic.leakage.window_leakage)."""
+    over the windows the family reports (analytic.leakage.window_leakage),
+    with the MMF drops (over N I) of the segment model's branches."""
     from analytic.leakage import window_leakage
 
     w = case.winding
     limb = case.limbs[w.limb]
     mid = 0.5 * (limb.lo + limb.hi)
     coil = (mid - 0.5 * w.length, mid + 0.5 * w.length)
+    segs = {s.name: s for s in case.family_model.segments(case.core)}
+    by_limb = {s.limb: s for s in segs.values() if s.limb in case.limbs}
     total_p, total_flux = 0.0, 0.0
     for win in case.family_model.windows(case.core, w.limb):
         steps, offset = [], 0.0
-        for gap, share in zip(case.gaps, shares):
+        for i, gap in enumerate(case.gaps):
+            share = drops.get(f"gap{i}", 0.0)
             if gap.limb in (w.limb, win.facing):
                 steps.append((gap.position, share))
             elif gap.limb in win.lo_side:
                 offset += share
-        lk = window_leakage(win.width, case.depth, (limb.lo, limb.hi), coil, steps, offset, mid)
+        # the iron: the lo-end yoke's whole drop, the two limbs' drops spread
+        # along their segments (corner to corner), so the part below lo too
+        lo_segs = win.lo_segments if win.lo_segments is not None else tuple(
+            by_limb[n].name for n in win.lo_side if n in by_limb)
+        offset += sum(drops.get(n, 0.0) for n in lo_segs)
+        slope = 0.0
+        for seg in (by_limb.get(w.limb), by_limb.get(win.facing)):
+            if seg is None:
+                continue
+            per_m = drops.get(seg.name, 0.0) / seg.length
+            slope += per_m
+            offset += per_m * 0.5 * (seg.length - limb.span)
+        lk = window_leakage(win.width, case.depth, (limb.lo, limb.hi), coil, steps, offset, mid,
+                            slope=slope)
         total_p += lk.permeance
         total_flux += lk.middle_flux
     return total_p, total_flux
+
+
+def _segment_solution(case: Case, fringing: str | None, planar: bool,
+                      stacking: bool) -> tuple[NetworkResult, CircuitMap]:
+    net, cmap = build_network(case, fringing=fringing, planar=planar, leakage=True,
+                              stacking=stacking)
+    res = solve_network(net)
+    if not res.converged:
+        raise RunError(f"magnetic-circuit solve did not converge: {res.message}")
+    return res, cmap
 
 
 def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
@@ -333,8 +376,13 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     res = solve_network(net, flux0=flux0)
     if not res.converged:
         raise RunError(f"magnetic-circuit solve did not converge: {res.message}")
-    p_leak, flux_leak = window_leakage_of(case, _gap_shares(case, res, cmap)) if with_leakage \
-        else (0.0, 0.0)
+    p_leak, flux_leak = (0.0, 0.0)
+    if with_leakage:
+        # the drops of the segment model (the effective-parameter loop has
+        # no limbs to spread them on)
+        seg_res, seg_map = (res, cmap) if not with_effective else _segment_solution(
+            case, fringing, planar, with_stacking)
+        p_leak, flux_leak = window_leakage_of(case, _drops(case, seg_res, seg_map))
     by_name = {b.name: b for b in res.branches}
     path = [by_name[n] for n in cmap.path_branches]
     total = sum(b.length for b in path)

@@ -249,12 +249,35 @@ def fig_bh(res: CheckResult):
     return fig
 
 
+def fig_breakdown(res: CheckResult):
+    """The difference breakdown: each quantity's hand-vs-FE difference after
+    each step; None without steps."""
+    from .breakdown import BREAKDOWN_KEYS
+
+    if not res.breakdown:
+        return None
+    fig, ax = plt.subplots(figsize=(6.5, 4))
+    x = np.arange(len(res.breakdown))
+    markers = "osD^vP"
+    for k, m in zip(BREAKDOWN_KEYS, markers):
+        y = [st.diff_pct[k] for st in res.breakdown]
+        ax.plot(x, y, marker=m, lw=1.2, label=k.replace("_", " "))
+    ax.axhline(0.0, color="#444444", lw=0.8)
+    ax.set_xticks(x, [st.name for st in res.breakdown], rotation=15, fontsize=8)
+    ax.set_ylabel("(hand - FE) / FE (%)")
+    ax.set_title("Where the difference comes from: hand refinements one at a time", fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7)
+    return fig
+
+
 FIGURES = {
     "geometry.png": fig_geometry,
     "flux.png": fig_flux,
     "gap_line.png": fig_gap_line,
     "path_h.png": fig_path_h,
     "bh.png": fig_bh,
+    "breakdown.png": fig_breakdown,
 }
 
 
@@ -263,6 +286,8 @@ _CAPTIONS = {
     "gap_line.png": "B along a line across the middle of the first gap, beyond both pole faces.",
     "path_h.png": "|H| along the core's mean path (gaps left out), with the hand value.",
     "bh.png": "The core's B-H curve with the hand and FE operating points.",
+    "breakdown.png": "The hand-vs-FE difference of each quantity after each refinement of the "
+                     "hand model (planar forms), in the order of the table above.",
 }
 
 

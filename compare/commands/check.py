@@ -46,6 +46,12 @@ def print_check(res: CheckResult, out) -> None:
               for d in res.fringing_ranking]
         render_table("fringing models vs FE (planar form), best first",
                      ["model", "gap B diff %", "flux diff %", "inductance diff %", "RMS %"], rk, out)
+    if res.breakdown:
+        from ..serialize import BREAKDOWN_NOTE, breakdown_rows
+
+        columns, brows = breakdown_rows(res)
+        render_table("where the difference comes from: hand refinements one at a time",
+                     columns, brows, out, notes=[BREAKDOWN_NOTE])
     out.write(("PASS: all limits and margins met" if res.passed
                else "FAIL: a limit or margin is not met") + "\n")
     out.write(CAUTION + "\n")
