@@ -36,6 +36,8 @@ COMMANDS: dict[str, str] = {
               "and print a pass/fail table of every limit and margin",
     "tolerance": "Monte Carlo over the tolerances a case declares: percentiles of inductance, "
                  "peak core B and saturation current, and the yield (samples meeting every margin)",
+    "selftest": "run the field engine on exact-solution cases (planar and axisymmetric) and "
+                "print FE value, reference, relative error and tolerance for each",
 }
 
 

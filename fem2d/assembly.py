@@ -38,8 +38,14 @@ class Assembler:
         Total current per region name, A.
     """
 
-    def __init__(self, rmesh: RegionMesh, materials: dict, currents: dict):
+    def __init__(self, rmesh: RegionMesh, materials: dict, currents: dict,
+                 formulation=None):
+        from .formulation import formulation_for
+
         self.rmesh = rmesh
+        self.formulation = form = formulation if formulation is not None \
+            else formulation_for(rmesh.layout)
+        form.check(rmesh.layout)
         elem = ElementTriP2() if rmesh.order == 2 else ElementTriP1()
         # quadrature: P1 gradients are constant per element, so one point is
         # exact for nu(|B|^2) grad.grad; P2 uses degree 4 (6 points): degree 2
@@ -63,6 +69,15 @@ class Assembler:
         self.G = G
         self.Gflat = G.reshape(ne, nloc, 2 * nq)
         self.phi_int = np.einsum("ieq,eq->ie", Phi, self.dx)  # (nloc, ne), m^2
+        # the formulation's weights at the quadrature points (module
+        # formulation): field scale f (|B| = f |grad u|), volume weight v,
+        # stiffness weight f^2 v; None where they are 1 (planar)
+        self.xq = np.asarray(basis.global_coordinates())  # (2, ne, nq)
+        f = form.field_scale(self.xq)
+        v = form.volume_weight(self.xq)
+        self.f2 = None if f is None else f * f
+        self.wv = self.dx if v is None else self.dx * v  # volume integrals
+        self.wk = self.dx if self.f2 is None else self.dx * self.f2 * v  # stiffness
         self.Phi = Phi
         # region areas and material laws per element
         self.region_names = rmesh.region_names
@@ -128,9 +143,18 @@ class Assembler:
 
     # ------------------------------------------------------------------ fields
     def grad(self, A: np.ndarray) -> np.ndarray:
-        """grad A at quadrature points, shape (2, ne, nq), T."""
+        """grad of the unknown at quadrature points, shape (2, ne, nq)."""
         Ae = A[self.dofs]  # (nloc, ne)
         return np.einsum("eiaq,ie->aeq", self.G, Ae)
+
+    def s_of(self, g: np.ndarray) -> np.ndarray:
+        """s = |B|^2 (T^2) at the quadrature points from the unknown's gradient."""
+        s = g[0] ** 2 + g[1] ** 2
+        return s if self.f2 is None else s * self.f2
+
+    def b_at_qp(self, g: np.ndarray) -> np.ndarray:
+        """B (T) at the quadrature points from the unknown's gradient, (2, ne, nq)."""
+        return self.formulation.b(g, self.xq)
 
     def coefficients(self, s: np.ndarray, derivative: bool = True):
         """nu(s) and dnu/ds(s) at quadrature points, arrays (ne, nq)."""
@@ -153,7 +177,7 @@ class Assembler:
     # ---------------------------------------------------------------- assembly
     def residual(self, g: np.ndarray, nu: np.ndarray) -> np.ndarray:
         """Full residual vector r = F_int(A) - b, shape (ndofs,), A (per metre)."""
-        c = nu * self.dx
+        c = nu * self.wk
         fl = np.einsum("eiaq,aeq->ie", self.G, g * c[None])
         return np.bincount(self.dofs.ravel(), weights=fl.ravel(), minlength=self.ndofs) - self.b
 
@@ -166,7 +190,7 @@ class Assembler:
         matrix product for all elements.
         """
         nq = self.nq
-        c = nu * self.dx  # (ne, nq)
+        c = nu * self.wk  # (ne, nq)
         if dnu is None or not np.any(dnu):
             X = self.Gflat
             W = np.concatenate([c, c], axis=1)  # (ne, 2nq)
@@ -180,12 +204,11 @@ class Assembler:
             X[:, :, 2 * nq:] = G[:, :, 0, :] * g[0][:, None, :] + G[:, :, 1, :] * g[1][:, None, :]
             W[:, :nq] = c
             W[:, nq:2 * nq] = c
-            W[:, 2 * nq:] = 2.0 * dnu * self.dx
+            W[:, 2 * nq:] = 2.0 * dnu * (self.wk if self.f2 is None else self.wk * self.f2)
         Ke = np.matmul(X * W[:, None, :], X.transpose(0, 2, 1))  # (ne, nloc, nloc)
         data = np.bincount(self.scatter, weights=Ke.ravel()[self.keep], minlength=self.nnz)
         return sp.csr_matrix((data, self.indices, self.indptr), shape=(self.nI, self.nI))
 
     def energy(self, g: np.ndarray, A: np.ndarray) -> float:
-        """W(A) = int w(|grad A|^2) dx - int J A dx, J/m."""
-        s = g[0] ** 2 + g[1] ** 2
-        return float(np.sum(self.energy_density(s) * self.dx) - self.b @ A)
+        """W(A) = int w(|B|^2) (volume weight) dx - int J A dx (per metre, or per radian)."""
+        return float(np.sum(self.energy_density(self.s_of(g)) * self.wv) - self.b @ A)

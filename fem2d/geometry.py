@@ -177,7 +177,7 @@ def estimate_triangles(layout: Layout) -> int:
     n = region_area / (c * h * h)
     n += outline / (c * ms.grading) * (1.0 / h - 1.0 / h_air)
     _, _, half = layout.air_geometry()
-    air_area = (4.0 if layout.air.shape == "box" else math.pi) * half * half
+    air_area = {"box": 4.0, "disk": math.pi, "rz-box": 2.0}[layout.air.shape] * half * half
     band = (h_air - h) / ms.grading
     free_air = max(0.0, air_area - (x1 - x0 + 2 * band) * (y1 - y0 + 2 * band))
     n += free_air / (c * h_air * h_air)
@@ -201,7 +201,9 @@ def _build(gmsh, layout: Layout) -> GmshArrays:
     gmsh.model.add("layout")
     occ = gmsh.model.occ
     cx, cy, half = layout.air_geometry()
-    if layout.air.shape == "box":
+    if layout.air.shape == "rz-box":
+        air = [(2, occ.addRectangle(0.0, cy - half, 0.0, half, 2 * half))]
+    elif layout.air.shape == "box":
         air = [(2, occ.addRectangle(cx - half, cy - half, 0.0, 2 * half, 2 * half))]
     else:
         air = [(2, occ.addDisk(cx, cy, 0.0, half, half))]

@@ -252,7 +252,9 @@ class AirBox:
 
     ``shape`` "box" (square) or "disk"; its side (diameter) is ``size`` if
     given, else ``factor`` x the largest extent of the regions' bounding box,
-    centred on that bounding box.
+    centred on that bounding box.  ``shape`` "rz-box" is the axisymmetric
+    domain: r from 0 (the axis) to half the side, z over the side, centred
+    on the regions' z range; the extent counts the regions' full diameter.
     """
 
     shape: str = "box"
@@ -260,8 +262,8 @@ class AirBox:
     size: float | None = None
 
     def __post_init__(self) -> None:
-        if self.shape not in ("box", "disk"):
-            raise LayoutError(f"air: shape = {self.shape!r} must be 'box' or 'disk'")
+        if self.shape not in ("box", "disk", "rz-box"):
+            raise LayoutError(f"air: shape = {self.shape!r} must be 'box', 'disk' or 'rz-box'")
         _positive("air", "factor", self.factor)
         if self.size is not None:
             _positive("air", "size", self.size)
@@ -337,9 +339,15 @@ class Layout:
         # every region must lie inside the air domain
         cx, cy, half = self.air_geometry()
         for r in regions:
+            if self.air.shape == "rz-box" and r.bbox()[0] < 0.0:
+                raise LayoutError(f"region {r.name!r}: reaches r = {r.bbox()[0]!r} m < 0 "
+                                  "(axisymmetric domain r >= 0)")
             for s in r.shapes:
                 for x, y, rad in s.extreme_points():
-                    if self.air.shape == "box":
+                    if self.air.shape == "rz-box":
+                        out = (x + rad > half * (1 + 1e-12)
+                               or abs(y - cy) + rad > half * (1 + 1e-12))
+                    elif self.air.shape == "box":
                         out = (abs(x - cx) + rad > half * (1 + 1e-12)
                                or abs(y - cy) + rad > half * (1 + 1e-12))
                     else:
@@ -359,6 +367,10 @@ class Layout:
         """Centre (cx, cy) and half-side (or radius) of the air domain, m."""
         x0, y0, x1, y1 = self.bbox()
         cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
+        if self.air.shape == "rz-box":  # r in [0, half], z in [cy - half, cy + half]
+            size = self.air.size if self.air.size is not None else \
+                self.air.factor * max(2.0 * x1, y1 - y0)
+            return 0.0, cy, 0.5 * size
         size = self.air.size if self.air.size is not None else self.air.factor * max(x1 - x0, y1 - y0)
         return cx, cy, 0.5 * size
 

@@ -1,8 +1,10 @@
 """Post-processing of a :class:`~fem2d.solver.FieldSolution`.
 
-All functions are plain functions of the solution.  Per-metre quantities
-are multiplied by ``layout.depth`` (m) where a total is asked.  B = curl
-(A e_z) = (dA/dy, -dA/dx) (T); H = nu(|B|^2) B (A/m).
+All functions are plain functions of the solution.  B is formed from the
+unknown's gradient by the solution's formulation (fem2d.formulation:
+planar A_z or axisymmetric u = r A_phi), and per-metre (per-radian)
+integrals become totals through its ``total`` (the stack depth, or 2 pi);
+volume means use its volume weight.  H = nu(|B|^2) B (A/m).
 """
 from __future__ import annotations
 
@@ -58,14 +60,14 @@ def _elements(sol, regions) -> np.ndarray:
 # ------------------------------------------------------------------ fields
 def b_field(sol) -> np.ndarray:
     """B at the quadrature points, shape (2, n_elem, n_qp), T."""
-    g = _asm(sol).grad(sol.A)
-    return np.stack([g[1], -g[0]])
+    asm = _asm(sol)
+    return asm.b_at_qp(asm.grad(sol.A))
 
 
 def b_elements(sol) -> np.ndarray:
-    """Area-weighted element means of B, shape (2, n_elem), T."""
+    """Volume-weighted element means of B, shape (2, n_elem), T."""
     B = b_field(sol)
-    dx = _asm(sol).dx
+    dx = _asm(sol).wv
     return np.sum(B * dx, axis=2) / np.sum(dx, axis=1)
 
 
@@ -77,13 +79,13 @@ def h_field(sol) -> np.ndarray:
 
 
 def region_mean_b(sol, region, direction=None) -> float:
-    """Area-weighted mean of B . direction over a region (or list), T.
+    """Volume-weighted mean of B . direction over a region (or list), T.
 
     ``direction`` (2,) is normalised; None gives the mean of |B|.
     """
     idx = _elements(sol, region)
     B = b_field(sol)[:, idx]
-    dx = _asm(sol).dx[idx]
+    dx = _asm(sol).wv[idx]
     if direction is None:
         val = np.sqrt(B[0] ** 2 + B[1] ** 2)
     else:
@@ -97,10 +99,7 @@ def region_mean_b(sol, region, direction=None) -> float:
 
 
 def _qp_coords(sol) -> np.ndarray:
-    asm = _asm(sol)
-    if not hasattr(asm, "_qp_xy"):
-        asm._qp_xy = np.asarray(asm.basis.global_coordinates())  # (2, ne, nq)
-    return asm._qp_xy
+    return _asm(sol).xq  # (2, ne, nq)
 
 
 def peak_b(sol, regions) -> tuple[float, tuple[float, float]]:
@@ -252,8 +251,9 @@ def transfer(sol, mesh) -> np.ndarray:
 
 def sample_b(sol, points) -> np.ndarray:
     """B (T) at points, shape (2, n) -> (2, n)."""
-    _, g, _ = _locator(sol).evaluate(sol.A, _points(points))
-    return np.stack([g[1], -g[0]])
+    x = _points(points)
+    _, g, _ = _locator(sol).evaluate(sol.A, x)
+    return _asm(sol).formulation.b(g, x)
 
 
 @dataclass(frozen=True)
@@ -297,7 +297,8 @@ def path_mean_h(sol, polyline, exclude=(), n: int = 2000, closed: bool = False) 
     s = (np.arange(n) + 0.5) * cum[-1] / n
     x = np.vstack([np.interp(s, cum, P[0]), np.interp(s, cum, P[1])])
     _, g, tind = _locator(sol).evaluate(sol.A, x)
-    b2 = g[0] ** 2 + g[1] ** 2
+    bx = _asm(sol).formulation.b(g, x)
+    b2 = bx[0] ** 2 + bx[1] ** 2
     reg_ids = sol.mesh.element_region[tind]
     nu = np.empty(n)
     asm = _asm(sol)
@@ -314,13 +315,15 @@ def path_mean_h(sol, polyline, exclude=(), n: int = 2000, closed: bool = False) 
 
 # --------------------------------------------------------- global quantities
 def flux_across(sol, p0, p1) -> float:
-    """Flux (Wb) through the segment p0 -> p1: depth * (A(p1) - A(p0)).
+    """Flux (Wb) through the segment p0 -> p1: total * (A(p1) - A(p0)).
 
-    Positive along the normal n = (t_y, -t_x) (the segment's right-hand side),
-    since B . n = dA/dl for B = (dA/dy, -dA/dx).
+    Planar: depth * (A(p1) - A(p0)), positive along the normal n = (t_y,
+    -t_x) (the segment's right-hand side), since B . n = dA/dl.
+    Axisymmetric: 2 pi (u(p1) - u(p0)), the flux through the surface the
+    segment sweeps round the axis (2 pi u is the flux inside radius r).
     """
     a = sample_a(sol, np.array([p0, p1], dtype=float).T)
-    return float(sol.mesh.layout.depth * (a[1] - a[0]))
+    return float(_asm(sol).formulation.total * (a[1] - a[0]))
 
 
 def _mean_over(sol, vec, regions):
@@ -331,35 +334,36 @@ def _mean_over(sol, vec, regions):
 
 
 def flux_linkage(sol, turns: float, plus, minus) -> float:
-    """Flux linkage lambda = N depth (<A>_plus - <A>_minus) (Wb).
+    """Flux linkage lambda = N total (<A>_plus - <A>_minus) (Wb).
 
-    <A> is the area mean of A over the coil-side region(s) (Source: standard
-    planar formula, REFERENCES.md section 5).
+    <A> is the cross-section mean of the unknown over the coil-side
+    region(s).  Planar: N depth (<A>+ - <A>-) (standard planar formula,
+    REFERENCES.md section 5).  Axisymmetric: (N/S) int 2 pi u dS for a coil
+    of cross-section S (``minus`` may be empty).
     """
-    return float(turns * sol.mesh.layout.depth
-                 * (_mean_over(sol, sol.A, plus) - _mean_over(sol, sol.A, minus)))
+    minus_mean = _mean_over(sol, sol.A, minus) if _names(minus) else 0.0
+    return float(turns * _asm(sol).formulation.total
+                 * (_mean_over(sol, sol.A, plus) - minus_mean))
 
 
 def energy(sol) -> float:
-    """Stored energy W = depth * int w(|B|^2) dx, w = int_0^B H dB (J)."""
+    """Stored energy W = total * int w(|B|^2) dV, w = int_0^B H dB (J)."""
     asm = _asm(sol)
-    g = asm.grad(sol.A)
-    s = g[0] ** 2 + g[1] ** 2
-    return float(sol.mesh.layout.depth * np.sum(asm.energy_density(s) * asm.dx))
+    s = asm.s_of(asm.grad(sol.A))
+    return float(asm.formulation.total * np.sum(asm.energy_density(s) * asm.wv))
 
 
 def coenergy(sol) -> float:
-    """Co-energy W' = depth * int (int_0^H B dH) dx = depth * int (nu s - w) dx (J)."""
+    """Co-energy W' = total * int (int_0^H B dH) dV = total * int (nu s - w) dV (J)."""
     asm = _asm(sol)
-    g = asm.grad(sol.A)
-    s = g[0] ** 2 + g[1] ** 2
+    s = asm.s_of(asm.grad(sol.A))
     nu, _ = asm.coefficients(s, derivative=False)
-    return float(sol.mesh.layout.depth * np.sum((nu * s - asm.energy_density(s)) * asm.dx))
+    return float(asm.formulation.total * np.sum((nu * s - asm.energy_density(s)) * asm.wv))
 
 
 def source_work(sol) -> float:
-    """depth * int J A dx (J); equals W + W' at equilibrium with A = 0 on "outer"."""
-    return float(sol.mesh.layout.depth * (_asm(sol).b @ sol.A))
+    """total * int J A dV (J); equals W + W' at equilibrium with A = 0 on "outer"."""
+    return float(_asm(sol).formulation.total * (_asm(sol).b @ sol.A))
 
 
 def incremental_potential(sol, turns: float, plus, minus) -> np.ndarray:
@@ -376,6 +380,8 @@ def incremental_potential(sol, turns: float, plus, minus) -> np.ndarray:
         raise PostError("incremental_potential needs a converged solution")
     db_loc = np.zeros_like(asm.phi_int)
     for regs, sign in ((plus, 1.0), (minus, -1.0)):
+        if not _names(regs):
+            continue
         idx = _elements(sol, regs)
         area = float(np.sum(asm.dx[idx]))
         db_loc[:, idx] += sign * turns / area * asm.phi_int[:, idx]
@@ -385,7 +391,7 @@ def incremental_potential(sol, turns: float, plus, minus) -> np.ndarray:
     # BLAS inside the AMG setup made this one solve ~10x slower on 2 cores.
     with threadpool_limits(limits=1):
         g = asm.grad(sol.A)
-        nu, dnu = asm.coefficients(g[0] ** 2 + g[1] ** 2)
+        nu, dnu = asm.coefficients(asm.s_of(g))
         K = asm.tangent(g, nu, None if asm.linear else dnu)
         solve_k = sol.linear_solver(K)
         if isinstance(solve_k, IterativeSolve):
@@ -400,10 +406,10 @@ def incremental_potential(sol, turns: float, plus, minus) -> np.ndarray:
 def incremental_flux_linkage(sol, turns: float, plus, minus, dA: np.ndarray | None = None) -> float:
     """Incremental inductance d lambda / dI (H) by one tangent solve.
 
-    d lambda/dI = N depth (<dA/dI>_plus - <dA/dI>_minus), with dA/dI from
+    d lambda/dI = N total (<dA/dI>_plus - <dA/dI>_minus), with dA/dI from
     :func:`incremental_potential` (pass ``dA`` if it is already computed).
     """
     if dA is None:
         dA = incremental_potential(sol, turns, plus, minus)
-    return float(turns * sol.mesh.layout.depth
-                 * (_mean_over(sol, dA, plus) - _mean_over(sol, dA, minus)))
+    minus_mean = _mean_over(sol, dA, minus) if _names(minus) else 0.0
+    return float(turns * _asm(sol).formulation.total * (_mean_over(sol, dA, plus) - minus_mean))

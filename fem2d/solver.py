@@ -112,7 +112,7 @@ def _line_search(asm, A, g, W, r, dA, c, exact=True):
     Returns (ok, alpha, A_new, grad A_new, W_new).
     """
     I = asm.I
-    dx = asm.dx
+    wv, wk = asm.wv, asm.wk
     slope = float(r @ dA)  # phi'(0) < 0 for a descent direction
     dAf = np.zeros_like(A)
     dAf[I] = dA
@@ -121,13 +121,13 @@ def _line_search(asm, A, g, W, r, dA, c, exact=True):
 
     def state(a):
         ga = g + a * gd
-        s = ga[0] ** 2 + ga[1] ** 2
-        Wa = float(np.sum(asm.energy_density(s) * dx)) - bA - a * bd
+        s = asm.s_of(ga)
+        Wa = float(np.sum(asm.energy_density(s) * wv)) - bA - a * bd
         return ga, s, Wa
 
     def dphi(ga, s):
         nu, _ = asm.coefficients(s, derivative=False)
-        d = float(np.sum(nu * (ga[0] * gd[0] + ga[1] * gd[1]) * dx)) - bd
+        d = float(np.sum(nu * (ga[0] * gd[0] + ga[1] * gd[1]) * wk)) - bd
         return d if np.isfinite(d) else np.inf
 
     def result(a, ga, Wa):
@@ -200,7 +200,7 @@ def _line_search(asm, A, g, W, r, dA, c, exact=True):
 
 
 def _residual_norm(asm, g) -> float:
-    nu, _ = asm.coefficients(g[0] ** 2 + g[1] ** 2, derivative=False)
+    nu, _ = asm.coefficients(asm.s_of(g), derivative=False)
     return float(np.linalg.norm(asm.residual(g, nu)[asm.I]))
 
 
@@ -219,7 +219,7 @@ def _resolve_currents(rmesh: RegionMesh, currents: dict | None) -> dict:
 def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, tol: float = 1e-8,
           max_iter: int = 50, A0: np.ndarray | None = None, linear_solver=None,
           boundary_potential: Callable | None = None, check: bool = True,
-          armijo: float = 1e-4) -> FieldSolution:
+          armijo: float = 1e-4, formulation=None) -> FieldSolution:
     """Solve the nonlinear planar magnetostatic problem by damped Newton.
 
     Parameters
@@ -246,6 +246,9 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
         returns the result with ``converged=False``.
     armijo : float
         Sufficient-decrease constant c in W(A + a dA) <= W(A) + c a r.dA.
+    formulation : fem2d.formulation.Planar or Axisymmetric, optional
+        Default: axisymmetric for an "rz-box" air domain, else planar with
+        the layout's depth (fem2d.formulation.formulation_for).
 
     Returns
     -------
@@ -258,7 +261,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
         raise SolverInputError(f"max_iter = {max_iter!r} must be an int >= 1")
     factory = get_linear_solver(linear_solver)
     cur = _resolve_currents(mesh, currents)
-    asm = Assembler(mesh, materials, cur)
+    asm = Assembler(mesh, materials, cur, formulation)
     t_setup = time.perf_counter() - t_start
     I, D = asm.I, asm.D
     A = np.zeros(asm.ndofs)
@@ -281,7 +284,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
         Az = A.copy()
         Az[I] = 0.0
         gz = asm.grad(Az)
-        nuz, _ = asm.coefficients(gz[0] ** 2 + gz[1] ** 2, derivative=False)
+        nuz, _ = asm.coefficients(asm.s_of(gz), derivative=False)
         ref = max(float(np.linalg.norm(asm.b[I])), float(np.linalg.norm(asm.residual(gz, nuz)[I])))
         if ref == 0.0:
             ref = 1.0
@@ -289,7 +292,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
         W = asm.energy(g, A)
         while True:
             ta = time.perf_counter()
-            s = g[0] ** 2 + g[1] ** 2
+            s = asm.s_of(g)
             nu, dnu = asm.coefficients(s)
             r = asm.residual(g, nu)[I]
             t_asm += time.perf_counter() - ta

@@ -1,0 +1,50 @@
+"""``magcheck selftest [--quick] [--json FILE]``: the engine's verification suite.
+
+Runs fem2d.verification's exact-solution cases and prints one row per case:
+name, formulation, quantity, FE value, reference, relative error,
+tolerance, source, pass.  Exit 0 when every case passes, 1 otherwise.
+JSON: {"cases": [{"name", "formulation", "quantity", "fe", "reference",
+"rel_error", "tolerance", "source", "passed"}], "seconds", "passed"}.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import time
+
+from ..output import CAUTION, render_table, write_json
+
+
+def add_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--quick", action="store_true",
+                   help="the quick meshes (seconds); without it finer meshes too")
+    p.add_argument("--json", metavar="FILE", help="write the results as JSON (- for standard output)")
+
+
+def run(args: argparse.Namespace) -> int:
+    from fem2d.verification import run_cases
+
+    t0 = time.perf_counter()
+    results = run_cases(quick=args.quick)
+    seconds = time.perf_counter() - t0
+    rows = [[r.name.split(":")[0], r.formulation, r.quantity, f"{r.fe:.6g}", f"{r.reference:.6g}",
+             f"{r.rel_error:.1e}", f"{r.tolerance:.0e}", "pass" if r.passed else "FAIL"]
+            for r in results]
+    notes = [f"{r.name.split(':')[0]}: {r.name.split(':', 1)[1].strip()}. Reference: {r.source}."
+             for r in results]
+    notes.append(f"{len(results)} cases ({'quick' if args.quick else 'full'} meshes) in "
+                 f"{seconds:.1f} s.")
+    out = sys.stdout if args.json != "-" else sys.stderr
+    render_table("magcheck selftest: the field engine against exact solutions",
+                 ["case", "formulation", "quantity", "FE", "reference", "rel. error",
+                  "tolerance", "verdict"], rows, out, notes=notes)
+    passed = all(r.passed for r in results)
+    out.write(("PASS: every case within its tolerance" if passed
+               else "FAIL: a case is outside its tolerance") + "\n")
+    out.write(CAUTION + "\n")
+    if args.json:
+        write_json(args.json, {"cases": [{k: v for k, v in r.to_dict().items() if k != "seconds"}
+                                         for r in results],
+                               "seconds": seconds, "passed": passed})
+    return 0 if passed else 1
