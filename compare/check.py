@@ -121,7 +121,7 @@ def _diff_pct(hand: float, fe: float) -> float:
     return 100.0 * (hand - fe) / fe
 
 
-def depth_corrections(hand_p: HandResult, hand_3d: HandResult) -> dict[str, float]:
+def depth_corrections(hand_p: HandResult | dict, hand_3d: HandResult | dict) -> dict[str, float]:
     """Per quantity, the factor taking a planar FE value to its 3D estimate
     (the "FE 3D" column): the hand network's own 3D / planar ratio.
 
@@ -136,7 +136,8 @@ def depth_corrections(hand_p: HandResult, hand_3d: HandResult) -> dict[str, floa
     of the gap) is left as it is.  At zero current, where those quantities
     are zero, the secant-inductance ratio (the small-signal one) serves.
     """
-    hp, h3 = hand_p.values(), hand_3d.values()
+    hp = hand_p if isinstance(hand_p, dict) else hand_p.values()
+    h3 = hand_3d if isinstance(hand_3d, dict) else hand_3d.values()
     base = h3["inductance"] / hp["inductance"] if hp["inductance"] else 1.0
     out = {}
     for k in HAND_KEYS:
@@ -170,9 +171,8 @@ The secant inductance there is its small-signal limit, the incremental
 inductance at zero current, in both models."""
 
 
-def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult,
-               k_depth: float | None = None) -> tuple[Row, ...]:
-    """The comparison rows (``k_depth`` is unused, kept for callers)."""
+def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult) -> tuple[Row, ...]:
+    """The comparison rows."""
     rows = []
     k3 = depth_corrections(hand_p, hand_3d)
     zero = case.winding.current == 0.0
@@ -191,11 +191,11 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
     rows.append(Row("peak_B", LABELS["peak_B"], "T", math.nan, peak,
                     fe.uncertainty.get("peak_B", math.nan), math.nan, None, verdict,
                     fe_3d=peak, limit_value=limit, margin_pct=margin))
-    rows.extend(margin_rows(case, fe, k_depth))
+    rows.extend(margin_rows(case, fe))
     return tuple(rows)
 
 
-def margin_rows(case: Case, fe: FEResult, k_depth: float | None = None) -> list[Row]:
+def margin_rows(case: Case, fe: FEResult) -> list[Row]:
     """Rows for the design margins other than peak B (see compare.margins).
 
     Inductance at a stated current is judged on the FE value with the
@@ -349,7 +349,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
     fe = run_fe_checked(case, estimate_error=estimate_error)
     t2 = time.perf_counter()
     k_depth = depth_factor(case)
-    rows = build_rows(case, hand_p, hand_3d, fe, k_depth)
+    rows = build_rows(case, hand_p, hand_3d, fe)
     notes = explain(case, rows, hand_p, fe)
     full_ranking = rank_fringing(case, fe)
     ranking = full_ranking if all_fringing else ()

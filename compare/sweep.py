@@ -453,8 +453,9 @@ def curve_saturation(points: list[PointResult], drops: Sequence[float], kind: st
 def _fe_3d(p: PointResult, key: str) -> float:
     """The point's depth correction of ``key`` (compare.check.depth_corrections):
     hand 3D over hand planar."""
-    h, hp = p.hand.get(key, math.nan), p.hand_planar.get(key, math.nan)
-    return h / hp if hp and math.isfinite(hp) and math.isfinite(h) else p.depth_factor
+    from .check import depth_corrections
+
+    return depth_corrections(p.hand_planar, p.hand)[key]
 
 
 def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "incremental"
