@@ -1,4 +1,4 @@
-"""Fast assembly of the planar A_z problem into a fixed sparsity pattern.
+"""Fast assembly of the magnetostatic problem into a fixed sparsity pattern.
 
 Local element matrices come from one batched matrix product of basis
 gradients weighted at the quadrature points; they are scattered into the
@@ -10,6 +10,12 @@ residual    r_i(A) = int nu(|grad A|^2) grad A . grad phi_i dx - int J phi_i dx
 tangent     K_ij   = int grad phi_i . (nu I + 2 dnu/ds grad A grad A^T) grad phi_j dx
 (Egger, Engertsberger, Radu, arXiv 2403.18520, the Newton linearisation of
 the energy W(A) = int w(|grad A|^2) dx - int J A dx, w(s) = 1/2 int_0^s nu).
+The axisymmetric form differs only in the weights (fem2d.formulation).
+
+Magnets (linear recoil, H = nu (B - B_r)) add the constant load
+int nu B_r . B(phi_i) dV to J's, so the energy stays convex with the same
+Newton tangent.  The open exterior (fem2d.exterior) adds a constant matrix
+on the ring's elements: its residual K A, its energy (1/2) A.K A.
 """
 from __future__ import annotations
 
@@ -17,7 +23,8 @@ import numpy as np
 import scipy.sparse as sp
 from skfem import Basis, ElementTriP1, ElementTriP2
 
-from .materials import AIR, MaterialError, energy_density
+from .errors import SolverInputError
+from .materials import AIR, LinearReluctivity, MaterialError, energy_density
 from .mesh import RegionMesh
 
 __all__ = ["Assembler"]
@@ -34,12 +41,16 @@ class Assembler:
     rmesh : RegionMesh
     materials : dict[str, Reluctivity]
         Law per material name; "air" defaults to :data:`~fem2d.materials.AIR`.
-    currents : dict[str, float]
-        Total current per region name, A.
+    currents : dict[str, float], optional
+        Total current per region name, A (ampere-turns): sets the load
+        :attr:`b` (solve sets it from its coils with :meth:`set_load`).
+    formulation : Planar or Axisymmetric, optional
+    magnets : tuple of fem2d.sources.Magnet
+        Their regions take the recoil law; their load is :attr:`b_magnets`.
     """
 
-    def __init__(self, rmesh: RegionMesh, materials: dict, currents: dict,
-                 formulation=None):
+    def __init__(self, rmesh: RegionMesh, materials: dict, currents: dict | None = None,
+                 formulation=None, magnets: tuple = ()):
         from .formulation import formulation_for
 
         self.rmesh = rmesh
@@ -87,10 +98,19 @@ class Assembler:
         self.areas = areas
         lay = rmesh.layout
         mat_of_region = {"air": "air"}
+        if "exterior" in rmesh.subdomains:
+            mat_of_region["exterior"] = "air"
         for r in lay.regions:
             mat_of_region[r.name] = r.material
         self.materials = dict(materials)
         self.materials.setdefault("air", AIR)
+        for m in magnets:
+            if m.region not in rmesh.subdomains or m.region in ("air", "exterior"):
+                raise SolverInputError(f"magnet {m.region!r}: no such region "
+                                       f"(have {[r.name for r in lay.regions]})")
+            key = f"magnet:{m.region}"
+            mat_of_region[m.region] = key
+            self.materials[key] = LinearReluctivity(m.mu_r)
         laws, groups = [], []
         for mname in dict.fromkeys(mat_of_region.values()):
             if mname not in self.materials:
@@ -102,15 +122,42 @@ class Assembler:
             groups.append(np.sort(idx))
         self.laws, self.groups = laws, groups
         self.linear = all(self._is_linear(law) for law in laws)
-        # current density per element, A/m^2
-        self.currents = dict(currents)
-        Je = np.zeros(ne)
-        for name, cur in self.currents.items():
-            if cur != 0.0:
-                Je[rmesh.subdomains[name]] = cur / areas[name]
-        self.Je = Je
-        b = np.bincount(self.dofs.ravel(), weights=(self.phi_int * Je).ravel(), minlength=self.ndofs)
-        self.b = b
+        # magnets: remanence at the quadrature points and their constant load
+        self.magnets = tuple(magnets)
+        self.br = np.zeros((2, ne, nq))
+        b_mag = np.zeros(self.ndofs)
+        for m in self.magnets:
+            idx = rmesh.subdomains[m.region]
+            self.br[0, idx] = m.remanence[0]
+            self.br[1, idx] = m.remanence[1]
+            nu_m = float(self.materials[f"magnet:{m.region}"].nu(np.zeros(1))[0])
+            xq = self.xq[:, idx]
+            br = self.br[:, idx]
+            loc = np.empty((nloc, len(idx)))
+            for i in range(nloc):
+                Bi = form.b(np.stack([G[idx, i, 0, :], G[idx, i, 1, :]]), xq)
+                loc[i] = np.sum(nu_m * (br[0] * Bi[0] + br[1] * Bi[1]) * self.wv[idx], axis=1)
+            b_mag += np.bincount(self.dofs[:, idx].ravel(), weights=loc.ravel(),
+                                 minlength=self.ndofs)
+        self.b_magnets = b_mag
+        # the open exterior's constant element matrices (fem2d.exterior)
+        self.ext = None
+        if "exterior" in rmesh.subdomains:
+            from .exterior import ring_tensor
+
+            idx = rmesh.subdomains["exterior"]
+            cx, cy, half = lay.air_geometry()
+            T = ring_tensor(self.xq[:, idx], (cx, cy), half, 2.0 * half,
+                            form.name == "axisymmetric")  # (2, 2, n, nq)
+            Gx = G[idx]  # (n, nloc, 2, nq)
+            Ke = np.einsum("eiaq,abeq,ejbq,eq->eij", Gx, T, Gx, self.dx[idx])
+            self.ext = (idx, Ke)
+            # the ring's ordinary weights are zero: its matrix is Ke
+            self.wk = self.wk.copy()
+            self.wv = self.wv.copy()
+            self.wk[idx] = 0.0
+            self.wv[idx] = 0.0
+        self.set_load(self.region_load(currents or {}))
         # Dirichlet ("outer") and interior DOFs; reduced numbering
         self.D = basis.get_dofs(rmesh.boundaries["outer"]).all()
         mask = np.ones(self.ndofs, dtype=bool)
@@ -134,6 +181,46 @@ class Assembler:
         self.indices = (ukeys % nI).astype(np.int32)
         self.indptr = np.searchsorted(urows, np.arange(nI + 1)).astype(np.int32)
         self.nI = nI
+
+    # -------------------------------------------------------------- loads
+    def region_load(self, ampere_turns: dict) -> np.ndarray:
+        """Load vector int J phi_i dx of total currents (A) per region name."""
+        Je = np.zeros(self.ne)
+        for name, cur in ampere_turns.items():
+            if cur != 0.0:
+                if name not in self.rmesh.subdomains:
+                    raise SolverInputError(f"currents: region {name!r} not in the mesh")
+                Je[self.rmesh.subdomains[name]] += cur / self.areas[name]
+        return np.bincount(self.dofs.ravel(), weights=(self.phi_int * Je).ravel(),
+                           minlength=self.ndofs)
+
+    def coil_load(self, coil) -> np.ndarray:
+        """Load vector of a :class:`fem2d.sources.Coil` at 1 A (per turn)."""
+        for r, _ in coil.regions:
+            if r not in self.rmesh.subdomains or r in ("air", "exterior"):
+                raise SolverInputError(f"coil {coil.name!r}: region {r!r} not in the layout")
+        return self.region_load({r: s * coil.turns for r, s in coil.regions})
+
+    def set_load(self, b_coils: np.ndarray) -> None:
+        """Set the total load b = coils' + magnets' (full DOF vector)."""
+        self.b_coils = b_coils
+        self.b = b_coils + self.b_magnets
+
+    # ------------------------------------------------------------ exterior
+    def ext_quadratic(self, A: np.ndarray, dA: np.ndarray) -> tuple[float, float, float]:
+        """Exterior energy E(A + a dA) = e0 + a e1 + a^2 e2: returns (e0, e1, e2)."""
+        if self.ext is None:
+            return 0.0, 0.0, 0.0
+        idx, Ke = self.ext
+        Ae = A[self.dofs[:, idx]]
+        de = dA[self.dofs[:, idx]]
+        KA = np.einsum("eij,je->ie", Ke, Ae)
+        Kd = np.einsum("eij,je->ie", Ke, de)
+        return (0.5 * float(np.sum(Ae * KA)), float(np.sum(de * KA)), 0.5 * float(np.sum(de * Kd)))
+
+    def ext_energy(self, A: np.ndarray) -> float:
+        """Field energy of the mapped exterior, (1/2) A.K A (per metre or per radian)."""
+        return self.ext_quadratic(A, A)[0]
 
     @staticmethod
     def _is_linear(law) -> bool:
@@ -175,10 +262,18 @@ class Assembler:
         return w
 
     # ---------------------------------------------------------------- assembly
-    def residual(self, g: np.ndarray, nu: np.ndarray) -> np.ndarray:
-        """Full residual vector r = F_int(A) - b, shape (ndofs,), A (per metre)."""
+    def residual(self, g: np.ndarray, nu: np.ndarray, A: np.ndarray | None = None) -> np.ndarray:
+        """Full residual vector r = F_int(A) - b, shape (ndofs,), A (per metre).
+
+        ``g`` is grad A at the quadrature points; ``A`` itself is needed
+        only for the open exterior's matrix."""
         c = nu * self.wk
         fl = np.einsum("eiaq,aeq->ie", self.G, g * c[None])
+        if self.ext is not None:
+            idx, Ke = self.ext
+            if A is None:
+                raise ValueError("residual: A is needed with the open exterior")
+            fl[:, idx] += np.einsum("eij,je->ie", Ke, A[self.dofs[:, idx]])
         return np.bincount(self.dofs.ravel(), weights=fl.ravel(), minlength=self.ndofs) - self.b
 
     def tangent(self, g: np.ndarray, nu: np.ndarray, dnu: np.ndarray | None) -> sp.csr_matrix:
@@ -206,9 +301,12 @@ class Assembler:
             W[:, nq:2 * nq] = c
             W[:, 2 * nq:] = 2.0 * dnu * (self.wk if self.f2 is None else self.wk * self.f2)
         Ke = np.matmul(X * W[:, None, :], X.transpose(0, 2, 1))  # (ne, nloc, nloc)
+        if self.ext is not None:
+            Ke[self.ext[0]] += self.ext[1]
         data = np.bincount(self.scatter, weights=Ke.ravel()[self.keep], minlength=self.nnz)
         return sp.csr_matrix((data, self.indices, self.indptr), shape=(self.nI, self.nI))
 
     def energy(self, g: np.ndarray, A: np.ndarray) -> float:
         """W(A) = int w(|B|^2) (volume weight) dx - int J A dx (per metre, or per radian)."""
-        return float(np.sum(self.energy_density(self.s_of(g)) * self.wv) - self.b @ A)
+        return float(np.sum(self.energy_density(self.s_of(g)) * self.wv) - self.b @ A
+                     + self.ext_energy(A))

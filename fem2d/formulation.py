@@ -79,8 +79,9 @@ class Axisymmetric:
 
     def check(self, layout: Layout) -> None:
         """The axis must bound the domain and every region must lie in r >= 0."""
-        if layout.air.shape != "rz-box":
+        if not layout.air.axisymmetric:
             raise LayoutError(f"axisymmetric: air shape = {layout.air.shape!r} must be 'rz-box' "
+                              "or 'rz-disk' "
                               "(the domain r >= 0 with the axis as its boundary)")
         for r in layout.regions:
             x0 = r.bbox()[0]
@@ -100,6 +101,6 @@ class Axisymmetric:
 
 
 def formulation_for(layout: Layout):
-    """The formulation a layout implies: axisymmetric for an "rz-box" air
-    domain, planar with the layout's depth otherwise."""
-    return Axisymmetric() if layout.air.shape == "rz-box" else Planar(layout.depth)
+    """The formulation a layout implies: axisymmetric for an "rz-box" or
+    "rz-disk" air domain, planar with the layout's depth otherwise."""
+    return Axisymmetric() if layout.air.axisymmetric else Planar(layout.depth)

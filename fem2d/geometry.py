@@ -24,7 +24,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .layout import Annulus, Disk, Layout, LayoutError, Polygon, Rect
+from .layout import Annulus, Disk, HalfDisk, Layout, LayoutError, Polygon, Rect
 
 __all__ = ["GmshArrays", "mesh_layout", "meshing_in_progress", "estimate_triangles",
            "TRIANGLE_ESTIMATE_RATIO"]
@@ -70,6 +70,11 @@ def _add_shape(occ, s) -> list[tuple[int, int]]:
         return [(2, occ.addRectangle(s.x0, s.y0, 0.0, s.x1 - s.x0, s.y1 - s.y0))]
     if isinstance(s, Disk):
         return [(2, occ.addDisk(s.cx, s.cy, 0.0, s.r, s.r))]
+    if isinstance(s, HalfDisk):
+        disk = occ.addDisk(s.cx, s.cy, 0.0, s.r, s.r)
+        keep = occ.addRectangle(s.cx, s.cy - s.r, 0.0, s.r, 2 * s.r)
+        out, _ = occ.intersect([(2, disk)], [(2, keep)], removeObject=True, removeTool=True)
+        return list(out)
     if isinstance(s, Annulus):
         outer = occ.addDisk(s.cx, s.cy, 0.0, s.r_out, s.r_out)
         inner = occ.addDisk(s.cx, s.cy, 0.0, s.r_in, s.r_in)
@@ -125,7 +130,8 @@ def _size_fields(gmsh, layout: Layout, owner_surfs: dict[int, list[int]]) -> Non
     ms = layout.mesh
     h = layout.core_size()
     h_air = h * ms.air_size_factor
-    region_surfs = [t for i, ts in owner_surfs.items() if i > 0 for t in ts]
+    nreg = len(layout.regions)
+    region_surfs = [t for i, ts in owner_surfs.items() if 0 < i <= nreg for t in ts]
     ids = [
         # constant size inside every region
         _constant_field(gmsh, region_surfs, h, h_air),
@@ -177,7 +183,10 @@ def estimate_triangles(layout: Layout) -> int:
     n = region_area / (c * h * h)
     n += outline / (c * ms.grading) * (1.0 / h - 1.0 / h_air)
     _, _, half = layout.air_geometry()
-    air_area = {"box": 4.0, "disk": math.pi, "rz-box": 2.0}[layout.air.shape] * half * half
+    air_area = {"box": 4.0, "disk": math.pi, "rz-box": 2.0,
+                "rz-disk": 0.5 * math.pi}[layout.air.shape] * half * half
+    if layout.air.open:
+        air_area *= 4.0  # the exterior ring, R to 2R
     band = (h_air - h) / ms.grading
     free_air = max(0.0, air_area - (x1 - x0 + 2 * band) * (y1 - y0 + 2 * band))
     n += free_air / (c * h_air * h_air)
@@ -201,19 +210,42 @@ def _build(gmsh, layout: Layout) -> GmshArrays:
     gmsh.model.add("layout")
     occ = gmsh.model.occ
     cx, cy, half = layout.air_geometry()
-    if layout.air.shape == "rz-box":
+    shape = layout.air.shape
+
+    def half_disk(radius: float) -> list[tuple[int, int]]:
+        disk = occ.addDisk(0.0, cy, 0.0, radius, radius)
+        keep = occ.addRectangle(0.0, cy - radius, 0.0, radius, 2 * radius)
+        out, _ = occ.intersect([(2, disk)], [(2, keep)], removeObject=True, removeTool=True)
+        return list(out)
+
+    if shape == "rz-box":
         air = [(2, occ.addRectangle(0.0, cy - half, 0.0, half, 2 * half))]
-    elif layout.air.shape == "box":
+    elif shape == "rz-disk":
+        air = half_disk(half)
+    elif shape == "box":
         air = [(2, occ.addRectangle(cx - half, cy - half, 0.0, 2 * half, 2 * half))]
     else:
         air = [(2, occ.addDisk(cx, cy, 0.0, half, half))]
     inputs: list[list[tuple[int, int]]] = [air]  # input index 0 = air
-    owner_of_input: list[int] = [0]
+    owner_of_input: list[int] = [0] * len(air)
     for i, r in enumerate(layout.regions, start=1):
         for s in r.shapes:
             tags = _add_shape(occ, s)
             inputs.append(tags)
             owner_of_input.extend([i] * len(tags))
+    names = ("air",) + tuple(r.name for r in layout.regions)
+    if layout.air.open:
+        # the ring R..2R onto which the exterior is mapped (fem2d.exterior)
+        if shape == "rz-disk":
+            big = half_disk(2 * half)
+            inner = half_disk(half)
+        else:
+            big = [(2, occ.addDisk(cx, cy, 0.0, 2 * half, 2 * half))]
+            inner = [(2, occ.addDisk(cx, cy, 0.0, half, half))]
+        ring, _ = occ.cut(big, inner, removeObject=True, removeTool=True)
+        inputs.append(list(ring))
+        owner_of_input.extend([len(names)] * len(ring))
+        names = names + ("exterior",)
     flat = [dt for group in inputs for dt in group]
     out, out_map = occ.fragment(flat[:1], flat[1:])
     occ.synchronize()
@@ -226,7 +258,6 @@ def _build(gmsh, layout: Layout) -> GmshArrays:
     owner_surfs: dict[int, list[int]] = {}
     for tag, i in owner.items():
         owner_surfs.setdefault(i, []).append(tag)
-    names = ("air",) + tuple(r.name for r in layout.regions)
     for i, name in enumerate(names):
         if i not in owner_surfs:
             if i == 0:

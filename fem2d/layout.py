@@ -18,6 +18,7 @@ __all__ = [
     "LayoutError",
     "Rect",
     "Disk",
+    "HalfDisk",
     "Annulus",
     "Polygon",
     "Shape",
@@ -28,11 +29,10 @@ __all__ = [
     "RESERVED_NAMES",
 ]
 
-RESERVED_NAMES = ("air", "outer")
+RESERVED_NAMES = ("air", "outer", "exterior")
 
 
-class LayoutError(ValueError):
-    """Invalid layout input; the message names the offending region/key and value."""
+from .errors import LayoutError  # noqa: E402  (re-exported)
 
 
 def _finite(where: str, key: str, value: float) -> float:
@@ -112,6 +112,35 @@ class Disk:
 
 
 @dataclass(frozen=True)
+class HalfDisk:
+    """The half x >= cx of the disk of centre (cx, cy) and radius r, m.
+
+    On the axis (cx = 0) of an r-z layout it is the meridian section of a
+    sphere."""
+
+    cx: float
+    cy: float
+    r: float
+
+    def check(self, where: str) -> None:
+        _finite(where, "HalfDisk.cx", self.cx)
+        _finite(where, "HalfDisk.cy", self.cy)
+        _positive(where, "HalfDisk.r", self.r)
+
+    def bbox(self) -> tuple[float, float, float, float]:
+        return (self.cx, self.cy - self.r, self.cx + self.r, self.cy + self.r)
+
+    def feature(self) -> float:
+        return self.r
+
+    def extreme_points(self) -> list[tuple[float, float, float]]:
+        return [(self.cx, self.cy, self.r)]
+
+    def area(self) -> float:
+        return 0.5 * math.pi * self.r**2
+
+
+@dataclass(frozen=True)
 class Annulus:
     """Ring of centre (cx, cy) between radii r_in < r_out, m."""
 
@@ -183,8 +212,8 @@ class Polygon:
         return abs(0.5 * s)
 
 
-Shape = Union[Rect, Disk, Annulus, Polygon]
-_SHAPES = (Rect, Disk, Annulus, Polygon)
+Shape = Union[Rect, Disk, HalfDisk, Annulus, Polygon]
+_SHAPES = (Rect, Disk, HalfDisk, Annulus, Polygon)
 
 
 @dataclass(frozen=True)
@@ -228,7 +257,7 @@ class Region:
         object.__setattr__(self, "shapes", tuple(shapes))
         for s in self.shapes:
             if not isinstance(s, _SHAPES):
-                raise LayoutError(f"{where}: shape {s!r} is not a Rect, Disk, Annulus or Polygon")
+                raise LayoutError(f"{where}: shape {s!r} is not a Rect, Disk, HalfDisk, Annulus or Polygon")
             s.check(where)
         if not isinstance(self.material, str) or not self.material:
             raise LayoutError(f"{where}: material = {self.material!r} must be a non-empty string")
@@ -255,18 +284,39 @@ class AirBox:
     centred on that bounding box.  ``shape`` "rz-box" is the axisymmetric
     domain: r from 0 (the axis) to half the side, z over the side, centred
     on the regions' z range; the extent counts the regions' full diameter.
+    ``shape`` "rz-disk" is the axisymmetric half-disk of that radius centred
+    on the axis at the middle of the regions' z range.
+
+    ``open`` (for "disk" and "rz-disk"): the exterior of the disk is not cut
+    off but mapped onto a ring of elements from the disk's radius R to 2R
+    (region "exterior"; fem2d.exterior, the shell transformation), so the
+    field decays as in unbounded space; otherwise the potential is zero on
+    the domain's boundary (a flux-tight box: shielded parts, imposed
+    external fields).
     """
 
     shape: str = "box"
     factor: float = 3.0
     size: float | None = None
+    open: bool = False
 
     def __post_init__(self) -> None:
-        if self.shape not in ("box", "disk", "rz-box"):
-            raise LayoutError(f"air: shape = {self.shape!r} must be 'box', 'disk' or 'rz-box'")
+        if self.shape not in ("box", "disk", "rz-box", "rz-disk"):
+            raise LayoutError(f"air: shape = {self.shape!r} must be 'box', 'disk', 'rz-box' "
+                              "or 'rz-disk'")
         _positive("air", "factor", self.factor)
         if self.size is not None:
             _positive("air", "size", self.size)
+        if not isinstance(self.open, bool):
+            raise LayoutError(f"air: open = {self.open!r} must be true or false")
+        if self.open and self.shape not in ("disk", "rz-disk"):
+            raise LayoutError(f"air: open = True needs shape 'disk' or 'rz-disk', got "
+                              f"{self.shape!r} (the exterior map is radial)")
+
+    @property
+    def axisymmetric(self) -> bool:
+        """True for the r-z domains ("rz-box", "rz-disk")."""
+        return self.shape.startswith("rz-")
 
 
 @dataclass(frozen=True)
@@ -339,7 +389,7 @@ class Layout:
         # every region must lie inside the air domain
         cx, cy, half = self.air_geometry()
         for r in regions:
-            if self.air.shape == "rz-box" and r.bbox()[0] < 0.0:
+            if self.air.axisymmetric and r.bbox()[0] < 0.0:
                 raise LayoutError(f"region {r.name!r}: reaches r = {r.bbox()[0]!r} m < 0 "
                                   "(axisymmetric domain r >= 0)")
             for s in r.shapes:
@@ -347,6 +397,8 @@ class Layout:
                     if self.air.shape == "rz-box":
                         out = (x + rad > half * (1 + 1e-12)
                                or abs(y - cy) + rad > half * (1 + 1e-12))
+                    elif self.air.shape == "rz-disk":
+                        out = math.hypot(x, y - cy) + rad > half * (1 + 1e-12)
                     elif self.air.shape == "box":
                         out = (abs(x - cx) + rad > half * (1 + 1e-12)
                                or abs(y - cy) + rad > half * (1 + 1e-12))
@@ -367,7 +419,7 @@ class Layout:
         """Centre (cx, cy) and half-side (or radius) of the air domain, m."""
         x0, y0, x1, y1 = self.bbox()
         cx, cy = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
-        if self.air.shape == "rz-box":  # r in [0, half], z in [cy - half, cy + half]
+        if self.air.axisymmetric:  # r in [0, half], z in [cy - half, cy + half]
             size = self.air.size if self.air.size is not None else \
                 self.air.factor * max(2.0 * x1, y1 - y0)
             return 0.0, cy, 0.5 * size

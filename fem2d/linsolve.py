@@ -28,8 +28,7 @@ logger = logging.getLogger(__name__)
 Factory = Callable[[sp.csr_matrix], Callable[[np.ndarray], np.ndarray]]
 
 
-class LinearSolverError(ValueError):
-    """Unknown solver name or a failed linear solve."""
+from .errors import LinearSolverError  # noqa: E402  (re-exported)
 
 
 def superlu(K: sp.csr_matrix):

@@ -30,8 +30,7 @@ _GL_X = 0.5 * (_GL_X + 1.0)
 _GL_W = 0.5 * _GL_W
 
 
-class MaterialError(ValueError):
-    """Invalid material parameters or a missing material; names the key and value."""
+from .errors import MaterialError  # noqa: E402  (re-exported)
 
 
 @runtime_checkable

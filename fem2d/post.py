@@ -22,6 +22,7 @@ __all__ = [
     "b_elements",
     "h_field",
     "region_mean_b",
+    "region_mean_h",
     "peak_b",
     "sample_a",
     "sample_b",
@@ -35,11 +36,13 @@ __all__ = [
     "source_work",
     "incremental_flux_linkage",
     "incremental_potential",
+    "coil_flux_linkage",
+    "InductanceMatrix",
+    "inductance_matrix",
 ]
 
 
-class PostError(ValueError):
-    """Bad post-processing input (point outside the mesh, unknown region, ...)."""
+from .errors import PostError  # noqa: E402  (re-exported)
 
 
 def _asm(sol):
@@ -72,10 +75,12 @@ def b_elements(sol) -> np.ndarray:
 
 
 def h_field(sol) -> np.ndarray:
-    """H = nu(|B|^2) B at the quadrature points, shape (2, n_elem, n_qp), A/m."""
+    """H = nu(|B|^2) B (in a magnet nu (B - B_r)) at the quadrature points,
+    shape (2, n_elem, n_qp), A/m."""
     B = b_field(sol)
-    nu, _ = _asm(sol).coefficients(B[0] ** 2 + B[1] ** 2, derivative=False)
-    return nu * B
+    asm = _asm(sol)
+    nu, _ = asm.coefficients(B[0] ** 2 + B[1] ** 2, derivative=False)
+    return nu * (B - asm.br)  # br: the magnets' remanence (0 elsewhere)
 
 
 def region_mean_b(sol, region, direction=None) -> float:
@@ -96,6 +101,20 @@ def region_mean_b(sol, region, direction=None) -> float:
         d = d / n
         val = d[0] * B[0] + d[1] * B[1]
     return float(np.sum(val * dx) / np.sum(dx))
+
+
+def region_mean_h(sol, region, direction) -> float:
+    """Volume-weighted mean of H . direction over a region (or list), A/m
+    (in a magnet H = nu (B - B_r): its operating point with :func:`region_mean_b`)."""
+    idx = _elements(sol, region)
+    H = h_field(sol)[:, idx]
+    dx = _asm(sol).wv[idx]
+    d = np.asarray(direction, dtype=float).reshape(2)
+    n = np.linalg.norm(d)
+    if not (np.isfinite(n) and n > 0):
+        raise PostError(f"direction = {direction!r} must be a non-zero finite 2-vector")
+    d = d / n
+    return float(np.sum((d[0] * H[0] + d[1] * H[1]) * dx) / np.sum(dx))
 
 
 def _qp_coords(sol) -> np.ndarray:
@@ -347,18 +366,28 @@ def flux_linkage(sol, turns: float, plus, minus) -> float:
 
 
 def energy(sol) -> float:
-    """Stored energy W = total * int w(|B|^2) dV, w = int_0^B H dB (J)."""
+    """Stored energy W = total * int w(|B|^2) dV, w = int_0^B H dB (J).
+
+    With the open boundary the exterior's (air) energy is included.  In a
+    magnet the density is that of its recoil law without the remanence
+    (the field energy int w(|B|^2); the force issue adds the magnet terms).
+    """
     asm = _asm(sol)
     s = asm.s_of(asm.grad(sol.A))
-    return float(asm.formulation.total * np.sum(asm.energy_density(s) * asm.wv))
+    return float(asm.formulation.total * (np.sum(asm.energy_density(s) * asm.wv)
+                                          + asm.ext_energy(sol.A)))
 
 
 def coenergy(sol) -> float:
-    """Co-energy W' = total * int (int_0^H B dH) dV = total * int (nu s - w) dV (J)."""
+    """Co-energy W' = total * int (int_0^H B dH) dV = total * int (nu s - w) dV (J).
+
+    The open exterior is air, where co-energy equals energy.
+    """
     asm = _asm(sol)
     s = asm.s_of(asm.grad(sol.A))
     nu, _ = asm.coefficients(s, derivative=False)
-    return float(asm.formulation.total * np.sum((nu * s - asm.energy_density(s)) * asm.wv))
+    return float(asm.formulation.total * (np.sum((nu * s - asm.energy_density(s)) * asm.wv)
+                                          + asm.ext_energy(sol.A)))
 
 
 def source_work(sol) -> float:
@@ -413,3 +442,98 @@ def incremental_flux_linkage(sol, turns: float, plus, minus, dA: np.ndarray | No
         dA = incremental_potential(sol, turns, plus, minus)
     minus_mean = _mean_over(sol, dA, minus) if _names(minus) else 0.0
     return float(turns * _asm(sol).formulation.total * (_mean_over(sol, dA, plus) - minus_mean))
+
+
+# ------------------------------------------------------------- several coils
+def _coil_linkage(sol, coil, vec: np.ndarray) -> float:
+    """N total sum_k sign_k <vec>_region_k for a fem2d.sources.Coil."""
+    total = _asm(sol).formulation.total
+    return float(coil.turns * total * sum(sign * _mean_over(sol, vec, reg)
+                                          for reg, sign in coil.regions))
+
+
+def _coils(sol, coils):
+    if coils is None:
+        if sol.sources is None:
+            raise PostError("the solution carries no sources: pass coils")
+        return tuple(sol.sources.coils)
+    return tuple(coils)
+
+
+def coil_flux_linkage(sol, coil) -> float:
+    """Flux linkage (Wb) of a coil (fem2d.sources.Coil or its name):
+    N total sum over its regions of sign x the region's mean unknown."""
+    if isinstance(coil, str):
+        coil = sol.sources.coil(coil)
+    return _coil_linkage(sol, coil, sol.A)
+
+
+@dataclass(frozen=True)
+class InductanceMatrix:
+    """Flux linkages and inductances of several coils at one operating point.
+
+    Attributes
+    ----------
+    names : tuple of str
+        Coil names, the order of rows and columns.
+    flux_linkage : ndarray (C,)
+        lambda_j (Wb).
+    incremental : ndarray (C, C)
+        L_jk = d lambda_j / d I_k (H) at the operating point (one tangent
+        solve per coil; symmetric, as the tangent is).
+    secant : ndarray (C,)
+        lambda_j / I_j (H) for coils that carry current (nan otherwise); the
+        self inductance when only coil j is excited.
+    coupling : ndarray (C, C)
+        k_jk = L_jk / sqrt(L_jj L_kk) from the incremental matrix.
+    energy, coenergy : float
+        W and W' of the field (J).
+    """
+
+    names: tuple
+    flux_linkage: np.ndarray
+    incremental: np.ndarray
+    secant: np.ndarray
+    coupling: np.ndarray
+    energy: float
+    coenergy: float
+
+
+def inductance_matrix(sol, coils=None) -> InductanceMatrix:
+    """The coils' flux linkages and incremental inductance matrix.
+
+    L_jk = d lambda_j / d I_k from K(A*) dA/dI_k = db/dI_k, with the
+    consistent Newton tangent K at the converged state (one factorisation
+    or preconditioner set-up, one solve per coil).  Default coils: those of
+    the solution's sources.
+    """
+    asm = _asm(sol)
+    if not sol.converged:
+        raise PostError("inductance_matrix needs a converged solution")
+    coils = _coils(sol, coils)
+    if not coils:
+        raise PostError("inductance_matrix: no coils")
+    C = len(coils)
+    L = np.zeros((C, C))
+    with threadpool_limits(limits=1):
+        g = asm.grad(sol.A)
+        nu, dnu = asm.coefficients(asm.s_of(g))
+        K = asm.tangent(g, nu, None if asm.linear else dnu)
+        solve_k = sol.linear_solver(K)
+        for k, ck in enumerate(coils):
+            db = asm.coil_load(ck)
+            dA = np.zeros(asm.ndofs)
+            if isinstance(solve_k, IterativeSolve):
+                dA[asm.I] = solve_k(db[asm.I], rtol=1e-11)
+            else:
+                dA[asm.I] = solve_k(db[asm.I])
+            for j, cj in enumerate(coils):
+                L[j, k] = _coil_linkage(sol, cj, dA)
+    lam = np.array([_coil_linkage(sol, c, sol.A) for c in coils])
+    cur = sol.currents
+    sec = np.array([lam[j] / cur[c.name] if cur.get(c.name, 0.0) != 0.0 else np.nan
+                    for j, c in enumerate(coils)])
+    d = np.sqrt(np.abs(np.diag(L)))
+    kc = L / np.outer(d, d)
+    return InductanceMatrix(tuple(c.name for c in coils), lam, L, sec, kc, energy(sol),
+                            coenergy(sol))

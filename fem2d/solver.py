@@ -18,20 +18,16 @@ import numpy as np
 from threadpoolctl import threadpool_limits
 
 from .assembly import Assembler
+from .errors import ConvergenceError, SolverInputError
 from .linsolve import IterativeSolve, LinearSolverError, get_linear_solver
 from .mesh import RegionMesh
 
-__all__ = ["FieldSolution", "ConvergenceError", "SolverInputError", "solve", "dirichlet_values"]
+__all__ = ["FieldSolution", "ConvergenceError", "SolverInputError", "solve", "dirichlet_values",
+           "background_potential"]
 
 logger = logging.getLogger(__name__)
 
 
-class ConvergenceError(RuntimeError):
-    """The nonlinear solve did not converge."""
-
-
-class SolverInputError(ValueError):
-    """Bad solver input (unknown region in ``currents``, bad A0, ...)."""
 
 
 @dataclass(frozen=True)
@@ -54,7 +50,8 @@ class FieldSolution:
     message : str
     materials : dict[str, Reluctivity]
     currents : dict[str, float]
-        Total current per region, A.
+        Current per coil (A per turn; with the default sources, per region).
+    sources : fem2d.sources.Sources
     timings : dict
         Seconds: "mesh", "setup", "assemble", "linear", "total".
     ndofs : int
@@ -74,6 +71,7 @@ class FieldSolution:
     ndofs: int
     assembler: Any = field(repr=False, compare=False, default=None)
     linear_solver: object = field(repr=False, compare=False, default=None)
+    sources: Any = field(repr=False, compare=False, default=None)
 
     def raise_if_failed(self) -> "FieldSolution":
         """Raise :class:`ConvergenceError` with the message if not converged."""
@@ -118,16 +116,19 @@ def _line_search(asm, A, g, W, r, dA, c, exact=True):
     dAf[I] = dA
     gd = asm.grad(dAf)
     bA, bd = float(asm.b @ A), float(asm.b @ dAf)
+    # the open exterior's energy is quadratic in a: e0 + a e1 + a^2 e2
+    e0, e1, e2 = asm.ext_quadratic(A, dAf)
 
     def state(a):
         ga = g + a * gd
         s = asm.s_of(ga)
-        Wa = float(np.sum(asm.energy_density(s) * wv)) - bA - a * bd
+        Wa = float(np.sum(asm.energy_density(s) * wv)) - bA - a * bd + e0 + a * e1 + a * a * e2
         return ga, s, Wa
 
-    def dphi(ga, s):
+    def dphi(a, ga, s):
         nu, _ = asm.coefficients(s, derivative=False)
-        d = float(np.sum(nu * (ga[0] * gd[0] + ga[1] * gd[1]) * wk)) - bd
+        d = (float(np.sum(nu * (ga[0] * gd[0] + ga[1] * gd[1]) * wk)) - bd
+             + e1 + 2.0 * a * e2)
         return d if np.isfinite(d) else np.inf
 
     def result(a, ga, Wa):
@@ -147,7 +148,7 @@ def _line_search(asm, A, g, W, r, dA, c, exact=True):
     if full_ok and not exact:
         return result(1.0, ga, Wn)
     lo, d_lo = 0.0, slope
-    hi, d_hi = 1.0, dphi(ga, sa) if np.isfinite(Wn) else np.inf
+    hi, d_hi = 1.0, dphi(1.0, ga, sa) if np.isfinite(Wn) else np.inf
     if full_ok and abs(d_hi) <= 0.5 * abs(slope):
         return result(1.0, ga, Wn)
     best = (1.0, ga, Wn) if full_ok else None
@@ -159,10 +160,10 @@ def _line_search(asm, A, g, W, r, dA, c, exact=True):
             a *= 2.0
             ga2, sa2, W2 = state(a)
             if not (np.isfinite(W2) and W2 < best[2]):
-                hi, d_hi = a, np.inf if not np.isfinite(W2) else dphi(ga2, sa2)
+                hi, d_hi = a, np.inf if not np.isfinite(W2) else dphi(a, ga2, sa2)
                 break
             best = (a, ga2, W2)
-            hi, d_hi = a, dphi(ga2, sa2)
+            hi, d_hi = a, dphi(a, ga2, sa2)
         if d_hi < 0 or abs(d_hi) <= 0.5 * abs(slope):
             return result(*best)
     side = 0
@@ -176,7 +177,7 @@ def _line_search(asm, A, g, W, r, dA, c, exact=True):
         if not np.isfinite(Wa):
             hi, d_hi = a, np.inf
             continue
-        d = dphi(ga, sa)
+        d = dphi(a, ga, sa)
         armijo_ok = Wa <= W + c * a * slope + scale
         if armijo_ok and (best is None or Wa < best[2]):
             best = (a, ga, Wa)
@@ -199,36 +200,48 @@ def _line_search(asm, A, g, W, r, dA, c, exact=True):
     return False, 0.0, A, g, W
 
 
-def _residual_norm(asm, g) -> float:
+def _residual_norm(asm, g, A) -> float:
     nu, _ = asm.coefficients(asm.s_of(g), derivative=False)
-    return float(np.linalg.norm(asm.residual(g, nu)[asm.I]))
+    return float(np.linalg.norm(asm.residual(g, nu, A)[asm.I]))
 
 
-def _resolve_currents(rmesh: RegionMesh, currents: dict | None) -> dict:
-    out = {r.name: float(r.current) for r in rmesh.layout.regions}
-    for name, cur in (currents or {}).items():
-        if name not in out:
-            raise SolverInputError(f"currents: region {name!r} not in layout (have {sorted(out)})")
-        cur = float(cur)
-        if not np.isfinite(cur):
-            raise SolverInputError(f"currents: region {name!r} current = {cur!r} is not finite")
-        out[name] = cur
-    return out
+def background_potential(background, formulation) -> Callable:
+    """Boundary potential of a uniform background field (fem2d.sources.Background)."""
+    bx, by = background.b
+    if formulation.name == "axisymmetric":
+        if bx != 0.0:
+            raise SolverInputError(f"background: B_r = {bx!r} T must be 0 in r-z "
+                                   "(a uniform radial field is not axisymmetric)")
+        return lambda r, z: 0.5 * by * r * r
+    return lambda x, y: bx * y - by * x
+
+
+def _load(asm, sources, cur: dict) -> np.ndarray:
+    b = np.zeros(asm.ndofs)
+    for c in sources.coils:
+        if cur[c.name] != 0.0:
+            b += cur[c.name] * asm.coil_load(c)
+    return b
 
 
 def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, tol: float = 1e-8,
           max_iter: int = 50, A0: np.ndarray | None = None, linear_solver=None,
           boundary_potential: Callable | None = None, check: bool = True,
-          armijo: float = 1e-4, formulation=None) -> FieldSolution:
-    """Solve the nonlinear planar magnetostatic problem by damped Newton.
+          armijo: float = 1e-4, formulation=None, sources=None) -> FieldSolution:
+    """Solve the nonlinear magnetostatic problem (planar or r-z) by damped Newton.
 
     Parameters
     ----------
     mesh : RegionMesh
     materials : dict[str, Reluctivity]
         Law per region ``material`` name; "air" defaults to mu_r = 1.
+    sources : fem2d.sources.Sources, optional
+        Coils, magnets and a background field.  Default: one one-turn coil
+        per layout region, named after it, carrying the region's ``current``
+        (``Sources.from_layout``).
     currents : dict[str, float], optional
-        Override region currents (A) by region name.
+        Current per coil name (A per turn); coils not named carry their
+        default (0 for explicit coils).
     tol : float
         Stop when ||r_I|| / ||b_ref|| <= tol (r_I: residual on interior DOFs;
         b_ref: the load, or the boundary-driven residual at A_I = 0 if larger).
@@ -260,8 +273,22 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
     if not (isinstance(max_iter, int) and max_iter >= 1):
         raise SolverInputError(f"max_iter = {max_iter!r} must be an int >= 1")
     factory = get_linear_solver(linear_solver)
-    cur = _resolve_currents(mesh, currents)
-    asm = Assembler(mesh, materials, cur, formulation)
+    from .sources import Sources
+
+    if sources is None:
+        sources = Sources.from_layout(mesh.layout)
+    elif not isinstance(sources, Sources):
+        raise SolverInputError(f"sources = {sources!r} must be a fem2d.sources.Sources")
+    cur = sources.currents(currents)
+    asm = Assembler(mesh, materials, None, formulation, magnets=sources.magnets)
+    asm.set_load(_load(asm, sources, cur))
+    if sources.background is not None:
+        if boundary_potential is not None:
+            raise SolverInputError("background and boundary_potential are both given: pass one")
+        if mesh.layout.air.open:
+            raise SolverInputError("background: needs a closed air domain (air open = False); "
+                                   "the open exterior has no field at infinity")
+        boundary_potential = background_potential(sources.background, asm.formulation)
     t_setup = time.perf_counter() - t_start
     I, D = asm.I, asm.D
     A = np.zeros(asm.ndofs)
@@ -285,7 +312,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
         Az[I] = 0.0
         gz = asm.grad(Az)
         nuz, _ = asm.coefficients(asm.s_of(gz), derivative=False)
-        ref = max(float(np.linalg.norm(asm.b[I])), float(np.linalg.norm(asm.residual(gz, nuz)[I])))
+        ref = max(float(np.linalg.norm(asm.b[I])), float(np.linalg.norm(asm.residual(gz, nuz, Az)[I])))
         if ref == 0.0:
             ref = 1.0
         g = asm.grad(A)
@@ -294,7 +321,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
             ta = time.perf_counter()
             s = asm.s_of(g)
             nu, dnu = asm.coefficients(s)
-            r = asm.residual(g, nu)[I]
+            r = asm.residual(g, nu, A)[I]
             t_asm += time.perf_counter() - ta
             rel = float(np.linalg.norm(r) / ref)
             res_hist.append(rel)
@@ -340,7 +367,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
                 An = A.copy()
                 An[I] += dA
                 gn = asm.grad(An)
-                if _residual_norm(asm, gn) < float(np.linalg.norm(r)):
+                if _residual_norm(asm, gn, An) < float(np.linalg.norm(r)):
                     ok, alpha, Wn = True, 1.0, asm.energy(gn, An)
                     logger.debug("Newton %d: energy test unresolved, full step taken on residual decrease", it)
             t_asm += time.perf_counter() - ta
@@ -355,7 +382,8 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
     sol = FieldSolution(A=A, basis=asm.basis, mesh=mesh, converged=converged, iterations=it,
                         residual_history=tuple(res_hist), energy_history=tuple(en_hist),
                         message=message, materials=asm.materials, currents=cur, timings=timings,
-                        ndofs=asm.ndofs, assembler=asm, linear_solver=factory)
+                        ndofs=asm.ndofs, assembler=asm, linear_solver=factory,
+                        sources=sources)
     if not converged:
         logger.warning(message)
         if check:

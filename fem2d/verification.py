@@ -21,10 +21,11 @@ from scipy.optimize import brentq
 
 from . import post
 from .formulation import Axisymmetric, Planar
-from .layout import AirBox, Annulus, Disk, Layout, MeshSettings, Rect, Region
+from .layout import AirBox, Annulus, Disk, HalfDisk, Layout, MeshSettings, Rect, Region
 from .materials import AIR, BrauerReluctivity
 from .mesh import build_mesh
 from .solver import solve
+from .sources import Magnet, Sources
 
 __all__ = ["VerificationResult", "CASES", "run_cases", "loop_mutual_inductance",
            "loop_axis_field", "loop_field"]
@@ -192,12 +193,142 @@ def _rz_mutual_inductance(quick: bool):
             "sections by 6x6 Gauss points each")
 
 
+def _planar_wire_pair_open(quick: bool):
+    a, d = 1e-3, 10e-3
+    lay = Layout((Region("go", (Disk(-d / 2, 0.0, a),), "copper", kind="coil"),
+                  Region("return", (Disk(d / 2, 0.0, a),), "copper", kind="coil")),
+                 air=AirBox("disk", factor=1.5, open=True),
+                 mesh=MeshSettings(size=a / 4 if quick else a / 8, grading=0.2))
+    sol = solve(build_mesh(lay), {"copper": AIR}, currents={"go": 1.0, "return": -1.0},
+                formulation=Planar(1.0))
+    fe = 2.0 * post.energy(sol)  # L' = 2 W' / I^2 at 1 A
+    ref = mu_0 / math.pi * (0.25 + math.log(d / a))
+    return ("two round wires, go and return, 1 mm radius, 10 mm apart, open boundary at 1.5x",
+            "inductance per metre (H/m)", fe, ref, 1e-4,
+            "exact for uniform current in round wires: L' = (mu0/pi)(1/4 + ln(d/a)) (each wire's "
+            "field outside it is a line current's; mean value property of ln)")
+
+
+def _planar_permeable_cylinder(quick: bool):
+    a, R, mu_r, b0 = 5e-3, 15e-3, 50.0, 0.1
+    K = (mu_r - 1.0) / (mu_r + 1.0)
+    lay = Layout((Region("cylinder", (Disk(0.0, 0.0, a),), "iron", kind="core"),),
+                 air=AirBox("disk", size=2 * R),
+                 mesh=MeshSettings(size=a / 10 if quick else a / 20, air_size_factor=3.0))
+    # the exact exterior potential on the boundary: A = B0 y (1 + K a^2 / rho^2)
+    sol = solve(build_mesh(lay), {"iron": _linear(mu_r)}, formulation=Planar(1.0),
+                boundary_potential=lambda x, y: b0 * y * (1.0 + K * a * a / (x * x + y * y)))
+    fe = post.region_mean_b(sol, "cylinder", direction=(1.0, 0.0))
+    ref = 2.0 * mu_r / (mu_r + 1.0) * b0
+    return ("permeable cylinder (mu_r = 50) in a uniform transverse field of 0.1 T",
+            "mean B inside (T)", fe, ref, 1e-4,
+            "exact: B_in = 2 mu_r/(mu_r + 1) B0 (separation of variables in polar coordinates), "
+            "the exact exterior potential imposed on the boundary")
+
+
+def _planar_magnet_cylinder(quick: bool):
+    R, br, mu_r = 5e-3, 1.2, 1.05
+    lay = Layout((Region("magnet", (Disk(0.0, 0.0, R),), "magnet", kind="magnet"),),
+                 air=AirBox("disk", factor=1.5, open=True),
+                 mesh=MeshSettings(size=R / 12 if quick else R / 24, grading=0.3))
+    sol = solve(build_mesh(lay), {"magnet": AIR}, formulation=Planar(1.0),
+                sources=Sources(magnets=(Magnet("magnet", (br, 0.0), mu_r),)))
+    fe = post.region_mean_b(sol, "magnet", direction=(1.0, 0.0))
+    ref = br / (1.0 + mu_r)
+    return ("long cylinder magnet, transversely magnetised (B_r 1.2 T, recoil mu_r 1.05), "
+            "open boundary", "mean B inside (T)", fe, ref, 1e-4,
+            "exact: uniform inside, B_in = -mu0 H_in for a 2D cylinder (demagnetising factor 1/2), "
+            "so B_in = B_r/(1 + mu_r) (derived here; B_r/2 for mu_r = 1)")
+
+
+def _rz_thin_loop(quick: bool):
+    a, b = 50e-3, 0.5e-3
+    lay = Layout((Region("loop", (Disk(a, 0.0, b),), "copper", kind="coil"),),
+                 air=AirBox("rz-disk", factor=1.5, open=True),
+                 mesh=MeshSettings(size=b / 4 if quick else b / 8, grading=0.1,
+                                   air_size_factor=50.0))
+    sol = solve(build_mesh(lay), {"copper": AIR}, currents={"loop": 1.0},
+                formulation=Axisymmetric())
+    fe = 2.0 * post.energy(sol)
+    ref = mu_0 * a * (math.log(8 * a / b) - 1.75)
+    return ("thin circular loop, 50 mm radius, round wire of 0.5 mm radius, open boundary at 1.5x",
+            "self inductance (H)", fe, ref, 1e-4,
+            "L = mu0 a (ln(8a/b) - 7/4) for uniform current in a round wire (Grover, Inductance "
+            "Calculations, 1946); its next term, of order (b/a)^2 ln(8a/b), is ~2e-5 here")
+
+
+def _rz_permeable_sphere(quick: bool):
+    a, R, mu_r, b0 = 5e-3, 15e-3, 50.0, 0.1
+    K = (mu_r - 1.0) / (mu_r + 2.0)
+    lay = Layout((Region("sphere", (HalfDisk(0.0, 0.0, a),), "iron", kind="core"),),
+                 air=AirBox("rz-disk", size=2 * R),
+                 mesh=MeshSettings(size=a / 10 if quick else a / 20, air_size_factor=3.0))
+    # the exact exterior flux function: u = B0 r^2/2 (1 + 2 K a^3 / rho^3)
+    sol = solve(build_mesh(lay), {"iron": _linear(mu_r)}, formulation=Axisymmetric(),
+                boundary_potential=lambda r, z: 0.5 * b0 * r * r
+                * (1.0 + 2.0 * K * a ** 3 / (r * r + z * z) ** 1.5))
+    fe = post.region_mean_b(sol, "sphere", direction=(0.0, 1.0))
+    ref = 3.0 * mu_r / (mu_r + 2.0) * b0
+    return ("permeable sphere (mu_r = 50) in a uniform axial field of 0.1 T",
+            "mean B_z inside (T)", fe, ref, 1e-4,
+            "exact: B_in = 3 mu_r/(mu_r + 2) B0 (separation of variables in spherical "
+            "coordinates), the exact exterior flux function imposed on the boundary")
+
+
+def _rz_magnet_sphere(quick: bool):
+    a, br, mu_r = 5e-3, 1.2, 1.05
+    lay = Layout((Region("magnet", (HalfDisk(0.0, 0.0, a),), "magnet", kind="magnet"),),
+                 air=AirBox("rz-disk", factor=1.5, open=True),
+                 mesh=MeshSettings(size=a / 12 if quick else a / 24, grading=0.3))
+    sol = solve(build_mesh(lay), {"magnet": AIR}, formulation=Axisymmetric(),
+                sources=Sources(magnets=(Magnet("magnet", (0.0, br), mu_r),)))
+    fe = post.region_mean_b(sol, "magnet", direction=(0.0, 1.0))
+    ref = 2.0 * br / (mu_r + 2.0)
+    return ("sphere magnet, axially magnetised (B_r 1.2 T, recoil mu_r 1.05), open boundary",
+            "mean B_z inside (T)", fe, ref, 1e-4,
+            "exact: uniform inside, B_in = -2 mu0 H_in (demagnetising factor 1/3), so "
+            "B_in = 2 B_r/(mu_r + 2) (Jackson, Classical Electrodynamics, 3rd ed. 1999, sec. 5.10)")
+
+
+def _rz_magnet_cylinder(quick: bool):
+    R, L, br = 5e-3, 10e-3, 1.2
+    rho = 0.5 * R
+    lay = Layout((Region("magnet", (Rect(0.0, -L / 2, R, L / 2),), "magnet", kind="magnet"),),
+                 air=AirBox("rz-disk", factor=1.5, open=True),
+                 mesh=MeshSettings(size=R / 15 if quick else R / 30, grading=0.3))
+    sol = solve(build_mesh(lay), {"magnet": AIR}, formulation=Axisymmetric(),
+                sources=Sources(magnets=(Magnet("magnet", (0.0, br), 1.0),)))
+    fe = post.flux_across(sol, (0.0, 0.0), (rho, 0.0))
+    # the magnet is the sheet current K = B_r/mu0 on r = R, |z| < L/2
+    x, w = np.polynomial.legendre.leggauss(40)
+    z = 0.5 * L * x
+    ref = float(sum(0.5 * L * wi * br / mu_0 * loop_mutual_inductance(R, rho, zi)
+                    for zi, wi in zip(z, w)))
+    return ("cylinder magnet, axially magnetised (B_r 1.2 T, mu_r 1), 5 mm radius, 10 mm long: "
+            "flux through a 2.5 mm disk at its mid-plane, open boundary", "flux (Wb)", fe, ref,
+            1e-4, "the equivalent sheet current B_r/mu0 on the side with Maxwell's formula "
+            "(Treatise, 1873, art. 701), integrated along the magnet by 40 Gauss points")
+
+
+def _linear(mu_r: float):
+    from .materials import LinearReluctivity
+
+    return LinearReluctivity(mu_r)
+
+
 CASES: dict[str, tuple[str, Callable]] = {
     "planar-wire-energy": ("planar", _planar_wire_energy),
     "planar-nonlinear-ring": ("planar", _planar_nonlinear_ring),
     "rz-loop-disk-flux": ("axisymmetric", _rz_loop_disk_flux),
     "rz-loop-off-axis-field": ("axisymmetric", _rz_loop_off_axis_field),
     "rz-mutual-inductance": ("axisymmetric", _rz_mutual_inductance),
+    "planar-wire-pair-open": ("planar", _planar_wire_pair_open),
+    "planar-permeable-cylinder": ("planar", _planar_permeable_cylinder),
+    "planar-magnet-cylinder": ("planar", _planar_magnet_cylinder),
+    "rz-thin-loop-open": ("axisymmetric", _rz_thin_loop),
+    "rz-permeable-sphere": ("axisymmetric", _rz_permeable_sphere),
+    "rz-magnet-sphere": ("axisymmetric", _rz_magnet_sphere),
+    "rz-magnet-cylinder": ("axisymmetric", _rz_magnet_cylinder),
 }
 
 
