@@ -10,7 +10,7 @@ edge: the models downstream trust the data they are given. Layout::
     [materials]  core = "<built-in>" | {csv = "file.csv"} |
                  {H = [...], B = [...], H_unit = "A/m", B_unit = "T"} | {mu_r = 2000}
     [hand]       fringing = "<model>"
-    [fe]         order, gap_elements, mesh_size, air_factor, tol
+    [fe]         order, gap_elements, mesh_size, air_factor, boundary, tol
     [margins]    peak_B, current_density (+ copper_fill), [[margins.inductance]]
                  (at, min, max, kind), [[margins.saturation_current]] (drop_pct, min,
                  kind), [margins.agreement] (percent per quantity)
@@ -86,7 +86,12 @@ class FESettings:
     order : element order, 1 or 2.
     gap_elements : minimum number of elements across each gap length.
     mesh_size : element size in the core (m); None picks one from the geometry.
-    air_factor : air box side as a multiple of the core's largest dimension.
+    boundary : "open" (default): the field decays as in unbounded space (the
+        air disk's exterior mapped onto a ring of elements, fem2d.exterior);
+        "closed": A = 0 on the air box (a flux-tight enclosure).
+    air_factor : the air domain's size as a multiple of the parts' largest
+        extent: the air disk's diameter (open; default OPEN_AIR_FACTOR) or
+        the air box's side (closed; default CLOSED_AIR_FACTOR).
     tol : relative Newton residual to stop at.
     allow_large : mesh even when the element estimate exceeds
         compare.fe.MAX_TRIANGLES (``[fe] allow_large = true`` or ``--allow-large``).
@@ -95,9 +100,23 @@ class FESettings:
     order: int = 2
     gap_elements: int = 4
     mesh_size: float | None = None
-    air_factor: float = 3.0
+    air_factor: float | None = None
     tol: float = 1e-8
     allow_large: bool = False
+    boundary: str = "open"
+
+    @property
+    def air_extent(self) -> float:
+        """The air domain's size factor in use (air_factor or its default)."""
+        if self.air_factor is not None:
+            return self.air_factor
+        return OPEN_AIR_FACTOR if self.boundary == "open" else CLOSED_AIR_FACTOR
+
+
+OPEN_AIR_FACTOR = 1.5
+"""Default air disk diameter / parts' extent with the open boundary."""
+CLOSED_AIR_FACTOR = 3.0
+"""Default air box side / parts' extent with the closed boundary."""
 
 
 @dataclass(frozen=True)
@@ -479,14 +498,16 @@ def _read_fe(t: TableReader) -> FESettings:
         raise CaseError(t.key("order"), order, "element order must be 1 or 2")
     gap_elements = t.integer("gap_elements", d.gap_elements, minimum=1)
     mesh_size = t.quantity("mesh_size", "length", None)
-    air_factor = t.number("air_factor", d.air_factor, lo=1.5, hi=100.0)
+    air_factor = t.number("air_factor", None, lo=1.5, hi=100.0)
+    boundary = t.string("boundary", d.boundary, choices=("open", "closed"))
     tol = t.number("tol", d.tol, lo=1e-14, hi=1e-2)
     allow_large = t.raw("allow_large", False)
     if not isinstance(allow_large, bool):
         raise CaseError(t.key("allow_large"), allow_large, "must be true or false")
     t.finish()
     return FESettings(order=order, gap_elements=gap_elements, mesh_size=mesh_size,
-                      air_factor=air_factor, tol=tol, allow_large=allow_large)
+                      air_factor=air_factor, tol=tol, allow_large=allow_large,
+                      boundary=boundary)
 
 
 AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",

@@ -106,6 +106,8 @@ class TableReader:
                          lo: float | None = None, hi: float | None = None) -> float:
         raw = self.data.get(name, default)
         value = self.quantity(name, dimension, default, positive=False)
+        if value is None:  # absent, with default None
+            return value
         if (lo is not None and value < lo) or (hi is not None and value > hi):
             span = f"[{lo if lo is not None else '-inf'}, {hi if hi is not None else 'inf'}]"
             raise CaseError(self.key(name), raw, f"must lie in {span}")

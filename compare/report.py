@@ -76,9 +76,11 @@ def input_rows(res: CheckResult) -> list[list[str]]:
         rows.append([f"material of {m.region}", f"{m.description} ({m.kind})"])
     rows.append(["fringing model (hand)", case.hand.fringing])
     fe, fine = case.fe, res.fe.fine
+    air = (f"open boundary, air disk {fe.air_extent:g}x" if fe.boundary == "open"
+           else f"closed air box {fe.air_extent:g}x")
     rows += [["FE settings", f"order {fe.order}, {fe.gap_elements} elements across each gap, "
                              f"mesh size {'auto' if fe.mesh_size is None else _mm(fe.mesh_size)}, "
-                             f"air box {fe.air_factor:g}x, Newton tol {fe.tol:g}"],
+                             f"{air}, Newton tol {fe.tol:g}"],
              ["FE mesh (finer)", f"{fine.nelements} elements, {fine.ndofs} DOFs, core element "
                                  f"size {_mm(fine.element_size)}"]]
     return rows

@@ -142,6 +142,7 @@ class Assembler:
         self.b_magnets = b_mag
         # the open exterior's constant element matrices (fem2d.exterior)
         self.ext = None
+        self.wv_geometric = self.wv  # volume weights including the exterior ring's
         if "exterior" in rmesh.subdomains:
             from .exterior import ring_tensor
 
@@ -153,6 +154,7 @@ class Assembler:
             Ke = np.einsum("eiaq,abeq,ejbq,eq->eij", Gx, T, Gx, self.dx[idx])
             self.ext = (idx, Ke)
             # the ring's ordinary weights are zero: its matrix is Ke
+            self.wv_geometric = self.wv
             self.wk = self.wk.copy()
             self.wv = self.wv.copy()
             self.wk[idx] = 0.0

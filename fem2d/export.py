@@ -22,20 +22,27 @@ def vtu_mesh(sol):
     |B| (T), H (cell vector, A/m), mu_r (cell, secant B/(mu0 H)) and region id (cell).
 
     P2 curved meshes are 6-node triangles ("triangle6", corners then edge
-    nodes 0-1, 1-2, 2-0), P1 3-node triangles.
+    nodes 0-1, 1-2, 2-0), P1 3-node triangles.  The open boundary's
+    "exterior" ring (a mapped image of the far field) is left out.
     """
     import meshio
 
     asm = sol.assembler
     pts = asm.basis.doflocs  # (2, ndofs); for P1/P2 Lagrange every DOF is a node
-    cells = asm.dofs.T  # (ne, nloc)
+    keep = np.ones(asm.ne, dtype=bool)
+    if asm.ext is not None:
+        keep[asm.ext[0]] = False
+    cells = asm.dofs.T[keep]  # (ne, nloc)
     ctype = "triangle6" if asm.nloc == 6 else "triangle"
     Be = b_elements(sol)
     s = Be[0] ** 2 + Be[1] ** 2
     nu = np.empty(len(s))
     for law, idx in zip(asm.laws, asm.groups):
         nu[idx] = law.nu(s[idx])
-    He = nu * Be
+    br = asm.br.mean(axis=2)  # magnets' remanence (uniform per element)
+    He = (nu * (Be - br))[:, keep]
+    Be, s = Be[:, keep], s[keep]
+    nu = nu[keep]
     return meshio.Mesh(
         points=np.column_stack([pts[0], pts[1], np.zeros(pts.shape[1])]),
         cells=[(ctype, cells.astype(np.int64))],
@@ -45,7 +52,7 @@ def vtu_mesh(sol):
             "Bmag": [np.sqrt(s)],
             "H": [np.column_stack([He[0], He[1], np.zeros(len(s))])],
             "mu_r": [1.0 / (mu_0 * nu)],
-            "region": [np.asarray(sol.mesh.element_region, dtype=np.int32)],
+            "region": [np.asarray(sol.mesh.element_region, dtype=np.int32)[keep]],
         },
     )
 

@@ -68,9 +68,10 @@ def b_field(sol) -> np.ndarray:
 
 
 def b_elements(sol) -> np.ndarray:
-    """Volume-weighted element means of B, shape (2, n_elem), T."""
+    """Volume-weighted element means of B, shape (2, n_elem), T (in the open
+    boundary's "exterior" ring: of the mapped field, not a physical B)."""
     B = b_field(sol)
-    dx = _asm(sol).wv
+    dx = _asm(sol).wv_geometric
     return np.sum(B * dx, axis=2) / np.sum(dx, axis=1)
 
 
@@ -133,10 +134,11 @@ def peak_b(sol, regions) -> tuple[float, tuple[float, float]]:
 
 # ----------------------------------------------------------- point probes
 class _Locator:
-    """Linear-scaling point location with curved-element inverse mapping."""
+    """Point location (k-d tree of element centroids, barycentric test on the
+    straight-sided triangles, vectorised) with curved-element inverse mapping."""
 
     def __init__(self, asm):
-        from matplotlib.tri import Triangulation, TrapezoidMapTriFinder
+        from scipy.spatial import cKDTree
 
         mesh = asm.rmesh.mesh
         self.elem = asm.basis.elem
@@ -144,11 +146,46 @@ class _Locator:
         self.xk = asm.basis.doflocs[:, asm.dofs]  # (2, nloc, ne) geometry nodes
         self.dofs = asm.dofs
         p, t = mesh.p, mesh.t
-        self.finder = TrapezoidMapTriFinder(Triangulation(p[0], p[1], t.T))
         f2t = mesh.f2t
         self.nbr = np.where(f2t[0][mesh.t2f] == np.arange(t.shape[1]), f2t[1][mesh.t2f], f2t[0][mesh.t2f])
-        self.centroids = p[:, t].mean(axis=1)
-        self._tree = None
+        c = p[:, t[:3]]  # (2, 3, ne) corners
+        self.centroids = c.mean(axis=1)
+        self.v0 = c[:, 0]
+        J = np.stack([c[:, 1] - c[:, 0], c[:, 2] - c[:, 0]], axis=1)  # (2, 2, ne)
+        self.invJ = np.linalg.inv(J.transpose(2, 0, 1))  # (ne, 2, 2)
+        self._tree = cKDTree(self.centroids.T)
+
+    def _find(self, x: np.ndarray) -> np.ndarray:
+        """Index of a straight-sided triangle containing each point (2, n), or
+        of the nearest centroid's where none does (-1 never returned)."""
+        n = x.shape[1]
+        out = np.full(n, -1, dtype=np.int64)
+        todo = np.arange(n)
+        ne = self.centroids.shape[1]
+        for k in (8, 48, 256):
+            if not len(todo):
+                break
+            k = min(k, ne)
+            _, cand = self._tree.query(x[:, todo].T, k=k)
+            cand = cand.reshape(len(todo), k)
+            d = x[:, todo][:, :, None] - self.v0[:, cand]  # (2, m, k)
+            iJ = self.invJ[cand]  # (m, k, 2, 2)
+            lam = np.einsum("mkab,bmk->amk", iJ, d)
+            viol = -np.minimum(np.minimum(lam[0], lam[1]), 1.0 - lam[0] - lam[1])  # (m, k)
+            j = np.argmin(viol, axis=1)
+            ok = viol[np.arange(len(todo)), j] <= 1e-10
+            out[todo[ok]] = cand[np.arange(len(todo)), j][ok]
+            if k == ne or not np.any(~ok):
+                rest = todo[~ok]
+                if len(rest):  # outside every straight cell: the nearest one
+                    out[rest] = cand[~ok][np.arange(len(rest)), j[~ok]]
+                todo = todo[:0]
+                break
+            todo = todo[~ok]
+        if len(todo):
+            _, near = self._tree.query(x[:, todo].T)
+            out[todo] = near
+        return out
 
     def _ref(self, X):
         phi = np.empty((self.nloc, X.shape[1]))
@@ -180,17 +217,11 @@ class _Locator:
     def _outside(X, tol=1e-9):
         return -np.minimum(np.minimum(X[0], X[1]), 1.0 - X[0] - X[1]) > tol
 
-    def locate(self, x):
-        """Element index and reference coordinates of each point; raises if outside."""
-        tind = np.asarray(self.finder(x[0], x[1]), dtype=np.int64)
-        miss = tind < 0
-        if np.any(miss):
-            if self._tree is None:
-                from scipy.spatial import cKDTree
-
-                self._tree = cKDTree(self.centroids.T)
-            _, near = self._tree.query(x[:, miss].T)
-            tind[miss] = near
+    def locate(self, x, strict: bool = True):
+        """Element index and reference coordinates of each point; raises if
+        outside (``strict=False``: a point just outside a curved boundary
+        keeps its nearest element, whose polynomial is extrapolated)."""
+        tind = self._find(x)
         X = self.inverse_map(x, tind)
         out = self._outside(X)
         if np.any(out):
@@ -213,14 +244,14 @@ class _Locator:
                 tmp[better] = viol[better]
                 best[ok] = tmp
             still = self._outside(X, tol=1e-6)
-            if np.any(still):
+            if strict and np.any(still):
                 j = int(np.nonzero(still)[0][0])
                 raise PostError(f"point ({x[0, j]!r}, {x[1, j]!r}) is outside the mesh")
         return tind, X
 
-    def evaluate(self, A, x):
+    def evaluate(self, A, x, strict: bool = True):
         """A (Wb/m) and grad A (T) at points x (2, n)."""
-        tind, X = self.locate(x)
+        tind, X = self.locate(x, strict)
         phi, dphi = self._ref(X)
         xk = self.xk[:, :, tind]
         J = np.einsum("akn,kbn->nab", xk, dphi)  # dx_a/dX_b
@@ -265,7 +296,10 @@ def transfer(sol, mesh) -> np.ndarray:
 
     elem = ElementTriP2() if mesh.order == 2 else ElementTriP1()
     doflocs = Basis(mesh.mesh, elem, intorder=1).doflocs
-    return sample_a(sol, doflocs)
+    # nodes of the new mesh's curved boundary may lie a hair outside the old
+    # mesh's: extrapolate there (a warm start needs no more)
+    a, _, _ = _locator(sol).evaluate(sol.A, _points(doflocs), strict=False)
+    return a
 
 
 def sample_b(sol, points) -> np.ndarray:
