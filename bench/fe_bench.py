@@ -1,10 +1,13 @@
-"""Benchmark of the fem2d engine on a window-core-like layout.
+"""Benchmark of the fem2d engine: a planar window core and an r-z pot core.
 
-Plain script: ``python bench/fe_bench.py [--quick]``; prints a table.
-The core, coil and B-H law are invented for the demo (a Brauer-type
-steel-like law, nu(s) = k1 exp(k2 s) + k3, Brauer, IEEE Trans. Magn.
-MAG-11, 1975).  Each case runs in a fresh subprocess so that its peak
-memory (``resource.getrusage`` maxrss) is its own.
+Plain script: ``python bench/fe_bench.py [--quick] [--against REF]``;
+prints a table.  ``--against REF`` runs the same cases on the engine of the
+git revision REF too (a temporary worktree), row by row beside this tree's,
+so that a change is measured side by side in one run.  The cores, coils and
+B-H law are invented for the demo (a Brauer-type steel-like law,
+nu(s) = k1 exp(k2 s) + k3, Brauer, IEEE Trans. Magn. MAG-11, 1975).  Each
+case runs in a fresh subprocess so that its peak memory
+(``resource.getrusage`` maxrss) is its own.
 """
 from __future__ import annotations
 
@@ -17,7 +20,8 @@ import sys
 import time
 
 HERE = os.path.dirname(os.path.abspath(__file__))
-sys.path.insert(0, os.path.dirname(HERE))
+# the engine under test: this tree, or the worktree of --against
+sys.path.insert(0, os.environ.get("FE_BENCH_TREE") or os.path.dirname(HERE))
 
 # invented for the demo: a steel-like Brauer law (mu_r(0) ~ 2000, ~1.9 T at 20 kA/m)
 K1, K2, K3 = 3.8, 2.17, 396.2
@@ -44,13 +48,32 @@ def window_core(size: float | None, order: int, gap: float = 1e-3):
                   mesh=MeshSettings(size=size, order=order, threads=2), depth=DEPTH)
 
 
+def pot_core(size: float | None, order: int, gap: float = 1e-3):
+    """Axisymmetric pot core (invented for the demo): centre post radius 8 mm,
+    window 8-18 mm, wall 18-22 mm, plates 4 mm, window height 16 mm, a gap
+    in the centre post; the coil fills the window with clearance."""
+    from fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
+
+    mm = 1e-3
+    g = gap
+    regions = (
+        Region("core", (Rect(0, -12 * mm, 22 * mm, -8 * mm), Rect(0, 8 * mm, 22 * mm, 12 * mm),
+                        Rect(0, -8 * mm, 8 * mm, -g / 2), Rect(0, g / 2, 8 * mm, 8 * mm),
+                        Rect(18 * mm, -8 * mm, 22 * mm, 8 * mm)), "steel", kind="core"),
+        Region("gap", (Rect(0, -g / 2, 8 * mm, g / 2),), "air", kind="gap"),
+        Region("coil_in", (Rect(9 * mm, -7 * mm, 17 * mm, 7 * mm),), "copper", kind="coil"),
+    )
+    return Layout(regions, air=AirBox("rz-box", factor=2.0),
+                  mesh=MeshSettings(size=size, order=order, threads=2))
+
+
 def materials():
     from fem2d.materials import AIR, BrauerReluctivity
 
     return {"steel": BrauerReluctivity(K1, K2, K3, vacuum=VACUUM), "copper": AIR}
 
 
-def run_case(size, order, solver, NI_low, NI_high):
+def run_case(size, order, solver, NI_low, NI_high, geometry="planar"):
     """One bench case in this process; returns a dict of measurements."""
     import resource
 
@@ -61,13 +84,14 @@ def run_case(size, order, solver, NI_low, NI_high):
     from fem2d.solver import solve
 
     t0 = time.perf_counter()
-    rm = build_mesh(window_core(size, order))
+    rz = geometry == "rz"
+    rm = build_mesh(pot_core(size, order) if rz else window_core(size, order))
     t_mesh = time.perf_counter() - t0
     mats = materials()
     out = {"size_mm": size * 1e3, "order": order, "solver": solver, "ntri": int(rm.nelements)}
     # one linear solve with the initial reluctivity (first Newton step) for the ratio
     for tag, NI in (("low", NI_low), ("high", NI_high)):
-        cur = {"coil_in": NI, "coil_out": -NI}
+        cur = {"coil_in": NI} if rz else {"coil_in": NI, "coil_out": -NI}
         t1 = time.perf_counter()
         sol = solve(rm, mats, currents=cur, linear_solver=solver, check=False)
         bg = post.region_mean_b(sol, "gap", direction=(0.0, 1.0))
@@ -84,25 +108,51 @@ def run_case(size, order, solver, NI_low, NI_high):
 
     lin = {"steel": LinearReluctivity(1.0 / (4e-7 * np.pi * (K1 + K3))), "copper": AIR}
     t1 = time.perf_counter()
-    solve(rm, lin, currents={"coil_in": NI_low, "coil_out": -NI_low}, linear_solver=solver)
+    solve(rm, lin, currents={"coil_in": NI_low} if rz else {"coil_in": NI_low, "coil_out": -NI_low},
+          linear_solver=solver)
     out["t_linear_solve"] = time.perf_counter() - t1
     out["t_mesh"] = t_mesh
     out["t_total_high"] = t_mesh + out["t_nl_high"]
     out["ratio_high"] = out["t_nl_high"] / out["t_linear_solve"]
     out["ratio_low"] = out["t_nl_low"] / out["t_linear_solve"]
     out["maxrss_MiB"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    out["us_per_dof_it"] = 1e6 * out["t_nl_high"] / max(out["it_high"], 1) / out["ndofs"]
     return out
+
+
+def _worktree(ref: str) -> str:
+    """A temporary git worktree of ``ref`` (removed at exit)."""
+    import atexit
+    import shutil
+    import tempfile
+
+    root = os.path.dirname(HERE)
+    path = tempfile.mkdtemp(prefix="fe-bench-")
+    os.rmdir(path)
+    subprocess.run(["git", "-C", root, "worktree", "add", "--detach", "-q", path, ref], check=True)
+
+    def cleanup():
+        subprocess.run(["git", "-C", root, "worktree", "remove", "--force", path],
+                       capture_output=True)
+        shutil.rmtree(path, ignore_errors=True)
+
+    atexit.register(cleanup)
+    return path
 
 
 def main(argv=None):
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     p.add_argument("--quick", action="store_true", help="small meshes only")
+    p.add_argument("--against", metavar="REF",
+                   help="also run the engine of git revision REF, side by side")
     p.add_argument("--case", help=argparse.SUPPRESS)
     args = p.parse_args(argv)
     NI_low, NI_high = 250.0, 2000.0
     if args.case:
-        size, order, solver = json.loads(args.case)
-        print(json.dumps(run_case(size, order, solver, NI_low, NI_high), default=float))
+        spec = json.loads(args.case)
+        size, order, solver = spec[:3]
+        geometry = spec[3] if len(spec) > 3 else "planar"
+        print(json.dumps(run_case(size, order, solver, NI_low, NI_high, geometry), default=float))
         return 0
     import numpy as np
     import scipy
@@ -111,9 +161,11 @@ def main(argv=None):
     print(f"machine: {os.cpu_count()} cpus, {platform.processor() or platform.machine()}, "
           f"python {platform.python_version()}, numpy {np.__version__}, scipy {scipy.__version__}, "
           f"scikit-fem {skfem.__version__}")
-    print(f"window core 60x60 mm, limb 15 mm, gap 1 mm, depth {DEPTH * 1e3:.0f} mm; "
-          f"NI low {NI_low:.0f} A, high {NI_high:.0f} A")
-    # sizes chosen for roughly 5k / 20k / 80k / 300k triangles
+    print(f"planar: window core 60x60 mm, limb 15 mm, gap 1 mm, depth {DEPTH * 1e3:.0f} mm; "
+          f"r-z: pot core 22 mm radius, 1 mm gap; NI low {NI_low:.0f} A, high {NI_high:.0f} A")
+    trees = [("this", None)]
+    if args.against:
+        trees.append((args.against[:10], _worktree(args.against)))
     cases = []
     sizes = {5: 1.85e-3, 20: 0.77e-3, 80: 0.36e-3, 300: 0.18e-3}
     keys = (5, 20) if args.quick else (5, 20, 80, 300)
@@ -121,25 +173,38 @@ def main(argv=None):
         for order in (1, 2):
             if k == 300 and order == 2:
                 continue
-            cases.append((sizes[k], order, "amg-cg"))
+            cases.append((sizes[k], order, "amg-cg", "planar"))
+    # r-z beside planar at similar element counts (the pot core is smaller)
+    rz_sizes = {5: 0.55e-3, 20: 0.26e-3, 80: 0.125e-3}
+    for k in ((5, 20) if args.quick else (5, 20, 80)):
+        cases.append((rz_sizes[k], 2, "amg-cg", "rz"))
     for k in ((20,) if args.quick else (20, 80)):
-        cases.append((sizes[k], 2, "superlu"))
-    hdr = (f"{'ntri':>7} {'P':>2} {'solver':>8} {'ndofs':>7} {'mesh s':>7} {'asm/it s':>8} "
-           f"{'lin/it s':>8} {'it lo':>5} {'it hi':>5} {'NL hi s':>8} {'lin s':>6} {'ratio':>6} "
-           f"{'total s':>8} {'MiB':>6} {'Bgap hi':>8}")
+        for solver in ("superlu", "direct"):
+            cases.append((sizes[k], 2, solver, "planar"))
+    hdr = (f"{'engine':>10} {'geom':>6} {'ntri':>7} {'P':>2} {'solver':>8} {'ndofs':>7} "
+           f"{'mesh s':>7} {'asm/it s':>8} {'lin/it s':>8} {'it lo':>5} {'it hi':>5} "
+           f"{'NL hi s':>8} {'us/dof/it':>9} {'lin s':>6} {'ratio':>6} {'total s':>8} {'MiB':>6} "
+           f"{'Bgap hi':>8}")
     print(hdr)
-    for size, order, solver in cases:
-        cmd = [sys.executable, os.path.abspath(__file__), "--case", json.dumps([size, order, solver])]
-        res = subprocess.run(cmd, capture_output=True, text=True)
-        if res.returncode != 0:
-            print(f"case {size} {order} {solver} failed:\n{res.stderr[-2000:]}")
-            continue
-        r = json.loads(res.stdout.strip().splitlines()[-1])
-        print(f"{r['ntri']:>7} {order:>2} {solver:>8} {r['ndofs']:>7} {r['t_mesh']:>7.2f} "
-              f"{r['t_asm_high']:>8.3f} {r['t_lin_step_high']:>8.3f} {r['it_low']:>5} {r['it_high']:>5} "
-              f"{r['t_nl_high']:>8.2f} {r['t_linear_solve']:>6.2f} {r['ratio_high']:>6.1f} "
-              f"{r['t_total_high']:>8.2f} {r['maxrss_MiB']:>6.0f} {r['bgap_high']:>8.3f}")
-        sys.stdout.flush()
+    for size, order, solver, geometry in cases:
+        for label, tree in trees:
+            env = dict(os.environ)
+            if tree is not None:
+                env["FE_BENCH_TREE"] = tree
+            cmd = [sys.executable, os.path.abspath(__file__), "--case",
+                   json.dumps([size, order, solver, geometry])]
+            res = subprocess.run(cmd, capture_output=True, text=True, env=env)
+            if res.returncode != 0:
+                print(f"{label:>10} {geometry:>6} case {size} {order} {solver} failed: "
+                      f"{res.stderr.strip().splitlines()[-1] if res.stderr.strip() else '?'}")
+                continue
+            r = json.loads(res.stdout.strip().splitlines()[-1])
+            print(f"{label:>10} {geometry:>6} {r['ntri']:>7} {order:>2} {solver:>8} {r['ndofs']:>7} "
+                  f"{r['t_mesh']:>7.2f} {r['t_asm_high']:>8.3f} {r['t_lin_step_high']:>8.3f} "
+                  f"{r['it_low']:>5} {r['it_high']:>5} {r['t_nl_high']:>8.2f} "
+                  f"{r['us_per_dof_it']:>9.2f} {r['t_linear_solve']:>6.2f} {r['ratio_high']:>6.1f} "
+                  f"{r['t_total_high']:>8.2f} {r['maxrss_MiB']:>6.0f} {r['bgap_high']:>8.3f}")
+            sys.stdout.flush()
     return 0
 
 
