@@ -126,6 +126,11 @@ def test_axisymmetric_needs_the_axis_and_r_at_least_zero():
 def test_quick_verification_cases_pass():
     results = run_cases(quick=True)
     assert {r.formulation for r in results} == {"planar", "axisymmetric"}
+    names = " ".join(r.name for r in results)
+    # magnets, the open boundary and the mutual inductance in both formulations
+    for must in ("planar-magnet-cylinder", "rz-magnet-sphere", "planar-wire-pair-open",
+                 "rz-thin-loop-open", "rz-mutual-inductance"):
+        assert must in names
     for r in results:
         assert r.passed, (r.name, r.rel_error, r.tolerance)
 

@@ -161,3 +161,10 @@ def test_source_input_errors(pair_open):
         AirBox("box", open=True)
     with pytest.raises(LayoutError, match="'exterior' is reserved"):
         Region("exterior", (Disk(0, 0, 1),), "a")
+    # a part reaching r < 0 in the open r-z half disk names the region
+    with pytest.raises(LayoutError, match="region 'coil': reaches r"):
+        Layout((Region("coil", (Rect(-1e-3, 0.0, 1e-3, 1e-3),), "a"),),
+               air=AirBox("rz-disk", open=True))
+    with pytest.raises(LayoutError, match="sticks out of the air rz-disk"):
+        Layout((Region("coil", (Rect(0.0, 0.0, 1e-3, 1e-3),), "a"),),
+               air=AirBox("rz-disk", size=1e-3))
