@@ -65,6 +65,13 @@ class Planar:
         """B = (dA/dy, -dA/dx) from grad A, shape (2, ...) (T)."""
         return np.stack([g[1], -g[0]])
 
+    def stress_force_density(self, B: np.ndarray, grad_w: np.ndarray,
+                             xy: np.ndarray) -> np.ndarray:
+        """-T . grad w with the air's Maxwell stress T = (B B^T - |B|^2 I / 2)/mu0
+        (N/m^3), shape (2, ...): integrated with the volume weight and times
+        ``total`` it is the force (N) on the body where w = 1."""
+        return -_stress_dot(B, grad_w)
+
 
 @dataclass(frozen=True)
 class Axisymmetric:
@@ -98,6 +105,23 @@ class Axisymmetric:
         """B = (-du/dz, du/dr) / r from grad u, shape (2, ...) (T)."""
         inv_r = 1.0 / xy[0]
         return np.stack([-g[1] * inv_r, g[0] * inv_r])
+
+    def stress_force_density(self, B: np.ndarray, grad_w: np.ndarray,
+                             xy: np.ndarray) -> np.ndarray:
+        """(0, -(T . grad w)_z) in (r, z) (N/m^3): the axial force density; the
+        radial part of a force on a body of revolution cancels round the axis.
+        With the volume weight r and ``total`` 2 pi it is F_z (N)."""
+        f = -_stress_dot(B, grad_w)
+        return np.stack([np.zeros_like(f[1]), f[1]])
+
+
+def _stress_dot(B: np.ndarray, v: np.ndarray) -> np.ndarray:
+    """T . v for the vacuum Maxwell stress T = (B B^T - |B|^2 I / 2) / mu0."""
+    from scipy.constants import mu_0
+
+    bv = B[0] * v[0] + B[1] * v[1]
+    half_b2 = 0.5 * (B[0] ** 2 + B[1] ** 2)
+    return np.stack([B[0] * bv - half_b2 * v[0], B[1] * bv - half_b2 * v[1]]) / mu_0
 
 
 def formulation_for(layout: Layout):

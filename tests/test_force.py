@@ -1,0 +1,89 @@
+"""Force on a body by the weighted Maxwell stress (fem2d.force), against
+exact results."""
+import math
+
+import pytest
+from scipy.constants import mu_0
+
+from fem2d.force import maxwell_force
+from fem2d.layout import AirBox, Annulus, Disk, Layout, MeshSettings, Rect, Region
+from fem2d.materials import AIR, LinearReluctivity
+from fem2d.mesh import build_mesh
+from fem2d.post import PostError
+from fem2d.solver import solve
+from fem2d.verification import _gauss_square, loop_mutual_inductance
+
+A, D = 1e-3, 6e-3
+
+
+@pytest.fixture(scope="module")
+def wire_pair():
+    lay = Layout((Region("w1", (Disk(-D / 2, 0.0, A),), "cu"),
+                  Region("w2", (Disk(D / 2, 0.0, A),), "cu"),
+                  Region("ring", (Annulus(D / 2, 0.0, 1.3 * A, 1.8 * A),), "air2")),
+                 air=AirBox("disk", factor=1.5, open=True),
+                 mesh=MeshSettings(size=A / 4, grading=0.2), depth=0.05)
+    return solve(build_mesh(lay), {"cu": AIR, "air2": AIR}, currents={"w1": 10.0, "w2": -10.0})
+
+
+def test_two_wires_repel_with_the_exact_force(wire_pair):
+    # Source: exact for round wires with uniform current: the force per metre
+    # is mu0 I1 I2 / (2 pi d) (each wire's field outside it is a line
+    # current's; the mean value property gives the force on the other wire);
+    # antiparallel currents repel. Stack depth 50 mm.
+    F = maxwell_force(wire_pair, "w2")
+    ref = 0.05 * mu_0 * 100.0 / (2 * math.pi * D)
+    assert F.force[0] == pytest.approx(ref, rel=1e-4)
+    assert abs(F.force[1]) < 1e-5 * ref
+    assert F.layer_regions == ("air",)
+    # Newton's third law: the other wire feels the opposite force
+    assert maxwell_force(wire_pair, "w1").force[0] == pytest.approx(-ref, rel=1e-4)
+
+
+def test_the_force_does_not_depend_on_the_layer(wire_pair):
+    # the wire alone (layer between it and the air ring at 1.3a..1.8a) and
+    # the wire with the ring (layer outside 1.8a): two different layers, the
+    # same force, since div T = 0 in current-free air (exact)
+    inner = maxwell_force(wire_pair, "w2")
+    outer = maxwell_force(wire_pair, ("w2", "ring"))
+    assert outer.force[0] == pytest.approx(inner.force[0], rel=2e-4)
+
+
+def test_coaxial_coils_attract_by_the_derivative_of_maxwells_mutual_inductance():
+    # Source: F_z = I1 I2 dM/dz with Maxwell's mutual inductance of coaxial
+    # filaments (Treatise, 1873, art. 701), averaged over both 1 x 1 mm
+    # sections by 6x6 Gauss points; dM/dz by a central difference (1e-7 m).
+    s = 1e-3
+    lay = Layout((Region("c1", (Rect(10e-3 - s / 2, -s / 2, 10e-3 + s / 2, s / 2),), "cu"),
+                  Region("c2", (Rect(12e-3 - s / 2, 3e-3 - s / 2, 12e-3 + s / 2, 3e-3 + s / 2),),
+                         "cu")),
+                 air=AirBox("rz-disk", factor=1.5, open=True),
+                 mesh=MeshSettings(size=1.25e-4, grading=0.2, air_size_factor=40.0))
+    sol = solve(build_mesh(lay), {"cu": AIR}, currents={"c1": 1.0, "c2": 1.0})
+    F = maxwell_force(sol, "c2")
+    R1, Z1, W1 = _gauss_square(10e-3 - s / 2, 10e-3 + s / 2, -s / 2, s / 2)
+    R2, Z2, W2 = _gauss_square(12e-3 - s / 2, 12e-3 + s / 2, 3e-3 - s / 2, 3e-3 + s / 2)
+
+    def M(dz):
+        return sum(w1 * w2 * loop_mutual_inductance(r1, r2, z2 - z1 + dz)
+                   for r1, z1, w1 in zip(R1, Z1, W1) for r2, z2, w2 in zip(R2, Z2, W2))
+
+    ref = (M(1e-7) - M(-1e-7)) / 2e-7
+    assert ref < 0  # parallel currents attract: the upper coil is pulled down
+    assert F.force[0] == 0.0
+    assert F.force[1] == pytest.approx(ref, rel=2e-4)
+
+
+def test_a_magnetic_or_current_carrying_neighbour_is_refused():
+    lay = Layout((Region("bar", (Rect(0.0, 0.0, 2e-3, 1e-3),), "iron"),
+                  Region("post", (Rect(2e-3, 0.0, 3e-3, 1e-3),), "iron"),
+                  Region("coil", (Rect(0.0, 1e-3, 2e-3, 2e-3),), "cu")),
+                 air=AirBox("disk", factor=1.5, open=True), mesh=MeshSettings(size=3e-4))
+    sol = solve(build_mesh(lay), {"iron": LinearReluctivity(1000.0), "cu": AIR},
+                currents={"coil": 1.0})
+    with pytest.raises(PostError, match="'post' next to it is magnetic"):
+        maxwell_force(sol, "bar")
+    with pytest.raises(PostError, match="'coil' next to it carries current"):
+        maxwell_force(sol, ("bar", "post"))
+    with pytest.raises(PostError, match="'nothing' not in the layout"):
+        maxwell_force(sol, "nothing")
