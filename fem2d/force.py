@@ -76,7 +76,7 @@ def _layer(sol, body: tuple):
 
 def _carrying(sol) -> set:
     """Regions of the coils that carry current in this solution."""
-    out = set()
+    out: set[str] = set()
     if sol.sources is not None:
         for c in sol.sources.coils:
             if sol.currents.get(c.name, 0.0) != 0.0:
