@@ -415,13 +415,24 @@ def energy(sol) -> float:
 def coenergy(sol) -> float:
     """Co-energy W' = total * int (int_0^H B dH) dV = total * int (nu s - w) dV (J).
 
-    The open exterior is air, where co-energy equals energy.
+    The open exterior is air, where co-energy equals energy.  In a magnet
+    (B = mu H + B_r) the density is int_0^H B dH = mu |H|^2/2 + B_r . H with
+    H = nu (B - B_r), so that dW'/dx at constant currents is the force on a
+    moving part with magnets too.
     """
     asm = _asm(sol)
-    s = asm.s_of(asm.grad(sol.A))
+    g = asm.grad(sol.A)
+    s = asm.s_of(g)
     nu, _ = asm.coefficients(s, derivative=False)
-    return float(asm.formulation.total * (np.sum((nu * s - asm.energy_density(s)) * asm.wv)
-                                          + asm.ext_energy(sol.A)))
+    dens = nu * s - asm.energy_density(s)
+    if asm.magnets:
+        B = asm.b_at_qp(g)
+        for m in asm.magnets:
+            idx = sol.mesh.subdomains[m.region]
+            br = asm.br[:, idx]
+            H = nu[idx] * (B[:, idx] - br)
+            dens[idx] = 0.5 / nu[idx] * (H[0] ** 2 + H[1] ** 2) + br[0] * H[0] + br[1] * H[1]
+    return float(asm.formulation.total * (np.sum(dens * asm.wv) + asm.ext_energy(sol.A)))
 
 
 def source_work(sol) -> float:
