@@ -168,3 +168,20 @@ def test_source_input_errors(pair_open):
     with pytest.raises(LayoutError, match="sticks out of the air rz-disk"):
         Layout((Region("coil", (Rect(0.0, 0.0, 1e-3, 1e-3),), "a"),),
                air=AirBox("rz-disk", size=1e-3))
+
+
+def test_magnet_coenergy_is_half_the_remanence_times_h():
+    # Source: with no currents, int B.H dV = 0 over all space (B solenoidal,
+    # H = -grad phi, decaying), so W' = int_0^H B dH summed = (1/2) int_magnet
+    # B_r . H dV; for a sphere magnet H_in = -B_r/(mu0 (mu_r + 2)) (uniform,
+    # Jackson, Classical Electrodynamics, 1999, sec. 5.10), hence
+    # W' = -B_r^2 V / (2 mu0 (mu_r + 2)). r-z, open boundary.
+    from fem2d.layout import HalfDisk
+
+    a, br, mu_r = 5e-3, 1.2, 1.05
+    lay = Layout((Region("magnet", (HalfDisk(0.0, 0.0, a),), "m", kind="magnet"),),
+                 air=AirBox("rz-disk", factor=1.5, open=True), mesh=MeshSettings(size=a / 12))
+    sol = solve(build_mesh(lay), {"m": AIR}, sources=Sources(magnets=(Magnet("magnet", (0.0, br),
+                                                                             mu_r),)))
+    ref = -br ** 2 * (4.0 / 3.0 * math.pi * a ** 3) / (2 * mu_0 * (mu_r + 2.0))
+    assert post.coenergy(sol) == pytest.approx(ref, rel=2e-4)

@@ -270,7 +270,7 @@ MUTATIONS: tuple[Mutation, ...] = (
       "            dens[idx] = 0.5 / nu[idx] * (H[0] ** 2 + H[1] ** 2) + br[0] * H[0] + br[1] * H[1]",
       "            dens[idx] = dens[idx]",
       "the co-energy of a magnet without its remanence term",
-      ("tests/test_force.py",)),
+      ("tests/test_force.py", "tests/test_sources.py")),
     M("mesh-estimate", "fem2d/geometry.py",
       "_CAL_BULK, _CAL_GAP = 1.45, 1.9", "_CAL_BULK, _CAL_GAP = 0.7, 1.9",
       "the mesh-size estimate off by a factor 2",
