@@ -5,8 +5,10 @@ raise them re-export them under the same names.
 """
 from __future__ import annotations
 
+import math
+
 __all__ = ["LayoutError", "MaterialError", "SolverInputError", "ConvergenceError",
-           "LinearSolverError", "PostError"]
+           "LinearSolverError", "PostError", "finite_number"]
 
 
 class LayoutError(ValueError):
@@ -31,3 +33,14 @@ class LinearSolverError(ValueError):
 
 class PostError(ValueError):
     """Bad post-processing input (point outside the mesh, unknown region, ...)."""
+
+
+def finite_number(label: str, value, error: type[Exception]) -> float:
+    """``value`` as a finite float, else ``error`` naming ``label`` and the value."""
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise error(f"{label} = {value!r} is not a number") from None
+    if not math.isfinite(v):
+        raise error(f"{label} = {value!r} is not finite")
+    return v

@@ -32,17 +32,11 @@ __all__ = [
 RESERVED_NAMES = ("air", "outer", "exterior")
 
 
-from .errors import LayoutError  # noqa: E402  (re-exported)
+from .errors import LayoutError, finite_number  # noqa: E402  (LayoutError re-exported)
 
 
 def _finite(where: str, key: str, value: float) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise LayoutError(f"{where}: {key} = {value!r} is not a number") from None
-    if not math.isfinite(v):
-        raise LayoutError(f"{where}: {key} = {value!r} is not finite")
-    return v
+    return finite_number(f"{where}: {key}", value, LayoutError)
 
 
 def _positive(where: str, key: str, value: float) -> float:

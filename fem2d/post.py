@@ -460,21 +460,34 @@ def incremental_potential(sol, turns: float, plus, minus) -> np.ndarray:
         area = float(np.sum(asm.dx[idx]))
         db_loc[:, idx] += sign * turns / area * asm.phi_int[:, idx]
     db = np.bincount(asm.dofs.ravel(), weights=db_loc.ravel(), minlength=asm.ndofs)
-    dA = np.zeros(asm.ndofs)
+    # 1e-9 relative: d lambda/dI to ~1e-9, far below any discretisation
+    # error, at about half the CG work of 1e-12.
+    return _tangent_solver(sol)(db, 1e-9)
+
+
+def _tangent_solver(sol):
+    """solve(db, rtol) -> dA: the consistent tangent at the converged state,
+    assembled and factorised (or preconditioned) once, applied to full-size
+    load increments; dA is zero on the Dirichlet DOFs."""
+    asm = _asm(sol)
     # One thread for the pip-bundled BLAS, as in the Newton loop: threaded
-    # BLAS inside the AMG setup made this one solve ~10x slower on 2 cores.
+    # BLAS inside the AMG setup made one solve ~10x slower on 2 cores.
     with threadpool_limits(limits=1):
         g = asm.grad(sol.A)
         nu, dnu = asm.coefficients(asm.s_of(g))
         K = asm.tangent(g, nu, None if asm.linear else dnu)
         solve_k = sol.linear_solver(K)
-        if isinstance(solve_k, IterativeSolve):
-            # 1e-9 relative: d lambda/dI to ~1e-9, far below any
-            # discretisation error, at about half the CG work of 1e-12.
-            dA[asm.I] = solve_k(db[asm.I], rtol=1e-9)
-        else:
-            dA[asm.I] = solve_k(db[asm.I])
-    return dA
+
+    def apply(db: np.ndarray, rtol: float) -> np.ndarray:
+        dA = np.zeros(asm.ndofs)
+        with threadpool_limits(limits=1):
+            if isinstance(solve_k, IterativeSolve):
+                dA[asm.I] = solve_k(db[asm.I], rtol=rtol)
+            else:
+                dA[asm.I] = solve_k(db[asm.I])
+        return dA
+
+    return apply
 
 
 def incremental_flux_linkage(sol, turns: float, plus, minus, dA: np.ndarray | None = None) -> float:
@@ -560,20 +573,11 @@ def inductance_matrix(sol, coils=None) -> InductanceMatrix:
         raise PostError("inductance_matrix: no coils")
     C = len(coils)
     L = np.zeros((C, C))
-    with threadpool_limits(limits=1):
-        g = asm.grad(sol.A)
-        nu, dnu = asm.coefficients(asm.s_of(g))
-        K = asm.tangent(g, nu, None if asm.linear else dnu)
-        solve_k = sol.linear_solver(K)
-        for k, ck in enumerate(coils):
-            db = asm.coil_load(ck)
-            dA = np.zeros(asm.ndofs)
-            if isinstance(solve_k, IterativeSolve):
-                dA[asm.I] = solve_k(db[asm.I], rtol=1e-11)
-            else:
-                dA[asm.I] = solve_k(db[asm.I])
-            for j, cj in enumerate(coils):
-                L[j, k] = _coil_linkage(sol, cj, dA)
+    solve_t = _tangent_solver(sol)
+    for k, ck in enumerate(coils):
+        dA = solve_t(asm.coil_load(ck), 1e-11)  # 1e-11: symmetric to ~1e-10
+        for j, cj in enumerate(coils):
+            L[j, k] = _coil_linkage(sol, cj, dA)
     lam = np.array([_coil_linkage(sol, c, sol.A) for c in coils])
     cur = sol.currents
     sec = np.array([lam[j] / cur[c.name] if cur.get(c.name, 0.0) != 0.0 else np.nan

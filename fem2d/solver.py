@@ -19,6 +19,7 @@ from threadpoolctl import threadpool_limits
 
 from .assembly import Assembler
 from .errors import ConvergenceError, SolverInputError
+from .sources import Sources
 from .linsolve import IterativeSolve, LinearSolverError, get_linear_solver
 from .mesh import RegionMesh
 
@@ -273,8 +274,6 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
     if not (isinstance(max_iter, int) and max_iter >= 1):
         raise SolverInputError(f"max_iter = {max_iter!r} must be an int >= 1")
     factory = get_linear_solver(linear_solver)
-    from .sources import Sources
-
     if sources is None:
         sources = Sources.from_layout(mesh.layout)
     elif not isinstance(sources, Sources):

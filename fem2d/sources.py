@@ -12,22 +12,23 @@ B = mu0 mu_r H + B_r (Br a vector in the plane: (x, y), or (r, z) for r-z).
 """
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 
-from .errors import SolverInputError
+from .errors import SolverInputError, finite_number
 
 __all__ = ["Coil", "Magnet", "Background", "Sources"]
 
 
-def _finite(where: str, value) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise SolverInputError(f"{where} = {value!r} is not a number") from None
-    if not math.isfinite(v):
-        raise SolverInputError(f"{where} = {value!r} is not finite")
-    return v
+def _finite(label: str, value) -> float:
+    return finite_number(label, value, SolverInputError)
+
+
+def _vector2(label: str, value) -> tuple[float, float]:
+    """A finite 2-vector (T), else SolverInputError naming ``label``."""
+    v = tuple(value)
+    if len(v) != 2:
+        raise SolverInputError(f"{label} = {value!r} must be a 2-vector (T)")
+    return (_finite(label, v[0]), _finite(label, v[1]))
 
 
 @dataclass(frozen=True)
@@ -74,10 +75,7 @@ class Magnet:
 
     def __post_init__(self) -> None:
         where = f"magnet {self.region!r}"
-        br = tuple(self.remanence)
-        if len(br) != 2:
-            raise SolverInputError(f"{where}: remanence = {self.remanence!r} must be a 2-vector (T)")
-        object.__setattr__(self, "remanence", tuple(_finite(f"{where}: remanence", b) for b in br))
+        object.__setattr__(self, "remanence", _vector2(f"{where}: remanence", self.remanence))
         m = _finite(f"{where}: mu_r", self.mu_r)
         if m <= 0:
             raise SolverInputError(f"{where}: mu_r = {self.mu_r!r} must be > 0")
@@ -96,10 +94,7 @@ class Background:
     b: tuple
 
     def __post_init__(self) -> None:
-        b = tuple(self.b)
-        if len(b) != 2:
-            raise SolverInputError(f"background: b = {self.b!r} must be a 2-vector (T)")
-        object.__setattr__(self, "b", tuple(_finite("background: b", v) for v in b))
+        object.__setattr__(self, "b", _vector2("background: b", self.b))
 
 
 @dataclass(frozen=True)
