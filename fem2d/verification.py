@@ -45,9 +45,24 @@ class VerificationResult:
     source: str
     passed: bool
     seconds: float
+    methods: dict | None = None
+    """Force cases: the value by each method ({"maxwell_stress": N,
+    "virtual_work": N}); ``fe`` is the Maxwell stress and ``rel_error`` the
+    larger of the two methods' errors."""
+    methods_rel_diff: float | None = None
+    """Force cases: |stress - virtual work| / |stress|."""
+    methods_tolerance: float | None = None
+    """Force cases: the agreement required between the two methods."""
 
     def to_dict(self) -> dict:
         return asdict(self)
+
+
+METHODS_TOLERANCE = 1e-3
+"""Maxwell stress and virtual work agree within this on every force case
+(the issue's criterion at the quick meshes; measured: 1e-8 to 1e-6, since
+both are exact derivatives of the same discrete field where the layer is the
+same)."""
 
 
 # ------------------------------------------------------------ references
@@ -311,8 +326,6 @@ def _rz_magnet_cylinder(quick: bool):
 
 
 def _planar_wire_pair_force(quick: bool):
-    from .force import maxwell_force
-
     a, d, current = 1e-3, 6e-3, 10.0
     lay = Layout((Region("w1", (Disk(-d / 2, 0.0, a),), "copper", kind="coil"),
                   Region("w2", (Disk(d / 2, 0.0, a),), "copper", kind="coil")),
@@ -320,17 +333,15 @@ def _planar_wire_pair_force(quick: bool):
                  mesh=MeshSettings(size=a / 4 if quick else a / 8, grading=0.2))
     sol = solve(build_mesh(lay), {"copper": AIR}, currents={"w1": current, "w2": -current},
                 formulation=Planar(1.0))
-    fe = maxwell_force(sol, "w2").force[0]
+    methods = _both(sol, "w2", (1.0, 0.0))
     ref = mu_0 * current ** 2 / (2 * math.pi * d)
     return ("two round wires, 1 mm radius, 6 mm apart, 10 A each way: force per metre",
-            "force (N/m)", fe, ref, 1e-4,
+            "force (N/m)", methods["maxwell_stress"], ref, 1e-4,
             "exact for uniform current in round wires: mu0 I1 I2 / (2 pi d) (each wire's field "
-            "outside it is a line current's); FE by the weighted Maxwell stress")
+            "outside it is a line current's)", methods)
 
 
 def _rz_coaxial_coil_force(quick: bool):
-    from .force import maxwell_force
-
     s = 1e-3
     lay = Layout((Region("c1", (Rect(10e-3 - s / 2, -s / 2, 10e-3 + s / 2, s / 2),), "copper",
                          kind="coil"),
@@ -341,7 +352,7 @@ def _rz_coaxial_coil_force(quick: bool):
                                    air_size_factor=40.0))
     sol = solve(build_mesh(lay), {"copper": AIR}, currents={"c1": 1.0, "c2": 1.0},
                 formulation=Axisymmetric())
-    fe = maxwell_force(sol, "c2").force[1]
+    methods = _both(sol, "c2", (0.0, 1.0))
     R1, Z1, W1 = _gauss_square(10e-3 - s / 2, 10e-3 + s / 2, -s / 2, s / 2)
     R2, Z2, W2 = _gauss_square(12e-3 - s / 2, 12e-3 + s / 2, 3e-3 - s / 2, 3e-3 + s / 2)
 
@@ -351,10 +362,121 @@ def _rz_coaxial_coil_force(quick: bool):
 
     ref = (m(1e-7) - m(-1e-7)) / 2e-7
     return ("two coaxial coils (10 and 12 mm radius, 3 mm apart, 1 A-turn each): axial force",
-            "force F_z (N)", fe, ref, 1e-4,
+            "force F_z (N)", methods["maxwell_stress"], ref, 1e-4,
             "F_z = I1 I2 dM/dz with Maxwell's formula (Treatise, 1873, art. 701) averaged over "
-            "both sections by 6x6 Gauss points, dM/dz by a central difference; FE by the "
-            "weighted Maxwell stress")
+            "both sections by 6x6 Gauss points, dM/dz by a central difference", methods)
+
+
+def _both(sol, body, direction: tuple[float, float]) -> dict[str, float]:
+    """The force on ``body`` along ``direction`` by both methods (N)."""
+    from .force import maxwell_force, virtual_work_force
+
+    f = maxwell_force(sol, body).force
+    return {"maxwell_stress": float(direction[0] * f[0] + direction[1] * f[1]),
+            "virtual_work": float(virtual_work_force(sol, body, direction).force)}
+
+
+def image_force_cylinder(current: float, d: float, a: float, mu_r: float) -> float:
+    """Force per metre (N/m, along the line from the axis to the wire; < 0:
+    attracted) on a line current ``current`` at distance ``d`` from the axis
+    of a linear permeable cylinder of radius ``a`` < d.
+
+    Method of images (exact, 2D): outside the cylinder the field is the
+    wire's plus an image k I at a^2/d and -k I on the axis, k = (mu_r - 1) /
+    (mu_r + 1); inside it is 2 mu_r / (mu_r + 1) times the wire's own field
+    (e.g. Binns, Lawrenson and Trowbridge, The Analytical and Numerical
+    Solution of Electric and Magnetic Fields, 1992, ch. on images [from
+    memory]; the interface conditions are checked in the tests).  As a ->
+    infinity at fixed d - a = h it tends to the half-space's -mu0 k I^2 /
+    (4 pi h).
+    """
+    k = (mu_r - 1.0) / (mu_r + 1.0)
+    b = a * a / d
+    return -mu_0 * k * current * current / (2.0 * math.pi) * (1.0 / (d - b) - 1.0 / d)
+
+
+def _planar_wire_cylinder_force(quick: bool):
+    a, rw, d, current, mu_r = 5e-3, 0.5e-3, 8e-3, 10.0, 10.0
+    lay = Layout((Region("cylinder", (Disk(0.0, 0.0, a),), "iron", kind="core"),
+                  Region("wire", (Disk(d, 0.0, rw),), "copper", kind="coil")),
+                 air=AirBox("disk", factor=1.5, open=True),
+                 mesh=MeshSettings(size=rw / 2 if quick else rw / 4, grading=0.2))
+    sol = solve(build_mesh(lay), {"iron": _linear(mu_r), "copper": AIR},
+                currents={"wire": current}, formulation=Planar(1.0))
+    methods = _both(sol, "wire", (1.0, 0.0))
+    ref = image_force_cylinder(current, d, a, mu_r)
+    return ("round wire (0.5 mm, 10 A) 3 mm from a permeable cylinder (5 mm radius, mu_r 10): "
+            "attraction per metre", "force (N/m)", methods["maxwell_stress"], ref, 2e-4,
+            "exact by the method of images: images k I at a^2/d and -k I on the axis, "
+            "k = (mu_r - 1)/(mu_r + 1) (image_force_cylinder; the half-space is its limit "
+            "a -> infinity); tolerance 2e-4: the mesh's circle of 5 mm radius", methods)
+
+
+def magnet_pair_force(remanence: float, radius: float, length: float, gap: float) -> float:
+    """Axial force (N, < 0: attraction) on the upper of two equal coaxial
+    cylinder magnets (mu_r = 1), both magnetised along +z, faces ``gap``
+    apart.  Each magnet is the sheet current K = B_r/mu0 on its side
+    (exact for mu_r = 1), so F = K^2 int_0^L [M(2L + g - z) - M(L + g - z)] dz
+    with Maxwell's mutual inductance of coaxial loops of equal radius
+    (loop_mutual_inductance) and L the length (the double integral of dM/dz
+    over both sides, integrated once exactly)."""
+    k = remanence / mu_0
+    R, L, g = radius, length, gap
+    val = integrate.quad(lambda z: loop_mutual_inductance(R, R, 2 * L + g - z)
+                         - loop_mutual_inductance(R, R, L + g - z), 0.0, L,
+                         epsabs=0.0, epsrel=1e-12, limit=200)[0]
+    return k * k * val
+
+
+def _rz_magnet_pair(gap: float):
+    def case(quick: bool):
+        R, L, br = 5e-3, 5e-3, 1.2
+        c = 0.4e-3  # the air shell moved with the magnet (see below)
+        z0, z1 = L + gap, 2 * L + gap
+        shell = Region("shell", (Rect(0.0, z0 - c, R + c, z0), Rect(R, z0, R + c, z1),
+                                 Rect(0.0, z1, R + c, z1 + c)), "air", kind="air")
+        lay = Layout((Region("m1", (Rect(0.0, 0.0, R, L),), "pm", kind="magnet"),
+                      Region("m2", (Rect(0.0, z0, R, z1),), "pm", kind="magnet"), shell),
+                     air=AirBox("rz-disk", factor=1.5, open=True),
+                     mesh=MeshSettings(size=2.5e-4 if quick else 1.25e-4, grading=0.2))
+        mags = (Magnet("m1", (0.0, br), 1.0), Magnet("m2", (0.0, br), 1.0))
+        sol = solve(build_mesh(lay), {"pm": AIR, "air": AIR}, sources=Sources(magnets=mags),
+                    formulation=Axisymmetric())
+        # the body is the magnet with a 0.4 mm air shell: the stress layer
+        # then lies off the magnet's edges, where B is log-singular
+        methods = _both(sol, ("m2", "shell"), (0.0, 1.0))
+        ref = magnet_pair_force(br, R, L, gap)
+        return (f"two coaxial cylinder magnets (B_r 1.2 T, mu_r 1, 5 mm radius, 5 mm long), "
+                f"faces {gap * 1e3:g} mm apart: axial force on the upper", "force F_z (N)",
+                methods["maxwell_stress"], ref, 1e-4,
+                "exact for mu_r = 1: the magnets as sheet currents B_r/mu0 on their sides, "
+                "F = K^2 int int dM/dz with Maxwell's formula (Treatise, 1873, art. 701) "
+                "(magnet_pair_force; agrees with magpylib's getFT to 2e-7 in the tests)", methods)
+    return case
+
+
+def _planar_armature_force(quick: bool):
+    mm, g = 1e-3, 0.5e-3
+    core = Region("core", (Rect(0, 0, 40 * mm, 10 * mm), Rect(0, 10 * mm, 10 * mm, 30 * mm),
+                           Rect(30 * mm, 10 * mm, 40 * mm, 30 * mm)), "steel", kind="core")
+    arm = Region("armature", (Rect(0, 30 * mm + g, 40 * mm, 38 * mm + g),), "steel", kind="core")
+    gaps = [Region(n, (Rect(x0, 30 * mm, x0 + 10 * mm, 30 * mm + g),), "air", kind="gap")
+            for n, x0 in (("gapL", 0.0), ("gapR", 30 * mm))]
+    coils = [Region("c+", (Rect(12 * mm, 12 * mm, 18 * mm, 26 * mm),), "copper", kind="coil"),
+             Region("c-", (Rect(-8 * mm, 12 * mm, -2 * mm, 26 * mm),), "copper", kind="coil")]
+    lay = Layout((core, arm, *gaps, *coils), air=AirBox("disk", factor=1.5, open=True),
+                 depth=20 * mm, mesh=MeshSettings(size=None if quick else 1.25 * mm))
+    from .sources import Coil
+
+    src = Sources(coils=(Coil("w", (("c+", 1), ("c-", -1)), 200),))
+    sol = solve(build_mesh(lay), {"steel": BRAUER, "copper": AIR, "air": AIR}, sources=src,
+                currents={"w": 15.0}, formulation=Planar(20 * mm))
+    methods = _both(sol, "armature", (0.0, -1.0))
+    return ("U core and armature, saturating steel (Brauer law), two 0.5 mm gaps, 200 turns "
+            "x 15 A, stack 20 mm: pull on the armature", "force (N)", methods["maxwell_stress"],
+            methods["virtual_work"], METHODS_TOLERANCE,
+            "no exact solution with saturating iron: the check is that the two independent "
+            "methods agree (reference = virtual work)", methods)
 
 
 def _linear(mu_r: float):
@@ -378,6 +500,11 @@ CASES: dict[str, tuple[str, Callable]] = {
     "rz-magnet-cylinder": ("axisymmetric", _rz_magnet_cylinder),
     "planar-wire-pair-force": ("planar", _planar_wire_pair_force),
     "rz-coaxial-coil-force": ("axisymmetric", _rz_coaxial_coil_force),
+    "planar-wire-cylinder-force": ("planar", _planar_wire_cylinder_force),
+    "rz-magnet-pair-force-1mm": ("axisymmetric", _rz_magnet_pair(1e-3)),
+    "rz-magnet-pair-force-2.5mm": ("axisymmetric", _rz_magnet_pair(2.5e-3)),
+    "rz-magnet-pair-force-5mm": ("axisymmetric", _rz_magnet_pair(5e-3)),
+    "planar-armature-force": ("planar", _planar_armature_force),
 }
 
 
@@ -388,9 +515,19 @@ def run_cases(quick: bool = True, names: tuple[str, ...] | None = None) -> list[
         if names is not None and name not in names:
             continue
         t0 = time.perf_counter()
-        title, quantity, fe, ref, tol, source = fn(quick)
-        err = abs(fe - ref) / abs(ref)
-        out.append(VerificationResult(f"{name}: {title}", form, quantity, float(fe), float(ref),
-                                      float(err), tol, source, bool(err <= tol),
-                                      time.perf_counter() - t0))
+        title, quantity, fe, ref, tol, source, *more = fn(quick)
+        methods = more[0] if more else None
+        values = list(methods.values()) if methods else [fe]
+        err = max(abs(v - ref) / abs(ref) for v in values)
+        passed = err <= tol
+        spread = None
+        if methods:
+            spread = abs(methods["maxwell_stress"] - methods["virtual_work"]) \
+                / abs(methods["maxwell_stress"])
+            passed = passed and spread <= METHODS_TOLERANCE
+        out.append(VerificationResult(
+            f"{name}: {title}", form, quantity, float(fe), float(ref), float(err), tol, source,
+            bool(passed), time.perf_counter() - t0, methods,
+            None if spread is None else float(spread),
+            None if spread is None else METHODS_TOLERANCE))
     return out

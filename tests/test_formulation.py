@@ -141,5 +141,17 @@ def test_selftest_command(tmp_path, capsys):
     data = json.loads(out.read_text())
     assert set(data) == {"cases", "seconds", "passed"} and data["passed"]
     assert set(data["cases"][0]) == {"name", "formulation", "quantity", "fe", "reference",
-                                     "rel_error", "tolerance", "source", "passed"}
+                                     "rel_error", "tolerance", "source", "passed", "methods",
+                                     "methods_rel_diff", "methods_tolerance"}
     assert "rz-mutual-inductance" in capsys.readouterr().out
+    # force cases in both formulations, each by both methods, both methods
+    # within the reference's tolerance and within 1e-3 of each other
+    cases = [c for c in data["cases"] if "force" in c["name"]]
+    assert {c["formulation"] for c in cases} == {"planar", "axisymmetric"}
+    assert len(cases) >= 7
+    for c in cases:
+        ms, vw = c["methods"]["maxwell_stress"], c["methods"]["virtual_work"]
+        assert c["passed"] and c["fe"] == ms
+        assert abs(ms - vw) <= 1e-3 * abs(ms)
+        assert abs(vw - c["reference"]) <= c["tolerance"] * abs(c["reference"])
+    assert all(c["methods"] is None for c in data["cases"] if "force" not in c["name"])
