@@ -128,6 +128,11 @@ class GapBranch:
     kind : str
         "gap" (an air gap of the core) or "leakage" (a linear air path that
         bypasses part of the core, e.g. across a winding window).
+    dpermeance_dlength : float or None
+        dP/dg (Wb/A per m), the permeance's derivative with respect to the gap
+        length at fixed faces (e.g. :func:`analytic.fringing.gap_permeance_derivative`);
+        with it the gap's closing force follows from one solve
+        (:func:`analytic.force.gap_forces`).
     """
 
     name: str
@@ -137,10 +142,17 @@ class GapBranch:
     permeance: float
     effective_area: float
     kind: str = "gap"
+    dpermeance_dlength: float | None = None
 
     def __post_init__(self) -> None:
         for key in ("length", "permeance", "effective_area"):
             object.__setattr__(self, key, _positive("gap branch", self.name, key, getattr(self, key)))
+        d = self.dpermeance_dlength
+        if d is not None:
+            if isinstance(d, bool) or not isinstance(d, (int, float)) or not math.isfinite(d):
+                raise NetworkError(f"gap branch {self.name!r}: dpermeance_dlength = {d!r} must be "
+                                   "a finite number (Wb/A per m)")
+            object.__setattr__(self, "dpermeance_dlength", float(d))
 
 
 @dataclass(frozen=True)

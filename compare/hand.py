@@ -13,7 +13,8 @@ import math
 from dataclasses import dataclass, field, replace
 from typing import Any
 
-from analytic.fringing import GapFace, GapSides, effective_area, gap_permeance, get_fringing
+from analytic.fringing import (GapFace, GapSides, effective_area, gap_permeance,
+                               gap_permeance_derivative, get_fringing)
 from analytic.constants import mu_0
 from analytic.network import CoreBranch, GapBranch, Network, NetworkResult, Winding, solve_network
 
@@ -118,7 +119,9 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
             name = f"gap{i}"
             branches.append(GapBranch(name, b, nxt, face.length,
                                       gap_permeance(face, model, planar),
-                                      effective_area(face, model, planar)))
+                                      effective_area(face, model, planar),
+                                      dpermeance_dlength=gap_permeance_derivative(
+                                          face, model, planar)))
             gap_names[i] = name
             b = nxt
     if leakage:
@@ -179,7 +182,9 @@ def _effective_network(case: Case, model, planar: bool, leakage: bool,
         if name.startswith("gap"):
             face = gap_face(case, what)
             branches.append(GapBranch(name, a, b, face.length, gap_permeance(face, model, planar),
-                                      effective_area(face, model, planar)))
+                                      effective_area(face, model, planar),
+                                      dpermeance_dlength=gap_permeance_derivative(
+                                          face, model, planar)))
         else:
             branches.append(CoreBranch(name, a, b, what, area, law))
             if name == "core/facing":

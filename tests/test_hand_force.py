@@ -57,3 +57,55 @@ def test_maxwell_pull_value_and_bad_input():
     with pytest.raises(ValueError, match="delta"):
         virtual_work_force(lambda x: loop(LinearMaterial(100.0), x), 1e-3, delta=2e-3)
     assert math.isfinite(virtual_work_force(lambda x: loop(LinearMaterial(100.0), x), 1e-3).force)
+
+
+# ---------------------------------------------- gap branches' geometry derivative
+def test_the_ideal_gap_derivative_is_minus_p0_over_g():
+    # exact: P = mu0 a b / g, dP/dg = -P/g
+    from analytic.fringing import GapFace, gap_permeance_derivative
+
+    face = GapFace(1e-3, 10e-3, 20e-3, 30e-3)
+    d = gap_permeance_derivative(face, "none", planar=False)
+    assert d == pytest.approx(-face.ideal_permeance / face.length, rel=1e-10)
+
+
+@pytest.mark.parametrize("model", ["none", "area", "flux-factor", "conformal", "flux-tube"])
+@pytest.mark.parametrize("planar", [True, False])
+def test_gap_forces_from_one_solve_equal_the_network_virtual_work(model, planar):
+    # For every fringing model: -(1/2) F^2 dP/dg from one solve equals the
+    # central difference of the network's co-energy over two solves with the
+    # gap at g -/+ 1e-3 g (the same virtual-work principle two ways), in a
+    # loop whose steel saturates (1.8 T) so the core's share is not trivial.
+    from analytic.fringing import FRINGING_MODELS, GapFace, GapSides, effective_area, \
+        gap_permeance, gap_permeance_derivative
+    from analytic.force import gap_forces
+
+    assert set(FRINGING_MODELS) == {"none", "area", "flux-factor", "conformal", "flux-tube"}
+    steel = builtin("demo-sisteel")
+    sides = GapSides((8e-3, 12e-3), (8e-3, 30e-3), (5e-3, 5e-3), (15e-3, math.inf))
+
+    def build(g):
+        face = GapFace(g, 20e-3, 20e-3, 30e-3, sides)
+        return Network(nodes=("a", "b"), branches=(
+            CoreBranch("core", "a", "b", L_CORE, AREA, steel),
+            GapBranch("gap", "b", "a", g, gap_permeance(face, model, planar),
+                      effective_area(face, model, planar),
+                      dpermeance_dlength=gap_permeance_derivative(face, model, planar))),
+            windings=(Winding("w", N, 8.0, "core"),))
+
+    g = 0.8e-3
+    net = build(g)
+    res = solve_network(net, rtol=1e-12).raise_if_failed()
+    assert abs(res.branch("core").B) > 1.5
+    one = gap_forces(net, res)["gap"]
+    assert one > 0
+    assert one == pytest.approx(gap_closing_force(build, g), rel=1e-5)
+    if model == "none":  # and the Maxwell pull, exactly (series loop, ideal gap)
+        assert one == pytest.approx(maxwell_pull(res.branch("gap").flux / AREA, AREA), rel=1e-9)
+
+
+def test_a_non_finite_permeance_derivative_is_refused():
+    from analytic.network import NetworkError
+
+    with pytest.raises(NetworkError, match=r"'g': dpermeance_dlength = nan"):
+        GapBranch("g", "a", "b", 1e-3, 1e-7, 1e-4, dpermeance_dlength=float("nan"))
