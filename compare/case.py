@@ -289,8 +289,8 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     hand = _read_hand(root.table("hand", {}))
     fe = _read_fe(root.table("fe", {}))
     margins = _read_margins(root.table("margins", {}))
-    sweeps = _read_sweeps(root, "sweep")
-    tolerances = tuple(_read_tolerance(t) for t in root.tables("tolerances"))
+    sweeps = _read_sweeps(root, "sweep", family)
+    tolerances = tuple(_read_tolerance(t, family) for t in root.tables("tolerances"))
     root.finish()
     case = Case(name=name, family=family_name, core=core, gaps=gaps, winding=winding,
                 materials=materials, hand=hand, fe=fe, margins=margins, sweeps=sweeps,
@@ -556,7 +556,7 @@ def _read_margins(t: TableReader) -> Margins:
                    copper_fill=fill, inductance=tuple(inductance), saturation=tuple(saturation))
 
 
-def _read_sweeps(root: TableReader, name: str) -> tuple[SweepDecl, ...]:
+def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDecl, ...]:
     raw = root.raw(name, [])
     items = [raw] if isinstance(raw, dict) else raw
     if not isinstance(items, list):
@@ -571,7 +571,7 @@ def _read_sweeps(root: TableReader, name: str) -> tuple[SweepDecl, ...]:
         if not isinstance(vary, list) or not vary or not all(isinstance(v, str) for v in vary):
             raise CaseError(t.key("vary"), vary, 'must be a list of "KEY=SPEC" strings')
         for spec in vary:
-            parse_vary(spec, where=t.key("vary"))
+            parse_vary(spec, where=t.key("vary"), family=family)
         drops = t.raw("drops_pct", [10, 20, 30])
         if (not isinstance(drops, list) or not drops
                 or not all(isinstance(d, (int, float)) and not isinstance(d, bool)
@@ -586,12 +586,12 @@ def _read_sweeps(root: TableReader, name: str) -> tuple[SweepDecl, ...]:
 DISTRIBUTIONS = ("uniform", "normal")
 
 
-def _read_tolerance(t: TableReader) -> Tolerance:
+def _read_tolerance(t: TableReader, family: Family) -> Tolerance:
 
     key = t.string("key")
     try:
         parse_key(key)
-        dim = key_dimension(key)
+        dim = key_dimension(key, family)
     except CaseError as exc:
         raise CaseError(t.key("key"), key, exc.reason) from None
     dist = t.string("distribution", choices=DISTRIBUTIONS)

@@ -57,34 +57,37 @@ def parse_key(key: str) -> tuple[str | int, ...]:
 
 
 _NAMES = {
-    "core": ("outer_width", "outer_height", "limb_width", "depth", "centre_width",
-             "yoke_width", "window_width", "window_height", "left", "right", "top", "bottom"),
     "gaps": ("length", "position"),
     "winding": ("current", "turns", "thickness", "length", "fill"),
 }
+"""The variable keys of the tables every case has; ``[core]``'s come from its family."""
 
 
-def key_dimension(key: str) -> str:
+def key_dimension(key: str, family: Any = None) -> str:
     """The dimension (compare.units) of a variable case key, or ``"integer"``.
 
-    Only design keys may vary: [core] dimensions, [[gaps]] length and
+    Only design keys may vary: [core] dimensions (the family's ``core_keys``;
+    without a family, those of every known family), [[gaps]] length and
     position, [winding] current, turns, thickness, length and fill, and the
     core material (``materials.core.mu_r``, ``scale_H``, ``scale_B``).
     """
     import difflib
 
+    from .families import core_keys
+
     parts = [p for p in parse_key(key) if isinstance(p, str)]
     top, last = parts[0], parts[-1]
     if key in SCALE_KEYS or key == "materials.core.mu_r":
         return "dimensionless"
-    if top not in _NAMES:
+    names = dict(_NAMES, core=tuple(family.core_keys) if family is not None else core_keys())
+    if top not in names:
         raise CaseError("key", key, "cannot vary: only keys of [core], [[gaps]], [winding], "
                                     "materials.core.mu_r and materials.core.scale_H/scale_B can")
-    if last not in _NAMES[top]:
-        close = difflib.get_close_matches(last, _NAMES[top], n=1)
+    if last not in names[top]:
+        close = difflib.get_close_matches(last, names[top], n=1)
         hint = f"; did you mean '{close[0]}'?" if close else ""
         raise CaseError("key", key, f"is not a numeric key of [{top}] that can vary "
-                                    f"(known: {', '.join(_NAMES[top])}){hint}")
+                                    f"(known: {', '.join(names[top])}){hint}")
     if last == "current":
         return "current"
     if last == "turns":
@@ -130,8 +133,9 @@ def _vary_error(spec: str, where: str, reason: str) -> CaseError:
     return CaseError(where, spec, reason)
 
 
-def parse_vary(spec: str, *, where: str = "--vary") -> VarySpec:
-    """Read ``KEY=SPEC`` into a :class:`VarySpec` (values in SI).
+def parse_vary(spec: str, *, where: str = "--vary", family: Any = None) -> VarySpec:
+    """Read ``KEY=SPEC`` into a :class:`VarySpec` (values in SI); ``family``
+    (the case's core family) narrows the ``[core]`` keys to its own.
 
     Raises
     ------
@@ -144,7 +148,7 @@ def parse_vary(spec: str, *, where: str = "--vary") -> VarySpec:
         raise _vary_error(spec, where, "write KEY=SPEC, e.g. winding.current=0:20A:41 or "
                                        "gaps[0].length=0.5mm,0.8mm")
     try:
-        dim = key_dimension(key)
+        dim = key_dimension(key, family)
     except CaseError as exc:
         raise _vary_error(spec, where, f"key '{key}' {exc.reason}") from None
     try:

@@ -159,8 +159,8 @@ def verify_case(path: str, stored: dict | None = None, *, use_baseline: bool = F
     try:
         src, case = case_source(path)
         name = case.name
-        specs_per_sweep = [[parse_vary(v, where=f"sweep.vary") for v in decl.vary]
-                           for decl in case.sweeps]
+        specs_per_sweep = [[parse_vary(v, where="sweep.vary", family=case.family_model)
+                            for v in decl.vary] for decl in case.sweeps]
         res = run_check(case, estimate_error=estimate_error)
         items += _check_items(res)
         for decl, specs in zip(case.sweeps, specs_per_sweep):

@@ -42,12 +42,12 @@ class Mutation:
 M = Mutation
 MUTATIONS: tuple[Mutation, ...] = (
     # ---------------------------------------------------------------- compare: geometry -> circuit
-    M("window-other-limb-area", "compare/families.py",
+    M("window-other-limb-area", "compare/families/window_core.py",
       'Segment("right", "tr", "br", yt - yb, c.right * d, "right"),',
       'Segment("right", "tr", "br", yt - yb, c.left * d, "right"),',
       "a window-core segment takes another limb's width for its area",
       ("tests/test_circuit_geometry.py", "tests/test_network.py")),
-    M("ei-centre-length", "compare/families.py",
+    M("ei-centre-length", "compare/families/ei_core.py",
       'Segment("centre", "bc", "tc", yt - yb, c.centre * d, "centre"),',
       'Segment("centre", "bc", "tc", 1.1 * (yt - yb), c.centre * d, "centre"),',
       "the EI centre limb 10 % too long",
@@ -175,7 +175,7 @@ MUTATIONS: tuple[Mutation, ...] = (
       "        area = seg.area",
       "the stacking factor left off the core segments",
       ("tests/test_stacking.py",)),
-    M("ei-junction", "compare/families.py",
+    M("ei-junction", "compare/families/ei_core.py",
       "q = 0.25 * c.centre  # the yokes stop at the half-limbs' centre lines",
       "q = 0.0  # the yokes stop at the half-limbs' centre lines",
       "EI T-junctions counted 1.5 times",

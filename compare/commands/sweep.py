@@ -128,7 +128,7 @@ def run(args: argparse.Namespace) -> int:
     if not specs_text:
         raise CaseError("--vary", None, "give at least one --vary KEY=SPEC (the case declares "
                                         "no [sweep])")
-    specs = [parse_vary(s) for s in specs_text]
+    specs = [parse_vary(s, family=case.family_model) for s in specs_text]
     decl = case.sweeps[0] if (case.sweeps and not args.vary) else None
     drops = _drops(args.drops, decl.drops if decl else (0.10, 0.20, 0.30))
     kind = args.inductance or (decl.inductance if decl else "incremental")

@@ -1,0 +1,89 @@
+"""What a core family provides: the mean-path segments, the winding windows
+and the protocol every family implements (lengths in m, areas in m^2)."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Any, Protocol
+
+from ..geometry import Limb, Rect
+from ..reader import TableReader
+
+__all__ = ["Segment", "Window", "Family", "INF"]
+
+INF = math.inf
+
+@dataclass(frozen=True)
+class Segment:
+    """One stretch of the core's mean path, between two network nodes.
+
+    Attributes
+    ----------
+    name : str
+        Branch name in the network and in reports.
+    node_a, node_b : str
+        End nodes; flux is counted positive from a to b.
+    length : float
+        Mean-path length (m), including any gap in it.
+    area : float
+        Core cross-section (m^2), limb width times stack depth.
+    limb : str
+        Case-file limb name this segment runs along (gaps and windings on
+        that limb are placed in this segment).
+    on_path : bool
+        True when the segment belongs to the closed mean path through the
+        winding that path-averaged quantities use.
+    """
+
+    name: str
+    node_a: str
+    node_b: str
+    length: float
+    area: float
+    limb: str
+    on_path: bool = True
+
+
+@dataclass(frozen=True)
+class Window:
+    """A winding window beside a limb, for the leakage across it.
+
+    width : from the limb's face to the facing limb's face (m).
+    facing : the limb across the window.
+    lo_side : limbs (yokes) the return loop of the leakage runs along at the
+        lo end of the winding limb: their gaps are always crossed.
+    lo_segments : the network segments of that return (their iron's MMF
+        drop is always crossed); default: the lo_side limbs' segments.
+    """
+
+    width: float
+    facing: str
+    lo_side: tuple[str, ...] = ()
+    lo_segments: tuple[str, ...] | None = None
+
+
+class Family(Protocol):
+    """What a core family provides. Lengths in m, areas in m^2."""
+
+    name: str
+    limb_names: tuple[str, ...]
+    winding_limbs: tuple[str, ...]
+    core_keys: tuple[str, ...]
+    """The numeric ``[core]`` keys (lengths) that sweeps and tolerances may vary."""
+
+    def read_core(self, t: TableReader) -> Any: ...
+
+    def limbs(self, core: Any) -> dict[str, Limb]: ...
+
+    def core_rects(self, core: Any) -> list[Rect]: ...
+
+    def segments(self, core: Any) -> list[Segment]: ...
+
+    def mean_path(self, core: Any) -> list[tuple[float, float]]: ...
+
+    def windows(self, core: Any, limb: str) -> list[Window]: ...
+
+    def effective_path(self, core: Any) -> tuple[list[tuple[str, float, float]], tuple[str, ...]]: ...
+
+
