@@ -94,7 +94,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_OK
     except KeyboardInterrupt:
         print("magcheck: interrupted", file=sys.stderr)
-        from fem2d.geometry import meshing_in_progress
+        from fem2d.mesher import meshing_in_progress
 
         if meshing_in_progress():
             # gmsh is still working in the abandoned helper thread: end the

@@ -19,8 +19,8 @@ from typing import Any
 import numpy as np
 
 from fem2d import post
-from fem2d.geometry import estimate_triangles
-from fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
+from fem2d.mesher import estimate_triangles
+from fem2d.layout import AirBox, Layout, MeshSettings, Region
 from fem2d.mesh import RegionMesh, build_mesh
 from fem2d.solver import ConvergenceError, FieldSolution, solve
 from fem2d.sources import Coil, Sources
@@ -52,15 +52,15 @@ def case_layout(case: Case, *, refine: float = 1.0) -> Layout:
     """
     fam = case.family_model
     limbs = case.limbs
-    regions = [Region("core", tuple(Rect(*r) for r in fam.core_rects(case.core)),
+    regions = [Region("core", tuple(fam.core_rects(case.core)),
                       material="core", kind="core")]
     for i, gap in enumerate(case.gaps):
-        regions.append(Region(f"gap{i}", (Rect(*gap_rect(limbs[gap.limb], gap)),),
+        regions.append(Region(f"gap{i}", (gap_rect(limbs[gap.limb], gap),),
                               material="air", kind="gap"))
     w = case.winding
     plus, minus = coil_rects(limbs[w.limb], w)
-    regions.append(Region(COIL_PLUS, (Rect(*plus),), material="air", kind="coil"))
-    regions.append(Region(COIL_MINUS, (Rect(*minus),), material="air", kind="coil"))
+    regions.append(Region(COIL_PLUS, (plus,), material="air", kind="coil"))
+    regions.append(Region(COIL_MINUS, (minus,), material="air", kind="coil"))
     fe = case.fe
     air = (AirBox("disk", factor=fe.air_extent, open=True) if fe.boundary == "open"
            else AirBox("box", factor=fe.air_extent))

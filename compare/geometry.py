@@ -12,10 +12,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-__all__ = ["Limb", "Gap", "Winding", "Rect", "gap_rect", "coil_rects"]
+from fem2d.layout import Rect
 
-Rect = tuple[float, float, float, float]
-"""An axis-aligned rectangle (x0, y0, x1, y1) in metres."""
+__all__ = ["Limb", "Gap", "Winding", "Rect", "gap_rect", "coil_rects"]
 
 
 @dataclass(frozen=True)
@@ -83,8 +82,8 @@ class Limb:
     def rect(self, a0: float, a1: float, t0: float, t1: float) -> Rect:
         """Rectangle spanning [a0, a1] along the limb and [t0, t1] across it."""
         if self.axis == "y":
-            return (t0, a0, t1, a1)
-        return (a0, t0, a1, t1)
+            return Rect(t0, a0, t1, a1)
+        return Rect(a0, t0, a1, t1)
 
 
 @dataclass(frozen=True)

@@ -37,7 +37,6 @@ from pathlib import Path
 from typing import Any, Callable, Sequence
 
 import numpy as np
-from analytic.constants import mu_0
 
 from analytic.bh import BHDataError, scale_law  # noqa: F401 (scale_law re-exported)
 

@@ -16,7 +16,6 @@ from __future__ import annotations
 
 import math
 import re
-from dataclasses import dataclass
 
 __all__ = ["UnitError", "Dimension", "DIMENSIONS", "parse_quantity", "format_si"]
 

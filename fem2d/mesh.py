@@ -12,7 +12,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from skfem import MeshTri1, MeshTri2
 
-from .geometry import mesh_layout
+from .mesher import mesh_layout
 from .layout import Layout, LayoutError
 
 __all__ = ["RegionMesh", "build_mesh"]

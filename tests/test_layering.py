@@ -89,4 +89,4 @@ def test_the_graph_is_read():
     graph = _graph()
     assert "compare.keys" in graph["compare.case"]
     assert "compare.case" in graph["compare.sweep"]
-    assert "fem2d.layout" in graph["fem2d.geometry"] or "fem2d.layout" in graph["fem2d.mesh"]
+    assert "fem2d.layout" in graph["fem2d.mesher"] or "fem2d.layout" in graph["fem2d.mesh"]

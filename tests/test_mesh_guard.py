@@ -13,7 +13,7 @@ from compare.case import case_from_dict, load_case
 from compare.cli import main
 from compare.errors import CaseError
 from compare.fe import MAX_TRIANGLES, case_layout, guard_mesh_size
-from fem2d.geometry import TRIANGLE_ESTIMATE_RATIO, estimate_triangles, mesh_layout
+from fem2d.mesher import TRIANGLE_ESTIMATE_RATIO, estimate_triangles, mesh_layout
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 

@@ -271,7 +271,7 @@ MUTATIONS: tuple[Mutation, ...] = (
       "            dens[idx] = dens[idx]",
       "the co-energy of a magnet without its remanence term",
       ("tests/test_force.py", "tests/test_sources.py")),
-    M("mesh-estimate", "fem2d/geometry.py",
+    M("mesh-estimate", "fem2d/mesher.py",
       "_CAL_BULK, _CAL_GAP = 1.45, 1.9", "_CAL_BULK, _CAL_GAP = 0.7, 1.9",
       "the mesh-size estimate off by a factor 2",
       ("tests/test_mesh_guard.py",)),

@@ -72,11 +72,11 @@ class EICore:
         W, H = c.outer_width, c.outer_height
         xc0 = c.outer + c.window_width
         return [
-            (0.0, 0.0, c.outer, H),
-            (W - c.outer, 0.0, W, H),
-            (xc0, c.yoke, xc0 + c.centre, H - c.yoke),
-            (c.outer, 0.0, W - c.outer, c.yoke),
-            (c.outer, H - c.yoke, W - c.outer, H),
+            Rect(0.0, 0.0, c.outer, H),
+            Rect(W - c.outer, 0.0, W, H),
+            Rect(xc0, c.yoke, xc0 + c.centre, H - c.yoke),
+            Rect(c.outer, 0.0, W - c.outer, c.yoke),
+            Rect(c.outer, H - c.yoke, W - c.outer, H),
         ]
 
     def _lines(self, c: EICoreDims) -> tuple[float, float, float, float, float]:

@@ -86,10 +86,10 @@ class WindowCore:
     def core_rects(self, c: WindowCoreDims) -> list[Rect]:
         W, H = c.outer_width, c.outer_height
         return [
-            (0.0, 0.0, c.left, H),
-            (W - c.right, 0.0, W, H),
-            (c.left, 0.0, W - c.right, c.bottom),
-            (c.left, H - c.top, W - c.right, H),
+            Rect(0.0, 0.0, c.left, H),
+            Rect(W - c.right, 0.0, W, H),
+            Rect(c.left, 0.0, W - c.right, c.bottom),
+            Rect(c.left, H - c.top, W - c.right, H),
         ]
 
     def _corners(self, c: WindowCoreDims) -> tuple[float, float, float, float]:
