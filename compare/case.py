@@ -6,7 +6,7 @@ edge: the models downstream trust the data they are given. Layout::
     [case]       name, family, description
     [core]       family dimensions (see compare.families)
     [[gaps]]     limb, length, position (optional; default mid-limb)
-    [winding]    limb, turns, current, and thickness + length, or fill
+    [winding]    limb, turns, current, and thickness + length, or fill; clearance
     [materials]  core = "<built-in>" | {csv = "file.csv"} |
                  {H = [...], B = [...], H_unit = "A/m", B_unit = "T"} | {mu_r = 2000}
     [hand]       fringing = "<model>"
@@ -34,7 +34,7 @@ from analytic.materials import bh_from_table, builtin, builtin_names, load_bh_cs
 
 from .errors import CaseError, CaseWarning
 from .families import FAMILIES, Family, get_family
-from .geometry import Gap, Limb, Winding
+from .geometry import Gap, Limb, WindingSpec
 from .keys import key_dimension, parse_key, parse_vary
 from .reader import TableReader
 
@@ -206,7 +206,7 @@ class Case:
     family: str
     core: Any
     gaps: tuple[Gap, ...]
-    winding: Winding
+    winding: WindingSpec
     materials: tuple[MaterialSpec, ...]
     hand: HandSettings = HandSettings()
     fe: FESettings = FESettings()
@@ -377,12 +377,17 @@ def _check_gap_overlap(gaps: tuple[Gap, ...]) -> None:
                                 f"gap overlaps gaps[{j}] on the {a.limb} limb")
 
 
-def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Winding:
+def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb]) -> WindingSpec:
     limb_name = t.string("limb", choices=family.winding_limbs)
     limb = limbs[limb_name]
     turns = t.integer("turns", minimum=1)
     current = t.quantity("current", "current", positive=False)
     room = min(limb.room_minus, limb.room_plus)
+    clearance = t.quantity("clearance", "length", 0.0, positive=False)
+    if clearance < 0 or clearance >= room:
+        raise CaseError(t.key("clearance"), t.data["clearance"],
+                        f"must be >= 0 and less than the {room * 1e3:g} mm window width beside "
+                        f"the {limb_name} limb")
     if t.has("fill"):
         if t.has("thickness") or t.has("length"):
             raise CaseError(t.key("fill"), t.data["fill"],
@@ -390,16 +395,18 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Win
         fill = t.number("fill", lo=0.0, hi=1.0)
         if fill <= 0.0:
             raise CaseError(t.key("fill"), t.data["fill"], "must be positive")
-        # Fill fraction of the window beside the limb: the coil takes the
-        # limb's whole straight length and that fraction of the window width.
-        thickness, length = fill * room, limb.span
+        # Fill fraction of the window beside the limb (less the clearance):
+        # the coil takes the limb's whole straight length and that fraction
+        # of the free width.
+        thickness, length = fill * (room - clearance), limb.span
     else:
         thickness = t.quantity("thickness", "length")
         length = t.quantity("length", "length")
-        if thickness > room * (1 + 1e-9):
+        if thickness + clearance > room * (1 + 1e-9):
+            extra = f" plus the {clearance * 1e3:g} mm clearance" if clearance else ""
             raise CaseError(t.key("thickness"), t.data["thickness"],
-                            f"winding does not fit the window: coil build {thickness * 1e3:g} mm "
-                            f"is more than the {room * 1e3:g} mm window width beside the "
+                            f"winding does not fit the window: coil build {thickness * 1e3:g} mm"
+                            f"{extra} is more than the {room * 1e3:g} mm window width beside the "
                             f"{limb_name} limb (the coil would overlap the core)")
         if length > limb.span * (1 + 1e-9):
             raise CaseError(t.key("length"), t.data["length"],
@@ -407,7 +414,7 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Win
                             f"is more than the {limb.span * 1e3:g} mm window height along the "
                             f"{limb_name} limb (the coil would overlap the core)")
     t.finish()
-    return Winding(limb_name, turns, current, thickness, length)
+    return WindingSpec(limb_name, turns, current, thickness, length, clearance)
 
 
 def _read_materials(t: TableReader, base_dir: Path | None) -> tuple[MaterialSpec, ...]:

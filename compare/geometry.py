@@ -14,7 +14,7 @@ from dataclasses import dataclass
 
 from fem2d.layout import Rect
 
-__all__ = ["Limb", "Gap", "Winding", "Rect", "gap_rect", "coil_rects"]
+__all__ = ["Limb", "Gap", "WindingSpec", "Rect", "gap_rect", "coil_rects"]
 
 
 @dataclass(frozen=True)
@@ -106,8 +106,10 @@ class Gap:
 
 
 @dataclass(frozen=True)
-class Winding:
-    """A winding around one limb.
+class WindingSpec:
+    """A winding around one limb, as the case gives it (the network's MMF
+    source is :class:`analytic.network.Winding`, the field model's
+    :class:`fem2d.sources.Coil`).
 
     Attributes
     ----------
@@ -121,6 +123,9 @@ class Winding:
         Coil build across the limb (m), the same on both sides.
     length : float
         Coil length along the limb (m), centred on the limb's straight part.
+    clearance : float
+        Free space between the limb's face and the coil (m): the bobbin wall
+        and any air, the same on both sides (default 0: the coil on the limb).
     """
 
     limb: str
@@ -128,6 +133,7 @@ class Winding:
     current: float
     thickness: float
     length: float
+    clearance: float = 0.0
 
     @property
     def mmf(self) -> float:
@@ -141,14 +147,16 @@ def gap_rect(limb: Limb, gap: Gap) -> Rect:
     return limb.rect(gap.position - half, gap.position + half, limb.c0, limb.c1)
 
 
-def coil_rects(limb: Limb, winding: Winding) -> tuple[Rect, Rect]:
+def coil_rects(limb: Limb, winding: WindingSpec) -> tuple[Rect, Rect]:
     """The two coil sides of a winding: (plus side, minus side).
 
     The plus side lies on the limb's ``c1`` side and carries +N*I out of the
-    plane (+z); the minus side on the ``c0`` side carries -N*I.
+    plane (+z); the minus side on the ``c0`` side carries -N*I.  Each starts
+    ``clearance`` away from the limb's face.
     """
     mid = 0.5 * (limb.lo + limb.hi)
     a0, a1 = mid - 0.5 * winding.length, mid + 0.5 * winding.length
-    plus = limb.rect(a0, a1, limb.c1, limb.c1 + winding.thickness)
-    minus = limb.rect(a0, a1, limb.c0 - winding.thickness, limb.c0)
+    c, t = winding.clearance, winding.thickness
+    plus = limb.rect(a0, a1, limb.c1 + c, limb.c1 + c + t)
+    minus = limb.rect(a0, a1, limb.c0 - c - t, limb.c0 - c)
     return plus, minus

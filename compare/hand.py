@@ -269,10 +269,11 @@ def window_bypass(case: Case) -> list[GapBranch]:
     the MMF drop of the facing limb (its gap): a vertical line at x beyond
     the coil encloses no current.  With straight field lines (length the
     window's height h along the limb) the path's permeance is
-    mu0 d (w - t + t/3) / h: the window's free width w - t, and the coil's
-    build t weighted by 1/3, since a line through the coil encloses the part
-    of the coil side beyond it (linear, so u^2 averages to 1/3 for a gap
-    taking all of N I) [derived here; straight-line flux tubes as in Roters,
+    mu0 d (w - c - t + t/3) / h: the window's free width w - c - t, and the
+    coil's build t weighted by 1/3, since a line through the coil encloses
+    the part of the coil side beyond it (linear, so u^2 averages to 1/3 for a
+    gap taking all of N I); a line in the clearance c between limb and coil
+    encloses the whole coil side and sees no MMF (weight 0) [derived here; straight-line flux tubes as in Roters,
     Electromagnetic Devices, 1941 [from memory]].  A facing limb without a
     gap carries almost no MMF across it, so the branch then carries almost
     no flux (the network finds that by itself).
@@ -285,8 +286,11 @@ def window_bypass(case: Case) -> list[GapBranch]:
         if win.facing not in segs:
             continue
         seg = segs[win.facing]
-        t = min(w.thickness, win.width)
-        width = win.width - t + t / 3.0
+        c = min(w.clearance, win.width)
+        t = min(w.thickness, win.width - c)
+        # lines between the limb and the coil (the clearance) enclose the
+        # whole coil side, so with the gap taking N I they see no MMF
+        width = win.width - c - t + t / 3.0
         height = limb.span
         p = mu_0 * case.depth * width / height
         out.append(GapBranch(f"window{k}-bypass", seg.node_a, seg.node_b, height, p,

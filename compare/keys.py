@@ -58,7 +58,7 @@ def parse_key(key: str) -> tuple[str | int, ...]:
 
 _NAMES = {
     "gaps": ("length", "position"),
-    "winding": ("current", "turns", "thickness", "length", "fill"),
+    "winding": ("current", "turns", "thickness", "length", "fill", "clearance"),
 }
 """The variable keys of the tables every case has; ``[core]``'s come from its family."""
 
@@ -68,7 +68,7 @@ def key_dimension(key: str, family: Any = None) -> str:
 
     Only design keys may vary: [core] dimensions (the family's ``core_keys``;
     without a family, those of every known family), [[gaps]] length and
-    position, [winding] current, turns, thickness, length and fill, and the
+    position, [winding] current, turns, thickness, length, fill and clearance, and the
     core material (``materials.core.mu_r``, ``scale_H``, ``scale_B``).
     """
     import difflib

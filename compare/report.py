@@ -71,7 +71,8 @@ def input_rows(res: CheckResult) -> list[list[str]]:
     w = case.winding
     rows += [["winding", f"on the {w.limb} limb, N = {w.turns}, I = {w.current:g} A, "
                          f"NI = {w.mmf:g} A"],
-             ["coil build", f"thickness {_mm(w.thickness)}, length {_mm(w.length)}"]]
+             ["coil build", f"thickness {_mm(w.thickness)}, length {_mm(w.length)}, "
+                            f"clearance to the limb {_mm(w.clearance)}"]]
     for m in case.materials:
         rows.append([f"material of {m.region}", f"{m.description} ({m.kind})"])
     rows.append(["fringing model (hand)", case.hand.fringing])
