@@ -16,7 +16,9 @@ from typing import Any
 
 from analytic.fringing import FRINGING_MODELS, get_fringing
 
-from .case import Case, plausibility_issues
+from .case import Case
+
+from .casefile import plausibility_issues
 from .fe import FEResult, run_fe_checked
 from .hand import HAND_KEYS, UNITS, HandResult, gap_face, run_hand
 

@@ -8,7 +8,7 @@ A sweep varies case-file keys (``winding.current``, ``gaps[0].length``,
 
 A unit written on one item applies to the items written without one; plain
 numbers are SI. Several specs make a grid (the last one varies fastest).
-Every point is re-validated through :func:`compare.case.case_from_dict`, so
+Every point is re-validated through :func:`compare.casefile.case_from_dict`, so
 a swept value is checked exactly like case-file input. Two extra keys scale
 the core's B-H curve (factor, nominal 1; see :func:`scale_law`):
 ``materials.core.scale_H`` and ``materials.core.scale_B``.
@@ -40,7 +40,9 @@ import numpy as np
 
 from analytic.bh import BHDataError, scale_law  # noqa: F401 (scale_law re-exported)
 
-from .case import Case, MaterialSpec, case_from_dict
+from .case import Case, MaterialSpec
+
+from .casefile import case_from_dict
 from .errors import CaseError, RunError
 from .hand import HAND_KEYS, run_hand
 from .keys import (CURRENT_KEY, SCALE_KEYS, VarySpec, key_dimension, parse_key, parse_vary,
@@ -84,7 +86,7 @@ def case_source(path: str | Path, *, allow_large: bool = False) -> tuple[CaseSou
     """
     from dataclasses import replace
 
-    from .case import load_case
+    from .casefile import load_case
 
     case = load_case(path)  # all errors of a bad file come from here
     path = Path(path)

@@ -10,7 +10,7 @@ from pathlib import Path
 import pytest
 
 from compare.breakdown import BREAKDOWN_KEYS, difference_breakdown
-from compare.case import case_from_dict, load_case
+from compare.casefile import case_from_dict, load_case
 from compare.check import run_check
 from compare.cli import main
 from compare.hand import run_hand

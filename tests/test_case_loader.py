@@ -13,7 +13,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from compare.case import case_from_dict, load_case
+from compare.casefile import case_from_dict, load_case
 from compare.errors import CaseError
 
 CASES = Path(__file__).resolve().parents[1] / "cases"

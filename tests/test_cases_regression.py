@@ -13,7 +13,7 @@ from pathlib import Path
 import pytest
 
 from compare.baseline import drift, snapshot
-from compare.case import load_case
+from compare.casefile import load_case
 from compare.check import run_check
 
 CASES = Path(__file__).resolve().parents[1] / "cases"

@@ -3,7 +3,6 @@ uncertainty against a finer reference solve, outputs and exit codes."""
 
 from __future__ import annotations
 
-import copy
 import json
 import math
 import tomllib
@@ -13,7 +12,7 @@ import pytest
 from scipy.constants import mu_0
 
 from compare import fe as fe_mod
-from compare.case import case_from_dict, load_case
+from compare.casefile import case_from_dict, load_case
 from compare.check import depth_factor, run_check
 from compare.cli import main
 from compare.fe import run_fe

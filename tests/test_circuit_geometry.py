@@ -12,7 +12,7 @@ from __future__ import annotations
 import pytest
 from scipy.constants import mu_0
 
-from compare.case import case_from_dict
+from compare.casefile import case_from_dict
 from compare.hand import build_network, gap_face, run_hand
 
 MM = 1e-3

@@ -6,7 +6,7 @@ import pytest
 from scipy.constants import mu_0
 
 from analytic.effective import EffectiveParametersError, effective_parameters
-from compare.case import case_from_dict
+from compare.casefile import case_from_dict
 from compare.errors import CaseError
 from compare.hand import run_hand
 

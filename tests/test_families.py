@@ -6,7 +6,7 @@ from pathlib import Path
 import pytest
 
 from compare import families
-from compare.case import case_from_dict
+from compare.casefile import case_from_dict
 from compare.errors import CaseError
 from compare.families import FAMILIES, WindowCore, get_family, register
 from compare.hand import run_hand

@@ -10,7 +10,7 @@ from pathlib import Path
 
 import pytest
 
-from compare.case import case_from_dict
+from compare.casefile import case_from_dict
 from compare.fe import run_fe
 from compare.hand import run_hand
 

@@ -87,6 +87,10 @@ def test_no_import_cycle():
 def test_the_graph_is_read():
     # the walker must see the known edges, or the two tests above prove nothing
     graph = _graph()
-    assert "compare.keys" in graph["compare.case"]
+    assert "compare.keys" in graph["compare.casefile"]
+    assert "compare.case" in graph["compare.casefile"]
     assert "compare.case" in graph["compare.sweep"]
+    # the case model does not read files: the reader sits above it
+    assert "compare.casefile" not in graph["compare.case"]
+    assert "compare.families" in graph["compare.case"]
     assert "fem2d.layout" in graph["fem2d.mesher"] or "fem2d.layout" in graph["fem2d.mesh"]

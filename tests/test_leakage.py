@@ -14,7 +14,7 @@ import pytest
 from scipy.constants import mu_0
 
 from analytic.leakage import LeakageError, window_leakage
-from compare.case import case_from_dict
+from compare.casefile import case_from_dict
 from compare.hand import run_hand
 
 CASES = Path(__file__).resolve().parents[1] / "cases"

@@ -12,7 +12,7 @@ import pytest
 from scipy.constants import mu_0
 from scipy.optimize import brentq
 
-from compare.case import case_from_dict, load_case
+from compare.casefile import case_from_dict, load_case
 from compare.cli import main
 from compare.errors import CaseError
 from compare.hand import run_hand

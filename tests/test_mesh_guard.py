@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 
-from compare.case import case_from_dict, load_case
+from compare.casefile import case_from_dict, load_case
 from compare.cli import main
 from compare.errors import CaseError
 from compare.fe import MAX_TRIANGLES, case_layout, guard_mesh_size

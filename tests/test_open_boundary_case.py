@@ -4,7 +4,7 @@ from dataclasses import replace
 
 import pytest
 
-from compare.case import load_case
+from compare.casefile import load_case
 from compare.fe import run_fe
 
 pytestmark = pytest.mark.slow

@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 
-from compare.case import case_from_dict, load_case
+from compare.casefile import case_from_dict, load_case
 from compare.check import run_check
 from compare.report import write_report
 

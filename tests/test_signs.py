@@ -15,7 +15,7 @@ from pathlib import Path
 
 import pytest
 
-from compare.case import load_case
+from compare.casefile import load_case
 from compare.check import _diff_pct, _verdict
 from compare.fe import mesh_case, solve_case
 from compare.hand import run_hand
@@ -91,7 +91,7 @@ def test_a_zero_fe_value_gets_no_verdict() -> None:
 def test_zero_current_check_reports_small_signal_inductance_and_na() -> None:
     import json
 
-    from compare.case import case_from_dict
+    from compare.casefile import case_from_dict
     from compare.check import ZERO_AT_ZERO_CURRENT, run_check
     import tomllib
 

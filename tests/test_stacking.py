@@ -9,7 +9,7 @@ from pathlib import Path
 import pytest
 from scipy.constants import mu_0
 
-from compare.case import case_from_dict
+from compare.casefile import case_from_dict
 from compare.errors import CaseError
 from compare.hand import build_network, run_hand
 

@@ -11,7 +11,9 @@ import numpy as np
 import pytest
 from figures import assert_drawn
 
-from compare.case import Tolerance, load_case
+from compare.case import Tolerance
+
+from compare.casefile import load_case
 from compare.check import fe_3d_factor
 from compare.cli import main
 from compare.errors import CaseError

@@ -10,7 +10,7 @@ from pathlib import Path
 import pytest
 
 from compare.baseline import snapshot
-from compare.case import load_case
+from compare.casefile import load_case
 from compare.check import run_check
 from compare.cli import main
 from compare.verify import find_cases, run_verify

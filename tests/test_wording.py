@@ -13,7 +13,7 @@ from types import SimpleNamespace
 
 import pytest
 
-from compare.case import load_case
+from compare.casefile import load_case
 from compare.check import LABELS, Row, explain
 
 CASES = Path(__file__).resolve().parent.parent / "cases"
@@ -94,7 +94,7 @@ ALL_AGREEMENT = ("gap_B, core_B, path_H, flux, flux_linkage, inductance, "
 
 
 def test_agreement_typo_lists_every_key_with_a_suggestion() -> None:
-    from compare.case import case_from_dict
+    from compare.casefile import case_from_dict
     from compare.errors import CaseError
     data = _demo_dict()
     data.setdefault("margins", {})["agreement"] = {"inductanse": 8}
@@ -108,7 +108,7 @@ def test_agreement_typo_lists_every_key_with_a_suggestion() -> None:
 
 
 def test_agreement_unknown_key_beside_a_valid_one_lists_all_keys() -> None:
-    from compare.case import case_from_dict
+    from compare.casefile import case_from_dict
     from compare.errors import CaseError
     data = _demo_dict()
     data.setdefault("margins", {})["agreement"] = {"inductance": 8, "foo": 3}
@@ -124,7 +124,7 @@ def _case_with(**edits) -> "object":
     """demo_choke with edits {"table.key": value}, loaded with warnings recorded."""
     import warnings
 
-    from compare.case import case_from_dict
+    from compare.casefile import case_from_dict
     data = _demo_dict()
     for dotted, value in edits.items():
         table, key = dotted.split(".")
@@ -154,7 +154,7 @@ def test_tiny_depth_warns() -> None:
 def test_sub_micron_gap_warns() -> None:
     import warnings
 
-    from compare.case import case_from_dict
+    from compare.casefile import case_from_dict
     data = _demo_dict()
     data["gaps"][0]["length"] = "0.5 um"
     with warnings.catch_warnings(record=True) as caught:
@@ -165,7 +165,7 @@ def test_sub_micron_gap_warns() -> None:
 
 
 def test_air_like_core_warns_and_the_notes_say_so() -> None:
-    from compare.case import plausibility_issues
+    from compare.casefile import plausibility_issues
     case, msgs = _case_with(**{"materials.core": {"mu_r": 1}})
     assert any(m.startswith("materials.core.mu_r = 1.0: core mu_r below 5") for m in msgs), msgs
     rows = _rows()
@@ -187,7 +187,7 @@ def test_bh_curve_initial_permeability_is_checked() -> None:
 def test_bundled_cases_raise_no_plausibility_warning() -> None:
     import warnings
 
-    from compare.case import load_case
+    from compare.casefile import load_case
     for path in sorted(CASES.glob("*.toml")):
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")

@@ -40,7 +40,7 @@ def stamp(res) -> str:
 
 
 def _result(case_file: str):
-    from compare.case import load_case
+    from compare.casefile import load_case
     from compare.check import run_check
 
     return run_check(load_case(ROOT / case_file), estimate_error=False)

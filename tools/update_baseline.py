@@ -17,7 +17,7 @@ import sys
 from pathlib import Path
 
 from compare.baseline import snapshot
-from compare.case import load_case
+from compare.casefile import load_case
 from compare.check import run_check
 from compare.output import write_output
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-from ..case import load_case
+from ..casefile import load_case
 from ..check import CheckResult, run_check
 from ..output import CAUTION, atomic_write_text, render_table, write_json, write_produced
 from ..serialize import TABLE_COLUMNS, check_csv, check_json, check_markdown, table_cells

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import sys
 
-from ..case import load_case
+from ..casefile import load_case
 from ..hand import UNITS, HandResult, run_hand
 from ..output import CAUTION, render_table, write_json
 from ..units import format_si

@@ -1,0 +1,426 @@
+"""Case files: TOML in, a validated frozen :class:`~compare.case.Case` out.
+
+This module owns the case-file format (the tables are listed in
+:mod:`compare.case`).  Everything is checked here, at the edge: a bad value
+is a :class:`~compare.errors.CaseError` naming the key and the value; units
+and B-H files are read here too.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import tomllib
+import warnings
+from pathlib import Path
+
+from analytic.bh import BHDataError, LinearMaterial
+from analytic.fringing import FRINGING_MODELS
+from analytic.materials import bh_from_table, builtin, builtin_names, load_bh_csv
+
+from .case import (Case, FESettings, HandSettings, InductanceLimit, Margins, MaterialSpec,
+                   SaturationLimit, SweepDecl, Tolerance)
+from .errors import CaseError, CaseWarning
+from .families import Family, get_family
+from .geometry import Gap, Limb, WindingSpec
+from .keys import key_dimension, parse_key, parse_vary
+from .reader import TableReader
+
+__all__ = ["load_case", "case_from_dict", "plausibility_issues"]
+
+MATERIAL_REGIONS = ("core",)
+
+
+# ---------------------------------------------------------------------------
+def load_case(path: str | Path) -> Case:
+    """Read and validate a TOML case file.
+
+    Raises
+    ------
+    CaseError
+        For any problem, naming the key path and the value.
+    """
+    path = Path(path)
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise CaseError(str(path), None, f"cannot read case file ({exc.strerror})") from None
+    try:
+        data = tomllib.loads(raw.decode("utf-8"))
+    except UnicodeDecodeError:
+        raise CaseError(str(path), None, "case file is not UTF-8 text") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise CaseError(str(path), None, f"TOML syntax error: {exc}") from None
+    return case_from_dict(data, base_dir=path.parent, source=str(path),
+                          sha256=hashlib.sha256(raw).hexdigest())
+
+
+def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = "",
+                   sha256: str = "") -> Case:
+    """Validate an already parsed TOML document (see :func:`load_case`)."""
+    root = TableReader(data, "")
+    meta = root.table("case")
+    name = meta.string("name", "unnamed")
+    family_name = meta.string("family")
+    description = meta.string("description", "")
+    meta.finish()
+    family = get_family(family_name)
+
+    core_t = root.table("core")
+    stacking = core_t.number("stacking", 1.0, lo=0.3, hi=1.0)
+    core = family.read_core(core_t)
+    core_t.finish()
+    limbs = family.limbs(core)
+
+    gaps = tuple(_read_gap(t, family, limbs) for t in root.tables("gaps"))
+    _check_gap_overlap(gaps)
+    winding = _read_winding(root.table("winding"), family, limbs)
+    materials = _read_materials(root.table("materials"), base_dir)
+    hand = _read_hand(root.table("hand", {}))
+    fe = _read_fe(root.table("fe", {}))
+    margins = _read_margins(root.table("margins", {}))
+    sweeps = _read_sweeps(root, "sweep", family)
+    tolerances = tuple(_read_tolerance(t, family) for t in root.tables("tolerances"))
+    root.finish()
+    case = Case(name=name, family=family_name, core=core, gaps=gaps, winding=winding,
+                materials=materials, hand=hand, fe=fe, margins=margins, sweeps=sweeps,
+                tolerances=tolerances, stacking=stacking,
+                description=description, source=source, sha256=sha256)
+    for w in plausibility_issues(case):
+        warnings.warn(w, stacklevel=2)
+    return case
+
+
+# Plausibility bounds (common practice, no source): magnetic parts designed by
+# hand run from a few mm to about a metre; a bare number is metres, so "20"
+# meant as 20 mm lands far outside. A gap under 1 um is below lapping
+# flatness; a core with mu_r under 5 is hardly magnetic.
+CORE_SIZE_RANGE = (1e-3, 2.0)  # m, outer core dimensions and stack depth
+GAP_MIN = 1e-6  # m
+MU_R_MIN = 5.0
+
+
+def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
+    """Valid but implausible inputs of a case, as warnings (not raised).
+
+    Checks the outer core dimensions and the stack depth against
+    :data:`CORE_SIZE_RANGE`, each gap against :data:`GAP_MIN`, and the core's
+    (initial) relative permeability against :data:`MU_R_MIN`.
+    """
+    out = []
+    lo, hi = CORE_SIZE_RANGE
+    dims = [(name, getattr(case.core, name)) for name in ("outer_width", "outer_height")
+            if isinstance(getattr(case.core, name, None), float)]
+    dims.append(("depth", case.depth))
+    for name, v in dims:
+        if not lo <= v <= hi:
+            out.append(CaseWarning(f"core.{name}", f"{v:g} m",
+                                   "outside the plausible 1 mm .. 2 m for a core dimension "
+                                   "(a bare number is metres: write e.g. \"20 mm\")"))
+    for i, g in enumerate(case.gaps):
+        if g.length < GAP_MIN:
+            out.append(CaseWarning(f"gaps[{i}].length", f"{g.length:g} m",
+                                   "below 1 um: shorter than a ground face is flat"))
+    spec = case.material("core")
+    mu_r = float(spec.law.mu_r_initial)
+    if mu_r < MU_R_MIN:
+        what = "mu_r" if spec.kind == "mu_r" else "initial relative permeability"
+        key = "materials.core.mu_r" if spec.kind == "mu_r" else "materials.core"
+        out.append(CaseWarning(key, mu_r, f"core {what} below {MU_R_MIN:g}: the core is hardly "
+                                          "magnetic, so the differences to the FE are not about "
+                                          "fringing"))
+    return tuple(out)
+
+
+def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
+    limb_name = t.string("limb", choices=family.limb_names)
+    limb = limbs[limb_name]
+    length = t.quantity("length", "length")
+    if length >= limb.span:
+        raise CaseError(t.key("length"), t.data["length"],
+                        f"gap not shorter than its limb ({limb_name} limb straight part is "
+                        f"{limb.span * 1e3:g} mm)")
+    if length >= limb.width:
+        raise CaseError(t.key("length"), t.data["length"],
+                        f"gap not shorter than the width of the face it crosses ({limb_name} limb is "
+                        f"{limb.width * 1e3:g} mm wide); the fringing models do not hold")
+    mid = 0.5 * (limb.lo + limb.hi)
+    # Position of the gap centre, measured along the limb from the start of
+    # its straight part (bottom end of a vertical limb, left end of a
+    # horizontal one); default: the middle.
+    offset = t.quantity("position", "length", None, allow_zero=True)
+    pos = mid if offset is None else limb.lo + offset
+    if pos - 0.5 * length < limb.lo - 1e-12 or pos + 0.5 * length > limb.hi + 1e-12:
+        raise CaseError(t.key("position"), t.data.get("position"),
+                        f"gap does not lie within the {limb_name} limb's straight part "
+                        f"(0 to {limb.span * 1e3:g} mm)")
+    t.finish()
+    return Gap(limb_name, length, pos)
+
+
+def _check_gap_overlap(gaps: tuple[Gap, ...]) -> None:
+    for i, a in enumerate(gaps):
+        for j in range(i):
+            b = gaps[j]
+            if a.limb == b.limb and abs(a.position - b.position) < 0.5 * (a.length + b.length):
+                raise CaseError(f"gaps[{i}].position", a.position,
+                                f"gap overlaps gaps[{j}] on the {a.limb} limb")
+
+
+def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb]) -> WindingSpec:
+    limb_name = t.string("limb", choices=family.winding_limbs)
+    limb = limbs[limb_name]
+    turns = t.integer("turns", minimum=1)
+    current = t.quantity("current", "current", positive=False)
+    room = min(limb.room_minus, limb.room_plus)
+    clearance = t.quantity("clearance", "length", 0.0, positive=False)
+    if clearance < 0 or clearance >= room:
+        raise CaseError(t.key("clearance"), t.data["clearance"],
+                        f"must be >= 0 and less than the {room * 1e3:g} mm window width beside "
+                        f"the {limb_name} limb")
+    if t.has("fill"):
+        if t.has("thickness") or t.has("length"):
+            raise CaseError(t.key("fill"), t.data["fill"],
+                            "give either fill or thickness and length, not both")
+        fill = t.number("fill", lo=0.0, hi=1.0)
+        if fill <= 0.0:
+            raise CaseError(t.key("fill"), t.data["fill"], "must be positive")
+        # Fill fraction of the window beside the limb (less the clearance):
+        # the coil takes the limb's whole straight length and that fraction
+        # of the free width.
+        thickness, length = fill * (room - clearance), limb.span
+    else:
+        thickness = t.quantity("thickness", "length")
+        length = t.quantity("length", "length")
+        if thickness + clearance > room * (1 + 1e-9):
+            extra = f" plus the {clearance * 1e3:g} mm clearance" if clearance else ""
+            raise CaseError(t.key("thickness"), t.data["thickness"],
+                            f"winding does not fit the window: coil build {thickness * 1e3:g} mm"
+                            f"{extra} is more than the {room * 1e3:g} mm window width beside the "
+                            f"{limb_name} limb (the coil would overlap the core)")
+        if length > limb.span * (1 + 1e-9):
+            raise CaseError(t.key("length"), t.data["length"],
+                            f"winding does not fit the window: coil length {length * 1e3:g} mm "
+                            f"is more than the {limb.span * 1e3:g} mm window height along the "
+                            f"{limb_name} limb (the coil would overlap the core)")
+    t.finish()
+    return WindingSpec(limb_name, turns, current, thickness, length, clearance)
+
+
+def _read_materials(t: TableReader, base_dir: Path | None) -> tuple[MaterialSpec, ...]:
+    specs = []
+    for region in MATERIAL_REGIONS:
+        specs.append(_read_material(t, region, base_dir))
+    t.finish()
+    return tuple(specs)
+
+
+def _read_material(t: TableReader, region: str, base_dir: Path | None) -> MaterialSpec:
+    key = t.key(region)
+    raw = t.raw(region)
+    try:
+        if isinstance(raw, str):
+            if raw not in builtin_names():
+                import difflib
+
+                close = difflib.get_close_matches(raw, builtin_names(), n=1)
+                hint = f"; did you mean '{close[0]}'?" if close else ""
+                raise CaseError(key, raw, f"unknown built-in material; known: "
+                                          f"{', '.join(builtin_names())}{hint}")
+            return MaterialSpec(region, "builtin", f"built-in {raw}", builtin(raw))
+        mt = TableReader(raw, key)
+        if mt.has("mu_r"):
+            mu_r = mt.number("mu_r", lo=1.0)
+            mt.finish()
+            return MaterialSpec(region, "mu_r", f"linear, mu_r = {mu_r:g}", LinearMaterial(mu_r))
+        if mt.has("csv"):
+            rel = mt.string("csv")
+            mt.finish()
+            p = Path(rel)
+            if not p.is_absolute() and base_dir is not None:
+                p = base_dir / p
+            if not p.is_file():
+                raise CaseError(mt.key("csv"), rel, f"no such B-H file ({p})")
+            return MaterialSpec(region, "csv", f"B-H table {rel}", load_bh_csv(p, name=p.stem))
+        if mt.has("H") or mt.has("B"):
+            h = _number_list(mt, "H")
+            b = _number_list(mt, "B")
+            h_unit = mt.string("H_unit", "A/m")
+            b_unit = mt.string("B_unit", "T")
+            mt.finish()
+            if len(h) != len(b):
+                raise CaseError(mt.key("B"), f"{len(b)} values",
+                                f"H has {len(h)} values; the two columns must be the same length")
+            law = bh_from_table(h, b, h_unit=h_unit, b_unit=b_unit, name=f"{region} table")
+            return MaterialSpec(region, "table", f"inline B-H table ({len(h)} points)", law)
+        raise CaseError(key, raw, "give a built-in name, {csv = ...}, {H = [...], B = [...]} "
+                                  "or {mu_r = ...}")
+    except BHDataError as exc:
+        raise CaseError(key, None, str(exc)) from None
+
+
+def _number_list(t: TableReader, name: str) -> list[float]:
+    raw = t.raw(name)
+    if not isinstance(raw, list) or not raw:
+        raise CaseError(t.key(name), raw, "must be a non-empty list of numbers")
+    out = []
+    for i, v in enumerate(raw):
+        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+            raise CaseError(f"{t.key(name)}[{i}]", v, "must be a finite number")
+        out.append(float(v))
+    return out
+
+
+def _read_hand(t: TableReader) -> HandSettings:
+    fringing = t.string("fringing", HandSettings.fringing, choices=tuple(FRINGING_MODELS))
+    leakage = _boolean(t, "leakage", HandSettings.leakage)
+    stacking = _boolean(t, "stacking", HandSettings.stacking)
+    effective = _boolean(t, "effective_parameters", HandSettings.effective_parameters)
+    t.finish()
+    return HandSettings(fringing=fringing, leakage=leakage, stacking=stacking,
+                        effective_parameters=effective)
+
+
+def _boolean(t: TableReader, key: str, default: bool) -> bool:
+    value = t.raw(key, default)
+    if not isinstance(value, bool):
+        raise CaseError(t.key(key), value, "must be true or false")
+    return value
+
+
+def _read_fe(t: TableReader) -> FESettings:
+    d = FESettings()
+    order = t.integer("order", d.order, minimum=1)
+    if order not in (1, 2):
+        raise CaseError(t.key("order"), order, "element order must be 1 or 2")
+    gap_elements = t.integer("gap_elements", d.gap_elements, minimum=1)
+    mesh_size = t.quantity("mesh_size", "length", None)
+    air_factor = t.number("air_factor", None, lo=1.5, hi=100.0)
+    boundary = t.string("boundary", d.boundary, choices=("open", "closed"))
+    tol = t.number("tol", d.tol, lo=1e-14, hi=1e-2)
+    allow_large = t.raw("allow_large", False)
+    if not isinstance(allow_large, bool):
+        raise CaseError(t.key("allow_large"), allow_large, "must be true or false")
+    t.finish()
+    return FESettings(order=order, gap_elements=gap_elements, mesh_size=mesh_size,
+                      air_factor=air_factor, tol=tol, allow_large=allow_large,
+                      boundary=boundary)
+
+
+AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
+                  "incremental_inductance", "energy")
+
+
+INDUCTANCE_KINDS = ("secant", "incremental")
+
+
+def _read_margins(t: TableReader) -> Margins:
+    peak = t.quantity("peak_B", "flux density", None)
+    at = t.table("agreement", {})
+    agreement = []
+    for key in list(at.data):
+        if key not in AGREEMENT_KEYS:
+            continue
+        agreement.append((key, at.number(key, lo=0.0, hi=1000.0)))
+    at.finish(valid=AGREEMENT_KEYS)
+    jmax = t.quantity("current_density", "current density", None)
+    fill = t.number("copper_fill", 1.0, lo=0.0, hi=1.0)
+    if fill <= 0.0:
+        raise CaseError(t.key("copper_fill"), t.data["copper_fill"], "must be positive")
+    inductance = []
+    for it in t.tables("inductance"):
+        lo = it.quantity("min", "inductance", None)
+        hi = it.quantity("max", "inductance", None)
+        if lo is None and hi is None:
+            raise CaseError(it.key("min"), None, "give min, max or both")
+        if lo is not None and hi is not None and lo > hi:
+            raise CaseError(it.key("min"), it.data["min"], "min is above max")
+        inductance.append(InductanceLimit(
+            at=it.quantity("at", "current", positive=False),
+            min=lo, max=hi, kind=it.string("kind", "secant", choices=INDUCTANCE_KINDS)))
+        it.finish()
+    saturation = []
+    for st in t.tables("saturation_current"):
+        drop = st.number("drop_pct", lo=0.0, hi=99.0)
+        if drop <= 0.0:
+            raise CaseError(st.key("drop_pct"), st.data["drop_pct"], "must be positive")
+        saturation.append(SaturationLimit(
+            drop=drop / 100.0, min=st.quantity("min", "current"),
+            kind=st.string("kind", "incremental", choices=INDUCTANCE_KINDS)))
+        st.finish()
+    t.finish()
+    return Margins(peak_B=peak, agreement=tuple(agreement), current_density=jmax,
+                   copper_fill=fill, inductance=tuple(inductance), saturation=tuple(saturation))
+
+
+def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDecl, ...]:
+    raw = root.raw(name, [])
+    items = [raw] if isinstance(raw, dict) else raw
+    if not isinstance(items, list):
+        raise CaseError(name, raw, "must be a table [sweep] or an array of tables [[sweep]]")
+
+    out = []
+    for i, item in enumerate(items):
+        t = TableReader(item, name if isinstance(raw, dict) else f"{name}[{i}]")
+        vary = t.raw("vary")
+        if isinstance(vary, str):
+            vary = [vary]
+        if not isinstance(vary, list) or not vary or not all(isinstance(v, str) for v in vary):
+            raise CaseError(t.key("vary"), vary, 'must be a list of "KEY=SPEC" strings')
+        for spec in vary:
+            parse_vary(spec, where=t.key("vary"), family=family)
+        drops = t.raw("drops_pct", [10, 20, 30])
+        if (not isinstance(drops, list) or not drops
+                or not all(isinstance(d, (int, float)) and not isinstance(d, bool)
+                           and 0 < d < 100 for d in drops)):
+            raise CaseError(t.key("drops_pct"), drops, "must be a list of percentages in (0, 100)")
+        kind = t.string("inductance", "incremental", choices=INDUCTANCE_KINDS)
+        t.finish()
+        out.append(SweepDecl(tuple(vary), tuple(float(d) / 100.0 for d in drops), kind))
+    return tuple(out)
+
+
+DISTRIBUTIONS = ("uniform", "normal")
+
+
+def _read_tolerance(t: TableReader, family: Family) -> Tolerance:
+
+    key = t.string("key")
+    try:
+        parse_key(key)
+        dim = key_dimension(key, family)
+    except CaseError as exc:
+        raise CaseError(t.key("key"), key, exc.reason) from None
+    dist = t.string("distribution", choices=DISTRIBUTIONS)
+    dim = "dimensionless" if dim == "integer" else dim
+    vals: dict[str, float] = {}
+    rel: set[bool] = set()
+    names = ("minus", "plus") if dist == "uniform" else ("sigma", "limit")
+    for n in names:
+        raw = t.raw(n, None)
+        if raw is None:
+            if n == "limit":
+                continue
+            raise CaseError(t.key(n), None, f"missing key (a {dist} tolerance needs "
+                                             f"{' and '.join(names)})")
+        if isinstance(raw, str) and raw.strip().endswith("%"):
+            try:
+                v = float(raw.strip()[:-1]) / 100.0
+            except ValueError:
+                raise CaseError(t.key(n), raw, "cannot read the percentage") from None
+            rel.add(True)
+        else:
+            v = t.quantity(n, dim, allow_zero=True)
+            rel.add(False)
+        if not (math.isfinite(v) and v >= 0.0):
+            raise CaseError(t.key(n), raw, "must be a finite deviation >= 0")
+        vals[n] = v
+    if len(rel) > 1:
+        raise CaseError(t.key(names[0]), t.data.get(names[0]),
+                        "give all deviations of one tolerance in % or all in units")
+    if dist == "normal":
+        if vals["sigma"] <= 0.0:
+            raise CaseError(t.key("sigma"), t.data["sigma"], "must be positive")
+        vals.setdefault("limit", 3.0 * vals["sigma"])
+    t.finish()
+    return Tolerance(key=key, distribution=dist, relative=rel == {True}, **vals)
