@@ -47,11 +47,18 @@ UNC_FLOOR = 1e-3
 
 def snapshot(res: CheckResult) -> dict:
     """The values of a check worth guarding against drift."""
+    # with several windings, each one's flux linkage and the inductance
+    # matrix too (compare.hand.winding_keys); one winding has them already
+    # as flux_linkage and incremental_inductance
+    many = len(res.case.windings) > 1
+    hw = res.hand_3d.winding_values if many else {}
+    hpw = res.hand_planar.winding_values if many else {}
+    fw = res.fe.fine.winding_values if many else {}
     return {
-        "hand": {k: res.hand_3d.values()[k] for k in HAND_KEYS},
-        "hand_planar": {k: res.hand_planar.values()[k] for k in HAND_KEYS},
-        "fe": {k: res.fe.values[k] for k in HAND_KEYS} | {"peak_B": res.fe.fine.peak_B},
-        "fe_uncertainty": {k: res.fe.uncertainty.get(k) for k in (*HAND_KEYS, "peak_B")},
+        "hand": {k: res.hand_3d.values()[k] for k in HAND_KEYS} | hw,
+        "hand_planar": {k: res.hand_planar.values()[k] for k in HAND_KEYS} | hpw,
+        "fe": {k: res.fe.values[k] for k in HAND_KEYS} | {"peak_B": res.fe.fine.peak_B} | fw,
+        "fe_uncertainty": {k: res.fe.uncertainty.get(k) for k in (*HAND_KEYS, "peak_B", *fw)},
         "fe_3d": {r.key: r.fe_3d for r in res.rows if r.key in HAND_KEYS},
         "margins": {r.key: r.fe if r.fe == r.fe else r.hand for r in res.rows
                     if r.limit_value is not None},

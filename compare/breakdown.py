@@ -66,7 +66,7 @@ def difference_breakdown(case: Case, fe_values: dict[str, float],
     if best_fringing and best_fringing != settings["fringing"]:
         settings["fringing"] = best_fringing
         steps.append(step(f"fringing: {best_fringing}"))
-    if not settings["leakage"]:
+    if not settings["leakage"] and len(case.windings) == 1:  # modelled for one winding
         settings["leakage"] = True
         steps.append(step("window leakage"))
     if case.stacking != 1.0 and not settings["stacking"]:

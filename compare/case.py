@@ -193,6 +193,8 @@ class Case:
     core: Any
     gaps: tuple[Gap, ...]
     winding: WindingSpec
+    """The first winding: the one the scalar quantities (flux linkage,
+    inductance, saturation current, current density) refer to."""
     materials: tuple[MaterialSpec, ...]
     hand: HandSettings = HandSettings()
     fe: FESettings = FESettings()
@@ -202,6 +204,8 @@ class Case:
     description: str = ""
     source: str = ""
     sha256: str = ""
+    extra_windings: tuple[WindingSpec, ...] = ()
+    """The windings after the first ([[windings]] entries 1, 2, ...)."""
     stacking: float = 1.0
     """Lamination stacking factor k_s ([core] stacking): iron over gross
     cross-section.  The FE always uses the homogenised core (polarisation
@@ -215,6 +219,11 @@ class Case:
     @property
     def limbs(self) -> dict[str, Limb]:
         return self.family_model.limbs(self.core)
+
+    @property
+    def windings(self) -> tuple[WindingSpec, ...]:
+        """Every winding, in case-file order (the first is :attr:`winding`)."""
+        return (self.winding, *self.extra_windings)
 
     @property
     def depth(self) -> float:

@@ -22,7 +22,7 @@ from .case import (Case, FESettings, HandSettings, InductanceLimit, Margins, Mat
                    SaturationLimit, SweepDecl, Tolerance)
 from .errors import CaseError, CaseWarning
 from .families import Family, get_family
-from .geometry import Gap, Limb, WindingSpec
+from .geometry import Gap, Limb, WindingSpec, coil_rects
 from .keys import key_dimension, parse_key, parse_vary
 from .reader import TableReader
 
@@ -74,7 +74,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
 
     gaps = tuple(_read_gap(t, family, limbs) for t in root.tables("gaps"))
     _check_gap_overlap(gaps)
-    winding = _read_winding(root.table("winding"), family, limbs)
+    windings = _read_windings(root, family, limbs)
     materials = _read_materials(root.table("materials"), base_dir)
     hand = _read_hand(root.table("hand", {}))
     fe = _read_fe(root.table("fe", {}))
@@ -82,7 +82,11 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     sweeps = _read_sweeps(root, "sweep", family)
     tolerances = tuple(_read_tolerance(t, family) for t in root.tables("tolerances"))
     root.finish()
-    case = Case(name=name, family=family_name, core=core, gaps=gaps, winding=winding,
+    if len(windings) > 1 and hand.leakage:
+        raise CaseError("hand.leakage", True, "window leakage is modelled for one winding; with "
+                                              "several windings set it false")
+    case = Case(name=name, family=family_name, core=core, gaps=gaps, winding=windings[0],
+                extra_windings=windings[1:],
                 materials=materials, hand=hand, fe=fe, margins=margins, sweeps=sweeps,
                 tolerances=tolerances, stacking=stacking,
                 description=description, source=source, sha256=sha256)
@@ -167,17 +171,69 @@ def _check_gap_overlap(gaps: tuple[Gap, ...]) -> None:
                                 f"gap overlaps gaps[{j}] on the {a.limb} limb")
 
 
-def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb]) -> WindingSpec:
+def _read_windings(root: TableReader, family: Family,
+                   limbs: dict[str, Limb]) -> tuple[WindingSpec, ...]:
+    """``[winding]`` (one winding, named "main") or ``[[windings]]`` (any
+    number, each with a unique name, default w1, w2, ...); windings on the
+    same limb are concentric, stacking outward in file order."""
+    if root.has("winding") and root.has("windings"):
+        raise CaseError("windings", root.data["windings"],
+                        "give [winding] (one winding) or [[windings]], not both")
+    if not root.has("windings"):
+        return (_read_winding(root.table("winding"), family, limbs, "main", 0.0),)
+    tables = root.tables("windings")
+    if not tables:
+        raise CaseError("windings", [], "give at least one winding")
+    out: list[WindingSpec] = []
+    for k, t in enumerate(tables):
+        limb_name = t.raw("limb", None)
+        inner = sum(w.clearance + w.thickness for w in out if w.limb == limb_name)
+        w = _read_winding(t, family, limbs, f"w{k + 1}", inner)
+        if w.name in {o.name for o in out}:
+            raise CaseError(t.key("name"), w.name, "a winding of that name comes before; names "
+                                                   "must differ")
+        out.append(w)
+    _check_winding_overlap(out, limbs, [t.key("thickness") for t in tables])
+    return tuple(out)
+
+
+def _check_winding_overlap(windings: list[WindingSpec], limbs: dict[str, Limb],
+                           keys: list[str]) -> None:
+    """Coil sides of windings on different limbs must not overlap (on the
+    same limb they stack by construction)."""
+    sides = [(k, r) for k, w in enumerate(windings) for r in coil_rects(limbs[w.limb], w)]
+    for a, (i, ra) in enumerate(sides):
+        for j, rb in sides[a + 1:]:
+            if i == j:
+                continue
+            if min(ra.x1, rb.x1) - max(ra.x0, rb.x0) > 0 and min(ra.y1, rb.y1) - max(ra.y0, rb.y0) > 0:
+                wi, wj = windings[i], windings[j]
+                raise CaseError(keys[j], wj.thickness,
+                                f"winding '{wj.name}' on the {wj.limb} limb overlaps winding "
+                                f"'{wi.name}' on the {wi.limb} limb in the window: make the "
+                                "coils thinner or shorter")
+
+
+def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], default_name: str,
+                  inner: float) -> WindingSpec:
+    name = t.string("name", default_name)
+    if not name.strip():
+        raise CaseError(t.key("name"), name, "must not be empty")
     limb_name = t.string("limb", choices=family.winding_limbs)
     limb = limbs[limb_name]
     turns = t.integer("turns", minimum=1)
     current = t.quantity("current", "current", positive=False)
-    room = min(limb.room_minus, limb.room_plus)
+    room = min(limb.room_minus, limb.room_plus) - inner
+    inside = " left beside the windings inside it" if inner > 0 else ""
+    if room <= 0:
+        raise CaseError(t.key("limb"), limb_name,
+                        f"no room left beside the {limb_name} limb: the windings inside take "
+                        "the whole window width")
     clearance = t.quantity("clearance", "length", 0.0, positive=False)
     if clearance < 0 or clearance >= room:
         raise CaseError(t.key("clearance"), t.data["clearance"],
-                        f"must be >= 0 and less than the {room * 1e3:g} mm window width beside "
-                        f"the {limb_name} limb")
+                        f"must be >= 0 and less than the {room * 1e3:g} mm window width{inside} "
+                        f"beside the {limb_name} limb")
     if t.has("fill"):
         if t.has("thickness") or t.has("length"):
             raise CaseError(t.key("fill"), t.data["fill"],
@@ -196,15 +252,15 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Win
             extra = f" plus the {clearance * 1e3:g} mm clearance" if clearance else ""
             raise CaseError(t.key("thickness"), t.data["thickness"],
                             f"winding does not fit the window: coil build {thickness * 1e3:g} mm"
-                            f"{extra} is more than the {room * 1e3:g} mm window width beside the "
-                            f"{limb_name} limb (the coil would overlap the core)")
+                            f"{extra} is more than the {room * 1e3:g} mm window width{inside} "
+                            f"beside the {limb_name} limb (the coil would overlap the core)")
         if length > limb.span * (1 + 1e-9):
             raise CaseError(t.key("length"), t.data["length"],
                             f"winding does not fit the window: coil length {length * 1e3:g} mm "
                             f"is more than the {limb.span * 1e3:g} mm window height along the "
                             f"{limb_name} limb (the coil would overlap the core)")
     t.finish()
-    return WindingSpec(limb_name, turns, current, thickness, length, clearance)
+    return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner)
 
 
 def _read_materials(t: TableReader, base_dir: Path | None) -> tuple[MaterialSpec, ...]:

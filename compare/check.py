@@ -20,7 +20,7 @@ from .case import Case
 
 from .casefile import plausibility_issues
 from .fe import FEResult, run_fe_checked
-from .hand import HAND_KEYS, UNITS, HandResult, gap_face, run_hand
+from .hand import HAND_KEYS, UNITS, HandResult, gap_face, run_hand, winding_keys
 
 __all__ = ["Row", "CheckResult", "run_check", "DEFAULT_LIMITS", "LABELS", "rank_fringing"]
 
@@ -185,6 +185,8 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
         f3 = f * k3[k]
         rows.append(Row(k, LABELS[k], UNITS[k], h, f, u, d, lim, _verdict(d, h, f, u, lim),
                         hand_3d=hand_3d.values()[k], fe_3d=f3))
+    if len(case.windings) > 1:
+        rows.extend(winding_rows(case, hand_p, hand_3d, fe))
     peak, limit = fe.fine.peak_B, case.margins.peak_B
     if limit is None:
         verdict, margin = "info", math.nan
@@ -195,6 +197,57 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
                     fe_3d=peak, limit_value=limit, margin_pct=margin))
     rows.extend(margin_rows(case, fe))
     return tuple(rows)
+
+
+def winding_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
+                 fe: FEResult) -> list[Row]:
+    """With several windings: each winding's flux linkage, the incremental
+    inductance matrix (diagonal and the entries above it; it is symmetric)
+    and each pair's coupling factor k = L_jk / sqrt(L_jj L_kk), hand
+    (planar-consistent) against FE, with the FE uncertainty and the FE 3D
+    column by the hand network's own 3D / planar ratio per entry (as
+    :func:`depth_corrections`).  Agreement limits: those of flux linkage and
+    incremental inductance."""
+    lam_keys, l_keys = winding_keys(case)
+    names = [w.name for w in case.windings]
+    hp, h3, fv = hand_p.winding_values, hand_3d.winding_values, fe.fine.winding_values
+
+    def row(key: str, label: str, unit: str, h: float, f: float, h3v: float, f3: float,
+            u: float, limit_key: str) -> Row:
+        d = _diff_pct(h, f)
+        lim = case.margins.agreement_limit(limit_key, DEFAULT_LIMITS.get(limit_key))
+        return Row(key, label, unit, h, f, u, d, lim, _verdict(d, h, f, u, lim),
+                   hand_3d=h3v, fe_3d=f3)
+
+    def ratio(k: str) -> float:
+        return h3[k] / hp[k] if hp[k] != 0 and math.isfinite(hp[k]) else math.nan
+
+    out = []
+    for j, lk in enumerate(lam_keys):
+        out.append(row(lk, f"flux linkage, {names[j]}", "Wb", hp[lk], fv[lk], h3[lk],
+                       fv[lk] * ratio(lk), fe.uncertainty.get(lk, math.nan), "flux_linkage"))
+    n = len(names)
+    for j in range(n):
+        for k in range(j, n):
+            key = l_keys[j][k]
+            what = "self" if j == k else "mutual"
+            out.append(row(key, f"inductance {names[j]},{names[k]} ({what}, incremental)", "H",
+                           hp[key], fv[key], h3[key], fv[key] * ratio(key),
+                           fe.uncertainty.get(key, math.nan), "incremental_inductance"))
+
+    def coupling(v: dict[str, float], j: int, k: int) -> float:
+        den = v[l_keys[j][j]] * v[l_keys[k][k]]
+        return v[l_keys[j][k]] / math.sqrt(den) if den > 0 else math.nan
+
+    for j in range(n):
+        for k in range(j + 1, n):
+            fk = coupling(fv, j, k)
+            f3 = {kk: fv[kk] * ratio(kk) for kk in (l_keys[j][j], l_keys[k][k], l_keys[j][k])}
+            out.append(row(f"coupling:{names[j]},{names[k]}",
+                           f"coupling factor {names[j]},{names[k]}", "", coupling(hp, j, k), fk,
+                           coupling(h3, j, k), coupling(f3, j, k), math.nan,
+                           "incremental_inductance"))
+    return out
 
 
 def margin_rows(case: Case, fe: FEResult) -> list[Row]:

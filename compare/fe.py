@@ -57,10 +57,11 @@ def case_layout(case: Case, *, refine: float = 1.0) -> Layout:
     for i, gap in enumerate(case.gaps):
         regions.append(Region(f"gap{i}", (gap_rect(limbs[gap.limb], gap),),
                               material="air", kind="gap"))
-    w = case.winding
-    plus, minus = coil_rects(limbs[w.limb], w)
-    regions.append(Region(COIL_PLUS, (plus,), material="air", kind="coil"))
-    regions.append(Region(COIL_MINUS, (minus,), material="air", kind="coil"))
+    for k, w in enumerate(case.windings):
+        plus, minus = coil_rects(limbs[w.limb], w)
+        p_name, m_name = coil_regions(k)
+        regions.append(Region(p_name, (plus,), material="air", kind="coil"))
+        regions.append(Region(m_name, (minus,), material="air", kind="coil"))
     fe = case.fe
     air = (AirBox("disk", factor=fe.air_extent, open=True) if fe.boundary == "open"
            else AirBox("box", factor=fe.air_extent))
@@ -96,6 +97,9 @@ class FEQuantities:
     nelements: int
     element_size: float
     seconds: float
+    winding_values: dict[str, float] = field(default_factory=dict)
+    """Per winding: flux linkage (Wb) and the incremental inductance matrix
+    (H), under the flat keys of compare.hand.winding_keys."""
 
 
 @dataclass(frozen=True)
@@ -182,6 +186,7 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     if w.current == 0:
         vals["inductance"] = vals["incremental_inductance"]
     vals["energy"] = post.energy(sol)
+    wv = _winding_values(case, sol, vals)
     peak, at = post.peak_b(sol, ["core"])
     # A laminated core is solved homogenised (_materials): its B is the
     # flux over the gross area. Core B and peak B are reported in the iron,
@@ -192,8 +197,26 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
                      max_B=float(peak) / k_s, peak_B_at=(float(at[0]), float(at[1])),
                      iterations=sol.iterations, residual=float(sol.residual_history[-1]),
                      ndofs=sol.ndofs, nelements=int(sol.mesh.mesh.t.shape[1]),
-                     element_size=sol.mesh.layout.core_size(), seconds=seconds)
+                     element_size=sol.mesh.layout.core_size(), seconds=seconds,
+                     winding_values=wv)
     return q, samples, dA_dI
+
+
+def _winding_values(case: Case, sol: FieldSolution, vals: dict[str, float]) -> dict[str, float]:
+    """Per-winding flux linkages and the incremental inductance matrix, as
+    flat keys (compare.hand.winding_keys); with one winding, its flux linkage
+    and incremental inductance (no further solve)."""
+    from .hand import winding_keys
+
+    ws = case.windings
+    lam_keys, l_keys = winding_keys(case)
+    if len(ws) == 1:
+        return {lam_keys[0]: vals["flux_linkage"], l_keys[0][0]: vals["incremental_inductance"]}
+    im = post.inductance_matrix(sol)  # the coils in winding order (winding_sources)
+    out = {lam_keys[j]: float(im.flux_linkage[j]) for j in range(len(ws))}
+    out.update({l_keys[j][k]: float(im.incremental[j, k]) for j in range(len(ws))
+                for k in range(len(ws))})
+    return out
 
 
 MAX_TRIANGLES = 2_000_000
@@ -246,13 +269,30 @@ def geometry_key(case: Case, refine: float = 1.0) -> Layout:
 
 
 WINDING = "winding"
-"""Name of the case's winding as a fem2d coil."""
+"""Name of the case's (first) winding as a fem2d coil."""
+
+
+def coil_name(k: int) -> str:
+    """The fem2d coil of winding ``k``: "winding", then "winding1", ..."""
+    return WINDING if k == 0 else f"{WINDING}{k}"
+
+
+def coil_regions(k: int) -> tuple[str, str]:
+    """The (go, return) coil-side regions of winding ``k``: "coil+"/"coil-"
+    for the first (today's names), "coil1+"/"coil1-", ... after it."""
+    return (COIL_PLUS, COIL_MINUS) if k == 0 else (f"coil{k}+", f"coil{k}-")
 
 
 def winding_sources(case: Case) -> Sources:
-    """The case's winding as a fem2d coil: go side +1, return side -1."""
-    return Sources(coils=(Coil(WINDING, ((COIL_PLUS, 1), (COIL_MINUS, -1)),
-                               turns=case.winding.turns),))
+    """The case's windings as fem2d coils: go side +1, return side -1."""
+    return Sources(coils=tuple(Coil(coil_name(k), ((coil_regions(k)[0], 1),
+                                                   (coil_regions(k)[1], -1)), turns=w.turns)
+                               for k, w in enumerate(case.windings)))
+
+
+def winding_currents(case: Case) -> dict[str, float]:
+    """The coils' currents (A), by fem2d coil name."""
+    return {coil_name(k): w.current for k, w in enumerate(case.windings)}
 
 
 @dataclass(frozen=True)
@@ -277,10 +317,9 @@ def solve_case_full(case: Case, mesh: RegionMesh, *, A0: np.ndarray | None = Non
         When the Newton solve does not converge (the message says how far it got).
     """
     t0 = time.perf_counter()
-    w = case.winding
     try:
         sol = solve(mesh, _materials(case), sources=winding_sources(case),
-                    currents={WINDING: w.current}, tol=case.fe.tol, A0=A0,
+                    currents=winding_currents(case), tol=case.fe.tol, A0=A0,
                     linear_solver=linear_solver)
     except ConvergenceError as exc:
         raise RunError(f"field solve did not converge: {exc}") from None
@@ -341,7 +380,8 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
     """
     if not estimate_error:
         q, sol, samples = run_fe(case)
-        return FEResult(q, None, {k: math.nan for k in HAND_KEYS}, sol, samples)
+        return FEResult(q, None, {k: math.nan for k in (*HAND_KEYS, *q.winding_values)}, sol,
+                        samples)
     guard_mesh_size(case, refine=REFINE)  # the finest mesh checked before any is made
     coarsest, sol0, _ = run_fe(case, refine=1.0 / REFINE)
     mid_mesh = mesh_case(case)
@@ -351,4 +391,6 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
     unc = {k: uncertainty_rule(coarsest.values[k], coarse.values[k], fine.values[k])
            for k in HAND_KEYS}
     unc["peak_B"] = uncertainty_rule(coarsest.peak_B, coarse.peak_B, fine.peak_B)
+    unc.update({k: uncertainty_rule(coarsest.winding_values[k], coarse.winding_values[k], v)
+                for k, v in fine.winding_values.items()})
     return FEResult(fine, coarse, unc, sol, samples)

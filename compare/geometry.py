@@ -14,7 +14,7 @@ from dataclasses import dataclass
 
 from fem2d.layout import Rect
 
-__all__ = ["Limb", "Gap", "WindingSpec", "Rect", "gap_rect", "coil_rects"]
+__all__ = ["Limb", "Gap", "WindingSpec", "Rect", "gap_rect", "coil_rects", "flux_direction"]
 
 
 @dataclass(frozen=True)
@@ -124,8 +124,14 @@ class WindingSpec:
     length : float
         Coil length along the limb (m), centred on the limb's straight part.
     clearance : float
-        Free space between the limb's face and the coil (m): the bobbin wall
-        and any air, the same on both sides (default 0: the coil on the limb).
+        Free space between the coil and what lies inside it (m): the limb's
+        face, or the winding below it on the same limb; the bobbin wall and
+        any air, the same on both sides (default 0: the coil on the limb).
+    name : str
+        The winding's name in reports ("main" for the one-winding shorthand).
+    inner : float
+        Build of the windings inside this one on the same limb, each with its
+        clearance (m): concentric windings stack outward in case-file order.
     """
 
     limb: str
@@ -134,11 +140,19 @@ class WindingSpec:
     thickness: float
     length: float
     clearance: float = 0.0
+    name: str = "main"
+    inner: float = 0.0
 
     @property
     def mmf(self) -> float:
         """Ampere-turns N*I (A)."""
         return self.turns * self.current
+
+
+def flux_direction(limb: Limb) -> int:
+    """+1 or -1: the direction along the limb's axis of the flux a positive
+    current of a winding placed by :func:`coil_rects` drives in it."""
+    return -1 if limb.axis == "y" else 1
 
 
 def gap_rect(limb: Limb, gap: Gap) -> Rect:
@@ -152,11 +166,14 @@ def coil_rects(limb: Limb, winding: WindingSpec) -> tuple[Rect, Rect]:
 
     The plus side lies on the limb's ``c1`` side and carries +N*I out of the
     plane (+z); the minus side on the ``c0`` side carries -N*I.  Each starts
-    ``clearance`` away from the limb's face.
+    ``inner + clearance`` away from the limb's face.  A positive current
+    drives flux along -y in a limb along y and along +x in a limb along x
+    (the right-hand rule with the plus side at the larger coordinate;
+    :func:`flux_direction`).
     """
     mid = 0.5 * (limb.lo + limb.hi)
     a0, a1 = mid - 0.5 * winding.length, mid + 0.5 * winding.length
-    c, t = winding.clearance, winding.thickness
+    c, t = winding.inner + winding.clearance, winding.thickness
     plus = limb.rect(a0, a1, limb.c1 + c, limb.c1 + c + t)
     minus = limb.rect(a0, a1, limb.c0 - c - t, limb.c0 - c)
     return plus, minus

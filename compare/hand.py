@@ -19,6 +19,7 @@ from analytic.constants import mu_0
 from analytic.network import CoreBranch, GapBranch, Network, NetworkResult, Winding, solve_network
 
 from .case import Case
+from .geometry import flux_direction
 from .errors import CaseError, RunError
 
 __all__ = ["HandResult", "build_network", "run_hand", "WINDING_NAME", "HAND_KEYS", "signed"]
@@ -35,6 +36,15 @@ UNITS = {"gap_B": "T", "core_B": "T", "path_H": "A/m", "flux": "Wb", "flux_linka
          "inductance": "H", "incremental_inductance": "H", "energy": "J"}
 
 
+def winding_keys(case: Case) -> tuple[tuple[str, ...], tuple[tuple[str, ...], ...]]:
+    """The flat keys of the per-winding quantities of both models:
+    ``flux_linkage:NAME`` per winding and ``L:NAME_j,NAME_k`` for the
+    incremental inductance matrix entry d lambda_j / d I_k."""
+    names = [w.name for w in case.windings]
+    return (tuple(f"flux_linkage:{n}" for n in names),
+            tuple(tuple(f"L:{a},{b}" for b in names) for a in names))
+
+
 @dataclass(frozen=True)
 class CircuitMap:
     """Which network branches stand for what in the case."""
@@ -42,6 +52,20 @@ class CircuitMap:
     path_branches: tuple[str, ...]
     gap_branches: tuple[str, ...]
     winding_branch: str
+
+
+def winding_signs(case: Case) -> tuple[int, ...]:
+    """+1 or -1 per winding: the sense of its MMF in the network relative to
+    the first winding's, as the field model places the coils
+    (compare.geometry.flux_direction) and the family orients its segments
+    (Segment.axis_sign).  Two windings with positive currents aid each
+    other where this is +1 and oppose where it is -1, in both models."""
+    segs: dict[str, Any] = {}
+    for seg in case.family_model.segments(case.core):
+        segs.setdefault(seg.limb, seg)
+    limbs = case.limbs
+    raw = [flux_direction(limbs[w.limb]) * segs[w.limb].axis_sign for w in case.windings]
+    return tuple(r * raw[0] for r in raw)
 
 
 def gap_face(case: Case, index: int) -> GapFace:
@@ -99,6 +123,7 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
     path: list[str] = []
     gap_names: dict[int, str] = {}
     winding_branch = ""
+    seg_of_limb: dict[str, Any] = {}
     for seg in fam.segments(case.core):
         nodes.update((seg.node_a, seg.node_b))
         gaps = sorted((i for i, g in enumerate(case.gaps) if g.limb == seg.limb),
@@ -112,6 +137,8 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
             path.append(seg.name)
         if seg.limb == case.winding.limb:
             winding_branch = seg.name
+        if seg.limb not in seg_of_limb:
+            seg_of_limb[seg.limb] = seg
         for k, i in enumerate(gaps):
             nodes.add(b)
             nxt = seg.node_b if k == len(gaps) - 1 else f"{seg.name}/gap{i}-end"
@@ -126,9 +153,9 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
             b = nxt
     if leakage:
         branches.extend(window_bypass(case))
-    w = case.winding
-    net = Network(nodes=tuple(sorted(nodes)), branches=tuple(branches),
-                  windings=(Winding(WINDING_NAME, w.turns, w.current, winding_branch),))
+    sources = tuple(Winding(w.name, sign * w.turns, w.current, seg_of_limb[w.limb].name)
+                    for w, sign in zip(case.windings, winding_signs(case)))
+    net = Network(nodes=tuple(sorted(nodes)), branches=tuple(branches), windings=sources)
     cmap = CircuitMap(tuple(path), tuple(gap_names[i] for i in range(len(case.gaps))),
                       winding_branch)
     return net, cmap
@@ -194,9 +221,9 @@ def _effective_network(case: Case, model, planar: bool, leakage: bool,
     if leakage and case.gaps:
         start = bypass_from or names[1]
         branches.extend(replace(br, node_a=start, node_b="e0") for br in window_bypass(case))
-    w = case.winding
-    net = Network(nodes=tuple(sorted(nodes)), branches=tuple(branches),
-                  windings=(Winding(WINDING_NAME, w.turns, w.current, "core"),))
+    sources = tuple(Winding(w.name, sign * w.turns, w.current, "core")
+                    for w, sign in zip(case.windings, winding_signs(case)))
+    net = Network(nodes=tuple(sorted(nodes)), branches=tuple(branches), windings=sources)
     return net, CircuitMap(tuple(path), tuple(f"gap{i}" for i in range(len(case.gaps))), "core")
 
 
@@ -221,9 +248,22 @@ class HandResult:
     network: NetworkResult = field(repr=False, compare=False)
     leakage_permeance: float = 0.0
     refinements: tuple[str, ...] = ()
+    winding_names: tuple[str, ...] = ()
+    winding_values: dict[str, float] = field(default_factory=dict)
+    """Per winding: flux linkage (Wb) and the incremental inductance matrix
+    (H), under the flat keys of :func:`winding_keys`."""
 
     def values(self) -> dict[str, float]:
         return {k: getattr(self, k) for k in HAND_KEYS}
+
+    def flux_linkages(self) -> list[float]:
+        """lambda_j (Wb), in winding order."""
+        return [self.winding_values[f"flux_linkage:{n}"] for n in self.winding_names]
+
+    def inductance_matrix(self) -> list[list[float]]:
+        """L_jk = d lambda_j / d I_k (H), rows and columns in winding order."""
+        return [[self.winding_values[f"L:{a},{b}"] for b in self.winding_names]
+                for a in self.winding_names]
 
     def to_dict(self) -> dict:
         """JSON-ready dict; keys of :data:`HAND_KEYS` are a stable contract."""
@@ -237,6 +277,10 @@ class HandResult:
         out["units"] = dict(UNITS)
         out["leakage_permeance"] = self.leakage_permeance
         out["refinements"] = list(self.refinements)
+        out["windings"] = list(self.winding_names)
+        out["flux_linkages"] = [_json_float(v) for v in self.flux_linkages()]
+        out["inductance_matrix"] = [[_json_float(v) for v in row]
+                                    for row in self.inductance_matrix()]
         return out
 
 
@@ -367,7 +411,9 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
 
     ``fringing``, ``leakage``, ``stacking`` and ``effective`` override the case's ``[hand]`` settings
     (the difference breakdown switches refinements on one at a time).
-    With leakage, the window leakage (compare.hand.window_leakage_of) adds
+    Window leakage is modelled for one winding: with several it is left out
+    (and not listed in ``refinements``).  With leakage, the window leakage
+    (compare.hand.window_leakage_of) adds
     N^2 P_leak to both inductances, N^2 P_leak I to the flux linkage,
     N^2 P_leak I^2/2 to the energy and its share to the winding limb's
     flux; gap B, core B and path H are the gapped path's.
@@ -377,7 +423,7 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     RunError
         When the Newton solve of the network does not converge.
     """
-    with_leakage = case.hand.leakage if leakage is None else leakage
+    with_leakage = (case.hand.leakage if leakage is None else leakage) and len(case.windings) == 1
     with_stacking = (case.hand.stacking if stacking is None else stacking) and case.stacking != 1.0
     with_effective = case.hand.effective_parameters if effective is None else effective
     net, cmap = build_network(case, fringing=fringing, planar=planar, leakage=with_leakage,
@@ -400,7 +446,21 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     i = case.winding.current
     gap_B = signed(by_name[cmap.gap_branches[0]].B, i) if cmap.gap_branches else math.nan
     n = case.winding.turns
+    name0 = case.winding.name
     flux = signed(abs(by_name[cmap.winding_branch].flux) + n * abs(i) * flux_leak, i)
+    lam0 = signed(abs(res.flux_linkage[name0]) + n * n * abs(i) * p_leak, i)
+    l00 = res.incremental_inductance[name0] + n * n * p_leak
+    lam_keys, l_keys = winding_keys(case)
+    if len(case.windings) == 1:
+        wvals = {lam_keys[0]: lam0, l_keys[0][0]: l00}
+    else:  # no leakage with several windings (refused when the case is read)
+        wvals = {lam_keys[j]: float(res.flux_linkage[w.name])
+                 for j, w in enumerate(case.windings)}
+        order = [net.windings.index(next(x for x in net.windings if x.name == w.name))
+                 for w in case.windings]
+        m = res.incremental_inductance_matrix
+        wvals.update({l_keys[j][k]: float(m[order[j], order[k]])
+                      for j in range(len(order)) for k in range(len(order))})
     segments = tuple(
         {"name": b.name, "kind": b.kind, "length": b.length, "area": b.area,
          "flux": signed(b.flux, i), "B": signed(b.B, i), "H": signed(b.H, i),
@@ -411,9 +471,9 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
         fringing_model=get_fringing(fringing or case.hand.fringing).name,
         planar=planar,
         gap_B=gap_B, core_B=core_B, path_H=path_H, flux=flux,
-        flux_linkage=signed(abs(res.flux_linkage[WINDING_NAME]) + n * n * abs(i) * p_leak, i),
-        inductance=abs(res.inductance[WINDING_NAME]) + n * n * p_leak,
-        incremental_inductance=res.incremental_inductance[WINDING_NAME] + n * n * p_leak,
+        flux_linkage=lam0,
+        inductance=abs(res.inductance[name0]) + n * n * p_leak,
+        incremental_inductance=l00,
         energy=float(res.energy) + 0.5 * n * n * p_leak * i * i,
         iterations=res.iterations,
         residual=float(res.residual_history[-1]) if res.residual_history else 0.0,
@@ -423,4 +483,6 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
         refinements=tuple(name for name, on in (("window leakage", with_leakage),
                                                 ("stacking factor", with_stacking),
                                                 ("effective parameters", with_effective)) if on),
+        winding_names=tuple(w.name for w in case.windings),
+        winding_values=wvals,
     )

@@ -59,6 +59,7 @@ def parse_key(key: str) -> tuple[str | int, ...]:
 _NAMES = {
     "gaps": ("length", "position"),
     "winding": ("current", "turns", "thickness", "length", "fill", "clearance"),
+    "windings": ("current", "turns", "thickness", "length", "fill", "clearance"),
 }
 """The variable keys of the tables every case has; ``[core]``'s come from its family."""
 

@@ -104,13 +104,13 @@ class MarginResult:
 
 # --------------------------------------------------------------------------- figures
 def current_density(case: Case) -> float:
-    """Winding current density J = N |I| / (k_cu t l) (A/m^2).
+    """Winding current density J = N |I| / (k_cu t l) (A/m^2), the largest
+    over the windings (every winding must meet the limit).
 
     t = coil build, l = coil length (m), k_cu = ``case.margins.copper_fill``.
     """
-    w = case.winding
-    area = case.margins.copper_fill * w.thickness * w.length
-    return abs(w.turns * w.current) / area
+    return max(abs(w.turns * w.current) / (case.margins.copper_fill * w.thickness * w.length)
+               for w in case.windings)
 
 
 def with_current(case: Case, current: float) -> Case:

@@ -10,7 +10,7 @@ from importlib import metadata
 from typing import Any
 
 from .check import CheckResult, Row
-from .hand import HAND_KEYS, UNITS
+from .hand import HAND_KEYS, UNITS, winding_keys
 from .output import CAUTION
 from .units import format_si
 
@@ -83,6 +83,17 @@ def check_json(res: CheckResult) -> dict:
         "element_order": res.case.fe.order,
         "units": dict(UNITS, peak_B="T"),
     })
+    # per winding (H and Wb, planar FE per stack depth like every FE value;
+    # winding order as in the case): the flux linkages and the incremental
+    # inductance matrix, and their uncertainties
+    lam_keys, l_keys = winding_keys(res.case)
+    wv = fe.fine.winding_values
+    fe_block["windings"] = [w.name for w in res.case.windings]
+    fe_block["flux_linkages"] = [wv[k] for k in lam_keys]
+    fe_block["inductance_matrix"] = [[wv[k] for k in row] for row in l_keys]
+    fe_block["uncertainty"]["flux_linkages"] = [fe.uncertainty.get(k) for k in lam_keys]
+    fe_block["uncertainty"]["inductance_matrix"] = [[fe.uncertainty.get(k) for k in row]
+                                                    for row in l_keys]
     case = res.case
     return {
         "case": {"name": case.name, "family": case.family, "file": case.source,

@@ -199,3 +199,46 @@ def test_fuzz_random_documents(doc):
         load(doc)
     except CaseError:
         pass
+
+
+_winding_paths = st.sampled_from([
+    "windings", "windings.0", "windings.1", "windings.0.name", "windings.1.name",
+    "windings.0.limb", "windings.1.limb", "windings.1.turns", "windings.1.current",
+    "windings.1.thickness", "windings.1.length", "windings.1.clearance", "windings.0.clearance",
+    "windings.1.fill", "winding", "hand.leakage",
+])
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(st.tuples(_winding_paths, st.one_of(_values, st.just(KeyError))), min_size=1,
+                max_size=4))
+def test_fuzz_mutated_windings(mutations):
+    # the [[windings]] tables: any mutation gives a valid case or a CaseError;
+    # a valid case's coils fit their windows without overlapping
+    d = tomllib.loads((CASES / "demo_coupled_inductor.toml").read_text())
+    for path, value in mutations:
+        node = d
+        keys = path.split(".")
+        try:
+            for k in keys[:-1]:
+                node = node[int(k)] if isinstance(node, list) else node[k]
+            last = keys[-1]
+            if isinstance(node, list):
+                last = int(last)
+            if value is KeyError:
+                del node[last]
+            else:
+                node[last] = copy.deepcopy(value)
+        except (KeyError, IndexError, TypeError, ValueError):
+            continue
+    try:
+        case = load(d)
+    except CaseError:
+        return
+    names = [w.name for w in case.windings]
+    assert len(set(names)) == len(names)
+    for w in case.windings:
+        assert w.turns >= 1 and w.thickness > 0 and w.clearance >= 0
+        limb = case.limbs[w.limb]
+        assert w.inner + w.clearance + w.thickness <= min(limb.room_minus, limb.room_plus) \
+            * (1 + 1e-9)

@@ -34,6 +34,11 @@ class Segment:
     on_path : bool
         True when the segment belongs to the closed mean path through the
         winding that path-averaged quantities use.
+    axis_sign : int
+        +1 when a -> b runs along the limb's +axis (x or y), -1 against it:
+        with it the network's MMF sources take the sign of the field model's
+        coils (compare.geometry.flux_direction), so that several windings
+        aid or oppose each other in both models alike.
     """
 
     name: str
@@ -43,6 +48,7 @@ class Segment:
     area: float
     limb: str
     on_path: bool = True
+    axis_sign: int = 1
 
 
 @dataclass(frozen=True)

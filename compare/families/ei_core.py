@@ -105,12 +105,14 @@ class EICore:
         q = 0.25 * c.centre  # the yokes stop at the half-limbs' centre lines
         return [
             Segment("centre", "bc", "tc", yt - yb, c.centre * d, "centre"),
-            Segment("top-left", "tc", "tl", xc - xl - q, c.yoke * d, "yoke"),
-            Segment("left", "tl", "bl", yt - yb, c.outer * d, "left"),
+            Segment("top-left", "tc", "tl", xc - xl - q, c.yoke * d, "yoke", axis_sign=-1),
+            Segment("left", "tl", "bl", yt - yb, c.outer * d, "left", axis_sign=-1),
             Segment("bottom-left", "bl", "bc", xc - xl - q, c.yoke * d, "yoke"),
             Segment("top-right", "tc", "tr", xr - xc - q, c.yoke * d, "yoke", on_path=False),
-            Segment("right", "tr", "br", yt - yb, c.outer * d, "right", on_path=False),
-            Segment("bottom-right", "br", "bc", xr - xc - q, c.yoke * d, "yoke", on_path=False),
+            Segment("right", "tr", "br", yt - yb, c.outer * d, "right", on_path=False,
+                    axis_sign=-1),
+            Segment("bottom-right", "br", "bc", xr - xc - q, c.yoke * d, "yoke", on_path=False,
+                    axis_sign=-1),
         ]
 
     def mean_path(self, c: EICoreDims) -> list[tuple[float, float]]:

@@ -105,8 +105,8 @@ class WindowCore:
         return [
             Segment("left", "bl", "tl", yt - yb, c.left * d, "left"),
             Segment("top", "tl", "tr", xr - xl, c.top * d, "top"),
-            Segment("right", "tr", "br", yt - yb, c.right * d, "right"),
-            Segment("bottom", "br", "bl", xr - xl, c.bottom * d, "bottom"),
+            Segment("right", "tr", "br", yt - yb, c.right * d, "right", axis_sign=-1),
+            Segment("bottom", "br", "bl", xr - xl, c.bottom * d, "bottom", axis_sign=-1),
         ]
 
     def mean_path(self, c: WindowCoreDims) -> list[tuple[float, float]]:
