@@ -234,3 +234,16 @@ class Case:
             if m.region == region:
                 return m
         raise KeyError(region)
+
+    def part_material(self, part: str) -> MaterialSpec:
+        """The material of a core part: its own ``[materials]`` entry, or the core's."""
+        for m in self.materials:
+            if m.region == part:
+                return m
+        return self.material("core")
+
+    @property
+    def part_overrides(self) -> tuple[str, ...]:
+        """The core parts with a material of their own, in the family's order."""
+        given = {m.region for m in self.materials}
+        return tuple(p for p in self.family_model.parts if p in given)

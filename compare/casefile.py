@@ -75,7 +75,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     gaps = tuple(_read_gap(t, family, limbs) for t in root.tables("gaps"))
     _check_gap_overlap(gaps)
     windings = _read_windings(root, family, limbs)
-    materials = _read_materials(root.table("materials"), base_dir)
+    materials = _read_materials(root.table("materials"), base_dir, family)
     hand = _read_hand(root.table("hand", {}))
     fe = _read_fe(root.table("fe", {}))
     margins = _read_margins(root.table("margins", {}))
@@ -263,11 +263,15 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
     return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner)
 
 
-def _read_materials(t: TableReader, base_dir: Path | None) -> tuple[MaterialSpec, ...]:
-    specs = []
-    for region in MATERIAL_REGIONS:
-        specs.append(_read_material(t, region, base_dir))
-    t.finish()
+def _read_materials(t: TableReader, base_dir: Path | None,
+                    family: Family) -> tuple[MaterialSpec, ...]:
+    """``core`` (every part of the core) and, optionally, a material per
+    part of the family's core (``family.parts``) that overrides it."""
+    specs = [_read_material(t, region, base_dir) for region in MATERIAL_REGIONS]
+    for part in family.parts:
+        if t.has(part):
+            specs.append(_read_material(t, part, base_dir))
+    t.finish(valid=(*MATERIAL_REGIONS, *family.parts))
     return tuple(specs)
 
 

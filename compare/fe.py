@@ -52,8 +52,15 @@ def case_layout(case: Case, *, refine: float = 1.0) -> Layout:
     """
     fam = case.family_model
     limbs = case.limbs
-    regions = [Region("core", tuple(fam.core_rects(case.core)),
-                      material="core", kind="core")]
+    if case.part_overrides:  # parts of their own material: regions core-PART
+        parts = fam.part_rects(case.core)
+        rest = [r for p, rects in parts.items() if p not in case.part_overrides for r in rects]
+        regions = [Region("core", tuple(rest), material="core", kind="core")] if rest else []
+        regions += [Region(f"core-{p}", tuple(parts[p]), material=f"core-{p}", kind="core")
+                    for p in case.part_overrides]
+    else:
+        regions = [Region("core", tuple(fam.core_rects(case.core)),
+                          material="core", kind="core")]
     for i, gap in enumerate(case.gaps):
         regions.append(Region(f"gap{i}", (gap_rect(limbs[gap.limb], gap),),
                               material="air", kind="gap"))
@@ -122,19 +129,30 @@ def _materials(case: Case) -> dict[str, Any]:
     the equivalent homogeneous one, its polarisation scaled by k_s
     (B = mu0 H + k_s J(H): the iron's flux on k_s of the area, air between
     the sheets; exact for flux along the laminations)."""
-    law = case.material("core").law
-    if case.stacking != 1.0:
-        from analytic.bh import scale_law
+    from analytic.bh import scale_law
 
-        law = scale_law(law, k_b=case.stacking)
-    return {"core": law}
+    def homogenised(law: Any) -> Any:
+        return scale_law(law, k_b=case.stacking) if case.stacking != 1.0 else law
+
+    out = {"core": homogenised(case.material("core").law)}
+    out.update({f"core-{p}": homogenised(case.part_material(p).law) for p in case.part_overrides})
+    return out
+
+
+def core_region_names(case: Case) -> list[str]:
+    """The layout's core regions: "core", and "core-PART" for each part
+    with a material of its own."""
+    names = [] if (case.part_overrides and set(case.part_overrides)
+                   == set(case.family_model.parts)) else ["core"]
+    return names + [f"core-{p}" for p in case.part_overrides]
 
 
 PEAK_AREA_FRACTION = 0.005
 """Peak core B is the |B| exceeded on this fraction of the core's area."""
 
 
-def core_b_quantile(sol: FieldSolution, fraction: float, region: str = "core") -> float:
+def core_b_quantile(sol: FieldSolution, fraction: float,
+                    region: str | list[str] = "core") -> float:
     """The |B| (T) exceeded on ``fraction`` of the region's area.
 
     Used as the FE's peak core B: the pointwise maximum sits at a sharp inner
@@ -171,7 +189,8 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
         vals["gap_B"] = signed(post.region_mean_b(sol, "gap0", direction=axis), w.current)
     else:
         vals["gap_B"] = math.nan
-    vals["core_B"] = post.region_mean_b(sol, "core")
+    cores = core_region_names(case)
+    vals["core_B"] = post.region_mean_b(sol, cores)
     path = np.array(case.family_model.mean_path(case.core), dtype=float).T
     samples = post.path_mean_h(sol, path, exclude=tuple(f"gap{i}" for i in range(len(case.gaps))))
     vals["path_H"] = samples.mean_h
@@ -187,13 +206,13 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
         vals["inductance"] = vals["incremental_inductance"]
     vals["energy"] = post.energy(sol)
     wv = _winding_values(case, sol, vals)
-    peak, at = post.peak_b(sol, ["core"])
+    peak, at = post.peak_b(sol, cores)
     # A laminated core is solved homogenised (_materials): its B is the
     # flux over the gross area. Core B and peak B are reported in the iron,
     # B / k_s (to within mu0 H (1 - k_s)/k_s, under 1e-3 T below 1 kA/m).
     k_s = case.stacking
     vals["core_B"] /= k_s
-    q = FEQuantities(values=vals, peak_B=core_b_quantile(sol, PEAK_AREA_FRACTION) / k_s,
+    q = FEQuantities(values=vals, peak_B=core_b_quantile(sol, PEAK_AREA_FRACTION, cores) / k_s,
                      max_B=float(peak) / k_s, peak_B_at=(float(at[0]), float(at[1])),
                      iterations=sol.iterations, residual=float(sol.residual_history[-1]),
                      ndofs=sol.ndofs, nelements=int(sol.mesh.mesh.t.shape[1]),

@@ -115,6 +115,10 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
     """
     model = get_fringing(fringing or case.hand.fringing)
     if effective:
+        if case.part_overrides:
+            raise CaseError("hand.effective_parameters", True,
+                            "the effective core is one material; parts "
+                            f"{', '.join(case.part_overrides)} have their own: turn it off")
         return _effective_network(case, model, planar, leakage, stacking)
     material = case.material("core").law
     fam = case.family_model
@@ -132,7 +136,8 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
         a = seg.node_a
         b = f"{seg.name}/core-end" if gaps else seg.node_b
         area = seg.area * (case.stacking if stacking else 1.0)
-        branches.append(CoreBranch(seg.name, a, b, core_len, area, material))
+        law = case.part_material(seg.part or seg.limb).law if case.part_overrides else material
+        branches.append(CoreBranch(seg.name, a, b, core_len, area, law))
         if seg.on_path:
             path.append(seg.name)
         if seg.limb == case.winding.limb:

@@ -43,8 +43,9 @@ _plugins_loaded = False
 def register(family: Family) -> Family:
     """Add a family to :data:`FAMILIES` (a plug-in's own call, or a test's);
     a name already taken by another family is refused."""
-    for attr in ("name", "limb_names", "winding_limbs", "core_keys", "read_core", "limbs",
-                 "core_rects", "segments", "mean_path", "windows", "effective_path"):
+    for attr in ("name", "limb_names", "winding_limbs", "core_keys", "parts", "read_core",
+                 "limbs", "core_rects", "part_rects", "segments", "mean_path", "windows",
+                 "effective_path"):
         if not hasattr(family, attr):
             raise TypeError(f"core family {family!r}: missing {attr!r}")
     old = FAMILIES.get(family.name)

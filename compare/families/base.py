@@ -34,6 +34,9 @@ class Segment:
     on_path : bool
         True when the segment belongs to the closed mean path through the
         winding that path-averaged quantities use.
+    part : str
+        The core part it runs in (``Family.parts``; "" = the part named
+        like its limb): the part's material, if the case gives one.
     axis_sign : int
         +1 when a -> b runs along the limb's +axis (x or y), -1 against it:
         with it the network's MMF sources take the sign of the field model's
@@ -49,6 +52,7 @@ class Segment:
     limb: str
     on_path: bool = True
     axis_sign: int = 1
+    part: str = ""
 
 
 @dataclass(frozen=True)
@@ -77,12 +81,17 @@ class Family(Protocol):
     winding_limbs: tuple[str, ...]
     core_keys: tuple[str, ...]
     """The numeric ``[core]`` keys (lengths) that sweeps and tolerances may vary."""
+    parts: tuple[str, ...]
+    """The core's parts that may have their own material (``[materials]`` keys
+    beside ``core``)."""
 
     def read_core(self, t: TableReader) -> Any: ...
 
     def limbs(self, core: Any) -> dict[str, Limb]: ...
 
     def core_rects(self, core: Any) -> list[Rect]: ...
+
+    def part_rects(self, core: Any) -> dict[str, list[Rect]]: ...
 
     def segments(self, core: Any) -> list[Segment]: ...
 

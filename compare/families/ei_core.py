@@ -44,6 +44,7 @@ class EICore:
     winding_limbs: tuple[str, ...] = ("centre",)
     core_keys: tuple[str, ...] = ("centre_width", "outer_width", "yoke_width", "window_width",
                                   "window_height", "depth")
+    parts: tuple[str, ...] = ("E", "I")
 
     def read_core(self, t: TableReader) -> EICoreDims:
         centre = t.quantity("centre_width", "length")
@@ -79,6 +80,15 @@ class EICore:
             Rect(c.outer, H - c.yoke, W - c.outer, H),
         ]
 
+    def part_rects(self, c: EICoreDims) -> dict[str, list[Rect]]:
+        """The E (outer and centre limbs and the bottom yoke) and the I (the
+        top yoke across the whole width, the outer limbs ending below it)."""
+        W, H = c.outer_width, c.outer_height
+        xc0 = c.outer + c.window_width
+        e = [Rect(0.0, 0.0, c.outer, H - c.yoke), Rect(W - c.outer, 0.0, W, H - c.yoke),
+             Rect(xc0, c.yoke, xc0 + c.centre, H - c.yoke), Rect(c.outer, 0.0, W - c.outer, c.yoke)]
+        return {"E": e, "I": [Rect(0.0, H - c.yoke, W, H)]}
+
     def _lines(self, c: EICoreDims) -> tuple[float, float, float, float, float]:
         xl = 0.5 * c.outer
         xc = c.outer + c.window_width + 0.5 * c.centre
@@ -104,15 +114,17 @@ class EICore:
         d = c.depth
         q = 0.25 * c.centre  # the yokes stop at the half-limbs' centre lines
         return [
-            Segment("centre", "bc", "tc", yt - yb, c.centre * d, "centre"),
-            Segment("top-left", "tc", "tl", xc - xl - q, c.yoke * d, "yoke", axis_sign=-1),
-            Segment("left", "tl", "bl", yt - yb, c.outer * d, "left", axis_sign=-1),
-            Segment("bottom-left", "bl", "bc", xc - xl - q, c.yoke * d, "yoke"),
-            Segment("top-right", "tc", "tr", xr - xc - q, c.yoke * d, "yoke", on_path=False),
+            Segment("centre", "bc", "tc", yt - yb, c.centre * d, "centre", part="E"),
+            Segment("top-left", "tc", "tl", xc - xl - q, c.yoke * d, "yoke", axis_sign=-1,
+                    part="I"),
+            Segment("left", "tl", "bl", yt - yb, c.outer * d, "left", axis_sign=-1, part="E"),
+            Segment("bottom-left", "bl", "bc", xc - xl - q, c.yoke * d, "yoke", part="E"),
+            Segment("top-right", "tc", "tr", xr - xc - q, c.yoke * d, "yoke", on_path=False,
+                    part="I"),
             Segment("right", "tr", "br", yt - yb, c.outer * d, "right", on_path=False,
-                    axis_sign=-1),
+                    axis_sign=-1, part="E"),
             Segment("bottom-right", "br", "bc", xr - xc - q, c.yoke * d, "yoke", on_path=False,
-                    axis_sign=-1),
+                    axis_sign=-1, part="E"),
         ]
 
     def mean_path(self, c: EICoreDims) -> list[tuple[float, float]]:

@@ -46,6 +46,7 @@ class WindowCore:
     winding_limbs: tuple[str, ...] = limb_names
     core_keys: tuple[str, ...] = ("outer_width", "outer_height", "limb_width", "depth",
                                   "left", "right", "top", "bottom")
+    parts: tuple[str, ...] = limb_names
 
     def read_core(self, t: TableReader) -> WindowCoreDims:
         ow = t.quantity("outer_width", "length")
@@ -91,6 +92,10 @@ class WindowCore:
             Rect(c.left, 0.0, W - c.right, c.bottom),
             Rect(c.left, H - c.top, W - c.right, H),
         ]
+
+    def part_rects(self, c: WindowCoreDims) -> dict[str, list[Rect]]:
+        """Each limb is a part; the corner squares go with the vertical limbs."""
+        return dict(zip(("left", "right", "bottom", "top"), ([r] for r in self.core_rects(c))))
 
     def _corners(self, c: WindowCoreDims) -> tuple[float, float, float, float]:
         return (0.5 * c.left, c.outer_width - 0.5 * c.right,
