@@ -14,6 +14,8 @@ import math
 from dataclasses import dataclass, field
 from typing import Union
 
+import numpy as np
+
 __all__ = [
     "LayoutError",
     "Rect",
@@ -27,6 +29,9 @@ __all__ = [
     "MeshSettings",
     "Layout",
     "RESERVED_NAMES",
+    "crossing_edges",
+    "crossing_between",
+    "point_in_polygon",
 ]
 
 RESERVED_NAMES = ("air", "outer", "exterior")
@@ -168,20 +173,42 @@ class Annulus:
 
 @dataclass(frozen=True)
 class Polygon:
-    """Simple closed polygon through ``points`` ((x, y) pairs, m, at least 3, not repeated)."""
+    """Simple closed polygon through ``points`` ((x, y) pairs, m, at least 3,
+    not repeated), with optional ``holes`` (each a simple polygon's points,
+    inside the outline and apart from each other).  Edges may not cross."""
 
     points: tuple[tuple[float, float], ...]
+    holes: tuple[tuple[tuple[float, float], ...], ...] = ()
 
     def check(self, where: str) -> None:
-        if len(self.points) < 3:
-            raise LayoutError(f"{where}: Polygon needs >= 3 points, got {len(self.points)}")
-        for i, pt in enumerate(self.points):
-            if len(pt) != 2:
-                raise LayoutError(f"{where}: Polygon point {i} = {pt!r} is not an (x, y) pair")
-            _finite(where, f"Polygon.points[{i}].x", pt[0])
-            _finite(where, f"Polygon.points[{i}].y", pt[1])
-        if abs(self.area()) <= 0.0:
-            raise LayoutError(f"{where}: Polygon area = {self.area()!r} must be > 0")
+        for label, pts in (("Polygon", self.points),
+                           *((f"Polygon hole {k}", h) for k, h in enumerate(self.holes))):
+            if len(pts) < 3:
+                raise LayoutError(f"{where}: {label} needs >= 3 points, got {len(pts)}")
+            for i, pt in enumerate(pts):
+                if len(pt) != 2:
+                    raise LayoutError(f"{where}: {label} point {i} = {pt!r} is not an (x, y) pair")
+                _finite(where, f"{label}.points[{i}].x", pt[0])
+                _finite(where, f"{label}.points[{i}].y", pt[1])
+            bad = crossing_edges(pts)
+            if bad is not None:
+                i, j = bad
+                raise LayoutError(f"{where}: {label} edges {i} and {j} cross or touch (points "
+                                  f"{pts[i]!r} and {pts[j]!r} start them): the outline must not "
+                                  "cross itself")
+            if _shoelace(pts) <= 0.0:
+                raise LayoutError(f"{where}: {label} area = {_shoelace(pts)!r} must be > 0")
+        loops = [self.points, *self.holes]
+        for k, h in enumerate(self.holes):
+            if not all(point_in_polygon(p, self.points) for p in h):
+                raise LayoutError(f"{where}: Polygon hole {k} is not inside the outline")
+            for m, other in enumerate(loops):
+                if m != k + 1 and crossing_between(h, other):
+                    raise LayoutError(f"{where}: Polygon hole {k} crosses "
+                                      + ("the outline" if m == 0 else f"hole {m - 1}"))
+            for m, other in enumerate(self.holes[:k]):
+                if point_in_polygon(h[0], other) or point_in_polygon(other[0], h):
+                    raise LayoutError(f"{where}: Polygon holes {m} and {k} overlap")
 
     def bbox(self) -> tuple[float, float, float, float]:
         xs = [p[0] for p in self.points]
@@ -196,14 +223,85 @@ class Polygon:
         return [(float(x), float(y), 0.0) for x, y in self.points]
 
     def area(self) -> float:
-        """Absolute shoelace area (m^2)."""
-        s = 0.0
-        n = len(self.points)
-        for i in range(n):
-            x0, y0 = self.points[i]
-            x1, y1 = self.points[(i + 1) % n]
-            s += x0 * y1 - x1 * y0
-        return abs(0.5 * s)
+        """Shoelace area of the outline less its holes (m^2)."""
+        return _shoelace(self.points) - sum(_shoelace(h) for h in self.holes)
+
+
+def _shoelace(points) -> float:
+    s = 0.0
+    n = len(points)
+    for i in range(n):
+        x0, y0 = points[i]
+        x1, y1 = points[(i + 1) % n]
+        s += x0 * y1 - x1 * y0
+    return abs(0.5 * s)
+
+
+def _segments(points) -> tuple[np.ndarray, np.ndarray]:
+    p = np.asarray(points, dtype=float)
+    return p, np.roll(p, -1, axis=0)
+
+
+def _cross_matrix(a0, a1, b0, b1) -> np.ndarray:
+    """[i, j]: segment a_i properly crosses or touches segment b_j."""
+    def orient(p, q, r):
+        return np.sign((q[..., 0] - p[..., 0]) * (r[..., 1] - p[..., 1])
+                       - (q[..., 1] - p[..., 1]) * (r[..., 0] - p[..., 0]))
+    A0, A1 = a0[:, None, :], a1[:, None, :]
+    B0, B1 = b0[None, :, :], b1[None, :, :]
+    d1, d2 = orient(B0, B1, A0), orient(B0, B1, A1)
+    d3, d4 = orient(A0, A1, B0), orient(A0, A1, B1)
+    proper = (d1 * d2 < 0) & (d3 * d4 < 0)
+
+    def on(p, q0, q1, d):  # p on the segment q0-q1 (d = its orientation, 0 if collinear)
+        lo, hi = np.minimum(q0, q1), np.maximum(q0, q1)
+        return (d == 0) & np.all((p >= lo) & (p <= hi), axis=-1)
+
+    # an end of one segment on the other (a T or a pinch: the outline touches itself)
+    proper |= on(A0, B0, B1, d1) | on(A1, B0, B1, d2) | on(B0, A0, A1, d3) | on(B1, A0, A1, d4)
+    # collinear overlap (a shared vertex alone is not a crossing here)
+    col = (d1 == 0) & (d2 == 0)
+    if np.any(col):
+        ax = np.minimum(A0, A1), np.maximum(A0, A1)
+        bx = np.minimum(B0, B1), np.maximum(B0, B1)
+        lo = np.maximum(ax[0], bx[0])
+        hi = np.minimum(ax[1], bx[1])
+        span = np.max(hi - lo, axis=-1)
+        proper |= col & (span > 0) & np.all(hi >= lo, axis=-1)
+    return proper
+
+
+def crossing_edges(points) -> tuple[int, int] | None:
+    """The first pair of non-adjacent edges of a closed polygon that cross
+    (or overlap along a line), or None when it is simple."""
+    a0, a1 = _segments(points)
+    n = len(a0)
+    m = _cross_matrix(a0, a1, a0, a1)
+    i, j = np.triu_indices(n, 1)
+    adjacent = (j == i + 1) | ((i == 0) & (j == n - 1))
+    hit = m[i, j] & ~adjacent
+    if not np.any(hit):
+        return None
+    k = int(np.argmax(hit))
+    return int(i[k]), int(j[k])
+
+
+def crossing_between(p, q) -> bool:
+    """True when an edge of closed polygon p crosses an edge of q."""
+    a0, a1 = _segments(p)
+    b0, b1 = _segments(q)
+    return bool(np.any(_cross_matrix(a0, a1, b0, b1)))
+
+
+def point_in_polygon(pt, points) -> bool:
+    """Even-odd rule (a point on an edge may go either way)."""
+    x, y = pt
+    p = np.asarray(points, dtype=float)
+    q = np.roll(p, -1, axis=0)
+    cond = (p[:, 1] > y) != (q[:, 1] > y)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        xc = p[:, 0] + (y - p[:, 1]) * (q[:, 0] - p[:, 0]) / (q[:, 1] - p[:, 1])
+    return bool(np.count_nonzero(cond & (x < xc)) % 2)
 
 
 Shape = Union[Rect, Disk, HalfDisk, Annulus, Polygon]

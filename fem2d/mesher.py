@@ -81,11 +81,13 @@ def _add_shape(occ, s) -> list[tuple[int, int]]:
         out, _ = occ.cut([(2, outer)], [(2, inner)], removeObject=True, removeTool=True)
         return list(out)
     if isinstance(s, Polygon):
-        pts = [occ.addPoint(float(x), float(y), 0.0) for x, y in s.points]
-        n = len(pts)
-        lines = [occ.addLine(pts[i], pts[(i + 1) % n]) for i in range(n)]
-        loop = occ.addCurveLoop(lines)
-        return [(2, occ.addPlaneSurface([loop]))]
+        def loop(points) -> int:
+            pts = [occ.addPoint(float(x), float(y), 0.0) for x, y in points]
+            n = len(pts)
+            return occ.addCurveLoop([occ.addLine(pts[i], pts[(i + 1) % n]) for i in range(n)])
+
+        # the outline first, then the holes (gmsh's plane surface with holes)
+        return [(2, occ.addPlaneSurface([loop(s.points), *(loop(h) for h in s.holes)]))]
     raise LayoutError(f"unknown shape {s!r}")  # pragma: no cover - Region checks shapes
 
 
