@@ -123,6 +123,7 @@ def test_axisymmetric_needs_the_axis_and_r_at_least_zero():
         solve(build_mesh(lay), {"a": AIR}, formulation=Axisymmetric())
 
 
+@pytest.mark.slow
 def test_quick_verification_cases_pass():
     results = run_cases(quick=True)
     assert {r.formulation for r in results} == {"planar", "axisymmetric"}
@@ -135,6 +136,7 @@ def test_quick_verification_cases_pass():
         assert r.passed, (r.name, r.rel_error, r.tolerance)
 
 
+@pytest.mark.slow
 def test_selftest_command(tmp_path, capsys):
     out = tmp_path / "st.json"
     assert main(["selftest", "--quick", "--json", str(out)]) == 0
