@@ -214,7 +214,11 @@ class Case:
 
     @property
     def family_model(self) -> Family:
-        return FAMILIES[self.family]
+        # through the registry's lookup, which loads entry-point plug-ins (a
+        # worker process starts with the built-in families only)
+        from .families import get_family
+
+        return FAMILIES[self.family] if self.family in FAMILIES else get_family(self.family)
 
     @property
     def limbs(self) -> dict[str, Limb]:

@@ -125,14 +125,15 @@ def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
         if g.length < GAP_MIN:
             out.append(CaseWarning(f"gaps[{i}].length", f"{g.length:g} m",
                                    "below 1 um: shorter than a ground face is flat"))
-    spec = case.material("core")
-    mu_r = float(spec.law.mu_r_initial)
-    if mu_r < MU_R_MIN:
-        what = "mu_r" if spec.kind == "mu_r" else "initial relative permeability"
-        key = "materials.core.mu_r" if spec.kind == "mu_r" else "materials.core"
-        out.append(CaseWarning(key, mu_r, f"core {what} below {MU_R_MIN:g}: the core is hardly "
-                                          "magnetic, so the differences to the FE are not about "
-                                          "fringing"))
+    for region in ("core", *case.part_overrides):
+        spec = case.material(region)
+        mu_r = float(spec.law.mu_r_initial)
+        if mu_r < MU_R_MIN:
+            what = "mu_r" if spec.kind == "mu_r" else "initial relative permeability"
+            key = f"materials.{region}" + (".mu_r" if spec.kind == "mu_r" else "")
+            out.append(CaseWarning(key, mu_r, f"core {what} below {MU_R_MIN:g}: the core is "
+                                              "hardly magnetic, so the differences to the FE "
+                                              "are not about fringing"))
     return tuple(out)
 
 
@@ -180,6 +181,9 @@ def _read_windings(root: TableReader, family: Family,
         raise CaseError("windings", root.data["windings"],
                         "give [winding] (one winding) or [[windings]], not both")
     if not root.has("windings"):
+        if not root.has("winding"):
+            raise CaseError("winding", None, "missing: give a [winding] table, or one "
+                                             "[[windings]] table per winding")
         return (_read_winding(root.table("winding"), family, limbs, "main", 0.0),)
     tables = root.tables("windings")
     if not tables:

@@ -177,7 +177,7 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
     """The comparison rows."""
     rows = []
     k3 = depth_corrections(hand_p, hand_3d)
-    zero = case.winding.current == 0.0
+    zero = all(w.current == 0.0 for w in case.windings)
     for k in HAND_KEYS:
         h, f, u = hand_p.values()[k], fe.values[k], fe.uncertainty.get(k, math.nan)
         d = math.nan if (zero and k in ZERO_AT_ZERO_CURRENT) else _diff_pct(h, f)
@@ -295,7 +295,7 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
              "no end-turn leakage."]
     for w in plausibility_issues(case):
         notes.append(f"Check the input: {w}.")
-    if case.winding.current == 0.0:
+    if all(w.current == 0.0 for w in case.windings):
         notes.append("At zero current the flux, flux linkage, gap B, core B, path-averaged H and "
                      "stored energy are zero in both models: no difference, verdict n/a. The "
                      "secant inductance is given as its small-signal limit, the incremental "

@@ -183,10 +183,13 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     limbs = case.limbs
     w = case.winding
     vals: dict[str, float] = {}
+    lam = post.flux_linkage(sol, w.turns, COIL_PLUS, COIL_MINUS)
+    many = len(case.windings) > 1
+    ref = lam if many else w.current  # the sign reference (compare.hand.signed)
     if case.gaps:
         g0 = case.gaps[0]
         axis = (0.0, 1.0) if limbs[g0.limb].axis == "y" else (1.0, 0.0)
-        vals["gap_B"] = signed(post.region_mean_b(sol, "gap0", direction=axis), w.current)
+        vals["gap_B"] = signed(post.region_mean_b(sol, "gap0", direction=axis), ref)
     else:
         vals["gap_B"] = math.nan
     cores = core_region_names(case)
@@ -195,10 +198,12 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     samples = post.path_mean_h(sol, path, exclude=tuple(f"gap{i}" for i in range(len(case.gaps))))
     vals["path_H"] = samples.mean_h
     p0, p1 = _limb_flux_line(limbs[w.limb])
-    vals["flux"] = signed(post.flux_across(sol, p0, p1), w.current)
-    lam = post.flux_linkage(sol, w.turns, COIL_PLUS, COIL_MINUS)
-    vals["flux_linkage"] = signed(lam, w.current)
-    vals["inductance"] = abs(lam / w.current) if w.current != 0 else math.nan
+    vals["flux"] = signed(post.flux_across(sol, p0, p1), ref)
+    vals["flux_linkage"] = signed(lam, ref)
+    if w.current == 0:
+        vals["inductance"] = math.nan
+    else:
+        vals["inductance"] = lam / w.current if many else abs(lam / w.current)
     dA_dI = post.incremental_potential(sol, w.turns, COIL_PLUS, COIL_MINUS)
     vals["incremental_inductance"] = post.incremental_flux_linkage(sol, w.turns, COIL_PLUS,
                                                                    COIL_MINUS, dA=dA_dI)

@@ -292,6 +292,13 @@ class HandResult:
 def signed(magnitude: float, current: float) -> float:
     """The sign convention of both models' reported quantities, in one place.
 
+    With several windings the reference is not the first winding's current
+    but its flux linkage (a second winding may drive the core the other
+    way): flux, gap B and flux linkage then take the sign of that winding's
+    own linkage, and its secant inductance is lambda/I with its sign (negative
+    when the other windings reverse its flux).  The rest of this docstring
+    is the one-winding case, where the two references agree.
+
     Flux (Wb), flux linkage (Wb), gap B (T, the component along the limb) and
     each segment's B, H, flux and MMF drop are reported with the sign of the
     winding current: positive for a positive current, the negative of the
@@ -448,13 +455,20 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     total = sum(b.length for b in path)
     core_B = sum(abs(b.B) * b.length for b in path) / total
     path_H = sum(abs(b.H) * b.length for b in path) / total
-    i = case.winding.current
-    gap_B = signed(by_name[cmap.gap_branches[0]].B, i) if cmap.gap_branches else math.nan
     n = case.winding.turns
     name0 = case.winding.name
+    many = len(case.windings) > 1
+    # the sign reference (compare.hand.signed): the winding current with one
+    # winding; with several, the first winding's own flux linkage, which
+    # is the current's sign whenever that winding's MMF dominates
+    i = float(res.flux_linkage[name0]) if many else case.winding.current
+    gap_B = signed(by_name[cmap.gap_branches[0]].B, i) if cmap.gap_branches else math.nan
     flux = signed(abs(by_name[cmap.winding_branch].flux) + n * abs(i) * flux_leak, i)
     lam0 = signed(abs(res.flux_linkage[name0]) + n * n * abs(i) * p_leak, i)
     l00 = res.incremental_inductance[name0] + n * n * p_leak
+    i0 = case.winding.current
+    secant = (abs(res.inductance[name0]) + n * n * p_leak if not many
+              else (lam0 / i0 if i0 != 0 else l00))
     lam_keys, l_keys = winding_keys(case)
     if len(case.windings) == 1:
         wvals = {lam_keys[0]: lam0, l_keys[0][0]: l00}
@@ -477,7 +491,7 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
         planar=planar,
         gap_B=gap_B, core_B=core_B, path_H=path_H, flux=flux,
         flux_linkage=lam0,
-        inductance=abs(res.inductance[name0]) + n * n * p_leak,
+        inductance=secant,
         incremental_inductance=l00,
         energy=float(res.energy) + 0.5 * n * n * p_leak * i * i,
         iterations=res.iterations,

@@ -24,7 +24,7 @@ from .errors import CaseError
 from .units import UnitError, parse_quantity
 
 __all__ = ["CURRENT_KEY", "SCALE_KEYS", "VarySpec", "parse_key", "key_dimension", "parse_vary",
-           "resolve_vary", "set_key"]
+           "resolve_vary", "set_key", "winding_alias"]
 
 CURRENT_KEY = "winding.current"
 SCALE_KEYS = ("materials.core.scale_H", "materials.core.scale_B")
@@ -98,7 +98,19 @@ def key_dimension(key: str, family: Any = None) -> str:
     return "length"
 
 
+def winding_alias(data: dict, path: tuple[str | int, ...]) -> tuple[str | int, ...]:
+    """The first winding's keys work in either form of the file:
+    ``winding.X`` on a ``[[windings]]`` file is ``windings[0].X``, and
+    ``windings[0].X`` on a ``[winding]`` file is ``winding.X``."""
+    if path[:1] == ("winding",) and "winding" not in data and "windings" in data:
+        return ("windings", 0, *path[1:])
+    if path[:2] == ("windings", 0) and "windings" not in data and "winding" in data:
+        return ("winding", *path[2:])
+    return path
+
+
 def set_key(data: dict, path: tuple[str | int, ...], value: Any, key: str) -> None:
+    path = winding_alias(data, path)
     node: Any = data
     for i, part in enumerate(path[:-1]):
         try:

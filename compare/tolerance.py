@@ -39,7 +39,7 @@ import numpy as np
 from .case import Case, Tolerance
 from .errors import CaseError, RunError
 from .margins import MarginResult, design_margins, hand_saturation_current, inductance_of, with_current
-from .keys import SCALE_KEYS, key_dimension, parse_key
+from .keys import SCALE_KEYS, key_dimension, parse_key, winding_alias
 from .sweep import CaseSource, make_case
 from .units import UnitError, parse_quantity
 
@@ -64,7 +64,7 @@ def nominal_value(src: CaseSource, key: str, where: str) -> float:
     if key in SCALE_KEYS:
         return 1.0
     node = src.data
-    for part in parse_key(key):
+    for part in winding_alias(src.data, parse_key(key)):
         try:
             node = node[part]
         except (KeyError, IndexError, TypeError):

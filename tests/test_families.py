@@ -103,3 +103,26 @@ def test_plugins_load_from_the_entry_point_group(monkeypatch):
         FAMILIES.pop("square-frame", None)
     with pytest.raises(CaseError, match="unknown core family"):
         get_family("broken")
+
+
+def test_a_case_finds_its_plugin_family_in_a_fresh_process(monkeypatch):
+    # a worker process starts with the built-in families only: the case's
+    # family lookup must load the entry-point plug-ins itself
+    import importlib.metadata
+
+    class EP:
+        name = "square"
+
+        def load(self):
+            return SquareFrame
+
+    monkeypatch.setattr(importlib.metadata, "entry_points", lambda group: [EP()])
+    monkeypatch.setattr(families, "_plugins_loaded", False)
+    FAMILIES["square-frame"] = SquareFrame()
+    try:
+        case = case_from_dict(_choke({"size": "70 mm", "limb_width": "12 mm",
+                                      "depth": "20 mm"}, "square-frame"))
+        del FAMILIES["square-frame"]  # as in a spawned worker
+        assert case.family_model.name == "square-frame"
+    finally:
+        FAMILIES.pop("square-frame", None)

@@ -157,3 +157,48 @@ def test_one_winding_json_keeps_its_keys_and_adds_a_one_by_one_matrix():
     assert h["windings"] == ["main"]
     assert h["inductance_matrix"] == [[h["incremental_inductance"]]]
     assert h["flux_linkages"] == [h["flux_linkage"]]
+
+
+def _dominated(current_a: str):
+    # winding A (10 turns) on the left, B (60 turns at 4 A) on the right: B
+    # drives the core against A's own sense
+    def mutate(d):
+        d["windings"][0].update(turns=10, current=current_a)
+        d["windings"][1].update(turns=60, current="4 A")
+    return _case(mutate)
+
+
+def test_the_first_windings_rows_keep_their_signs_when_another_winding_dominates():
+    # exact in the hand network: with several windings the reported flux
+    # linkage is the first winding's own (signed) linkage, the secant
+    # inductance lambda/I with its sign; at zero current in the first winding
+    # its secant value is the incremental L_AA, and the flux is not zero
+    h = run_hand(_dominated("1 A"))
+    lam = h.winding_values["flux_linkage:A"]
+    assert lam < 0
+    assert h.flux_linkage == lam
+    assert h.inductance == pytest.approx(lam / 1.0, rel=1e-12)
+    assert h.flux < 0 and h.gap_B < 0  # with lambda's sign
+    h0 = run_hand(_dominated("0 A"))
+    assert h0.inductance == pytest.approx(h0.winding_values["L:A,A"], rel=1e-12)
+    assert h0.flux_linkage == h0.winding_values["flux_linkage:A"] != 0
+
+
+@pytest.mark.slow
+def test_the_fe_signs_follow_the_same_rule():
+    q = run_fe(_dominated("1 A"))[0]
+    lam = q.winding_values["flux_linkage:A"]
+    assert lam < 0 and q.values["flux_linkage"] == pytest.approx(lam, rel=1e-12)
+    assert q.values["inductance"] == pytest.approx(lam, rel=1e-12)
+    assert q.values["flux"] < 0 and q.values["gap_B"] < 0
+
+
+def test_the_first_windings_keys_work_in_either_form_of_the_file():
+    from compare.api import sweep
+
+    sw = sweep(_doc(), "winding.current=1A,2A", with_fe=False)
+    assert [p.current for p in sw.points] == [1.0, 2.0]
+    d = tomllib.loads((CASES / "demo_choke.toml").read_text())
+    sw = sweep(d, "windings[0].turns=40,80", with_fe=False)
+    assert sw.points[1].hand["inductance"] == pytest.approx(
+        4 * sw.points[0].hand["inductance"], rel=0.2)  # ~N^2 (the core saturates a little)
