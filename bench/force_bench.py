@@ -32,22 +32,11 @@ MM = 1e-3
 
 def planar_case():
     from fem2d.formulation import Planar
-    from fem2d.layout import AirBox, Layout, Rect, Region
     from fem2d.materials import AIR, BrauerReluctivity
-    from fem2d.sources import Coil, Sources
+    from fem2d.verification import u_core_armature
 
-    g = 0.5 * MM
-    core = Region("core", (Rect(0, 0, 40 * MM, 10 * MM), Rect(0, 10 * MM, 10 * MM, 30 * MM),
-                           Rect(30 * MM, 10 * MM, 40 * MM, 30 * MM)), "steel", kind="core")
-    arm = Region("armature", (Rect(0, 30 * MM + g, 40 * MM, 38 * MM + g),), "steel", kind="core")
-    gaps = [Region(n, (Rect(x0, 30 * MM, x0 + 10 * MM, 30 * MM + g),), "air", kind="gap")
-            for n, x0 in (("gapL", 0.0), ("gapR", 30 * MM))]
-    coils = [Region("c+", (Rect(12 * MM, 12 * MM, 18 * MM, 26 * MM),), "copper", kind="coil"),
-             Region("c-", (Rect(-8 * MM, 12 * MM, -2 * MM, 26 * MM),), "copper", kind="coil")]
-    lay = Layout((core, arm, *gaps, *coils), air=AirBox("disk", factor=1.5, open=True),
-                 depth=20 * MM)
+    lay, src = u_core_armature(0.5 * MM)
     mats = {"steel": BrauerReluctivity(3.8, 2.17, 396.2), "copper": AIR, "air": AIR}
-    src = Sources(coils=(Coil("w", (("c+", 1), ("c-", -1)), 200),))
     return lay, mats, src, {"w": 15.0}, Planar(20 * MM), "armature", (0.0, -1.0)
 
 

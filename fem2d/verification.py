@@ -27,7 +27,7 @@ from .mesh import build_mesh
 from .solver import solve
 from .sources import Magnet, Sources
 
-__all__ = ["VerificationResult", "CASES", "run_cases", "loop_mutual_inductance",
+__all__ = ["VerificationResult", "CASES", "run_cases", "loop_mutual_inductance", "u_core_armature",
            "loop_axis_field", "loop_field"]
 
 
@@ -455,8 +455,14 @@ def _rz_magnet_pair(gap: float):
     return case
 
 
-def _planar_armature_force(quick: bool):
-    mm, g = 1e-3, 0.5e-3
+def u_core_armature(gap: float = 0.5e-3, size: float | None = None) -> tuple[Layout, Sources]:
+    """A U core (40 x 30 mm, 10 mm legs) and an armature bar 8 mm thick at
+    ``gap`` (m) above both legs, coil sides "c+" and "c-" in and beside the
+    window (coil "w", 200 turns), stack 20 mm, open boundary (invented for
+    the demo; materials "steel", "copper", "air")."""
+    from .sources import Coil
+
+    mm, g = 1e-3, gap
     core = Region("core", (Rect(0, 0, 40 * mm, 10 * mm), Rect(0, 10 * mm, 10 * mm, 30 * mm),
                            Rect(30 * mm, 10 * mm, 40 * mm, 30 * mm)), "steel", kind="core")
     arm = Region("armature", (Rect(0, 30 * mm + g, 40 * mm, 38 * mm + g),), "steel", kind="core")
@@ -465,10 +471,13 @@ def _planar_armature_force(quick: bool):
     coils = [Region("c+", (Rect(12 * mm, 12 * mm, 18 * mm, 26 * mm),), "copper", kind="coil"),
              Region("c-", (Rect(-8 * mm, 12 * mm, -2 * mm, 26 * mm),), "copper", kind="coil")]
     lay = Layout((core, arm, *gaps, *coils), air=AirBox("disk", factor=1.5, open=True),
-                 depth=20 * mm, mesh=MeshSettings(size=None if quick else 1.25 * mm))
-    from .sources import Coil
+                 depth=20 * mm, mesh=MeshSettings(size=size))
+    return lay, Sources(coils=(Coil("w", (("c+", 1), ("c-", -1)), 200),))
 
-    src = Sources(coils=(Coil("w", (("c+", 1), ("c-", -1)), 200),))
+
+def _planar_armature_force(quick: bool):
+    mm = 1e-3
+    lay, src = u_core_armature(0.5e-3, size=None if quick else 1.25 * mm)
     sol = solve(build_mesh(lay), {"steel": BRAUER, "copper": AIR, "air": AIR}, sources=src,
                 currents={"w": 15.0}, formulation=Planar(20 * mm))
     methods = _both(sol, "armature", (0.0, -1.0))

@@ -164,11 +164,8 @@ _paths = st.sampled_from([
 ])
 
 
-@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(st.lists(st.tuples(_paths, st.one_of(_values, st.just(KeyError))), min_size=1,
-                max_size=4))
-def test_fuzz_mutated_documents(mutations):
-    d = demo_dict()
+def _mutate_all(d: dict, mutations) -> None:
+    """Set (or delete, for KeyError) each dotted path that exists in ``d``."""
     for path, value in mutations:
         node = d
         keys = path.split(".")
@@ -184,6 +181,14 @@ def test_fuzz_mutated_documents(mutations):
                 node[last] = copy.deepcopy(value)
         except (KeyError, IndexError, TypeError, ValueError):
             continue
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(st.tuples(_paths, st.one_of(_values, st.just(KeyError))), min_size=1,
+                max_size=4))
+def test_fuzz_mutated_documents(mutations):
+    d = demo_dict()
+    _mutate_all(d, mutations)
     try:
         case = load(d)
     except CaseError:
@@ -216,21 +221,7 @@ def test_fuzz_mutated_windings(mutations):
     # the [[windings]] tables: any mutation gives a valid case or a CaseError;
     # a valid case's coils fit their windows without overlapping
     d = tomllib.loads((CASES / "demo_coupled_inductor.toml").read_text())
-    for path, value in mutations:
-        node = d
-        keys = path.split(".")
-        try:
-            for k in keys[:-1]:
-                node = node[int(k)] if isinstance(node, list) else node[k]
-            last = keys[-1]
-            if isinstance(node, list):
-                last = int(last)
-            if value is KeyError:
-                del node[last]
-            else:
-                node[last] = copy.deepcopy(value)
-        except (KeyError, IndexError, TypeError, ValueError):
-            continue
+    _mutate_all(d, mutations)
     try:
         case = load(d)
     except CaseError:
