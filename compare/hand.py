@@ -475,11 +475,9 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     else:  # no leakage with several windings (refused when the case is read)
         wvals = {lam_keys[j]: float(res.flux_linkage[w.name])
                  for j, w in enumerate(case.windings)}
-        order = [net.windings.index(next(x for x in net.windings if x.name == w.name))
-                 for w in case.windings]
-        m = res.incremental_inductance_matrix
-        wvals.update({l_keys[j][k]: float(m[order[j], order[k]])
-                      for j in range(len(order)) for k in range(len(order))})
+        m = res.incremental_inductance_matrix  # the network's windings are in case order
+        n_w = len(case.windings)
+        wvals.update({l_keys[j][k]: float(m[j, k]) for j in range(n_w) for k in range(n_w)})
     segments = tuple(
         {"name": b.name, "kind": b.kind, "length": b.length, "area": b.area,
          "flux": signed(b.flux, i), "B": signed(b.B, i), "H": signed(b.H, i),
