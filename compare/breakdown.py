@@ -68,7 +68,10 @@ def difference_breakdown(case: Case, fe_values: dict[str, float],
         steps.append(step(f"fringing: {best_fringing}"))
     if not settings["leakage"] and len(case.windings) == 1:  # modelled for one winding
         settings["leakage"] = True
-        steps.append(step("window leakage"))
+        try:
+            steps.append(step("window leakage"))
+        except CaseError:  # the core has no winding windows (a drawn core's own circuit)
+            settings["leakage"] = False
     if case.stacking != 1.0 and not settings["stacking"]:
         settings["stacking"] = True
         steps.append(step(f"stacking factor {case.stacking:g}"))

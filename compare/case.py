@@ -250,4 +250,7 @@ class Case:
     def part_overrides(self) -> tuple[str, ...]:
         """The core parts with a material of their own, in the family's order."""
         given = {m.region for m in self.materials}
-        return tuple(p for p in self.family_model.parts if p in given)
+        fam = self.family_model
+        names = getattr(fam, "part_names", None)
+        parts = names(self.core) if names is not None else fam.parts
+        return tuple(p for p in parts if p in given)

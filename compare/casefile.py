@@ -13,6 +13,7 @@ import math
 import tomllib
 import warnings
 from pathlib import Path
+from typing import Any
 
 from analytic.bh import BHDataError, LinearMaterial
 from analytic.fringing import FRINGING_MODELS
@@ -68,14 +69,19 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
 
     core_t = root.table("core")
     stacking = core_t.number("stacking", 1.0, lo=0.3, hi=1.0)
-    core = family.read_core(core_t)
+    extra = getattr(family, "case_tables", ())
+    if extra:  # a family that reads tables of its own (a drawn core: [shapes], [[regions]], ...)
+        reader: Any = family.read_core  # read_core(t, *, tables, base_dir) for such a family
+        core = reader(core_t, tables={n: root.raw(n, None) for n in extra}, base_dir=base_dir)
+    else:
+        core = family.read_core(core_t)
     core_t.finish()
     limbs = family.limbs(core)
 
     gaps = tuple(_read_gap(t, family, limbs) for t in root.tables("gaps"))
     _check_gap_overlap(gaps)
     windings = _read_windings(root, family, limbs)
-    materials = _read_materials(root.table("materials"), base_dir, family)
+    materials = _read_materials(root.table("materials"), base_dir, family, core)
     hand = _read_hand(root.table("hand", {}))
     fe = _read_fe(root.table("fe", {}))
     margins = _read_margins(root.table("margins", {}))
@@ -90,9 +96,19 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                 materials=materials, hand=hand, fe=fe, margins=margins, sweeps=sweeps,
                 tolerances=tolerances, stacking=stacking,
                 description=description, source=source, sha256=sha256)
+    check = getattr(family, "check_case", None)
+    if check is not None:  # what the family checks across tables (coils name windings, ...)
+        check(case)
     for w in plausibility_issues(case):
         warnings.warn(w, stacklevel=2)
     return case
+
+
+def family_parts(family: Family, core: object) -> tuple[str, ...]:
+    """The core parts that may have a material of their own: the family's
+    ``part_names(core)`` when its parts depend on the case, else ``parts``."""
+    names = getattr(family, "part_names", None)
+    return tuple(names(core)) if names is not None else tuple(family.parts)
 
 
 # Plausibility bounds (common practice, no source): magnetic parts designed by
@@ -197,7 +213,8 @@ def _read_windings(root: TableReader, family: Family,
             raise CaseError(t.key("name"), w.name, "a winding of that name comes before; names "
                                                    "must differ")
         out.append(w)
-    _check_winding_overlap(out, limbs, [t.key("thickness") for t in tables])
+    if family.winding_limbs:
+        _check_winding_overlap(out, limbs, [t.key("thickness") for t in tables])
     return tuple(out)
 
 
@@ -223,6 +240,11 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
     name = t.string("name", default_name)
     if not name.strip():
         raise CaseError(t.key("name"), name, "must not be empty")
+    if not family.winding_limbs:  # the family draws its coils (regions naming the winding)
+        turns = t.integer("turns", minimum=1)
+        current = t.quantity("current", "current", positive=False)
+        t.finish()
+        return WindingSpec("", turns, current, 0.0, 0.0, 0.0, name, 0.0)
     limb_name = t.string("limb", choices=family.winding_limbs)
     limb = limbs[limb_name]
     turns = t.integer("turns", minimum=1)
@@ -267,15 +289,21 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
     return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner)
 
 
-def _read_materials(t: TableReader, base_dir: Path | None,
-                    family: Family) -> tuple[MaterialSpec, ...]:
+def _read_materials(t: TableReader, base_dir: Path | None, family: Family,
+                    core: object) -> tuple[MaterialSpec, ...]:
     """``core`` (every part of the core) and, optionally, a material per
-    part of the family's core (``family.parts``) that overrides it."""
+    part of the family's core (``family.parts``, or ``family.part_names(core)``
+    for a family whose parts depend on the case) that overrides it; a part
+    in ``family.required_parts(core)`` (name -> why) must be given."""
+    required = (family.required_parts(core) if hasattr(family, "required_parts") else {})
+    parts = family_parts(family, core)
     specs = [_read_material(t, region, base_dir) for region in MATERIAL_REGIONS]
-    for part in family.parts:
+    for part in parts:
         if t.has(part):
             specs.append(_read_material(t, part, base_dir))
-    t.finish(valid=(*MATERIAL_REGIONS, *family.parts))
+        elif part in required:
+            raise CaseError(t.key(part), None, f"missing: {required[part]}")
+    t.finish(valid=(*MATERIAL_REGIONS, *parts))
     return tuple(specs)
 
 

@@ -160,6 +160,15 @@ def fe_3d_factor(case: Case, key: str = "inductance") -> float:
 
 def depth_factor(case: Case) -> float:
     """Out-of-plane fringing factor of the first gap under the case's model (1 if none)."""
+    from .hand import hand_circuit
+
+    circuit = hand_circuit(case)
+    if circuit is not None:  # the circuit's measured gap, under its own model
+        gap = next((g for g in circuit.gaps if g.name == circuit.gap_B), None)
+        if gap is None:
+            return 1.0
+        _, k_depth = get_fringing(gap.fringing or case.hand.fringing).factors(gap.face)
+        return float(k_depth)
     if not case.gaps:
         return 1.0
     _, k_depth = get_fringing(case.hand.fringing).factors(gap_face(case, 0))

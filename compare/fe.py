@@ -1,7 +1,8 @@
-"""The field model of a case: its planar layout, solved, reduced to quantities.
+"""The field model of a case: its layout, solved, reduced to quantities.
 
-Turns a case into a :class:`fem2d.layout.Layout` (core, one region per gap,
-the two coil sides, air), solves it with fem2d, and measures the same
+Turns a case's :class:`~compare.coremodel.CoreModel` (core parts, gaps, coil
+sides; planar or r-z) into a :class:`fem2d.layout.Layout`, solves it with
+fem2d, and measures, where the CoreModel says, the same
 quantities the hand calculation gives, keyed alike (see
 :data:`compare.hand.HAND_KEYS`). The FE's own discretisation error is
 estimated from three meshes refined by REFINE = 1.5 in every direction
@@ -27,21 +28,19 @@ from fem2d.sources import Coil, Sources
 
 from .case import Case
 from .errors import CaseError, RunError
-from .geometry import Limb, coil_rects, gap_rect
+from .coremodel import COIL_MINUS, COIL_PLUS, WINDING, coil_name, coil_regions, core_model
 from .hand import HAND_KEYS, signed
 
 __all__ = ["FEQuantities", "FEResult", "case_layout", "mesh_case", "geometry_key", "solve_case",
            "solve_case_full", "FESolve",
            "run_fe", "run_fe_checked", "guard_mesh_size", "MAX_TRIANGLES",
-           "COIL_PLUS", "COIL_MINUS"]
+           "COIL_PLUS", "COIL_MINUS", "WINDING", "coil_name", "coil_regions", "core_model"]
 
 log = logging.getLogger(__name__)
 
-COIL_PLUS, COIL_MINUS = "coil+", "coil-"
-
-
 def case_layout(case: Case, *, refine: float = 1.0) -> Layout:
-    """The planar layout of a case.
+    """The layout of a case (planar, or r-z for an axisymmetric core), from
+    its :class:`~compare.coremodel.CoreModel`.
 
     Parameters
     ----------
@@ -50,44 +49,19 @@ def case_layout(case: Case, *, refine: float = 1.0) -> Layout:
         elements across each gap multiplied by it, rounded up (1 = the case's
         mesh).
     """
-    fam = case.family_model
-    limbs = case.limbs
-    if case.part_overrides:  # parts of their own material: regions core-PART
-        parts = fam.part_rects(case.core)
-        rest = [r for p, rects in parts.items() if p not in case.part_overrides for r in rects]
-        regions = [Region("core", tuple(rest), material="core", kind="core")] if rest else []
-        regions += [Region(f"core-{p}", tuple(parts[p]), material=f"core-{p}", kind="core")
-                    for p in case.part_overrides]
-    else:
-        regions = [Region("core", tuple(fam.core_rects(case.core)),
-                          material="core", kind="core")]
-    for i, gap in enumerate(case.gaps):
-        regions.append(Region(f"gap{i}", (gap_rect(limbs[gap.limb], gap),),
-                              material="air", kind="gap"))
-    for k, w in enumerate(case.windings):
-        plus, minus = coil_rects(limbs[w.limb], w)
-        p_name, m_name = coil_regions(k)
-        regions.append(Region(p_name, (plus,), material="air", kind="coil"))
-        regions.append(Region(m_name, (minus,), material="air", kind="coil"))
+    model = core_model(case)
     fe = case.fe
-    air = (AirBox("disk", factor=fe.air_extent, open=True) if fe.boundary == "open"
-           else AirBox("box", factor=fe.air_extent))
-    layout = Layout(tuple(regions), air=air,
+    kind = "rz-disk" if model.axisymmetric else "disk"
+    air = (AirBox(kind, factor=fe.air_extent, open=True) if fe.boundary == "open"
+           else AirBox("rz-box" if model.axisymmetric else "box", factor=fe.air_extent))
+    layout = Layout(model.regions, air=air,
                     mesh=MeshSettings(size=case.fe.mesh_size,
                                       gap_elements=math.ceil(case.fe.gap_elements * refine - 1e-9),
                                       order=case.fe.order),
-                    depth=case.depth)
+                    depth=model.depth)
     if refine != 1:
         layout = replace(layout, mesh=replace(layout.mesh, size=layout.core_size() / refine))
     return layout
-
-
-def _limb_flux_line(limb: Limb) -> tuple[tuple[float, float], tuple[float, float]]:
-    """A segment across a limb at the middle of its straight part."""
-    mid = 0.5 * (limb.lo + limb.hi)
-    if limb.axis == "y":
-        return (limb.c0, mid), (limb.c1, mid)
-    return (mid, limb.c0), (mid, limb.c1)
 
 
 @dataclass(frozen=True)
@@ -134,17 +108,14 @@ def _materials(case: Case) -> dict[str, Any]:
     def homogenised(law: Any) -> Any:
         return scale_law(law, k_b=case.stacking) if case.stacking != 1.0 else law
 
-    out = {"core": homogenised(case.material("core").law)}
-    out.update({f"core-{p}": homogenised(case.part_material(p).law) for p in case.part_overrides})
-    return out
+    return {key: homogenised(case.part_material(entry).law)
+            for key, entry in core_model(case).materials}
 
 
 def core_region_names(case: Case) -> list[str]:
-    """The layout's core regions: "core", and "core-PART" for each part
-    with a material of its own."""
-    names = [] if (case.part_overrides and set(case.part_overrides)
-                   == set(case.family_model.parts)) else ["core"]
-    return names + [f"core-{p}" for p in case.part_overrides]
+    """The layout's core regions (CoreModel.core_regions): for a limb family
+    "core", and "core-PART" for each part with a material of its own."""
+    return list(core_model(case).core_regions)
 
 
 PEAK_AREA_FRACTION = 0.005
@@ -180,33 +151,39 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     Returns the quantities, the mean-path samples and dA/dI (the tangent
     solve of the incremental inductance, reused as a sweep predictor).
     """
-    limbs = case.limbs
+    model = core_model(case)
     w = case.winding
+    go, back = model.coils[0].go, model.coils[0].back
     vals: dict[str, float] = {}
-    lam = post.flux_linkage(sol, w.turns, COIL_PLUS, COIL_MINUS)
+    lam = post.flux_linkage(sol, w.turns, go, back)
     many = len(case.windings) > 1
     ref = lam if many else w.current  # the sign reference (compare.hand.signed)
-    if case.gaps:
-        g0 = case.gaps[0]
-        axis = (0.0, 1.0) if limbs[g0.limb].axis == "y" else (1.0, 0.0)
-        vals["gap_B"] = signed(post.region_mean_b(sol, "gap0", direction=axis), ref)
+    if model.gap_region is not None:
+        vals["gap_B"] = signed(post.region_mean_b(sol, model.gap_region,
+                                                  direction=model.gap_direction), ref)
     else:
         vals["gap_B"] = math.nan
-    cores = core_region_names(case)
+    cores = list(model.core_regions)
     vals["core_B"] = post.region_mean_b(sol, cores)
-    path = np.array(case.family_model.mean_path(case.core), dtype=float).T
-    samples = post.path_mean_h(sol, path, exclude=tuple(f"gap{i}" for i in range(len(case.gaps))))
-    vals["path_H"] = samples.mean_h
-    p0, p1 = _limb_flux_line(limbs[w.limb])
-    vals["flux"] = signed(post.flux_across(sol, p0, p1), ref)
+    samples = None
+    if model.mean_path is not None:
+        path = np.array(model.mean_path, dtype=float).T
+        samples = post.path_mean_h(sol, path, exclude=model.gap_regions)
+        vals["path_H"] = samples.mean_h
+    else:
+        vals["path_H"] = math.nan
+    if model.flux_line is not None:
+        vals["flux"] = signed(post.flux_across(sol, *model.flux_line), ref)
+    else:
+        vals["flux"] = math.nan
     vals["flux_linkage"] = signed(lam, ref)
     if w.current == 0:
         vals["inductance"] = math.nan
     else:
         vals["inductance"] = lam / w.current if many else abs(lam / w.current)
-    dA_dI = post.incremental_potential(sol, w.turns, COIL_PLUS, COIL_MINUS)
-    vals["incremental_inductance"] = post.incremental_flux_linkage(sol, w.turns, COIL_PLUS,
-                                                                   COIL_MINUS, dA=dA_dI)
+    dA_dI = post.incremental_potential(sol, w.turns, go, back)
+    vals["incremental_inductance"] = post.incremental_flux_linkage(sol, w.turns, go, back,
+                                                                   dA=dA_dI)
     if w.current == 0:
         vals["inductance"] = vals["incremental_inductance"]
     vals["energy"] = post.energy(sol)
@@ -292,26 +269,11 @@ def geometry_key(case: Case, refine: float = 1.0) -> Layout:
     return case_layout(case, refine=refine)
 
 
-WINDING = "winding"
-"""Name of the case's (first) winding as a fem2d coil."""
-
-
-def coil_name(k: int) -> str:
-    """The fem2d coil of winding ``k``: "winding", then "winding1", ..."""
-    return WINDING if k == 0 else f"{WINDING}{k}"
-
-
-def coil_regions(k: int) -> tuple[str, str]:
-    """The (go, return) coil-side regions of winding ``k``: "coil+"/"coil-"
-    for the first (today's names), "coil1+"/"coil1-", ... after it."""
-    return (COIL_PLUS, COIL_MINUS) if k == 0 else (f"coil{k}+", f"coil{k}-")
-
-
 def winding_sources(case: Case) -> Sources:
-    """The case's windings as fem2d coils: go side +1, return side -1."""
-    return Sources(coils=tuple(Coil(coil_name(k), ((coil_regions(k)[0], 1),
-                                                   (coil_regions(k)[1], -1)), turns=w.turns)
-                               for k, w in enumerate(case.windings)))
+    """The case's windings as fem2d coils (CoreModel.coils, in winding order)."""
+    return Sources(coils=tuple(Coil(coil_name(k), c.sides, turns=w.turns)
+                               for k, (w, c) in enumerate(zip(case.windings,
+                                                              core_model(case).coils))))
 
 
 def winding_currents(case: Case) -> dict[str, float]:

@@ -2,8 +2,10 @@
 
 Builds the nonlinear magnetic-circuit model of a case from the family's
 mean-path segments, inserting each gap (with the case's fringing model) in
-series with the limb it cuts and the winding's MMF in its limb, and reduces
-the network solution to the quantities an engineer checks.
+series with the limb it cuts and the winding's MMF in its limb, or from the
+circuit the family gives explicitly (compare.coremodel.HandCircuit: a drawn
+core's own hand model), and reduces the network solution to the quantities
+an engineer checks.
 """
 
 from __future__ import annotations
@@ -19,6 +21,7 @@ from analytic.constants import mu_0
 from analytic.network import CoreBranch, GapBranch, Network, NetworkResult, Winding, solve_network
 
 from .case import Case
+from .coremodel import HandCircuit, core_model
 from .geometry import flux_direction
 from .errors import CaseError, RunError
 
@@ -54,12 +57,25 @@ class CircuitMap:
     winding_branch: str
 
 
+def hand_circuit(case: Case) -> HandCircuit | None:
+    """The hand circuit the case's family gives explicitly (a drawn core's
+    ``[circuit]``), or None: the network is then built from the family's
+    mean-path segments."""
+    if getattr(case.family_model, "core_model", None) is None:
+        return None
+    return core_model(case).circuit
+
+
 def winding_signs(case: Case) -> tuple[int, ...]:
     """+1 or -1 per winding: the sense of its MMF in the network relative to
     the first winding's, as the field model places the coils
     (compare.geometry.flux_direction) and the family orients its segments
     (Segment.axis_sign).  Two windings with positive currents aid each
-    other where this is +1 and oppose where it is -1, in both models."""
+    other where this is +1 and oppose where it is -1, in both models.  A
+    hand circuit given explicitly carries its own signs."""
+    circuit = hand_circuit(case)
+    if circuit is not None:
+        return tuple(sign * circuit.windings[0][1] for _, sign in circuit.windings)
     segs: dict[str, Any] = {}
     for seg in case.family_model.segments(case.core):
         segs.setdefault(seg.limb, seg)
@@ -113,6 +129,9 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
         (analytic.effective) instead of the mean-path segments, the gaps in
         series with it (`_effective_network`).
     """
+    circuit = hand_circuit(case)
+    if circuit is not None:
+        return _circuit_network(case, circuit, fringing, planar, stacking)
     model = get_fringing(fringing or case.hand.fringing)
     if effective:
         if case.part_overrides:
@@ -164,6 +183,40 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
     cmap = CircuitMap(tuple(path), tuple(gap_names[i] for i in range(len(case.gaps))),
                       winding_branch)
     return net, cmap
+
+
+def _circuit_network(case: Case, circuit: HandCircuit, fringing: str | None, planar: bool,
+                     stacking: bool) -> tuple[Network, CircuitMap]:
+    """The network of a circuit the family gives explicitly (a drawn core's
+    ``[circuit]``): its segments and gaps as branches, each winding's MMF in
+    the branch it names.  ``planar`` applies only where the field model is
+    planar (an axisymmetric model is a 3D one); a gap's own fringing model
+    wins over the case's unless ``fringing`` is given (the breakdown's
+    switch)."""
+    planar = planar and core_model(case).symmetry == "planar"
+    branches: list[Any] = []
+    nodes: set[str] = set()
+    k_s = case.stacking if stacking else 1.0  # the net iron area (build_network)
+    for seg in circuit.segments:
+        nodes.update((seg.node_a, seg.node_b))
+        branches.append(CoreBranch(seg.name, seg.node_a, seg.node_b, seg.length, seg.area * k_s,
+                                   case.part_material(seg.material).law))
+    for gap in circuit.gaps:
+        nodes.update((gap.node_a, gap.node_b))
+        model = get_fringing(fringing or gap.fringing or case.hand.fringing)
+        branches.append(GapBranch(gap.name, gap.node_a, gap.node_b, gap.face.length,
+                                  gap_permeance(gap.face, model, planar),
+                                  effective_area(gap.face, model, planar),
+                                  dpermeance_dlength=gap_permeance_derivative(gap.face, model,
+                                                                              planar)))
+    sources = tuple(Winding(w.name, sign * w.turns, w.current, branch)
+                    for w, (branch, sign) in zip(case.windings, circuit.windings))
+    ground = circuit.segments[0].node_a  # the first node is the network's reference
+    net = Network(nodes=(ground, *sorted(nodes - {ground})), branches=tuple(branches),
+                  windings=sources)
+    path = tuple(seg.name for seg in circuit.segments if seg.on_path)
+    gaps = (circuit.gap_B,) if circuit.gap_B is not None else ()
+    return net, CircuitMap(path, gaps, circuit.flux_branch)
 
 
 def _effective_network(case: Case, model, planar: bool, leakage: bool,
@@ -438,6 +491,12 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     with_leakage = (case.hand.leakage if leakage is None else leakage) and len(case.windings) == 1
     with_stacking = (case.hand.stacking if stacking is None else stacking) and case.stacking != 1.0
     with_effective = case.hand.effective_parameters if effective is None else effective
+    if hand_circuit(case) is not None:
+        for key, on in (("hand.leakage", with_leakage), ("hand.effective_parameters",
+                                                         with_effective)):
+            if on:
+                raise CaseError(key, True, "needs a core family's limbs and windows; this "
+                                           "core's hand model is its own circuit")
     net, cmap = build_network(case, fringing=fringing, planar=planar, leakage=with_leakage,
                               stacking=with_stacking, effective=with_effective)
     res = solve_network(net, flux0=flux0)

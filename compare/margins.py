@@ -104,13 +104,18 @@ class MarginResult:
 
 # --------------------------------------------------------------------------- figures
 def current_density(case: Case) -> float:
-    """Winding current density J = N |I| / (k_cu t l) (A/m^2), the largest
+    """Winding current density J = N |I| / (k_cu S) (A/m^2), the largest
     over the windings (every winding must meet the limit).
 
-    t = coil build, l = coil length (m), k_cu = ``case.margins.copper_fill``.
+    S = the cross-section of one coil side (m^2; build x length for a coil
+    on a limb, the drawn region's area for a drawn coil,
+    compare.coremodel.CoilModel.area), k_cu = ``case.margins.copper_fill``.
     """
-    return max(abs(w.turns * w.current) / (case.margins.copper_fill * w.thickness * w.length)
-               for w in case.windings)
+    from .coremodel import core_model
+
+    coils = core_model(case).coils
+    return max(abs(w.turns * w.current) / (case.margins.copper_fill * c.area)
+               for w, c in zip(case.windings, coils))
 
 
 def with_current(case: Case, current: float) -> Case:

@@ -19,7 +19,6 @@ from matplotlib.tri import Triangulation  # noqa: E402
 from fem2d import post  # noqa: E402
 
 from .check import CheckResult  # noqa: E402
-from .geometry import Limb  # noqa: E402
 from .output import save_figure  # noqa: E402
 
 __all__ = ["save_figures", "FIGURES", "caption", "flux_levels", "sweep_figures",
@@ -41,11 +40,23 @@ def _zoom(ax, res: CheckResult, pad: float = 0.25) -> None:
 
 
 def _outlines(ax, res: CheckResult, lw: float = 1.2) -> None:
+    from matplotlib.patches import Circle
+    from matplotlib.patches import Polygon as PolygonPatch
+
     for region in res.fe.solution.mesh.layout.regions:
         colour = REGION_COLOURS.get(region.name, REGION_COLOURS.get(region.kind, "#444444"))
         for s in region.shapes:
-            ax.add_patch(Rectangle((s.x0 * 1e3, s.y0 * 1e3), (s.x1 - s.x0) * 1e3,
-                                   (s.y1 - s.y0) * 1e3, fill=False, ec=colour, lw=lw))
+            if hasattr(s, "points"):  # a polygon and its holes
+                for loop in (s.points, *s.holes):
+                    ax.add_patch(PolygonPatch([(x * 1e3, y * 1e3) for x, y in loop],
+                                              closed=True, fill=False, ec=colour, lw=lw))
+            elif hasattr(s, "r") and hasattr(s, "cx"):
+                ax.add_patch(Circle((s.cx * 1e3, s.cy * 1e3), s.r * 1e3, fill=False, ec=colour,
+                                    lw=lw))
+            else:
+                x0, y0, x1, y1 = s.bbox()
+                ax.add_patch(Rectangle((x0 * 1e3, y0 * 1e3), (x1 - x0) * 1e3, (y1 - y0) * 1e3,
+                                       fill=False, ec=colour, lw=lw))
 
 
 def _tri(res: CheckResult) -> Triangulation:
@@ -178,34 +189,29 @@ def fig_flux(res: CheckResult):
     return fig
 
 
-def _gap_line(limb: Limb, pos: float, n: int = 400) -> tuple[np.ndarray, np.ndarray, int]:
-    """Points across the limb through the gap centre, one limb width beyond each face."""
-    t = np.linspace(limb.c0 - limb.width, limb.c1 + limb.width, n)
-    if limb.axis == "y":
-        return np.vstack([t, np.full(n, pos)]), t, 1
-    return np.vstack([np.full(n, pos), t]), t, 0
+def fig_gap_line(res: CheckResult, n: int = 400):
+    """B across the first gap; None for a core without a gap line (no figure)."""
+    from .coremodel import core_model
 
-
-def fig_gap_line(res: CheckResult):
-    """B across the first gap; None for a core without a gap (no figure)."""
-    case = res.case
-    if not case.gaps:
+    line = core_model(res.case).gap_line
+    if line is None:
         return None
     fig, ax = plt.subplots(figsize=(6.5, 4))
-    gap = case.gaps[0]
-    limb = case.limbs[gap.limb]
-    pts, t, comp = _gap_line(limb, gap.position)
-    b = post.sample_b(res.fe.solution, pts)[comp]
+    (x0, y0), (x1, y1) = line.start, line.end
+    u = np.linspace(0.0, 1.0, n)
+    pts = np.vstack([x0 + u * (x1 - x0), y0 + u * (y1 - y0)])
+    t = line.offset + u * math.hypot(x1 - x0, y1 - y0)
+    b = post.sample_b(res.fe.solution, pts)[line.component]
     sign = np.sign(b[len(b) // 2]) or 1.0
-    ax.plot(t * 1e3, sign * b, color=FE_COLOUR, label="FE, B along the limb axis")
+    ax.plot(t * 1e3, sign * b, color=FE_COLOUR, label="FE, B along the gap's flux")
     ax.axhline(res.hand_planar.gap_B, color=HAND_COLOUR, ls="--",
                label=f"hand gap B ({res.hand_planar.fringing_model}, planar)")
-    for c in (limb.c0, limb.c1):
+    for c in line.faces:
         ax.axvline(c * 1e3, color="#888888", lw=0.8, ls=":")
-    ax.set_xlabel("position across the limb (mm); dotted: pole-face edges")
+    ax.set_xlabel("position across the gap (mm); dotted: pole-face edges")
     ax.set_ylabel("B (T)")
-    ax.set_title(f"B across the middle of the gap in the {gap.limb} limb ({gap.length * 1e3:g} mm): "
-                 "fringing beyond the faces", fontsize=9)
+    ax.set_title(f"B across the middle of the gap in {line.label}: fringing beyond the faces",
+                 fontsize=9)
     ax.legend(fontsize=8)
     return fig
 

@@ -53,7 +53,11 @@ def input_rows(res: CheckResult) -> list[list[str]]:
             ["case file (absolute)", os.path.abspath(case.source) if case.source else ""],
             ["case sha256", case.sha256], ["family", case.family]]
     core = case.core
-    for f in dataclasses.fields(core):
+    describe = getattr(case.family_model, "describe", None)
+    fields = [] if describe is not None else dataclasses.fields(core)
+    if describe is not None:  # a family with shapes of its own says what to show
+        rows += [[k, v] for k, v in describe(core)]
+    for f in fields:
         v = getattr(core, f.name)
         if isinstance(v, float):
             rows.append([f"core.{f.name}", _mm(v)])
@@ -69,10 +73,14 @@ def input_rows(res: CheckResult) -> list[list[str]]:
     if not case.gaps:
         rows.append(["gaps", "none"])
     w = case.winding
-    rows += [["winding", f"on the {w.limb} limb, N = {w.turns}, I = {w.current:g} A, "
-                         f"NI = {w.mmf:g} A"],
-             ["coil build", f"thickness {_mm(w.thickness)}, length {_mm(w.length)}, "
-                            f"clearance to the limb {_mm(w.clearance)}"]]
+    if w.limb:
+        rows += [["winding", f"on the {w.limb} limb, N = {w.turns}, I = {w.current:g} A, "
+                             f"NI = {w.mmf:g} A"],
+                 ["coil build", f"thickness {_mm(w.thickness)}, length {_mm(w.length)}, "
+                                f"clearance to the limb {_mm(w.clearance)}"]]
+    else:
+        rows += [["winding", f"drawn coil, N = {w.turns}, I = {w.current:g} A, "
+                             f"NI = {w.mmf:g} A"]]
     for m in case.materials:
         rows.append([f"material of {m.region}", f"{m.description} ({m.kind})"])
     rows.append(["fringing model (hand)", case.hand.fringing])

@@ -74,7 +74,26 @@ class Window:
 
 
 class Family(Protocol):
-    """What a core family provides. Lengths in m, areas in m^2."""
+    """What a core family provides. Lengths in m, areas in m^2.
+
+    Optional, for a family whose shapes are not limbs (looked up with
+    ``getattr``; the rectangular families need none of them):
+
+    - ``core_model(case) -> compare.coremodel.CoreModel``: the regions,
+      coils and measurement places of both models, and the hand circuit
+      (``CoreModel.circuit``) when the family gives it explicitly; without
+      it compare.coremodel builds the model from the limbs and segments.
+    - ``case_tables``: further top-level tables the family reads; then
+      ``read_core(t, tables={name: raw table}, base_dir=...)``.
+    - ``part_names(core)``: the parts that may have a material when they
+      depend on the case; ``required_parts(core)``: {part: why} that must.
+    - ``check_case(case)``: checks across tables once the case is read
+      (raises CaseError).
+    - ``describe(core) -> [(key, text)]``: the report's input rows.
+
+    A family with no ``winding_limbs`` draws its coils itself: a winding
+    then gives only name, turns and current.
+    """
 
     name: str
     limb_names: tuple[str, ...]
