@@ -22,15 +22,17 @@ import logging
 
 from ..errors import CaseError
 from .base import Family, Segment, Window
+from .drawn import DrawnCore, DrawnCoreDims
 from .ei_core import EICore, EICoreDims
 from .window_core import WindowCore, WindowCoreDims
 
 __all__ = ["Segment", "Window", "Family", "FAMILIES", "BUILTIN", "WindowCore", "WindowCoreDims",
-           "EICore", "EICoreDims", "get_family", "register", "core_keys"]
+           "EICore", "EICoreDims", "DrawnCore", "DrawnCoreDims", "get_family", "register",
+           "core_keys"]
 
 log = logging.getLogger(__name__)
 
-BUILTIN: tuple[Family, ...] = (WindowCore(), EICore())
+BUILTIN: tuple[Family, ...] = (WindowCore(), EICore(), DrawnCore())
 """The families that come with magcheck, in the order they are listed."""
 
 FAMILIES: dict[str, Family] = {f.name: f for f in BUILTIN}

@@ -1,0 +1,610 @@
+"""The ``drawn`` family: the user's own core shape and the user's own hand model.
+
+For a shape magcheck has no family for.  The user draws the regions (core
+parts, gaps, coil sides) as polygons in the case file or on the layers of a
+DXF drawing, and writes the magnetic circuit of the hand calculation they
+use in ``[circuit]``: its segments and gaps, where each winding's MMF acts,
+and where gap B, core B, the path-averaged H and the winding's flux are
+measured in the field solution.  magcheck then checks that hand
+calculation against the field solution of the drawn shape, planar (with
+its stack depth) or axisymmetric (r-z, the shapes in r >= 0)::
+
+    [core]      symmetry = "planar" | "axisymmetric", depth (planar)
+    [shapes]    units = "mm" (the points' unit), dxf = "drawing.dxf" (optional)
+    [[regions]] name, kind = "core" | "gap" | "coil", points = [[x, y], [x, y, bulge], ...],
+                holes = [[[x, y], ...], ...]; core: material (a [materials] entry,
+                default "core"); coil: winding (its name), side = "go" | "return"
+    [circuit]   gap_B (a circuit gap drawn as the region of that name),
+                path (polyline), flux_line ([[x0, y0], [x1, y1]]), core_B (regions),
+                windings = {NAME = "BRANCH" or "-BRANCH"}
+    [[circuit.segments]] name, length, area, material, on_path, from, to
+    [[circuit.gaps]]     name, length, width, depth, free_height, fringing, from, to
+
+A point's optional third number is the bulge of the edge to the next point
+(tan of a quarter of the arc's included angle, positive counter-clockwise),
+as in DXF polylines; arcs become chords ``compare.dxf.ARC_STEP_DEG`` apart.
+A region without ``points`` takes its outlines from the DXF layer of its
+name.  Gap regions may be drawn over core regions (they cut them); other
+regions must not overlap.  Without ``from``/``to`` the circuit's segments
+and gaps form one series loop in the order given.
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+from dataclasses import dataclass
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from analytic.fringing import FRINGING_MODELS, GapFace, GapFaceError
+from fem2d.layout import LayoutError, Polygon, Region, crossing_between, point_in_polygon
+
+from ..coremodel import CircuitGap, CircuitSegment, CoilModel, CoreModel, HandCircuit
+from ..errors import CaseError
+from ..reader import TableReader
+from ..units import UnitError, parse_quantity
+
+if TYPE_CHECKING:
+    from ..case import Case
+
+__all__ = ["DrawnCore", "DrawnCoreDims", "DrawnRegion"]
+
+KINDS = ("core", "gap", "coil")
+SIDES = ("go", "return")
+
+Point = tuple[float, float]
+
+
+@dataclass(frozen=True)
+class DrawnRegion:
+    """One drawn region: its shapes (m), kind, and for a core part its
+    ``[materials]`` entry, for a coil side its winding and side (+1 go, -1 return)."""
+
+    name: str
+    kind: str
+    shapes: tuple
+    material: str = "core"
+    winding: str = ""
+    side: int = 1
+
+    @property
+    def area(self) -> float:
+        return float(sum(s.area() for s in self.shapes))
+
+
+@dataclass(frozen=True)
+class DrawnCoreDims:
+    """A drawn core: regions, symmetry, stack depth and the user's circuit.
+
+    ``circuit_windings`` maps winding names to (branch, sign) as given
+    (checked against the case's windings once they are read).
+    """
+
+    symmetry: str
+    depth: float
+    regions: tuple[DrawnRegion, ...]
+    segments: tuple[CircuitSegment, ...]
+    gaps: tuple[CircuitGap, ...]
+    circuit_windings: tuple[tuple[str, str, int], ...]
+    gap_B: str | None
+    path: tuple[Point, ...]
+    flux_line: tuple[Point, Point]
+    core_B: tuple[str, ...]
+    source: str = ""
+    """The DXF drawing the outlines came from ("" when drawn in the case file)."""
+
+
+class DrawnCore:
+    """``drawn``: regions drawn by the user, the hand circuit written by the user."""
+
+    name: str = "drawn"
+    limb_names: tuple[str, ...] = ()
+    winding_limbs: tuple[str, ...] = ()
+    core_keys: tuple[str, ...] = ()
+    """None: the shapes are drawn, so no dimension can be varied consistently
+    in both models (the circuit's lengths are the user's own numbers)."""
+    parts: tuple[str, ...] = ()
+    case_tables: tuple[str, ...] = ("shapes", "regions", "circuit")
+
+    # ------------------------------------------------------------ reading
+    def read_core(self, t: TableReader, *, tables: dict[str, Any] | None = None,
+                  base_dir: Path | None = None) -> DrawnCoreDims:
+        tables = tables or {}
+        symmetry = t.string("symmetry", "planar", choices=("planar", "axisymmetric"))
+        if symmetry == "planar":
+            depth = t.quantity("depth", "length")
+        else:
+            if t.has("depth"):
+                raise CaseError(t.key("depth"), t.data["depth"],
+                                "an axisymmetric core has no stack depth (the model is r-z)")
+            depth = 1.0
+        shapes_t = TableReader(tables.get("shapes") or {}, "shapes")
+        unit = _unit(shapes_t)
+        dxf = shapes_t.string("dxf", None)
+        shapes_t.finish()
+        raw_regions = tables.get("regions")
+        if not isinstance(raw_regions, list) or not raw_regions:
+            raise CaseError("regions", raw_regions, "give the drawn regions as [[regions]] "
+                                                    "tables (name, kind, points)")
+        names = []
+        for k, r in enumerate(raw_regions):
+            if not isinstance(r, dict):
+                raise CaseError(f"regions[{k}]", r, "must be a table")
+            nm = r.get("name")
+            if not isinstance(nm, str) or not nm.strip():
+                raise CaseError(f"regions[{k}].name", nm, "must be a non-empty string")
+            if nm in names:
+                raise CaseError(f"regions[{k}].name", nm, "a region of that name comes before")
+            if nm in ("air", "outer", "exterior"):
+                raise CaseError(f"regions[{k}].name", nm, "is reserved for the air domain")
+            names.append(nm)
+        drawn: dict[str, tuple] = {}
+        source = ""
+        if dxf is not None:
+            from ..dxf import read_dxf_regions
+
+            path = Path(dxf)
+            if not path.is_absolute() and base_dir is not None:
+                path = base_dir / path
+            drawn = read_dxf_regions(path, regions=names, units=unit, key="shapes.dxf")
+            source = dxf
+        regions = tuple(_read_region(TableReader(r, f"regions[{k}]"), unit, drawn)
+                        for k, r in enumerate(raw_regions))
+        if symmetry == "axisymmetric":
+            for k, reg in enumerate(regions):
+                r_min = min(s.bbox()[0] for s in reg.shapes)
+                if r_min < -1e-12:
+                    raise CaseError(f"regions[{k}].points", reg.name,
+                                    f"reaches r = {r_min * 1e3:g} mm: an axisymmetric core is "
+                                    "drawn in r >= 0 (x is the radius)")
+        _check_overlaps(regions)
+        circ = TableReader(tables.get("circuit") if tables.get("circuit") is not None else
+                           _missing("circuit"), "circuit")
+        segs, gaps, cw, gap_B, path, flux_line, core_B = _read_circuit(circ, symmetry, depth,
+                                                                      regions, unit)
+        return DrawnCoreDims(symmetry, depth, regions, segs, gaps, cw, gap_B, path, flux_line,
+                             core_B, source=source)
+
+    def part_names(self, c: DrawnCoreDims) -> tuple[str, ...]:
+        """The core regions' materials beyond ``core`` (each a [materials] entry)."""
+        out: list[str] = []
+        for m in (*(r.material for r in c.regions if r.kind == "core"),
+                  *(s.material for s in c.segments)):
+            if m != "core" and m not in out:
+                out.append(m)
+        return tuple(out)
+
+    def required_parts(self, c: DrawnCoreDims) -> dict[str, str]:
+        return {m: f"a drawn region or circuit segment takes material '{m}'; give it here"
+                for m in self.part_names(c)}
+
+    def check_case(self, case: "Case") -> None:
+        """What spans tables: coils name windings, every winding is drawn
+        and sits in the circuit, and the hand switches that need a family's
+        geometry are off."""
+        c: DrawnCoreDims = case.core
+        names = [w.name for w in case.windings]
+        coils = [r for r in c.regions if r.kind == "coil"]
+        for k, r in enumerate(c.regions):
+            if r.kind == "coil" and r.winding not in names:
+                raise CaseError(f"regions[{k}].winding", r.winding,
+                                f"names no winding (windings: {', '.join(names)})"
+                                + _hint(r.winding, names))
+        for j, w in enumerate(case.windings):
+            sides = [r for r in coils if r.winding == w.name]
+            if not any(r.side > 0 for r in sides):
+                raise CaseError(f"windings[{j}]", w.name, "no coil region has this winding "
+                                "with side = \"go\": draw its coil")
+            if c.symmetry == "planar" and not any(r.side < 0 for r in sides):
+                raise CaseError(f"windings[{j}]", w.name,
+                                "a planar coil needs a return side too (a region with side = "
+                                "\"return\"): a lone side's current would return at infinity")
+        given = {n for n, _, _ in c.circuit_windings}
+        for n in given:
+            if n not in names:
+                raise CaseError(f"circuit.windings.{n}", n, "names no winding"
+                                + _hint(n, names))
+        for key, on in (("hand.leakage", case.hand.leakage),
+                        ("hand.effective_parameters", case.hand.effective_parameters)):
+            if on:
+                raise CaseError(key, True, "needs a core family's limbs and windows; a drawn "
+                                           "core's hand model is its [circuit]: set it false")
+
+    # ------------------------------------------------------ both models
+    def core_model(self, case: "Case") -> CoreModel:
+        c: DrawnCoreDims = case.core
+        order = {"core": 0, "gap": 1, "coil": 2}
+        regions, materials = [], []
+        for r in sorted(c.regions, key=lambda r: order[r.kind]):
+            mat = "air" if r.kind != "core" else (r.material if r.material == "core"
+                                                 else f"core-{r.material}")
+            regions.append(Region(r.name, r.shapes, material=mat, kind=r.kind))
+            if r.kind == "core" and (mat, r.material) not in materials:
+                materials.append((mat, r.material))
+        coils = []
+        for w in case.windings:
+            sides = tuple((r.name, r.side) for r in c.regions
+                          if r.kind == "coil" and r.winding == w.name)
+            area = sum(r.area for r in c.regions if r.kind == "coil" and r.winding == w.name
+                       and r.side > 0)
+            coils.append(CoilModel(sides, area))
+        gaps = tuple(r.name for r in c.regions if r.kind == "gap")
+        gap_dir = None
+        if c.gap_B is not None:
+            gap_dir = _thin_direction(next(r for r in c.regions if r.name == c.gap_B))
+        by_w = {n: (b, s) for n, b, s in c.circuit_windings}
+        first = c.segments[0].name
+        windings = tuple(by_w.get(w.name, (first, 1)) for w in case.windings)
+        flux_branch = windings[0][0]
+        circuit = HandCircuit(c.segments, c.gaps, windings, c.gap_B, flux_branch)
+        return CoreModel(
+            symmetry=c.symmetry, depth=c.depth, regions=tuple(regions),
+            materials=tuple(materials), coils=tuple(coils), core_regions=c.core_B,
+            gap_regions=gaps, gap_region=c.gap_B, gap_direction=gap_dir,
+            mean_path=c.path, flux_line=c.flux_line, gap_line=None, circuit=circuit)
+
+    def describe(self, c: DrawnCoreDims) -> list[tuple[str, str]]:
+        rows = [("core.symmetry", c.symmetry)]
+        if c.symmetry == "planar":
+            rows.append(("core.depth", f"{c.depth * 1e3:g} mm"))
+        if c.source:
+            rows.append(("shapes.dxf", c.source))
+        for r in c.regions:
+            what = {"core": f"core part, material {r.material}", "gap": "gap",
+                    "coil": f"coil side ({'go' if r.side > 0 else 'return'}) of winding "
+                            f"'{r.winding}'"}[r.kind]
+            rows.append((f"region {r.name}", f"{what}, area {r.area * 1e6:.4g} mm^2"))
+        for s in c.segments:
+            rows.append((f"circuit segment {s.name}",
+                         f"{s.node_a} -> {s.node_b}, length {s.length * 1e3:g} mm, area "
+                         f"{s.area * 1e6:g} mm^2, material {s.material}"))
+        for g in c.gaps:
+            f = g.face
+            rows.append((f"circuit gap {g.name}",
+                         f"{g.node_a} -> {g.node_b}, length {f.length * 1e3:g} mm, face "
+                         f"{f.width * 1e3:g} x {f.depth * 1e3:g} mm"
+                         + (f", fringing {g.fringing}" if g.fringing else "")))
+        return rows
+
+    # ------------------------------------- the limb families' interface
+    def limbs(self, c: DrawnCoreDims) -> dict:
+        return {}
+
+    def core_rects(self, c: DrawnCoreDims) -> list:
+        return []
+
+    def part_rects(self, c: DrawnCoreDims) -> dict:
+        return {}
+
+    def segments(self, c: DrawnCoreDims) -> list:
+        return []
+
+    def mean_path(self, c: DrawnCoreDims) -> list[Point]:
+        return list(c.path)
+
+    def windows(self, c: DrawnCoreDims, limb: str) -> list:
+        return []
+
+    def effective_path(self, c: DrawnCoreDims) -> tuple[list, tuple[str, ...]]:
+        raise CaseError("hand.effective_parameters", True, "a drawn core has no effective path")
+
+
+# ----------------------------------------------------------------- helpers
+def _missing(name: str) -> dict:
+    raise CaseError(name, None, "missing: a drawn core needs its hand model as a [circuit] "
+                                "table (segments, gaps, where quantities are measured)")
+
+
+def _hint(name: str, known: list[str]) -> str:
+    close = difflib.get_close_matches(name, known, n=1)
+    return f"; did you mean '{close[0]}'?" if close else ""
+
+
+def _unit(t: TableReader) -> float | None:
+    if not t.has("units"):
+        return None
+    raw = t.raw("units")
+    try:
+        return parse_quantity(f"1 {raw}", "length") if isinstance(raw, str) else _bad_unit(t, raw)
+    except UnitError as exc:
+        raise CaseError(t.key("units"), raw, str(exc)) from None
+
+
+def _bad_unit(t: TableReader, raw: Any) -> float:
+    raise CaseError(t.key("units"), raw, "must be a length unit such as \"mm\"")
+
+
+def _points(raw: Any, key: str, unit: float | None, closed: bool = True) -> list[Point]:
+    """A list of [x, y] or [x, y, bulge] in the shapes' unit -> points (m),
+    bulge arcs replaced by chords."""
+    from ..dxf import _bulge_points
+
+    if unit is None:
+        raise CaseError("shapes.units", None, f"{key} gives points: say their unit in "
+                                               "[shapes] units = \"mm\"")
+    if not isinstance(raw, list) or len(raw) < (3 if closed else 2):
+        raise CaseError(key, raw, f"must be a list of at least {3 if closed else 2} points "
+                                  "[x, y] (or [x, y, bulge])")
+    verts = []
+    for i, p in enumerate(raw):
+        ok = (isinstance(p, list) and len(p) in (2, 3)
+              and all(isinstance(v, (int, float)) and not isinstance(v, bool)
+                      and math.isfinite(v) for v in p))
+        if not ok:
+            raise CaseError(f"{key}[{i}]", p, "must be [x, y] or [x, y, bulge], finite numbers")
+        verts.append((float(p[0]) * unit, float(p[1]) * unit, float(p[2]) if len(p) == 3 else 0.0))
+    if not closed:
+        if any(v[2] for v in verts):
+            raise CaseError(key, raw, "a polyline here takes no bulge (third number)")
+        return [(x, y) for x, y, _ in verts]
+    pts: list[Point] = [verts[0][:2]]
+    for k, (x, y, b) in enumerate(verts):
+        pts.extend(_bulge_points((x, y), verts[(k + 1) % len(verts)][:2], b))
+    return pts[:-1]
+
+
+def _read_region(t: TableReader, unit: float | None, drawn: dict[str, tuple]) -> DrawnRegion:
+    name = t.string("name")
+    kind = t.string("kind", choices=KINDS)
+    if t.has("points"):
+        if name in drawn:
+            raise CaseError(t.key("points"), name, "the region is drawn both here and on the "
+                                                   "DXF layer of its name: give one")
+        outer = _points(t.raw("points"), t.key("points"), unit)
+        holes_raw = t.raw("holes", [])
+        if not isinstance(holes_raw, list):
+            raise CaseError(t.key("holes"), holes_raw, "must be a list of point lists")
+        holes = tuple(tuple(_points(h, f"{t.key('holes')}[{k}]", unit))
+                      for k, h in enumerate(holes_raw))
+        if _signed_area(outer) < 0:  # either orientation may be drawn
+            outer = outer[::-1]
+        holes = tuple(h if _signed_area(h) > 0 else h[::-1] for h in holes)
+        shape = Polygon(tuple(outer), holes)
+        try:
+            shape.check(f"region {name!r}")
+        except LayoutError as exc:
+            raise CaseError(t.key("points"), name, str(exc)) from None
+        shapes: tuple = (shape,)
+    elif name in drawn:
+        if t.has("holes"):
+            raise CaseError(t.key("holes"), t.raw("holes"), "the region is drawn on the DXF "
+                                                            "layer: draw its holes there")
+        shapes = drawn[name]
+    else:
+        raise CaseError(t.key("points"), None, f"missing: region '{name}' is not drawn (give "
+                        "points, or draw it on a DXF layer of its name with [shapes] dxf)")
+    material, winding, side = "core", "", 1
+    if kind == "core":
+        material = t.string("material", "core")
+    if kind == "coil":
+        winding = t.string("winding", "main")
+        side = 1 if t.string("side", "go", choices=SIDES) == "go" else -1
+    t.finish()
+    return DrawnRegion(name, kind, shapes, material, winding, side)
+
+
+def _signed_area(pts: Any) -> float:
+    x = np.array([p[0] for p in pts])
+    y = np.array([p[1] for p in pts])
+    return 0.5 * float(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1)))
+
+
+def _loops(shape: Any) -> list[list[Point]]:
+    if hasattr(shape, "points"):
+        return [list(shape.points)]
+    if hasattr(shape, "r") and hasattr(shape, "cx"):
+        n = 90
+        return [[(shape.cx + shape.r * math.cos(2 * math.pi * k / n),
+                  shape.cy + shape.r * math.sin(2 * math.pi * k / n)) for k in range(n)]]
+    x0, y0, x1, y1 = shape.bbox()
+    return [[(x0, y0), (x1, y0), (x1, y1), (x0, y1)]]
+
+
+def _inside(pt: Point, shape: Any) -> bool:
+    """pt strictly inside the shape's material (inside the outline, not in a hole)."""
+    outer = _loops(shape)[0]
+    if not point_in_polygon(pt, outer):
+        return False
+    return not any(point_in_polygon(pt, h) for h in getattr(shape, "holes", ()))
+
+
+def _check_overlaps(regions: tuple[DrawnRegion, ...]) -> None:
+    """No two regions overlap, except a gap drawn over a core part (it cuts it)."""
+    for i, a in enumerate(regions):
+        for j in range(i):
+            b = regions[j]
+            if {a.kind, b.kind} == {"gap", "core"}:
+                continue
+            for sa in a.shapes:
+                for sb in b.shapes:
+                    if _shapes_overlap(sa, sb):
+                        raise CaseError(f"regions[{i}]", a.name,
+                                        f"overlaps region '{b.name}': drawn regions must not "
+                                        "overlap (only a gap may be drawn over a core part)")
+
+
+def _shapes_overlap(sa: Any, sb: Any) -> bool:
+    ax0, ay0, ax1, ay1 = sa.bbox()
+    bx0, by0, bx1, by1 = sb.bbox()
+    if min(ax1, bx1) <= max(ax0, bx0) or min(ay1, by1) <= max(ay0, by0):
+        return False
+    la, lb = _loops(sa)[0], _loops(sb)[0]
+    # shared edges are touching, not overlapping: test the edges' midpoints
+    # nudged inward, and vertices, strictly inside the other's material
+    for p in (*_probe_points(la), *_probe_points(lb)):
+        if _inside(p, sa) and _inside(p, sb):
+            return True
+    return crossing_between(la, lb) and _interior_cross(la, lb, sa, sb)
+
+
+def _probe_points(loop: list[Point]) -> list[Point]:
+    """Points just inside a counter-clockwise loop: each edge's midpoint
+    moved inward by 1e-6 of the edge's length, and the centroid."""
+    out = []
+    n = len(loop)
+    for k in range(n):
+        (x0, y0), (x1, y1) = loop[k], loop[(k + 1) % n]
+        mx, my = 0.5 * (x0 + x1), 0.5 * (y0 + y1)
+        dx, dy = x1 - x0, y1 - y0
+        out.append((mx - 1e-6 * dy, my + 1e-6 * dx))
+    cx = sum(p[0] for p in loop) / n
+    cy = sum(p[1] for p in loop) / n
+    out.append((cx, cy))
+    return out
+
+
+def _interior_cross(la: list[Point], lb: list[Point], sa: Any, sb: Any) -> bool:
+    """Edges cross (not only touch): some edge point of one lies strictly inside the other."""
+    for loop, other in ((la, sb), (lb, sa)):
+        n = len(loop)
+        for k in range(n):
+            (x0, y0), (x1, y1) = loop[k], loop[(k + 1) % n]
+            for u in (0.25, 0.5, 0.75):
+                if _inside((x0 + u * (x1 - x0), y0 + u * (y1 - y0)), other):
+                    return True
+    return False
+
+
+def _thin_direction(region: DrawnRegion) -> Point:
+    """The direction across which a region is thinnest: the principal axis
+    of least second moment of its area about its centroid (a gap drawn as a
+    thin strip: along its length g, the direction of the flux crossing it).
+    Polygon moments by the shoelace sums (exact for straight edges)."""
+    area, first, second = 0.0, np.zeros(2), np.zeros((2, 2))
+    for s in region.shapes:
+        for loop, sign in ((_loops(s)[0], 1.0), *((h, -1.0) for h in getattr(s, "holes", ()))):
+            p = np.asarray(loop, dtype=float)
+            q = np.roll(p, -1, axis=0)
+            cr = p[:, 0] * q[:, 1] - q[:, 0] * p[:, 1]
+            sg = sign * math.copysign(1.0, cr.sum())  # outline adds, hole takes away
+            x0, y0, x1, y1 = p[:, 0], p[:, 1], q[:, 0], q[:, 1]
+            area += sg * 0.5 * cr.sum()
+            first += sg * np.array([np.sum((x0 + x1) * cr), np.sum((y0 + y1) * cr)]) / 6.0
+            ixx = np.sum(cr * (x0 * x0 + x0 * x1 + x1 * x1)) / 12.0  # int x^2 dA
+            iyy = np.sum(cr * (y0 * y0 + y0 * y1 + y1 * y1)) / 12.0  # int y^2 dA
+            ixy = np.sum(cr * (x0 * y1 + 2 * x0 * y0 + 2 * x1 * y1 + x1 * y0)) / 24.0
+            second += sg * np.array([[ixx, ixy], [ixy, iyy]])
+    c = first / area
+    vals, vecs = np.linalg.eigh(second - area * np.outer(c, c))
+    v = vecs[:, 0]
+    if v[int(np.argmax(np.abs(v)))] < 0:
+        v = -v
+    return (float(v[0]) if abs(v[0]) > 1e-12 else 0.0, float(v[1]) if abs(v[1]) > 1e-12 else 0.0)
+
+
+def _nodes(t: TableReader) -> tuple[str, str] | None:
+    if not (t.has("from") or t.has("to")):
+        return None
+    return t.string("from"), t.string("to")
+
+
+def _read_circuit(t: TableReader, symmetry: str, depth: float,
+                  regions: tuple[DrawnRegion, ...], unit: float | None) -> tuple[Any, ...]:
+    seg_ts = t.tables("segments")
+    gap_ts = t.tables("gaps")
+    if not seg_ts:
+        raise CaseError("circuit.segments", None, "missing: give the circuit's core segments "
+                                                  "as [[circuit.segments]] (name, length, area)")
+    items: list[tuple[str, TableReader, tuple[str, str] | None]] = []
+    names: list[str] = []
+    for kind, ts in (("segment", seg_ts), ("gap", gap_ts)):
+        for k, st in enumerate(ts):
+            nm = st.string("name", f"{kind}{k}")
+            if nm in names:
+                raise CaseError(st.key("name"), nm, "a segment or gap of that name comes before")
+            names.append(nm)
+            items.append((kind, st, _nodes(st)))
+    given = [n is not None for _, _, n in items]
+    if any(given) and not all(given):
+        k = given.index(False)
+        raise CaseError(items[k][1].key("from"), None,
+                        "missing: some segments or gaps give from/to nodes, so every one must")
+    ends: list[tuple[str, str]] = (
+        [n for _, _, n in items if n is not None] if all(given)
+        else [(f"n{k}", f"n{(k + 1) % len(items)}") for k in range(len(items))])
+    segments, gaps = [], []
+    for (kind, st, _), nm, (a, b) in zip(items, names, ends):
+        if a == b:
+            raise CaseError(st.key("to"), b, "a branch must join two different nodes")
+        if kind == "segment":
+            segments.append(CircuitSegment(
+                nm, a, b, st.quantity("length", "length"), st.quantity("area", "area"),
+                st.string("material", "core"), _boolean(st, "on_path", True)))
+        else:
+            g = st.quantity("length", "length")
+            w = st.quantity("width", "length")
+            if symmetry == "planar":
+                d = st.quantity("depth", "length", depth)
+            else:
+                d = st.quantity("depth", "length")
+            h = st.quantity("free_height", "length", w)
+            model = st.string("fringing", None)
+            if model is not None and model not in FRINGING_MODELS:
+                raise CaseError(st.key("fringing"), model, "unknown fringing model; known: "
+                                + ", ".join(FRINGING_MODELS) + _hint(model, list(FRINGING_MODELS)))
+            if g >= min(w, d):
+                raise CaseError(st.key("length"), st.data["length"],
+                                f"gap not shorter than its face ({min(w, d) * 1e3:g} mm): the "
+                                "fringing models do not hold")
+            try:
+                face = GapFace(length=g, width=w, depth=d, free_height=h)
+            except GapFaceError as exc:  # pragma: no cover - the quantities are checked above
+                raise CaseError(st.key("length"), g, str(exc)) from None
+            gaps.append(CircuitGap(nm, a, b, face, model))
+        st.finish()
+    if not any(s.on_path for s in segments):
+        raise CaseError("circuit.segments", None, "no segment has on_path = true: core B and "
+                                                  "path H average those")
+    gap_names = [g.name for g in gaps]
+    drawn_gaps = [r.name for r in regions if r.kind == "gap"]
+    measured = [n for n in gap_names if n in drawn_gaps]
+    gap_B = t.string("gap_B", measured[0] if measured else None)
+    if gap_B is not None:
+        if gap_B not in gap_names:
+            raise CaseError(t.key("gap_B"), gap_B, "names no circuit gap"
+                            + _hint(gap_B, gap_names))
+        if gap_B not in drawn_gaps:
+            raise CaseError(t.key("gap_B"), gap_B, "names no drawn gap region: the field "
+                            "model measures gap B in the region of the gap's name")
+    path = tuple(_points(t.raw("path"), t.key("path"), unit, closed=False))
+    fl = _points(t.raw("flux_line"), t.key("flux_line"), unit, closed=False)
+    if len(fl) != 2 or fl[0] == fl[1]:
+        raise CaseError(t.key("flux_line"), t.raw("flux_line"),
+                        "must be two different points [[x0, y0], [x1, y1]]: the segment across "
+                        "the winding's limb the flux is taken through")
+    cores = [r.name for r in regions if r.kind == "core"]
+    if not cores:
+        raise CaseError("regions", None, "no region has kind = \"core\"")
+    core_B = t.raw("core_B", cores)
+    if isinstance(core_B, str):
+        core_B = [core_B]
+    if not isinstance(core_B, list) or not core_B:
+        raise CaseError(t.key("core_B"), core_B, "must be a list of core region names")
+    for n in core_B:
+        if n not in cores:
+            raise CaseError(t.key("core_B"), n, "names no core region" + _hint(str(n), cores))
+    windings = []
+    wt = TableReader(t.raw("windings", {}), t.key("windings"))
+    for wname in list(wt.data):
+        spec = wt.string(wname)
+        sign = -1 if spec.startswith("-") else 1
+        branch = spec.lstrip("+-")
+        if branch not in names:
+            raise CaseError(wt.key(wname), spec, "names no circuit segment or gap"
+                            + _hint(branch, names))
+        windings.append((wname, branch, sign))
+    wt.finish()
+    t.finish()
+    return (tuple(segments), tuple(gaps), tuple(windings), gap_B, path, (fl[0], fl[1]),
+            tuple(core_B))
+
+
+def _boolean(t: TableReader, name: str, default: bool) -> bool:
+    raw = t.raw(name, default)
+    if not isinstance(raw, bool):
+        raise CaseError(t.key(name), raw, "must be true or false")
+    return raw
+
