@@ -12,21 +12,20 @@ from the family's mean-path segments (compare/hand.py).
 A family either builds its CoreModel itself (an optional method
 ``core_model(case)``) or describes limbs, segments and part rectangles,
 from which :func:`core_model` builds it here (the rectangular families).
-No module names a family.
+No module names a family.  ``case`` arguments are compare.case.Case, typed
+Any: the families import this module and compare.case imports the families.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 from analytic.fringing import GapFace
 from fem2d.layout import Region
 
 from .geometry import Limb, coil_rects, gap_rect
 
-if TYPE_CHECKING:
-    from .case import Case
 
 __all__ = ["CoreModel", "CoilModel", "GapLine", "HandCircuit", "CircuitSegment", "CircuitGap",
            "core_model", "coil_name", "coil_regions", "WINDING", "COIL_PLUS", "COIL_MINUS"]
@@ -176,7 +175,7 @@ class CoreModel:
         return self.symmetry == "axisymmetric"
 
 
-def core_model(case: "Case") -> CoreModel:
+def core_model(case: Any) -> CoreModel:
     """The case's CoreModel: the family's own (``family.core_model``) or the
     one built from its limbs and part rectangles."""
     own = getattr(case.family_model, "core_model", None)
@@ -193,7 +192,7 @@ def _limb_flux_line(limb: Limb) -> tuple[Point, Point]:
     return (mid, limb.c0), (mid, limb.c1)
 
 
-def _limb_model(case: "Case") -> CoreModel:
+def _limb_model(case: Any) -> CoreModel:
     fam = case.family_model
     limbs = case.limbs
     overrides = case.part_overrides

@@ -43,8 +43,14 @@ def _outlines(ax, res: CheckResult, lw: float = 1.2) -> None:
     from matplotlib.patches import Circle
     from matplotlib.patches import Polygon as PolygonPatch
 
+    from .coremodel import core_model
+
+    side = {r: sgn for c in core_model(res.case).coils for r, sgn in c.sides}
     for region in res.fe.solution.mesh.layout.regions:
-        colour = REGION_COLOURS.get(region.name, REGION_COLOURS.get(region.kind, "#444444"))
+        if region.name in side:  # every winding's go and return sides alike
+            colour = REGION_COLOURS["coil+" if side[region.name] > 0 else "coil-"]
+        else:
+            colour = REGION_COLOURS.get(region.kind, "#444444")
         for s in region.shapes:
             if hasattr(s, "points"):  # a polygon and its holes
                 for loop in (s.points, *s.holes):

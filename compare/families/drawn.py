@@ -35,7 +35,7 @@ import difflib
 import math
 from dataclasses import dataclass
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import numpy as np
 
@@ -47,8 +47,6 @@ from ..errors import CaseError
 from ..reader import TableReader
 from ..units import UnitError, parse_quantity
 
-if TYPE_CHECKING:
-    from ..case import Case
 
 __all__ = ["DrawnCore", "DrawnCoreDims", "DrawnRegion"]
 
@@ -181,7 +179,7 @@ class DrawnCore:
         return {m: f"a drawn region or circuit segment takes material '{m}'; give it here"
                 for m in self.part_names(c)}
 
-    def check_case(self, case: "Case") -> None:
+    def check_case(self, case: Any) -> None:
         """What spans tables: coils name windings, every winding is drawn
         and sits in the circuit, and the hand switches that need a family's
         geometry are off."""
@@ -214,7 +212,7 @@ class DrawnCore:
                                            "core's hand model is its [circuit]: set it false")
 
     # ------------------------------------------------------ both models
-    def core_model(self, case: "Case") -> CoreModel:
+    def core_model(self, case: Any) -> CoreModel:
         c: DrawnCoreDims = case.core
         order = {"core": 0, "gap": 1, "coil": 2}
         regions, materials = [], []
