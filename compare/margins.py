@@ -10,8 +10,9 @@ case file and says how much room is left, in percent of the limit:
 
 A negative margin is a failed margin. The figures themselves:
 
-- current density J = N |I| / (k_cu * t * l) in the conductor (A/m^2), with
-  t * l the coil cross-section beside the limb (coil build x coil length) and
+- current density J = N |I| / (k_cu * S) in the conductor (A/m^2), with
+  S the coil side's cross-section (coil build x coil length beside a limb,
+  the drawn region's area for a drawn coil) and
   k_cu the copper fill of the case's ``margins.copper_fill`` (default 1: J over
   the whole coil cross-section). Definition, no source needed.
 - saturation current at a drop d: the current at which the inductance has
@@ -26,7 +27,7 @@ import dataclasses
 import logging
 import math
 from dataclasses import dataclass
-from typing import Callable, Sequence
+from typing import Any, Callable, Sequence
 
 import numpy as np
 
@@ -34,7 +35,8 @@ from .case import Case
 from .hand import HandResult, run_hand
 
 __all__ = ["MarginResult", "current_density", "with_current", "inductance_of",
-           "saturation_from_curve", "hand_saturation_current", "DEFAULT_DROPS"]
+           "saturation_from_curve", "hand_saturation_current", "DEFAULT_DROPS",
+           "curve_saturation", "curve_margins"]
 
 log = logging.getLogger(__name__)
 
@@ -270,3 +272,101 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
                                 f"saturation current ({sat.kind} L -{100 * sat.drop:g} %)",
                                 "A", "min", sat.min, value, hand=h, basis=basis, note=note))
     return out
+
+
+# --------------------------------------------------------------- along a sweep
+def _interp(points: list[Any], current: float, get: Callable[[Any], float]) -> float:
+    """Linear interpolation of a point quantity at |I| = current along a curve
+    (NaN outside the swept range)."""
+    i = np.array([abs(p.current) for p in points])
+    v = np.array([get(p) for p in points], dtype=float)
+    ok = np.isfinite(v)
+    i, v = i[ok], v[ok]
+    if i.size == 0 or not (i.min() - 1e-12 <= abs(current) <= i.max() + 1e-12):
+        return math.nan
+    if i.size == 1:
+        return float(v[0])
+    return float(np.interp(abs(current), i, v))
+
+
+def curve_saturation(points: list[Any], drops: Sequence[float], kind: str,
+                     model: str) -> dict[float, float]:
+    """Saturation currents of one curve for ``model`` "fe", "hand" or "hand_planar"."""
+    block = {"fe": lambda p: p.fe, "hand": lambda p: p.hand,
+             "hand_planar": lambda p: p.hand_planar}[model]
+    vals = [block(p).get("inductance" if kind == "secant" else "incremental_inductance",
+                         math.nan) for p in points]
+    return saturation_from_curve([p.current for p in points], vals, drops)
+
+
+def curve_margins(case: Case, cs: Sequence[tuple[dict, list[Any]]], with_fe: bool,
+                  drops: Sequence[float] = (), kind: str = "incremental", *,
+                  fe_3d: Callable[[Any, str], float] = lambda p, key: 1.0
+                  ) -> tuple[list[MarginResult], list[dict]]:
+    """Margins judged along L(I) curves, and the saturation table.
+
+    ``cs``: (fixed settings, points sorted by |I|) per curve, each point with
+    ``current``, ``fe``/``hand``/``hand_planar`` (quantity dicts),
+    ``fe_peak_B`` and ``hand_peak_B`` (compare.sweep.PointResult);
+    ``fe_3d(point, key)``: the depth correction of an FE value.
+
+    - saturation current (``case.margins`` saturation limits): read off the
+      FE curve (the hand 3D curve for a hand-only sweep); when the curve does
+      not fall that far the saturation current is at least the highest swept
+      current, which passes when that is above the limit and is "n/a" otherwise;
+    - inductance at a stated current: FE (times the depth-fringing factor,
+      as ``magcheck check``) interpolated linearly along the curve;
+    - peak core B at the case's own current, interpolated along the curve.
+
+    Returns (margins, saturation rows: one dict per curve and model with the
+    current at each drop of ``drops`` and of the limits).
+    """
+    m = case.margins
+    drops_all = sorted(set(drops) | {lim.drop for lim in m.saturation})
+    margins: list[MarginResult] = []
+    table: list[dict] = []
+    fe_model = "fe" if with_fe else "hand"
+    for fixed, pts in cs:
+        tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
+        suffix = f" [{tag}]" if tag else ""
+        if len(pts) < 2:
+            continue
+        imax = max(abs(p.current) for p in pts)
+        sat = {}
+        for model in (("fe", "hand", "hand_planar") if with_fe else ("hand", "hand_planar")):
+            sat[model] = curve_saturation(pts, drops_all, kind, model)
+            table.append({"curve": tag, "model": model, "inductance": kind,
+                          **{f"{100 * d:g}%": sat[model][d] for d in drops_all}})
+        for lim in m.saturation:
+            s_main = curve_saturation(pts, [lim.drop], lim.kind, fe_model)[lim.drop]
+            s_hand = curve_saturation(pts, [lim.drop], lim.kind, "hand")[lim.drop]
+            note = ""
+            if not math.isfinite(s_main):
+                note = f"not reached up to {imax:g} A"
+                s_main = imax if imax >= lim.min else math.nan
+            margins.append(MarginResult(
+                f"saturation_current@{100 * lim.drop:g}%{suffix}",
+                f"saturation current ({lim.kind} L -{100 * lim.drop:g} %){suffix}", "A", "min",
+                lim.min, s_main, hand=s_hand, basis="FE" if with_fe else "hand", note=note))
+        for ind in m.inductance:
+            key = "inductance" if ind.kind == "secant" else "incremental_inductance"
+            if with_fe:
+                value = _interp(pts, ind.at, lambda p: p.fe.get(key, math.nan) * fe_3d(p, key))
+            else:
+                value = _interp(pts, ind.at, lambda p: p.hand.get(key, math.nan))
+            h = _interp(pts, ind.at, lambda p: p.hand.get(key, math.nan))
+            for kind_, limit in (("min", ind.min), ("max", ind.max)):
+                if limit is not None:
+                    margins.append(MarginResult(
+                        f"inductance_{ind.kind}@{ind.at:g}A:{kind_}{suffix}",
+                        f"inductance ({ind.kind}) at {ind.at:g} A, {kind_}{suffix}", "H", kind_,
+                        limit, value, hand=h, basis="FE" if with_fe else "hand",
+                        note="" if math.isfinite(value) else "current outside the swept range"))
+        if m.peak_B is not None and with_fe:
+            value = _interp(pts, case.winding.current, lambda p: p.fe_peak_B)
+            h = _interp(pts, case.winding.current, lambda p: p.hand_peak_B)
+            margins.append(MarginResult(
+                f"peak_B{suffix}", f"peak core B at {case.winding.current:g} A{suffix}", "T",
+                "max", m.peak_B, value, hand=h, basis="FE",
+                note="" if math.isfinite(value) else "case current outside the swept range"))
+    return margins, table

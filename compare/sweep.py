@@ -8,10 +8,9 @@ A sweep varies case-file keys (``winding.current``, ``gaps[0].length``,
 
 A unit written on one item applies to the items written without one; plain
 numbers are SI. Several specs make a grid (the last one varies fastest).
-Every point is re-validated through :func:`compare.casefile.case_from_dict`, so
-a swept value is checked exactly like case-file input. Two extra keys scale
-the core's B-H curve (factor, nominal 1; see :func:`scale_law`):
-``materials.core.scale_H`` and ``materials.core.scale_B``.
+Every point is derived and re-validated by :func:`compare.variants.make_case`,
+so a swept value is checked exactly like case-file input; two extra keys
+scale the core's B-H curve (``materials.core.scale_H``, ``scale_B``).
 
 Execution. Points that share a mesh (same geometry; only current or
 material change) form a chain; a chain is cut into blocks of at most
@@ -24,30 +23,24 @@ the results (beyond the linear solver's rounding).
 
 from __future__ import annotations
 
-import copy
 import dataclasses
-import hashlib
 import itertools
 import logging
 import math
 import time
-import tomllib
 from dataclasses import dataclass, field
-from pathlib import Path
 from typing import Any, Callable, Sequence
 
 import numpy as np
 
-from analytic.bh import BHDataError, scale_law  # noqa: F401 (scale_law re-exported)
+from analytic.bh import scale_law  # noqa: F401 (re-exported)
 
-from .case import Case, MaterialSpec
-
-from .casefile import case_from_dict
+from .case import Case
 from .errors import CaseError, RunError
 from .hand import HAND_KEYS, run_hand
-from .keys import (CURRENT_KEY, SCALE_KEYS, VarySpec, key_dimension, parse_key, parse_vary,
-                   resolve_vary, set_key)
-from .margins import MarginResult, saturation_from_curve
+from .keys import CURRENT_KEY, VarySpec, key_dimension, parse_key, parse_vary, resolve_vary
+from .variants import CaseSource, case_source, make_case
+from .margins import MarginResult, curve_margins, curve_saturation  # noqa: F401 (re-exported)
 
 __all__ = ["VarySpec", "parse_vary", "parse_key", "key_dimension", "resolve_vary",
            "scale_law", "CaseSource", "case_source", "make_case", "PointResult", "SweepResult",
@@ -65,81 +58,6 @@ current changes; otherwise the previous solution)."""
 DEFAULT_BLOCK = 11
 """Points per task. Fixed (not derived from the worker count) so that results
 do not depend on it; 41 points make 4 tasks, enough for 2-4 workers."""
-
-# --------------------------------------------------------------------------- materials
-# --------------------------------------------------------------------------- cases
-@dataclass(frozen=True)
-class CaseSource:
-    """A case file's parsed TOML, kept to derive varied cases from."""
-
-    data: dict = field(repr=False, compare=False)
-    base_dir: Path | None
-    source: str
-    sha256: str
-
-
-def case_source(path: str | Path, *, allow_large: bool = False) -> tuple[CaseSource, Case]:
-    """Read a case file both as raw TOML (to vary) and validated.
-
-    ``allow_large`` sets ``[fe] allow_large = true`` in both (the
-    ``--allow-large`` option); the file's hash stays that of the file.
-    """
-    from dataclasses import replace
-
-    from .casefile import load_case
-
-    case = load_case(path)  # all errors of a bad file come from here
-    path = Path(path)
-    raw = path.read_bytes()
-    data = tomllib.loads(raw.decode("utf-8"))
-    if allow_large:
-        fe = data.get("fe")
-        data["fe"] = {**(fe if isinstance(fe, dict) else {}), "allow_large": True}
-        case = replace(case, fe=replace(case.fe, allow_large=True))
-    return CaseSource(data, path.parent, str(path), hashlib.sha256(raw).hexdigest()), case
-
-
-def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str, str] | None = None) -> Case:
-    """The case of ``src`` with ``settings`` (key -> SI value) applied, validated.
-
-    Raises
-    ------
-    CaseError
-        Naming the ``--vary`` spec (when ``spec_of`` maps the key to it) and
-        the offending value.
-    """
-    data = copy.deepcopy(src.data)
-    scales = {k: v for k, v in settings.items() if k in SCALE_KEYS}
-    for key, value in settings.items():
-        if key in SCALE_KEYS:
-            continue
-        try:
-            set_key(data, parse_key(key), value, key)
-        except CaseError as exc:
-            where = spec_of.get(key, key) if spec_of else key
-            raise CaseError(where, value, exc.reason) from None
-    try:
-        case = case_from_dict(data, base_dir=src.base_dir, source=src.source, sha256=src.sha256)
-    except CaseError as exc:
-        if spec_of:
-            point = ", ".join(f"{k} = {v:g}" for k, v in settings.items())
-            raise CaseError(exc.key, exc.value, f"{exc.reason} (at the point {point})") from None
-        raise
-    for k, v in scales.items():
-        if v <= 0:
-            where = spec_of.get(k, k) if spec_of else k
-            raise CaseError(where, v, "a B-H scale factor must be positive")
-    if scales:
-        spec = case.material("core")
-        try:
-            law = scale_law(spec.law, scales.get(SCALE_KEYS[0], 1.0), scales.get(SCALE_KEYS[1], 1.0))
-        except BHDataError as exc:
-            raise CaseError(SCALE_KEYS[0], scales, str(exc)) from None
-        new = MaterialSpec(spec.region, spec.kind, f"{spec.description}, scaled", law)
-        case = dataclasses.replace(case, materials=tuple(
-            new if m.region == "core" else m for m in case.materials))
-    return case
-
 
 # --------------------------------------------------------------------------- results
 @dataclass(frozen=True)
@@ -427,30 +345,6 @@ def sweep_rows(res: SweepResult) -> list[dict]:
     return rows
 
 
-def _interp(points: list[PointResult], current: float, get: Callable[[PointResult], float]) -> float:
-    """Linear interpolation of a point quantity at |I| = current along a curve
-    (NaN outside the swept range)."""
-    i = np.array([abs(p.current) for p in points])
-    v = np.array([get(p) for p in points], dtype=float)
-    ok = np.isfinite(v)
-    i, v = i[ok], v[ok]
-    if i.size == 0 or not (i.min() - 1e-12 <= abs(current) <= i.max() + 1e-12):
-        return math.nan
-    if i.size == 1:
-        return float(v[0])
-    return float(np.interp(abs(current), i, v))
-
-
-def curve_saturation(points: list[PointResult], drops: Sequence[float], kind: str,
-                     model: str) -> dict[float, float]:
-    """Saturation currents of one curve for ``model`` "fe", "hand" or "hand_planar"."""
-    block = {"fe": lambda p: p.fe, "hand": lambda p: p.hand,
-             "hand_planar": lambda p: p.hand_planar}[model]
-    vals = [block(p).get("inductance" if kind == "secant" else "incremental_inductance",
-                         math.nan) for p in points]
-    return saturation_from_curve([p.current for p in points], vals, drops)
-
-
 def _fe_3d(p: PointResult, key: str) -> float:
     """The point's depth correction of ``key`` (compare.check.depth_corrections):
     hand 3D over hand planar."""
@@ -461,67 +355,7 @@ def _fe_3d(p: PointResult, key: str) -> float:
 
 def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "incremental"
                   ) -> tuple[list[MarginResult], list[dict]]:
-    """Margins judged along each L(I) curve of a sweep, and the saturation table.
-
-    - saturation current (``case.margins`` saturation limits): read off the
-      FE curve (the hand 3D curve for a hand-only sweep); when the curve does
-      not fall that far the saturation current is at least the highest swept
-      current, which passes when that is above the limit and is "n/a" otherwise;
-    - inductance at a stated current: FE (times the depth-fringing factor,
-      as ``magcheck check``) interpolated linearly along the curve;
-    - peak core B at the case's own current, interpolated along the curve.
-
-    Returns (margins, saturation rows: one dict per curve and model with the
-    current at each drop of ``drops`` and of the limits).
-    """
-    case = res.case
-    m = case.margins
-    drops_all = sorted(set(drops) | {lim.drop for lim in m.saturation})
-    margins: list[MarginResult] = []
-    table: list[dict] = []
-    cs = curves(res)
-    fe_model = "fe" if res.with_fe else "hand"
-    for fixed, pts in cs:
-        tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
-        suffix = f" [{tag}]" if tag else ""
-        if len(pts) < 2:
-            continue
-        imax = max(abs(p.current) for p in pts)
-        sat = {}
-        for model in (("fe", "hand", "hand_planar") if res.with_fe else ("hand", "hand_planar")):
-            sat[model] = curve_saturation(pts, drops_all, kind, model)
-            table.append({"curve": tag, "model": model, "inductance": kind,
-                          **{f"{100 * d:g}%": sat[model][d] for d in drops_all}})
-        for lim in m.saturation:
-            s_main = curve_saturation(pts, [lim.drop], lim.kind, fe_model)[lim.drop]
-            s_hand = curve_saturation(pts, [lim.drop], lim.kind, "hand")[lim.drop]
-            note = ""
-            if not math.isfinite(s_main):
-                note = f"not reached up to {imax:g} A"
-                s_main = imax if imax >= lim.min else math.nan
-            margins.append(MarginResult(
-                f"saturation_current@{100 * lim.drop:g}%{suffix}",
-                f"saturation current ({lim.kind} L -{100 * lim.drop:g} %){suffix}", "A", "min",
-                lim.min, s_main, hand=s_hand, basis="FE" if res.with_fe else "hand", note=note))
-        for ind in m.inductance:
-            key = "inductance" if ind.kind == "secant" else "incremental_inductance"
-            if res.with_fe:
-                value = _interp(pts, ind.at, lambda p: p.fe.get(key, math.nan) * _fe_3d(p, key))
-            else:
-                value = _interp(pts, ind.at, lambda p: p.hand.get(key, math.nan))
-            h = _interp(pts, ind.at, lambda p: p.hand.get(key, math.nan))
-            for kind_, limit in (("min", ind.min), ("max", ind.max)):
-                if limit is not None:
-                    margins.append(MarginResult(
-                        f"inductance_{ind.kind}@{ind.at:g}A:{kind_}{suffix}",
-                        f"inductance ({ind.kind}) at {ind.at:g} A, {kind_}{suffix}", "H", kind_,
-                        limit, value, hand=h, basis="FE" if res.with_fe else "hand",
-                        note="" if math.isfinite(value) else "current outside the swept range"))
-        if m.peak_B is not None and res.with_fe:
-            value = _interp(pts, case.winding.current, lambda p: p.fe_peak_B)
-            h = _interp(pts, case.winding.current, lambda p: p.hand_peak_B)
-            margins.append(MarginResult(
-                f"peak_B{suffix}", f"peak core B at {case.winding.current:g} A{suffix}", "T",
-                "max", m.peak_B, value, hand=h, basis="FE",
-                note="" if math.isfinite(value) else "case current outside the swept range"))
-    return margins, table
+    """Margins judged along each L(I) curve of a sweep, and the saturation
+    table (:func:`compare.margins.curve_margins`, with each point's depth
+    correction of the FE values as ``magcheck check`` applies it)."""
+    return curve_margins(res.case, curves(res), res.with_fe, drops, kind, fe_3d=_fe_3d)

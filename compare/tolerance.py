@@ -40,7 +40,7 @@ from .case import Case, Tolerance
 from .errors import CaseError, RunError
 from .margins import MarginResult, design_margins, hand_saturation_current, inductance_of, with_current
 from .keys import SCALE_KEYS, key_dimension, parse_key, winding_alias
-from .sweep import CaseSource, make_case
+from .variants import CaseSource, make_case
 from .units import UnitError, parse_quantity
 
 __all__ = ["nominal_value", "draw_samples", "SampleResult", "ToleranceResult", "run_tolerance",
