@@ -298,10 +298,18 @@ def margin_rows(case: Case, fe: FEResult) -> list[Row]:
 def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult) -> tuple[str, ...]:
     """Short notes, in the trade's words, on where the differences come from."""
     r = {row.key: row for row in rows}
-    notes = ["Like for like: the hand column is the magnetic circuit with in-plane fringing only, "
-             "the FE column the planar field solution for the stack depth; '3D' columns add the "
-             f"depth-direction fringing of the '{hand_p.fringing_model}' model. A planar model sees "
-             "no end-turn leakage."]
+    from .coremodel import core_model
+
+    rz = core_model(case).axisymmetric
+    if rz:
+        notes = ["The FE is an axisymmetric (r-z) field solution, a full 3D one for a part "
+                 "round about its axis: the hand column is the whole magnetic circuit, its gap "
+                 "fringing included, and the '3D' columns repeat the others."]
+    else:
+        notes = ["Like for like: the hand column is the magnetic circuit with in-plane fringing "
+                 "only, the FE column the planar field solution for the stack depth; '3D' "
+                 f"columns add the depth-direction fringing of the '{hand_p.fringing_model}' "
+                 "model. A planar model sees no end-turn leakage."]
     for w in plausibility_issues(case):
         notes.append(f"Check the input: {w}.")
     if all(w.current == 0.0 for w in case.windings):
@@ -338,8 +346,9 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                      f"the core area is above {peak:.2f} T, so the hand model's uniform-B "
                      "assumption does not hold there" + _inductance_direction(r["inductance"]))
     notes.append(f"Peak core B is the |B| exceeded on 0.5 % of the core area. The pointwise "
-                 f"maximum, {fe.fine.max_B:.2f} T at x = {x * 1e3:.1f} mm, y = {y * 1e3:.1f} mm, "
-                 "sits at a sharp corner where a planar model's field is singular; it grows as "
+                 f"maximum, {fe.fine.max_B:.2f} T at {'r' if rz else 'x'} = {x * 1e3:.1f} mm, "
+                 f"{'z' if rz else 'y'} = {y * 1e3:.1f} mm, "
+                 "sits at a sharp corner where a 2D model's field is singular; it grows as "
                  "the mesh is refined and is not a design figure.")
     unc = [row for row in rows if row.key != "peak_B" and row.uncertainty_pct > UNCERTAIN_PCT]
     if unc:

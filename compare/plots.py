@@ -35,8 +35,9 @@ def _zoom(ax, res: CheckResult, pad: float = 0.25) -> None:
     ax.set_xlim((x0 - dx) * 1e3, (x1 + dx) * 1e3)
     ax.set_ylim((y0 - dy) * 1e3, (y1 + dy) * 1e3)
     ax.set_aspect("equal")
-    ax.set_xlabel("x (mm)")
-    ax.set_ylabel("y (mm)")
+    rz = res.fe.solution.assembler.formulation.name == "axisymmetric"
+    ax.set_xlabel("r (mm)" if rz else "x (mm)")
+    ax.set_ylabel("z (mm)" if rz else "y (mm)")
 
 
 def _outlines(ax, res: CheckResult, lw: float = 1.2) -> None:
@@ -105,7 +106,8 @@ def flux_levels(res: CheckResult, lines: int = FLUX_LINES) -> tuple[np.ndarray, 
     neighbouring lines (Wb).
 
     In the planar model the flux (per the stack depth d) between two points
-    is d (A2 - A1) (REFERENCES.md section 5), so equally spaced levels make
+    is d (A2 - A1) (REFERENCES.md section 5), in the r-z model 2 pi (u2 - u1)
+    with u = r A_phi the unknown, so equally spaced levels make
     the number of lines crossing any segment proportional to the flux through
     it, in the window as in the limbs.  The step is a 1-2-5 number and A = 0
     (the box boundary) is one of the levels.
@@ -117,7 +119,7 @@ def flux_levels(res: CheckResult, lines: int = FLUX_LINES) -> tuple[np.ndarray, 
         return np.array([]), 0.0
     step = _nice_step((hi - lo) / lines)
     levels = np.arange(math.floor(lo / step) + 1, math.ceil(hi / step)) * step
-    return levels, step * sol.mesh.layout.depth
+    return levels, step * sol.assembler.formulation.total  # depth, or 2 pi round the axis
 
 
 def _si(value: float, unit: str) -> str:
@@ -153,8 +155,11 @@ def _iron_mask(res: CheckResult) -> np.ndarray:
 def flux_caption(res: CheckResult) -> str:
     """What the flux plot shows, with the flux per line."""
     _, per_line = flux_levels(res)
+    sol = res.fe.solution
+    where = ("round the axis" if sol.assembler.formulation.name == "axisymmetric"
+             else f"through the {sol.mesh.layout.depth * 1e3:g} mm stack")
     return (f"Flux lines (equally spaced contours of A: one solid line per {_si(per_line, 'Wb')} "
-            f"of flux through the {res.fe.solution.mesh.layout.depth * 1e3:g} mm stack; in the "
+            f"of flux {where}; in the "
             f"air, dotted lines at one per {_si(per_line / AIR_LINE_FACTOR, 'Wb')} show the "
             f"leakage and fringing flux) over |B| on a logarithmic scale spanning {B_DECADES} "
             "decades.")

@@ -37,7 +37,10 @@ def print_check(res: CheckResult, out) -> None:
     notes.append(f"FE: {fe.nelements} elements, P{c.fe.order}, {fe.ndofs} DOFs, "
                  f"{fe.iterations} Newton steps to residual {fe.residual:.1e}; "
                  f"run time {res.timings['total']:.1f} s.")
-    render_table(f"{c.name}: hand calc vs planar FE, N = {w.turns}, I = {w.current:g} A "
+    from ..coremodel import core_model
+
+    form = "axisymmetric" if core_model(c).axisymmetric else "planar"
+    render_table(f"{c.name}: hand calc vs {form} FE, N = {w.turns}, I = {w.current:g} A "
                  f"({res.hand_planar.fringing_model} fringing)", TABLE_COLUMNS, rows, out,
                  notes=notes)
     if res.fringing_ranking:
