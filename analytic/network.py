@@ -50,6 +50,8 @@ from typing import Any, Mapping, Sequence
 import numpy as np
 from numpy.typing import NDArray
 
+from .constants import mu_0
+
 logger = logging.getLogger(__name__)
 
 _ARMIJO_C1 = 1e-4  # sufficient-decrease constant (standard choice, Nocedal & Wright 2006, ch. 3)
@@ -156,6 +158,50 @@ class GapBranch:
 
 
 @dataclass(frozen=True)
+class MagnetBranch:
+    """A permanent magnet with a linear recoil line, magnetised a -> b.
+
+    B = mu0 mu_r H + B_r along the branch, so its flux is
+    phi = P (F + F_c) with the internal permeance P = mu0 mu_r A / l and the
+    coercive MMF F_c = H_c l = B_r l / (mu0 mu_r): an MMF source F_c behind
+    the internal reluctance l / (mu0 mu_r A), the textbook equivalent circuit
+    of a magnet on its recoil line (Parker, Advances in Permanent Magnetism,
+    1990, ch. 4 [from memory]).  F is the magnet's own H drop (negative at a
+    working point: H opposes B inside the magnet).
+
+    Attributes
+    ----------
+    length : magnet length along its magnetisation l_m (m).
+    area : pole face area A_m (m^2).
+    remanence : B_r (T, > 0; reverse a and b for the other sense).
+    mu_r : recoil permeability (> 0, typically 1.02-1.1).
+    """
+
+    name: str
+    node_a: str
+    node_b: str
+    length: float
+    area: float
+    remanence: float
+    mu_r: float = 1.05
+
+    def __post_init__(self) -> None:
+        for key in ("length", "area", "remanence", "mu_r"):
+            object.__setattr__(self, key, _positive("magnet branch", self.name, key,
+                                                    getattr(self, key)))
+
+    @property
+    def permeance(self) -> float:
+        """Internal permeance P = mu0 mu_r A / l (Wb/A)."""
+        return mu_0 * self.mu_r * self.area / self.length
+
+    @property
+    def coercive_mmf(self) -> float:
+        """F_c = H_c l = B_r l / (mu0 mu_r) (A)."""
+        return self.remanence * self.length / (mu_0 * self.mu_r)
+
+
+@dataclass(frozen=True)
 class Winding:
     """MMF source N*I (A) acting in branch ``branch`` in its a -> b direction.
 
@@ -194,12 +240,12 @@ class Network:
     ----------
     nodes : tuple of str
         Node names; the first is grounded (potential 0).
-    branches : tuple of CoreBranch | GapBranch
+    branches : tuple of CoreBranch | GapBranch | MagnetBranch
     windings : tuple of Winding
     """
 
     nodes: tuple[str, ...]
-    branches: tuple[CoreBranch | GapBranch, ...]
+    branches: tuple[CoreBranch | GapBranch | MagnetBranch, ...]
     windings: tuple[Winding, ...] = ()
 
     def __post_init__(self) -> None:
@@ -247,8 +293,8 @@ def _validate_network(net: Network) -> None:
         raise NetworkError("network has no branches")
     _check_unique(net.nodes, "node")
     for br in net.branches:
-        if not isinstance(br, (CoreBranch, GapBranch)):
-            raise NetworkError(f"branch {br!r} is neither a CoreBranch nor a GapBranch")
+        if not isinstance(br, (CoreBranch, GapBranch, MagnetBranch)):
+            raise NetworkError(f"branch {br!r} is not a CoreBranch, GapBranch or MagnetBranch")
     _check_unique([b.name for b in net.branches], "branch")
     _check_unique([w.name for w in net.windings], "winding")
     nodes = set(net.nodes)
@@ -289,10 +335,12 @@ def _check_connected(net: Network) -> None:
 # --------------------------------------------------------------------------- branch laws
 
 
-def _branch_flux(br: CoreBranch | GapBranch, f: float) -> tuple[float, float]:
+def _branch_flux(br: CoreBranch | GapBranch | MagnetBranch, f: float) -> tuple[float, float]:
     """Flux phi (Wb) and d phi/dF (Wb/A) of one branch at MMF drop f (A)."""
     if isinstance(br, GapBranch):
         return br.permeance * f, br.permeance
+    if isinstance(br, MagnetBranch):
+        return br.permeance * (f + br.coercive_mmf), br.permeance
     b = float(br.material.b_of_h(f / br.length))
     dbdh = 1.0 / float(br.material.dh_db(b))
     return br.area * b, br.area * dbdh / br.length
@@ -313,7 +361,7 @@ class BranchResult:
     Attributes
     ----------
     kind : str
-        "core" or "gap".
+        "core", "gap", "leakage" or "magnet".
     area : float
         Cross-section (m^2); the effective area for gaps.
     flux : float
@@ -366,7 +414,8 @@ class NetworkResult:
     incremental_inductance_matrix : ndarray, shape (n_windings, n_windings)
         Full d lambda_v / d I_w (H), rows/columns in ``Network.windings`` order.
     energy, coenergy : float
-        Sums over branches (J); energy + coenergy = sum of lambda*I at the solution.
+        Sums over branches (J); without magnets energy + coenergy = sum of
+        lambda*I at the solution.
     """
 
     converged: bool
@@ -431,9 +480,9 @@ class _TreeCoordinates:
         return self.p @ (x - s[self.tree])
 
 
-def _permeance_estimate(br: CoreBranch | GapBranch) -> float:
+def _permeance_estimate(br: CoreBranch | GapBranch | MagnetBranch) -> float:
     """Permeance at zero field (Wb/A), used only to choose the tree."""
-    if isinstance(br, GapBranch):
+    if isinstance(br, (GapBranch, MagnetBranch)):
         return br.permeance
     return br.area / (br.length * float(br.material.dh_db(0.0)))
 
@@ -506,7 +555,9 @@ def _initial_drops(net: Network, coords: _TreeCoordinates, s: NDArray, flux0: An
     if not np.all(np.isfinite(phi0)):
         raise NetworkError(f"flux0: non-finite value in {phi0.tolist()}")
     f0 = [
-        p / br.permeance if isinstance(br, GapBranch) else float(br.material.h_of_b(p / br.area)) * br.length
+        p / br.permeance if isinstance(br, GapBranch)
+        else p / br.permeance - br.coercive_mmf if isinstance(br, MagnetBranch)
+        else float(br.material.h_of_b(p / br.area)) * br.length
         for br, p in zip(net.branches, phi0)
     ]
     return np.array(f0)[coords.tree]
@@ -613,6 +664,13 @@ def _branch_results(net: Network, f: NDArray, phi: NDArray) -> tuple[BranchResul
             energy = pk**2 / (2 * br.permeance)
             coenergy = 0.5 * br.permeance * fk**2
             kind = br.kind
+        elif isinstance(br, MagnetBranch):
+            # the recoil law's field energy, mu H^2/2 per volume, and the
+            # co-energy int_0^H B dH = mu H^2/2 + B_r H (as fem2d.post.coenergy)
+            area = br.area
+            energy = 0.5 * br.permeance * fk**2
+            coenergy = energy + br.remanence * area * fk
+            kind = "magnet"
         else:
             area = br.area
             b = pk / area
