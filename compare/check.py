@@ -186,7 +186,10 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
     """The comparison rows."""
     rows = []
     k3 = depth_corrections(hand_p, hand_3d)
-    zero = all(w.current == 0.0 for w in case.windings)
+    from .coremodel import core_model
+
+    zero = (all(w.current == 0.0 for w in case.windings)
+            and core_model(case).sourceless_at_zero_current)
     for k in HAND_KEYS:
         h, f, u = hand_p.values()[k], fe.values[k], fe.uncertainty.get(k, math.nan)
         d = math.nan if (zero and k in ZERO_AT_ZERO_CURRENT) else _diff_pct(h, f)
@@ -312,7 +315,7 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                  "model. A planar model sees no end-turn leakage."]
     for w in plausibility_issues(case):
         notes.append(f"Check the input: {w}.")
-    if all(w.current == 0.0 for w in case.windings):
+    if all(w.current == 0.0 for w in case.windings) and not core_model(case).magnets:
         notes.append("At zero current the flux, flux linkage, gap B, core B, path-averaged H and "
                      "stored energy are zero in both models: no difference, verdict n/a. The "
                      "secant inductance is given as its small-signal limit, the incremental "

@@ -23,11 +23,13 @@ from typing import Any
 
 from analytic.fringing import GapFace
 from fem2d.layout import Region
+from fem2d.sources import Magnet
 
 from .geometry import Limb, coil_rects, gap_rect
 
 
 __all__ = ["CoreModel", "CoilModel", "GapLine", "HandCircuit", "CircuitSegment", "CircuitGap",
+           "CircuitMagnet",
            "core_model", "coil_name", "coil_regions", "WINDING", "COIL_PLUS", "COIL_MINUS"]
 
 Point = tuple[float, float]
@@ -117,6 +119,21 @@ class CircuitGap:
 
 
 @dataclass(frozen=True)
+class CircuitMagnet:
+    """A permanent magnet of a hand circuit (analytic.network.MagnetBranch):
+    length l_m and face area A_m (m, m^2), remanence B_r (T) and recoil mu_r,
+    magnetised from node_a to node_b."""
+
+    name: str
+    node_a: str
+    node_b: str
+    length: float
+    area: float
+    remanence: float
+    mu_r: float
+
+
+@dataclass(frozen=True)
 class HandCircuit:
     """A magnetic circuit given explicitly (the user's own hand model).
 
@@ -131,6 +148,7 @@ class HandCircuit:
     windings: tuple[tuple[str, int], ...]
     gap_B: str | None
     flux_branch: str
+    magnets: tuple[CircuitMagnet, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -154,6 +172,7 @@ class CoreModel:
         (None: not measured).
     gap_line : for the figure of B across the first gap (None: no figure).
     circuit : the hand circuit, when the family gives it explicitly.
+    magnets : permanent magnets (fem2d sources), by region.
     """
 
     symmetry: str
@@ -169,6 +188,12 @@ class CoreModel:
     flux_line: tuple[Point, Point] | None = None
     gap_line: GapLine | None = None
     circuit: HandCircuit | None = None
+    magnets: tuple[Magnet, ...] = ()
+
+    @property
+    def sourceless_at_zero_current(self) -> bool:
+        """True when every field vanishes with the winding currents (no magnet)."""
+        return not self.magnets
 
     @property
     def axisymmetric(self) -> bool:

@@ -270,10 +270,12 @@ def geometry_key(case: Case, refine: float = 1.0) -> Layout:
 
 
 def winding_sources(case: Case) -> Sources:
-    """The case's windings as fem2d coils (CoreModel.coils, in winding order)."""
+    """The case's windings as fem2d coils (CoreModel.coils, in winding order),
+    and its permanent magnets."""
+    model = core_model(case)
     return Sources(coils=tuple(Coil(coil_name(k), c.sides, turns=w.turns)
-                               for k, (w, c) in enumerate(zip(case.windings,
-                                                              core_model(case).coils))))
+                               for k, (w, c) in enumerate(zip(case.windings, model.coils))),
+                   magnets=model.magnets)
 
 
 def winding_currents(case: Case) -> dict[str, float]:

@@ -11,14 +11,18 @@ its stack depth) or axisymmetric (r-z, the shapes in r >= 0)::
 
     [core]      symmetry = "planar" | "axisymmetric", depth (planar)
     [shapes]    units = "mm" (the points' unit), dxf = "drawing.dxf" (optional)
-    [[regions]] name, kind = "core" | "gap" | "coil", points = [[x, y], [x, y, bulge], ...],
-                holes = [[[x, y], ...], ...]; core: material (a [materials] entry,
-                default "core"); coil: winding (its name), side = "go" | "return"
+    [[regions]] name, kind = "core" | "gap" | "coil" | "magnet",
+                points = [[x, y], [x, y, bulge], ...], holes = [[[x, y], ...], ...];
+                core: material (a [materials] entry, default "core"); coil: winding
+                (its name), side = "go" | "return"; magnet: remanence, direction
+                (degrees from +x, or [x, y]), mu_r (recoil, default 1.05)
     [circuit]   gap_B (a circuit gap drawn as the region of that name),
                 path (polyline), flux_line ([[x0, y0], [x1, y1]]), core_B (regions),
                 windings = {NAME = "BRANCH" or "-BRANCH"}
     [[circuit.segments]] name, length, area, material, on_path, from, to
     [[circuit.gaps]]     name, length, width, depth, free_height, fringing, from, to
+    [[circuit.magnets]]  name, length, area, remanence, mu_r (default: the magnet
+                         region of its name), from, to (magnetised from -> to)
 
 A point's optional third number is the bulge of the edge to the next point
 (tan of a quarter of the arc's included angle, positive counter-clockwise),
@@ -42,7 +46,10 @@ import numpy as np
 from analytic.fringing import FRINGING_MODELS, GapFace, GapFaceError
 from fem2d.layout import LayoutError, Polygon, Region, crossing_between, point_in_polygon
 
-from ..coremodel import CircuitGap, CircuitSegment, CoilModel, CoreModel, HandCircuit
+from fem2d.sources import Magnet
+
+from ..coremodel import (CircuitGap, CircuitMagnet, CircuitSegment, CoilModel, CoreModel,
+                         HandCircuit)
 from ..errors import CaseError
 from ..reader import TableReader
 from ..units import UnitError, parse_quantity
@@ -50,7 +57,7 @@ from ..units import UnitError, parse_quantity
 
 __all__ = ["DrawnCore", "DrawnCoreDims", "DrawnRegion"]
 
-KINDS = ("core", "gap", "coil")
+KINDS = ("core", "gap", "coil", "magnet")
 SIDES = ("go", "return")
 
 Point = tuple[float, float]
@@ -59,7 +66,8 @@ Point = tuple[float, float]
 @dataclass(frozen=True)
 class DrawnRegion:
     """One drawn region: its shapes (m), kind, and for a core part its
-    ``[materials]`` entry, for a coil side its winding and side (+1 go, -1 return)."""
+    ``[materials]`` entry, for a coil side its winding and side (+1 go, -1
+    return), for a magnet its remanence vector and recoil permeability."""
 
     name: str
     kind: str
@@ -67,6 +75,10 @@ class DrawnRegion:
     material: str = "core"
     winding: str = ""
     side: int = 1
+    remanence: tuple[float, float] = (0.0, 0.0)
+    """A magnet's remanence B_r (T) as an (x, y) or (r, z) vector."""
+    mu_r: float = 1.0
+    """A magnet's recoil permeability."""
 
     @property
     def area(self) -> float:
@@ -91,6 +103,7 @@ class DrawnCoreDims:
     path: tuple[Point, ...]
     flux_line: tuple[Point, Point]
     core_B: tuple[str, ...]
+    magnets: tuple[CircuitMagnet, ...] = ()
     source: str = ""
     """The DXF drawing the outlines came from ("" when drawn in the case file)."""
 
@@ -161,10 +174,10 @@ class DrawnCore:
         _check_overlaps(regions)
         circ = TableReader(tables.get("circuit") if tables.get("circuit") is not None else
                            _missing("circuit"), "circuit")
-        segs, gaps, cw, gap_B, path, flux_line, core_B = _read_circuit(circ, symmetry, depth,
-                                                                      regions, unit)
+        segs, gaps, cw, gap_B, path, flux_line, core_B, mags = _read_circuit(
+            circ, symmetry, depth, regions, unit)
         return DrawnCoreDims(symmetry, depth, regions, segs, gaps, cw, gap_B, path, flux_line,
-                             core_B, source=source)
+                             core_B, mags, source=source)
 
     def part_names(self, c: DrawnCoreDims) -> tuple[str, ...]:
         """The core regions' materials beyond ``core`` (each a [materials] entry)."""
@@ -214,7 +227,7 @@ class DrawnCore:
     # ------------------------------------------------------ both models
     def core_model(self, case: Any) -> CoreModel:
         c: DrawnCoreDims = case.core
-        order = {"core": 0, "gap": 1, "coil": 2}
+        order = {"core": 0, "magnet": 1, "gap": 2, "coil": 3}
         regions, materials = [], []
         for r in sorted(c.regions, key=lambda r: order[r.kind]):
             mat = "air" if r.kind != "core" else (r.material if r.material == "core"
@@ -237,12 +250,15 @@ class DrawnCore:
         first = c.segments[0].name
         windings = tuple(by_w.get(w.name, (first, 1)) for w in case.windings)
         flux_branch = windings[0][0]
-        circuit = HandCircuit(c.segments, c.gaps, windings, c.gap_B, flux_branch)
+        circuit = HandCircuit(c.segments, c.gaps, windings, c.gap_B, flux_branch, c.magnets)
+        magnets = tuple(Magnet(r.name, r.remanence, r.mu_r) for r in c.regions
+                        if r.kind == "magnet")
         return CoreModel(
             symmetry=c.symmetry, depth=c.depth, regions=tuple(regions),
             materials=tuple(materials), coils=tuple(coils), core_regions=c.core_B,
             gap_regions=gaps, gap_region=c.gap_B, gap_direction=gap_dir,
-            mean_path=c.path, flux_line=c.flux_line, gap_line=None, circuit=circuit)
+            mean_path=c.path, flux_line=c.flux_line, gap_line=None, circuit=circuit,
+            magnets=magnets)
 
     def describe(self, c: DrawnCoreDims) -> list[tuple[str, str]]:
         rows = [("core.symmetry", c.symmetry)]
@@ -253,12 +269,18 @@ class DrawnCore:
         for r in c.regions:
             what = {"core": f"core part, material {r.material}", "gap": "gap",
                     "coil": f"coil side ({'go' if r.side > 0 else 'return'}) of winding "
-                            f"'{r.winding}'"}[r.kind]
+                            f"'{r.winding}'",
+                    "magnet": f"magnet, B_r = ({r.remanence[0]:.3g}, {r.remanence[1]:.3g}) T, "
+                              f"recoil mu_r {r.mu_r:g}"}[r.kind]
             rows.append((f"region {r.name}", f"{what}, area {r.area * 1e6:.4g} mm^2"))
         for s in c.segments:
             rows.append((f"circuit segment {s.name}",
                          f"{s.node_a} -> {s.node_b}, length {s.length * 1e3:g} mm, area "
                          f"{s.area * 1e6:g} mm^2, material {s.material}"))
+        for m in c.magnets:
+            rows.append((f"circuit magnet {m.name}",
+                         f"{m.node_a} -> {m.node_b}, length {m.length * 1e3:g} mm, area "
+                         f"{m.area * 1e6:g} mm^2, B_r {m.remanence:g} T, mu_r {m.mu_r:g}"))
         for g in c.gaps:
             f = g.face
             rows.append((f"circuit gap {g.name}",
@@ -375,13 +397,41 @@ def _read_region(t: TableReader, unit: float | None, drawn: dict[str, tuple]) ->
         raise CaseError(t.key("points"), None, f"missing: region '{name}' is not drawn (give "
                         "points, or draw it on a DXF layer of its name with [shapes] dxf)")
     material, winding, side = "core", "", 1
+    remanence, mu_r = (0.0, 0.0), 1.0
     if kind == "core":
         material = t.string("material", "core")
     if kind == "coil":
         winding = t.string("winding", "main")
         side = 1 if t.string("side", "go", choices=SIDES) == "go" else -1
+    if kind == "magnet":
+        b_r = t.quantity("remanence", "flux density")
+        if b_r <= 0:
+            raise CaseError(t.key("remanence"), t.raw("remanence"), "must be positive")
+        mu_r = t.number("mu_r", 1.05, lo=0.5, hi=20.0)
+        angle = _direction(t)
+        remanence = (b_r * math.cos(angle), b_r * math.sin(angle))
+        remanence = tuple(0.0 if abs(c) < 1e-15 * b_r else c for c in remanence)  # type: ignore[assignment]
     t.finish()
-    return DrawnRegion(name, kind, shapes, material, winding, side)
+    return DrawnRegion(name, kind, shapes, material, winding, side, remanence, mu_r)
+
+
+def _direction(t: TableReader) -> float:
+    """A magnet's direction of magnetisation: degrees from +x (+r), counter-
+    clockwise (``direction = 90`` is +y or +z), or a vector [x, y]."""
+    raw = t.raw("direction")
+    if isinstance(raw, bool):
+        raise CaseError(t.key("direction"), raw, "must be an angle in degrees or a vector [x, y]")
+    if isinstance(raw, (int, float)):
+        if not math.isfinite(raw):
+            raise CaseError(t.key("direction"), raw, "must be finite")
+        return math.radians(float(raw))
+    ok = (isinstance(raw, list) and len(raw) == 2
+          and all(isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
+                  for v in raw) and math.hypot(*raw) > 0)
+    if not ok:
+        raise CaseError(t.key("direction"), raw, "must be an angle in degrees or a non-zero "
+                                                 "vector [x, y]")
+    return math.atan2(float(raw[1]), float(raw[0]))
 
 
 def _signed_area(pts: Any) -> float:
@@ -455,13 +505,17 @@ def _probe_points(loop: list[Point]) -> list[Point]:
 
 
 def _interior_cross(la: list[Point], lb: list[Point], sa: Any, sb: Any) -> bool:
-    """Edges cross (not only touch): some edge point of one lies strictly inside the other."""
+    """Edges cross (not only touch): some point along an edge of one, moved
+    just inside it (1e-6 of the edge), lies inside the other (a point on a
+    shared edge, moved so, does not)."""
     for loop, other in ((la, sb), (lb, sa)):
         n = len(loop)
         for k in range(n):
             (x0, y0), (x1, y1) = loop[k], loop[(k + 1) % n]
-            for u in (0.25, 0.5, 0.75):
-                if _inside((x0 + u * (x1 - x0), y0 + u * (y1 - y0)), other):
+            for u in (0.125, 0.25, 0.5, 0.75, 0.875):
+                px = x0 + u * (x1 - x0) - 1e-6 * (y1 - y0)
+                py = y0 + u * (y1 - y0) + 1e-6 * (x1 - x0)
+                if _inside((px, py), other):
                     return True
     return False
 
@@ -508,7 +562,8 @@ def _read_circuit(t: TableReader, symmetry: str, depth: float,
                                                   "as [[circuit.segments]] (name, length, area)")
     items: list[tuple[str, TableReader, tuple[str, str] | None]] = []
     names: list[str] = []
-    for kind, ts in (("segment", seg_ts), ("gap", gap_ts)):
+    mag_ts = t.tables("magnets")
+    for kind, ts in (("segment", seg_ts), ("gap", gap_ts), ("magnet", mag_ts)):
         for k, st in enumerate(ts):
             nm = st.string("name", f"{kind}{k}")
             if nm in names:
@@ -523,10 +578,27 @@ def _read_circuit(t: TableReader, symmetry: str, depth: float,
     ends: list[tuple[str, str]] = (
         [n for _, _, n in items if n is not None] if all(given)
         else [(f"n{k}", f"n{(k + 1) % len(items)}") for k in range(len(items))])
-    segments, gaps = [], []
+    segments, gaps, magnets = [], [], []
+    drawn_magnets = {r.name: r for r in regions if r.kind == "magnet"}
     for (kind, st, _), nm, (a, b) in zip(items, names, ends):
         if a == b:
             raise CaseError(st.key("to"), b, "a branch must join two different nodes")
+        if kind == "magnet":
+            # B_r and mu_r default to the drawn magnet region of the same name
+            reg = drawn_magnets.get(nm)
+            if reg is None and not (st.has("remanence") and st.has("mu_r")):
+                raise CaseError(st.key("remanence"), None,
+                                f"missing: give remanence and mu_r, or draw a magnet region "
+                                f"named '{nm}' to take them from")
+            b_r0 = math.hypot(*reg.remanence) if reg is not None else None
+            b_r = st.quantity("remanence", "flux density", b_r0)
+            if not b_r > 0:
+                raise CaseError(st.key("remanence"), st.raw("remanence", None), "must be positive")
+            mu_r = st.number("mu_r", reg.mu_r if reg is not None else None, lo=0.5, hi=20.0)
+            magnets.append(CircuitMagnet(nm, a, b, st.quantity("length", "length"),
+                                         st.quantity("area", "area"), b_r, mu_r))
+            st.finish()
+            continue
         if kind == "segment":
             segments.append(CircuitSegment(
                 nm, a, b, st.quantity("length", "length"), st.quantity("area", "area"),
@@ -597,7 +669,7 @@ def _read_circuit(t: TableReader, symmetry: str, depth: float,
     wt.finish()
     t.finish()
     return (tuple(segments), tuple(gaps), tuple(windings), gap_B, path, (fl[0], fl[1]),
-            tuple(core_B))
+            tuple(core_B), tuple(magnets))
 
 
 def _boolean(t: TableReader, name: str, default: bool) -> bool:
