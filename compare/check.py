@@ -20,7 +20,7 @@ from .case import Case
 
 from .casefile import plausibility_issues
 from .fe import FEResult, run_fe_checked
-from .hand import HAND_KEYS, UNITS, HandResult, gap_face, run_hand, winding_keys
+from .hand import FORCE_KEYS, HAND_KEYS, UNITS, HandResult, gap_face, run_hand, winding_keys
 
 __all__ = ["Row", "CheckResult", "run_check", "DEFAULT_LIMITS", "LABELS", "rank_fringing"]
 
@@ -31,6 +31,10 @@ __all__ = ["Row", "CheckResult", "run_check", "DEFAULT_LIMITS", "LABELS", "rank_
 DEFAULT_LIMITS: dict[str, float] = {
     "gap_B": 10.0, "core_B": 10.0, "path_H": 30.0, "flux": 15.0, "flux_linkage": 15.0,
     "inductance": 15.0, "incremental_inductance": 20.0, "energy": 15.0,
+    # a moving part's pull: the force goes as the gap's MMF squared and its
+    # permeance's derivative, so a hand calc within 20 % is a good one, the
+    # pull formula (no fringing in its face) within 30 % (common practice, no source)
+    "force": 20.0, "force_pull": 30.0,
 }
 
 LABELS = {
@@ -38,6 +42,8 @@ LABELS = {
     "flux_linkage": "flux linkage", "inductance": "inductance (secant)",
     "incremental_inductance": "inductance (incremental)", "energy": "stored energy",
     "peak_B": "peak core B",
+    "force": "force (virtual work)", "force_pull": "force (pull formula)",
+    "force_virtual_work": "force, FE virtual work",
 }
 
 # Quantities that scale with the gap permeance, and so take the depth-fringing factor.
@@ -158,6 +164,36 @@ def fe_3d_factor(case: Case, key: str = "inductance") -> float:
     return depth_corrections(run_hand(case, planar=True), run_hand(case))[key]
 
 
+def force_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
+               fe: FEResult) -> list[Row]:
+    """With a moving part: the hand force by the network's virtual work and
+    by the pull formula, each against the FE's Maxwell stress, and the FE's
+    virtual work (the independent second method) beside them, N along the
+    closing stroke.  The 3D columns scale the FE by the hand model's 3D over
+    planar force (as the other rows)."""
+    if not hand_p.force_values:
+        return []
+    fv = fe.fine.force_values
+    f = fv.get("force", math.nan)
+    u = fe.uncertainty.get("force", math.nan)
+    out = []
+    for k in FORCE_KEYS:
+        h, h3 = hand_p.force_values[k], hand_3d.force_values[k]
+        d = _diff_pct(h, f)
+        lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
+        k3 = h3 / h if h and math.isfinite(h3) else 1.0
+        out.append(Row(k, LABELS[k], "N", h, f, u, d, lim, _verdict(d, h, f, u, lim),
+                       hand_3d=h3, fe_3d=f * k3))
+    vw = fv.get("force_virtual_work", math.nan)
+    if math.isfinite(vw):
+        k3 = (hand_3d.force_values["force"] / hand_p.force_values["force"]
+              if hand_p.force_values["force"] else 1.0)
+        out.append(Row("force_virtual_work", LABELS["force_virtual_work"], "N", math.nan, vw,
+                       fe.uncertainty.get("force_virtual_work", math.nan), math.nan, None,
+                       "info", fe_3d=vw * k3))
+    return out
+
+
 def depth_factor(case: Case) -> float:
     """Out-of-plane fringing factor of the first gap under the case's model (1 if none)."""
     from .hand import hand_circuit
@@ -199,6 +235,7 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
                         hand_3d=hand_3d.values()[k], fe_3d=f3))
     if len(case.windings) > 1:
         rows.extend(winding_rows(case, hand_p, hand_3d, fe))
+    rows.extend(force_rows(case, hand_p, hand_3d, fe))
     peak, limit = fe.fine.peak_B, case.margins.peak_B
     if limit is None:
         verdict, margin = "info", math.nan

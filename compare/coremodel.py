@@ -29,7 +29,7 @@ from .geometry import Limb, coil_rects, gap_rect
 
 
 __all__ = ["CoreModel", "CoilModel", "GapLine", "HandCircuit", "CircuitSegment", "CircuitGap",
-           "CircuitMagnet",
+           "CircuitMagnet", "ForceSpec",
            "core_model", "coil_name", "coil_regions", "WINDING", "COIL_PLUS", "COIL_MINUS"]
 
 Point = tuple[float, float]
@@ -152,6 +152,21 @@ class HandCircuit:
 
 
 @dataclass(frozen=True)
+class ForceSpec:
+    """A moving part: the force on it along its stroke.
+
+    body : the regions that move together (core parts, magnets).
+    direction : unit vector of the motion that closes its working gaps; the
+        force is reported along it (positive: it pulls the gaps shut).
+    gaps : the hand circuit's gaps that this motion shortens one for one.
+    """
+
+    body: tuple[str, ...]
+    direction: Point
+    gaps: tuple[str, ...]
+
+
+@dataclass(frozen=True)
 class CoreModel:
     """A case's core as the field model meshes and measures it.
 
@@ -173,6 +188,7 @@ class CoreModel:
     gap_line : for the figure of B across the first gap (None: no figure).
     circuit : the hand circuit, when the family gives it explicitly.
     magnets : permanent magnets (fem2d sources), by region.
+    force : the moving part, when the case has one.
     """
 
     symmetry: str
@@ -189,6 +205,7 @@ class CoreModel:
     gap_line: GapLine | None = None
     circuit: HandCircuit | None = None
     magnets: tuple[Magnet, ...] = ()
+    force: ForceSpec | None = None
 
     @property
     def sourceless_at_zero_current(self) -> bool:

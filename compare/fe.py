@@ -81,6 +81,10 @@ class FEQuantities:
     winding_values: dict[str, float] = field(default_factory=dict)
     """Per winding: flux linkage (Wb) and the incremental inductance matrix
     (H), under the flat keys of compare.hand.winding_keys."""
+    force_values: dict[str, float] = field(default_factory=dict)
+    """With a moving part: ``force`` and ``force_maxwell`` (the weighted
+    Maxwell stress, N along the closing stroke) and, on the finest mesh of
+    a check, ``force_virtual_work`` (fem2d.force, two more solves)."""
 
 
 @dataclass(frozen=True)
@@ -188,6 +192,14 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
         vals["inductance"] = vals["incremental_inductance"]
     vals["energy"] = post.energy(sol)
     wv = _winding_values(case, sol, vals)
+    fv = {}
+    if model.force is not None:
+        from fem2d.force import maxwell_force
+
+        fx, fy = maxwell_force(sol, model.force.body).force
+        dx, dy = model.force.direction
+        fv = {"force": fx * dx + fy * dy}
+        fv["force_maxwell"] = fv["force"]
     peak, at = post.peak_b(sol, cores)
     # A laminated core is solved homogenised (_materials): its B is the
     # flux over the gross area. Core B and peak B are reported in the iron,
@@ -199,7 +211,7 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
                      iterations=sol.iterations, residual=float(sol.residual_history[-1]),
                      ndofs=sol.ndofs, nelements=int(sol.mesh.mesh.t.shape[1]),
                      element_size=sol.mesh.layout.core_size(), seconds=seconds,
-                     winding_values=wv)
+                     winding_values=wv, force_values=fv)
     return q, samples, dA_dI
 
 
@@ -368,8 +380,9 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
     """
     if not estimate_error:
         q, sol, samples = run_fe(case)
-        return FEResult(q, None, {k: math.nan for k in (*HAND_KEYS, *q.winding_values)}, sol,
-                        samples)
+        q = _with_virtual_work(case, q, sol)
+        return FEResult(q, None, {k: math.nan for k in (*HAND_KEYS, *q.winding_values,
+                                                        *q.force_values)}, sol, samples)
     guard_mesh_size(case, refine=REFINE)  # the finest mesh checked before any is made
     coarsest, sol0, _ = run_fe(case, refine=1.0 / REFINE)
     mid_mesh = mesh_case(case)
@@ -381,4 +394,23 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
     unc["peak_B"] = uncertainty_rule(coarsest.peak_B, coarse.peak_B, fine.peak_B)
     unc.update({k: uncertainty_rule(coarsest.winding_values[k], coarse.winding_values[k], v)
                 for k, v in fine.winding_values.items()})
+    unc.update({k: uncertainty_rule(coarsest.force_values[k], coarse.force_values[k], v)
+                for k, v in fine.force_values.items()})
+    fine = _with_virtual_work(case, fine, sol)
+    unc["force_virtual_work"] = unc.get("force", math.nan)
     return FEResult(fine, coarse, unc, sol, samples)
+
+
+def _with_virtual_work(case: Case, q: FEQuantities, sol: FieldSolution) -> FEQuantities:
+    """The quantities with the moving part's force by virtual work
+    (fem2d.force.virtual_work_force: the independent second method, two
+    solves with the body moved by -/+ delta); unchanged without one.  Its
+    uncertainty is taken as the Maxwell stress's (the two agree to 1e-3 or
+    better on the selftest's cases; the discretisation error is the mesh's)."""
+    spec = core_model(case).force
+    if spec is None:
+        return q
+    from fem2d.force import virtual_work_force
+
+    vw = virtual_work_force(sol, spec.body, spec.direction)
+    return replace(q, force_values={**q.force_values, "force_virtual_work": float(vw.force)})

@@ -26,7 +26,8 @@ from .coremodel import HandCircuit, core_model
 from .geometry import flux_direction
 from .errors import CaseError, RunError
 
-__all__ = ["HandResult", "build_network", "run_hand", "WINDING_NAME", "HAND_KEYS", "signed"]
+__all__ = ["HandResult", "build_network", "run_hand", "WINDING_NAME", "HAND_KEYS", "signed",
+           "FORCE_KEYS", "hand_forces"]
 
 log = logging.getLogger(__name__)
 
@@ -36,7 +37,12 @@ HAND_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
              "incremental_inductance", "energy")
 """Quantity keys of the hand JSON (a contract: later versions and scripts rely on them)."""
 
-UNITS = {"gap_B": "T", "core_B": "T", "path_H": "A/m", "flux": "Wb", "flux_linkage": "Wb",
+FORCE_KEYS = ("force", "force_pull")
+"""Hand force keys of a case with a moving part (N, along its closing stroke):
+the network's virtual work and the Maxwell pull formula."""
+
+UNITS = {"force": "N", "force_pull": "N", "force_maxwell": "N", "force_virtual_work": "N",
+         "gap_B": "T", "core_B": "T", "path_H": "A/m", "flux": "Wb", "flux_linkage": "Wb",
          "inductance": "H", "incremental_inductance": "H", "energy": "J"}
 
 
@@ -315,6 +321,10 @@ class HandResult:
     winding_values: dict[str, float] = field(default_factory=dict)
     """Per winding: flux linkage (Wb) and the incremental inductance matrix
     (H), under the flat keys of :func:`winding_keys`."""
+    force_values: dict[str, float] = field(default_factory=dict)
+    """With a moving part (compare.coremodel.ForceSpec): the force on it
+    along its closing stroke (N), ``force`` by the network's virtual work,
+    ``force_pull`` by the Maxwell pull formula (:func:`hand_forces`)."""
 
     def values(self) -> dict[str, float]:
         return {k: getattr(self, k) for k in HAND_KEYS}
@@ -344,7 +354,37 @@ class HandResult:
         out["flux_linkages"] = [_json_float(v) for v in self.flux_linkages()]
         out["inductance_matrix"] = [[_json_float(v) for v in row]
                                     for row in self.inductance_matrix()]
+        for k in FORCE_KEYS:  # N along the stroke, positive closing; null without a moving part
+            out[k] = _json_float(self.force_values.get(k, math.nan))
         return out
+
+
+def hand_forces(case: Case, net: Network, res: NetworkResult) -> dict[str, float]:
+    """The hand forces on the case's moving part (N, along the closing
+    stroke), {} without one.
+
+    force : the network's virtual work, the sum over the working gaps of
+        -(1/2) F^2 dP/dg (analytic.force.gap_forces: dW'/dx at constant
+        current, exact for the network, every fringing model).
+    force_pull : the Maxwell pull formula, the sum over the working gaps
+        of phi^2 / (2 mu0 A) with phi the gap's flux and A its pole face
+        (width x depth): the uniform-field stress B^2/(2 mu0) on the face
+        (analytic.force.maxwell_pull).
+    """
+    from analytic.force import gap_forces, maxwell_pull
+
+    circuit = hand_circuit(case)
+    spec = core_model(case).force if circuit is not None else None
+    if spec is None or circuit is None:
+        return {}
+    faces = {g.name: g.face for g in circuit.gaps}
+    vw = gap_forces(net, res)
+    pull = 0.0
+    for name in spec.gaps:
+        face = faces[name]
+        area = face.width * face.depth
+        pull += maxwell_pull(res.branch(name).flux / area, area)
+    return {"force": float(sum(vw[n] for n in spec.gaps)), "force_pull": float(pull)}
 
 
 def signed(magnitude: float, current: float) -> float:
@@ -548,6 +588,7 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
          "mmf_drop": signed(b.mmf_drop, i), "energy": b.energy}
         for b in res.branches)
     return HandResult(
+        force_values=hand_forces(case, net, res),
         case_name=case.name,
         fringing_model=get_fringing(fringing or case.hand.fringing).name,
         planar=planar,

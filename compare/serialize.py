@@ -94,6 +94,12 @@ def check_json(res: CheckResult) -> dict:
     fe_block["uncertainty"]["flux_linkages"] = [fe.uncertainty.get(k) for k in lam_keys]
     fe_block["uncertainty"]["inductance_matrix"] = [[fe.uncertainty.get(k) for k in row]
                                                     for row in l_keys]
+    # a moving part's force (N along its closing stroke; null without one):
+    # fe.force is the Maxwell stress's, fe.force_virtual_work the second method
+    fv = fe.fine.force_values
+    for k in ("force", "force_maxwell", "force_virtual_work"):
+        fe_block[k] = fv.get(k)
+    fe_block["uncertainty"]["force"] = fe.uncertainty.get("force")
     case = res.case
     return {
         "case": {"name": case.name, "family": case.family, "file": case.source,

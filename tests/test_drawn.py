@@ -433,3 +433,94 @@ def test_bad_magnets_name_the_key(mutate, key, words):
     with pytest.raises(CaseError) as info:
         case_from_dict(d)
     assert info.value.key == key and words in str(info.value)
+
+
+def _clapper(gap_mm: float = 0.5, fringing: str = "area") -> dict:
+    """A U core (40 x 30 mm, 10 mm legs, 20 mm deep) and an armature bar
+    8 mm thick across both legs at ``gap_mm``, 200 turns on the left leg,
+    2 A: a clapper relay drawn by hand; invented for the test."""
+    g = gap_mm
+    top = 30 + g
+    u = [[0, 0], [40, 0], [40, 30], [30, 30], [30, 10], [10, 10], [10, 30], [0, 30]]
+    return {
+        "case": {"name": "clapper", "family": "drawn"},
+        "core": {"depth": "20 mm"},
+        "shapes": {"units": "mm"},
+        "regions": [
+            {"name": "u", "kind": "core", "points": u},
+            {"name": "armature", "kind": "core",
+             "points": [[0, top], [40, top], [40, top + 8], [0, top + 8]]},
+            {"name": "gapL", "kind": "gap", "points": [[0, 30], [10, 30], [10, top], [0, top]]},
+            {"name": "gapR", "kind": "gap",
+             "points": [[30, 30], [40, 30], [40, top], [30, top]]},
+            {"name": "c+", "kind": "coil", "points": [[12, 12], [18, 12], [18, 26], [12, 26]]},
+            {"name": "c-", "kind": "coil", "side": "return",
+             "points": [[-8, 12], [-2, 12], [-2, 26], [-8, 26]]},
+        ],
+        "windings": [{"name": "main", "turns": 200, "current": "2 A"}],
+        "circuit": {
+            "path": [[5, 5], [5, top + 4], [35, top + 4], [35, 5], [5, 5]],
+            "flux_line": [[0, 20], [10, 20]],
+            "windings": {"main": "left"},
+            "segments": [{"name": "left", "length": "25 mm", "area": "200 mm^2"},
+                         {"name": "armature", "length": "38 mm", "area": "160 mm^2"},
+                         {"name": "right", "length": "25 mm", "area": "200 mm^2"},
+                         {"name": "yoke", "length": "30 mm", "area": "200 mm^2"}],
+            "gaps": [{"name": "gapL", "length": f"{g} mm", "width": "10 mm"},
+                     {"name": "gapR", "length": f"{g} mm", "width": "10 mm"}]},
+        "force": {"body": ["armature"], "direction": -90},
+        "materials": {"core": "demo-sisteel"},
+        "hand": {"fringing": fringing},
+    }
+
+
+def test_pull_formula_equals_the_network_virtual_work_for_ideal_gaps():
+    # Source: exact. For P = mu0 A/g, -(1/2) F^2 dP/dg = (1/2) F^2 P/g =
+    # phi^2 / (2 mu0 A): the pull formula is the virtual work of ideal gaps
+    h = run_hand(case_from_dict(_clapper(fringing="none")))
+    assert h.force_values["force"] > 0  # the armature is pulled shut
+    assert h.force_values["force_pull"] == pytest.approx(h.force_values["force"], rel=1e-10)
+
+
+@pytest.mark.parametrize("fringing", ["area", "flux-factor"])
+def test_hand_force_is_minus_the_coenergy_derivative_along_the_stroke(fringing):
+    # the closing force at constant current is -dW'/dg with both gaps
+    # changed together (the armature's stroke): a central difference of two
+    # network solves at g -/+ 1e-3 g (truncation ~1e-6)
+    h = run_hand(case_from_dict(_clapper(0.5, fringing)))
+    wm = run_hand(case_from_dict(_clapper(0.5 - 5e-4, fringing))).network.coenergy
+    wp = run_hand(case_from_dict(_clapper(0.5 + 5e-4, fringing))).network.coenergy
+    assert h.force_values["force"] == pytest.approx(-(wp - wm) / 1e-6, rel=1e-5)  # dg = 2 x 0.5 um
+
+
+@pytest.mark.slow
+def test_clapper_check_gives_force_rows_and_both_fe_methods_agree(tmp_path):
+    from compare.check import run_check
+    from compare.serialize import check_json
+
+    res = run_check(case_from_dict(_clapper()))
+    rows = {r.key: r for r in res.rows}
+    fe = res.fe.fine.force_values
+    assert fe["force"] > 0 and rows["force"].fe == fe["force_maxwell"]
+    # two independent FE methods (fem2d.force): within 1e-3, as the selftest holds them
+    assert fe["force_virtual_work"] == pytest.approx(fe["force_maxwell"], rel=1e-3)
+    assert rows["force_pull"].hand == res.hand_planar.force_values["force_pull"]
+    assert rows["force"].uncertainty_pct < 5
+    doc = check_json(res)
+    assert doc["fe"]["force"] == fe["force"] and doc["hand"]["force"] > 0
+    assert doc["fe"]["force_virtual_work"] == fe["force_virtual_work"]
+
+
+@pytest.mark.parametrize("mutate, key, words", [
+    (_set("force.body", ["armtaure"]), "force.body", "did you mean 'armature'"),
+    (_set("force.body", ["u", "armature"]), "force.body", "every core part moves"),
+    (_set("force.gaps", ["gapX"]), "force.gaps", "names no circuit gap"),
+    (_set("force.gaps", []), "force.gaps", "no working gap"),
+    (_set("force.direction", [0, 0]), "force.direction", "non-zero"),
+])
+def test_bad_force_tables_name_the_key(mutate, key, words):
+    d = _clapper()
+    mutate(d)
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == key and words in str(info.value)

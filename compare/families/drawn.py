@@ -23,6 +23,8 @@ its stack depth) or axisymmetric (r-z, the shapes in r >= 0)::
     [[circuit.gaps]]     name, length, width, depth, free_height, fringing, from, to
     [[circuit.magnets]]  name, length, area, remanence, mu_r (default: the magnet
                          region of its name), from, to (magnetised from -> to)
+    [force]     body (moving regions), direction (of the closing motion), gaps
+                (the circuit gaps it shortens; default all)
 
 A point's optional third number is the bulge of the edge to the next point
 (tan of a quarter of the arc's included angle, positive counter-clockwise),
@@ -49,7 +51,7 @@ from fem2d.layout import LayoutError, Polygon, Region, crossing_between, point_i
 from fem2d.sources import Magnet
 
 from ..coremodel import (CircuitGap, CircuitMagnet, CircuitSegment, CoilModel, CoreModel,
-                         HandCircuit)
+                         ForceSpec, HandCircuit)
 from ..errors import CaseError
 from ..reader import TableReader
 from ..units import UnitError, parse_quantity
@@ -104,6 +106,8 @@ class DrawnCoreDims:
     flux_line: tuple[Point, Point]
     core_B: tuple[str, ...]
     magnets: tuple[CircuitMagnet, ...] = ()
+    force: ForceSpec | None = None
+    """The moving part ([force]), if any."""
     source: str = ""
     """The DXF drawing the outlines came from ("" when drawn in the case file)."""
 
@@ -118,7 +122,7 @@ class DrawnCore:
     """None: the shapes are drawn, so no dimension can be varied consistently
     in both models (the circuit's lengths are the user's own numbers)."""
     parts: tuple[str, ...] = ()
-    case_tables: tuple[str, ...] = ("shapes", "regions", "circuit")
+    case_tables: tuple[str, ...] = ("shapes", "regions", "circuit", "force")
 
     # ------------------------------------------------------------ reading
     def read_core(self, t: TableReader, *, tables: dict[str, Any] | None = None,
@@ -176,8 +180,11 @@ class DrawnCore:
                            _missing("circuit"), "circuit")
         segs, gaps, cw, gap_B, path, flux_line, core_B, mags = _read_circuit(
             circ, symmetry, depth, regions, unit)
+        force = None
+        if tables.get("force") is not None:
+            force = _read_force(TableReader(tables["force"], "force"), symmetry, regions, gaps)
         return DrawnCoreDims(symmetry, depth, regions, segs, gaps, cw, gap_B, path, flux_line,
-                             core_B, mags, source=source)
+                             core_B, mags, force, source=source)
 
     def part_names(self, c: DrawnCoreDims) -> tuple[str, ...]:
         """The core regions' materials beyond ``core`` (each a [materials] entry)."""
@@ -258,7 +265,7 @@ class DrawnCore:
             materials=tuple(materials), coils=tuple(coils), core_regions=c.core_B,
             gap_regions=gaps, gap_region=c.gap_B, gap_direction=gap_dir,
             mean_path=c.path, flux_line=c.flux_line, gap_line=None, circuit=circuit,
-            magnets=magnets)
+            magnets=magnets, force=c.force)
 
     def describe(self, c: DrawnCoreDims) -> list[tuple[str, str]]:
         rows = [("core.symmetry", c.symmetry)]
@@ -545,6 +552,44 @@ def _thin_direction(region: DrawnRegion) -> Point:
     if v[int(np.argmax(np.abs(v)))] < 0:
         v = -v
     return (float(v[0]) if abs(v[0]) > 1e-12 else 0.0, float(v[1]) if abs(v[1]) > 1e-12 else 0.0)
+
+
+def _read_force(t: TableReader, symmetry: str, regions: tuple[DrawnRegion, ...],
+                gaps: tuple[CircuitGap, ...]) -> ForceSpec:
+    """``[force]``: body (the moving regions), direction (of the closing
+    motion: degrees from +x, or [x, y]; in r-z along the axis), gaps (the
+    circuit gaps the motion shortens; default every circuit gap)."""
+    movable = [r.name for r in regions if r.kind in ("core", "magnet")]
+    raw = t.raw("body")
+    body = [raw] if isinstance(raw, str) else raw
+    if not isinstance(body, list) or not body or not all(isinstance(b, str) for b in body):
+        raise CaseError(t.key("body"), raw, "must be a region name or a list of them")
+    for b in body:
+        if b not in movable:
+            raise CaseError(t.key("body"), b, "names no core or magnet region"
+                            + _hint(b, movable))
+    if not set(movable) - set(body):
+        raise CaseError(t.key("body"), raw, "every core part moves: name the moving part only "
+                                            "(the force is on it, against the fixed core)")
+    angle = _direction(t)
+    d = (math.cos(angle), math.sin(angle))
+    d = (0.0 if abs(d[0]) < 1e-12 else d[0], 0.0 if abs(d[1]) < 1e-12 else d[1])
+    if symmetry == "axisymmetric" and d[0] != 0.0:
+        raise CaseError(t.key("direction"), t.raw("direction"),
+                        "an axisymmetric part moves along the axis: 90 or -90 (or [0, 1], [0, -1])")
+    names = [g.name for g in gaps]
+    raw_g = t.raw("gaps", names)
+    work = [raw_g] if isinstance(raw_g, str) else raw_g
+    if not isinstance(work, list) or not all(isinstance(g, str) for g in work):
+        raise CaseError(t.key("gaps"), raw_g, "must be a list of circuit gap names")
+    if not work:
+        raise CaseError(t.key("gaps"), raw_g, "no working gap: the hand force needs the circuit "
+                                              "gaps the motion shortens")
+    for g in work:
+        if g not in names:
+            raise CaseError(t.key("gaps"), g, "names no circuit gap" + _hint(g, names))
+    t.finish()
+    return ForceSpec(tuple(body), d, tuple(work))
 
 
 def _nodes(t: TableReader) -> tuple[str, str] | None:
