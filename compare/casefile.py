@@ -141,6 +141,23 @@ def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
         if g.length < GAP_MIN:
             out.append(CaseWarning(f"gaps[{i}].length", f"{g.length:g} m",
                                    "below 1 um: shorter than a ground face is flat"))
+    if not case.family_model.limb_names:  # a drawn core: its drawing's extent, its circuit's gaps
+        from .coremodel import core_model
+
+        model = core_model(case)
+        boxes = [r.bbox() for r in model.regions]
+        extent = max(max(b[2] for b in boxes) - min(b[0] for b in boxes),
+                     max(b[3] for b in boxes) - min(b[1] for b in boxes))
+        if not lo <= extent <= hi:
+            out.append(CaseWarning("shapes.units", f"{extent:g} m",
+                                   "the drawing's extent is outside the plausible 1 mm .. 2 m "
+                                   "(check the unit of its points or the DXF's)"))
+        if model.circuit is not None:
+            for i, gap in enumerate(model.circuit.gaps):
+                if gap.face.length < GAP_MIN:
+                    out.append(CaseWarning(f"circuit.gaps[{i}].length",
+                                           f"{gap.face.length:g} m",
+                                           "below 1 um: shorter than a ground face is flat"))
     for region in ("core", *case.part_overrides):
         spec = case.material(region)
         mu_r = float(spec.law.mu_r_initial)
@@ -154,6 +171,10 @@ def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
 
 
 def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
+    if not family.limb_names:
+        raise CaseError(t.key("limb"), t.raw("limb", None),
+                        f"a {family.name} core has no limbs: draw its gaps as regions "
+                        "(kind = \"gap\") and give them to the hand model in its circuit")
     limb_name = t.string("limb", choices=family.limb_names)
     limb = limbs[limb_name]
     length = t.quantity("length", "length")
@@ -241,6 +262,11 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
     if not name.strip():
         raise CaseError(t.key("name"), name, "must not be empty")
     if not family.winding_limbs:  # the family draws its coils (regions naming the winding)
+        for key in ("limb", "thickness", "length", "fill", "clearance"):
+            if t.has(key):
+                raise CaseError(t.key(key), t.raw(key), f"a {family.name} core's coils are "
+                                "drawn as regions (kind = \"coil\", winding = its name): give "
+                                "only name, turns and current here")
         turns = t.integer("turns", minimum=1)
         current = t.quantity("current", "current", positive=False)
         t.finish()

@@ -198,6 +198,10 @@ def depth_factor(case: Case) -> float:
     """Out-of-plane fringing factor of the first gap under the case's model (1 if none)."""
     from .hand import hand_circuit
 
+    from .coremodel import core_model
+
+    if core_model(case).axisymmetric:  # an r-z solution has the depth fringing in it
+        return 1.0
     circuit = hand_circuit(case)
     if circuit is not None:  # the circuit's measured gap, under its own model
         gap = next((g for g in circuit.gaps if g.name == circuit.gap_B), None)
@@ -360,8 +364,8 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
     fl = r["flux"]
     if math.isfinite(fl.diff_pct) and fl.diff_pct < -3:
         notes.append(f"The FE carries {-fl.diff_pct:.0f} % more flux in the winding limb than the "
-                     "hand model: leakage flux across the window links the winding but bypasses the "
-                     "gap, and the hand model has no leakage path.")
+                     "hand model: leakage flux (across the window, round the coil) links the "
+                     "winding but bypasses the gap, and the hand model has no leakage path.")
     elif math.isfinite(fl.diff_pct) and fl.diff_pct > 3:
         notes.append(f"The hand model carries {fl.diff_pct:.0f} % more flux in the winding limb "
                      "than the FE: its gap permeance (the fringing model) or its core "

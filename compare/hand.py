@@ -533,6 +533,8 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     RunError
         When the Newton solve of the network does not converge.
     """
+    if planar and hand_circuit(case) is not None and core_model(case).axisymmetric:
+        planar = False  # an r-z field model is a 3D one: its hand model is the whole circuit
     with_leakage = (case.hand.leakage if leakage is None else leakage) and len(case.windings) == 1
     with_stacking = (case.hand.stacking if stacking is None else stacking) and case.stacking != 1.0
     with_effective = case.hand.effective_parameters if effective is None else effective

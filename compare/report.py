@@ -70,7 +70,7 @@ def input_rows(res: CheckResult) -> list[list[str]]:
     for i, gap in enumerate(case.gaps):
         rows.append([f"gaps[{i}]", f"{gap.limb} limb, length {_mm(gap.length)}, "
                                    f"centre {_mm(gap.position)} from the limb's start"])
-    if not case.gaps:
+    if not case.gaps and case.family_model.limb_names:  # a drawn core lists its own
         rows.append(["gaps", "none"])
     w = case.winding
     if w.limb:

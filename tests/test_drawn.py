@@ -524,3 +524,100 @@ def test_bad_force_tables_name_the_key(mutate, key, words):
     with pytest.raises(CaseError) as info:
         case_from_dict(d)
     assert info.value.key == key and words in str(info.value)
+
+
+# -- review findings: each a bad input named, or a model that stays right ------
+def _nodes_loop(d, ends):
+    for item, (a, b) in zip([*d["circuit"]["segments"], *d["circuit"]["gaps"]], ends):
+        item["from"], item["to"] = a, b
+
+
+@pytest.mark.parametrize("mutate, key, words", [
+    # a coil crossing the core like a plus sign (no vertex of either inside the other)
+    (_set("regions.2.points", [[-20, 40], [80, 40], [80, 42], [-20, 42]]), "regions[2]",
+     "overlaps region 'core'"),
+    (_set("regions.1.points", [[40, 34.7], [68, 34.7], [68, 35.3], [40, 35.3]]),
+     "regions[1].points", "partly on core region 'core'"),
+    (_set("regions.1.points", [[48, 29], [60, 29], [60, 41], [48, 41]]), "regions[1].direction",
+     "not clearly thinner"),
+    (_set("circuit.windings", {"main": "+-left"}), "circuit.windings.main", "names no circuit"),
+    (_set("circuit.path", [[6, 6], [6, 6]]), "circuit.path", "no length"),
+    (_set("circuit.flux_line", [[0, 35], [120, 35]]), "circuit.flux_line[1]", "outside"),
+    (lambda d: _nodes_loop(d, [("a", "b"), ("b", "a"), ("c", "d"), ("d", "c"), ("a", "b")]),
+     "circuit.segments", "falls apart"),
+    (lambda d: _nodes_loop(d, [("a", "b"), ("b", "c"), ("c", "d"), ("d", "e"), ("e", "f")]),
+     "circuit.windings", "no closed loop"),
+    (_set("windings.0.limb", "left"), "windings[0].limb", "drawn as regions"),
+    (lambda d: d.update(gaps=[{"limb": "right", "length": "1 mm"}]), "gaps[0].limb",
+     "has no limbs"),
+])
+def test_bad_drawn_inputs_found_in_review_name_the_key(mutate, key, words):
+    with pytest.raises(CaseError) as info:
+        case_from_dict(_with(mutate))
+    assert info.value.key == key
+    assert words in str(info.value)
+
+
+def test_a_square_gap_takes_its_direction_from_the_case():
+    d = _drawn()
+    d["regions"][1]["points"] = [[48, 29], [60, 29], [60, 41], [48, 41]]
+    d["regions"][1]["direction"] = 90
+    model = core_model(case_from_dict(d))
+    assert model.gap_direction == pytest.approx((0.0, 1.0), abs=1e-15)
+
+
+def test_an_axisymmetric_coil_has_no_return_side():
+    d = _rz_air_coil()
+    d["regions"][1]["side"] = "return"
+    d["regions"].append({"name": "coil2", "kind": "coil",
+                         "points": [[16, -10], [18, -10], [18, 10], [16, 10]]})
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == "regions[1].side"
+
+
+def test_a_coil_side_drawn_in_pieces_carries_n_i_once():
+    # the go side split in two regions is one field region of both shapes:
+    # the same ampere-turns, the same area for the current density
+    d = _drawn()
+    go = d["regions"][2]
+    go["points"] = [[12, 15], [22, 15], [22, 35], [12, 35]]
+    d["regions"].insert(3, {"name": "go2", "kind": "coil", "winding": "main",
+                            "points": [[12, 35], [22, 35], [22, 55], [12, 55]]})
+    case = case_from_dict(d)
+    model = core_model(case)
+    assert model.coils[0].sides == (("go", 1), ("back", -1))
+    assert model.coils[0].area == pytest.approx(400e-6)
+    go_region = next(r for r in case_layout(case).regions if r.name == "go")
+    assert len(go_region.shapes) == 2
+    from compare.margins import current_density
+
+    assert current_density(case) == pytest.approx(80 * 6 / 400e-6)
+
+
+def test_overlap_check_agrees_with_exact_rectangle_overlap():
+    # Source: exact. Two axis-aligned rectangles overlap iff their x and y
+    # ranges both overlap with positive length; 3000 random pairs on a grid
+    # (so that edges often coincide, touch or cross)
+    from compare.families.drawn import _shapes_overlap
+    from fem2d.layout import Polygon
+
+    rng = np.random.default_rng(7)
+    for _ in range(3000):
+        a = np.sort(rng.integers(0, 12, size=(2, 2)), axis=1)
+        b = np.sort(rng.integers(0, 12, size=(2, 2)), axis=1)
+        if np.any(a[:, 1] == a[:, 0]) or np.any(b[:, 1] == b[:, 0]):
+            continue
+        pa = Polygon(((a[0, 0], a[1, 0]), (a[0, 1], a[1, 0]), (a[0, 1], a[1, 1]), (a[0, 0], a[1, 1])))
+        pb = Polygon(((b[0, 0], b[1, 0]), (b[0, 1], b[1, 0]), (b[0, 1], b[1, 1]), (b[0, 0], b[1, 1])))
+        exact = (min(a[0, 1], b[0, 1]) > max(a[0, 0], b[0, 0])
+                 and min(a[1, 1], b[1, 1]) > max(a[1, 0], b[1, 0]))
+        assert _shapes_overlap(pa, pb) == exact, (a.tolist(), b.tolist())
+
+
+def test_a_drawing_in_the_wrong_unit_warns():
+    d = _drawn()
+    d["shapes"]["units"] = "m"
+    d["core"]["depth"] = "20 mm"
+    with pytest.warns(Warning, match="shapes.units"):
+        case_from_dict(d)  # a 60 m x 70 m core: valid, implausible

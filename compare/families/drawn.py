@@ -81,6 +81,8 @@ class DrawnRegion:
     """A magnet's remanence B_r (T) as an (x, y) or (r, z) vector."""
     mu_r: float = 1.0
     """A magnet's recoil permeability."""
+    direction: tuple[float, float] | None = None
+    """A gap's flux direction when given (default: across its thinnest extent)."""
 
     @property
     def area(self) -> float:
@@ -220,11 +222,17 @@ class DrawnCore:
                 raise CaseError(f"windings[{j}]", w.name,
                                 "a planar coil needs a return side too (a region with side = "
                                 "\"return\"): a lone side's current would return at infinity")
+            if c.symmetry == "axisymmetric" and any(r.side < 0 for r in sides):
+                k = next(i for i, r in enumerate(c.regions) if r in sides and r.side < 0)
+                raise CaseError(f"regions[{k}].side", "return",
+                                "an axisymmetric coil carries its current round the axis: it "
+                                "has no return side (a counter-wound part is a winding of its own)")
         given = {n for n, _, _ in c.circuit_windings}
         for n in given:
             if n not in names:
                 raise CaseError(f"circuit.windings.{n}", n, "names no winding"
                                 + _hint(n, names))
+        _check_circuit_loops(c, names)
         for key, on in (("hand.leakage", case.hand.leakage),
                         ("hand.effective_parameters", case.hand.effective_parameters)):
             if on:
@@ -237,6 +245,8 @@ class DrawnCore:
         order = {"core": 0, "magnet": 1, "gap": 2, "coil": 3}
         regions, materials = [], []
         for r in sorted(c.regions, key=lambda r: order[r.kind]):
+            if r.kind == "coil":
+                continue
             mat = "air" if r.kind != "core" else (r.material if r.material == "core"
                                                  else f"core-{r.material}")
             regions.append(Region(r.name, r.shapes, material=mat, kind=r.kind))
@@ -244,15 +254,26 @@ class DrawnCore:
                 materials.append((mat, r.material))
         coils = []
         for w in case.windings:
-            sides = tuple((r.name, r.side) for r in c.regions
-                          if r.kind == "coil" and r.winding == w.name)
-            area = sum(r.area for r in c.regions if r.kind == "coil" and r.winding == w.name
-                       and r.side > 0)
-            coils.append(CoilModel(sides, area))
+            # each side of a winding is one field region, the union of the
+            # drawn regions on that side: its N I is spread over all of them
+            # (a side drawn in pieces carries N I once, not once per piece)
+            sides, area = [], 0.0
+            for sign in (1, -1):
+                parts = [r for r in c.regions
+                         if r.kind == "coil" and r.winding == w.name and r.side == sign]
+                if not parts:
+                    continue
+                shapes = tuple(sh for r in parts for sh in r.shapes)
+                regions.append(Region(parts[0].name, shapes, material="air", kind="coil"))
+                sides.append((parts[0].name, sign))
+                if sign > 0:
+                    area = sum(r.area for r in parts)
+            coils.append(CoilModel(tuple(sides), area))
         gaps = tuple(r.name for r in c.regions if r.kind == "gap")
         gap_dir = None
         if c.gap_B is not None:
-            gap_dir = _thin_direction(next(r for r in c.regions if r.name == c.gap_B))
+            reg = next(r for r in c.regions if r.name == c.gap_B)
+            gap_dir = reg.direction if reg.direction is not None else _thin_direction(reg)
         by_w = {n: (b, s) for n, b, s in c.circuit_windings}
         first = c.segments[0].name
         windings = tuple(by_w.get(w.name, (first, 1)) for w in case.windings)
@@ -410,6 +431,10 @@ def _read_region(t: TableReader, unit: float | None, drawn: dict[str, tuple]) ->
     if kind == "coil":
         winding = t.string("winding", "main")
         side = 1 if t.string("side", "go", choices=SIDES) == "go" else -1
+    gap_dir = None
+    if kind == "gap" and t.has("direction"):
+        angle = _direction(t)
+        gap_dir = (math.cos(angle), math.sin(angle))
     if kind == "magnet":
         b_r = t.quantity("remanence", "flux density")
         if b_r <= 0:
@@ -419,7 +444,13 @@ def _read_region(t: TableReader, unit: float | None, drawn: dict[str, tuple]) ->
         remanence = (b_r * math.cos(angle), b_r * math.sin(angle))
         remanence = tuple(0.0 if abs(c) < 1e-15 * b_r else c for c in remanence)  # type: ignore[assignment]
     t.finish()
-    return DrawnRegion(name, kind, shapes, material, winding, side, remanence, mu_r)
+    reg = DrawnRegion(name, kind, shapes, material, winding, side, remanence, mu_r, gap_dir)
+    if kind == "gap" and gap_dir is None and _thinness(reg) > 0.25:
+        raise CaseError(t.key("direction"), None,
+                        f"missing: gap '{name}' is not clearly thinner one way than the other "
+                        "(its flux direction is not evident): give direction (degrees from "
+                        "+x, or [x, y])")
+    return reg
 
 
 def _direction(t: TableReader) -> float:
@@ -472,6 +503,8 @@ def _check_overlaps(regions: tuple[DrawnRegion, ...]) -> None:
         for j in range(i):
             b = regions[j]
             if {a.kind, b.kind} == {"gap", "core"}:
+                gap, core = (a, b) if a.kind == "gap" else (b, a)
+                _check_gap_on_core(gap, core, i if gap is a else j)
                 continue
             for sa in a.shapes:
                 for sb in b.shapes:
@@ -479,6 +512,22 @@ def _check_overlaps(regions: tuple[DrawnRegion, ...]) -> None:
                         raise CaseError(f"regions[{i}]", a.name,
                                         f"overlaps region '{b.name}': drawn regions must not "
                                         "overlap (only a gap may be drawn over a core part)")
+
+
+def _check_gap_on_core(gap: DrawnRegion, core: DrawnRegion, k: int) -> None:
+    """A gap drawn over a core part lies wholly within it (it cuts the part
+    across); one beside the core touches it at most.  A gap sticking out of
+    the part it cuts is refused: its field is not the gap's."""
+    for sg in gap.shapes:
+        on = [sc for sc in core.shapes if _shapes_overlap(sg, sc)]
+        if not on:
+            continue
+        probes = _probe_points(_loops(sg)[0])
+        if not all(any(_inside(p, sc) for sc in core.shapes) for p in probes):
+            raise CaseError(f"regions[{k}].points", gap.name,
+                            f"the gap lies partly on core region '{core.name}' and partly off "
+                            "it: draw it within the part it cuts (across its full width), or "
+                            "between two parts")
 
 
 def _shapes_overlap(sa: Any, sb: Any) -> bool:
@@ -492,7 +541,29 @@ def _shapes_overlap(sa: Any, sb: Any) -> bool:
     for p in (*_probe_points(la), *_probe_points(lb)):
         if _inside(p, sa) and _inside(p, sb):
             return True
+    if _proper_crossing(la, lb):  # two edges cross at a point inside both: the areas overlap
+        return True
     return crossing_between(la, lb) and _interior_cross(la, lb, sa, sb)
+
+
+def _proper_crossing(la: list[Point], lb: list[Point]) -> bool:
+    """Some edge of one loop crosses an edge of the other at a point interior
+    to both edges (not a touch at a vertex, not collinear)."""
+    a0 = np.asarray(la, dtype=float)
+    a1 = np.roll(a0, -1, axis=0)
+    b0 = np.asarray(lb, dtype=float)
+    b1 = np.roll(b0, -1, axis=0)
+
+    def orient(p, q, r):  # sign of (q - p) x (r - p), broadcast over edge pairs
+        return ((q[..., 0] - p[..., 0]) * (r[..., 1] - p[..., 1])
+                - (q[..., 1] - p[..., 1]) * (r[..., 0] - p[..., 0]))
+
+    A0, A1 = a0[:, None, :], a1[:, None, :]
+    B0, B1 = b0[None, :, :], b1[None, :, :]
+    scale = max(float(np.ptp(np.vstack([a0, b0]))), 1e-300) ** 2 * 1e-12
+    o1, o2 = orient(A0, A1, B0), orient(A0, A1, B1)
+    o3, o4 = orient(B0, B1, A0), orient(B0, B1, A1)
+    return bool(np.any((o1 * o2 < -scale ** 2) & (o3 * o4 < -scale ** 2)))
 
 
 def _probe_points(loop: list[Point]) -> list[Point]:
@@ -527,11 +598,25 @@ def _interior_cross(la: list[Point], lb: list[Point], sa: Any, sb: Any) -> bool:
     return False
 
 
+def _thinness(region: DrawnRegion) -> float:
+    """The ratio of the least to the largest second moment of the region's
+    area: (b/a)^2 for an a x b rectangle (0.01 for a 10:1 strip, 1 for a square);
+    above 0.25 (a rectangle under 2:1) a gap's flux direction is not evident."""
+    vals = _moments(region)[0]
+    return float(vals[0] / vals[1]) if vals[1] > 0 else 1.0
+
+
 def _thin_direction(region: DrawnRegion) -> Point:
     """The direction across which a region is thinnest: the principal axis
     of least second moment of its area about its centroid (a gap drawn as a
-    thin strip: along its length g, the direction of the flux crossing it).
-    Polygon moments by the shoelace sums (exact for straight edges)."""
+    thin strip: along its length g, the direction of the flux crossing it)."""
+    return _direction_of(_moments(region)[1])
+
+
+def _moments(region: DrawnRegion) -> Any:
+    """Eigenvalues (ascending) and eigenvectors of the second moment of the
+    region's area about its centroid; polygon moments by the shoelace sums
+    (exact for straight edges)."""
     area, first, second = 0.0, np.zeros(2), np.zeros((2, 2))
     for s in region.shapes:
         for loop, sign in ((_loops(s)[0], 1.0), *((h, -1.0) for h in getattr(s, "holes", ()))):
@@ -547,11 +632,55 @@ def _thin_direction(region: DrawnRegion) -> Point:
             ixy = np.sum(cr * (x0 * y1 + 2 * x0 * y0 + 2 * x1 * y1 + x1 * y0)) / 24.0
             second += sg * np.array([[ixx, ixy], [ixy, iyy]])
     c = first / area
-    vals, vecs = np.linalg.eigh(second - area * np.outer(c, c))
+    return np.linalg.eigh(second - area * np.outer(c, c))
+
+
+def _direction_of(vecs: Any) -> Point:
     v = vecs[:, 0]
     if v[int(np.argmax(np.abs(v)))] < 0:
         v = -v
     return (float(v[0]) if abs(v[0]) > 1e-12 else 0.0, float(v[1]) if abs(v[1]) > 1e-12 else 0.0)
+
+
+def _check_circuit_loops(c: DrawnCoreDims, windings: list[str]) -> None:
+    """The circuit is one connected network, and each winding's branch lies
+    on a closed loop (a branch on no loop carries no flux)."""
+    every: list[Any] = [*c.segments, *c.gaps, *c.magnets]
+    branches = [(b.name, b.node_a, b.node_b) for b in every]
+
+    def connected(edges: list[tuple[str, str, str]]) -> dict[str, int]:
+        comp: dict[str, int] = {}
+        adj: dict[str, list[str]] = {}
+        for _, a, b in edges:
+            adj.setdefault(a, []).append(b)
+            adj.setdefault(b, []).append(a)
+        for start in adj:
+            if start in comp:
+                continue
+            comp[start] = len(set(comp.values()))
+            stack = [start]
+            while stack:
+                for nb in adj[stack.pop()]:
+                    if nb not in comp:
+                        comp[nb] = comp[start]
+                        stack.append(nb)
+        return comp
+
+    comp = connected(branches)
+    if len(set(comp.values())) > 1:
+        lone = next(n for n, k in comp.items() if k != comp[branches[0][1]])
+        raise CaseError("circuit.segments", lone,
+                        "the circuit falls apart: this node is not connected to the first "
+                        "segment's (check the from/to nodes)")
+    by_w = {n: b for n, b, _ in c.circuit_windings}
+    for w in windings:
+        name = by_w.get(w, c.segments[0].name)
+        _, a, b = next(br for br in branches if br[0] == name)
+        rest = connected([br for br in branches if br[0] != name])
+        if a not in rest or b not in rest or rest[a] != rest[b]:
+            raise CaseError("circuit.windings", f"{w} = {name}",
+                            f"branch '{name}' lies on no closed loop of the circuit: its "
+                            "flux has no way back (check the from/to nodes)")
 
 
 def _read_force(t: TableReader, symmetry: str, regions: tuple[DrawnRegion, ...],
@@ -685,11 +814,25 @@ def _read_circuit(t: TableReader, symmetry: str, depth: float,
             raise CaseError(t.key("gap_B"), gap_B, "names no drawn gap region: the field "
                             "model measures gap B in the region of the gap's name")
     path = tuple(_points(t.raw("path"), t.key("path"), unit, closed=False))
+    if sum(math.dist(p, q) for p, q in zip(path, path[1:])) <= 0:
+        raise CaseError(t.key("path"), t.raw("path"), "the path has no length")
     fl = _points(t.raw("flux_line"), t.key("flux_line"), unit, closed=False)
     if len(fl) != 2 or fl[0] == fl[1]:
         raise CaseError(t.key("flux_line"), t.raw("flux_line"),
                         "must be two different points [[x0, y0], [x1, y1]]: the segment across "
                         "the winding's limb the flux is taken through")
+    boxes = [s.bbox() for r in regions for s in r.shapes]
+    x0, y0 = min(b[0] for b in boxes), min(b[1] for b in boxes)
+    if symmetry == "axisymmetric":
+        x0 = 0.0  # the axis is in the model
+    x1, y1 = max(b[2] for b in boxes), max(b[3] for b in boxes)
+    tol = 1e-9 * max(x1 - x0, y1 - y0)
+    for key, pts in (("path", path), ("flux_line", fl)):
+        for k, (x, y) in enumerate(pts):
+            if not (x0 - tol <= x <= x1 + tol and y0 - tol <= y <= y1 + tol):
+                raise CaseError(f"{t.key(key)}[{k}]", t.raw(key)[k],
+                                "lies outside the drawing (the regions' bounding box, and the "
+                                "axis in r-z): the field is measured where the parts are")
     cores = [r.name for r in regions if r.kind == "core"]
     if not cores:
         raise CaseError("regions", None, "no region has kind = \"core\"")
@@ -706,7 +849,7 @@ def _read_circuit(t: TableReader, symmetry: str, depth: float,
     for wname in list(wt.data):
         spec = wt.string(wname)
         sign = -1 if spec.startswith("-") else 1
-        branch = spec.lstrip("+-")
+        branch = spec[1:] if spec[:1] in "+-" and spec else spec
         if branch not in names:
             raise CaseError(wt.key(wname), spec, "names no circuit segment or gap"
                             + _hint(branch, names))
