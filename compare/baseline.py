@@ -54,11 +54,17 @@ def snapshot(res: CheckResult) -> dict:
     hw = res.hand_3d.winding_values if many else {}
     hpw = res.hand_planar.winding_values if many else {}
     fw = res.fe.fine.winding_values if many else {}
+    # with a moving part, its forces (N): hand force and force_pull, FE force,
+    # force_maxwell and force_virtual_work
+    fv = res.fe.fine.force_values
     return {
-        "hand": {k: res.hand_3d.values()[k] for k in HAND_KEYS} | hw,
-        "hand_planar": {k: res.hand_planar.values()[k] for k in HAND_KEYS} | hpw,
-        "fe": {k: res.fe.values[k] for k in HAND_KEYS} | {"peak_B": res.fe.fine.peak_B} | fw,
-        "fe_uncertainty": {k: res.fe.uncertainty.get(k) for k in (*HAND_KEYS, "peak_B", *fw)},
+        "hand": {k: res.hand_3d.values()[k] for k in HAND_KEYS} | hw | res.hand_3d.force_values,
+        "hand_planar": ({k: res.hand_planar.values()[k] for k in HAND_KEYS} | hpw
+                        | res.hand_planar.force_values),
+        "fe": ({k: res.fe.values[k] for k in HAND_KEYS} | {"peak_B": res.fe.fine.peak_B} | fw
+               | fv),
+        "fe_uncertainty": {k: res.fe.uncertainty.get(k)
+                           for k in (*HAND_KEYS, "peak_B", *fw, *fv)},
         "fe_3d": {r.key: r.fe_3d for r in res.rows if r.key in HAND_KEYS},
         "margins": {r.key: r.fe if r.fe == r.fe else r.hand for r in res.rows
                     if r.limit_value is not None},

@@ -12,7 +12,7 @@ The file's tables map onto these classes::
                  {H = [...], B = [...], H_unit = "A/m", B_unit = "T"} | {mu_r = 2000}
     [hand]       fringing = "<model>"
     [fe]         order, gap_elements, mesh_size, air_factor, boundary, tol
-    [margins]    peak_B, current_density (+ copper_fill), [[margins.inductance]]
+    [margins]    peak_B, current_density (+ copper_fill), force_min, [[margins.inductance]]
                  (at, min, max, kind), [[margins.saturation_current]] (drop_pct, min,
                  kind), [margins.agreement] (percent per quantity)
     [sweep]      vary = ["KEY=SPEC", ...], drops_pct, inductance; or [[sweep]] for several
@@ -149,6 +149,10 @@ class Margins:
     copper_fill: float = 1.0
     inductance: tuple[InductanceLimit, ...] = ()
     saturation: tuple[SaturationLimit, ...] = ()
+    force_min: float | None = None
+    """Minimum force on the moving part at the case's stroke and current (N,
+    along the closing stroke: the pull-in force at the open position, the
+    holding force closed), judged on the FE's Maxwell stress."""
 
     def agreement_limit(self, key: str, default: float | None) -> float | None:
         return dict(self.agreement).get(key, default)

@@ -426,7 +426,7 @@ def _read_fe(t: TableReader) -> FESettings:
 
 
 AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
-                  "incremental_inductance", "energy")
+                  "incremental_inductance", "energy", "force", "force_pull")
 
 
 INDUCTANCE_KINDS = ("secant", "incremental")
@@ -442,6 +442,7 @@ def _read_margins(t: TableReader) -> Margins:
         agreement.append((key, at.number(key, lo=0.0, hi=1000.0)))
     at.finish(valid=AGREEMENT_KEYS)
     jmax = t.quantity("current_density", "current density", None)
+    force_min = t.quantity("force_min", "force", None)
     fill = t.number("copper_fill", 1.0, lo=0.0, hi=1.0)
     if fill <= 0.0:
         raise CaseError(t.key("copper_fill"), t.data["copper_fill"], "must be positive")
@@ -468,7 +469,8 @@ def _read_margins(t: TableReader) -> Margins:
         st.finish()
     t.finish()
     return Margins(peak_B=peak, agreement=tuple(agreement), current_density=jmax,
-                   copper_fill=fill, inductance=tuple(inductance), saturation=tuple(saturation))
+                   copper_fill=fill, inductance=tuple(inductance), saturation=tuple(saturation),
+                   force_min=force_min)
 
 
 def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDecl, ...]:

@@ -306,8 +306,8 @@ def winding_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
 def margin_rows(case: Case, fe: FEResult) -> list[Row]:
     """Rows for the design margins other than peak B (see compare.margins).
 
-    Inductance at a stated current is judged on the FE value with the
-    depth correction of `depth_corrections` (the "FE 3D" column), solved on the FE
+    Inductance at a stated current and the minimum force are judged on the
+    FE value with the depth correction (the "FE 3D" column), the inductance solved on the FE
     result's mesh at that current; saturation current on the 3D hand model's
     L(I) (a field solution needs a sweep: ``magcheck sweep`` or a declared
     ``[sweep]`` under ``magcheck verify``).
@@ -316,7 +316,8 @@ def margin_rows(case: Case, fe: FEResult) -> list[Row]:
     from .margins import design_margins, inductance_of, with_current
 
     m = case.margins
-    if m.current_density is None and not m.inductance and not m.saturation:
+    if (m.current_density is None and not m.inductance and not m.saturation
+            and m.force_min is None):
         return []
     cache: dict[float, dict] = {case.winding.current: fe.values}
 
@@ -329,7 +330,12 @@ def margin_rows(case: Case, fe: FEResult) -> list[Row]:
         return inductance_of(cache[current], kind) * fe_3d_factor(at, key)
 
     out = []
-    for r in design_margins(case, fe_at=fe_at):
+    fe_force = fe.fine.force_values.get("force", math.nan)
+    if math.isfinite(fe_force):  # with the depth correction, as the inductance above
+        hp = run_hand(case, planar=True).force_values.get("force", math.nan)
+        h3 = run_hand(case).force_values.get("force", math.nan)
+        fe_force *= h3 / hp if hp and math.isfinite(h3) else 1.0
+    for r in design_margins(case, fe_at=fe_at, fe_force=fe_force):
         if r.key == "peak_B":
             continue
         fe_value = math.nan if r.basis == "hand" else r.value  # judged on the hand model

@@ -217,6 +217,7 @@ def _label_current(i: float) -> str:
 
 
 def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: float = math.nan,
+                   fe_force: float = math.nan,
                    fe_at: Callable[[float, str], float] | None = None,
                    hand_at: Callable[[float, str], float] | None = None,
                    saturation: Callable[[float, str], tuple[float, float, str, str]] | None = None,
@@ -226,6 +227,8 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
     Parameters
     ----------
     fe_peak_B, hand_peak_B : peak core B (T) at the case's current.
+    fe_force : the FE force on the moving part (N, closing), for ``force_min``
+        (without it the hand network's virtual work is judged).
     fe_at : callable (current A, kind) -> FE inductance (H), optional
         The field model's inductance at a stated current (NaN if unknown).
     hand_at : callable (current A, kind) -> hand inductance (H), optional
@@ -239,6 +242,12 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
     if m.peak_B is not None:
         out.append(MarginResult("peak_B", "peak core B", "T", "max", m.peak_B, fe_peak_B,
                                 hand=hand_peak_B, basis="FE"))
+    if m.force_min is not None:
+        hand_f = run_hand(case).force_values.get("force", math.nan)
+        value, basis = (fe_force, "FE") if math.isfinite(fe_force) else (hand_f, "hand")
+        out.append(MarginResult("force_min", "force on the moving part, min", "N", "min",
+                                m.force_min, value, hand=hand_f, basis=basis,
+                                note="" if math.isfinite(value) else "the case has no moving part"))
     if m.current_density is not None:
         j = current_density(case)
         where = "conductor" if m.copper_fill < 1 else "coil cross-section"
