@@ -24,15 +24,17 @@ from ..errors import CaseError
 from .base import Family, Segment, Window
 from .drawn import DrawnCore, DrawnCoreDims
 from .ei_core import EICore, EICoreDims
+from .u_armature import UArmature, UArmatureDims
 from .window_core import WindowCore, WindowCoreDims
 
 __all__ = ["Segment", "Window", "Family", "FAMILIES", "BUILTIN", "WindowCore", "WindowCoreDims",
-           "EICore", "EICoreDims", "DrawnCore", "DrawnCoreDims", "get_family", "register",
+           "EICore", "EICoreDims", "UArmature", "UArmatureDims", "DrawnCore", "DrawnCoreDims",
+           "get_family", "register",
            "core_keys"]
 
 log = logging.getLogger(__name__)
 
-BUILTIN: tuple[Family, ...] = (WindowCore(), EICore(), DrawnCore())
+BUILTIN: tuple[Family, ...] = (WindowCore(), EICore(), UArmature(), DrawnCore())
 """The families that come with magcheck, in the order they are listed."""
 
 FAMILIES: dict[str, Family] = {f.name: f for f in BUILTIN}
