@@ -90,7 +90,7 @@ def _demo_dict() -> dict:
 
 
 ALL_AGREEMENT = ("gap_B, core_B, path_H, flux, flux_linkage, inductance, "
-                 "incremental_inductance, energy")
+                 "incremental_inductance, energy, force, force_pull")
 
 
 def test_agreement_typo_lists_every_key_with_a_suggestion() -> None:
@@ -111,11 +111,12 @@ def test_agreement_unknown_key_beside_a_valid_one_lists_all_keys() -> None:
     from compare.casefile import case_from_dict
     from compare.errors import CaseError
     data = _demo_dict()
-    data.setdefault("margins", {})["agreement"] = {"inductance": 8, "foo": 3}
+    # (a key like no valid one: "foo" now resembles "force")
+    data.setdefault("margins", {})["agreement"] = {"inductance": 8, "zzq": 3}
     with pytest.raises(CaseError) as exc:
         case_from_dict(data, base_dir=CASES)
     text = str(exc.value)
-    assert text.startswith("margins.agreement.foo = 3: unknown key")
+    assert text.startswith("margins.agreement.zzq = 3: unknown key")
     assert "did you mean" not in text
     assert text.endswith(f"valid keys: {ALL_AGREEMENT}")
 
