@@ -420,7 +420,42 @@ def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]
         ax.legend(fontsize=7)
         ax.set_title(f"{res.case.name}: hand (planar form) and planar FE")
         out.append((name, fig))
+    if res.points and "force" in res.points[0].hand_planar:
+        out.append(("sweep_force.png", fig_sweep_force(res, groups, x_of, x_label)))
     return out
+
+
+def fig_sweep_force(res, groups, x_of, x_label):
+    """Force on the moving part against the swept key: the hand network's
+    virtual work and the pull formula (planar form), the FE's Maxwell stress
+    and virtual work."""
+    fig, ax = plt.subplots(figsize=(6.5, 4.2))
+    series = (("hand", "force", "hand, virtual work", HAND_COLOUR, "o-", "none"),
+              ("hand", "force_pull", "hand, pull formula", HAND_COLOUR, "s--", "none"),
+              ("fe", "force_maxwell", "FE, Maxwell stress", FE_COLOUR, "-", None),
+              ("fe", "force_virtual_work", "FE, virtual work", FE_COLOUR, "x:", None))
+    for g, (fixed, pts) in enumerate(groups):
+        shade = _GROUP_SHADES[min(g, len(_GROUP_SHADES) - 1)]
+        tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
+        suffix = f" ({tag})" if tag else ""
+        order = sorted(range(len(pts)), key=lambda i: x_of(pts[i]))
+        x = [x_of(pts[i]) for i in order]
+        for model, key, what, colour, line, face in series:
+            if model == "fe" and not res.with_fe:
+                continue
+            block = (lambda p: p.hand_planar) if model == "hand" else (lambda p: p.fe)
+            ys = [block(pts[i]).get(key, math.nan) for i in order]
+            kw: dict[str, Any] = {"color": _shade(colour, shade)}
+            if face is not None:
+                kw["markerfacecolor"] = face
+            ax.plot(x, ys, line, lw=1.2, label=what + suffix, **kw)
+    ax.set_xlabel(x_label)
+    ax.set_ylabel("force on the moving part (N), closing")
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7)
+    ax.set_title(f"{res.case.name}: force along the stroke, hand (planar form) and planar FE",
+                 fontsize=9)
+    return fig
 
 
 def save_sweep_figures(res, folder: str | Path, saturation: Sequence[dict] = ()) -> list[Path]:

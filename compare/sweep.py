@@ -37,7 +37,7 @@ from analytic.bh import scale_law  # noqa: F401 (re-exported)
 
 from .case import Case
 from .errors import CaseError, RunError
-from .hand import HAND_KEYS, run_hand
+from .hand import FORCE_KEYS, HAND_KEYS, run_hand
 from .keys import CURRENT_KEY, VarySpec, key_dimension, parse_key, parse_vary, resolve_vary
 from .variants import CaseSource, case_source, make_case
 from .margins import MarginResult, curve_margins, curve_saturation  # noqa: F401 (re-exported)
@@ -161,7 +161,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
     from threadpoolctl import threadpool_limits
 
     from .check import depth_corrections
-    from .fe import mesh_case, solve_case_full
+    from .fe import _with_virtual_work, mesh_case, solve_case_full
 
     mesh = None
     # One AMG-CG factory for the whole block: the preconditioner built for
@@ -187,8 +187,9 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
             history, slope, hand_start = [], None, (None, None)
             continue
         hand_start = tuple({b.name: b.flux for b in h.network.branches} for h in (h3, hp))
-        base: dict[str, Any] = dict(index=idx, settings=settings, current=current, hand=h3.values(),
-                    hand_planar=hp.values(), hand_peak_B=_hand_peak(hp),
+        base: dict[str, Any] = dict(index=idx, settings=settings, current=current,
+                    hand=h3.values() | h3.force_values,
+                    hand_planar=hp.values() | hp.force_values, hand_peak_B=_hand_peak(hp),
                     depth_factor=depth_corrections(hp, h3)["inductance"])
         if not task.with_fe:
             out.append(PointResult(**base))
@@ -236,7 +237,8 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
                 and _only_current_changes(settings, task.settings[j + 1])):
             # dA/dI from the incremental-inductance tangent solve: no extra solve.
             slope = fs.dA_dI
-        out.append(PointResult(**base, fe=dict(q.values), fe_peak_B=q.peak_B,
+        q = _with_virtual_work(case, q, sol)  # a moving part: the second force method
+        out.append(PointResult(**base, fe=dict(q.values) | q.force_values, fe_peak_B=q.peak_B,
                                iterations=q.iterations, seconds=time.perf_counter() - t0,
                                start=start, ndofs=q.ndofs,
                                first_residual=float(sol.residual_history[0])))
@@ -330,11 +332,15 @@ def sweep_rows(res: SweepResult) -> list[dict]:
         r: dict[str, Any] = {"index": p.index, **p.settings}
         if CURRENT_KEY not in p.settings:
             r[CURRENT_KEY] = p.current
-        r.update({f"hand_{k}": p.hand.get(k, math.nan) for k in HAND_KEYS})
-        r.update({f"hand_planar_{k}": p.hand_planar.get(k, math.nan) for k in HAND_KEYS})
+        forces = [k for k in FORCE_KEYS if k in p.hand]  # a moving part's (N)
+        r.update({f"hand_{k}": p.hand.get(k, math.nan) for k in (*HAND_KEYS, *forces)})
+        r.update({f"hand_planar_{k}": p.hand_planar.get(k, math.nan)
+                  for k in (*HAND_KEYS, *forces)})
         r["hand_planar_peak_B"] = p.hand_peak_B
         if res.with_fe:
             r.update({f"fe_{k}": p.fe.get(k, math.nan) for k in HAND_KEYS})
+            r.update({f"fe_{k}": p.fe.get(k, math.nan)
+                      for k in ("force_maxwell", "force_virtual_work") if forces})
             r["fe_peak_B"] = p.fe_peak_B
             r["fe_newton_iterations"] = p.iterations
             r["fe_start"] = p.start

@@ -111,3 +111,23 @@ def test_check_force_methods_agree_and_converge():
     assert res.fe.uncertainty["force"] / fv["force"] < 0.02
     rows = {r.key: r for r in res.rows}
     assert rows["margin:force_min"].verdict == "pass"
+
+
+@pytest.mark.slow
+def test_force_stroke_sweep(tmp_path):
+    from compare.keys import parse_vary
+    from compare.plots import sweep_figures
+    from compare.sweep import case_source, run_sweep, sweep_rows
+
+    src, case = case_source(CASES / "demo_clapper_relay.toml")
+    res = run_sweep(src, [parse_vary("core.stroke=0.3mm,0.6mm,1.2mm", family=case.family_model)],
+                    workers=1)
+    f = [p.fe["force_maxwell"] for p in res.points]
+    assert f[0] > f[1] > f[2] > 0  # the pull falls with the stroke
+    for p in res.points:  # both FE methods at every stroke (fem2d.force; 1e-3 as the selftest)
+        assert p.fe["force_virtual_work"] == pytest.approx(p.fe["force_maxwell"], rel=1e-3)
+        # the hand forces at every stroke too
+        assert p.hand_planar["force"] > 0 and p.hand_planar["force_pull"] > 0
+    assert "fe_force_virtual_work" in sweep_rows(res)[0]
+    names = [n for n, _ in sweep_figures(res)]
+    assert "sweep_force.png" in names

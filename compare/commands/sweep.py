@@ -63,18 +63,28 @@ def _fmt(v: float, unit: str) -> str:
 def print_sweep(res: SweepResult, margins, sat_table, out) -> None:
     keys = list(res.keys) + ([] if CURRENT_KEY in res.keys else [CURRENT_KEY])
     cols = keys + ["hand L", "hand dL/dI"]
+    force = bool(res.points) and "force" in res.points[0].hand_planar  # a moving part
+    if force:
+        cols += ["hand F", "pull F"]
     if res.with_fe:
-        cols += ["FE L", "FE dL/dI", "FE peak B", "Newton", "start"]
+        cols += ["FE L", "FE dL/dI"] + (["FE F", "FE F (VW)"] if force else []) + [
+            "FE peak B", "Newton", "start"]
     rows = []
     for p in res.points:
         vals = dict(p.settings, **{CURRENT_KEY: p.current})
         r = [f"{vals[k]:.4g}" for k in keys]
         r += [_fmt(p.hand_planar.get("inductance", math.nan), "H"),
               _fmt(p.hand_planar.get("incremental_inductance", math.nan), "H")]
+        if force:
+            r += [_fmt(p.hand_planar.get("force", math.nan), "N"),
+                  _fmt(p.hand_planar.get("force_pull", math.nan), "N")]
         if res.with_fe:
             r += [_fmt(p.fe.get("inductance", math.nan), "H"),
-                  _fmt(p.fe.get("incremental_inductance", math.nan), "H"),
-                  _fmt(p.fe_peak_B, "T"), str(p.iterations) if p.converged else "FAILED", p.start]
+                  _fmt(p.fe.get("incremental_inductance", math.nan), "H")]
+            if force:
+                r += [_fmt(p.fe.get("force_maxwell", math.nan), "N"),
+                      _fmt(p.fe.get("force_virtual_work", math.nan), "N")]
+            r += [_fmt(p.fe_peak_B, "T"), str(p.iterations) if p.converged else "FAILED", p.start]
         rows.append(r)
     notes = [f"{len(res.points)} points in {res.seconds:.1f} s ({res.executor}, "
              f"{res.workers} worker(s)); hand columns: planar-consistent form (like for like "
