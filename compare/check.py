@@ -35,6 +35,9 @@ DEFAULT_LIMITS: dict[str, float] = {
     # permeance's derivative, so a hand calc within 20 % is a good one, the
     # pull formula (no fringing in its face) within 30 % (common practice, no source)
     "force": 20.0, "force_pull": 30.0,
+    # a magnet's operating point: B on its recoil line moves little with the
+    # load, H much more (common practice, no source)
+    "magnet_B": 10.0, "magnet_H": 30.0,
 }
 
 LABELS = {
@@ -44,6 +47,8 @@ LABELS = {
     "peak_B": "peak core B",
     "force": "force (virtual work)", "force_pull": "force (pull formula)",
     "force_virtual_work": "force, FE virtual work",
+    "magnet_B": "magnet B (operating point)", "magnet_H": "magnet H (operating point)",
+    "magnet_H_min": "magnet H, demagnetising extreme",
 }
 
 # Quantities that scale with the gap permeance, and so take the depth-fringing factor.
@@ -194,6 +199,30 @@ def force_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
     return out
 
 
+def magnet_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
+                fe: FEResult) -> list[Row]:
+    """With a magnet: the first magnet's mean B and H along its magnetisation,
+    hand (its circuit branch, when the circuit has one of its name) against
+    the FE's means over it, and the FE's demagnetising extreme (the H
+    exceeded downward on 0.5 % of the magnet's area)."""
+    mv = fe.fine.magnet_values
+    if not mv:
+        return []
+    out = []
+    for k, unit in (("magnet_B", "T"), ("magnet_H", "A/m")):
+        h = hand_p.magnet_values.get(k, math.nan)
+        f, u = mv[k], fe.uncertainty.get(k, math.nan)
+        d = _diff_pct(h, f)
+        lim = DEFAULT_LIMITS[k]
+        out.append(Row(k, LABELS[k], unit, h, f, u, d, lim,
+                       _verdict(d, h, f, u, lim) if math.isfinite(h) else "info",
+                       hand_3d=hand_3d.magnet_values.get(k, math.nan), fe_3d=f))
+    out.append(Row("magnet_H_min", LABELS["magnet_H_min"], "A/m", math.nan, mv["magnet_H_min"],
+                   fe.uncertainty.get("magnet_H_min", math.nan), math.nan, None, "info",
+                   fe_3d=mv["magnet_H_min"]))
+    return out
+
+
 def depth_factor(case: Case) -> float:
     """Out-of-plane fringing factor of the first gap under the case's model (1 if none)."""
     from .hand import hand_circuit
@@ -240,6 +269,7 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
     if len(case.windings) > 1:
         rows.extend(winding_rows(case, hand_p, hand_3d, fe))
     rows.extend(force_rows(case, hand_p, hand_3d, fe))
+    rows.extend(magnet_rows(case, hand_p, hand_3d, fe))
     peak, limit = fe.fine.peak_B, case.margins.peak_B
     if limit is None:
         verdict, margin = "info", math.nan
@@ -316,8 +346,10 @@ def margin_rows(case: Case, fe: FEResult) -> list[Row]:
     from .margins import design_margins, inductance_of, with_current
 
     m = case.margins
+    from .coremodel import core_model
+
     if (m.current_density is None and not m.inductance and not m.saturation
-            and m.force_min is None):
+            and m.force_min is None and not core_model(case).magnet_knees):
         return []
     cache: dict[float, dict] = {case.winding.current: fe.values}
 
@@ -335,7 +367,8 @@ def margin_rows(case: Case, fe: FEResult) -> list[Row]:
         hp = run_hand(case, planar=True).force_values.get("force", math.nan)
         h3 = run_hand(case).force_values.get("force", math.nan)
         fe_force *= h3 / hp if hp and math.isfinite(h3) else 1.0
-    for r in design_margins(case, fe_at=fe_at, fe_force=fe_force):
+    for r in design_margins(case, fe_at=fe_at, fe_force=fe_force,
+                            fe_magnet_H_min=fe.fine.magnet_values.get("magnet_H_min", math.nan)):
         if r.key == "peak_B":
             continue
         fe_value = math.nan if r.basis == "hand" else r.value  # judged on the hand model

@@ -206,6 +206,8 @@ class CoreModel:
     circuit: HandCircuit | None = None
     magnets: tuple[Magnet, ...] = ()
     force: ForceSpec | None = None
+    magnet_knees: tuple[tuple[str, float], ...] = ()
+    """(magnet region, knee field H_k in A/m, < 0) where the grade gives one."""
 
     @property
     def sourceless_at_zero_current(self) -> bool:

@@ -81,6 +81,11 @@ class FEQuantities:
     winding_values: dict[str, float] = field(default_factory=dict)
     """Per winding: flux linkage (Wb) and the incremental inductance matrix
     (H), under the flat keys of compare.hand.winding_keys."""
+    magnet_values: dict[str, float] = field(default_factory=dict)
+    """With a magnet, its first one's operating point along its
+    magnetisation: ``magnet_B`` (T) and ``magnet_H`` (A/m) means over it, and
+    ``magnet_H_min`` (A/m), the H exceeded downward on MAGNET_AREA_FRACTION
+    of its area (the demagnetising extreme, an area quantile as for peak B)."""
     force_values: dict[str, float] = field(default_factory=dict)
     """With a moving part: ``force`` and ``force_maxwell`` (the weighted
     Maxwell stress, N along the closing stroke) and, on the finest mesh of
@@ -192,6 +197,7 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
         vals["inductance"] = vals["incremental_inductance"]
     vals["energy"] = post.energy(sol)
     wv = _winding_values(case, sol, vals)
+    mv = _magnet_values(sol, model)
     fv = {}
     if model.force is not None:
         from fem2d.force import maxwell_force
@@ -211,8 +217,34 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
                      iterations=sol.iterations, residual=float(sol.residual_history[-1]),
                      ndofs=sol.ndofs, nelements=int(sol.mesh.mesh.t.shape[1]),
                      element_size=sol.mesh.layout.core_size(), seconds=seconds,
-                     winding_values=wv, force_values=fv)
+                     winding_values=wv, force_values=fv, magnet_values=mv)
     return q, samples, dA_dI
+
+
+MAGNET_AREA_FRACTION = 0.005
+"""The demagnetising extreme of a magnet is the H exceeded (downward) on this
+fraction of its area: its pointwise minimum sits at a sharp corner, where
+the 2D field is singular (as for peak B)."""
+
+
+def _magnet_values(sol: FieldSolution, model: Any) -> dict[str, float]:
+    """The first magnet's mean B and H along its magnetisation and its
+    demagnetising extreme (FEQuantities.magnet_values); {} without magnets."""
+    if not model.magnets:
+        return {}
+    m = model.magnets[0]
+    d = np.asarray(m.remanence, dtype=float)
+    d = d / np.linalg.norm(d)
+    H = post.h_field(sol)
+    idx = sol.mesh.elements_of(m.region)
+    h = (d[0] * H[0][idx] + d[1] * H[1][idx]).ravel()
+    w = np.asarray(sol.assembler.dx)[idx].ravel()
+    order = np.argsort(h)
+    cum = np.cumsum(w[order])
+    k = int(np.searchsorted(cum, MAGNET_AREA_FRACTION * cum[-1]))
+    return {"magnet_B": post.region_mean_b(sol, m.region, direction=tuple(d)),
+            "magnet_H": post.region_mean_h(sol, m.region, tuple(d)),
+            "magnet_H_min": float(h[order][min(k, len(order) - 1)])}
 
 
 def _winding_values(case: Case, sol: FieldSolution, vals: dict[str, float]) -> dict[str, float]:
@@ -382,7 +414,8 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
         q, sol, samples = run_fe(case)
         q = _with_virtual_work(case, q, sol)
         return FEResult(q, None, {k: math.nan for k in (*HAND_KEYS, *q.winding_values,
-                                                        *q.force_values)}, sol, samples)
+                                                        *q.force_values, *q.magnet_values)},
+                        sol, samples)
     guard_mesh_size(case, refine=REFINE)  # the finest mesh checked before any is made
     coarsest, sol0, _ = run_fe(case, refine=1.0 / REFINE)
     mid_mesh = mesh_case(case)
@@ -396,6 +429,8 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
                 for k, v in fine.winding_values.items()})
     unc.update({k: uncertainty_rule(coarsest.force_values[k], coarse.force_values[k], v)
                 for k, v in fine.force_values.items()})
+    unc.update({k: uncertainty_rule(coarsest.magnet_values[k], coarse.magnet_values[k], v)
+                for k, v in fine.magnet_values.items()})
     fine = _with_virtual_work(case, fine, sol)
     unc["force_virtual_work"] = unc.get("force", math.nan)
     return FEResult(fine, coarse, unc, sol, samples)

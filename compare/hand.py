@@ -321,6 +321,9 @@ class HandResult:
     winding_values: dict[str, float] = field(default_factory=dict)
     """Per winding: flux linkage (Wb) and the incremental inductance matrix
     (H), under the flat keys of :func:`winding_keys`."""
+    magnet_values: dict[str, float] = field(default_factory=dict)
+    """With a magnet in the circuit named like the case's first magnet region:
+    its ``magnet_B`` (T) and ``magnet_H`` (A/m) along its magnetisation."""
     force_values: dict[str, float] = field(default_factory=dict)
     """With a moving part (compare.coremodel.ForceSpec): the force on it
     along its closing stroke (N), ``force`` by the network's virtual work,
@@ -356,6 +359,8 @@ class HandResult:
                                     for row in self.inductance_matrix()]
         for k in FORCE_KEYS:  # N along the stroke, positive closing; null without a moving part
             out[k] = _json_float(self.force_values.get(k, math.nan))
+        if self.magnet_values:
+            out["magnet"] = {k[7:]: _json_float(v) for k, v in self.magnet_values.items()}
         return out
 
 
@@ -385,6 +390,21 @@ def hand_forces(case: Case, net: Network, res: NetworkResult) -> dict[str, float
         area = face.width * face.depth
         pull += maxwell_pull(res.branch(name).flux / area, area)
     return {"force": float(sum(vw[n] for n in spec.gaps)), "force_pull": float(pull)}
+
+
+def hand_magnet(case: Case, res: NetworkResult) -> dict[str, float]:
+    """The operating point of the circuit's magnet that stands for the case's
+    first magnet region (same name): B (T) and H (A/m) along its
+    magnetisation (a -> b); {} when there is none."""
+    circuit = hand_circuit(case)
+    model = core_model(case) if circuit is not None else None
+    if model is None or circuit is None or not model.magnets:
+        return {}
+    name = model.magnets[0].region
+    if name not in {m.name for m in circuit.magnets}:
+        return {}
+    br = res.branch(name)
+    return {"magnet_B": float(br.B), "magnet_H": float(br.H)}
 
 
 def signed(magnitude: float, current: float) -> float:
@@ -591,6 +611,7 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
         for b in res.branches)
     return HandResult(
         force_values=hand_forces(case, net, res),
+        magnet_values=hand_magnet(case, res),
         case_name=case.name,
         fringing_model=get_fringing(fringing or case.hand.fringing).name,
         planar=planar,

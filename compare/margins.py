@@ -217,7 +217,7 @@ def _label_current(i: float) -> str:
 
 
 def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: float = math.nan,
-                   fe_force: float = math.nan,
+                   fe_force: float = math.nan, fe_magnet_H_min: float = math.nan,
                    fe_at: Callable[[float, str], float] | None = None,
                    hand_at: Callable[[float, str], float] | None = None,
                    saturation: Callable[[float, str], tuple[float, float, str, str]] | None = None,
@@ -229,6 +229,8 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
     fe_peak_B, hand_peak_B : peak core B (T) at the case's current.
     fe_force : the FE force on the moving part (N, closing), for ``force_min``
         (without it the hand network's virtual work is judged).
+    fe_magnet_H_min : the FE's demagnetising extreme of the first magnet (A/m),
+        judged against its grade's knee field.
     fe_at : callable (current A, kind) -> FE inductance (H), optional
         The field model's inductance at a stated current (NaN if unknown).
     hand_at : callable (current A, kind) -> hand inductance (H), optional
@@ -248,6 +250,18 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
         out.append(MarginResult("force_min", "force on the moving part, min", "N", "min",
                                 m.force_min, value, hand=hand_f, basis=basis,
                                 note="" if math.isfinite(value) else "the case has no moving part"))
+    from .coremodel import core_model
+
+    knees = dict(core_model(case).magnet_knees)
+    model = core_model(case)
+    if model.magnets and model.magnets[0].region in knees:
+        knee = knees[model.magnets[0].region]
+        # on magnitudes: the demagnetising field |H| must stay below |H_k|
+        out.append(MarginResult(
+            "demagnetisation", f"demagnetising field in magnet {model.magnets[0].region} "
+                               "(0.5 % area), max", "A/m", "max", -knee, -fe_magnet_H_min,
+            hand=math.nan, basis="FE",
+            note="" if math.isfinite(fe_magnet_H_min) else "needs the field solution"))
     if m.current_density is not None:
         j = current_density(case)
         where = "conductor" if m.copper_fill < 1 else "coil cross-section"

@@ -100,6 +100,15 @@ def check_json(res: CheckResult) -> dict:
     for k in ("force", "force_maxwell", "force_virtual_work"):
         fe_block[k] = fv.get(k)
     fe_block["uncertainty"]["force"] = fe.uncertainty.get("force")
+    mv = fe.fine.magnet_values
+    if mv:  # the first magnet's operating point along its magnetisation (T, A/m)
+        from .coremodel import core_model
+
+        knees = dict(core_model(res.case).magnet_knees)
+        first = core_model(res.case).magnets[0].region
+        fe_block["magnet"] = {"region": first, "B": mv["magnet_B"], "H": mv["magnet_H"],
+                              "H_min": mv["magnet_H_min"], "knee_H": knees.get(first),
+                              "uncertainty": {k[7:]: fe.uncertainty.get(k) for k in mv}}
     case = res.case
     return {
         "case": {"name": case.name, "family": case.family, "file": case.source,

@@ -621,3 +621,38 @@ def test_a_drawing_in_the_wrong_unit_warns():
     d["core"]["depth"] = "20 mm"
     with pytest.warns(Warning, match="shapes.units"):
         case_from_dict(d)  # a 60 m x 70 m core: valid, implausible
+
+
+@pytest.mark.slow
+def test_magnet_rows_json_and_demagnetisation_margin():
+    from compare.check import run_check
+    from compare.serialize import check_json
+
+    d = _magnet_ring()
+    pm = d["regions"][1]
+    del pm["remanence"]
+    pm["grade"] = "demo-rare-earth"  # B_r 1.2 T, recoil 1.05, knee -900 kA/m (analytic.magnets)
+    res = run_check(case_from_dict(d))
+    rows = {r.key: r for r in res.rows}
+    ref = 1.2 / (1 + 1.05 * 118 / (1e5 * 2))  # the closed ring's load line (exact, as above)
+    assert rows["magnet_B"].hand == pytest.approx(ref, rel=1e-10)
+    assert rows["magnet_B"].fe == pytest.approx(ref, rel=2e-4)
+    # the ring barely loads the magnet: its field is far from the knee
+    demag = rows["margin:demagnetisation"]
+    assert demag.verdict == "pass" and demag.limit_value == pytest.approx(9e5)
+    assert 0 < demag.fe < 0.1 * 9e5
+    doc = check_json(res)
+    assert doc["fe"]["magnet"]["knee_H"] == -9e5 and doc["fe"]["magnet"]["region"] == "pm"
+    assert doc["hand"]["magnet"]["B"] == rows["magnet_B"].hand
+    # no moving part: the force keys are there and null
+    assert doc["fe"]["force"] is None and doc["hand"]["force"] is None
+
+
+def test_an_unknown_magnet_grade_gets_a_did_you_mean():
+    d = _magnet_ring()
+    d["regions"][1]["grade"] = "demo-rare-erth"
+    del d["regions"][1]["remanence"]
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == "regions[1].grade" and "did you mean 'demo-rare-earth'" in str(
+        info.value)

@@ -14,8 +14,9 @@ its stack depth) or axisymmetric (r-z, the shapes in r >= 0)::
     [[regions]] name, kind = "core" | "gap" | "coil" | "magnet",
                 points = [[x, y], [x, y, bulge], ...], holes = [[[x, y], ...], ...];
                 core: material (a [materials] entry, default "core"); coil: winding
-                (its name), side = "go" | "return"; magnet: remanence, direction
-                (degrees from +x, or [x, y]), mu_r (recoil, default 1.05)
+                (its name), side = "go" | "return"; magnet: grade (a built-in,
+                analytic.magnets) or remanence, mu_r (recoil, default 1.05) and
+                knee_H, and direction (degrees from +x, or [x, y])
     [circuit]   gap_B (a circuit gap drawn as the region of that name),
                 path (polyline), flux_line ([[x0, y0], [x1, y1]]), core_B (regions),
                 windings = {NAME = "BRANCH" or "-BRANCH"}
@@ -53,7 +54,7 @@ from fem2d.sources import Magnet
 from ..coremodel import (CircuitGap, CircuitMagnet, CircuitSegment, CoilModel, CoreModel,
                          ForceSpec, HandCircuit)
 from ..errors import CaseError
-from ..reader import TableReader
+from ..reader import MISSING, TableReader
 from ..units import UnitError, parse_quantity
 
 
@@ -83,6 +84,8 @@ class DrawnRegion:
     """A magnet's recoil permeability."""
     direction: tuple[float, float] | None = None
     """A gap's flux direction when given (default: across its thinnest extent)."""
+    knee_H: float | None = None
+    """A magnet's knee field (A/m, < 0), from its grade or given."""
 
     @property
     def area(self) -> float:
@@ -286,7 +289,9 @@ class DrawnCore:
             materials=tuple(materials), coils=tuple(coils), core_regions=c.core_B,
             gap_regions=gaps, gap_region=c.gap_B, gap_direction=gap_dir,
             mean_path=c.path, flux_line=c.flux_line, gap_line=None, circuit=circuit,
-            magnets=magnets, force=c.force)
+            magnets=magnets, force=c.force,
+            magnet_knees=tuple((r.name, r.knee_H) for r in c.regions
+                               if r.kind == "magnet" and r.knee_H is not None))
 
     def describe(self, c: DrawnCoreDims) -> list[tuple[str, str]]:
         rows = [("core.symmetry", c.symmetry)]
@@ -435,16 +440,31 @@ def _read_region(t: TableReader, unit: float | None, drawn: dict[str, tuple]) ->
     if kind == "gap" and t.has("direction"):
         angle = _direction(t)
         gap_dir = (math.cos(angle), math.sin(angle))
+    knee = None
     if kind == "magnet":
-        b_r = t.quantity("remanence", "flux density")
+        grade = None
+        if t.has("grade"):
+            from analytic.magnets import magnet_grade
+
+            try:
+                grade = magnet_grade(t.string("grade"))
+            except ValueError as exc:
+                raise CaseError(t.key("grade"), t.raw("grade"), str(exc)) from None
+        b_r = t.quantity("remanence", "flux density", grade.remanence if grade else MISSING)
         if b_r <= 0:
             raise CaseError(t.key("remanence"), t.raw("remanence"), "must be positive")
-        mu_r = t.number("mu_r", 1.05, lo=0.5, hi=20.0)
+        mu_r = t.number("mu_r", grade.mu_r if grade else 1.05, lo=0.5, hi=20.0)
+        knee = t.quantity("knee_H", "field strength", grade.knee_H if grade else None,
+                          positive=False)
+        if knee is not None and not knee < 0:
+            raise CaseError(t.key("knee_H"), t.raw("knee_H"), "the knee field is negative "
+                                                             "(second quadrant), e.g. \"-900 kA/m\"")
         angle = _direction(t)
         remanence = (b_r * math.cos(angle), b_r * math.sin(angle))
         remanence = tuple(0.0 if abs(c) < 1e-15 * b_r else c for c in remanence)  # type: ignore[assignment]
     t.finish()
-    reg = DrawnRegion(name, kind, shapes, material, winding, side, remanence, mu_r, gap_dir)
+    reg = DrawnRegion(name, kind, shapes, material, winding, side, remanence, mu_r, gap_dir,
+                      knee)
     if kind == "gap" and gap_dir is None and _thinness(reg) > 0.25:
         raise CaseError(t.key("direction"), None,
                         f"missing: gap '{name}' is not clearly thinner one way than the other "
