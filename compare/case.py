@@ -235,7 +235,8 @@ class Case:
 
     @property
     def depth(self) -> float:
-        return self.core.depth
+        """The stack depth (m); 1 for an axisymmetric core, which has none."""
+        return getattr(self.core, "depth", 1.0)
 
     def material(self, region: str) -> MaterialSpec:
         for m in self.materials:

@@ -131,7 +131,8 @@ def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
     lo, hi = CORE_SIZE_RANGE
     dims = [(name, getattr(case.core, name)) for name in ("outer_width", "outer_height")
             if isinstance(getattr(case.core, name, None), float)]
-    dims.append(("depth", case.depth))
+    if hasattr(case.core, "depth") and getattr(case.core, "symmetry", "planar") == "planar":
+        dims.append(("depth", case.depth))  # an r-z core has no stack depth
     for name, v in dims:
         if not lo <= v <= hi:
             out.append(CaseWarning(f"core.{name}", f"{v:g} m",

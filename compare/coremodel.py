@@ -149,6 +149,8 @@ class HandCircuit:
     gap_B: str | None
     flux_branch: str
     magnets: tuple[CircuitMagnet, ...] = ()
+    leakage: tuple[tuple[str, str, str, float, float], ...] = ()
+    """Linear leakage paths (name, node a, node b, permeance Wb/A, length m)."""
 
 
 @dataclass(frozen=True)

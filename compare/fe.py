@@ -177,7 +177,9 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     samples = None
     if model.mean_path is not None:
         path = np.array(model.mean_path, dtype=float).T
-        samples = post.path_mean_h(sol, path, exclude=model.gap_regions)
+        # the gaps' H and a magnet's own H are not the core's (the hand's path H is the iron's)
+        samples = post.path_mean_h(sol, path, exclude=(*model.gap_regions,
+                                                       *(m.region for m in model.magnets)))
         vals["path_H"] = samples.mean_h
     else:
         vals["path_H"] = math.nan

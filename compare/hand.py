@@ -216,6 +216,10 @@ def _circuit_network(case: Case, circuit: HandCircuit, fringing: str | None, pla
                                   effective_area(gap.face, model, planar),
                                   dpermeance_dlength=gap_permeance_derivative(gap.face, model,
                                                                               planar)))
+    for name, a, b, perm, length in circuit.leakage:
+        nodes.update((a, b))
+        branches.append(GapBranch(name, a, b, length, perm, perm * length / mu_0,
+                                  kind="leakage"))
     for m in circuit.magnets:
         nodes.update((m.node_a, m.node_b))
         branches.append(MagnetBranch(m.name, m.node_a, m.node_b, m.length, m.area, m.remanence,
