@@ -665,8 +665,9 @@ def _branch_results(net: Network, f: NDArray, phi: NDArray) -> tuple[BranchResul
             coenergy = 0.5 * br.permeance * fk**2
             kind = br.kind
         elif isinstance(br, MagnetBranch):
-            # the recoil law's field energy, mu H^2/2 per volume, and the
-            # co-energy int_0^H B dH = mu H^2/2 + B_r H (as fem2d.post.coenergy)
+            # the recoil law's field energy, mu H^2/2 per volume (as
+            # fem2d.post.energy), and the co-energy int_0^H B dH = mu H^2/2 +
+            # B_r H (as fem2d.post.coenergy)
             area = br.area
             energy = 0.5 * br.permeance * fk**2
             coenergy = energy + br.remanence * area * fk

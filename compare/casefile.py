@@ -99,6 +99,13 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     check = getattr(family, "check_case", None)
     if check is not None:  # what the family checks across tables (coils name windings, ...)
         check(case)
+    if case.margins.force_min is not None:
+        from .coremodel import core_model
+
+        if core_model(case).force is None:
+            raise CaseError("margins.force_min", case.margins.force_min,
+                            "the case has no moving part (a u-armature or holding-magnet core, "
+                            "or a drawn core with [force])")
     for w in plausibility_issues(case):
         warnings.warn(w, stacklevel=2)
     return case

@@ -182,17 +182,19 @@ def force_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
     f = fv.get("force", math.nan)
     u = fe.uncertainty.get("force", math.nan)
     out = []
+    # one depth correction for the FE force: the hand network's 3D over planar
+    # force (the pull formula is one of the estimates compared, not a model
+    # of the depth fringing)
+    hp_f, h3_f = hand_p.force_values["force"], hand_3d.force_values["force"]
+    k3 = h3_f / hp_f if hp_f and math.isfinite(h3_f) else 1.0
     for k in FORCE_KEYS:
         h, h3 = hand_p.force_values[k], hand_3d.force_values[k]
         d = _diff_pct(h, f)
         lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
-        k3 = h3 / h if h and math.isfinite(h3) else 1.0
         out.append(Row(k, LABELS[k], "N", h, f, u, d, lim, _verdict(d, h, f, u, lim),
                        hand_3d=h3, fe_3d=f * k3))
     vw = fv.get("force_virtual_work", math.nan)
     if math.isfinite(vw):
-        k3 = (hand_3d.force_values["force"] / hand_p.force_values["force"]
-              if hand_p.force_values["force"] else 1.0)
         out.append(Row("force_virtual_work", LABELS["force_virtual_work"], "N", math.nan, vw,
                        fe.uncertainty.get("force_virtual_work", math.nan), math.nan, None,
                        "info", fe_3d=vw * k3))

@@ -204,7 +204,14 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     if model.force is not None:
         from fem2d.force import maxwell_force
 
-        fx, fy = maxwell_force(sol, model.force.body).force
+        from fem2d.errors import PostError
+
+        try:
+            fx, fy = maxwell_force(sol, model.force.body).force
+        except PostError as exc:  # the layer round the body is not free air
+            raise CaseError("force.body", list(model.force.body),
+                            f"{exc}: the moving part needs air all round it (its working "
+                            "gaps, or air) to take the force on it") from None
         dx, dy = model.force.direction
         fv = {"force": fx * dx + fy * dy}
         fv["force_maxwell"] = fv["force"]

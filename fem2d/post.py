@@ -403,13 +403,22 @@ def energy(sol) -> float:
     """Stored energy W = total * int w(|B|^2) dV, w = int_0^B H dB (J).
 
     With the open boundary the exterior's (air) energy is included.  In a
-    magnet the density is that of its recoil law without the remanence
-    (the field energy int w(|B|^2); the force issue adds the magnet terms).
+    magnet (B = mu H + B_r) the density is the recoil line's field energy
+    mu |H|^2 / 2 = |B - B_r|^2 / (2 mu), measured from the magnet's own state
+    (H = 0), as the magnetic circuit counts it (analytic.network.MagnetBranch).
     """
     asm = _asm(sol)
-    s = asm.s_of(asm.grad(sol.A))
-    return float(asm.formulation.total * (np.sum(asm.energy_density(s) * asm.wv)
-                                          + asm.ext_energy(sol.A)))
+    g = asm.grad(sol.A)
+    s = asm.s_of(g)
+    dens = asm.energy_density(s)
+    if asm.magnets:
+        nu, _ = asm.coefficients(s, derivative=False)
+        B = asm.b_at_qp(g)
+        for m in asm.magnets:
+            idx = sol.mesh.subdomains[m.region]
+            d = B[:, idx] - asm.br[:, idx]
+            dens[idx] = 0.5 * nu[idx] * (d[0] ** 2 + d[1] ** 2)
+    return float(asm.formulation.total * (np.sum(dens * asm.wv) + asm.ext_energy(sol.A)))
 
 
 def coenergy(sol) -> float:

@@ -656,3 +656,59 @@ def test_an_unknown_magnet_grade_gets_a_did_you_mean():
         case_from_dict(d)
     assert info.value.key == "regions[1].grade" and "did you mean 'demo-rare-earth'" in str(
         info.value)
+
+
+def test_review_refusals_for_moving_parts_and_magnets():
+    # an opening direction does not close the working gaps
+    d = _clapper()
+    d["force"]["direction"] = 90
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == "force.direction" and "does not close gap" in str(info.value)
+    # a drawn magnet the circuit leaves out
+    d = _magnet_ring()
+    del d["circuit"]["magnets"]
+    d["circuit"]["segments"].append({"name": "iron2", "length": "1 mm", "area": "100 mm^2"})
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == "regions[1]" and "[[circuit.magnets]]" in str(info.value)
+    # a force margin without a moving part
+    d = _drawn()
+    d["margins"] = {"force_min": "1 N"}
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == "margins.force_min"
+
+
+def test_a_moving_part_resting_on_iron_is_named():
+    # a hinged armature lying on the right leg: no air layer round it there
+    d = _clapper()
+    d["regions"] = [r for r in d["regions"] if r["name"] != "gapR"]
+    d["regions"][1]["points"] = [[0, 30.5], [40, 30.5], [40, 38.5], [0, 38.5]]
+    d["regions"][0]["points"] = [[0, 0], [40, 0], [40, 30.5], [30, 30.5], [30, 10], [10, 10],
+                                 [10, 30], [0, 30]]
+    d["circuit"]["gaps"] = d["circuit"]["gaps"][:1]
+    d["force"]["gaps"] = ["gapL"]
+    case = case_from_dict(d)
+    with pytest.raises(CaseError) as info:
+        run_fe(case)
+    assert info.value.key == "force.body" and "air all round it" in str(info.value)
+
+
+def test_magnet_energy_is_the_recoil_field_energy():
+    # Source: exact. Without currents the field's H is curl-free and B
+    # divergence-free, so int H.B dV = 0 over all space (and, for the
+    # discrete solution, the weak form tested with A itself); with the
+    # magnet's energy mu H^2/2 (from its own state) and B^2/(2 mu) elsewhere
+    # the stored energy is then W = -(1/2) int_magnet H.B_r dV
+    from fem2d import post
+
+    d = _magnet_ring(mu_c=100.0)
+    fe, sol, _ = run_fe(case_from_dict(d))
+    h_mean = post.region_mean_h(sol, "pm", (0.0, 1.0))
+    w_ref = -0.5 * 1.2 * h_mean * (10e-3 * 2e-3) * 10e-3
+    assert fe.values["energy"] == pytest.approx(w_ref, rel=1e-6)
+    # the hand circuit counts it alike: its energy is -(1/2) B_r H_m V_m too
+    h = run_hand(case_from_dict(d))
+    m = h.network.branch("pm")
+    assert h.energy == pytest.approx(-0.5 * 1.2 * m.H * 100e-6 * 2e-3, rel=1e-9)

@@ -236,6 +236,12 @@ class DrawnCore:
                 raise CaseError(f"circuit.windings.{n}", n, "names no winding"
                                 + _hint(n, names))
         _check_circuit_loops(c, names)
+        in_circuit = {m.name for m in c.magnets}
+        for k, r in enumerate(c.regions):
+            if r.kind == "magnet" and r.name not in in_circuit:
+                raise CaseError(f"regions[{k}]", r.name,
+                                "a drawn magnet needs its [[circuit.magnets]] entry of the same "
+                                "name: the hand model would leave out its MMF")
         for key, on in (("hand.leakage", case.hand.leakage),
                         ("hand.effective_parameters", case.hand.effective_parameters)):
             if on:
@@ -737,8 +743,36 @@ def _read_force(t: TableReader, symmetry: str, regions: tuple[DrawnRegion, ...],
     for g in work:
         if g not in names:
             raise CaseError(t.key("gaps"), g, "names no circuit gap" + _hint(g, names))
+    drawn = {r.name: r for r in regions}
+    moving = [sh for r in regions if r.name in body for sh in r.shapes]
+    bc = _centroid(moving)
+    for g in work:
+        if g not in drawn:
+            continue
+        gc = _centroid(list(drawn[g].shapes))
+        across = drawn[g].direction or _thin_direction(drawn[g])
+        along = abs(across[0] * d[0] + across[1] * d[1])
+        toward = (gc[0] - bc[0]) * d[0] + (gc[1] - bc[1]) * d[1]
+        if along < 0.9 or toward <= 0:
+            raise CaseError(t.key("direction"), t.raw("direction"),
+                            f"the motion does not close gap '{g}': give the direction in which "
+                            "the moving part travels to shut its working gaps (toward them, "
+                            "across them)")
     t.finish()
     return ForceSpec(tuple(body), d, tuple(work))
+
+
+def _centroid(shapes: list[Any]) -> Point:
+    """Area centroid of shapes (their outlines; m)."""
+    a = cx = cy = 0.0
+    for sh in shapes:
+        p = np.asarray(_loops(sh)[0], dtype=float)
+        q = np.roll(p, -1, axis=0)
+        cr = p[:, 0] * q[:, 1] - q[:, 0] * p[:, 1]
+        a += 0.5 * cr.sum()
+        cx += float(np.sum((p[:, 0] + q[:, 0]) * cr)) / 6.0
+        cy += float(np.sum((p[:, 1] + q[:, 1]) * cr)) / 6.0
+    return (cx / a, cy / a)
 
 
 def _nodes(t: TableReader) -> tuple[str, str] | None:

@@ -96,6 +96,9 @@ class HoldingMagnet:
         tk = t.quantity("keeper_thickness", "length", base)
         rk = t.quantity("keeper_radius", "length", R)
         stroke = t.quantity("stroke", "length")
+        if wall >= R:
+            raise CaseError(t.key("wall"), t.raw("wall"),
+                            f"the wall is as thick as the cup's {R * 1e3:g} mm radius")
         if rp >= R - wall:
             raise CaseError(t.key("pole_radius"), t.raw("pole_radius"),
                             f"the pole fills the cup: it must be smaller than the wall's inner "
