@@ -410,15 +410,15 @@ def energy(sol) -> float:
     asm = _asm(sol)
     g = asm.grad(sol.A)
     s = asm.s_of(g)
-    dens = asm.energy_density(s)
+    w_dens = asm.energy_density(s)
     if asm.magnets:
         nu, _ = asm.coefficients(s, derivative=False)
         B = asm.b_at_qp(g)
         for m in asm.magnets:
             idx = sol.mesh.subdomains[m.region]
             d = B[:, idx] - asm.br[:, idx]
-            dens[idx] = 0.5 * nu[idx] * (d[0] ** 2 + d[1] ** 2)
-    return float(asm.formulation.total * (np.sum(dens * asm.wv) + asm.ext_energy(sol.A)))
+            w_dens[idx] = 0.5 * nu[idx] * (d[0] ** 2 + d[1] ** 2)
+    return float(asm.formulation.total * (np.sum(w_dens * asm.wv) + asm.ext_energy(sol.A)))
 
 
 def coenergy(sol) -> float:
