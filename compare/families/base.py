@@ -10,7 +10,7 @@ from typing import Any, Protocol
 from ..geometry import Limb, Rect
 from ..reader import TableReader
 
-__all__ = ["Segment", "Window", "Family", "INF"]
+__all__ = ["Segment", "Window", "Family", "INF", "check_stroke_case"]
 
 INF = math.inf
 
@@ -121,3 +121,20 @@ class Family(Protocol):
     def effective_path(self, core: Any) -> tuple[list[tuple[str, float, float]], tuple[str, ...]]: ...
 
 
+
+
+def check_stroke_case(case: Any, what: str) -> None:
+    """The checks of a family whose working gaps are its stroke: no
+    ``[[gaps]]``, and no hand refinement that needs a window core's limbs.
+
+    Raises CaseError naming the key."""
+    from ..errors import CaseError
+
+    if case.gaps:
+        raise CaseError("gaps[0].limb", case.gaps[0].limb,
+                        f"a {what}'s working gaps are its stroke ([core] stroke); it takes "
+                        "no [[gaps]]")
+    for key, on in (("hand.leakage", case.hand.leakage),
+                    ("hand.effective_parameters", case.hand.effective_parameters)):
+        if on:
+            raise CaseError(key, True, f"not modelled for a {what}: set it false")

@@ -39,7 +39,7 @@ from ..coremodel import (CircuitGap, CircuitMagnet, CircuitSegment, CoilModel, C
 from ..errors import CaseError
 from ..geometry import Limb
 from ..reader import TableReader
-from .base import INF, Segment, Window
+from .base import INF, Segment, Window, check_stroke_case
 
 __all__ = ["HoldingMagnet", "HoldingMagnetDims"]
 
@@ -126,17 +126,10 @@ class HoldingMagnet:
                                  grade.remanence, grade.mu_r, grade.knee_H)
 
     def check_case(self, case: Any) -> None:
-        if case.gaps:
-            raise CaseError("gaps[0].limb", case.gaps[0].limb,
-                            "a holding magnet's working gaps are its stroke ([core] stroke); "
-                            "it takes no [[gaps]]")
+        check_stroke_case(case, "holding magnet")
         if len(case.windings) > 1:
             raise CaseError("windings", len(case.windings), "a holding magnet takes one "
                                                             "(release) winding")
-        for key, on in (("hand.leakage", case.hand.leakage),
-                        ("hand.effective_parameters", case.hand.effective_parameters)):
-            if on:
-                raise CaseError(key, True, "not modelled for a holding magnet: set it false")
 
     # ------------------------------------------------------------ geometry
     def limbs(self, c: HoldingMagnetDims) -> dict[str, Limb]:

@@ -32,7 +32,7 @@ from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel, Force
 from ..errors import CaseError
 from ..geometry import Limb, coil_rects, flux_direction
 from ..reader import TableReader
-from .base import INF, Segment, Window
+from .base import INF, Segment, Window, check_stroke_case
 
 __all__ = ["UArmature", "UArmatureDims"]
 
@@ -85,14 +85,7 @@ class UArmature:
         return UArmatureDims(w, ww, wh, yoke, arm, depth, stroke)
 
     def check_case(self, case: Any) -> None:
-        if case.gaps:
-            raise CaseError("gaps[0].limb", case.gaps[0].limb,
-                            "a u-armature core's working gaps are its stroke ([core] stroke); "
-                            "it takes no [[gaps]]")
-        for key, on in (("hand.leakage", case.hand.leakage),
-                        ("hand.effective_parameters", case.hand.effective_parameters)):
-            if on:
-                raise CaseError(key, True, "not modelled for a u-armature core: set it false")
+        check_stroke_case(case, "u-armature core")
 
     # ------------------------------------------------------------ geometry
     def limbs(self, c: UArmatureDims) -> dict[str, Limb]:
