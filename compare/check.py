@@ -280,7 +280,7 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
     rows.append(Row("peak_B", LABELS["peak_B"], "T", math.nan, peak,
                     fe.uncertainty.get("peak_B", math.nan), math.nan, None, verdict,
                     fe_3d=peak, limit_value=limit, margin_pct=margin))
-    rows.extend(margin_rows(case, fe))
+    rows.extend(margin_rows(case, fe, hand_p, hand_3d))
     return tuple(rows)
 
 
@@ -335,7 +335,8 @@ def winding_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
     return out
 
 
-def margin_rows(case: Case, fe: FEResult) -> list[Row]:
+def margin_rows(case: Case, fe: FEResult, hand_p: HandResult | None = None,
+                hand_3d: HandResult | None = None) -> list[Row]:
     """Rows for the design margins other than peak B (see compare.margins).
 
     Inductance at a stated current and the minimum force are judged on the
@@ -365,11 +366,14 @@ def margin_rows(case: Case, fe: FEResult) -> list[Row]:
 
     out = []
     fe_force = fe.fine.force_values.get("force", math.nan)
+    h3 = math.nan
     if math.isfinite(fe_force):  # with the depth correction, as the inductance above
-        hp = run_hand(case, planar=True).force_values.get("force", math.nan)
-        h3 = run_hand(case).force_values.get("force", math.nan)
+        hand_p = hand_p or run_hand(case, planar=True)
+        hand_3d = hand_3d or run_hand(case)
+        hp = hand_p.force_values.get("force", math.nan)
+        h3 = hand_3d.force_values.get("force", math.nan)
         fe_force *= h3 / hp if hp and math.isfinite(h3) else 1.0
-    for r in design_margins(case, fe_at=fe_at, fe_force=fe_force,
+    for r in design_margins(case, fe_at=fe_at, fe_force=fe_force, hand_force=h3,
                             fe_magnet_H_min=fe.fine.magnet_values.get("magnet_H_min", math.nan)):
         if r.key == "peak_B":
             continue

@@ -19,9 +19,11 @@ Any: the families import this module and compare.case imports the families.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Any
 
 from analytic.fringing import GapFace
+from analytic.network import MagnetBranch
 from fem2d.layout import Region
 from fem2d.sources import Magnet
 
@@ -29,7 +31,7 @@ from .geometry import Limb, coil_rects, gap_rect
 
 
 __all__ = ["CoreModel", "CoilModel", "GapLine", "HandCircuit", "CircuitSegment", "CircuitGap",
-           "CircuitMagnet", "ForceSpec",
+           "ForceSpec",
            "core_model", "coil_name", "coil_regions", "WINDING", "COIL_PLUS", "COIL_MINUS"]
 
 Point = tuple[float, float]
@@ -119,21 +121,6 @@ class CircuitGap:
 
 
 @dataclass(frozen=True)
-class CircuitMagnet:
-    """A permanent magnet of a hand circuit (analytic.network.MagnetBranch):
-    length l_m and face area A_m (m, m^2), remanence B_r (T) and recoil mu_r,
-    magnetised from node_a to node_b."""
-
-    name: str
-    node_a: str
-    node_b: str
-    length: float
-    area: float
-    remanence: float
-    mu_r: float
-
-
-@dataclass(frozen=True)
 class HandCircuit:
     """A magnetic circuit given explicitly (the user's own hand model).
 
@@ -148,7 +135,8 @@ class HandCircuit:
     windings: tuple[tuple[str, int], ...]
     gap_B: str | None
     flux_branch: str
-    magnets: tuple[CircuitMagnet, ...] = ()
+    magnets: tuple[MagnetBranch, ...] = ()
+    """The circuit's magnets, as the network takes them (magnetised a -> b)."""
     leakage: tuple[tuple[str, str, str, float, float], ...] = ()
     """Linear leakage paths (name, node a, node b, permeance Wb/A, length m)."""
 
@@ -223,7 +211,16 @@ class CoreModel:
 
 def core_model(case: Any) -> CoreModel:
     """The case's CoreModel: the family's own (``family.core_model``) or the
-    one built from its limbs and part rectangles."""
+    one built from its limbs and part rectangles.
+
+    Both models, the check and the margins ask for it many times per case;
+    it is built once per (equal) case and shared (it is immutable, and it
+    depends on the case's fields only, not on its materials' laws)."""
+    return _core_model(case)
+
+
+@lru_cache(maxsize=64)
+def _core_model(case: Any) -> CoreModel:
     own = getattr(case.family_model, "core_model", None)
     if own is not None:
         return own(case)

@@ -218,6 +218,7 @@ def _label_current(i: float) -> str:
 
 def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: float = math.nan,
                    fe_force: float = math.nan, fe_magnet_H_min: float = math.nan,
+                   hand_force: float = math.nan,
                    fe_at: Callable[[float, str], float] | None = None,
                    hand_at: Callable[[float, str], float] | None = None,
                    saturation: Callable[[float, str], tuple[float, float, str, str]] | None = None,
@@ -231,6 +232,7 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
         (without it the hand network's virtual work is judged).
     fe_magnet_H_min : the FE's demagnetising extreme of the first magnet (A/m),
         judged against its grade's knee field.
+    hand_force : the 3D hand force (N) when already solved (default: solved here).
     fe_at : callable (current A, kind) -> FE inductance (H), optional
         The field model's inductance at a stated current (NaN if unknown).
     hand_at : callable (current A, kind) -> hand inductance (H), optional
@@ -245,15 +247,16 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
         out.append(MarginResult("peak_B", "peak core B", "T", "max", m.peak_B, fe_peak_B,
                                 hand=hand_peak_B, basis="FE"))
     if m.force_min is not None:
-        hand_f = run_hand(case).force_values.get("force", math.nan)
+        hand_f = (hand_force if math.isfinite(hand_force)
+                  else run_hand(case).force_values.get("force", math.nan))
         value, basis = (fe_force, "FE") if math.isfinite(fe_force) else (hand_f, "hand")
         out.append(MarginResult("force_min", "force on the moving part, min", "N", "min",
                                 m.force_min, value, hand=hand_f, basis=basis,
                                 note="" if math.isfinite(value) else "the case has no moving part"))
     from .coremodel import core_model
 
-    knees = dict(core_model(case).magnet_knees)
     model = core_model(case)
+    knees = dict(model.magnet_knees)
     if model.magnets and model.magnets[0].region in knees:
         knee = knees[model.magnets[0].region]
         # on magnitudes: the demagnetising field |H| must stay below |H_k|

@@ -104,8 +104,9 @@ def check_json(res: CheckResult) -> dict:
     if mv:  # the first magnet's operating point along its magnetisation (T, A/m)
         from .coremodel import core_model
 
-        knees = dict(core_model(res.case).magnet_knees)
-        first = core_model(res.case).magnets[0].region
+        model = core_model(res.case)
+        knees = dict(model.magnet_knees)
+        first = model.magnets[0].region
         fe_block["magnet"] = {"region": first, "B": mv["magnet_B"], "H": mv["magnet_H"],
                               "H_min": mv["magnet_H_min"], "knee_H": knees.get(first),
                               "uncertainty": {k[7:]: fe.uncertainty.get(k) for k in mv}}
