@@ -21,7 +21,7 @@ import numpy as np
 
 from fem2d import post
 from fem2d.mesher import estimate_triangles
-from fem2d.layout import AirBox, Layout, MeshSettings, Region
+from fem2d.layout import AirBox, Layout, MeshSettings
 from fem2d.mesh import RegionMesh, build_mesh
 from fem2d.solver import ConvergenceError, FieldSolution, solve
 from fem2d.sources import Coil, Sources
@@ -119,12 +119,6 @@ def _materials(case: Case) -> dict[str, Any]:
 
     return {key: homogenised(case.part_material(entry).law)
             for key, entry in core_model(case).materials}
-
-
-def core_region_names(case: Case) -> list[str]:
-    """The layout's core regions (CoreModel.core_regions): for a limb family
-    "core", and "core-PART" for each part with a material of its own."""
-    return list(core_model(case).core_regions)
 
 
 PEAK_AREA_FRACTION = 0.005

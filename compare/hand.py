@@ -18,8 +18,7 @@ from typing import Any
 from analytic.fringing import (GapFace, GapSides, effective_area, gap_permeance,
                                gap_permeance_derivative, get_fringing)
 from analytic.constants import mu_0
-from analytic.network import (CoreBranch, GapBranch, MagnetBranch, Network, NetworkResult, Winding,
-                              solve_network)
+from analytic.network import CoreBranch, GapBranch, Network, NetworkResult, Winding, solve_network
 
 from .case import Case
 from .coremodel import HandCircuit, core_model
@@ -222,8 +221,7 @@ def _circuit_network(case: Case, circuit: HandCircuit, fringing: str | None, pla
                                   kind="leakage"))
     for m in circuit.magnets:
         nodes.update((m.node_a, m.node_b))
-        branches.append(MagnetBranch(m.name, m.node_a, m.node_b, m.length, m.area, m.remanence,
-                                     m.mu_r))
+        branches.append(m)
     sources = tuple(Winding(w.name, sign * w.turns, w.current, branch)
                     for w, (branch, sign) in zip(case.windings, circuit.windings))
     ground = circuit.segments[0].node_a  # the first node is the network's reference

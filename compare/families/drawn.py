@@ -47,11 +47,12 @@ from typing import Any
 import numpy as np
 
 from analytic.fringing import FRINGING_MODELS, GapFace, GapFaceError
+from analytic.network import MagnetBranch
 from fem2d.layout import LayoutError, Polygon, Region, crossing_between, point_in_polygon
 
 from fem2d.sources import Magnet
 
-from ..coremodel import (CircuitGap, CircuitMagnet, CircuitSegment, CoilModel, CoreModel,
+from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel,
                          ForceSpec, HandCircuit)
 from ..errors import CaseError
 from ..reader import MISSING, TableReader
@@ -110,7 +111,7 @@ class DrawnCoreDims:
     path: tuple[Point, ...]
     flux_line: tuple[Point, Point]
     core_B: tuple[str, ...]
-    magnets: tuple[CircuitMagnet, ...] = ()
+    magnets: tuple[MagnetBranch, ...] = ()
     force: ForceSpec | None = None
     """The moving part ([force]), if any."""
     source: str = ""
@@ -823,7 +824,7 @@ def _read_circuit(t: TableReader, symmetry: str, depth: float,
             if not b_r > 0:
                 raise CaseError(st.key("remanence"), st.raw("remanence", None), "must be positive")
             mu_r = st.number("mu_r", reg.mu_r if reg is not None else None, lo=0.5, hi=20.0)
-            magnets.append(CircuitMagnet(nm, a, b, st.quantity("length", "length"),
+            magnets.append(MagnetBranch(nm, a, b, st.quantity("length", "length"),
                                          st.quantity("area", "area"), b_r, mu_r))
             st.finish()
             continue

@@ -31,10 +31,11 @@ from typing import Any
 
 from analytic.constants import mu_0
 from analytic.fringing import GapFace
+from analytic.network import MagnetBranch
 from fem2d.layout import Rect, Region
 from fem2d.sources import Magnet
 
-from ..coremodel import (CircuitGap, CircuitMagnet, CircuitSegment, CoilModel, CoreModel,
+from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel,
                          ForceSpec, HandCircuit)
 from ..errors import CaseError
 from ..geometry import Limb
@@ -204,7 +205,7 @@ class HoldingMagnet:
                 CircuitSegment("base", "b", "m0", *base))
         gaps = (CircuitGap("gap-pole", "p", "k1", _square_face(s, a_pole)),
                 CircuitGap("gap-wall", "k2", "w", _square_face(s, a_wall)))
-        mags = (CircuitMagnet("magnet", "m0", "m", c.magnet_height, a_pole, c.remanence,
+        mags = (MagnetBranch("magnet", "m0", "m", c.magnet_height, a_pole, c.remanence,
                               c.mu_r),)
         # a positive release current: +phi round the axis drives flux up the pole (+z), with the magnet
         # leakage inside the cup, pole to wall across the annulus: both irons are
