@@ -197,6 +197,14 @@ def test_axisymmetric_drawn_coil_flux_against_current_loops():
     assert fe.values["flux"] == pytest.approx(ref, rel=5e-4)
 
 
+def _refused(d: dict, key: str, words: str = "") -> None:
+    """Loading ``d`` raises a CaseError naming ``key``, its text holding ``words``."""
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == key
+    assert words in str(info.value)
+
+
 def _with(mutate):
     d = _drawn()
     mutate(d)
@@ -243,18 +251,13 @@ def _set(path, value):
      "regions[0].points[2]", "finite numbers"),
 ])
 def test_bad_drawings_name_the_key(mutate, key, words):
-    with pytest.raises(CaseError) as info:
-        case_from_dict(_with(mutate))
-    assert info.value.key == key
-    assert words in str(info.value)
+    _refused(_with(mutate), key, words)
 
 
 def test_axisymmetric_regions_stay_in_r_ge_0():
     d = _rz_air_coil()
     d["regions"][1]["points"] = [[-1, -10], [5, -10], [5, 10], [-1, 10]]
-    with pytest.raises(CaseError) as info:
-        case_from_dict(d)
-    assert info.value.key == "regions[1].points" and "r >= 0" in str(info.value)
+    _refused(d, "regions[1].points", "r >= 0")
 
 
 def test_a_part_material_and_a_segment_material_are_read():
@@ -430,9 +433,7 @@ def test_a_magnet_in_a_closed_ring_sits_on_its_recoil_line_in_both_models():
 def test_bad_magnets_name_the_key(mutate, key, words):
     d = _magnet_ring()
     mutate(d)
-    with pytest.raises(CaseError) as info:
-        case_from_dict(d)
-    assert info.value.key == key and words in str(info.value)
+    _refused(d, key, words)
 
 
 def _clapper(gap_mm: float = 0.5, fringing: str = "area") -> dict:
@@ -521,9 +522,7 @@ def test_clapper_check_gives_force_rows_and_both_fe_methods_agree(tmp_path):
 def test_bad_force_tables_name_the_key(mutate, key, words):
     d = _clapper()
     mutate(d)
-    with pytest.raises(CaseError) as info:
-        case_from_dict(d)
-    assert info.value.key == key and words in str(info.value)
+    _refused(d, key, words)
 
 
 # -- review findings: each a bad input named, or a model that stays right ------
@@ -552,10 +551,7 @@ def _nodes_loop(d, ends):
      "has no limbs"),
 ])
 def test_bad_drawn_inputs_found_in_review_name_the_key(mutate, key, words):
-    with pytest.raises(CaseError) as info:
-        case_from_dict(_with(mutate))
-    assert info.value.key == key
-    assert words in str(info.value)
+    _refused(_with(mutate), key, words)
 
 
 def test_a_square_gap_takes_its_direction_from_the_case():
@@ -571,9 +567,7 @@ def test_an_axisymmetric_coil_has_no_return_side():
     d["regions"][1]["side"] = "return"
     d["regions"].append({"name": "coil2", "kind": "coil",
                          "points": [[16, -10], [18, -10], [18, 10], [16, 10]]})
-    with pytest.raises(CaseError) as info:
-        case_from_dict(d)
-    assert info.value.key == "regions[1].side"
+    _refused(d, "regions[1].side")
 
 
 def test_a_coil_side_drawn_in_pieces_carries_n_i_once():
@@ -652,32 +646,23 @@ def test_an_unknown_magnet_grade_gets_a_did_you_mean():
     d = _magnet_ring()
     d["regions"][1]["grade"] = "demo-rare-erth"
     del d["regions"][1]["remanence"]
-    with pytest.raises(CaseError) as info:
-        case_from_dict(d)
-    assert info.value.key == "regions[1].grade" and "did you mean 'demo-rare-earth'" in str(
-        info.value)
+    _refused(d, "regions[1].grade", "did you mean 'demo-rare-earth'")
 
 
 def test_review_refusals_for_moving_parts_and_magnets():
     # an opening direction does not close the working gaps
     d = _clapper()
     d["force"]["direction"] = 90
-    with pytest.raises(CaseError) as info:
-        case_from_dict(d)
-    assert info.value.key == "force.direction" and "does not close gap" in str(info.value)
+    _refused(d, "force.direction", "does not close gap")
     # a drawn magnet the circuit leaves out
     d = _magnet_ring()
     del d["circuit"]["magnets"]
     d["circuit"]["segments"].append({"name": "iron2", "length": "1 mm", "area": "100 mm^2"})
-    with pytest.raises(CaseError) as info:
-        case_from_dict(d)
-    assert info.value.key == "regions[1]" and "[[circuit.magnets]]" in str(info.value)
+    _refused(d, "regions[1]", "[[circuit.magnets]]")
     # a force margin without a moving part
     d = _drawn()
     d["margins"] = {"force_min": "1 N"}
-    with pytest.raises(CaseError) as info:
-        case_from_dict(d)
-    assert info.value.key == "margins.force_min"
+    _refused(d, "margins.force_min")
 
 
 def test_a_moving_part_resting_on_iron_is_named():

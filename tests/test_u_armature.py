@@ -7,7 +7,6 @@ FE methods agree, the FE converges), and that bad cores name their key.
 
 from __future__ import annotations
 
-import math
 import tomllib
 from pathlib import Path
 
