@@ -8,6 +8,15 @@ P_0 = mu0*a*b/g of a gap with pole face a x b and length g (REFERENCES.md 1):
 * ``k_depth`` - out-of-plane part (across the stack depth b).
 
 Planar-consistent permeance: P_0*k_plane.  3D permeance: P_0*k_plane*k_depth.
+
+A round face (:meth:`GapFace.round`: a disc r < r_o, or an annulus
+r_i < r < r_o, across an axial gap of an axisymmetric part) has no depth
+direction: its whole fringing is ``k_plane`` and ``k_depth`` is 1, so the
+planar and 3D permeances agree (an r-z field model holds all of it).  The
+edge models put each edge's fringing per unit edge length (the planar
+model's, per unit depth) round the edge's circumference 2 pi r_e; the
+curvature of the fringing field round the edge is neglected, an error of
+order g/r_e [derived here].
 """
 
 from __future__ import annotations
@@ -105,10 +114,49 @@ class GapFace:
     depth: float
     free_height: float
     sides: GapSides | None = None
+    radii: tuple[float, float] | None = None
+    """(r_i, r_o) of a round face (m; r_i = 0 for a disc), or None for a
+    rectangular one.  Made by :meth:`round`, which sets width = r_o - r_i and
+    depth = pi (r_i + r_o), so width * depth is the face's area.  ``sides``
+    then gives the inner edge's free faces as ``minus`` and the outer
+    edge's as ``plus`` (``depth`` unused)."""
 
     def __post_init__(self) -> None:
         for key in ("length", "width", "depth", "free_height"):
             object.__setattr__(self, key, _positive("gap face", key, getattr(self, key)))
+        if self.radii is not None:
+            r_i, r_o = (float(v) for v in self.radii)
+            if not (math.isfinite(r_i) and math.isfinite(r_o) and 0.0 <= r_i < r_o):
+                raise GapFaceError(f"gap face: radii = {self.radii!r} m must be 0 <= r_i < r_o")
+            if not (math.isclose(self.width, r_o - r_i, rel_tol=1e-12)
+                    and math.isclose(self.depth, math.pi * (r_i + r_o), rel_tol=1e-12)):
+                raise GapFaceError(f"gap face: radii = {self.radii!r} m do not match width "
+                                   f"{self.width!r} and depth {self.depth!r}: use GapFace.round")
+            object.__setattr__(self, "radii", (r_i, r_o))
+
+    @classmethod
+    def round(cls, length: float, r_inner: float, r_outer: float, free_height: float,
+              sides: GapSides | None = None) -> "GapFace":
+        """A round face: the disc r < r_outer (``r_inner`` = 0) or the annulus
+        r_inner < r < r_outer (m), across an axial gap of ``length``."""
+        r_i = float(r_inner)
+        r_o = _positive("gap face", "r_outer", r_outer)
+        if not (math.isfinite(r_i) and 0.0 <= r_i < r_o):
+            raise GapFaceError(f"gap face: r_inner = {r_inner!r} m must be 0 <= r_inner < r_outer "
+                               f"= {r_o!r} m")
+        return cls(length, r_o - r_i, math.pi * (r_i + r_o), free_height, sides, (r_i, r_o))
+
+    def edges(self) -> tuple[tuple[float, tuple[float, float], float], ...]:
+        """A round face's edges: (circumference m, free faces (lo, hi) m, room
+        across m), the inner edge first when there is one."""
+        if self.radii is None:
+            raise GapFaceError("gap face: edges() is for a round face (GapFace.round)")
+        r_i, r_o = self.radii
+        sides = self.free_faces()
+        out = [(2 * math.pi * r_o, sides.plus, sides.room[1])]
+        if r_i > 0.0:
+            out.insert(0, (2 * math.pi * r_i, sides.minus, sides.room[0]))
+        return tuple(out)
 
     def free_faces(self) -> GapSides:
         """`sides`, or free_height each way on every side when not given."""
@@ -142,8 +190,16 @@ def _none(face: GapFace) -> tuple[float, float]:
 
 
 def _area(face: GapFace) -> tuple[float, float]:
-    """Area enlargement A_g = (a+g)(b+g) (Matsch 1964, ch. 3): k_plane = (a+g)/a, k_depth = (b+g)/b."""
+    """Area enlargement A_g = (a+g)(b+g) (Matsch 1964, ch. 3): k_plane = (a+g)/a, k_depth = (b+g)/b.
+
+    A round face grows by g/2 at each edge as the rectangle does: the disc
+    pi (r_o + g/2)^2, the annulus pi [(r_o + g/2)^2 - (r_i - g/2)^2] (r_i - g/2
+    floored at 0), over the face's area [derived here]."""
     g = face.length
+    if face.radii is not None:
+        r_i, r_o = face.radii
+        r_in = max(r_i - 0.5 * g, 0.0) if r_i > 0.0 else 0.0
+        return ((r_o + 0.5 * g) ** 2 - r_in ** 2) / (r_o ** 2 - r_i ** 2), 1.0
     return (face.width + g) / face.width, (face.depth + g) / face.depth
 
 
@@ -179,6 +235,8 @@ def flux_factor_split(face: GapFace) -> tuple[float, float]:
     of g/a + g/b.
     """
     f = flux_factor(face)
+    if face.radii is not None:  # a round face: all of F, no depth part
+        return f, 1.0
     a, b = face.width, face.depth
     k_plane = 1.0 + (f - 1.0) * b / (a + b)
     return k_plane, f / k_plane
@@ -254,6 +312,18 @@ def _conformal(face: GapFace) -> tuple[float, float]:
     """Per-side free faces (face.free_faces()): in-plane the limb's two side
     faces, depth the stack's front and back faces (same free face both)."""
     g, sides = face.length, face.free_faces()
+    if face.radii is not None:
+        # per edge, the fringing part of its column (the column less its
+        # ideal half-face mu0 w/(2g)) per unit edge length; w is the face
+        # width the elements span: the annulus's r_o - r_i, the disc's
+        # diameter (its symmetry line is the axis)
+        r_i, r_o = face.radii
+        w = (r_o - r_i) if r_i > 0.0 else 2.0 * r_o
+        extra = 0.0
+        for circ, pair, _room in face.edges():
+            p_lo, p_hi = conformal_element(w, g, pair[0]), conformal_element(w, g, pair[1])
+            extra += circ * (1.0 / (1.0 / p_lo + 1.0 / p_hi) - mu_0 * w / (2.0 * g))
+        return 1.0 + extra * g / (mu_0 * face.width * face.depth), 1.0
     return (conformal_factor(face.width, g, sides.minus, sides.plus),
             conformal_factor(face.depth, g, sides.depth, sides.depth))
 
@@ -282,6 +352,10 @@ def _flux_tube(face: GapFace) -> tuple[float, float]:
     (length b) give k_plane with w = a, the depth edges (length a) k_depth
     with w = b.  The corner tubes are left to the product k_plane k_depth."""
     g, sides = face.length, face.free_faces()
+    if face.radii is not None:  # k = 1 + (g/A) sum over the edges of 2 pi r_e * edge term
+        extra = sum(circ * flux_tube_edge(g, min(min(pair), room))
+                    for circ, pair, room in face.edges())
+        return 1.0 + g * extra / (face.width * face.depth), 1.0
     t_minus = min(min(sides.minus), sides.room[0])
     t_plus = min(min(sides.plus), sides.room[1])
     t_depth = min(sides.depth)

@@ -243,3 +243,61 @@ def test_flux_tube_needs_room_beside_the_gap():
     kn = get_fringing("flux-tube").factors(GapFace(g, a, a, 30e-3, sides=narrow))[0]
     assert kn < kw
     assert kn == pytest.approx(1 + g / a * 2 * 0.26, rel=1e-6)
+
+
+# ------------------------------------------------------------------ round faces (r-z)
+DISC = GapFace.round(0.5e-3, 0.0, 6e-3, 10e-3)          # invented for the test
+RING = GapFace.round(0.5e-3, 17e-3, 20e-3, 10e-3)
+
+
+def test_round_face_area_and_no_depth_part():
+    # width * depth is the face's area, and an r-z face has no depth fringing:
+    # planar and 3D permeances are the same number
+    assert DISC.width * DISC.depth == pytest.approx(math.pi * 6e-3 ** 2, rel=1e-14)
+    assert RING.width * RING.depth == pytest.approx(math.pi * (20e-3 ** 2 - 17e-3 ** 2), rel=1e-14)
+    for name in FRINGING_MODELS:
+        for face in (DISC, RING):
+            k_plane, k_depth = get_fringing(name).factors(face)
+            assert k_depth == 1.0 and k_plane >= 1.0
+            assert gap_permeance(face, name, True) == gap_permeance(face, name, False)
+
+
+def test_round_disc_closed_forms():
+    g, r, h = 0.5e-3, 6e-3, 10e-3
+    p0 = mu_0 * math.pi * r ** 2 / g
+    # Source: ideal gap, mu0 A / g (exact for a uniform gap field)
+    assert gap_permeance(DISC, "none", False) == pytest.approx(p0, rel=1e-14)
+    # Source: Matsch 1964 ch. 3 area enlargement, g/2 added at the edge: pi (r + g/2)^2
+    assert gap_permeance(DISC, "area", False) == pytest.approx(
+        mu_0 * math.pi * (r + g / 2) ** 2 / g, rel=1e-13)
+    # Source: Roters 1941 flux tubes (0.26 mu0 L + (mu0 L/pi) ln(1 + 2t/g)) round the
+    # circumference L = 2 pi r [secondary, REFERENCES.md 1]
+    tube = mu_0 * 2 * math.pi * r * (0.26 + math.log(1 + 2 * h / g) / math.pi)
+    assert gap_permeance(DISC, "flux-tube", False) == pytest.approx(p0 + tube, rel=1e-13)
+    # Source: Muehlethaler, Kolar, Ecklebe 2011 basic element: per edge length
+    # mu0 (1/pi)(1 + ln(pi h/(2g))) (half the gap's two-edge term) [element from memory]
+    conf = mu_0 * 2 * math.pi * r * (1 + math.log(math.pi * h / (2 * g))) / math.pi
+    assert gap_permeance(DISC, "conformal", False) == pytest.approx(p0 + conf, rel=1e-13)
+    # Source: McLyman 2011, F = 1 + (g/sqrt(A)) ln(2G/g) with A the face's area
+    f = 1 + g / math.sqrt(math.pi * r ** 2) * math.log(2 * h / g)
+    assert gap_permeance(DISC, "flux-factor", False) == pytest.approx(p0 * f, rel=1e-13)
+
+
+@pytest.mark.parametrize("name", ["area", "flux-tube", "conformal", "none"])
+def test_round_annulus_equals_the_planar_strip_of_its_width(name):
+    # the edge models are linear in edge length, and the annulus's two edges
+    # sum to 2 pi (r_i + r_o), its area being 2 pi r_mean w: its factor is the
+    # planar strip's in-plane factor of the same width for any radius [derived here]
+    g, w, h = 0.5e-3, 3e-3, 10e-3
+    strip = GapFace(g, w, 50e-3, h)
+    for r_i in (5e-3, 17e-3, 1.0):
+        ring = GapFace.round(g, r_i, r_i + w, h)
+        k_ring = get_fringing(name).factors(ring)[0]
+        assert k_ring == pytest.approx(get_fringing(name).factors(strip)[0], rel=1e-12)
+
+
+def test_round_face_rejects_bad_radii():
+    with pytest.raises(GapFaceError, match="r_inner"):
+        GapFace.round(1e-3, 5e-3, 4e-3, 1e-2)
+    with pytest.raises(GapFaceError, match="radii"):
+        GapFace(1e-3, 1e-3, 1e-3, 1e-2, radii=(0.0, 2e-3))
