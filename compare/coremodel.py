@@ -32,7 +32,7 @@ from .geometry import Limb, coil_rects, gap_rect
 
 __all__ = ["CoreModel", "CoilModel", "GapLine", "HandCircuit", "CircuitSegment", "CircuitGap",
            "ForceSpec",
-           "core_model", "coil_name", "coil_regions", "WINDING", "COIL_PLUS", "COIL_MINUS"]
+           "core_model", "comparison_forms", "coil_name", "coil_regions", "WINDING", "COIL_PLUS", "COIL_MINUS"]
 
 Point = tuple[float, float]
 
@@ -138,7 +138,12 @@ class HandCircuit:
     magnets: tuple[MagnetBranch, ...] = ()
     """The circuit's magnets, as the network takes them (magnetised a -> b)."""
     leakage: tuple[tuple[str, str, str, float, float], ...] = ()
-    """Linear leakage paths (name, node a, node b, permeance Wb/A, length m)."""
+    """Linear paths of a fixed permeance: leakage, a sliding gap (name, node
+    a, node b, permeance Wb/A, length m)."""
+    leakage_rates: tuple[tuple[str, float], ...] = ()
+    """(leakage path, dP/dstroke in Wb/A per m) for the linear paths that the
+    moving part's stroke changes: their -(1/2) F^2 dP/dstroke adds to the
+    network's virtual-work force."""
 
 
 @dataclass(frozen=True)
@@ -207,6 +212,15 @@ class CoreModel:
     @property
     def axisymmetric(self) -> bool:
         return self.symmetry == "axisymmetric"
+
+
+def comparison_forms(case: Any) -> tuple[str, str]:
+    """How the case's two models are labelled side by side: (hand form, FE
+    form), ("planar form", "planar FE") or, for an r-z case, whose hand
+    model is the whole 3D circuit, ("whole circuit", "axisymmetric FE")."""
+    if core_model(case).axisymmetric:
+        return "whole circuit", "axisymmetric FE"
+    return "planar form", "planar FE"
 
 
 def core_model(case: Any) -> CoreModel:

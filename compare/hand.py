@@ -215,10 +215,11 @@ def _circuit_network(case: Case, circuit: HandCircuit, fringing: str | None, pla
                                   effective_area(gap.face, model, planar),
                                   dpermeance_dlength=gap_permeance_derivative(gap.face, model,
                                                                               planar)))
+    rates = dict(circuit.leakage_rates)
     for name, a, b, perm, length in circuit.leakage:
         nodes.update((a, b))
         branches.append(GapBranch(name, a, b, length, perm, perm * length / mu_0,
-                                  kind="leakage"))
+                                  kind="leakage", dpermeance_dlength=rates.get(name)))
     for m in circuit.magnets:
         nodes.update((m.node_a, m.node_b))
         branches.append(m)
@@ -370,8 +371,9 @@ def hand_forces(case: Case, net: Network, res: NetworkResult) -> dict[str, float
     """The hand forces on the case's moving part (N, along the closing
     stroke), {} without one.
 
-    force : the network's virtual work, the sum over the working gaps of
-        -(1/2) F^2 dP/dg (analytic.force.gap_forces: dW'/dx at constant
+    force : the network's virtual work, the sum over the working gaps (and
+        the leakage paths the stroke changes, ``HandCircuit.leakage_rates``)
+        of -(1/2) F^2 dP/dg (analytic.force.gap_forces: dW'/dx at constant
         current, exact for the network, every fringing model).
     force_pull : the Maxwell pull formula, the sum over the working gaps
         of phi^2 / (2 mu0 A) with phi the gap's flux and A its pole face
@@ -391,7 +393,8 @@ def hand_forces(case: Case, net: Network, res: NetworkResult) -> dict[str, float
         face = faces[name]
         area = face.width * face.depth
         pull += maxwell_pull(res.branch(name).flux / area, area)
-    return {"force": float(sum(vw[n] for n in spec.gaps)), "force_pull": float(pull)}
+    moving = (*spec.gaps, *(n for n, _ in circuit.leakage_rates))
+    return {"force": float(sum(vw[n] for n in moving)), "force_pull": float(pull)}
 
 
 def hand_magnet(case: Case, res: NetworkResult) -> dict[str, float]:

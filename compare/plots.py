@@ -19,6 +19,7 @@ from matplotlib.tri import Triangulation  # noqa: E402
 from fem2d import post  # noqa: E402
 
 from .check import CheckResult  # noqa: E402
+from .coremodel import comparison_forms  # noqa: E402
 from .output import save_figure  # noqa: E402
 
 __all__ = ["save_figures", "FIGURES", "caption", "flux_levels", "sweep_figures",
@@ -418,7 +419,8 @@ def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]
         ax.set_ylabel(ylabel)
         ax.grid(alpha=0.3)
         ax.legend(fontsize=7)
-        ax.set_title(f"{res.case.name}: hand (planar form) and planar FE")
+        hand_form, fe_form = comparison_forms(res.case)
+        ax.set_title(f"{res.case.name}: hand ({hand_form}) and {fe_form}")
         out.append((name, fig))
     if res.points and "force" in res.points[0].hand_planar:
         out.append(("sweep_force.png", fig_sweep_force(res, groups, x_of, x_label)))
@@ -453,7 +455,8 @@ def fig_sweep_force(res, groups, x_of, x_label):
     ax.set_ylabel("force on the moving part (N), closing")
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7)
-    ax.set_title(f"{res.case.name}: force along the stroke, hand (planar form) and planar FE",
+    hand_form, fe_form = comparison_forms(res.case)
+    ax.set_title(f"{res.case.name}: force along the stroke, hand ({hand_form}) and {fe_form}",
                  fontsize=9)
     return fig
 

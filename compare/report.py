@@ -6,6 +6,7 @@ import html
 from pathlib import Path
 
 from .check import CheckResult
+from .coremodel import comparison_forms
 from .output import CAUTION, atomic_write_text
 from .serialize import TABLE_COLUMNS, table_cells, versions
 
@@ -116,7 +117,8 @@ def write_report(res: CheckResult, folder: str | Path) -> Path:
         f"<h1>magcheck: {html.escape(case.name)}</h1>",
         f"<p>{html.escape(case.description)}</p>",
         f"<p class='caution'>{html.escape(CAUTION)}</p>",
-        f"<h2>Hand calculation vs planar FE — {'PASS' if res.passed else 'FAIL'}</h2>",
+        f"<h2>Hand calculation vs {comparison_forms(case)[1]} — "
+        f"{'PASS' if res.passed else 'FAIL'}</h2>",
         _table(TABLE_COLUMNS, [table_cells(r) for r in res.rows]),
         "<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in res.notes) + "</ul>",
         "<h2>Inputs</h2>",
@@ -127,7 +129,8 @@ def write_report(res: CheckResult, folder: str | Path) -> Path:
         parts.append(f"<h2>Case file</h2><p>{html.escape(res.case.source)}, sha256 "
                      f"{html.escape(res.case.sha256)}</p><pre>{html.escape(text)}</pre>")
     if res.fringing_ranking:
-        parts.append("<h2>Fringing models against the FE (planar form), best first</h2>")
+        parts.append(f"<h2>Fringing models against the FE ({comparison_forms(case)[0]}), "
+                     "best first</h2>")
         parts.append(_table(["model", "gap B diff %", "flux diff %", "inductance diff %", "RMS %"],
                             [[d["model"], f"{d['gap_B_difference_pct']:+.1f}",
                               f"{d['flux_difference_pct']:+.1f}",

@@ -87,8 +87,7 @@ def print_sweep(res: SweepResult, margins, sat_table, out) -> None:
             r += [_fmt(p.fe_peak_B, "T"), str(p.iterations) if p.converged else "FAILED", p.start]
         rows.append(r)
     notes = [f"{len(res.points)} points in {res.seconds:.1f} s ({res.executor}, "
-             f"{res.workers} worker(s)); hand columns: planar-consistent form (like for like "
-             "with the planar FE)."]
+             f"{res.workers} worker(s)); " + _hand_columns(res.case)]
     render_table(f"{res.case.name}: sweep of {', '.join(res.keys)}", cols, rows, out, notes=notes)
     if sat_table:
         drop_cols = [k for k in sat_table[0] if k.endswith("%")]
@@ -170,3 +169,11 @@ def run(args: argparse.Namespace) -> int:
                   f"failed: {pt.message}", file=sys.stderr)
         return 3
     return 1 if any(m.verdict == "FAIL" for m in margins) else 0
+
+
+def _hand_columns(case) -> str:
+    from ..coremodel import core_model
+
+    if core_model(case).axisymmetric:
+        return "hand columns: the whole circuit (an r-z FE is a 3D solution)."
+    return "hand columns: planar-consistent form (like for like with the planar FE)."

@@ -138,3 +138,14 @@ def check_stroke_case(case: Any, what: str) -> None:
                     ("hand.effective_parameters", case.hand.effective_parameters)):
         if on:
             raise CaseError(key, True, f"not modelled for a {what}: set it false")
+
+
+def radial_run(r1: float, r2: float, t: float) -> tuple[float, float]:
+    """(length, area) of a hand-circuit segment with the exact reluctance of
+    radial flux between radii r1 < r2 (m) through a plate t thick (m),
+    ln(r2/r1) / (2 pi mu t) (a radial flux tube of an axisymmetric part):
+    the length r2 - r1 and the equivalent area 2 pi t (r2 - r1) / ln(r2/r1)."""
+    import math
+
+    length = r2 - r1
+    return length, 2 * math.pi * t * length / math.log(r2 / r1)

@@ -40,7 +40,7 @@ from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel,
 from ..errors import CaseError
 from ..geometry import Limb
 from ..reader import TableReader
-from .base import INF, Segment, Window, check_stroke_case
+from .base import INF, Segment, Window, check_stroke_case, radial_run
 
 __all__ = ["HoldingMagnet", "HoldingMagnetDims"]
 
@@ -66,13 +66,6 @@ class HoldingMagnetDims:
     def face(self) -> float:
         """z of the pole and wall faces (m)."""
         return self.base + self.height
-
-
-def _radial(r1: float, r2: float, t: float) -> tuple[float, float]:
-    """(length, area) of a segment with the exact reluctance of radial flux
-    between radii r1 < r2 through a plate t thick: ln(r2/r1)/(2 pi mu t)."""
-    length = r2 - r1
-    return length, 2 * math.pi * t * length / math.log(r2 / r1)
 
 
 class HoldingMagnet:
@@ -195,8 +188,8 @@ class HoldingMagnet:
         a_pole = math.pi * c.pole_radius ** 2
         a_wall = math.pi * (c.radius ** 2 - rw0 ** 2)
         rp, rw = 0.5 * c.pole_radius, c.radius - 0.5 * c.wall
-        keeper = _radial(rp, rw, c.keeper_thickness)
-        base = _radial(rp, rw, c.base)
+        keeper = radial_run(rp, rw, c.keeper_thickness)
+        base = radial_run(rp, rw, c.base)
         segs = (CircuitSegment("pole", "m", "p", c.height - c.magnet_height + 0.5 * c.base,
                                a_pole),
                 CircuitSegment("keeper", "k1", "k2", *keeper,
