@@ -28,7 +28,7 @@ from .families import FAMILIES, Family
 from .geometry import Gap, Limb, WindingSpec
 
 __all__ = ["Case", "MaterialSpec", "HandSettings", "FESettings", "Margins",
-           "InductanceLimit", "SaturationLimit", "SweepDecl", "Tolerance"]
+           "InductanceLimit", "SaturationLimit", "ForceLimit", "SweepDecl", "Tolerance"]
 
 
 @dataclass(frozen=True)
@@ -129,6 +129,18 @@ class SaturationLimit:
 
 
 @dataclass(frozen=True)
+class ForceLimit:
+    """The force on the moving part at a stated stroke (m) must lie within
+    [min, max] (N along the closing stroke; None = open): the pull-in force
+    at the open position, the holding force closed.  Judged along a sweep of
+    the stroke (FE, interpolated), or at the case's own stroke by the check."""
+
+    stroke: float
+    min: float | None = None
+    max: float | None = None
+
+
+@dataclass(frozen=True)
 class Margins:
     """Design margins and hand-vs-FE agreement limits.
 
@@ -153,6 +165,8 @@ class Margins:
     """Minimum force on the moving part at the case's stroke and current (N,
     along the closing stroke: the pull-in force at the open position, the
     holding force closed), judged on the FE's Maxwell stress."""
+    force: tuple[ForceLimit, ...] = ()
+    """Force limits at stated strokes ([[margins.force]])."""
 
     def agreement_limit(self, key: str, default: float | None) -> float | None:
         return dict(self.agreement).get(key, default)

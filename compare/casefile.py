@@ -20,7 +20,7 @@ from analytic.fringing import FRINGING_MODELS
 from analytic.materials import bh_from_table, builtin, builtin_names, load_bh_csv
 
 from .case import (Case, FESettings, HandSettings, InductanceLimit, Margins, MaterialSpec,
-                   SaturationLimit, SweepDecl, Tolerance)
+                   SaturationLimit, SweepDecl, Tolerance, ForceLimit)
 from .errors import CaseError, CaseWarning
 from .families import Family, get_family
 from .geometry import Gap, Limb, WindingSpec, coil_rects
@@ -99,13 +99,20 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     check = getattr(family, "check_case", None)
     if check is not None:  # what the family checks across tables (coils name windings, ...)
         check(case)
-    if case.margins.force_min is not None:
+    if case.margins.force_min is not None or case.margins.force:
         from .coremodel import core_model
 
-        if core_model(case).force is None:
-            raise CaseError("margins.force_min", case.margins.force_min,
-                            "the case has no moving part (a u-armature or holding-magnet core, "
-                            "or a drawn core with [force])")
+        spec = core_model(case).force
+        if spec is None:
+            key, value = (("margins.force_min", case.margins.force_min)
+                          if case.margins.force_min is not None
+                          else ("margins.force[0].stroke", case.margins.force[0].stroke))
+            raise CaseError(key, value, "the case has no moving part (a u-armature, plunger or "
+                                        "holding-magnet core, or a drawn core with [force])")
+        if case.margins.force and spec.stroke_key is None:
+            raise CaseError("margins.force[0].stroke", case.margins.force[0].stroke,
+                            "the moving part has no stroke key to sweep (a drawn core): use "
+                            "margins.force_min at the drawn position")
     for w in plausibility_issues(case):
         warnings.warn(w, stacklevel=2)
     return case
@@ -475,10 +482,20 @@ def _read_margins(t: TableReader) -> Margins:
             drop=drop / 100.0, min=st.quantity("min", "current"),
             kind=st.string("kind", "incremental", choices=INDUCTANCE_KINDS)))
         st.finish()
+    forces = []
+    for ft in t.tables("force"):
+        lo = ft.quantity("min", "force", None, positive=False)
+        hi = ft.quantity("max", "force", None, positive=False)
+        if lo is None and hi is None:
+            raise CaseError(ft.key("min"), None, "give min, max or both")
+        if lo is not None and hi is not None and lo > hi:
+            raise CaseError(ft.key("min"), ft.data["min"], "min is above max")
+        forces.append(ForceLimit(stroke=ft.quantity("stroke", "length"), min=lo, max=hi))
+        ft.finish()
     t.finish()
     return Margins(peak_B=peak, agreement=tuple(agreement), current_density=jmax,
                    copper_fill=fill, inductance=tuple(inductance), saturation=tuple(saturation),
-                   force_min=force_min)
+                   force_min=force_min, force=tuple(forces))
 
 
 def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDecl, ...]:

@@ -352,7 +352,7 @@ def margin_rows(case: Case, fe: FEResult, hand_p: HandResult | None = None,
     from .coremodel import core_model
 
     if (m.current_density is None and not m.inductance and not m.saturation
-            and m.force_min is None and not core_model(case).magnet_knees):
+            and m.force_min is None and not m.force and not core_model(case).magnet_knees):
         return []
     cache: dict[float, dict] = {case.winding.current: fe.values}
 

@@ -159,6 +159,11 @@ class ForceSpec:
     body: tuple[str, ...]
     direction: Point
     gaps: tuple[str, ...]
+    stroke_key: str | None = None
+    """The case key of the stroke (a sweep's ``--vary`` key, e.g. "core.stroke";
+    None when the geometry has none to vary)."""
+    stroke: float = float("nan")
+    """The case's stroke (m)."""
 
 
 @dataclass(frozen=True)

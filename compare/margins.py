@@ -36,7 +36,7 @@ from .hand import HandResult, run_hand
 
 __all__ = ["MarginResult", "current_density", "with_current", "inductance_of",
            "saturation_from_curve", "hand_saturation_current", "DEFAULT_DROPS",
-           "curve_saturation", "curve_margins"]
+           "curve_saturation", "curve_margins", "stroke_margins"]
 
 log = logging.getLogger(__name__)
 
@@ -256,6 +256,20 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
     from .coremodel import core_model
 
     model = core_model(case)
+    for lim in m.force:
+        at_case = model.force is not None and math.isclose(lim.stroke, model.force.stroke,
+                                                           rel_tol=1e-9)
+        if at_case:
+            hand_f = (hand_force if math.isfinite(hand_force)
+                      else run_hand(case).force_values.get("force", math.nan))
+            value, basis = (fe_force, "FE") if math.isfinite(fe_force) else (hand_f, "hand")
+            note = ""
+        else:
+            value = hand_f = math.nan
+            basis = "FE"
+            note = (f"at another stroke than the case's: judged along a sweep of "
+                    f"{model.force.stroke_key if model.force else 'the stroke'}")
+        out.extend(_force_limit_results(lim, value, hand_f, basis, note, ""))
     knees = dict(model.magnet_knees)
     if model.magnets and model.magnets[0].region in knees:
         knee = knees[model.magnets[0].region]
@@ -297,6 +311,78 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
         out.append(MarginResult(f"saturation_current@{100 * sat.drop:g}%",
                                 f"saturation current ({sat.kind} L -{100 * sat.drop:g} %)",
                                 "A", "min", sat.min, value, hand=h, basis=basis, note=note))
+    return out
+
+
+def _force_limit_results(lim: Any, value: float, hand: float, basis: str, note: str,
+                         suffix: str) -> list[MarginResult]:
+    """The min and max of a [[margins.force]] entry as margin results."""
+    out = []
+    for kind, limit in (("min", lim.min), ("max", lim.max)):
+        if limit is not None:
+            out.append(MarginResult(
+                f"force@{lim.stroke * 1e3:g}mm:{kind}{suffix}",
+                f"force on the moving part at {lim.stroke * 1e3:g} mm stroke, {kind}{suffix}",
+                "N", kind, limit, value, hand=hand, basis=basis, note=note))
+    return out
+
+
+def _force_3d(p: Any) -> float:
+    """A sweep point's depth correction of the FE force, as ``magcheck
+    check`` applies it: the hand network's 3D force over its planar one (1
+    for an r-z case, whose two hand forms are the same)."""
+    h3, hp = p.hand.get("force", math.nan), p.hand_planar.get("force", math.nan)
+    return h3 / hp if hp and math.isfinite(hp) and math.isfinite(h3) else 1.0
+
+
+def stroke_margins(case: Case, points: Sequence[Any], with_fe: bool) -> list[MarginResult]:
+    """The ``[[margins.force]]`` limits judged along the sweep's stroke curves.
+
+    The points are grouped by every setting but the stroke (one curve per
+    current of a current-and-stroke grid, say), each curve sorted by the
+    stroke; the force at a limit's stroke is the FE's Maxwell stress (with
+    the depth correction of ``magcheck check``, :func:`_force_3d`; the
+    hand network's virtual work for a hand-only sweep) interpolated
+    linearly.  A stroke outside the swept range gives "n/a".  Empty when the
+    case has no force limits or the sweep does not vary the stroke.
+    """
+    from .coremodel import core_model
+
+    spec = core_model(case).force
+    if not case.margins.force or spec is None or spec.stroke_key is None:
+        return []
+    key = spec.stroke_key
+    pts = [p for p in points if key in p.settings]
+    if not pts:
+        return []
+    groups: dict[tuple, tuple[dict, list]] = {}
+    for p in pts:
+        fixed = {k: v for k, v in p.settings.items() if k != key}
+        groups.setdefault(tuple(sorted(fixed.items())), (fixed, []))[1].append(p)
+    out: list[MarginResult] = []
+    for fixed, curve in groups.values():
+        curve.sort(key=lambda p: p.settings[key])
+        tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
+        suffix = f" [{tag}]" if tag else ""
+        s = np.array([p.settings[key] for p in curve])
+
+        def along(get: Callable[[Any], float], at: float) -> float:
+            v = np.array([get(p) for p in curve], dtype=float)
+            ok = np.isfinite(v)
+            if not ok.any() or not (s[ok].min() - 1e-12 <= at <= s[ok].max() + 1e-12):
+                return math.nan
+            return float(np.interp(at, s[ok], v[ok]))
+
+        for lim in case.margins.force:
+            hand = along(lambda p: p.hand.get("force", math.nan), lim.stroke)
+            if with_fe:
+                value = along(lambda p: p.fe.get("force_maxwell", math.nan) * _force_3d(p),
+                              lim.stroke)
+            else:
+                value = hand
+            note = "" if math.isfinite(value) else "stroke outside the swept range"
+            out.extend(_force_limit_results(lim, value, hand, "FE" if with_fe else "hand", note,
+                                            suffix))
     return out
 
 

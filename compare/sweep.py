@@ -364,4 +364,7 @@ def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "in
     """Margins judged along each L(I) curve of a sweep, and the saturation
     table (:func:`compare.margins.curve_margins`, with each point's depth
     correction of the FE values as ``magcheck check`` applies it)."""
-    return curve_margins(res.case, curves(res), res.with_fe, drops, kind, fe_3d=_fe_3d)
+    from .margins import stroke_margins
+
+    margins, table = curve_margins(res.case, curves(res), res.with_fe, drops, kind, fe_3d=_fe_3d)
+    return margins + stroke_margins(res.case, res.points, res.with_fe), table

@@ -167,3 +167,77 @@ def test_check_reports_every_margin(tmp_path):
     # factor, i.e. the row's own "FE 3D" value of the inductance row.
     assert ind["fe"] == pytest.approx(rows["inductance"]["fe_depth_corrected"], rel=1e-12)
     assert code == 1  # the current-density margin fails
+
+
+# ------------------------------------------------------------ force along the stroke
+def _plunger_doc() -> dict:
+    d = tomllib.loads((CASES / "demo_plunger_solenoid.toml").read_text())
+    d.pop("sweep", None)
+    return d
+
+
+def _stroke_point(i, stroke, current, fe_force, hand_force):
+    from compare.sweep import PointResult
+
+    return PointResult(i, {"core.stroke": stroke, "winding.current": current}, current,
+                       {"force": hand_force}, {"force": hand_force}, math.nan,
+                       fe={"force_maxwell": fe_force})
+
+
+def test_force_limits_are_judged_along_each_stroke_curve():
+    # definition: linear interpolation of the FE force along each curve of
+    # fixed current, sorted by the stroke; outside the swept range: n/a
+    from compare.margins import stroke_margins
+
+    d = _plunger_doc()
+    d["margins"]["force"] = [{"stroke": "2.5 mm", "min": "6 N"}, {"stroke": "9 mm", "max": "1 N"}]
+    case = case_from_dict(d)
+    pts = [_stroke_point(k, s, i, f_fe, f_hand)
+           for k, (s, i, f_fe, f_hand) in enumerate([
+               (3e-3, 1.0, 5.0, 4.0), (2e-3, 1.0, 9.0, 8.0),     # one curve, out of order
+               (2e-3, 0.5, 2.0, 1.5), (3e-3, 0.5, 1.0, 0.8)])]
+    out = {m.key: m for m in stroke_margins(case, pts, True)}
+    full = out["force@2.5mm:min [winding.current = 1]"]
+    assert full.value == pytest.approx(7.0) and full.hand == pytest.approx(6.0)
+    assert full.verdict == "pass" and full.basis == "FE"
+    half = out["force@2.5mm:min [winding.current = 0.5]"]
+    assert half.value == pytest.approx(1.5) and half.verdict == "FAIL"
+    assert out["force@9mm:max [winding.current = 1]"].verdict == "n/a"
+    assert "outside the swept range" in out["force@9mm:max [winding.current = 1]"].note
+    # a sweep that does not vary the stroke judges none of them
+    from compare.sweep import PointResult
+
+    flat = [PointResult(0, {"winding.current": 1.0}, 1.0, {"force": 1.0}, {"force": 1.0}, 0.0)]
+    assert stroke_margins(case, flat, True) == []
+
+
+def test_force_limit_at_the_case_stroke_is_judged_by_the_check_values():
+    d = _plunger_doc()
+    d["margins"] = {"force": [{"stroke": "3 mm", "min": "4 N"}, {"stroke": "1 mm", "min": "9 N"}]}
+    case = case_from_dict(d)
+    out = {m.key: m for m in design_margins(case, fe_force=5.5, hand_force=5.1)}
+    at = out["force@3mm:min"]
+    assert (at.value, at.hand, at.basis, at.verdict) == (5.5, 5.1, "FE", "pass")
+    other = out["force@1mm:min"]
+    assert other.verdict == "n/a" and "judged along a sweep of core.stroke" in other.note
+
+
+@pytest.mark.parametrize("entry, key, words", [
+    ({"stroke": "3 mm"}, "margins.force[0].min", "give min, max or both"),
+    ({"stroke": "3 mm", "min": "5 N", "max": "2 N"}, "margins.force[0].min", "above max"),
+    ({"min": "5 N"}, "margins.force[0].stroke", ""),
+])
+def test_bad_force_limits_name_the_key(entry, key, words):
+    d = _plunger_doc()
+    d["margins"]["force"] = [entry]
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == key and words in str(info.value)
+
+
+def test_force_limit_needs_a_moving_part():
+    d = choke_dict()
+    d["margins"] = {"force": [{"stroke": "1 mm", "min": "1 N"}]}
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d, base_dir=CASES)
+    assert info.value.key == "margins.force[0].stroke" and "no moving part" in str(info.value)

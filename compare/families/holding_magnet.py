@@ -221,7 +221,8 @@ class HoldingMagnet:
                         + 0.5 * (c.height - c.magnet_height))),
             circuit=circuit,
             magnets=(Magnet("magnet", (0.0, c.remanence), c.mu_r),),
-            force=ForceSpec(("keeper",), (0.0, -1.0), ("gap-pole", "gap-wall")),
+            force=ForceSpec(("keeper",), (0.0, -1.0), ("gap-pole", "gap-wall"),
+                            stroke_key="core.stroke", stroke=c.stroke),
             magnet_knees=(("magnet", c.knee_H),) if c.knee_H is not None else ())
 
 

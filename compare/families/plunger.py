@@ -255,5 +255,6 @@ class Plunger:
             mean_path=tuple(self.mean_path(c)),
             flux_line=((rs_in, y_gap), (c.radius, y_gap)),
             gap_line=gap_line, circuit=circuit,
-            force=ForceSpec(("plunger",), (0.0, 1.0), ("gap",)))
+            force=ForceSpec(("plunger",), (0.0, 1.0), ("gap",),
+                            stroke_key="core.stroke", stroke=c.stroke))
 

@@ -177,4 +177,5 @@ class UArmature:
             gap_region="gapL", gap_direction=(0.0, 1.0),
             mean_path=tuple(self.mean_path(c)), flux_line=((wl.c0, mid), (wl.c1, mid)),
             gap_line=gap_line, circuit=circuit,
-            force=ForceSpec(("armature",), (0.0, -1.0), ("gapL", "gapR")))
+            force=ForceSpec(("armature",), (0.0, -1.0), ("gapL", "gapR"),
+                            stroke_key="core.stroke", stroke=c.stroke))
