@@ -275,7 +275,7 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
         knee = knees[model.magnets[0].region]
         # on magnitudes: the demagnetising field |H| must stay below |H_k|
         out.append(MarginResult(
-            "demagnetisation", f"demagnetising field in magnet {model.magnets[0].region} "
+            "demagnetisation", f"demagnetising field in {_magnet_label(model.magnets[0].region)} "
                                "(0.5 % area), max", "A/m", "max", -knee, -fe_magnet_H_min,
             hand=math.nan, basis="FE",
             note="" if math.isfinite(fe_magnet_H_min) else "needs the field solution"))
@@ -312,6 +312,10 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
                                 f"saturation current ({sat.kind} L -{100 * sat.drop:g} %)",
                                 "A", "min", sat.min, value, hand=h, basis=basis, note=note))
     return out
+
+
+def _magnet_label(region: str) -> str:
+    return "the magnet" if region == "magnet" else f"magnet {region}"
 
 
 def _force_limit_results(lim: Any, value: float, hand: float, basis: str, note: str,

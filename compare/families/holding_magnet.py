@@ -14,10 +14,11 @@ side: an r-z coil carries its current round the axis; current 0 for none).
 Hand model: the magnet (MMF H_c l_m behind its recoil reluctance), the pole,
 the working gap over the pole's disc face, the keeper's radial run, the
 working gap over the wall's annular face, the wall and the base's radial
-run, in series, and the leakage across the cup from pole to wall in
-parallel with the gaps and the keeper (common practice, no source); the gaps' faces as their
-equal-area squares under the case's fringing model (the r-z fringing forms
-of round faces are not modelled: use ``none`` for the ideal-gap circuit).
+run, in series, and the leakage across the cup from pole to wall, lumped
+at the pole's face and foot (common practice, no source); the gaps
+over the pole's disc and the wall's annulus under the case's fringing model
+(analytic.fringing's round faces: each edge's fringing round its
+circumference).
 Radial runs between mean radii r1 < r2 through a plate of thickness t take
 the exact reluctance ln(r2/r1) / (2 pi mu t) (a radial flux tube), entered as
 a segment of length r2 - r1 and the equivalent area 2 pi t (r2 - r1) / ln(r2/r1).
@@ -30,7 +31,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from analytic.constants import mu_0
-from analytic.fringing import GapFace
+from analytic.fringing import GapFace, GapSides
 from analytic.network import MagnetBranch
 from fem2d.layout import Rect, Region
 from fem2d.sources import Magnet
@@ -196,21 +197,40 @@ class HoldingMagnet:
                                material="keeper" if own else "core"),
                 CircuitSegment("wall", "w", "b", c.height + 0.5 * c.base, a_wall),
                 CircuitSegment("base", "b", "m0", *base))
-        gaps = (CircuitGap("gap-pole", "p", "k1", _square_face(s, a_pole)),
-                CircuitGap("gap-wall", "k2", "w", _square_face(s, a_wall)))
+        # the faces' free sides (analytic.fringing round faces): below the
+        # pole's face its steel side down to the magnet, below the wall's its
+        # inner and outer sides; above both the keeper's underside, across the
+        # cup's annulus inside, and its outer edge outside
+        window = rw0 - c.pole_radius
+        h_pole = c.height - c.magnet_height
+        k_out = c.keeper_thickness + (c.keeper_radius - c.radius)
+        pole_face = GapFace.round(s, 0.0, c.pole_radius, h_pole,
+                                  GapSides((h_pole, window), (h_pole, window), (h_pole, window),
+                                           (INF, window)))
+        wall_face = GapFace.round(s, rw0, c.radius, c.height,
+                                  GapSides((c.height, window), (c.height + c.base, k_out),
+                                           (c.height, window), (window, INF)))
+        gaps = (CircuitGap("gap-pole", "p", "k1", pole_face),
+                CircuitGap("gap-wall", "k2", "w", wall_face))
         mags = (MagnetBranch("magnet", "m0", "m", c.magnet_height, a_pole, c.remanence,
                               c.mu_r),)
         # a positive release current: +phi round the axis drives flux up the pole (+z), with the magnet
         # leakage inside the cup, pole to wall across the annulus: both irons are
         # near equipotentials, so the full pole-to-wall drop acts over the pole's
         # height and, rising linearly up the magnet's side, over half the
-        # magnet's: P = 2 pi mu0 (h - h_m/2) / ln(r_wall / r_pole) (radial flux
-        # tubes of a coaxial annulus, exact for straight radial lines; common
-        # practice, no source)
-        h_l = c.height - 0.5 * c.magnet_height
-        p_leak = 2 * math.pi * mu_0 * h_l / math.log(rw0 / c.pole_radius)
+        # magnet's: P = 2 pi mu0 (h_pole + h_m/2) / ln(r_wall / r_pole) (radial
+        # flux tubes of a coaxial annulus, exact for straight radial lines;
+        # common practice, no source).  It is lumped at the pole's two ends,
+        # the upper half of the pole's share at its face, the rest at its foot
+        # (so a release coil's own flux can close round it without crossing
+        # the magnet: the incremental L was 36 % under the FE's with all of it
+        # at the face); with ideal iron the two are in parallel, one P.
+        p_side = 2 * math.pi * mu_0 / math.log(rw0 / c.pole_radius)
+        p_up = p_side * 0.5 * h_pole
+        p_low = p_side * (0.5 * h_pole + 0.5 * c.magnet_height)
         circuit = HandCircuit(segs, gaps, (("pole", 1),), "gap-pole", "pole", mags,
-                              leakage=(("cup-leakage", "p", "w", p_leak, rw0 - c.pole_radius),))
+                              leakage=(("cup-leakage", "p", "w", p_up, rw0 - c.pole_radius),
+                                       ("cup-leakage-low", "m", "b", p_low, rw0 - c.pole_radius)))
         return CoreModel(
             symmetry="axisymmetric", depth=1.0, regions=tuple(regions),
             materials=tuple(materials), coils=coils, core_regions=("core", "keeper"),
@@ -225,8 +245,3 @@ class HoldingMagnet:
                             stroke_key="core.stroke", stroke=c.stroke),
             magnet_knees=(("magnet", c.knee_H),) if c.knee_H is not None else ())
 
-
-def _square_face(g: float, area: float) -> GapFace:
-    """A round or annular face as the square of the same area (m)."""
-    side = math.sqrt(area)
-    return GapFace(length=g, width=side, depth=side, free_height=side)
