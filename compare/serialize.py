@@ -142,8 +142,8 @@ def check_csv(res: CheckResult) -> str:
 
 BREAKDOWN_LABELS = {"gap_B": "gap B", "core_B": "core B", "path_H": "path H", "flux": "flux",
                     "inductance": "L", "incremental_inductance": "dL/dI"}
-BREAKDOWN_NOTE = ("Each row switches one more refinement on in the hand model (planar form) and "
-                  "gives its difference to the same FE, (hand - FE)/FE in %. What is left in the "
+BREAKDOWN_NOTE = ("Each row switches one more refinement on in the hand model (its planar form "
+                  "against a planar FE) and gives its difference to the same FE, (hand - FE)/FE in %. What is left in the "
                   "last row is what only a field solution sees: non-uniform flux, local saturation, "
                   "corners, the winding's effect on fringing.")
 

@@ -26,19 +26,21 @@ from .drawn import DrawnCore, DrawnCoreDims
 from .ei_core import EICore, EICoreDims
 from .holding_magnet import HoldingMagnet, HoldingMagnetDims
 from .plunger import Plunger, PlungerDims
+from .pot_core import PotCore, PotCoreDims
 from .u_armature import UArmature, UArmatureDims
 from .window_core import WindowCore, WindowCoreDims
 
 __all__ = ["Segment", "Window", "Family", "FAMILIES", "BUILTIN", "WindowCore", "WindowCoreDims",
            "EICore", "EICoreDims", "UArmature", "UArmatureDims", "HoldingMagnet",
-           "HoldingMagnetDims", "Plunger", "PlungerDims", "DrawnCore", "DrawnCoreDims",
+           "HoldingMagnetDims", "Plunger", "PlungerDims", "PotCore",
+           "PotCoreDims", "DrawnCore", "DrawnCoreDims",
            "get_family", "register",
            "core_keys"]
 
 log = logging.getLogger(__name__)
 
 BUILTIN: tuple[Family, ...] = (WindowCore(), EICore(), UArmature(), HoldingMagnet(),
-                                Plunger(), DrawnCore())
+                                Plunger(), PotCore(), DrawnCore())
 """The families that come with magcheck, in the order they are listed."""
 
 FAMILIES: dict[str, Family] = {f.name: f for f in BUILTIN}

@@ -149,3 +149,30 @@ def radial_run(r1: float, r2: float, t: float) -> tuple[float, float]:
 
     length = r2 - r1
     return length, 2 * math.pi * t * length / math.log(r2 / r1)
+
+
+def coil_space_leakage(r_inner: float, r_outer: float, l_lo: float, l_hi: float,
+                       height: float) -> tuple[float, float]:
+    """Energy-equivalent permeance (Wb/A) of the leakage across a coil space
+    of an axisymmetric part that bypasses an axial gap in its inner column,
+    and its derivative with respect to ``l_lo`` (Wb/A per m).
+
+    The column's two pieces, l_lo below the gap and l_hi above it (m),
+    face an outer shell across the annulus r_inner < r < r_outer over the
+    coil space's ``height`` (m).  With the winding filling the coil space
+    the shell's magnetic potential runs linearly between the end plates
+    while each piece of the column sits at its plate's potential, so the
+    difference across the annulus grows linearly from each plate to the gap,
+    where it is the gap's drop F.  An annulus of length dz has permeance
+    P' dz, P' = 2 pi mu0 / ln(r_outer / r_inner) (radial flux of a coaxial
+    annulus); its energy, (1/2) P' F^2 int (z/h)^2 dz over both pieces, is
+    that of P' (l_lo^3 + l_hi^3) / (3 h^2) under F [derived here; the linear
+    potential is common practice, no source].
+    """
+    import math
+
+    from analytic.constants import mu_0
+
+    p_side = 2 * math.pi * mu_0 / math.log(r_outer / r_inner)
+    h2 = height * height
+    return p_side * (l_lo ** 3 + l_hi ** 3) / (3 * h2), p_side * l_lo ** 2 / h2

@@ -65,7 +65,7 @@ from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel, Force
 from ..errors import CaseError
 from ..geometry import Limb
 from ..reader import TableReader
-from .base import INF, Segment, Window, check_stroke_case, radial_run
+from .base import INF, Segment, Window, check_stroke_case, coil_space_leakage, radial_run
 
 __all__ = ["Plunger", "PlungerDims"]
 
@@ -235,12 +235,10 @@ class Plunger:
                              GapSides((l_p, l_s), (l_p, l_s), (l_p, l_s), (INF, room)))
         gaps = (CircuitGap("gap", "pf", "sf", face),)
         p_slide = 2 * math.pi * mu_0 * t / math.log(c.bore / rp)
-        h = H - 2 * t
-        p_side = 2 * math.pi * mu_0 / math.log(rs_in / rp)
-        p_leak = p_side * (l_p ** 3 + l_s ** 3) / (3 * h ** 2)
+        p_leak, dp_dlo = coil_space_leakage(rp, rs_in, l_p, l_s, H - 2 * t)
         windings = tuple(("shell", 1) for _ in case.windings)
         # the stroke shortens the plunger's side in the coil space one for one
-        dp_leak = -p_side * l_p ** 2 / h ** 2
+        dp_leak = -dp_dlo
         circuit = HandCircuit(segs, gaps, windings, "gap", "gap",
                               leakage=(("sliding-gap", "bb", "pb", p_slide, c.sliding_gap),
                                        ("coil-space-leakage", "pf", "sf", p_leak, room)),

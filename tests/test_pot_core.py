@@ -1,0 +1,129 @@
+"""The pot-core family (r-z): two halves, a gap in the centre post, the
+winding in the annular window.
+
+Verifies the hand circuit against its closed form (ideal iron, ideal gap),
+the window-leakage permeance against its defining energy integral, the
+geometry the field model is given, and the bad cores.
+"""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from pathlib import Path
+
+import pytest
+from scipy.integrate import quad
+
+from analytic.constants import mu_0
+from compare.casefile import case_from_dict
+from compare.coremodel import core_model
+from compare.errors import CaseError
+from compare.families.base import coil_space_leakage
+from compare.hand import run_hand
+
+CASE = Path(__file__).resolve().parents[1] / "cases" / "demo_pot_core_choke.toml"
+
+# the demo's dimensions (m), typed again here
+R, WALL, R1, R0, BASE, H, GAP = 12.5e-3, 1.8e-3, 5.4e-3, 1.5e-3, 2.8e-3, 11e-3, 0.4e-3
+N, I = 60, 1.5
+
+
+def _doc(**core) -> dict:
+    d = tomllib.loads(CASE.read_text())
+    d["core"].update(core)
+    d.pop("sweep", None)
+    return d
+
+
+def test_window_leakage_against_its_energy_integral():
+    # Source: the definition (families.base.coil_space_leakage): the
+    # potential across the annulus rises linearly from each plate to the gap,
+    # where it is F; the energy (1/2) int P' (U(z))^2 dz over the column is
+    # (1/2) P_eq F^2.  Integrated here by quadrature with F = 1.
+    r_i, r_o, lo, hi, h = 5e-3, 11e-3, 4e-3, 6.5e-3, 11e-3
+    p_side = 2 * math.pi * mu_0 / math.log(r_o / r_i)
+    below, _ = quad(lambda z: (z / h) ** 2, 0.0, lo)
+    above, _ = quad(lambda z: (z / h) ** 2, 0.0, hi)
+    p_eq, dp = coil_space_leakage(r_i, r_o, lo, hi, h)
+    assert p_eq == pytest.approx(p_side * (below + above), rel=1e-12)
+    ds = 1e-6 * lo
+    fd = (coil_space_leakage(r_i, r_o, lo + ds, hi, h)[0]
+          - coil_space_leakage(r_i, r_o, lo - ds, hi, h)[0]) / (2 * ds)
+    assert dp == pytest.approx(fd, rel=1e-7)
+
+
+def test_hand_circuit_against_the_closed_form():
+    # Source: exact for the circuit with ideal iron: the ideal gap
+    # mu0 pi (r1^2 - r0^2) / g in parallel with the window leakage under the
+    # whole MMF N I: L = N^2 (P_g + P_l), the gap carrying N I P_g
+    d = _doc()
+    d["materials"]["core"] = {"mu_r": 1e12}
+    d["hand"]["fringing"] = "none"
+    h = run_hand(case_from_dict(d))
+    a = math.pi * (R1 ** 2 - R0 ** 2)
+    p_g = mu_0 * a / GAP
+    half = 0.5 * (H - GAP)
+    p_l = 2 * math.pi * mu_0 / math.log((R - WALL) / R1) * 2 * half ** 3 / (3 * H ** 2)
+    assert h.inductance == pytest.approx(N ** 2 * (p_g + p_l), rel=1e-9)
+    assert h.flux == pytest.approx(N * I * p_g, rel=1e-9)
+    assert h.gap_B == pytest.approx(N * I * p_g / a, rel=1e-9)
+    assert h.energy == pytest.approx(0.5 * N ** 2 * (p_g + p_l) * I ** 2, rel=1e-9)
+
+
+def test_the_hole_makes_the_gap_an_annulus():
+    model = core_model(case_from_dict(_doc()))
+    assert model.axisymmetric and model.force is None
+    regions = {r.name: r for r in model.regions}
+    (gap,) = regions["gap"].shapes
+    mid = BASE + H / 2
+    assert (gap.x0, gap.x1, gap.y0, gap.y1) == pytest.approx(
+        (R0, R1, mid - GAP / 2, mid + GAP / 2))
+    (coil,) = regions["coil"].shapes
+    assert coil.x0 == pytest.approx(R1 + 0.6e-3) and coil.x1 == pytest.approx(R1 + 4.8e-3)
+    face = model.circuit.gaps[0].face
+    assert face.radii == pytest.approx((R0, R1))
+    # a solid post (no hole) has a disc face
+    solid = core_model(case_from_dict(_doc(hole_radius="0 mm")))
+    assert solid.circuit.gaps[0].face.radii == (0.0, pytest.approx(R1))
+
+
+def test_two_concentric_windings_sit_one_outside_the_other():
+    d = _doc()
+    w = d.pop("winding")
+    w1 = dict(w, name="primary", thickness="2 mm")
+    w2 = dict(w, name="secondary", thickness="1.5 mm", clearance="0.2 mm")
+    d["windings"] = [w1, w2]
+    d.pop("margins")
+    model = core_model(case_from_dict(d))
+    regions = {r.name: r for r in model.regions}
+    (c0,), (c1,) = regions["coil"].shapes, regions["coil1"].shapes
+    assert c0.x1 == pytest.approx(R1 + 0.6e-3 + 2e-3)
+    assert c1.x0 == pytest.approx(c0.x1 + 0.2e-3)
+
+
+@pytest.mark.parametrize("core, key, words", [
+    ({"wall": "13 mm"}, "core.wall", "as thick as"),
+    ({"post_radius": "11 mm"}, "core.post_radius", "fills the pot"),
+    ({"hole_radius": "6 mm"}, "core.hole_radius", "smaller than the"),
+    ({"gap": "4 mm"}, "core.gap", "face width"),
+    ({"gap": "12 mm", "post_radius": "10 mm", "hole_radius": "0 mm"}, "core.gap",
+     "window height"),
+])
+def test_bad_cores_name_the_key(core, key, words):
+    with pytest.raises(CaseError) as info:
+        case_from_dict(_doc(**core))
+    assert info.value.key == key and words in str(info.value)
+
+
+def test_gaps_table_and_window_leakage_switch_are_refused():
+    d = _doc()
+    d["gaps"] = [{"limb": "post", "length": "1 mm"}]
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == "gaps[0].limb"
+    d = _doc()
+    d["hand"]["leakage"] = True
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == "hand.leakage"
