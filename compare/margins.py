@@ -342,9 +342,11 @@ def _force_3d(p: Any) -> float:
 def stroke_margins(case: Case, points: Sequence[Any], with_fe: bool) -> list[MarginResult]:
     """The ``[[margins.force]]`` limits judged along the sweep's stroke curves.
 
-    The points are grouped by every setting but the stroke (one curve per
-    current of a current-and-stroke grid, say), each curve sorted by the
-    stroke; the force at a limit's stroke is the FE's Maxwell stress (with
+    The points are grouped by every setting but the stroke, each curve
+    sorted by the stroke; of a current-and-stroke grid only the curve at the
+    case's own current is judged (a force limit is stated at the rated
+    current; the other currents' curves are for the figures and the
+    saturation current per stroke); the force at a limit's stroke is the FE's Maxwell stress (with
     the depth correction of ``magcheck check``, :func:`_force_3d`; the
     hand network's virtual work for a hand-only sweep) interpolated
     linearly.  A stroke outside the swept range gives "n/a".  Empty when the
@@ -363,8 +365,21 @@ def stroke_margins(case: Case, points: Sequence[Any], with_fe: bool) -> list[Mar
     for p in pts:
         fixed = {k: v for k, v in p.settings.items() if k != key}
         groups.setdefault(tuple(sorted(fixed.items())), (fixed, []))[1].append(p)
+    from .keys import CURRENT_KEY
+
+    i0 = case.winding.current
+    chosen = [(f, c) for f, c in groups.values()
+              if CURRENT_KEY not in f or math.isclose(f[CURRENT_KEY], i0, rel_tol=1e-9,
+                                                     abs_tol=1e-12)]
     out: list[MarginResult] = []
-    for fixed, curve in groups.values():
+    if not chosen:
+        for lim in case.margins.force:
+            out.extend(_force_limit_results(lim, math.nan, math.nan, "FE" if with_fe else "hand",
+                                            f"the case's current {i0:g} A is not among the "
+                                            "swept currents", ""))
+        return out
+    for fixed, curve in chosen:
+        fixed = {k: v for k, v in fixed.items() if k != CURRENT_KEY}
         curve.sort(key=lambda p: p.settings[key])
         tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
         suffix = f" [{tag}]" if tag else ""
