@@ -163,11 +163,19 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
             sat = hand_saturation_current(case, task.drop, kind="incremental", rtol=1e-4)
             hp = _hand_peak(h)
             fe_peak, fe_l, fe_at = math.nan, math.nan, None
+            fe_force, fe_h_min = math.nan, math.nan
+            hand_force = h.force_values.get("force", math.nan)
             if task.with_fe:
                 mesh = mesh_case(case)
                 with threadpool_limits(limits=1):  # one BLAS thread per worker (see sweep.run_block)
                     q, _, _ = solve_case(case, mesh)
                 fe_peak, fe_l = q.peak_B, q.values["inductance"] * fe_3d_factor(case)
+                fe_h_min = q.magnet_values.get("magnet_H_min", math.nan)
+                fe_force = q.force_values.get("force", math.nan)
+                if math.isfinite(fe_force):  # the depth correction of magcheck check
+                    hp_force = run_hand(case, planar=True).force_values.get("force", math.nan)
+                    if hp_force and math.isfinite(hp_force) and math.isfinite(hand_force):
+                        fe_force *= hand_force / hp_force
                 cache = {case.winding.current: q.values}
 
                 def fe_at(current: float, kind: str, case=case, mesh=mesh, cache=cache) -> float:
@@ -185,7 +193,9 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
                 return v, v, "hand", ""
 
             margins = design_margins(case, fe_peak_B=fe_peak if task.with_fe else hp,
-                                     hand_peak_B=hp, fe_at=fe_at, saturation=saturation)
+                                     hand_peak_B=hp, fe_at=fe_at, saturation=saturation,
+                                     fe_force=fe_force, hand_force=hand_force,
+                                     fe_magnet_H_min=fe_h_min)
             out.append(SampleResult(idx, settings, h.inductance, hp, sat, fe_l, fe_peak,
                                     task.with_fe, tuple(margins)))
         except RunError as exc:

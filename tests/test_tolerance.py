@@ -284,3 +284,25 @@ def test_printed_text_names_the_straight_line_fit_from_three_fe_samples(tmp_path
     text = " ".join(_printed(res).split())
     assert "inductance: FE = a + b hand, fitted on 3 FE samples (least squares)" in text
     assert "mean FE/hand ratio" not in text
+
+
+@pytest.mark.slow
+def test_fe_samples_judge_force_and_demagnetisation_on_the_field_solution(tmp_path):
+    # the margins of an FE sample are those magcheck check judges: the FE
+    # force (Maxwell stress) and the FE demagnetising extreme, not the hand's
+    case_file = Path(__file__).resolve().parents[1] / "cases" / "demo_holding_magnet.toml"
+    text = case_file.read_text().split("[sweep]")[0]
+    text += ('\n[[tolerances]]\nkey = "core.stroke"\ndistribution = "uniform"\n'
+             'minus = "0.1 mm"\nplus = "0.1 mm"\n')
+    p = tmp_path / "hm.toml"
+    p.write_text(text)
+    src = case_source(p)[0]
+    res = run_tolerance(src, samples=2, seed=3, fe_samples=1, workers=1)
+    fe_sample, hand_sample = res.samples
+    q, _, _ = run_fe(make_case(src, fe_sample.settings))
+    m = {r.key: r for r in fe_sample.margins}
+    assert m["force_min"].basis == "FE"
+    assert m["force_min"].value == pytest.approx(q.force_values["force"], rel=1e-6)
+    assert m["demagnetisation"].value == pytest.approx(-q.magnet_values["magnet_H_min"], rel=1e-6)
+    h = {r.key: r for r in hand_sample.margins}
+    assert h["force_min"].basis == "hand" and h["demagnetisation"].verdict == "n/a"
