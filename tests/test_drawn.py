@@ -697,3 +697,38 @@ def test_magnet_energy_is_the_recoil_field_energy():
     h = run_hand(case_from_dict(d))
     m = h.network.branch("pm")
     assert h.energy == pytest.approx(-0.5 * 1.2 * m.H * 100e-6 * 2e-3, rel=1e-9)
+
+
+def test_axisymmetric_circuit_gap_takes_a_round_face():
+    # a round face (r_outer, r_inner) is the disc's: its flux-tube fringing
+    # round the circumference 2 pi r (analytic.fringing round faces), not the
+    # equal-area square's round 4 sqrt(A)
+    from analytic.fringing import gap_permeance
+
+    d = _rz_pot()
+    d["circuit"]["gaps"] = [{"name": "gap", "length": "1 mm", "r_outer": "5 mm",
+                             "free_height": "6 mm"}]
+    d["hand"]["fringing"] = "flux-tube"
+    case = case_from_dict(d)
+    face = core_model(case).circuit.gaps[0].face
+    assert face.radii == pytest.approx((0.0, 5e-3))
+    # Source: Roters 1941 flux tubes round the disc's edge [secondary, REFERENCES.md 1]
+    g, r, t = 1e-3, 5e-3, 6e-3
+    mu0_ = 4e-7 * math.pi
+    p = mu0_ * math.pi * r ** 2 / g + mu0_ * 2 * math.pi * r * (0.26 + math.log(1 + 2 * t / g)
+                                                                / math.pi)
+    assert gap_permeance(face, "flux-tube", False) == pytest.approx(p, rel=1e-6)
+    assert any("r 0 to 5 mm" in v for _, v in case.family_model.describe(case.core))
+
+
+@pytest.mark.parametrize("change, key, words", [
+    ({"width": "5 mm"}, "circuit.gaps[0].width", "either r_outer"),
+    ({"r_inner": "6 mm"}, "circuit.gaps[0].r_inner", "less than r_outer"),
+    ({"length": "5 mm"}, "circuit.gaps[0].length", "radial width"),
+])
+def test_bad_round_faces_name_the_key(change, key, words):
+    d = _rz_pot()
+    d["circuit"]["gaps"] = [dict({"name": "gap", "length": "1 mm", "r_outer": "5 mm"}, **change)]
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == key and words in str(info.value)

@@ -21,7 +21,9 @@ its stack depth) or axisymmetric (r-z, the shapes in r >= 0)::
                 path (polyline), flux_line ([[x0, y0], [x1, y1]]), core_B (regions),
                 windings = {NAME = "BRANCH" or "-BRANCH"}
     [[circuit.segments]] name, length, area, material, on_path, from, to
-    [[circuit.gaps]]     name, length, width, depth, free_height, fringing, from, to
+    [[circuit.gaps]]     name, length, width, depth, free_height, fringing, from, to;
+                         r-z: r_outer and r_inner (default 0) for a round face (a disc
+                         or an annulus) instead of width and depth
     [[circuit.magnets]]  name, length, area, remanence, mu_r (default: the magnet
                          region of its name), from, to (magnetised from -> to)
     [force]     body (moving regions), direction (of the closing motion), gaps
@@ -323,9 +325,11 @@ class DrawnCore:
                          f"{m.area * 1e6:g} mm^2, B_r {m.remanence:g} T, mu_r {m.mu_r:g}"))
         for g in c.gaps:
             f = g.face
+            shape = (f"{f.width * 1e3:g} x {f.depth * 1e3:g} mm" if f.radii is None else
+                     f"r {f.radii[0] * 1e3:g} to {f.radii[1] * 1e3:g} mm")
             rows.append((f"circuit gap {g.name}",
                          f"{g.node_a} -> {g.node_b}, length {f.length * 1e3:g} mm, face "
-                         f"{f.width * 1e3:g} x {f.depth * 1e3:g} mm"
+                         f"{shape}"
                          + (f", fringing {g.fringing}" if g.fringing else "")))
         return rows
 
@@ -834,24 +838,27 @@ def _read_circuit(t: TableReader, symmetry: str, depth: float,
                 st.string("material", "core"), _boolean(st, "on_path", True)))
         else:
             g = st.quantity("length", "length")
-            w = st.quantity("width", "length")
-            if symmetry == "planar":
-                d = st.quantity("depth", "length", depth)
-            else:
-                d = st.quantity("depth", "length")
-            h = st.quantity("free_height", "length", w)
             model = st.string("fringing", None)
             if model is not None and model not in FRINGING_MODELS:
                 raise CaseError(st.key("fringing"), model, "unknown fringing model; known: "
                                 + ", ".join(FRINGING_MODELS) + _hint(model, list(FRINGING_MODELS)))
-            if g >= min(w, d):
-                raise CaseError(st.key("length"), st.data["length"],
-                                f"gap not shorter than its face ({min(w, d) * 1e3:g} mm): the "
-                                "fringing models do not hold")
-            try:
-                face = GapFace(length=g, width=w, depth=d, free_height=h)
-            except GapFaceError as exc:  # pragma: no cover - the quantities are checked above
-                raise CaseError(st.key("length"), g, str(exc)) from None
+            if "r_outer" in st.data or "r_inner" in st.data:
+                face = _round_face(st, g, symmetry)
+            else:
+                w = st.quantity("width", "length")
+                if symmetry == "planar":
+                    d = st.quantity("depth", "length", depth)
+                else:
+                    d = st.quantity("depth", "length")
+                h = st.quantity("free_height", "length", w)
+                if g >= min(w, d):
+                    raise CaseError(st.key("length"), st.data["length"],
+                                    f"gap not shorter than its face ({min(w, d) * 1e3:g} mm): "
+                                    "the fringing models do not hold")
+                try:
+                    face = GapFace(length=g, width=w, depth=d, free_height=h)
+                except GapFaceError as exc:  # pragma: no cover - the quantities are checked above
+                    raise CaseError(st.key("length"), g, str(exc)) from None
             gaps.append(CircuitGap(nm, a, b, face, model))
         st.finish()
     if not any(s.on_path for s in segments):
@@ -921,3 +928,26 @@ def _boolean(t: TableReader, name: str, default: bool) -> bool:
         raise CaseError(t.key(name), raw, "must be true or false")
     return raw
 
+
+
+def _round_face(st: TableReader, g: float, symmetry: str) -> GapFace:
+    """A circuit gap's round face (r-z): r_outer, r_inner (default 0),
+    free_height (default the face's radial width)."""
+    if symmetry == "planar":
+        raise CaseError(st.key("r_outer"), st.raw("r_outer", st.raw("r_inner", None)),
+                        "a round face is for an r-z core: give width and depth for a planar one")
+    for key in ("width", "depth"):
+        if key in st.data:
+            raise CaseError(st.key(key), st.data[key], "give either r_outer (and r_inner) "
+                                                       "for a round face, or width and depth")
+    r_o = st.quantity("r_outer", "length")
+    r_i = st.quantity("r_inner", "length", 0.0, positive=False)
+    if not 0.0 <= r_i < r_o:
+        raise CaseError(st.key("r_inner"), st.raw("r_inner"),
+                        f"must be >= 0 and less than r_outer = {r_o * 1e3:g} mm")
+    h = st.quantity("free_height", "length", r_o - r_i)
+    if g >= r_o - r_i:
+        raise CaseError(st.key("length"), st.data["length"],
+                        f"gap not shorter than its face's radial width ({(r_o - r_i) * 1e3:g} "
+                        "mm): the fringing models do not hold")
+    return GapFace.round(g, r_i, r_o, h)
