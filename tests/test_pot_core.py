@@ -127,3 +127,28 @@ def test_gaps_table_and_window_leakage_switch_are_refused():
     with pytest.raises(CaseError) as info:
         case_from_dict(d)
     assert info.value.key == "hand.leakage"
+
+
+def test_hand_circuit_with_a_linear_core_against_its_reluctances():
+    # Source: the series circuit of the family's docstring, typed again: the
+    # post's two halves (each half the window less half the gap, plus half a
+    # plate), the plates as radial flux tubes ln(r_wall/r_post)/(2 pi mu t)
+    # between the post's and the wall's mean radii, the wall (window height
+    # plus a plate); the gap with the window leakage in parallel.  Exact for
+    # that circuit with a linear core.
+    d = _doc()
+    mu_r = 800.0
+    d["materials"]["core"] = {"mu_r": mu_r}
+    d["hand"]["fringing"] = "none"
+    h = run_hand(case_from_dict(d))
+    mu = mu_r * mu_0
+    a_post = math.pi * (R1 ** 2 - R0 ** 2)
+    a_wall = math.pi * (R ** 2 - (R - WALL) ** 2)
+    half = 0.5 * (H - GAP)
+    r_post, r_wall = 0.5 * (R0 + R1), R - 0.5 * WALL
+    rel = (2 * (half + 0.5 * BASE) / (mu * a_post)
+           + 2 * math.log(r_wall / r_post) / (2 * math.pi * mu * BASE)
+           + (H + BASE) / (mu * a_wall))
+    p_g = mu_0 * a_post / GAP
+    p_l = 2 * math.pi * mu_0 / math.log((R - WALL) / R1) * 2 * half ** 3 / (3 * H ** 2)
+    assert h.inductance == pytest.approx(N ** 2 / (rel + 1 / (p_g + p_l)), rel=1e-9)
