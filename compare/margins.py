@@ -36,7 +36,7 @@ from .hand import HandResult, run_hand
 
 __all__ = ["MarginResult", "current_density", "with_current", "inductance_of",
            "saturation_from_curve", "hand_saturation_current", "DEFAULT_DROPS",
-           "curve_saturation", "curve_margins", "stroke_margins"]
+           "curve_saturation", "curve_margins", "stroke_margins", "sweep_demagnetisation"]
 
 log = logging.getLogger(__name__)
 
@@ -337,6 +337,34 @@ def _force_3d(p: Any) -> float:
     for an r-z case, whose two hand forms are the same)."""
     h3, hp = p.hand.get("force", math.nan), p.hand_planar.get("force", math.nan)
     return h3 / hp if hp and math.isfinite(hp) and math.isfinite(h3) else 1.0
+
+
+def sweep_demagnetisation(case: Case, points: Sequence[Any], with_fe: bool
+                          ) -> list[MarginResult]:
+    """The demagnetisation margin of the case's first magnet at the sweep's
+    worst point: the largest demagnetising |H| (the FE's 0.5 % area extreme,
+    as ``magcheck check`` judges it) over every point, against the grade's
+    knee field; the note names the point.  A release coil's reverse current
+    or a wide-open keeper is where a magnet is lost, so the whole sweep
+    counts, not the case's own point.  Empty without a magnet with a knee
+    field or without the field model."""
+    from .coremodel import core_model
+
+    model = core_model(case)
+    knees = dict(model.magnet_knees)
+    if not with_fe or not model.magnets or model.magnets[0].region not in knees:
+        return []
+    region = model.magnets[0].region
+    vals = [(-p.fe.get("magnet_H_min", math.nan), p) for p in points]
+    vals = [(v, p) for v, p in vals if math.isfinite(v)]
+    if not vals:
+        return []
+    worst, at = max(vals, key=lambda vp: vp[0])
+    where = ", ".join(f"{k} = {v:g}" for k, v in at.settings.items())
+    return [MarginResult("demagnetisation:sweep",
+                         f"demagnetising field in {_magnet_label(region)} (0.5 % area), worst "
+                         "over the sweep, max", "A/m", "max", -knees[region], worst,
+                         hand=math.nan, basis="FE", note=f"at {where}")]
 
 
 def stroke_margins(case: Case, points: Sequence[Any], with_fe: bool) -> list[MarginResult]:

@@ -238,7 +238,8 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
             # dA/dI from the incremental-inductance tangent solve: no extra solve.
             slope = fs.dA_dI
         q = _with_virtual_work(case, q, sol)  # a moving part: the second force method
-        out.append(PointResult(**base, fe=dict(q.values) | q.force_values, fe_peak_B=q.peak_B,
+        out.append(PointResult(**base, fe=dict(q.values) | q.force_values | q.magnet_values,
+                               fe_peak_B=q.peak_B,
                                iterations=q.iterations, seconds=time.perf_counter() - t0,
                                start=start, ndofs=q.ndofs,
                                first_residual=float(sol.residual_history[0])))
@@ -364,7 +365,8 @@ def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "in
     """Margins judged along each L(I) curve of a sweep, and the saturation
     table (:func:`compare.margins.curve_margins`, with each point's depth
     correction of the FE values as ``magcheck check`` applies it)."""
-    from .margins import stroke_margins
+    from .margins import stroke_margins, sweep_demagnetisation
 
     margins, table = curve_margins(res.case, curves(res), res.with_fe, drops, kind, fe_3d=_fe_3d)
-    return margins + stroke_margins(res.case, res.points, res.with_fe), table
+    return (margins + stroke_margins(res.case, res.points, res.with_fe)
+            + sweep_demagnetisation(res.case, res.points, res.with_fe)), table

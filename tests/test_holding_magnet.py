@@ -89,3 +89,30 @@ def test_both_fe_force_methods_agree_on_the_keeper():
     assert fv["force_virtual_work"] == pytest.approx(fv["force_maxwell"], rel=1e-3)
     # the magnet works on its recoil line, far from its knee
     assert 0 < -res.fe.fine.magnet_values["magnet_H_min"] < 2.4e5
+
+
+@pytest.mark.slow
+def test_fe_magnet_nearly_shorted_sits_at_the_load_line_intersection():
+    # Source: exact for ideal iron: the magnet (P_m = mu0 mu_r A_m / l_m,
+    # F_c = B_r l_m / (mu0 mu_r)) loaded by the two gaps in series with the
+    # cup's leakage in parallel gives B_m = B_r / (1 + P_m / P_ext); with the
+    # keeper 20 um away and iron of mu_r 1e5 the field solution must sit
+    # there (the iron's own reluctance and the gaps' fringing are below
+    # 1e-3 of it at this stroke: the gap is 1/400 of the pole's radius)
+    from compare.fe import run_fe
+
+    d = _doc(stroke="0.02 mm")
+    d["materials"]["core"] = {"mu_r": 1e5}
+    d["margins"] = {}
+    q, _, _ = run_fe(case_from_dict(d))
+    rp, rw0, s, hm, hc = 8e-3, 17e-3, 0.02e-3, 5e-3, 12e-3
+    a_m = math.pi * rp ** 2
+    a_w = math.pi * (20e-3 ** 2 - rw0 ** 2)
+    p1, p2 = mu_0 * a_m / s, mu_0 * a_w / s
+    p_leak = 2 * math.pi * mu_0 * (hc - hm / 2) / math.log(rw0 / rp)
+    p_ext = p1 * p2 / (p1 + p2) + p_leak
+    b_r, mu_r = 0.40, 1.08
+    p_m = mu_0 * mu_r * a_m / hm
+    b_m = b_r / (1 + p_m / p_ext)
+    assert q.magnet_values["magnet_B"] == pytest.approx(b_m, rel=1e-3)  # 1.9e-4 found
+    assert b_r - q.magnet_values["magnet_B"] < 0.01 * b_r  # the magnet all but shorted

@@ -244,3 +244,22 @@ def test_force_limit_needs_a_moving_part():
     with pytest.raises(CaseError) as info:
         case_from_dict(d, base_dir=CASES)
     assert info.value.key == "margins.force[0].stroke" and "no moving part" in str(info.value)
+
+
+def test_demagnetisation_is_judged_at_the_sweeps_worst_point():
+    # definition: the largest demagnetising |H| over every point against the
+    # grade's knee field (demo-hard-ferrite: -240 kA/m), the point named
+    from compare.margins import sweep_demagnetisation
+    from compare.sweep import PointResult
+
+    d = tomllib.loads((CASES / "demo_holding_magnet.toml").read_text())
+    d.pop("sweep")
+    case = case_from_dict(d)
+    pts = [PointResult(k, {"winding.current": i}, i, {}, {}, math.nan,
+                       fe={"magnet_H_min": h})
+           for k, (i, h) in enumerate([(0.0, -3.0e4), (-2.0, -1.5e5), (-4.0, -2.6e5)])]
+    (m,) = sweep_demagnetisation(case, pts, True)
+    assert m.value == pytest.approx(2.6e5) and m.limit == pytest.approx(2.4e5)
+    assert m.verdict == "FAIL" and "winding.current = -4" in m.note
+    assert sweep_demagnetisation(case, pts[:2], True)[0].verdict == "pass"
+    assert sweep_demagnetisation(case, pts, False) == []  # the hand model has no H_min
