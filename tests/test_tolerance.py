@@ -196,7 +196,8 @@ def affine_fe(monkeypatch):
         vals = dict(h.values())
         for key in ("inductance", "incremental_inductance"):
             vals[key] = (A_L + B_L * vals[key]) / k
-        q = types.SimpleNamespace(values=vals, peak_B=A_P + B_P * _hand_peak(h))
+        q = types.SimpleNamespace(values=vals, peak_B=A_P + B_P * _hand_peak(h), force_values={},
+                                  magnet_values={})
         return q, None, None
 
     monkeypatch.setattr(fe_mod, "mesh_case", lambda case, **kw: None)
