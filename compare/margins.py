@@ -256,8 +256,8 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
     from .coremodel import core_model
 
     model = core_model(case)
-    for lim in m.force:
-        at_case = model.force is not None and math.isclose(lim.stroke, model.force.stroke,
+    for flim in m.force:
+        at_case = model.force is not None and math.isclose(flim.stroke, model.force.stroke,
                                                            rel_tol=1e-9)
         if at_case:
             hand_f = (hand_force if math.isfinite(hand_force)
@@ -269,7 +269,7 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
             basis = "FE"
             note = (f"at another stroke than the case's: judged along a sweep of "
                     f"{model.force.stroke_key if model.force else 'the stroke'}")
-        out.extend(_force_limit_results(lim, value, hand_f, basis, note, ""))
+        out.extend(_force_limit_results(flim, value, hand_f, basis, note, ""))
     knees = dict(model.magnet_knees)
     if model.magnets and model.magnets[0].region in knees:
         knee = knees[model.magnets[0].region]
