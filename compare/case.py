@@ -167,6 +167,13 @@ class Margins:
     holding force closed), judged on the FE's Maxwell stress."""
     force: tuple[ForceLimit, ...] = ()
     """Force limits at stated strokes ([[margins.force]])."""
+    B_peak: float | None = None
+    """Maximum peak flux density of a voltage-driven winding at the drive's
+    peak (T; FE: the 0.5 % area quantile)."""
+    magnetizing_current_peak: float | None = None
+    """Maximum magnetizing current of a voltage-driven winding, peak (A)."""
+    magnetizing_current_rms: float | None = None
+    """Maximum magnetizing current of a voltage-driven winding, rms (A)."""
 
     def agreement_limit(self, key: str, default: float | None) -> float | None:
         return dict(self.agreement).get(key, default)

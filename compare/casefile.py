@@ -21,7 +21,7 @@ from analytic.materials import bh_from_table, builtin, builtin_names, load_bh_cs
 
 from .case import (Case, FESettings, HandSettings, InductanceLimit, Margins, MaterialSpec,
                    SaturationLimit, SweepDecl, Tolerance, ForceLimit)
-from .errors import CaseError, CaseWarning
+from .errors import CaseError, CaseWarning, RunError
 from .families import Family, get_family
 from .geometry import Gap, Limb, WindingSpec, coil_rects
 from .keys import key_dimension, parse_key, parse_vary
@@ -115,7 +115,38 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                             "margins.force_min at the drawn position")
     for w in plausibility_issues(case):
         warnings.warn(w, stacklevel=2)
+    if case.winding.driven:
+        case = _resolved_drive(case)
+    else:
+        m = case.margins
+        for key, value in (("B_peak", m.B_peak),
+                           ("magnetizing_current_peak", m.magnetizing_current_peak),
+                           ("magnetizing_current_rms", m.magnetizing_current_rms)):
+            if value is not None:
+                raise CaseError(f"margins.{key}", value, "a voltage-drive margin: give the first "
+                                "winding a voltage and frequency, or drop it")
     return case
+
+
+def _resolved_drive(case: Case) -> Case:
+    """A voltage-driven case with its winding's current set (compare.drive):
+    the drive's checks first, each naming its key."""
+    from .coremodel import core_model
+    from .drive import resolve_drive
+
+    key = "windings[0].voltage" if case.extra_windings else "winding.voltage"
+    if core_model(case).magnets:
+        raise CaseError(key, case.winding.voltage, "a voltage drive of a core with a magnet is "
+                        "not modelled (its lambda-i curve is not odd about zero)")
+    for k, w in enumerate(case.extra_windings, start=1):
+        if w.current != 0.0:
+            raise CaseError(f"windings[{k}].current", w.current,
+                            "with a voltage drive on the first winding the others must carry "
+                            "0 A (open): a DC bias is not modelled")
+    try:
+        return resolve_drive(case)
+    except RunError as exc:
+        raise CaseError(key, case.winding.voltage, str(exc)) from None
 
 
 def family_parts(family: Family, core: object) -> tuple[str, ...]:
@@ -245,6 +276,10 @@ def _read_windings(root: TableReader, family: Family,
         limb_name = t.raw("limb", None)
         inner = sum(w.clearance + w.thickness for w in out if w.limb == limb_name)
         w = _read_winding(t, family, limbs, f"w{k + 1}", inner)
+        if k > 0 and w.driven:
+            raise CaseError(t.key("voltage"), t.raw("voltage"),
+                            "only the first winding may be voltage-driven (the others carry "
+                            "their stated currents, 0 A for an open winding)")
         if w.name in {o.name for o in out}:
             raise CaseError(t.key("name"), w.name, "a winding of that name comes before; names "
                                                    "must differ")
@@ -283,13 +318,13 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
                                 "drawn as regions (kind = \"coil\", winding = its name): give "
                                 "only name, turns and current here")
         turns = t.integer("turns", minimum=1)
-        current = t.quantity("current", "current", positive=False)
+        current, voltage, frequency = _read_drive(t)
         t.finish()
-        return WindingSpec("", turns, current, 0.0, 0.0, 0.0, name, 0.0)
+        return WindingSpec("", turns, current, 0.0, 0.0, 0.0, name, 0.0, voltage, frequency)
     limb_name = t.string("limb", choices=family.winding_limbs)
     limb = limbs[limb_name]
     turns = t.integer("turns", minimum=1)
-    current = t.quantity("current", "current", positive=False)
+    current, voltage, frequency = _read_drive(t)
     room = min(limb.room_minus, limb.room_plus) - inner
     inside = " left beside the windings inside it" if inner > 0 else ""
     if room <= 0:
@@ -327,7 +362,28 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
                             f"is more than the {limb.span * 1e3:g} mm window height along the "
                             f"{limb_name} limb (the coil would overlap the core)")
     t.finish()
-    return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner)
+    return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner,
+                       voltage, frequency)
+
+
+def _read_drive(t: TableReader) -> tuple[float, float | None, float | None]:
+    """A winding's excitation: ``current``, or ``voltage`` (rms) with
+    ``frequency`` (a sinusoidal drive; the current is then found, see
+    compare.drive).  Returns (current, voltage, frequency)."""
+    if t.has("voltage"):
+        if t.has("current"):
+            raise CaseError(t.key("voltage"), t.raw("voltage"),
+                            "give either current or voltage (with frequency), not both")
+        voltage = t.quantity("voltage", "voltage")
+        if not t.has("frequency"):
+            raise CaseError(t.key("frequency"), None, "missing: a voltage drive needs its "
+                                                      "frequency, e.g. \"50 Hz\"")
+        frequency = t.quantity("frequency", "frequency")
+        return 0.0, voltage, frequency
+    if t.has("frequency"):
+        raise CaseError(t.key("frequency"), t.raw("frequency"),
+                        "a frequency without a voltage: give voltage (rms) with it")
+    return t.quantity("current", "current", positive=False), None, None
 
 
 def _read_materials(t: TableReader, base_dir: Path | None, family: Family,
@@ -441,7 +497,9 @@ def _read_fe(t: TableReader) -> FESettings:
 
 
 AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
-                  "incremental_inductance", "energy", "force", "force_pull")
+                  "incremental_inductance", "energy", "force", "force_pull", "B_peak",
+                  "magnetizing_current_peak", "magnetizing_current_rms",
+                  "magnetizing_inductance")
 
 
 INDUCTANCE_KINDS = ("secant", "incremental")
@@ -458,6 +516,9 @@ def _read_margins(t: TableReader) -> Margins:
     at.finish(valid=AGREEMENT_KEYS)
     jmax = t.quantity("current_density", "current density", None)
     force_min = t.quantity("force_min", "force", None)
+    b_peak = t.quantity("B_peak", "flux density", None)
+    im_peak = t.quantity("magnetizing_current_peak", "current", None)
+    im_rms = t.quantity("magnetizing_current_rms", "current", None)
     fill = t.number("copper_fill", 1.0, lo=0.0, hi=1.0)
     if fill <= 0.0:
         raise CaseError(t.key("copper_fill"), t.data["copper_fill"], "must be positive")
@@ -495,7 +556,8 @@ def _read_margins(t: TableReader) -> Margins:
     t.finish()
     return Margins(peak_B=peak, agreement=tuple(agreement), current_density=jmax,
                    copper_fill=fill, inductance=tuple(inductance), saturation=tuple(saturation),
-                   force_min=force_min, force=tuple(forces))
+                   force_min=force_min, force=tuple(forces), B_peak=b_peak,
+                   magnetizing_current_peak=im_peak, magnetizing_current_rms=im_rms)
 
 
 def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDecl, ...]:

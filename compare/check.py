@@ -35,6 +35,12 @@ DEFAULT_LIMITS: dict[str, float] = {
     # permeance's derivative, so a hand calc within 20 % is a good one, the
     # pull formula (no fringing in its face) within 30 % (common practice, no source)
     "force": 20.0, "force_pull": 30.0,
+    # a voltage drive: the EMF equation's uniform limb B against the FE's
+    # 0.5 % area quantile (the flux crowds at the inner corners), and the
+    # magnetizing current, which the knee makes steep in B (common practice,
+    # no source)
+    "B_peak": 15.0, "magnetizing_current_peak": 30.0, "magnetizing_current_rms": 30.0,
+    "magnetizing_inductance": 30.0,
     # a magnet's operating point: B on its recoil line moves little with the
     # load, H much more (common practice, no source)
     "magnet_B": 10.0, "magnet_H": 30.0,
@@ -49,6 +55,10 @@ LABELS = {
     "force_virtual_work": "force, FE virtual work",
     "magnet_B": "magnet B (operating point)", "magnet_H": "magnet H (operating point)",
     "magnet_H_min": "magnet H, demagnetising extreme",
+    "B_peak": "peak flux density at the drive's peak",
+    "magnetizing_current_peak": "magnetizing current, peak",
+    "magnetizing_current_rms": "magnetizing current, rms",
+    "magnetizing_inductance": "magnetizing inductance (fundamental)",
 }
 
 # Quantities that scale with the gap permeance, and so take the depth-fringing factor.
@@ -106,6 +116,8 @@ class CheckResult:
     fringing_ranking: tuple[dict, ...] = ()
     breakdown: tuple = ()
     """compare.breakdown.Step per refinement, in order (the difference breakdown)."""
+    drive: Any = None
+    """compare.drive.DriveResult of a voltage-driven case (None otherwise)."""
 
     @property
     def passed(self) -> bool:
@@ -222,6 +234,44 @@ def magnet_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
     out.append(Row("magnet_H_min", LABELS["magnet_H_min"], "A/m", math.nan, mv["magnet_H_min"],
                    fe.uncertainty.get("magnet_H_min", math.nan), math.nan, None, "info",
                    fe_3d=mv["magnet_H_min"]))
+    return out
+
+
+def drive_rows(case: Case, drive: Any) -> list[Row]:
+    """A voltage-driven winding: the peak flux density, the magnetizing
+    current (peak, rms), the magnetizing inductance the fundamental sees
+    (lambda_pk over the fundamental's amplitude), hand (planar form) against
+    FE with the first-order FE uncertainty (compare.drive), the FE 3D
+    column by the hand's own 3D / planar ratio; the 3rd, 5th and 7th
+    harmonics (info); and the margins ``B_peak``, ``magnetizing_current_peak``
+    and ``magnetizing_current_rms`` (maxima, judged on the FE's 3D value)."""
+    hv, h3, fv = drive.values("hand"), drive.values("hand_3d"), drive.values("fe")
+    out = []
+    for k in ("B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
+              "magnetizing_inductance"):
+        unit = {"B_peak": "T", "magnetizing_inductance": "H"}.get(k, "A")
+        ratio = h3[k] / hv[k] if k != "B_peak" and hv[k] else 1.0
+        d = _diff_pct(hv[k], fv[k])
+        lim = case.margins.agreement_limit(k, DEFAULT_LIMITS[k])
+        u = drive.uncertainty.get(k, math.nan)
+        out.append(Row(k, LABELS[k], unit, hv[k], fv[k], u, d, lim,
+                       _verdict(d, hv[k], fv[k], u, lim), hand_3d=h3[k], fe_3d=fv[k] * ratio))
+    for n in (3, 5, 7):
+        h, f = drive.hand.harmonics_pct[n], drive.fe.harmonics_pct[n]
+        out.append(Row(f"magnetizing_harmonic_{n}", f"magnetizing current, harmonic {n} (% of "
+                       "the fundamental)", "%", h, f, math.nan, math.nan, None, "info",
+                       hand_3d=drive.hand_3d.harmonics_pct[n], fe_3d=f))
+    m = case.margins
+    for key, limit in (("B_peak", m.B_peak), ("magnetizing_current_peak", m.magnetizing_current_peak),
+                       ("magnetizing_current_rms", m.magnetizing_current_rms)):
+        if limit is None:
+            continue
+        row = next(r for r in out if r.key == key)
+        value = row.fe_3d
+        margin = 100.0 * (limit - value) / limit
+        out.append(Row(f"margin:{key}", f"{LABELS[key]}, max", row.unit, row.hand_3d, value,
+                       math.nan, math.nan, None, "pass" if value <= limit else "FAIL",
+                       limit_value=limit, margin_pct=margin, limit_kind="max"))
     return out
 
 
@@ -512,6 +562,12 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
     t2 = time.perf_counter()
     k_depth = depth_factor(case)
     rows = build_rows(case, hand_p, hand_3d, fe)
+    drive = None
+    if case.winding.driven:
+        from .drive import run_drive
+
+        drive = run_drive(case, fe)
+        rows = rows + tuple(drive_rows(case, drive))
     notes = explain(case, rows, hand_p, fe)
     full_ranking = rank_fringing(case, fe)
     ranking = full_ranking if all_fringing else ()
@@ -524,4 +580,4 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
                        depth_factor=k_depth, notes=notes,
                        timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
                                 "total": t3 - t0},
-                       fringing_ranking=ranking, breakdown=breakdown)
+                       fringing_ranking=ranking, breakdown=breakdown, drive=drive)

@@ -142,6 +142,17 @@ class WindingSpec:
     clearance: float = 0.0
     name: str = "main"
     inner: float = 0.0
+    voltage: float | None = None
+    """Sinusoidal drive, rms volts (None: driven by ``current``).  The
+    winding's ``current`` is then the hand model's peak magnetizing current
+    (compare.drive), the operating point of the check's other rows."""
+    frequency: float | None = None
+    """Of the voltage drive (Hz)."""
+
+    @property
+    def driven(self) -> bool:
+        """True when the winding is voltage-driven."""
+        return self.voltage is not None
 
     @property
     def mmf(self) -> float:

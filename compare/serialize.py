@@ -111,11 +111,17 @@ def check_json(res: CheckResult) -> dict:
                               "H_min": mv["magnet_H_min"], "knee_H": knees.get(first),
                               "uncertainty": {k[7:]: fe.uncertainty.get(k) for k in mv}}
     case = res.case
+    hand_block, planar_block = res.hand_3d.to_dict(), res.hand_planar.to_dict()
+    if res.drive is not None:  # a voltage drive (compare.drive): per model, SI
+        hand_block.update(res.drive.to_dict("hand_3d"))
+        planar_block.update(res.drive.to_dict("hand"))
+        fe_block.update(res.drive.to_dict("fe"))
+        fe_block["uncertainty"].update({k: v for k, v in res.drive.uncertainty.items()})
     return {
         "case": {"name": case.name, "family": case.family, "file": case.source,
                  "sha256": case.sha256},
-        "hand": res.hand_3d.to_dict(),
-        "hand_planar": res.hand_planar.to_dict(),
+        "hand": hand_block,
+        "hand_planar": planar_block,
         "fe": fe_block,
         "comparison": [r.to_dict() for r in res.rows],
         "fringing_ranking": list(res.fringing_ranking),

@@ -40,6 +40,8 @@ DIMENSIONS: dict[str, Dimension] = {
     "energy": (2, 1, -2, 0),
     "force": (1, 1, -2, 0),
     "time": (0, 0, 1, 0),
+    "voltage": (2, 1, -3, -1),
+    "frequency": (0, 0, -1, 0),
 }
 
 # Unit symbol -> (factor to SI, dimension). All factors are definitions:
@@ -58,6 +60,8 @@ _UNITS: dict[str, tuple[float, Dimension]] = {
     "J": (1.0, DIMENSIONS["energy"]),
     "N": (1.0, DIMENSIONS["force"]),
     "s": (1.0, DIMENSIONS["time"]),
+    "V": (1.0, DIMENSIONS["voltage"]),
+    "Hz": (1.0, DIMENSIONS["frequency"]),
 }
 
 _PREFIXES: dict[str, float] = {

@@ -1,0 +1,122 @@
+"""Sinusoidal voltage drive: the peak flux linkage and the magnetizing
+current waveform from a winding's flux-linkage-current (lambda-i) curve.
+
+A winding driven by v(t) = sqrt(2) V cos(wt), its resistance neglected,
+carries the flux linkage lambda(t) = lambda_pk sin(wt) with
+
+    lambda_pk = sqrt(2) V / (2 pi f)                              (1)
+
+(Faraday's law integrated over a half period; with lambda = N B A_c this is
+the transformer EMF equation V = 4.44 f N A_c B_pk, e.g. Kulkarni and
+Khaparde, Transformer Engineering, 2004, ch. 1).  The magnetizing current
+is i(t) = i(lambda(t)), the lambda-i curve inverted at each instant; the
+knee of the B-H curve makes it peaked, rich in odd harmonics.  No
+hysteresis and no eddy currents: the curve is single-valued.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+from scipy.interpolate import PchipInterpolator
+
+__all__ = ["peak_flux_linkage", "MagnetizingCurrent", "magnetizing_current",
+           "DriveError", "SAMPLES"]
+
+SAMPLES = 256
+"""Time samples per period of the waveform (the 7th harmonic has 36 per cycle)."""
+
+
+class DriveError(ValueError):
+    """A drive or a lambda-i curve that cannot give a waveform; the message says why."""
+
+
+def peak_flux_linkage(voltage_rms: float, frequency: float) -> float:
+    """lambda_pk = sqrt(2) V / (2 pi f) (Wb-turns), equation (1)."""
+    if not (math.isfinite(voltage_rms) and voltage_rms > 0):
+        raise DriveError(f"voltage = {voltage_rms!r} V must be a finite positive rms value")
+    if not (math.isfinite(frequency) and frequency > 0):
+        raise DriveError(f"frequency = {frequency!r} Hz must be finite and positive")
+    return math.sqrt(2.0) * voltage_rms / (2.0 * math.pi * frequency)
+
+
+@dataclass(frozen=True)
+class MagnetizingCurrent:
+    """One period of the magnetizing current.
+
+    t : sample times over one period, s (SAMPLES of them, t = k T / SAMPLES).
+    i : the current at those times, A.
+    peak, rms : A.
+    fundamental : the fundamental's amplitude (A, peak).
+    harmonics_pct : {3: ..., 5: ..., 7: ...}: each odd harmonic's amplitude in
+        % of the fundamental.
+    inductance : lambda_pk / fundamental: the magnetizing inductance the
+        fundamental sees (H), what a measurement at the drive voltage gives.
+    """
+
+    t: np.ndarray = field(repr=False)
+    i: np.ndarray = field(repr=False)
+    lambda_peak: float
+    peak: float
+    rms: float
+    fundamental: float
+    harmonics_pct: dict[int, float]
+    inductance: float
+
+
+def _inverse(currents: np.ndarray, linkages: np.ndarray):
+    """i(lambda) from samples of a lambda-i curve with lambda rising in i,
+    odd about the origin when it holds only i >= 0 (no magnet): a shape-
+    preserving (monotone) cubic through the points."""
+    i = np.asarray(currents, dtype=float)
+    lam = np.asarray(linkages, dtype=float)
+    if i.ndim != 1 or i.size < 3 or i.size != lam.size:
+        raise DriveError("the lambda-i curve needs at least three (i, lambda) points")
+    if not (np.all(np.isfinite(i)) and np.all(np.isfinite(lam))):
+        raise DriveError("the lambda-i curve holds a NaN or an infinite value")
+    order = np.argsort(i)
+    i, lam = i[order], lam[order]
+    if i[0] >= 0.0:  # one half: mirror it (a single-valued curve without a magnet is odd)
+        if i[0] == 0.0 and abs(lam[0]) > 1e-9 * np.max(np.abs(lam)):
+            raise DriveError("the flux linkage at zero current is not zero (a magnet?): give "
+                             "the lambda-i curve for negative currents too")
+        pos = i > 0.0
+        i = np.concatenate([-i[pos][::-1], [0.0], i[pos]])
+        lam = np.concatenate([-lam[pos][::-1], [0.0], lam[pos]])
+    if np.any(np.diff(lam) <= 0.0):
+        raise DriveError("the flux linkage does not rise with the current: the lambda-i curve "
+                         "cannot be inverted")
+    return PchipInterpolator(lam, i, extrapolate=False), float(lam[0]), float(lam[-1])
+
+
+def magnetizing_current(currents, linkages, lambda_peak: float, frequency: float,
+                        samples: int = SAMPLES) -> MagnetizingCurrent:
+    """The magnetizing current for lambda(t) = lambda_pk sin(2 pi f t).
+
+    ``currents``, ``linkages``: samples of the winding's lambda-i curve (A,
+    Wb-turns), lambda rising with i; only i >= 0 may be given (the curve is
+    then taken as odd).  They must reach +-lambda_pk.  Harmonics by the
+    discrete Fourier transform of the samples (exact for harmonics below
+    samples/2 of a band-limited waveform).
+
+    Raises DriveError when the curve does not reach lambda_pk.
+    """
+    inv, lo, hi = _inverse(np.asarray(currents, dtype=float), np.asarray(linkages, dtype=float))
+    if not (lo <= -lambda_peak and lambda_peak <= hi):
+        raise DriveError(f"the lambda-i curve reaches {hi:.6g} Wb-turns, below the drive's peak "
+                         f"flux linkage {lambda_peak:.6g} Wb-turns: extend it to a higher current")
+    period = 1.0 / frequency
+    t = np.arange(samples) * period / samples
+    lam_t = lambda_peak * np.sin(2.0 * np.pi * frequency * t)
+    lam_t = np.clip(lam_t, -lambda_peak, lambda_peak)
+    i_t = np.asarray(inv(lam_t), dtype=float)
+    spec = np.fft.rfft(i_t) * 2.0 / samples
+    amp = np.abs(spec)
+    fund = float(amp[1])
+    harm = {h: (100.0 * float(amp[h]) / fund if fund > 0 else math.nan) for h in (3, 5, 7)}
+    return MagnetizingCurrent(
+        t=t, i=i_t, lambda_peak=float(lambda_peak), peak=float(np.max(np.abs(i_t))),
+        rms=float(np.sqrt(np.mean(i_t ** 2))), fundamental=fund, harmonics_pct=harm,
+        inductance=float(lambda_peak / fund) if fund > 0 else math.nan)

@@ -1,0 +1,207 @@
+"""A voltage-driven winding: its peak flux linkage, the magnetizing current
+each model needs, and the peak flux density.
+
+The first winding may be driven by a sinusoidal voltage (``voltage``, rms,
+and ``frequency``) instead of a current.  Its resistance is neglected, so
+the flux linkage is lambda(t) = lambda_pk sin(wt) with lambda_pk =
+sqrt(2) V / (2 pi f) (analytic.magnetizing), and the other windings carry
+their stated currents (0 A: open).  Each model gives the magnetizing
+current from its own lambda-i curve (analytic.magnetizing.magnetizing_current):
+
+* hand: the network solved along a current grid up to the current at which
+  it reaches lambda_pk (root-found);
+* FE: a warm-started current sweep on the case's mesh at the currents where
+  the hand curve passes lambda_pk k/10 (so the points fall about evenly in
+  lambda, where the inversion needs them), extended until the FE's own
+  curve passes lambda_pk.
+
+The case's ``current`` of a driven winding is set when the case is read
+(:func:`resolve_drive`): the hand model's peak magnetizing current, the
+operating point of every other row of the check (the top of the cycle).
+
+Peak flux density: the hand's by the EMF equation, lambda_pk / (N A_c) with
+A_c the winding limb's area in the network (the transformer EMF equation,
+V = 4.44 f N A_c B_pk); the FE's the |B| exceeded on 0.5 % of the core area
+(as for peak B) at the current where its own flux linkage is lambda_pk.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from scipy.interpolate import PchipInterpolator
+from scipy.optimize import brentq
+
+from analytic.magnetizing import (DriveError, MagnetizingCurrent, magnetizing_current,
+                                  peak_flux_linkage)
+
+from .errors import RunError
+
+__all__ = ["DriveResult", "resolve_drive", "hand_peak_current", "hand_curve", "run_drive",
+           "DRIVE_KEYS"]
+
+HAND_POINTS = 48
+"""Hand lambda-i points up to the peak current (ms each)."""
+FE_POINTS = 10
+"""FE solves along the lambda-i curve up to lambda_pk (warm-started)."""
+
+DRIVE_KEYS = ("B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
+              "magnetizing_inductance")
+
+
+def _lambda(case: Any, current: float, planar: bool) -> float:
+    from .hand import run_hand
+    from .margins import with_current
+
+    return abs(run_hand(with_current(case, current), planar=planar).flux_linkage)
+
+
+def hand_peak_current(case: Any, planar: bool = False) -> float:
+    """The current (A) at which the hand network's flux linkage of the
+    driven winding is lambda_pk (bracketed by doubling, then brentq to 1e-10)."""
+    w = case.winding
+    lam_pk = peak_flux_linkage(w.voltage, w.frequency)
+    hi = 1e-3
+    for _ in range(80):
+        if _lambda(case, hi, planar) >= lam_pk:
+            break
+        hi *= 2.0
+    else:  # pragma: no cover - a core that never reaches lambda_pk by 1e21 A
+        raise RunError(f"the hand model's flux linkage does not reach the drive's "
+                       f"{lam_pk:.6g} Wb-turns at any current")
+    return float(brentq(lambda i: _lambda(case, i, planar) - lam_pk, 0.0, hi, xtol=1e-12 * hi,
+                        rtol=1e-10))
+
+
+def resolve_drive(case: Any) -> Any:
+    """The case with its driven winding's current set to the hand model's
+    peak magnetizing current (unchanged when no winding is driven)."""
+    if not case.winding.driven:
+        return case
+    i_pk = hand_peak_current(case)
+    return dataclasses.replace(case, winding=dataclasses.replace(case.winding, current=i_pk))
+
+
+def hand_curve(case: Any, planar: bool, i_top: float) -> tuple[np.ndarray, np.ndarray]:
+    """The hand lambda-i curve from 0 to ``i_top`` (A), HAND_POINTS + 1 points
+    (the flux linkage's magnitude)."""
+    i = np.linspace(0.0, i_top, HAND_POINTS + 1)
+    return i, np.array([_lambda(case, x, planar) if x > 0 else 0.0 for x in i])
+
+
+@dataclass(frozen=True)
+class DriveResult:
+    """Both models' answers to the voltage drive of the first winding.
+
+    lambda_peak : Wb-turns.  hand, hand_3d, fe : the magnetizing currents
+    (hand in the planar form, like for like with a planar FE; 3D hand).
+    B_peak : (hand by the EMF equation, FE 0.5 % quantile at its lambda_pk).
+    curves : per model (currents A, flux linkages Wb-turns) as sampled.
+    uncertainty : FE uncertainty of each DRIVE_KEYS value, first order from
+        the three-mesh uncertainty of the flux linkage at the case's
+        current, U_i = U_lambda / L_incremental.
+    """
+
+    lambda_peak: float
+    hand: MagnetizingCurrent
+    hand_3d: MagnetizingCurrent
+    fe: MagnetizingCurrent
+    B_peak: tuple[float, float]
+    curves: dict[str, tuple[np.ndarray, np.ndarray]] = field(repr=False)
+    uncertainty: dict[str, float] = field(default_factory=dict)
+
+    def values(self, model: str) -> dict[str, float]:
+        """DRIVE_KEYS values of "hand", "hand_3d" or "fe"."""
+        m = {"hand": self.hand, "hand_3d": self.hand_3d, "fe": self.fe}[model]
+        b = self.B_peak[1] if model == "fe" else self.B_peak[0]
+        return {"B_peak": b, "magnetizing_current_peak": m.peak,
+                "magnetizing_current_rms": m.rms, "magnetizing_inductance": m.inductance}
+
+    def to_dict(self, model: str) -> dict:
+        """The JSON section of one model (SI)."""
+        m = {"hand": self.hand, "hand_3d": self.hand_3d, "fe": self.fe}[model]
+        return {"B_peak": self.values(model)["B_peak"],
+                "magnetizing_current": {"peak": m.peak, "rms": m.rms,
+                                        "fundamental": m.fundamental,
+                                        "harmonics_pct": {str(k): v
+                                                          for k, v in m.harmonics_pct.items()}},
+                "magnetizing_inductance": m.inductance,
+                "peak_flux_linkage": self.lambda_peak}
+
+
+def _limb_area(case: Any) -> float:
+    """A_c (m^2): the network branch the driven winding's MMF acts in."""
+    from .hand import build_network
+
+    net, _ = build_network(case)
+    branch = net.windings[0].branch
+    for b in net.branches:
+        if b.name == branch:
+            return float(getattr(b, "area", math.nan))
+    return math.nan
+
+
+def run_drive(case: Any, fe_result: Any) -> DriveResult:
+    """Both models' magnetizing currents and peak flux densities; the FE
+    curve is solved on the case's mesh, warm-started point to point.
+
+    Raises RunError when a solve does not converge or the FE's flux linkage
+    does not reach lambda_pk within 16 times the hand's peak current."""
+    from .fe import mesh_case, solve_case
+    from .margins import with_current
+
+    w = case.winding
+    lam_pk = peak_flux_linkage(w.voltage, w.frequency)
+    i3 = hand_peak_current(case)
+    ip = hand_peak_current(case, planar=True)
+    # 2 % past the peak current, so the curve's top is not the peak itself to rounding
+    curves = {"hand": hand_curve(case, True, 1.02 * ip),
+              "hand_3d": hand_curve(case, False, 1.02 * i3)}
+    f = w.frequency
+    hand_p = magnetizing_current(*curves["hand"], lam_pk, f)
+    hand_3 = magnetizing_current(*curves["hand_3d"], lam_pk, f)
+    # FE currents where the (planar) hand curve passes lambda_pk k / FE_POINTS, and 5 % past it
+    inv = PchipInterpolator(curves["hand"][1], curves["hand"][0])
+    targets = [float(inv(lam_pk * k / FE_POINTS)) for k in range(1, FE_POINTS)] + [ip, 1.05 * ip]
+    mesh = mesh_case(case)
+    A0 = None
+    i_fe, lam_fe, peak_fe = [0.0], [0.0], [0.0]
+
+    def solve(current: float) -> None:
+        nonlocal A0
+        q, sol, _ = solve_case(with_current(case, current), mesh, A0=A0)
+        A0 = sol.A
+        i_fe.append(current)
+        lam_fe.append(abs(q.values["flux_linkage"]))
+        peak_fe.append(q.peak_B)
+
+    for x in targets:
+        solve(x)
+    top = targets[-1]
+    while lam_fe[-1] < lam_pk:
+        top *= 1.25
+        if top > 16 * ip:
+            raise RunError(f"the FE flux linkage reaches {lam_fe[-1]:.6g} Wb-turns at "
+                           f"{i_fe[-1]:.6g} A, short of the drive's {lam_pk:.6g} Wb-turns")
+        solve(top)
+    curves["fe"] = (np.array(i_fe), np.array(lam_fe))
+    try:
+        fe_m = magnetizing_current(*curves["fe"], lam_pk, f)
+    except DriveError as exc:
+        raise RunError(f"FE magnetizing current: {exc}") from None
+    i_at = float(PchipInterpolator(curves["fe"][1], curves["fe"][0])(lam_pk))
+    b_fe = float(PchipInterpolator(np.array(i_fe), np.array(peak_fe))(i_at))
+    b_hand = lam_pk / (w.turns * _limb_area(case))
+    u_lam = fe_result.uncertainty.get("flux_linkage", math.nan)
+    l_inc = abs(fe_result.values.get("incremental_inductance", math.nan))
+    u_i = u_lam / l_inc if l_inc > 0 else math.nan
+    unc = {"magnetizing_current_peak": u_i,
+           "magnetizing_current_rms": u_i * fe_m.rms / fe_m.peak if fe_m.peak else math.nan,
+           "magnetizing_inductance": (fe_m.inductance * u_i / fe_m.peak if fe_m.peak
+                                      else math.nan),
+           "B_peak": fe_result.uncertainty.get("peak_B", math.nan)}
+    return DriveResult(lam_pk, hand_p, hand_3, fe_m, (b_hand, b_fe), curves, unc)
