@@ -1,0 +1,108 @@
+"""Voltage drive (compare.drive): the case keys and their refusals, the
+operating point each model finds, the EMF equation, and a linear core's
+sinusoidal magnetizing current in both models."""
+
+from __future__ import annotations
+
+import math
+import tomllib
+from pathlib import Path
+
+import pytest
+
+from analytic.constants import mu_0
+from compare.casefile import case_from_dict
+from compare.errors import CaseError
+from compare.hand import run_hand
+
+CASE = Path(__file__).resolve().parents[1] / "cases" / "demo_ei_transformer.toml"
+
+
+def _doc() -> dict:
+    return tomllib.loads(CASE.read_text())
+
+
+def test_the_driven_windings_current_is_where_the_hand_reaches_lambda_pk():
+    # Source: lambda_pk = sqrt(2) V / (2 pi f) (Faraday's law; the EMF equation)
+    case = case_from_dict(_doc())
+    lam_pk = math.sqrt(2) * 230 / (2 * math.pi * 50)
+    assert abs(run_hand(case).flux_linkage) == pytest.approx(lam_pk, rel=1e-9)
+    assert case.winding.voltage == 230.0 and case.winding.frequency == 50.0
+
+
+def test_linear_ideal_core_drive_in_closed_form():
+    # Source: exact for a linear circuit: i_pk = lambda_pk / L, L = N^2 / R
+    # with the EI core's two outer loops in parallel (typed from the
+    # dimensions; ideal-gap network, mu_r 2000)
+    d = _doc()
+    d["materials"]["core"] = {"mu_r": 2000}
+    case = case_from_dict(d)
+    lam_pk = math.sqrt(2) * 230 / (2 * math.pi * 50)
+    L = run_hand(case).inductance
+    assert case.winding.current == pytest.approx(lam_pk / L, rel=1e-9)
+    from compare.drive import hand_curve
+    from analytic.magnetizing import magnetizing_current
+
+    m = magnetizing_current(*hand_curve(case, False, 1.02 * case.winding.current), lam_pk, 50.0)
+    assert m.peak == pytest.approx(lam_pk / L, rel=1e-9)
+    assert max(m.harmonics_pct.values()) < 1e-6
+
+
+def test_hand_peak_flux_density_is_the_emf_equation():
+    # Source: the transformer EMF equation B_pk = V / (4.44 f N A_c) with
+    # A_c the centre limb's 25 mm x 30 mm (4.44 = 2 pi / sqrt(2) unrounded)
+    from compare.drive import _limb_area
+
+    case = case_from_dict(_doc())
+    a_c = 25e-3 * 30e-3
+    assert _limb_area(case) == pytest.approx(a_c, rel=1e-12)
+    b_pk = 230 / (2 * math.pi / math.sqrt(2) * 50 * 1000 * a_c)
+    assert b_pk == pytest.approx(1.3805, rel=1e-4)
+
+
+@pytest.mark.parametrize("change, key, words", [
+    (lambda d: d["windings"][0].update(current="1 A"), "windings[0].voltage", "not both"),
+    (lambda d: d["windings"][0].pop("frequency"), "windings[0].frequency", "needs its"),
+    (lambda d: d["windings"][1].update(frequency="50 Hz"), "windings[1].frequency",
+     "without a voltage"),
+    (lambda d: d["windings"][1].update(voltage="24 V", frequency="50 Hz", current=None) or
+     d["windings"][1].pop("current"), "windings[1].voltage", "only the first"),
+    (lambda d: d["windings"][1].update(current="1 A"), "windings[1].current", "DC bias"),
+    (lambda d: d["windings"][0].update(voltage="-5 V"), "windings[0].voltage", ""),
+])
+def test_bad_drives_name_the_key(change, key, words):
+    d = _doc()
+    change(d)
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == key and words in str(info.value)
+
+
+def test_drive_margins_need_a_drive():
+    d = tomllib.loads((CASE.parent / "demo_choke.toml").read_text())
+    d["margins"] = {"B_peak": "1.5 T"}
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d, base_dir=CASE.parent)
+    assert info.value.key == "margins.B_peak" and "voltage-drive margin" in str(info.value)
+
+
+@pytest.mark.slow
+def test_linear_core_fe_magnetizing_current_is_sinusoidal():
+    # Source: exact for a linear field problem: lambda = L_FE i, so the FE's
+    # magnetizing current is lambda_pk / L_FE sin(wt), harmonics nil (the
+    # inversion of linear data is exact; Newton's tolerance bounds the rest)
+    from compare.check import run_check
+
+    d = _doc()
+    d["materials"]["core"] = {"mu_r": 2000}
+    d["fe"] = {"mesh_size": "4 mm"}
+    res = run_check(case_from_dict(d))
+    lam_pk = math.sqrt(2) * 230 / (2 * math.pi * 50)
+    L_fe = res.fe.values["inductance"]
+    assert res.drive.fe.peak == pytest.approx(lam_pk / L_fe, rel=1e-6)
+    assert res.drive.fe.rms == pytest.approx(lam_pk / L_fe / math.sqrt(2), rel=1e-6)
+    assert max(res.drive.fe.harmonics_pct.values()) < 1e-3
+    keys = {r.key for r in res.rows}
+    assert {"B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
+            "magnetizing_inductance", "magnetizing_harmonic_3"} <= keys
+    _ = mu_0
