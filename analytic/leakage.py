@@ -135,3 +135,29 @@ def _positive_part_mean(ua: float, ub: float, sign: float) -> float:
     top = max(a, b)
     frac = top / (abs(a) + abs(b))  # the share of the piece where the part is positive
     return 0.5 * top * frac
+
+
+def concentric_leakage_inductance(turns: float, mean_turn: float, height: float,
+                                  inner_build: float, outer_build: float, spacing: float) -> float:
+    """Leakage (short-circuit) inductance of two concentric windings,
+    referred to the winding of ``turns`` (H):
+
+        L_s = mu0 N^2 (MLT / h_w) (a1/3 + a2/3 + d)
+
+    with a1, a2 the two windings' builds, d the radial space between them,
+    h_w the winding height and MLT the mean length of a turn of the pair (m).
+    The field between the windings is axial and uniform over h_w, falling
+    linearly across each winding (ampere-turns balanced; the classic
+    transformer formula, e.g. Kulkarni and Khaparde, Transformer Engineering,
+    2004, ch. 3 [from memory]); the end fringing that the Rogowski factor
+    corrects is left out, so the formula holds for long, thin windings.
+    """
+    for name, v in (("turns", turns), ("mean_turn", mean_turn), ("height", height)):
+        if not (math.isfinite(v) and v > 0):
+            raise ValueError(f"{name} = {v!r} must be finite and positive")
+    for name, v in (("inner_build", inner_build), ("outer_build", outer_build),
+                    ("spacing", spacing)):
+        if not (math.isfinite(v) and v >= 0):
+            raise ValueError(f"{name} = {v!r} must be finite and >= 0")
+    return (mu_0 * turns ** 2 * mean_turn / height
+            * (inner_build / 3.0 + outer_build / 3.0 + spacing))

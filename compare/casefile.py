@@ -118,12 +118,12 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     if case.winding.driven:
         case = _resolved_drive(case)
     else:
-        m = case.margins
-        for key, value in (("B_peak", m.B_peak),
-                           ("magnetizing_current_peak", m.magnetizing_current_peak),
-                           ("magnetizing_current_rms", m.magnetizing_current_rms)):
-            if value is not None:
-                raise CaseError(f"margins.{key}", value, "a voltage-drive margin: give the first "
+        margins = case.margins
+        for mkey, mval in (("B_peak", margins.B_peak),
+                           ("magnetizing_current_peak", margins.magnetizing_current_peak),
+                           ("magnetizing_current_rms", margins.magnetizing_current_rms)):
+            if mval is not None:
+                raise CaseError(f"margins.{mkey}", mval, "a voltage-drive margin: give the first "
                                 "winding a voltage and frequency, or drop it")
     return case
 
@@ -499,7 +499,7 @@ def _read_fe(t: TableReader) -> FESettings:
 AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
                   "incremental_inductance", "energy", "force", "force_pull", "B_peak",
                   "magnetizing_current_peak", "magnetizing_current_rms",
-                  "magnetizing_inductance")
+                  "magnetizing_inductance", "leakage_inductance")
 
 
 INDUCTANCE_KINDS = ("secant", "incremental")

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import math
 import time
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 from analytic.fringing import FRINGING_MODELS, get_fringing
@@ -41,6 +41,9 @@ DEFAULT_LIMITS: dict[str, float] = {
     # no source)
     "B_peak": 15.0, "magnetizing_current_peak": 30.0, "magnetizing_current_rms": 30.0,
     "magnetizing_inductance": 30.0,
+    # the concentric-winding formula assumes long thin windings and no end
+    # fringing (common practice, no source)
+    "leakage_inductance": 25.0,
     # a magnet's operating point: B on its recoil line moves little with the
     # load, H much more (common practice, no source)
     "magnet_B": 10.0, "magnet_H": 30.0,
@@ -59,6 +62,7 @@ LABELS = {
     "magnetizing_current_peak": "magnetizing current, peak",
     "magnetizing_current_rms": "magnetizing current, rms",
     "magnetizing_inductance": "magnetizing inductance (fundamental)",
+    "leakage_inductance": "leakage inductance",
 }
 
 # Quantities that scale with the gap permeance, and so take the depth-fringing factor.
@@ -118,6 +122,8 @@ class CheckResult:
     """compare.breakdown.Step per refinement, in order (the difference breakdown)."""
     drive: Any = None
     """compare.drive.DriveResult of a voltage-driven case (None otherwise)."""
+    leakage: dict = field(default_factory=dict)
+    """Two concentric windings: {"hand": L_s, "fe": L_s} referred to the first (H)."""
 
     @property
     def passed(self) -> bool:
@@ -235,6 +241,27 @@ def magnet_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
                    fe.uncertainty.get("magnet_H_min", math.nan), math.nan, None, "info",
                    fe_3d=mv["magnet_H_min"]))
     return out
+
+
+def leakage_values(case: Case, fe: FEResult) -> dict:
+    """The leakage inductance of the first two windings when concentric
+    (compare.coupling), hand and FE on the finest mesh; {} otherwise."""
+    from .coupling import concentric_pair, fe_leakage, hand_leakage
+
+    if concentric_pair(case) is None:
+        return {}
+    return {"hand": hand_leakage(case), "fe": fe_leakage(case, fe.solution.mesh)}
+
+
+def leakage_row(case: Case, leakage: dict) -> Row:
+    """The leakage-inductance row: the classic formula against the FE's
+    balanced-ampere-turn energy (one mesh: no uncertainty)."""
+    k = "leakage_inductance"
+    h, f = leakage["hand"], leakage["fe"]
+    d = _diff_pct(h, f)
+    lim = case.margins.agreement_limit(k, DEFAULT_LIMITS[k])
+    return Row(k, f"{LABELS[k]} (referred to {case.winding.name})", "H", h, f, math.nan, d, lim,
+               _verdict(d, h, f, math.nan, lim), hand_3d=h, fe_3d=f)
 
 
 def drive_rows(case: Case, drive: Any) -> list[Row]:
@@ -568,6 +595,9 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
 
         drive = run_drive(case, fe)
         rows = rows + tuple(drive_rows(case, drive))
+    leakage = leakage_values(case, fe)
+    if leakage:
+        rows = rows + (leakage_row(case, leakage),)
     notes = explain(case, rows, hand_p, fe)
     full_ranking = rank_fringing(case, fe)
     ranking = full_ranking if all_fringing else ()
@@ -580,4 +610,5 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
                        depth_factor=k_depth, notes=notes,
                        timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
                                 "total": t3 - t0},
-                       fringing_ranking=ranking, breakdown=breakdown, drive=drive)
+                       fringing_ranking=ranking, breakdown=breakdown, drive=drive,
+                       leakage=leakage)

@@ -300,7 +300,7 @@ def fig_magnetizing(res: CheckResult):
     f = res.case.winding.frequency
     for m, label, colour, line in ((d.hand, "hand", HAND_COLOUR, "--"),
                                    (d.fe, "FE", FE_COLOUR, "-")):
-        t = np.append(m.t, 1.0 / f) * 1e3
+        t = np.append(m.t, 1.0 / float(f or 1.0)) * 1e3
         ax1.plot(t, np.append(m.i, m.i[0]), line, color=colour, lw=1.3,
                  label=f"{label}: peak {m.peak:.4g} A, rms {m.rms:.4g} A, "
                        f"3rd {m.harmonics_pct[3]:.1f} %")

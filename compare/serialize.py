@@ -117,6 +117,10 @@ def check_json(res: CheckResult) -> dict:
         planar_block.update(res.drive.to_dict("hand"))
         fe_block.update(res.drive.to_dict("fe"))
         fe_block["uncertainty"].update({k: v for k, v in res.drive.uncertainty.items()})
+    if res.leakage:  # two concentric windings: L_s referred to the first (H)
+        hand_block["leakage_inductance"] = res.leakage["hand"]
+        planar_block["leakage_inductance"] = res.leakage["hand"]
+        fe_block["leakage_inductance"] = res.leakage["fe"]
     return {
         "case": {"name": case.name, "family": case.family, "file": case.source,
                  "sha256": case.sha256},
