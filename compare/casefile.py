@@ -8,6 +8,7 @@ and B-H files are read here too.
 
 from __future__ import annotations
 
+import dataclasses
 import hashlib
 import math
 import tomllib
@@ -113,6 +114,9 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
             raise CaseError("margins.force[0].stroke", case.margins.force[0].stroke,
                             "the moving part has no stroke key to sweep (a drawn core): use "
                             "margins.force_min at the drawn position")
+        for i, lim in enumerate(case.margins.force):
+            _check_force_limit_stroke(f"margins.force[{i}].stroke", lim.stroke, spec, data,
+                                      family, case)
     for w in plausibility_issues(case):
         warnings.warn(w, stacklevel=2)
     if case.winding.driven:
@@ -558,6 +562,39 @@ def _read_margins(t: TableReader) -> Margins:
                    copper_fill=fill, inductance=tuple(inductance), saturation=tuple(saturation),
                    force_min=force_min, force=tuple(forces), B_peak=b_peak,
                    magnetizing_current_peak=im_peak, magnetizing_current_rms=im_rms)
+
+
+def _check_force_limit_stroke(key: str, stroke: float, spec: Any, data: dict, family: Family,
+                              case: Case) -> None:
+    """A force limit at a stroke other than the case's is judged only along a
+    stroke sweep: the case must declare a ``[sweep]`` of the stroke key whose
+    range reaches it, and the family must accept the core at that stroke
+    (otherwise ``verify`` would pass with the limit never judged)."""
+    if math.isclose(stroke, spec.stroke, rel_tol=1e-9):
+        return
+    ranges = [parse_vary(v, family=family).values for d in case.sweeps for v in d.vary
+              if v.partition("=")[0].strip() == spec.stroke_key]
+    if not any(min(r) * (1 - 1e-9) <= stroke <= max(r) * (1 + 1e-9) for r in ranges):
+        have = ", ".join(f"{min(r) * 1e3:g} mm .. {max(r) * 1e3:g} mm" for r in ranges)
+        raise CaseError(key, f"{stroke * 1e3:g} mm",
+                        f"another stroke than the case's ({spec.stroke * 1e3:g} mm) is judged "
+                        f"along a stroke sweep, and "
+                        + (f"the case's [sweep] of {spec.stroke_key} covers only {have}"
+                           if ranges else f"the case declares no [sweep] of {spec.stroke_key}")
+                        + f': add e.g. [sweep] vary = ["{spec.stroke_key}='
+                          f'{min(stroke, spec.stroke) * 1e3:g}mm:'
+                          f'{max(stroke, spec.stroke) * 1e3:g}mm:5"]')
+    table, _, name = spec.stroke_key.partition(".")
+    moved = dict(data.get(table, {}))
+    moved[name] = f"{stroke!r} m"
+    try:
+        core = family.read_core(TableReader(moved, table)) if table == "core" else None
+        check = getattr(family, "check_case", None)
+        if core is not None and check is not None:
+            check(dataclasses.replace(case, core=core))
+    except CaseError as exc:
+        raise CaseError(key, f"{stroke * 1e3:g} mm",
+                        f"the core cannot take this stroke ({exc})") from None
 
 
 def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDecl, ...]:

@@ -222,6 +222,7 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
                    fe_at: Callable[[float, str], float] | None = None,
                    hand_at: Callable[[float, str], float] | None = None,
                    saturation: Callable[[float, str], tuple[float, float, str, str]] | None = None,
+                   nominal_stroke: float = math.nan,
                    ) -> list[MarginResult]:
     """Every margin of ``case.margins`` evaluated.
 
@@ -240,6 +241,10 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
     saturation : callable (drop, kind) -> (value A, hand value A, basis, note), optional
         Default: the 3D hand model's root-find (:func:`hand_saturation_current`),
         basis "hand".
+    nominal_stroke : the stroke (m) the case's force limits call "the case's
+        own" (default: this case's).  A tolerance sample whose stroke varies
+        passes its nominal case's, so that a limit stated at the nominal stroke
+        is judged at the sample's own stroke instead of left unjudged.
     """
     m = case.margins
     out: list[MarginResult] = []
@@ -257,8 +262,9 @@ def design_margins(case: Case, *, fe_peak_B: float = math.nan, hand_peak_B: floa
 
     model = core_model(case)
     for flim in m.force:
-        at_case = model.force is not None and math.isclose(flim.stroke, model.force.stroke,
-                                                           rel_tol=1e-9)
+        own = nominal_stroke if math.isfinite(nominal_stroke) else (
+            model.force.stroke if model.force is not None else math.nan)
+        at_case = model.force is not None and math.isclose(flim.stroke, own, rel_tol=1e-9)
         if at_case:
             hand_f = (hand_force if math.isfinite(hand_force)
                       else run_hand(case).force_values.get("force", math.nan))

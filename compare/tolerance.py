@@ -142,6 +142,9 @@ class SampleTask:
     cases: tuple[Case, ...]
     with_fe: bool
     drop: float
+    nominal_stroke: float = math.nan
+    """The nominal case's stroke (m; NaN without a moving part): force limits
+    stated at it are judged at each sample's own stroke."""
 
 
 def _hand_peak(h) -> float:
@@ -195,7 +198,8 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
             margins = design_margins(case, fe_peak_B=fe_peak if task.with_fe else hp,
                                      hand_peak_B=hp, fe_at=fe_at, saturation=saturation,
                                      fe_force=fe_force, hand_force=hand_force,
-                                     fe_magnet_H_min=fe_h_min)
+                                     fe_magnet_H_min=fe_h_min,
+                                     nominal_stroke=task.nominal_stroke)
             out.append(SampleResult(idx, settings, h.inductance, hp, sat, fe_l, fe_peak,
                                     task.with_fe, tuple(margins)))
         except RunError as exc:
@@ -285,11 +289,16 @@ def run_tolerance(src: CaseSource, *, samples: int, seed: int, fe_samples: int |
     spec_of = {t.key: f"tolerances[{j}]" for j, t in enumerate(base.tolerances)}
     cases = [make_case(src, s, spec_of=spec_of) for s in settings]
     drop = base.margins.saturation[0].drop if base.margins.saturation else 0.20
-    tasks = [SampleTask((i,), (settings[i],), (cases[i],), True, drop) for i in range(fe_samples)]
+    from .coremodel import core_model
+
+    spec = core_model(base).force
+    stroke0 = spec.stroke if spec is not None else math.nan
+    tasks = [SampleTask((i,), (settings[i],), (cases[i],), True, drop, stroke0)
+             for i in range(fe_samples)]
     for k in range(fe_samples, samples, HAND_CHUNK):
         idx = tuple(range(k, min(k + HAND_CHUNK, samples)))
         tasks.append(SampleTask(idx, tuple(settings[i] for i in idx),
-                                tuple(cases[i] for i in idx), False, drop))
+                                tuple(cases[i] for i in idx), False, drop, stroke0))
     workers_eff = workers if (workers is not None or fe_samples or scheduler) else 1
     results, _ = run_tasks(run_samples, tasks, workers=workers_eff, scheduler=scheduler,
                            on_done=on_done)

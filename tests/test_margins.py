@@ -172,7 +172,7 @@ def test_check_reports_every_margin(tmp_path):
 # ------------------------------------------------------------ force along the stroke
 def _plunger_doc() -> dict:
     d = tomllib.loads((CASES / "demo_plunger_solenoid.toml").read_text())
-    d.pop("sweep", None)
+    d["sweep"] = {"vary": ["core.stroke=1mm:5.5mm:4"]}  # what limits at other strokes need
     return d
 
 
@@ -190,19 +190,20 @@ def test_force_limits_are_judged_along_the_stroke_curve_at_the_case_current():
     from compare.margins import stroke_margins
 
     d = _plunger_doc()
-    d["margins"]["force"] = [{"stroke": "2.5 mm", "min": "6 N"}, {"stroke": "9 mm", "max": "1 N"}]
+    d["margins"]["force"] = [{"stroke": "2.5 mm", "min": "6 N"}, {"stroke": "5.5 mm", "max": "1 N"}]
     case = case_from_dict(d)
     pts = [_stroke_point(k, s, i, f_fe, f_hand)
            for k, (s, i, f_fe, f_hand) in enumerate([
                (3e-3, 1.0, 5.0, 4.0), (2e-3, 1.0, 9.0, 8.0),     # the 1 A curve, out of order
                (2e-3, 0.5, 2.0, 1.5), (3e-3, 0.5, 1.0, 0.8)])]   # another current: not judged
     out = {m.key: m for m in stroke_margins(case, pts, True)}
-    assert set(out) == {"force@2.5mm:min", "force@9mm:max"}
+    assert set(out) == {"force@2.5mm:min", "force@5.5mm:max"}
     full = out["force@2.5mm:min"]
     assert full.value == pytest.approx(7.0) and full.hand == pytest.approx(6.0)
     assert full.verdict == "pass" and full.basis == "FE"
-    assert out["force@9mm:max"].verdict == "n/a"
-    assert "outside the swept range" in out["force@9mm:max"].note
+    # (a sweep run by hand may miss a limit the case's own [sweep] reaches)
+    assert out["force@5.5mm:max"].verdict == "n/a"
+    assert "outside the swept range" in out["force@5.5mm:max"].note
     # a grid without the case's current judges nothing, and says why
     off = {m.key: m for m in stroke_margins(case, pts[2:], True)}
     assert off["force@2.5mm:min"].verdict == "n/a"
@@ -238,6 +239,43 @@ def test_bad_force_limits_name_the_key(entry, key, words):
     assert info.value.key == key and words in str(info.value)
 
 
+@pytest.mark.parametrize("sweep, stroke, words", [
+    (None, "1 mm", "declares no [sweep] of core.stroke"),
+    ({"vary": ["core.stroke=2mm:4mm:3"]}, "1 mm", "covers only 2 mm .. 4 mm"),
+    ({"vary": ["winding.current=0.5A,1A"]}, "5 mm", "declares no [sweep] of core.stroke"),
+    ({"vary": ["core.stroke=1mm:8mm:3"]}, "7 mm", "the core cannot take this stroke"),
+])
+def test_force_limit_at_another_stroke_needs_a_stroke_sweep_the_core_takes(sweep, stroke, words):
+    # otherwise check and verify would report the limit n/a and pass
+    d = _plunger_doc()
+    if sweep is None:
+        d.pop("sweep")
+    else:
+        d["sweep"] = sweep
+    d["margins"]["force"] = [{"stroke": "3 mm", "min": "1 N"}, {"stroke": stroke, "min": "1 N"}]
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == "margins.force[1].stroke" and words in str(info.value)
+    d["margins"]["force"] = [{"stroke": "3 mm", "min": "1 N"}]  # the case's own stroke: no sweep
+    case_from_dict(d)
+
+
+def test_force_limit_at_the_nominal_stroke_follows_a_tolerance_samples_stroke():
+    # a sample whose stroke is drawn off the nominal is judged at its own
+    # stroke, not left n/a (which the yield would count as met)
+    d = _plunger_doc()
+    d["margins"] = {"force": [{"stroke": "3 mm", "min": "4 N"}]}
+    d["core"]["stroke"] = "3.2 mm"
+    d["sweep"] = {"vary": ["core.stroke=1mm:5mm:5"]}
+    case = case_from_dict(d)
+    own = {m.key: m for m in design_margins(case, fe_force=3.5, hand_force=3.3)}
+    assert own["force@3mm:min"].verdict == "n/a"
+    out = {m.key: m for m in design_margins(case, fe_force=3.5, hand_force=3.3,
+                                            nominal_stroke=3e-3)}
+    at = out["force@3mm:min"]
+    assert (at.value, at.hand, at.verdict) == (3.5, 3.3, "FAIL")
+
+
 def test_force_limit_needs_a_moving_part():
     d = choke_dict()
     d["margins"] = {"force": [{"stroke": "1 mm", "min": "1 N"}]}
@@ -254,6 +292,7 @@ def test_demagnetisation_is_judged_at_the_sweeps_worst_point():
 
     d = tomllib.loads((CASES / "demo_holding_magnet.toml").read_text())
     d.pop("sweep")
+    d["margins"].pop("force")  # (its holding-force limit at 1 mm would need the stroke sweep)
     case = case_from_dict(d)
     pts = [PointResult(k, {"winding.current": i}, i, {}, {}, math.nan,
                        fe={"magnet_H_min": h})
