@@ -118,6 +118,12 @@ class CircuitGap:
     node_b: str
     face: GapFace
     fringing: str | None = None
+    stroke_faces: tuple[GapFace, GapFace, GapFace, GapFace] | None = None
+    """The face at the stroke plus (-2, -1, 1, 2) small steps, when the
+    stroke moves more than the gap's length (a plunger's side shrinks as its
+    face withdraws): the network's dP/dstroke is then the fourth-order
+    central difference of the faces' permeances, free sides included, not
+    dP/dg at fixed sides."""
 
 
 @dataclass(frozen=True)

@@ -210,11 +210,16 @@ def _circuit_network(case: Case, circuit: HandCircuit, fringing: str | None, pla
     for gap in circuit.gaps:
         nodes.update((gap.node_a, gap.node_b))
         model = get_fringing(fringing or gap.fringing or case.hand.fringing)
+        if gap.stroke_faces is None:
+            rate = gap_permeance_derivative(gap.face, model, planar)
+        else:  # the free sides move with the stroke too
+            p0, p1, p2, p3 = (gap_permeance(f, model, planar) for f in gap.stroke_faces)
+            step = 0.5 * (gap.stroke_faces[2].length - gap.stroke_faces[1].length)
+            rate = (8.0 * (p2 - p1) - (p3 - p0)) / (12.0 * step)
         branches.append(GapBranch(gap.name, gap.node_a, gap.node_b, gap.face.length,
                                   gap_permeance(gap.face, model, planar),
                                   effective_area(gap.face, model, planar),
-                                  dpermeance_dlength=gap_permeance_derivative(gap.face, model,
-                                                                              planar)))
+                                  dpermeance_dlength=rate))
     rates = dict(circuit.leakage_rates)
     for name, a, b, perm, length in circuit.leakage:
         nodes.update((a, b))
@@ -374,7 +379,9 @@ def hand_forces(case: Case, net: Network, res: NetworkResult) -> dict[str, float
     force : the network's virtual work, the sum over the working gaps (and
         the leakage paths the stroke changes, ``HandCircuit.leakage_rates``)
         of -(1/2) F^2 dP/dg (analytic.force.gap_forces: dW'/dx at constant
-        current, exact for the network, every fringing model).
+        current, exact for the network, every fringing model; a gap whose
+        free sides move with the stroke, ``CircuitGap.stroke_faces``, takes
+        the derivative of its whole face).
     force_pull : the Maxwell pull formula, the sum over the working gaps
         of phi^2 / (2 mu0 A) with phi the gap's flux and A its pole face
         (width x depth): the uniform-field stress B^2/(2 mu0) on the face

@@ -27,6 +27,7 @@ CASE = Path(__file__).resolve().parents[1] / "cases" / "demo_pot_core_choke.toml
 # the demo's dimensions (m), typed again here
 R, WALL, R1, R0, BASE, H, GAP = 12.5e-3, 1.8e-3, 5.4e-3, 1.5e-3, 2.8e-3, 11e-3, 0.4e-3
 N, I = 60, 1.5
+LENGTH = 9.6e-3  # the winding's length
 
 
 def _doc(**core) -> dict:
@@ -36,11 +37,28 @@ def _doc(**core) -> dict:
     return d
 
 
+def _window_leakage(half: float) -> float:
+    """The demo's window leakage (Wb/A) under N I, by quadrature of its
+    definition (families.base.coil_space_leakage): the winding, LENGTH long
+    and centred, spans z1..z2 of the window's height H; f(z) the fraction of
+    its turns below z; the post's halves, each ``half`` long, face the wall
+    at potential differences N I f and N I (1 - f)."""
+    z1, z2 = 0.5 * (H - LENGTH), 0.5 * (H + LENGTH)
+
+    def f(z: float) -> float:
+        return min(max((z - z1) / (z2 - z1), 0.0), 1.0)
+
+    below, _ = quad(lambda z: f(z) ** 2, 0.0, half, points=[z1])
+    above, _ = quad(lambda z: (1 - f(z)) ** 2, H - half, H, points=[z2])
+    return 2 * math.pi * mu_0 / math.log((R - WALL) / R1) * (below + above)
+
+
 def test_window_leakage_against_its_energy_integral():
-    # Source: the definition (families.base.coil_space_leakage): the
-    # potential across the annulus rises linearly from each plate to the gap,
-    # where it is F; the energy (1/2) int P' (U(z))^2 dz over the column is
-    # (1/2) P_eq F^2.  Integrated here by quadrature with F = 1.
+    # Source: the definition (families.base.coil_space_leakage): with a
+    # winding filling the space the potential across the annulus rises
+    # linearly from each plate, N I z / h; the energy (1/2) int P' U(z)^2 dz
+    # over the column is (1/2) P_eq (N I)^2.  Integrated here by quadrature
+    # with N I = 1.
     r_i, r_o, lo, hi, h = 5e-3, 11e-3, 4e-3, 6.5e-3, 11e-3
     p_side = 2 * math.pi * mu_0 / math.log(r_o / r_i)
     below, _ = quad(lambda z: (z / h) ** 2, 0.0, lo)
@@ -51,6 +69,36 @@ def test_window_leakage_against_its_energy_integral():
     fd = (coil_space_leakage(r_i, r_o, lo + ds, hi, h)[0]
           - coil_space_leakage(r_i, r_o, lo - ds, hi, h)[0]) / (2 * ds)
     assert dp == pytest.approx(fd, rel=1e-7)
+
+
+def test_window_leakage_of_short_windings_against_its_energy_integral():
+    # Source: the definition (families.base.coil_space_leakage): with ideal
+    # iron the potential across the annulus at height z is the MMF the
+    # windings enclose between the lower plate and z, N I f(z) below the gap
+    # and N I (1 - f(z)) above it (Ampere's law); the energy (1/2) int P'
+    # U(z)^2 dz is (1/2) P_eq (N I)^2.  Two windings of 30 and 10 turns, one
+    # short of each plate; integrated here by quadrature, f typed again.
+    r_i, r_o, lo, hi, h = 5e-3, 11e-3, 4e-3, 6.5e-3, 11e-3
+    spans = ((1e-3, 9e-3, 30.0), (2.5e-3, 10.5e-3, 10.0))
+
+    def f(z: float) -> float:
+        below = 30 * min(max((z - 1e-3) / 8e-3, 0.0), 1.0)
+        below += 10 * min(max((z - 2.5e-3) / 8e-3, 0.0), 1.0)
+        return below / 40
+
+    p_side = 2 * math.pi * mu_0 / math.log(r_o / r_i)
+    kinks = [1e-3, 2.5e-3, 9e-3, 10.5e-3]
+    a, _ = quad(lambda z: f(z) ** 2, 0.0, lo, points=kinks[:2])
+    b, _ = quad(lambda z: (1 - f(z)) ** 2, h - hi, h, points=kinks[1:])
+    p_eq, dp = coil_space_leakage(r_i, r_o, lo, hi, h, spans)
+    assert p_eq == pytest.approx(p_side * (a + b), rel=1e-10)
+    # shorter windings enclose less MMF near the plates: less leakage than
+    # the filled space's
+    assert p_eq < coil_space_leakage(r_i, r_o, lo, hi, h)[0]
+    ds = 1e-6 * lo
+    fd = (coil_space_leakage(r_i, r_o, lo + ds, hi, h, spans)[0]
+          - coil_space_leakage(r_i, r_o, lo - ds, hi, h, spans)[0]) / (2 * ds)
+    assert dp == pytest.approx(fd, rel=1e-6)
 
 
 def test_hand_circuit_against_the_closed_form():
@@ -64,7 +112,7 @@ def test_hand_circuit_against_the_closed_form():
     a = math.pi * (R1 ** 2 - R0 ** 2)
     p_g = mu_0 * a / GAP
     half = 0.5 * (H - GAP)
-    p_l = 2 * math.pi * mu_0 / math.log((R - WALL) / R1) * 2 * half ** 3 / (3 * H ** 2)
+    p_l = _window_leakage(half)
     assert h.inductance == pytest.approx(N ** 2 * (p_g + p_l), rel=1e-9)
     assert h.flux == pytest.approx(N * I * p_g, rel=1e-9)
     assert h.gap_B == pytest.approx(N * I * p_g / a, rel=1e-9)
@@ -150,5 +198,5 @@ def test_hand_circuit_with_a_linear_core_against_its_reluctances():
            + 2 * math.log(r_wall / r_post) / (2 * math.pi * mu * BASE)
            + (H + BASE) / (mu * a_wall))
     p_g = mu_0 * a_post / GAP
-    p_l = 2 * math.pi * mu_0 / math.log((R - WALL) / R1) * 2 * half ** 3 / (3 * H ** 2)
+    p_l = _window_leakage(half)
     assert h.inductance == pytest.approx(N ** 2 / (rel + 1 / (p_g + p_l)), rel=1e-9)

@@ -5,6 +5,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from collections.abc import Callable
 from typing import Any, Protocol
 
 from ..geometry import Limb, Rect
@@ -152,27 +153,56 @@ def radial_run(r1: float, r2: float, t: float) -> tuple[float, float]:
 
 
 def coil_space_leakage(r_inner: float, r_outer: float, l_lo: float, l_hi: float,
-                       height: float) -> tuple[float, float]:
-    """Energy-equivalent permeance (Wb/A) of the leakage across a coil space
-    of an axisymmetric part that bypasses an axial gap in its inner column,
-    and its derivative with respect to ``l_lo`` (Wb/A per m).
+                       height: float,
+                       spans: tuple[tuple[float, float, float], ...] = ()) -> tuple[float, float]:
+    """Energy-equivalent permeance (Wb/A, under the winding's whole MMF N I)
+    of the leakage across a coil space of an axisymmetric part that bypasses
+    an axial gap in its inner column, and its derivative with respect to
+    ``l_lo`` (Wb/A per m).
 
     The column's two pieces, l_lo below the gap and l_hi above it (m),
     face an outer shell across the annulus r_inner < r < r_outer over the
-    coil space's ``height`` (m).  With the winding filling the coil space
-    the shell's magnetic potential runs linearly between the end plates
-    while each piece of the column sits at its plate's potential, so the
-    difference across the annulus grows linearly from each plate to the gap,
-    where it is the gap's drop F.  An annulus of length dz has permeance
-    P' dz, P' = 2 pi mu0 / ln(r_outer / r_inner) (radial flux of a coaxial
-    annulus); its energy, (1/2) P' F^2 int (z/h)^2 dz over both pieces, is
-    that of P' (l_lo^3 + l_hi^3) / (3 h^2) under F [derived here; the linear
-    potential is common practice, no source].
+    coil space's ``height`` (m).  With ideal iron each piece sits at its end
+    plate's potential, and the potential difference across the annulus at
+    height z is the MMF the winding encloses between that plate and z: N I
+    f(z) below the gap and N I (1 - f(z)) above it, f(z) the fraction of the
+    turns below z (Ampere's law round column, annulus, shell and plate).  An
+    annulus of length dz has permeance P' dz, P' = 2 pi mu0 / ln(r_outer /
+    r_inner) (radial flux of a coaxial annulus); its energy (1/2) P' (N I)^2
+    [int_0^l_lo f^2 dz + int_(h - l_hi)^h (1 - f)^2 dz] is that of
+
+        P_eq = P' [int_0^l_lo f^2 dz + int_(h - l_hi)^h (1 - f)^2 dz],
+
+    dP_eq / dl_lo = P' f(l_lo)^2 [derived here; common practice, no source].
+    A winding filling the coil space has f = z / h, hence P' (l_lo^3 +
+    l_hi^3) / (3 h^2).  A shorter winding (``spans``: (z1, z2, turns) per
+    winding, z from the lower plate, its turns spread evenly over z1..z2;
+    several windings counted as one current) leaks less: f is 0 below it and
+    1 above it.  The drop across the gap faces is N I l_lo / h and N I l_hi /
+    h for the filled space, not the gap's own drop; the network puts P_eq in
+    parallel with the gap, whose drop is N I for ideal iron.
     """
     import math
 
     from analytic.constants import mu_0
 
     p_side = 2 * math.pi * mu_0 / math.log(r_outer / r_inner)
-    h2 = height * height
-    return p_side * (l_lo ** 3 + l_hi ** 3) / (3 * h2), p_side * l_lo ** 2 / h2
+    spans = spans or ((0.0, height, 1.0),)
+    total = sum(n for _, _, n in spans)
+
+    def f(z: float) -> float:
+        return sum(n * min(max((z - a) / (b - a), 0.0), 1.0) for a, b, n in spans) / total
+
+    def integral(a: float, b: float, g: Callable[[float], float]) -> float:
+        # g is piecewise linear between the spans' ends, so g^2 is quadratic on
+        # each piece and Simpson's rule is exact there
+        cuts = sorted({a, b, *(z for s in spans for z in s[:2] if a < z < b)})
+        out = 0.0
+        for lo, hi in zip(cuts[:-1], cuts[1:]):
+            m = 0.5 * (lo + hi)
+            out += (hi - lo) / 6 * (g(lo) ** 2 + 4 * g(m) ** 2 + g(hi) ** 2)
+        return out
+
+    p_eq = p_side * (integral(0.0, l_lo, f)
+                     + integral(height - l_hi, height, lambda z: 1.0 - f(z)))
+    return p_eq, p_side * f(l_lo) ** 2

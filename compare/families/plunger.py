@@ -29,18 +29,20 @@ Hand model, round the loop plunger (up) - working gap - stop - top plate
 * the plates as radial flux tubes between mean radii (exact reluctance
   ln(r2/r1) / (2 pi mu t), as in the holding-magnet family);
 * the leakage across the coil space, plunger side and stop side to the
-  shell, in parallel with the working gap: with the winding filling the
-  coil space the shell's magnetic potential runs linearly between the
-  plates while the plunger and the stop sit at the potentials of the plates
-  they touch, so the potential difference across the coil space grows
-  linearly from each plate to the working gap, where it is the gap's drop
-  F.  A coaxial annulus of length dz has permeance P' dz, P' = 2 pi mu0 /
-  ln(r_shell / r_plunger); its energy over the plunger's length l_p and the
-  stop's l_s, with z measured over the coil space's height h, gives the
-  energy-equivalent permeance P' (l_p^3 + l_s^3) / (3 h^2) [derived here;
-  common practice, no source for the linear-potential assumption].  The
-  stroke shortens l_p one for one, so its dP/dstroke = -P' l_p^2 / h^2 enters
-  the network's virtual-work force beside the working gap's.
+  shell, in parallel with the working gap: with ideal iron the plunger and
+  the stop sit at the potentials of the plates they touch, so the potential
+  difference across the coil space at height z is the MMF the winding
+  encloses between that plate and z, N I f(z) beside the plunger and
+  N I (1 - f(z)) beside the stop, f(z) the fraction of the turns below z.
+  A coaxial annulus of length dz has permeance P' dz, P' = 2 pi mu0 /
+  ln(r_shell / r_plunger); its energy over the plunger's side l_p and the
+  stop's l_s gives the energy-equivalent permeance under N I of
+  families.base.coil_space_leakage (P' (l_p^3 + l_s^3) / (3 h^2) for a
+  winding filling the coil space's height h) [derived here; common
+  practice, no source].  The stroke shortens l_p one for one, so its
+  dP/dstroke = -P' f(l_p)^2 enters the network's virtual-work force beside
+  the working gap's, whose own rate follows its whole face: the gap longer
+  and the plunger's free side shorter (``CircuitGap.stroke_faces``).
 
 The flux row is the working gap's (its fringing included): the field model
 measures it down the shell at the gap's height, where the leakage paths
@@ -231,11 +233,20 @@ class Plunger:
                 CircuitSegment("bottom-plate", "bs", "bb", *radial_run(c.bore, r_mid, t)))
         l_p, l_s = c.plunger_top - t, c.stop_length  # side faces facing the coil space
         room = rs_in - rp
-        face = GapFace.round(c.stroke, 0.0, rp, min(l_p, l_s),
-                             GapSides((l_p, l_s), (l_p, l_s), (l_p, l_s), (INF, room)))
-        gaps = (CircuitGap("gap", "pf", "sf", face),)
+
+        def face_at(stroke: float) -> GapFace:
+            # the plunger's side shrinks one for one as its face withdraws
+            lp = l_p + c.stroke - stroke
+            return GapFace.round(stroke, 0.0, rp, min(lp, l_s),
+                                 GapSides((lp, l_s), (lp, l_s), (lp, l_s), (INF, room)))
+
+        step = 1e-3 * c.stroke  # as analytic.fringing.gap_permeance_derivative's
+        f0, f1, f2, f3 = (face_at(c.stroke + k * step) for k in (-2, -1, 1, 2))
+        gaps = (CircuitGap("gap", "pf", "sf", face_at(c.stroke), stroke_faces=(f0, f1, f2, f3)),)
         p_slide = 2 * math.pi * mu_0 * t / math.log(c.bore / rp)
-        p_leak, dp_dlo = coil_space_leakage(rp, rs_in, l_p, l_s, H - 2 * t)
+        spans = tuple((mid - 0.5 * w.length - t, mid + 0.5 * w.length - t, float(w.turns))
+                      for w in case.windings)
+        p_leak, dp_dlo = coil_space_leakage(rp, rs_in, l_p, l_s, H - 2 * t, spans)
         windings = tuple(("shell", 1) for _ in case.windings)
         # the stroke shortens the plunger's side in the coil space one for one
         dp_leak = -dp_dlo

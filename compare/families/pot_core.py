@@ -19,13 +19,17 @@ out) - wall (down) - bottom plate (radially in):
 
 * the post's gap over its face (a disc, or an annulus round the hole) with
   the case's fringing model (analytic.fringing round faces; free faces: the
-  post's side up and down to the plates, room across: the window);
+  post's side up and down to the plates, room across: the window; the
+  hole's side runs on through the base plates to the outer faces, its room
+  the hole's radius, since no flux crosses the axis);
 * the plates as radial flux tubes between the post's and the wall's mean
   radii (exact reluctance ln(r2/r1) / (2 pi mu t), as in the other r-z
   families);
 * the leakage across the window, post to wall, in parallel with the gap:
   the energy-equivalent permeance of families.base.coil_space_leakage
-  (P' h / 12 for a gap at mid-height) [derived; common practice, no source].
+  over the winding's span (P' h / 12 for a winding filling the window and a
+  gap at mid-height; less for a shorter winding, which encloses less MMF
+  near the plates) [derived; common practice, no source].
 
 The flux row is the gap's (its fringing included); the field model measures
 it down the wall at the gap's height, where the window's leakage has closed.
@@ -171,12 +175,17 @@ class PotCore:
                 CircuitSegment("wall", "wt", "wb", h + b, a_wall),
                 CircuitSegment("bottom-plate", "wb", "pb", *plate))
         window = rw0 - r1
-        inner_room = 2 * r0 if r0 > 0 else INF
+        # the hole's side: its face runs on through the base plates to the outer
+        # faces, and its room is the hole's radius (no flux crosses the axis)
+        hole = half + b
+        inner_room = r0 if r0 > 0 else INF
         face = GapFace.round(g, r0, r1, half,
-                             GapSides((half, half), (half, half), (half, half),
+                             GapSides((hole, hole), (half, half), (half, half),
                                       (inner_room, window)))
         gaps = (CircuitGap("gap", "g1", "g2", face),)
-        p_leak, _ = coil_space_leakage(r1, rw0, half, half, h)
+        spans = tuple((c.mid - 0.5 * w.length - b, c.mid + 0.5 * w.length - b, float(w.turns))
+                      for w in case.windings)
+        p_leak, _ = coil_space_leakage(r1, rw0, half, half, h, spans)
         windings = tuple(("post-lower", 1) for _ in case.windings)
         circuit = HandCircuit(segs, gaps, windings, "gap", "gap",
                               leakage=(("window-leakage", "g1", "g2", p_leak, window),))
