@@ -397,9 +397,10 @@ def winding_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
                            hp[key], fv[key], h3[key], fv[key] * ratio(key),
                            fe.uncertainty.get(key, math.nan), "incremental_inductance"))
 
+    from .coupling import coupling_factor
+
     def coupling(v: dict[str, float], j: int, k: int) -> float:
-        den = v[l_keys[j][j]] * v[l_keys[k][k]]
-        return v[l_keys[j][k]] / math.sqrt(den) if den > 0 else math.nan
+        return coupling_factor(v[l_keys[j][k]], v[l_keys[j][j]], v[l_keys[k][k]])
 
     for j in range(n):
         for k in range(j + 1, n):

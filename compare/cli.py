@@ -26,7 +26,7 @@ EXIT_INTERRUPT = 130
 # add_args(parser) and run(args); only the one asked for is imported, so a
 # light command (hand, materials) does not pay for the FE stack's imports.
 COMMANDS: dict[str, str] = {
-    "check": "run the magnetic-circuit model and the planar FE model on one case and "
+    "check": "run the magnetic-circuit model and the FE model (planar or axisymmetric) on one case and "
              "compare them quantity by quantity",
     "hand": "solve a case's magnetic circuit (the hand calculation) and print its operating point",
     "materials": "list the built-in B-H curves, or show and plot one",

@@ -26,7 +26,23 @@ import dataclasses
 import math
 from typing import Any
 
-__all__ = ["concentric_pair", "mean_turn", "hand_leakage", "fe_leakage"]
+__all__ = ["concentric_pair", "mean_turn", "hand_leakage", "fe_leakage", "coupling_factor",
+           "coupling_matrix"]
+
+
+def coupling_factor(l_jk: float, l_jj: float, l_kk: float) -> float:
+    """k = L_jk / sqrt(L_jj L_kk) (dimensionless; the sign of the mutual
+    inductance kept), NaN when a self inductance is not positive."""
+    den = l_jj * l_kk
+    return l_jk / math.sqrt(den) if den > 0 else math.nan
+
+
+def coupling_matrix(matrix: list[list[float]]) -> list[list[float]]:
+    """Every pair's coupling factor from an inductance matrix (H), in the
+    matrix's winding order; 1 on the diagonal of positive self inductances."""
+    n = len(matrix)
+    return [[coupling_factor(matrix[j][k], matrix[j][j], matrix[k][k]) for k in range(n)]
+            for j in range(n)]
 
 
 def concentric_pair(case: Any) -> tuple[Any, Any] | None:

@@ -117,6 +117,12 @@ def check_json(res: CheckResult) -> dict:
         planar_block.update(res.drive.to_dict("hand"))
         fe_block.update(res.drive.to_dict("fe"))
         fe_block["uncertainty"].update({k: v for k, v in res.drive.uncertainty.items()})
+    from .coupling import coupling_matrix
+
+    for block in (hand_block, planar_block, fe_block):  # k_jk = L_jk / sqrt(L_jj L_kk)
+        lm = [[math.nan if v is None else v for v in row] for row in block["inductance_matrix"]]
+        block["coupling"] = [[v if math.isfinite(v) else None for v in row]
+                             for row in coupling_matrix(lm)]
     if res.leakage:  # two concentric windings: L_s referred to the first (H)
         hand_block["leakage_inductance"] = res.leakage["hand"]
         planar_block["leakage_inductance"] = res.leakage["hand"]

@@ -2,6 +2,7 @@
 the inductance matrix of both models and its checks."""
 from __future__ import annotations
 
+import math
 import tomllib
 from dataclasses import replace
 from pathlib import Path
@@ -146,6 +147,14 @@ def test_check_reports_the_matrix_rows_and_json(tmp_path):
         assert np.shape(doc[block]["inductance_matrix"]) == (2, 2)
         assert len(doc[block]["flux_linkages"]) == 2
     assert doc["fe"]["inductance_matrix"][0][1] == pytest.approx(rows["L:A,B"].fe)
+    # the coupling matrix: k = L_AB / sqrt(L_AA L_BB), the check's row, 1 on the diagonal
+    lm = doc["fe"]["inductance_matrix"]
+    assert doc["fe"]["coupling"][0][1] == pytest.approx(lm[0][1] / math.sqrt(lm[0][0] * lm[1][1]),
+                                                        rel=1e-12)
+    assert doc["fe"]["coupling"][1][0] == pytest.approx(rows["coupling:A,B"].fe, rel=1e-9)
+    assert doc["hand_planar"]["coupling"][0][1] == pytest.approx(rows["coupling:A,B"].hand,
+                                                                 rel=1e-9)
+    assert doc["hand"]["coupling"][0][0] == pytest.approx(1.0)
     assert doc["fe"]["uncertainty"]["inductance_matrix"][0][1] == pytest.approx(
         rows["L:A,B"].uncertainty)
 
