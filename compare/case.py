@@ -57,12 +57,16 @@ class HandSettings:
     effective_parameters : one core branch of the IEC 60205 effective
         length and area instead of the mean-path segments
         (``[hand] effective_parameters = true``).
+    rogowski : the leakage inductance of two concentric windings with
+        Rogowski's factor for the end fringing of their leakage field
+        (analytic.leakage.rogowski_factor; ``[hand] rogowski = true``).
     """
 
     fringing: str = "area"
     leakage: bool = False
     stacking: bool = False
     effective_parameters: bool = False
+    rogowski: bool = False
 
 
 @dataclass(frozen=True)

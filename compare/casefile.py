@@ -117,6 +117,12 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
         for i, lim in enumerate(case.margins.force):
             _check_force_limit_stroke(f"margins.force[{i}].stroke", lim.stroke, spec, data,
                                       family, case)
+    if case.hand.rogowski:
+        from .coupling import concentric_pair
+
+        if concentric_pair(case) is None:
+            raise CaseError("hand.rogowski", True, "corrects the leakage inductance of two "
+                            "concentric windings: give two [[windings]] on one limb, or drop it")
     for w in plausibility_issues(case):
         warnings.warn(w, stacklevel=2)
     if case.winding.driven:
@@ -469,9 +475,10 @@ def _read_hand(t: TableReader) -> HandSettings:
     leakage = _boolean(t, "leakage", HandSettings.leakage)
     stacking = _boolean(t, "stacking", HandSettings.stacking)
     effective = _boolean(t, "effective_parameters", HandSettings.effective_parameters)
+    rogowski = _boolean(t, "rogowski", HandSettings.rogowski)
     t.finish()
     return HandSettings(fringing=fringing, leakage=leakage, stacking=stacking,
-                        effective_parameters=effective)
+                        effective_parameters=effective, rogowski=rogowski)
 
 
 def _boolean(t: TableReader, key: str, default: bool) -> bool:

@@ -260,7 +260,8 @@ def leakage_row(case: Case, leakage: dict) -> Row:
     h, f = leakage["hand"], leakage["fe"]
     d = _diff_pct(h, f)
     lim = case.margins.agreement_limit(k, DEFAULT_LIMITS[k])
-    return Row(k, f"{LABELS[k]} (referred to {case.winding.name})", "H", h, f, math.nan, d, lim,
+    how = ", Rogowski factor" if case.hand.rogowski else ""
+    return Row(k, f"{LABELS[k]} (referred to {case.winding.name}{how})", "H", h, f, math.nan, d, lim,
                _verdict(d, h, f, math.nan, lim), hand_3d=h, fe_3d=f)
 
 

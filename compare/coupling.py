@@ -68,17 +68,21 @@ def mean_turn(case: Any, inner: Any, outer: Any) -> float:
 
 
 def hand_leakage(case: Any) -> float:
-    """The classic formula's L_s referred to the first winding (H); NaN
-    without a concentric pair."""
-    from analytic.leakage import concentric_leakage_inductance
+    """The classic formula's L_s referred to the first winding (H), times
+    Rogowski's factor with ``[hand] rogowski = true``; NaN without a
+    concentric pair."""
+    from analytic.leakage import concentric_leakage_inductance, rogowski_factor
 
     pair = concentric_pair(case)
     if pair is None:
         return math.nan
     inner, outer = pair
-    return concentric_leakage_inductance(case.winding.turns, mean_turn(case, inner, outer),
-                                         0.5 * (inner.length + outer.length), inner.thickness,
-                                         outer.thickness, outer.clearance)
+    h_w = 0.5 * (inner.length + outer.length)
+    ls = concentric_leakage_inductance(case.winding.turns, mean_turn(case, inner, outer), h_w,
+                                       inner.thickness, outer.thickness, outer.clearance)
+    if case.hand.rogowski:
+        ls *= rogowski_factor(h_w, inner.thickness, outer.thickness, outer.clearance)
+    return ls
 
 
 def fe_leakage(case: Any, mesh: Any) -> float:
