@@ -23,7 +23,7 @@ import numpy as np
 from scipy.interpolate import PchipInterpolator
 
 __all__ = ["peak_flux_linkage", "MagnetizingCurrent", "magnetizing_current",
-           "DriveError", "SAMPLES"]
+           "DriveError", "SAMPLES", "inrush_flux_linkage", "current_at"]
 
 SAMPLES = 256
 """Time samples per period of the waveform (the 7th harmonic has 36 per cycle)."""
@@ -120,3 +120,36 @@ def magnetizing_current(currents, linkages, lambda_peak: float, frequency: float
         t=t, i=i_t, lambda_peak=float(lambda_peak), peak=float(np.max(np.abs(i_t))),
         rms=float(np.sqrt(np.mean(i_t ** 2))), fundamental=fund, harmonics_pct=harm,
         inductance=float(lambda_peak / fund) if fund > 0 else math.nan)
+
+
+def inrush_flux_linkage(lambda_peak: float, residual: float) -> float:
+    """The first peak of the flux linkage (Wb-turns) when the winding is
+    switched on at a voltage zero with a residual flux linkage residual *
+    lambda_pk in the sense the voltage then drives:
+
+        lambda_max = (2 + residual) lambda_pk.
+
+    From Faraday's law with v = sqrt(2) V sin(wt) from t = 0 and the
+    resistance neglected, lambda(t) = lambda_r + lambda_pk (1 - cos wt),
+    largest at wt = pi (the doubling effect behind transformer inrush
+    current; e.g. Kulkarni and Khaparde, Transformer Engineering, 2004, the
+    chapter on inrush [from memory]).  The winding's and the source's
+    resistance damp it, so this bounds the first peak from above.
+    """
+    if not (math.isfinite(lambda_peak) and lambda_peak > 0):
+        raise DriveError(f"lambda_peak = {lambda_peak!r} Wb-turns must be finite and positive")
+    if not (math.isfinite(residual) and 0.0 <= residual <= 1.0):
+        raise DriveError(f"residual = {residual!r} must be a fraction of lambda_pk in [0, 1]")
+    return (2.0 + residual) * lambda_peak
+
+
+def current_at(currents, linkages, linkage: float) -> float:
+    """The current (A) at which a lambda-i curve (samples as for
+    :func:`magnetizing_current`) reaches ``linkage`` (Wb-turns), by the same
+    monotone cubic.  Raises DriveError when the curve ends below it."""
+    inv, lo, hi = _inverse(np.asarray(currents, dtype=float), np.asarray(linkages, dtype=float))
+    if not (lo <= linkage <= hi):
+        raise DriveError(f"the lambda-i curve spans {lo:.6g} .. {hi:.6g} Wb-turns, not "
+                         f"{linkage:.6g} Wb-turns: extend it")
+    return float(inv(linkage))
+

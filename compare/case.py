@@ -178,6 +178,9 @@ class Margins:
     """Maximum magnetizing current of a voltage-driven winding, peak (A)."""
     magnetizing_current_rms: float | None = None
     """Maximum magnetizing current of a voltage-driven winding, rms (A)."""
+    inrush_current_peak: float | None = None
+    """Maximum first peak of the inrush current estimate (A; the driven
+    winding's ``residual_flux`` given)."""
 
     def agreement_limit(self, key: str, default: float | None) -> float | None:
         return dict(self.agreement).get(key, default)

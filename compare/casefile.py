@@ -135,6 +135,10 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
             if mval is not None:
                 raise CaseError(f"margins.{mkey}", mval, "a voltage-drive margin: give the first "
                                 "winding a voltage and frequency, or drop it")
+    if case.margins.inrush_current_peak is not None and case.winding.residual_flux is None:
+        raise CaseError("margins.inrush_current_peak", case.margins.inrush_current_peak,
+                        "judges the inrush estimate: give the driven winding's residual_flux "
+                        "(a fraction of the peak flux linkage, e.g. 0.8), or drop it")
     return case
 
 
@@ -328,13 +332,14 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
                                 "drawn as regions (kind = \"coil\", winding = its name): give "
                                 "only name, turns and current here")
         turns = t.integer("turns", minimum=1)
-        current, voltage, frequency = _read_drive(t)
+        current, voltage, frequency, residual = _read_drive(t)
         t.finish()
-        return WindingSpec("", turns, current, 0.0, 0.0, 0.0, name, 0.0, voltage, frequency)
+        return WindingSpec("", turns, current, 0.0, 0.0, 0.0, name, 0.0, voltage, frequency,
+                           residual)
     limb_name = t.string("limb", choices=family.winding_limbs)
     limb = limbs[limb_name]
     turns = t.integer("turns", minimum=1)
-    current, voltage, frequency = _read_drive(t)
+    current, voltage, frequency, residual = _read_drive(t)
     room = min(limb.room_minus, limb.room_plus) - inner
     inside = " left beside the windings inside it" if inner > 0 else ""
     if room <= 0:
@@ -373,13 +378,19 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
                             f"{limb_name} limb (the coil would overlap the core)")
     t.finish()
     return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner,
-                       voltage, frequency)
+                       voltage, frequency, residual)
 
 
-def _read_drive(t: TableReader) -> tuple[float, float | None, float | None]:
+def _read_drive(t: TableReader) -> tuple[float, float | None, float | None, float | None]:
     """A winding's excitation: ``current``, or ``voltage`` (rms) with
     ``frequency`` (a sinusoidal drive; the current is then found, see
-    compare.drive).  Returns (current, voltage, frequency)."""
+    compare.drive) and optionally ``residual_flux`` (the inrush estimate's
+    residual flux linkage, a fraction of the peak).  Returns (current,
+    voltage, frequency, residual_flux)."""
+    if t.has("residual_flux") and not t.has("voltage"):
+        raise CaseError(t.key("residual_flux"), t.raw("residual_flux"),
+                        "the inrush estimate of a voltage drive: give voltage and frequency "
+                        "with it, or drop it")
     if t.has("voltage"):
         if t.has("current"):
             raise CaseError(t.key("voltage"), t.raw("voltage"),
@@ -389,11 +400,13 @@ def _read_drive(t: TableReader) -> tuple[float, float | None, float | None]:
             raise CaseError(t.key("frequency"), None, "missing: a voltage drive needs its "
                                                       "frequency, e.g. \"50 Hz\"")
         frequency = t.quantity("frequency", "frequency")
-        return 0.0, voltage, frequency
+        residual = (t.number("residual_flux", lo=0.0, hi=1.0) if t.has("residual_flux")
+                    else None)
+        return 0.0, voltage, frequency, residual
     if t.has("frequency"):
         raise CaseError(t.key("frequency"), t.raw("frequency"),
                         "a frequency without a voltage: give voltage (rms) with it")
-    return t.quantity("current", "current", positive=False), None, None
+    return t.quantity("current", "current", positive=False), None, None, None
 
 
 def _read_materials(t: TableReader, base_dir: Path | None, family: Family,
@@ -510,7 +523,7 @@ def _read_fe(t: TableReader) -> FESettings:
 AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
                   "incremental_inductance", "energy", "force", "force_pull", "B_peak",
                   "magnetizing_current_peak", "magnetizing_current_rms",
-                  "magnetizing_inductance", "leakage_inductance")
+                  "magnetizing_inductance", "leakage_inductance", "inrush_current_peak")
 
 
 INDUCTANCE_KINDS = ("secant", "incremental")
@@ -530,6 +543,7 @@ def _read_margins(t: TableReader) -> Margins:
     b_peak = t.quantity("B_peak", "flux density", None)
     im_peak = t.quantity("magnetizing_current_peak", "current", None)
     im_rms = t.quantity("magnetizing_current_rms", "current", None)
+    inrush = t.quantity("inrush_current_peak", "current", None)
     fill = t.number("copper_fill", 1.0, lo=0.0, hi=1.0)
     if fill <= 0.0:
         raise CaseError(t.key("copper_fill"), t.data["copper_fill"], "must be positive")
@@ -568,7 +582,8 @@ def _read_margins(t: TableReader) -> Margins:
     return Margins(peak_B=peak, agreement=tuple(agreement), current_density=jmax,
                    copper_fill=fill, inductance=tuple(inductance), saturation=tuple(saturation),
                    force_min=force_min, force=tuple(forces), B_peak=b_peak,
-                   magnetizing_current_peak=im_peak, magnetizing_current_rms=im_rms)
+                   magnetizing_current_peak=im_peak, magnetizing_current_rms=im_rms,
+                   inrush_current_peak=inrush)
 
 
 def _check_force_limit_stroke(key: str, stroke: float, spec: Any, data: dict, family: Family,

@@ -63,6 +63,7 @@ LABELS = {
     "magnetizing_current_rms": "magnetizing current, rms",
     "magnetizing_inductance": "magnetizing inductance (fundamental)",
     "leakage_inductance": "leakage inductance",
+    "inrush_current_peak": "inrush current, first peak (estimate)",
 }
 
 # Quantities that scale with the gap permeance, and so take the depth-fringing factor.
@@ -271,8 +272,12 @@ def drive_rows(case: Case, drive: Any) -> list[Row]:
     (lambda_pk over the fundamental's amplitude), hand (planar form) against
     FE with the first-order FE uncertainty (compare.drive), the FE 3D
     column by the hand's own 3D / planar ratio; the 3rd, 5th and 7th
-    harmonics (info); and the margins ``B_peak``, ``magnetizing_current_peak``
-    and ``magnetizing_current_rms`` (maxima, judged on the FE's 3D value)."""
+    harmonics (info); with ``residual_flux`` the inrush estimate's first
+    current peak (info unless ``[margins.agreement] inrush_current_peak``
+    sets a limit: the hand network has no air flux beside the saturated
+    core, so it is expected far off); and the margins ``B_peak``,
+    ``magnetizing_current_peak``, ``magnetizing_current_rms`` and
+    ``inrush_current_peak`` (maxima, judged on the FE's 3D value)."""
     hv, h3, fv = drive.values("hand"), drive.values("hand_3d"), drive.values("fe")
     out = []
     for k in ("B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
@@ -289,9 +294,20 @@ def drive_rows(case: Case, drive: Any) -> list[Row]:
         out.append(Row(f"magnetizing_harmonic_{n}", f"magnetizing current, harmonic {n} (% of "
                        "the fundamental)", "%", h, f, math.nan, math.nan, None, "info",
                        hand_3d=drive.hand_3d.harmonics_pct[n], fe_3d=f))
+    if drive.inrush:
+        k = "inrush_current_peak"
+        h, h3i, f = drive.inrush["hand"], drive.inrush["hand_3d"], drive.inrush["fe"]
+        d = _diff_pct(h, f)
+        lim = case.margins.agreement_limit(k, None)
+        u = drive.uncertainty.get(k, math.nan)
+        r = case.winding.residual_flux
+        out.append(Row(k, f"{LABELS[k][:-1]}, residual {r:g} of the peak flux linkage)", "A",
+                       h, f, u, d, lim, _verdict(d, h, f, u, lim), hand_3d=h3i,
+                       fe_3d=f * (h3i / h if h else 1.0)))
     m = case.margins
     for key, limit in (("B_peak", m.B_peak), ("magnetizing_current_peak", m.magnetizing_current_peak),
-                       ("magnetizing_current_rms", m.magnetizing_current_rms)):
+                       ("magnetizing_current_rms", m.magnetizing_current_rms),
+                       ("inrush_current_peak", m.inrush_current_peak)):
         if limit is None:
             continue
         row = next(r for r in out if r.key == key)
@@ -518,6 +534,14 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                  f"{'z' if rz else 'y'} = {y * 1e3:.1f} mm, "
                  "sits at a sharp corner where a 2D model's field is singular; it grows as "
                  "the mesh is refined and is not a design figure.")
+    inr = r.get("inrush_current_peak")
+    if inr is not None and math.isfinite(inr.diff_pct) and inr.diff_pct > 20:
+        notes.append(f"The hand inrush peak is {inr.diff_pct:.0f} % above the FE's: deep in "
+                     "saturation the winding's flux runs through air beside the core (the "
+                     "window, the coil's own space), which the hand network has no path for, so "
+                     "its current must rise further to reach the same flux linkage. The FE "
+                     "figure is the design estimate; both assume no winding resistance and the "
+                     "worst switching instant, an upper bound.")
     unc = [row for row in rows if row.key != "peak_B" and row.uncertainty_pct > UNCERTAIN_PCT]
     if unc:
         names = ", ".join(row.label for row in unc)

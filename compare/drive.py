@@ -23,12 +23,23 @@ Peak flux density: the hand's by the EMF equation, lambda_pk / (N A_c) with
 A_c the winding limb's area in the network (the transformer EMF equation,
 V = 4.44 f N A_c B_pk); the FE's the |B| exceeded on 0.5 % of the core area
 (as for peak B) at the current where its own flux linkage is lambda_pk.
+
+Inrush estimate (the driven winding's ``residual_flux`` r given): switched
+on at a voltage zero with the residual flux linkage r lambda_pk in the
+sense the voltage drives, the flux linkage's first peak is (2 + r)
+lambda_pk (analytic.magnetizing.inrush_flux_linkage); the first current
+peak is where each model's lambda-i curve reaches it, the FE's continued
+past saturation (warm-started tangent steps aimed just past it), where
+the winding's own air flux, which the hand network lacks, carries the rise.
+An estimate: no winding or source resistance (no damping: an upper bound of
+the first peak), no hysteresis, the residual as given.
 """
 
 from __future__ import annotations
 
 import dataclasses
 import math
+import warnings
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -36,18 +47,24 @@ import numpy as np
 from scipy.interpolate import PchipInterpolator
 from scipy.optimize import brentq
 
-from analytic.magnetizing import (DriveError, MagnetizingCurrent, magnetizing_current,
-                                  peak_flux_linkage)
+from analytic.bh import BHRangeWarning
+from analytic.magnetizing import (DriveError, MagnetizingCurrent, current_at,
+                                  inrush_flux_linkage, magnetizing_current, peak_flux_linkage)
 
 from .errors import RunError
 
-__all__ = ["DriveResult", "resolve_drive", "hand_peak_current", "hand_curve", "run_drive",
-           "DRIVE_KEYS"]
+__all__ = ["DriveResult", "resolve_drive", "hand_peak_current", "hand_current_at", "hand_curve",
+           "run_drive", "DRIVE_KEYS"]
 
 HAND_POINTS = 48
 """Hand lambda-i points up to the peak current (ms each)."""
 FE_POINTS = 10
 """FE solves along the lambda-i curve up to lambda_pk (warm-started)."""
+INRUSH_SOLVES = 30
+"""At most this many FE solves past lambda_pk toward the inrush estimate."""
+INRUSH_REACH = 1e5
+"""How far past the hand's peak magnetizing current the FE curve may climb
+toward the inrush estimate's flux linkage (a factor) before giving up."""
 
 DRIVE_KEYS = ("B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
               "magnetizing_inductance")
@@ -62,18 +79,24 @@ def _lambda(case: Any, current: float, planar: bool) -> float:
 
 def hand_peak_current(case: Any, planar: bool = False) -> float:
     """The current (A) at which the hand network's flux linkage of the
-    driven winding is lambda_pk (bracketed by doubling, then brentq to 1e-10)."""
+    driven winding is lambda_pk."""
     w = case.winding
-    lam_pk = peak_flux_linkage(w.voltage, w.frequency)
+    return hand_current_at(case, peak_flux_linkage(w.voltage, w.frequency), planar)
+
+
+def hand_current_at(case: Any, linkage: float, planar: bool = False) -> float:
+    """The current (A) at which the hand network's flux linkage of the
+    driven winding is ``linkage`` (Wb-turns; bracketed by doubling, then
+    brentq to 1e-10)."""
     hi = 1e-3
     for _ in range(80):
-        if _lambda(case, hi, planar) >= lam_pk:
+        if _lambda(case, hi, planar) >= linkage:
             break
         hi *= 2.0
-    else:  # pragma: no cover - a core that never reaches lambda_pk by 1e21 A
-        raise RunError(f"the hand model's flux linkage does not reach the drive's "
-                       f"{lam_pk:.6g} Wb-turns at any current")
-    return float(brentq(lambda i: _lambda(case, i, planar) - lam_pk, 0.0, hi, xtol=1e-12 * hi,
+    else:  # pragma: no cover - a core that never reaches it by 1e21 A
+        raise RunError(f"the hand model's flux linkage does not reach {linkage:.6g} Wb-turns "
+                       "at any current")
+    return float(brentq(lambda i: _lambda(case, i, planar) - linkage, 0.0, hi, xtol=1e-12 * hi,
                         rtol=1e-10))
 
 
@@ -100,11 +123,19 @@ class DriveResult:
     lambda_peak : Wb-turns.  hand, hand_3d, fe : the magnetizing currents
     (hand in the planar form, like for like with a planar FE; 3D hand).
     B_peak : (hand by the EMF equation, FE 0.5 % quantile at its lambda_pk).
-    curves : per model (currents A, flux linkages Wb-turns) as sampled.
+    curves : per model (currents A, flux linkages Wb-turns) as sampled;
+        with an inrush estimate also "hand_inrush" and "fe_inrush", the
+        curves on to lambda_inrush.
     uncertainty : FE uncertainty of each DRIVE_KEYS value: first order from
         the three-mesh uncertainty of the flux linkage at the case's
         current, U_i = U_lambda / L_incremental, plus the inversion's own
-        error, half the difference to the waveform from every other FE point.
+        error, half the difference to the waveform from every other FE point
+        (``inrush_current_peak``: the same relative U_lambda at
+        lambda_inrush over the curve's last slope, plus the inversion's).
+    lambda_inrush : the inrush estimate's first flux-linkage peak
+        (2 + residual) lambda_pk (Wb-turns; NaN without ``residual_flux``).
+    inrush : per model ("hand", "hand_3d", "fe") the current (A) at
+        lambda_inrush, the inrush estimate's first peak; {} without one.
     """
 
     lambda_peak: float
@@ -114,6 +145,10 @@ class DriveResult:
     B_peak: tuple[float, float]
     curves: dict[str, tuple[np.ndarray, np.ndarray]] = field(repr=False)
     uncertainty: dict[str, float] = field(default_factory=dict)
+    lambda_inrush: float = math.nan
+    inrush: dict[str, float] = field(default_factory=dict)
+    residual_flux: float = math.nan
+    """The inrush estimate's residual flux linkage, a fraction of lambda_pk."""
 
     def values(self, model: str) -> dict[str, float]:
         """DRIVE_KEYS values of "hand", "hand_3d" or "fe"."""
@@ -125,13 +160,18 @@ class DriveResult:
     def to_dict(self, model: str) -> dict:
         """The JSON section of one model (SI)."""
         m = {"hand": self.hand, "hand_3d": self.hand_3d, "fe": self.fe}[model]
-        return {"B_peak": self.values(model)["B_peak"],
-                "magnetizing_current": {"peak": m.peak, "rms": m.rms,
-                                        "fundamental": m.fundamental,
-                                        "harmonics_pct": {str(k): v
-                                                          for k, v in m.harmonics_pct.items()}},
-                "magnetizing_inductance": m.inductance,
-                "peak_flux_linkage": self.lambda_peak}
+        out: dict[str, Any] = {
+            "B_peak": self.values(model)["B_peak"],
+            "magnetizing_current": {"peak": m.peak, "rms": m.rms, "fundamental": m.fundamental,
+                                    "harmonics_pct": {str(k): v
+                                                      for k, v in m.harmonics_pct.items()}},
+            "magnetizing_inductance": m.inductance,
+            "peak_flux_linkage": self.lambda_peak}
+        if self.inrush:  # the estimate's first peak (A) at (2 + residual) lambda_pk
+            out["inrush"] = {"current_peak": self.inrush[model],
+                             "peak_flux_linkage": self.lambda_inrush,
+                             "residual_flux": self.residual_flux}
+        return out
 
 
 def _limb_area(case: Any) -> float:
@@ -171,7 +211,7 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
     mesh = fe_result.solution.mesh  # the finest, whose values the check reports
     A_prev: Any = None
     slope: Any = None
-    i_fe, lam_fe, peak_fe = [0.0], [0.0], [0.0]
+    i_fe, lam_fe, peak_fe, l_fe = [0.0], [0.0], [0.0], [math.nan]
 
     def solve(current: float) -> None:
         # the tangent predictor: the previous point plus dA/dI times the step
@@ -182,6 +222,7 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
         i_fe.append(current)
         lam_fe.append(abs(q.values["flux_linkage"]))
         peak_fe.append(q.peak_B)
+        l_fe.append(abs(q.values["incremental_inductance"]))
 
     for x in targets:
         solve(x)
@@ -215,4 +256,40 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
            "magnetizing_inductance": (rel * fe_m.inductance
                                       + 0.5 * abs(fe_half.inductance - fe_m.inductance)),
            "B_peak": fe_result.uncertainty.get("peak_B", math.nan)}
-    return DriveResult(lam_pk, hand_p, hand_3, fe_m, (b_hand, b_fe), curves, unc)
+    lam_in, inrush = math.nan, {}
+    if w.residual_flux is not None:
+        # past the B-H data the core's slope is mu0 (full saturation): expected here, not
+        # worth a warning per solve
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", BHRangeWarning)
+            lam_in = inrush_flux_linkage(lam_pk, w.residual_flux)
+            inrush = {"hand": hand_current_at(case, lam_in, planar=True),
+                      "hand_3d": hand_current_at(case, lam_in, planar=False)}
+            # the hand curve on from the magnetizing range, evenly in log(current)
+            more = np.geomspace(1.05 * ip, 1.02 * inrush["hand"], HAND_POINTS)
+            curves["hand_inrush"] = (
+                np.concatenate([curves["hand"][0], more]),
+                np.concatenate([curves["hand"][1], [_lambda(case, x, True) for x in more]]))
+            # on up the FE curve past saturation by tangent steps aimed 1 % past
+            # lambda_inrush (the curve is concave there, so a step lands short of
+            # where its tangent aims; at most 3x the current per step)
+            while lam_fe[-1] < lam_in:
+                if i_fe[-1] > INRUSH_REACH * ip or len(i_fe) > INRUSH_SOLVES + FE_POINTS + 4:
+                    raise RunError(f"the FE flux linkage reaches {lam_fe[-1]:.6g} Wb-turns at "
+                                   f"{i_fe[-1]:.6g} A, short of the inrush estimate's "
+                                   f"{lam_in:.6g} Wb-turns")
+                step = (1.01 * lam_in - lam_fe[-1]) / l_fe[-1]
+                solve(min(i_fe[-1] + step, 3.0 * i_fe[-1]))
+            i_all, lam_all = np.array(i_fe), np.array(lam_fe)
+            curves["fe_inrush"] = (i_all, lam_all)
+            try:
+                inrush["fe"] = current_at(i_all, lam_all, lam_in)
+                keep = sorted(set(range(0, len(i_fe), 2)) | {len(i_fe) - 1})
+                half = current_at(i_all[keep], lam_all[keep], lam_in)
+            except DriveError as exc:
+                raise RunError(f"FE inrush estimate: {exc}") from None
+            slope = (lam_all[-1] - lam_all[-2]) / (i_all[-1] - i_all[-2])
+            u_rel = u_lam / abs(fe_result.values.get("flux_linkage", math.nan))
+            unc["inrush_current_peak"] = u_rel * lam_in / slope + 0.5 * abs(half - inrush["fe"])
+    return DriveResult(lam_pk, hand_p, hand_3, fe_m, (b_hand, b_fe), curves, unc,
+                       lam_in, inrush, w.residual_flux if inrush else math.nan)

@@ -148,6 +148,9 @@ class WindingSpec:
     (compare.drive), the operating point of the check's other rows."""
     frequency: float | None = None
     """Of the voltage drive (Hz)."""
+    residual_flux: float | None = None
+    """Inrush estimate of a voltage-driven winding: the residual flux linkage
+    at switch-on as a fraction of lambda_pk (None: no estimate)."""
 
     @property
     def driven(self) -> bool:

@@ -326,6 +326,36 @@ def fig_magnetizing(res: CheckResult):
     return fig
 
 
+def fig_inrush(res: CheckResult):
+    """The inrush estimate: both models' lambda-i curves on to the first
+    flux-linkage peak (2 + r) lambda_pk, and the current each reaches it at;
+    None without one."""
+    d = res.drive
+    if d is None or not d.inrush:
+        return None
+    fig, ax = plt.subplots(figsize=(6.4, 4.0))
+    for key, model, label, colour, style in (("hand_inrush", "hand", "hand", HAND_COLOUR, "--"),
+                                             ("fe_inrush", "fe", "FE", FE_COLOUR, "s-")):
+        i, lam = d.curves[key]
+        pos = i > 0  # a log current axis
+        ax.plot(i[pos], lam[pos], style, color=colour, ms=3, mfc="none", lw=1.1,
+                label=f"{label}: {d.inrush[model]:.4g} A at the first peak")
+        ax.plot([d.inrush[model]], [d.lambda_inrush], "o", color=colour, ms=6)
+    ax.axhline(d.lambda_peak, color="0.4", lw=0.8, ls=":",
+               label=f"steady peak {d.lambda_peak:.4g} Wb-turns")
+    ax.axhline(d.lambda_inrush, color="0.2", lw=0.8, ls="-.",
+               label=f"first peak (2 + {d.residual_flux:g}) x steady = {d.lambda_inrush:.4g} "
+                     "Wb-turns")
+    ax.set_xscale("log")
+    ax.set_xlabel("current (A)")
+    ax.set_ylabel("flux linkage (Wb-turns)")
+    ax.set_title("inrush estimate: switched on at a voltage zero, no resistance (upper bound)",
+                 fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7)
+    return fig
+
+
 FIGURES = {
     "geometry.png": fig_geometry,
     "flux.png": fig_flux,
@@ -334,6 +364,7 @@ FIGURES = {
     "bh.png": fig_bh,
     "breakdown.png": fig_breakdown,
     "magnetizing.png": fig_magnetizing,
+    "inrush.png": fig_inrush,
 }
 
 
@@ -347,6 +378,10 @@ _CAPTIONS = {
     "magnetizing.png": "The magnetizing current of the voltage-driven winding over one period, "
                        "each model's from its own lambda-i curve (right; the operating range "
                        "shaded), resistance, hysteresis and eddy currents neglected.",
+    "inrush.png": "The inrush estimate: each model's lambda-i curve continued past saturation to "
+                  "the first flux-linkage peak after switch-on at a voltage zero with the given "
+                  "residual flux; no resistance, so an upper bound of the first current peak "
+                  "(the hand network has no air flux beside the saturated core).",
 }
 
 

@@ -46,6 +46,10 @@ def test_linear_ideal_core_drive_in_closed_form():
     m = magnetizing_current(*hand_curve(case, False, 1.02 * case.winding.current), lam_pk, 50.0)
     assert m.peak == pytest.approx(lam_pk / L, rel=1e-9)
     assert max(m.harmonics_pct.values()) < 1e-6
+    # the inrush estimate's first peak (2 + r) lambda_pk on the same line
+    from compare.drive import hand_current_at
+
+    assert hand_current_at(case, 2.6 * lam_pk) == pytest.approx(2.6 * lam_pk / L, rel=1e-9)
 
 
 def test_hand_peak_flux_density_is_the_emf_equation():
@@ -69,6 +73,12 @@ def test_hand_peak_flux_density_is_the_emf_equation():
      d["windings"][1].pop("current"), "windings[1].voltage", "only the first"),
     (lambda d: d["windings"][1].update(current="1 A"), "windings[1].current", "DC bias"),
     (lambda d: d["windings"][0].update(voltage="-5 V"), "windings[0].voltage", ""),
+    (lambda d: d["windings"][1].update(residual_flux=0.5), "windings[1].residual_flux",
+     "inrush estimate of a voltage drive"),
+    (lambda d: d["windings"][0].update(residual_flux=1.5), "windings[0].residual_flux",
+     "must lie in"),
+    (lambda d: d["windings"][0].pop("residual_flux") and d["margins"].update(
+        inrush_current_peak="100 A"), "margins.inrush_current_peak", "residual_flux"),
 ])
 def test_bad_drives_name_the_key(change, key, words):
     d = _doc()
@@ -93,18 +103,32 @@ def test_linear_core_fe_magnetizing_current_is_sinusoidal():
     # inversion of linear data is exact; Newton's tolerance bounds the rest)
     from compare.check import run_check
 
+    # and the inrush estimate's first peak (2 + r) lambda_pk / L_FE on the same line
     d = _doc()
     d["materials"]["core"] = {"mu_r": 2000}
     d["fe"] = {"mesh_size": "4 mm"}
+    d["windings"][0]["residual_flux"] = 0.6
+    d.setdefault("margins", {})["inrush_current_peak"] = "1 A"
     res = run_check(case_from_dict(d))
     lam_pk = math.sqrt(2) * 230 / (2 * math.pi * 50)
     L_fe = res.fe.values["inductance"]
     assert res.drive.fe.peak == pytest.approx(lam_pk / L_fe, rel=1e-6)
     assert res.drive.fe.rms == pytest.approx(lam_pk / L_fe / math.sqrt(2), rel=1e-6)
     assert max(res.drive.fe.harmonics_pct.values()) < 1e-3
-    keys = {r.key for r in res.rows}
+    assert res.drive.inrush["fe"] == pytest.approx(2.6 * lam_pk / L_fe, rel=1e-6)
+    L = res.hand_planar.inductance
+    assert res.drive.inrush["hand"] == pytest.approx(2.6 * lam_pk / L, rel=1e-9)
+    rows = {r.key: r for r in res.rows}
     assert {"B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
-            "magnetizing_inductance", "magnetizing_harmonic_3"} <= keys
+            "magnetizing_inductance", "magnetizing_harmonic_3", "inrush_current_peak"} <= set(rows)
+    margin = rows["margin:inrush_current_peak"]
+    assert margin.verdict == ("pass" if margin.fe <= 1.0 else "FAIL")
+    from compare.serialize import check_json
+
+    doc = check_json(res)
+    assert doc["fe"]["inrush"]["current_peak"] == pytest.approx(res.drive.inrush["fe"])
+    assert doc["hand"]["inrush"]["residual_flux"] == 0.6
+    assert doc["fe"]["inrush"]["peak_flux_linkage"] == pytest.approx(2.6 * lam_pk, rel=1e-12)
     _ = mu_0
 
 

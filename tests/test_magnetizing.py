@@ -10,7 +10,8 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from analytic.magnetizing import DriveError, magnetizing_current, peak_flux_linkage
+from analytic.magnetizing import (DriveError, current_at, inrush_flux_linkage, magnetizing_current,
+                                  peak_flux_linkage)
 
 
 def test_peak_flux_linkage_is_the_emf_equation():
@@ -69,3 +70,37 @@ def test_curve_that_does_not_reach_the_peak_or_falls_is_refused():
         magnetizing_current(i, np.array([0, 1, 0.9, 2, 3.0]), 1.0, 50.0)
     with pytest.raises(DriveError, match="not zero"):
         magnetizing_current(i, 0.1 + i, 0.5, 50.0)
+
+
+@pytest.mark.parametrize("residual", [0.0, 0.45, 0.8])
+def test_inrush_flux_linkage_is_faradays_law_from_a_voltage_zero(residual):
+    # Source: Faraday's law, d lambda / dt = v, integrated here by the
+    # trapezoidal rule over one period from a switch-on at a voltage zero,
+    # v = sqrt(2) V sin(wt), lambda(0) = residual lambda_pk; the largest
+    # lambda reached against the closed form (2 + r) lambda_pk
+    v_rms, f = 230.0, 50.0
+    lam_pk = peak_flux_linkage(v_rms, f)
+    t = np.linspace(0.0, 1.0 / f, 200001)
+    v = math.sqrt(2) * v_rms * np.sin(2 * math.pi * f * t)
+    lam = residual * lam_pk + np.concatenate([[0.0], np.cumsum(0.5 * (v[1:] + v[:-1])
+                                                                * np.diff(t))])
+    assert inrush_flux_linkage(lam_pk, residual) == pytest.approx(lam.max(), rel=1e-9)
+    for bad in (-0.1, 1.5, math.nan):
+        with pytest.raises(DriveError, match="residual"):
+            inrush_flux_linkage(lam_pk, bad)
+
+
+def test_current_at_a_flux_linkage_on_a_linear_and_a_saturating_curve():
+    # Source: exact for lambda = L i; for the analytic curve
+    # lambda = a tanh(i / b) + c i (saturating, slope c at large i) the
+    # current by root-finding, as for the waveform above
+    i = np.linspace(0.0, 50.0, 41)
+    assert current_at(i, 2.5 * i, 60.0) == pytest.approx(24.0, rel=1e-12)
+    a, b, c = 1.0, 0.2, 0.01
+    lam = a * np.tanh(i / b) + c * i
+    ref = brentq(lambda x: a * math.tanh(x / b) + c * x - 1.3, 0.0, 50.0, xtol=1e-14)
+    assert current_at(np.linspace(0.0, 50.0, 401), a * np.tanh(np.linspace(0, 50, 401) / b)
+                      + c * np.linspace(0, 50, 401), 1.3) == pytest.approx(ref, rel=1e-4)
+    with pytest.raises(DriveError, match="extend it"):
+        current_at(i, lam, 2.0)
+
