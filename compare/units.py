@@ -42,6 +42,7 @@ DIMENSIONS: dict[str, Dimension] = {
     "time": (0, 0, 1, 0),
     "voltage": (2, 1, -3, -1),
     "frequency": (0, 0, -1, 0),
+    "resistance": (2, 1, -3, -2),
 }
 
 # Unit symbol -> (factor to SI, dimension). All factors are definitions:
@@ -62,6 +63,8 @@ _UNITS: dict[str, tuple[float, Dimension]] = {
     "s": (1.0, DIMENSIONS["time"]),
     "V": (1.0, DIMENSIONS["voltage"]),
     "Hz": (1.0, DIMENSIONS["frequency"]),
+    "ohm": (1.0, DIMENSIONS["resistance"]),
+    "Ω": (1.0, DIMENSIONS["resistance"]),
 }
 
 _PREFIXES: dict[str, float] = {
@@ -71,7 +74,7 @@ _PREFIXES: dict[str, float] = {
 
 _NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
 _QUANTITY_RE = re.compile(rf"^\s*({_NUMBER}|nan|inf|-inf|\+inf)\s*(.*?)\s*$", re.IGNORECASE)
-_FACTOR_RE = re.compile(r"^([A-Za-zµμ]+)(?:(?:\^|\*\*)([-+]?\d+))?$")
+_FACTOR_RE = re.compile(r"^([A-Za-zµμΩ]+)(?:(?:\^|\*\*)([-+]?\d+))?$")
 
 
 def _lookup(symbol: str) -> tuple[float, Dimension]:
@@ -157,9 +160,10 @@ def parse_quantity(value: object, dimension: str) -> float:
 
 
 def format_si(value: float, unit: str, digits: int = 4) -> str:
-    """Format an SI value with an engineering prefix, e.g. ``1.25 mH``."""
-    if not math.isfinite(value) or value == 0.0:
-        return f"{value:.{digits}g} {unit}"
+    """Format an SI value with an engineering prefix, e.g. ``1.25 mH``; a
+    pure number (``unit`` "" or "%") takes no prefix: ``0.9984``, ``0.8836 %``."""
+    if not math.isfinite(value) or value == 0.0 or unit in ("", "%"):
+        return f"{value:.{digits}g} {unit}".rstrip()
     exp3 = int(math.floor(math.log10(abs(value)) / 3.0)) * 3
     exp3 = max(-12, min(6, exp3))
     prefix = {-12: "p", -9: "n", -6: "u", -3: "m", 0: "", 3: "k", 6: "M"}[exp3]

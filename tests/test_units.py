@@ -24,6 +24,10 @@ from compare.units import UnitError, format_si, parse_quantity
     ("1 in", "length", 0.0254),  # Source: definition, 1 in = 25.4 mm.
     ("10 mil", "length", 254e-6),
     ("3.2e-4 Wb", "flux", 3.2e-4),
+    ("26 ohm", "resistance", 26.0),
+    ("1.5 kohm", "resistance", 1500.0),
+    ("3 Ω", "resistance", 3.0),
+    ("1 V/A", "resistance", 1.0),  # Source: definition, 1 ohm = 1 V/A.
     (0.5, "length", 0.5),
     (7, "current", 7.0),
 ])
@@ -48,3 +52,7 @@ def test_rejects(text, dim, words):
 def test_format_si():
     assert format_si(3.217e-3, "H") == "3.217 mH"
     assert format_si(0.0, "Wb") == "0 Wb"
+    # a pure number or a percentage takes no engineering prefix
+    assert format_si(0.9984, "") == "0.9984"
+    assert format_si(0.8836, "%") == "0.8836 %"
+    assert format_si(23.77, "%") == "23.77 %"
