@@ -23,7 +23,9 @@ EXIT_INTERRUPT = 130
 
 
 # Sub-command -> one-line help. Each lives in compare/commands/<name>.py with
-# add_args(parser) and run(args); only the one asked for is imported, so a
+# add_args(parser), run(args), OUTPUTS (output option -> "file" or "folder")
+# and input_files(args) (input path -> what it is), the last two checked by
+# _check_outputs before the run; only the one asked for is imported, so a
 # light command (hand, materials) does not pay for the FE stack's imports.
 COMMANDS: dict[str, str] = {
     "check": "run the magnetic-circuit model and the FE model (planar or axisymmetric) on one case and "
@@ -47,8 +49,9 @@ def build_parser(command: str | None = None) -> argparse.ArgumentParser:
 
     parser = argparse.ArgumentParser(
         prog="magcheck",
-        description="Check a magnetic-circuit hand calculation of a gapped core "
-                    "against a 2D field solution.")
+        description="Check the magnetic-circuit hand calculation of a magnetic device "
+                    "(choke, transformer, relay, solenoid, holding magnet) against a 2D "
+                    "field solution.")
     parser.add_argument("-v", "--verbose", action="store_true", help="log progress to stderr")
     parser.add_argument("--version", action="version", version=f"magcheck {_version()}")
     sub = parser.add_subparsers(dest="command", required=True)
@@ -60,7 +63,7 @@ def build_parser(command: str | None = None) -> argparse.ArgumentParser:
         if command is None or name == command:
             mod = importlib.import_module(f"compare.commands.{name}")
             mod.add_args(p)
-            p.set_defaults(_run=mod.run)
+            p.set_defaults(_run=mod.run, _command=mod)
     return parser
 
 
@@ -119,6 +122,7 @@ def _main(argv: Sequence[str] | None) -> int:
         warnings.simplefilter("default")
         warnings.showwarning = _show_warning
         try:
+            _check_outputs(args)
             return int(args._run(args))
         except CaseError as exc:
             print(f"magcheck: bad input: {exc}", file=sys.stderr)
@@ -132,6 +136,17 @@ def _main(argv: Sequence[str] | None) -> int:
             print(f"magcheck: cannot write output: {exc.filename or ''}: {exc.strerror or exc}",
                   file=sys.stderr)
             return EXIT_INPUT
+
+
+def _check_outputs(args: argparse.Namespace) -> None:
+    """Refuse clashing or unwritable output paths right after parsing, before
+    any solve (`compare.output.check_outputs`; bad input, exit 2)."""
+    from .output import check_outputs
+
+    mod = args._command
+    outputs = [(opt, getattr(args, opt.lstrip("-").replace("-", "_")), kind)
+               for opt, kind in mod.OUTPUTS.items()]
+    check_outputs(outputs, mod.input_files(args))
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:

@@ -13,8 +13,9 @@ import tempfile
 from pathlib import Path
 from typing import Any, Callable, Sequence, TextIO
 
-__all__ = ["CAUTION", "STDOUT", "FIGURE_FORMATS", "write_output", "atomic_write_text",
-           "write_produced", "figure_format", "save_figure", "write_json", "render_table"]
+__all__ = ["CAUTION", "STDOUT", "STDOUT_HELP", "FIGURE_FORMATS", "write_output",
+           "atomic_write_text", "write_produced", "figure_format", "save_figure", "write_json",
+           "render_table", "check_outputs", "text_stream"]
 
 CAUTION = (
     "Caution: magcheck's results are design estimates. Confirm them by measurement "
@@ -25,6 +26,9 @@ CAUTION = (
 
 STDOUT = "-"
 """The path that means standard output (``--json -``, ``--csv -``, ``--markdown -``)."""
+
+STDOUT_HELP = "- for standard output; the table and notes then go to standard error"
+"""The help text of an output option that takes ``-`` (see `text_stream`)."""
 
 FIGURE_FORMATS: tuple[str, ...] = ("png", "svg", "pdf")
 """Figure file suffixes every figure option accepts."""
@@ -47,7 +51,8 @@ def write_output(path: str | Path, data: str | bytes) -> Path | None:
       an existing file keeps its permission bits, a new one follows the umask.
     - Anything else that exists (``/dev/null``, ``/dev/stdout``, a FIFO, a
       character device) is opened and written directly, never replaced.
-    - A folder is an error (``IsADirectoryError``, reported by the CLI).
+    - A folder, or a path ending in ``/`` (which names one), is an error
+      (``IsADirectoryError``, reported by the CLI).
 
     Text is written as UTF-8 with the newlines given. Returns the path written
     (the link's target for a symlink).
@@ -64,6 +69,9 @@ def write_output(path: str | Path, data: str | bytes) -> Path | None:
             stream.write(blob.decode("utf-8"))
             stream.flush()
         return None
+    if _names_folder(path):
+        raise IsADirectoryError(errno.EISDIR, "ends in a slash, so names a folder, not a file",
+                                os.fspath(path))
     target = Path(os.path.realpath(path)) if os.path.islink(path) else Path(path)
     try:
         st: os.stat_result | None = os.stat(target)
@@ -90,6 +98,85 @@ def write_output(path: str | Path, data: str | bytes) -> Path | None:
             pass
         raise
     return target
+
+
+def _names_folder(path: str | Path) -> bool:
+    """True when ``path`` ends in a path separator (``out/``): it names a folder."""
+    text = os.fspath(path)
+    return text.endswith(os.sep) or bool(os.altsep and text.endswith(os.altsep))
+
+
+def _same_path(a: str, b: str) -> bool:
+    """True when ``a`` and ``b`` name one file: equal after resolving symlinks,
+    or the same existing file (`os.path.samefile`, so hard links too)."""
+    if STDOUT in (a, b):
+        return a == b
+    if os.path.realpath(a) == os.path.realpath(b):
+        return True
+    try:
+        return os.path.samefile(a, b)
+    except OSError:  # one of them does not exist (yet)
+        return False
+
+
+def check_outputs(outputs: Sequence[tuple[str, str | None, str]],
+                  inputs: dict[str, str] | None = None) -> None:
+    """Refuse, before any work, output paths that would clash or cannot be written.
+
+    ``outputs`` holds (option, path, kind), kind ``"file"`` or ``"folder"``; an
+    empty or None path (option not given) is skipped. ``inputs`` maps each
+    input path the command reads to what it is ("the input case file").
+    Refused: an output that is an input (after resolving symlinks, or the same
+    file by `os.path.samefile`); two outputs naming the same path (or both
+    ``-``); a file output that ends in ``/`` or is an existing folder; a folder
+    output that is ``-`` or an existing non-folder; a path whose nearest
+    existing parent is not a folder. `write_output` still guards each write.
+
+    Raises `CaseError` (CLI exit 2), one line naming the option and the path.
+    """
+    from .errors import CaseError
+
+    given = [(opt, os.fspath(path), kind) for opt, path, kind in outputs if path]
+    for opt, path, _ in given:
+        for source, what in (inputs or {}).items():
+            if _same_path(path, source):
+                raise CaseError(f"{opt} {path}", None, f"is {what}; give another path")
+    for i, (opt, path, _) in enumerate(given):
+        for opt2, path2, _ in given[:i]:
+            if _same_path(path, path2):
+                reason = ("both write to standard output; send one to a file" if path == STDOUT
+                          else "name the same path; give each output its own")
+                raise CaseError(f"{opt2} {path2} and {opt} {path}", None, reason)
+    for opt, path, kind in given:
+        where = f"{opt} {path}"
+        if path == STDOUT:
+            if kind == "folder":
+                raise CaseError(where, None, "writes a folder of files, which cannot go to "
+                                             "standard output; give a folder")
+            continue
+        if kind == "file" and _names_folder(path):
+            raise CaseError(where, None, "ends in a slash, so names a folder; give a file path")
+        target = Path(os.path.realpath(path))
+        try:
+            st: os.stat_result | None = os.stat(target)
+        except (FileNotFoundError, NotADirectoryError):
+            st = None
+        if st is not None:
+            if kind == "file" and stat.S_ISDIR(st.st_mode):
+                raise CaseError(where, None, "is a folder, not a file; give a file path")
+            if kind == "folder" and not stat.S_ISDIR(st.st_mode):
+                raise CaseError(where, None, "is a file, not a folder; give a folder")
+            continue
+        parent = next(p for p in target.parents if os.path.exists(p))
+        if not parent.is_dir():
+            raise CaseError(where, None, f"{parent} is a file, not a folder; give another path")
+
+
+def text_stream(*paths: str | None) -> TextIO:
+    """Where a command prints its table and notes: standard error when one of
+    its outputs ``paths`` is ``-`` (so standard output carries that output
+    alone, e.g. JSON for a pipe), standard output otherwise."""
+    return sys.stderr if STDOUT in paths else sys.stdout
 
 
 def atomic_write_text(path: str | Path, text: str) -> Path | None:

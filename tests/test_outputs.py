@@ -88,16 +88,18 @@ def test_regular_file_replaced_atomically_with_its_mode(tmp_path):
 
 
 def test_folder_is_an_error(tmp_path, capsys):
-    assert main(["hand", CHOKE, "--json", str(tmp_path)]) == 2
-    assert "cannot write output" in capsys.readouterr().err
+    assert main(["hand", CHOKE, "--json", str(tmp_path)]) == 2  # refused before the run
+    assert "is a folder, not a file" in capsys.readouterr().err
+    with pytest.raises(IsADirectoryError, match="is a folder, not a file"):
+        write_output(tmp_path, "x")  # and the writer's own guard stays
     assert tmp_path.is_dir()
 
 
 def test_dash_is_standard_output(capsys):
     assert main(["hand", CHOKE, "--json", "-"]) == 0
-    text = capsys.readouterr().out
-    payload = text[text.index("{\n"):]  # the table comes first, then the JSON
-    assert json.loads(payload)["case"]["name"] == "demo-choke"
+    captured = capsys.readouterr()
+    assert json.loads(captured.out)["case"]["name"] == "demo-choke"  # JSON alone
+    assert "operating point" in captured.err  # the table went to stderr
 
 
 def test_vtu_follows_the_umask(tmp_path):

@@ -3,29 +3,38 @@
 from __future__ import annotations
 
 import argparse
-import sys
 
 from ..casefile import load_case
 from ..check import CheckResult, run_check
-from ..output import CAUTION, atomic_write_text, render_table, write_json, write_produced
+from ..output import (CAUTION, STDOUT_HELP, atomic_write_text, render_table, text_stream,
+                      write_json, write_produced)
 from ..serialize import TABLE_COLUMNS, check_csv, check_json, check_markdown, table_cells
 
+OUTPUTS = {"--json": "file", "--csv": "file", "--markdown": "file", "--report": "folder",
+           "--vtu": "file"}
+"""Output options and what each writes (checked before the run)."""
+
+
+def input_files(args: argparse.Namespace) -> dict[str, str]:
+    """The files the command reads (path -> what it is); no output may be one."""
+    return {args.case: "the input case file"}
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("case", help="TOML case file")
-    p.add_argument("--json", metavar="FILE", help="write the full result as JSON (- for standard output)")
-    p.add_argument("--csv", metavar="FILE", help="write the comparison table as CSV (- for standard output)")
-    p.add_argument("--markdown", metavar="FILE", help="write the comparison as Markdown (- for standard output)")
+    p.add_argument("--json", metavar="FILE", help=f"write the full result as JSON ({STDOUT_HELP})")
+    p.add_argument("--csv", metavar="FILE", help=f"write the comparison table as CSV ({STDOUT_HELP})")
+    p.add_argument("--markdown", metavar="FILE", help=f"write the comparison as Markdown ({STDOUT_HELP})")
     p.add_argument("--report", metavar="DIR", help="write an HTML report with figures to DIR")
-    p.add_argument("--vtu", metavar="FILE", help="write the FE fields as VTU")
+    p.add_argument("--vtu", metavar="FILE", help=f"write the FE fields as VTU ({STDOUT_HELP})")
     p.add_argument("--all-fringing", action="store_true",
                    help="rank every fringing model by its difference to the FE")
     p.add_argument("--allow-large", action="store_true",
                    help="mesh even when the element estimate exceeds the limit "
                         "(as [fe] allow_large = true)")
     p.add_argument("--no-error-estimate", action="store_true",
-                   help="skip the refined second FE solve (no FE uncertainty; faster)")
+                   help="solve on the case's mesh only, not on the three meshes of the FE "
+                        "error estimate (no FE uncertainty; faster)")
 
 
 def print_check(res: CheckResult, out) -> None:
@@ -68,7 +77,8 @@ def run(args: argparse.Namespace) -> int:
         case = replace(case, fe=replace(case.fe, allow_large=True))
     res = run_check(case, all_fringing=args.all_fringing,
                     estimate_error=not args.no_error_estimate)
-    print_check(res, sys.stdout)
+    out = text_stream(args.json, args.csv, args.markdown, args.vtu)
+    print_check(res, out)
     if args.json:
         write_json(args.json, check_json(res))
     if args.csv:
@@ -86,5 +96,5 @@ def run(args: argparse.Namespace) -> int:
         from ..report import write_report
 
         path = write_report(res, args.report)
-        sys.stdout.write(f"report: {path}\n")
+        out.write(f"report: {path}\n")
     return res.exit_code

@@ -3,18 +3,24 @@
 from __future__ import annotations
 
 import argparse
-import sys
 
 from ..casefile import load_case
 from ..hand import UNITS, HandResult, run_hand
-from ..output import CAUTION, render_table, write_json
+from ..output import CAUTION, STDOUT_HELP, render_table, text_stream, write_json
 from ..units import format_si
 
+OUTPUTS = {"--json": "file"}
+"""Output options and what each writes (checked before the run)."""
+
+
+def input_files(args: argparse.Namespace) -> dict[str, str]:
+    """The files the command reads (path -> what it is); no output may be one."""
+    return {args.case: "the input case file"}
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("case", help="TOML case file")
-    p.add_argument("--json", metavar="FILE", help="also write the result as JSON")
+    p.add_argument("--json", metavar="FILE", help=f"also write the result as JSON ({STDOUT_HELP})")
     p.add_argument("--fringing", metavar="MODEL", help="override the case's fringing model")
     p.add_argument("--planar", action="store_true",
                    help="in-plane fringing only (the form a planar field model sees)")
@@ -36,7 +42,7 @@ def run(args: argparse.Namespace) -> int:
         TableReader({"fringing": args.fringing}, "--fringing").string(
             "fringing", choices=tuple(FRINGING_MODELS))
     res = run_hand(case, fringing=args.fringing, planar=args.planar)
-    print_hand(case, res, sys.stdout)
+    print_hand(case, res, text_stream(args.json))
     if args.json:
         write_json(args.json, hand_json(case, res))
     return 0

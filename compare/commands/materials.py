@@ -11,6 +11,13 @@ from analytic.materials import builtin, builtin_names
 from ..errors import CaseError
 from ..output import figure_format, render_table, save_figure
 
+OUTPUTS = {"--plot": "file"}
+"""Output options and what each writes (checked before the run)."""
+
+
+def input_files(args: argparse.Namespace) -> dict[str, str]:
+    """The files the command reads: none (the curves are built in)."""
+    return {}
 
 
 def add_args(p: argparse.ArgumentParser) -> None:

@@ -14,16 +14,23 @@ N), their relative difference and its tolerance; "fe" is the stress value,
 from __future__ import annotations
 
 import argparse
-import sys
 import time
 
-from ..output import CAUTION, render_table, write_json
+from ..output import CAUTION, STDOUT_HELP, render_table, text_stream, write_json
+
+OUTPUTS = {"--json": "file"}
+"""Output options and what each writes (checked before the run)."""
+
+
+def input_files(args: argparse.Namespace) -> dict[str, str]:
+    """The files the command reads: none (the cases are built in)."""
+    return {}
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--quick", action="store_true",
                    help="the quick meshes (seconds); without it finer meshes too")
-    p.add_argument("--json", metavar="FILE", help="write the results as JSON (- for standard output)")
+    p.add_argument("--json", metavar="FILE", help=f"write the results as JSON ({STDOUT_HELP})")
 
 
 def run(args: argparse.Namespace) -> int:
@@ -45,7 +52,7 @@ def run(args: argparse.Namespace) -> int:
                  "1e-3, and both methods within the tolerance of the reference.")
     notes.append(f"{len(results)} cases ({'quick' if args.quick else 'full'} meshes) in "
                  f"{seconds:.1f} s.")
-    out = sys.stdout if args.json != "-" else sys.stderr
+    out = text_stream(args.json)
     render_table("magcheck selftest: the field engine against exact solutions",
                  ["case", "formulation", "quantity", "FE", "reference", "rel. error",
                   "tolerance", "stress vs VW", "verdict"], rows, out, notes=notes)

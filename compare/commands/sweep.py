@@ -11,10 +11,19 @@ import sys
 from ..executor import Progress
 from ..errors import CaseError
 from ..hand import UNITS
-from ..output import CAUTION, atomic_write_text, render_table, write_json
+from ..output import (CAUTION, STDOUT_HELP, atomic_write_text, render_table,
+                      text_stream, write_json)
 from ..sweep import (CURRENT_KEY, DEFAULT_BLOCK, PREDICTORS, SweepResult, case_source,
                      parse_vary, run_sweep, sweep_margins, sweep_rows)
 from ..units import format_si
+
+OUTPUTS = {"--csv": "file", "--json": "file", "--plots": "folder"}
+"""Output options and what each writes (checked before the run)."""
+
+
+def input_files(args: argparse.Namespace) -> dict[str, str]:
+    """The files the command reads (path -> what it is); no output may be one."""
+    return {args.case: "the input case file"}
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
@@ -39,8 +48,9 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--workers", type=int, help="worker processes (default: one per core, one for fewer than 4 tasks)")
     p.add_argument("--scheduler", metavar="ADDRESS",
                    help="dask.distributed scheduler (default $DASK_SCHEDULER_ADDRESS)")
-    p.add_argument("--csv", metavar="FILE", help="write one row per point as CSV")
-    p.add_argument("--json", metavar="FILE", help="write points, saturation currents and margins")
+    p.add_argument("--csv", metavar="FILE", help=f"write one row per point as CSV ({STDOUT_HELP})")
+    p.add_argument("--json", metavar="FILE", help="write points, saturation currents and margins as JSON "
+                                                     f"({STDOUT_HELP})")
     p.add_argument("--plots", metavar="DIR", help="write the figures (PNG) to DIR")
 
 
@@ -152,7 +162,8 @@ def run(args: argparse.Namespace) -> int:
                         block=args.block, workers=args.workers, scheduler=args.scheduler,
                         on_done=bar)
     margins, sat_table = sweep_margins(res, drops, kind)
-    print_sweep(res, margins, sat_table, sys.stdout)
+    out = text_stream(args.csv, args.json)
+    print_sweep(res, margins, sat_table, out)
     if args.csv:
         atomic_write_text(args.csv, sweep_csv(res))
     if args.json:
@@ -161,7 +172,7 @@ def run(args: argparse.Namespace) -> int:
         from ..plots import save_sweep_figures
 
         for p in save_sweep_figures(res, args.plots, sat_table):
-            sys.stdout.write(f"figure: {p}\n")
+            out.write(f"figure: {p}\n")
     failed = [pt for pt in res.points if not pt.converged]
     if failed:
         for pt in failed:

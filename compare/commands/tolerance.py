@@ -4,16 +4,24 @@ from __future__ import annotations
 
 import argparse
 import math
-import sys
 
 from ..errors import CaseError
 from ..executor import Progress
-from ..output import CAUTION, figure_format, render_table, write_json
+from ..output import (CAUTION, STDOUT_HELP, figure_format, render_table,
+                      text_stream, write_json)
 from ..units import format_si
 
 PERCENTILES = (5.0, 50.0, 95.0)  # as compare.tolerance.PERCENTILES (not imported: start-up time)
 
 _UNITS = {"inductance": "H", "peak_B": "T", "saturation_current": "A"}
+
+OUTPUTS = {"--json": "file", "--plot": "file"}
+"""Output options and what each writes (checked before the run)."""
+
+
+def input_files(args: argparse.Namespace) -> dict[str, str]:
+    """The files the command reads (path -> what it is); no output may be one."""
+    return {args.case: "the input case file"}
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
@@ -31,7 +39,7 @@ def add_args(p: argparse.ArgumentParser) -> None:
                    help="dask.distributed scheduler (default $DASK_SCHEDULER_ADDRESS)")
     p.add_argument("--min-yield", type=float, metavar="PCT",
                    help="exit 1 when fewer than PCT %% of the samples meet every margin")
-    p.add_argument("--json", metavar="FILE", help="write samples and statistics as JSON")
+    p.add_argument("--json", metavar="FILE", help=f"write samples and statistics as JSON ({STDOUT_HELP})")
     p.add_argument("--plot", metavar="FILE", help="write the histograms (.png, .svg or .pdf)")
 
 
@@ -71,7 +79,8 @@ def run(args: argparse.Namespace) -> int:
     with Progress("tolerance") as bar:
         res = run_tolerance(src, samples=args.samples, seed=args.seed, fe_samples=args.fe_samples,
                             workers=args.workers, scheduler=args.scheduler, on_done=bar)
-    print_tolerance(res, sys.stdout)
+    out = text_stream(args.json)
+    print_tolerance(res, out)
     if args.json:
         write_json(args.json, {
             "case": {"name": case.name, "file": case.source, "sha256": case.sha256},
@@ -84,11 +93,11 @@ def run(args: argparse.Namespace) -> int:
     if args.plot:
         from ..plots import save_tolerance_figure
 
-        sys.stdout.write(f"figure: {save_tolerance_figure(res, _labels(res), args.plot)}\n")
+        out.write(f"figure: {save_tolerance_figure(res, _labels(res), args.plot)}\n")
     # The nominal design's own margins are judged by check/verify; a tolerance
     # study fails (exit 1) only against a stated yield.
     if args.min_yield is not None and 100.0 * res.yield_fraction < args.min_yield:
-        sys.stdout.write(f"FAIL: yield {100 * res.yield_fraction:.1f} % is below "
+        out.write(f"FAIL: yield {100 * res.yield_fraction:.1f} % is below "
                          f"{args.min_yield:g} %\n")
         return 1
     return 0

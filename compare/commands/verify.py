@@ -8,17 +8,30 @@ import sys
 
 from ..errors import CaseError
 from ..executor import Progress
-from ..output import CAUTION, atomic_write_text, render_table, write_json
+from ..output import (CAUTION, STDOUT_HELP, atomic_write_text, render_table,
+                      text_stream, write_json)
 from ..units import format_si
-from ..verify import VerifyResult, item_text, junit_xml, run_verify
+from ..verify import VerifyResult, find_cases, item_text, junit_xml, run_verify
+
+OUTPUTS = {"--junit": "file", "--json": "file"}
+"""Output options and what each writes (checked before the run)."""
+
+
+def input_files(args: argparse.Namespace) -> dict[str, str]:
+    """The files the command reads (path -> what it is); no output may be one."""
+    files = {str(f): "an input case file" for f in find_cases(args.paths)}
+    if args.baseline:
+        files[args.baseline] = "the --baseline file"
+    return files
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("paths", nargs="+", metavar="PATH", help="case files or folders of them")
-    p.add_argument("--junit", metavar="FILE", help="write JUnit XML (one test case per margin)")
+    p.add_argument("--junit", metavar="FILE", help="write JUnit XML (one test case per margin; "
+                                                      f"{STDOUT_HELP})")
     p.add_argument("--baseline", metavar="FILE",
                    help="stored results (e.g. cases/baseline.json): flag drift beyond tolerance")
-    p.add_argument("--json", metavar="FILE", help="write every item as JSON")
+    p.add_argument("--json", metavar="FILE", help=f"write every item as JSON ({STDOUT_HELP})")
     p.add_argument("--no-error-estimate", action="store_true",
                    help="one FE mesh per case (faster; no FE uncertainty, so no baseline)")
     p.add_argument("--workers", type=int, help="worker processes (default: one per core)")
@@ -71,12 +84,12 @@ def run(args: argparse.Namespace) -> int:
         raise CaseError("--workers", args.workers, "must be at least 1")
     if args.baseline and args.no_error_estimate:
         raise CaseError("--no-error-estimate", True, "the baseline stores values of the checked "
-                                                     "(two-mesh) FE; drop one of the options")
+                                                     "(three-mesh) FE; drop one of the options")
     with Progress("verify") as bar:
         res = run_verify(args.paths, baseline=args.baseline, workers=args.workers,
                          scheduler=args.scheduler, estimate_error=not args.no_error_estimate,
                          on_done=bar)
-    print_verify(res, sys.stdout)
+    print_verify(res, text_stream(args.json, args.junit))
     for o in res.outcomes:
         if o.status != "ok":
             print(f"magcheck: {'bad input' if o.status == 'input' else 'solve failed'}: "
