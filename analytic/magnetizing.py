@@ -23,7 +23,8 @@ import numpy as np
 from scipy.interpolate import PchipInterpolator
 
 __all__ = ["peak_flux_linkage", "MagnetizingCurrent", "magnetizing_current",
-           "DriveError", "SAMPLES", "inrush_flux_linkage", "current_at"]
+           "DriveError", "SAMPLES", "inrush_flux_linkage", "current_at", "InrushPeak",
+           "inrush_peak"]
 
 SAMPLES = 256
 """Time samples per period of the waveform (the 7th harmonic has 36 per cycle)."""
@@ -131,10 +132,9 @@ def inrush_flux_linkage(lambda_peak: float, residual: float) -> float:
 
     From Faraday's law with v = sqrt(2) V sin(wt) from t = 0 and the
     resistance neglected, lambda(t) = lambda_r + lambda_pk (1 - cos wt),
-    largest at wt = pi (the doubling effect behind transformer inrush
-    current; e.g. Kulkarni and Khaparde, Transformer Engineering, 2004, the
-    chapter on inrush [from memory]).  The winding's and the source's
-    resistance damp it, so this bounds the first peak from above.
+    largest at wt = pi: the doubling effect behind transformer inrush
+    current.  The winding's and the source's resistance damp it (see
+    :func:`inrush_peak`), so this bounds the first peak from above.
     """
     if not (math.isfinite(lambda_peak) and lambda_peak > 0):
         raise DriveError(f"lambda_peak = {lambda_peak!r} Wb-turns must be finite and positive")
@@ -153,3 +153,82 @@ def current_at(currents, linkages, linkage: float) -> float:
                          f"{linkage:.6g} Wb-turns: extend it")
     return float(inv(linkage))
 
+
+
+@dataclass(frozen=True)
+class InrushPeak:
+    """The first peak after switch-on at a voltage zero.
+
+    current : A, the inrush current's first peak.
+    linkage : Wb-turns, the flux linkage there (its first maximum).
+    time : s after switch-on.
+    """
+
+    current: float
+    linkage: float
+    time: float
+
+
+def inrush_peak(currents, linkages, voltage_rms: float, frequency: float, residual: float,
+                resistance: float) -> InrushPeak:
+    """The first current peak of a winding switched on at a voltage zero,
+    v = sqrt(2) V sin(wt) from t = 0, with the flux linkage starting at
+    residual * lambda_pk and the series resistance R (ohm, winding plus
+    source):
+
+        d lambda / dt = v(t) - R i(lambda),   lambda(0) = residual lambda_pk  (2)
+
+    (Faraday's law with the resistive drop; i(lambda) the lambda-i curve
+    inverted as for :func:`magnetizing_current`, so the current at the
+    residual is the single-valued curve's small magnetizing current, not
+    the zero of a hysteretic core).  i rises with lambda, so the current's
+    first peak is at lambda's first maximum, where v = R i.  With R = 0 it
+    is :func:`inrush_flux_linkage`'s (2 + residual) lambda_pk at wt = pi.
+    Integrated by an explicit Runge-Kutta pair (scipy's RK45, rtol 1e-9) to
+    the first downward zero of d lambda / dt within one period.
+
+    The curve must reach the peak's flux linkage (extend it to
+    (2 + residual) lambda_pk, the undamped bound); raises DriveError
+    otherwise or on bad input.
+    """
+    from scipy.integrate import solve_ivp
+
+    lam_pk = peak_flux_linkage(voltage_rms, frequency)
+    lam_max = inrush_flux_linkage(lam_pk, residual)
+    if not (math.isfinite(resistance) and resistance >= 0.0):
+        raise DriveError(f"resistance = {resistance!r} ohm must be finite and not negative")
+    inv, lo, hi = _inverse(np.asarray(currents, dtype=float), np.asarray(linkages, dtype=float))
+    w = 2.0 * math.pi * frequency
+    v_pk = math.sqrt(2.0) * voltage_rms
+    if resistance == 0.0:
+        if hi < lam_max:
+            raise DriveError(f"the lambda-i curve ends at {hi:.6g} Wb-turns, short of the "
+                             f"first peak's {lam_max:.6g} Wb-turns: extend it")
+        return InrushPeak(float(inv(lam_max)), lam_max, math.pi / w)
+
+    def current(lam: float) -> float:
+        if not (lo <= lam <= hi):
+            raise DriveError(f"the flux linkage {lam:.6g} Wb-turns left the lambda-i curve "
+                             f"({lo:.6g} .. {hi:.6g} Wb-turns): extend it")
+        return float(inv(lam))
+
+    def rate(t: float, y: np.ndarray) -> list[float]:
+        return [v_pk * math.sin(w * t) - resistance * current(float(y[0]))]
+
+    def top(t: float, y: np.ndarray) -> float:
+        return rate(t, y)[0]
+
+    top.terminal = True  # type: ignore[attr-defined]
+    top.direction = -1.0  # type: ignore[attr-defined]
+    period = 2.0 * math.pi / w
+    sol = solve_ivp(rate, (0.0, period), [residual * lam_pk], method="RK45", rtol=1e-9,
+                    atol=1e-12 * lam_pk, max_step=period / 200, events=top, dense_output=True)
+    if sol.status == -1:
+        raise DriveError(f"the inrush integration failed: {sol.message}")
+    if sol.t_events[0].size:
+        t_pk = float(sol.t_events[0][0])
+        lam = float(sol.y_events[0][0][0])
+    else:  # no interior maximum within the period (a huge R): the largest sample
+        k = int(np.argmax(sol.y[0]))
+        t_pk, lam = float(sol.t[k]), float(sol.y[0][k])
+    return InrushPeak(current(lam), lam, t_pk)

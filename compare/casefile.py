@@ -137,8 +137,9 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                                 "winding a voltage and frequency, or drop it")
     if case.margins.inrush_current_peak is not None and case.winding.residual_flux is None:
         raise CaseError("margins.inrush_current_peak", case.margins.inrush_current_peak,
-                        "judges the inrush estimate: give the driven winding's residual_flux "
-                        "(a fraction of the peak flux linkage, e.g. 0.8), or drop it")
+                        "judges the inrush estimate of a voltage drive: give the first winding "
+                        "voltage, frequency and residual_flux (a fraction of the peak flux "
+                        "linkage, e.g. 0.8), or drop it")
     return case
 
 
@@ -332,14 +333,14 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
                                 "drawn as regions (kind = \"coil\", winding = its name): give "
                                 "only name, turns and current here")
         turns = t.integer("turns", minimum=1)
-        current, voltage, frequency, residual = _read_drive(t)
+        current, voltage, frequency, residual, resistance = _read_drive(t)
         t.finish()
         return WindingSpec("", turns, current, 0.0, 0.0, 0.0, name, 0.0, voltage, frequency,
-                           residual)
+                           residual, resistance)
     limb_name = t.string("limb", choices=family.winding_limbs)
     limb = limbs[limb_name]
     turns = t.integer("turns", minimum=1)
-    current, voltage, frequency, residual = _read_drive(t)
+    current, voltage, frequency, residual, resistance = _read_drive(t)
     room = min(limb.room_minus, limb.room_plus) - inner
     inside = " left beside the windings inside it" if inner > 0 else ""
     if room <= 0:
@@ -378,19 +379,26 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
                             f"{limb_name} limb (the coil would overlap the core)")
     t.finish()
     return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner,
-                       voltage, frequency, residual)
+                       voltage, frequency, residual, resistance)
 
 
-def _read_drive(t: TableReader) -> tuple[float, float | None, float | None, float | None]:
+def _read_drive(t: TableReader) -> tuple[float, float | None, float | None, float | None,
+                                         float | None]:
     """A winding's excitation: ``current``, or ``voltage`` (rms) with
     ``frequency`` (a sinusoidal drive; the current is then found, see
     compare.drive) and optionally ``residual_flux`` (the inrush estimate's
-    residual flux linkage, a fraction of the peak).  Returns (current,
-    voltage, frequency, residual_flux)."""
+    residual flux linkage, a fraction of the peak) and ``resistance`` (ohm,
+    the winding's and the source's in series: damps the inrush estimate).
+    Returns (current, voltage, frequency, residual_flux, resistance)."""
     if t.has("residual_flux") and not t.has("voltage"):
         raise CaseError(t.key("residual_flux"), t.raw("residual_flux"),
                         "the inrush estimate of a voltage drive: give voltage and frequency "
                         "with it, or drop it")
+    if t.has("resistance") and not t.has("residual_flux"):
+        raise CaseError(t.key("resistance"), t.raw("resistance"),
+                        "damps the inrush estimate of a voltage drive: give voltage, frequency "
+                        "and residual_flux with it, or drop it (the magnetizing current "
+                        "neglects it)")
     if t.has("voltage"):
         if t.has("current"):
             raise CaseError(t.key("voltage"), t.raw("voltage"),
@@ -400,13 +408,16 @@ def _read_drive(t: TableReader) -> tuple[float, float | None, float | None, floa
             raise CaseError(t.key("frequency"), None, "missing: a voltage drive needs its "
                                                       "frequency, e.g. \"50 Hz\"")
         frequency = t.quantity("frequency", "frequency")
-        residual = (t.number("residual_flux", lo=0.0, hi=1.0) if t.has("residual_flux")
+        # + 0.0: a -0.0 read as 0
+        residual = (t.number("residual_flux", lo=0.0, hi=1.0) + 0.0 if t.has("residual_flux")
                     else None)
-        return 0.0, voltage, frequency, residual
+        resistance = (t.quantity("resistance", "resistance", allow_zero=True)
+                      if t.has("resistance") else None)
+        return 0.0, voltage, frequency, residual, resistance
     if t.has("frequency"):
         raise CaseError(t.key("frequency"), t.raw("frequency"),
                         "a frequency without a voltage: give voltage (rms) with it")
-    return t.quantity("current", "current", positive=False), None, None, None
+    return t.quantity("current", "current", positive=False), None, None, None, None
 
 
 def _read_materials(t: TableReader, base_dir: Path | None, family: Family,

@@ -301,9 +301,12 @@ def drive_rows(case: Case, drive: Any) -> list[Row]:
         lim = case.margins.agreement_limit(k, None)
         u = drive.uncertainty.get(k, math.nan)
         r = case.winding.residual_flux
-        out.append(Row(k, f"{LABELS[k][:-1]}, residual {r:g} of the peak flux linkage)", "A",
-                       h, f, u, d, lim, _verdict(d, h, f, u, lim), hand_3d=h3i,
-                       fe_3d=f * (h3i / h if h else 1.0)))
+        damp = f", {drive.resistance:.4g} ohm" if drive.resistance > 0 else ", undamped"
+        # the FE 3D column is the planar FE itself: the hand's 3D / planar
+        # ratio (depth fringing of the gaps) means nothing deep in saturation,
+        # where the current is carried by the winding's air flux
+        out.append(Row(k, f"{LABELS[k][:-1]}, residual {r:g}{damp})", "A",
+                       h, f, u, d, lim, _verdict(d, h, f, u, lim), hand_3d=h3i, fe_3d=f))
     m = case.margins
     for key, limit in (("B_peak", m.B_peak), ("magnetizing_current_peak", m.magnetizing_current_peak),
                        ("magnetizing_current_rms", m.magnetizing_current_rms),
@@ -540,8 +543,11 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                      "saturation the winding's flux runs through air beside the core (the "
                      "window, the coil's own space), which the hand network has no path for, so "
                      "its current must rise further to reach the same flux linkage. The FE "
-                     "figure is the design estimate; both assume no winding resistance and the "
-                     "worst switching instant, an upper bound.")
+                     "figure is the better estimate; both assume the worst switching instant "
+                     "and no hysteresis" + ("." if any(w.resistance for w in case.windings)
+                                            else ", and without the winding's resistance "
+                                            "they are undamped, an upper bound (give "
+                                            "resistance to damp them)."))
     unc = [row for row in rows if row.key != "peak_B" and row.uncertainty_pct > UNCERTAIN_PCT]
     if unc:
         names = ", ".join(row.label for row in unc)

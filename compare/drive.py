@@ -31,8 +31,12 @@ lambda_pk (analytic.magnetizing.inrush_flux_linkage); the first current
 peak is where each model's lambda-i curve reaches it, the FE's continued
 past saturation (warm-started tangent steps aimed just past it), where
 the winding's own air flux, which the hand network lacks, carries the rise.
-An estimate: no winding or source resistance (no damping: an upper bound of
-the first peak), no hysteresis, the residual as given.
+With the winding's ``resistance`` R (winding plus source, ohm) the flux
+linkage follows d lambda / dt = v - R i(lambda) on each model's curve
+(analytic.magnetizing.inrush_peak) and peaks lower and earlier; without
+it the estimate is undamped, an upper bound of the first peak.  An
+estimate either way: no hysteresis (the residual as given), no eddy
+currents, a stiff source.
 """
 
 from __future__ import annotations
@@ -48,13 +52,13 @@ from scipy.interpolate import PchipInterpolator
 from scipy.optimize import brentq
 
 from analytic.bh import BHRangeWarning
-from analytic.magnetizing import (DriveError, MagnetizingCurrent, current_at,
-                                  inrush_flux_linkage, magnetizing_current, peak_flux_linkage)
+from analytic.magnetizing import (DriveError, InrushPeak, MagnetizingCurrent, inrush_flux_linkage,
+                                  inrush_peak, magnetizing_current, peak_flux_linkage)
 
 from .errors import RunError
 
 __all__ = ["DriveResult", "resolve_drive", "hand_peak_current", "hand_current_at", "hand_curve",
-           "run_drive", "DRIVE_KEYS"]
+           "run_drive", "continue_curve", "DRIVE_KEYS"]
 
 HAND_POINTS = 48
 """Hand lambda-i points up to the peak current (ms each)."""
@@ -130,12 +134,15 @@ class DriveResult:
         the three-mesh uncertainty of the flux linkage at the case's
         current, U_i = U_lambda / L_incremental, plus the inversion's own
         error, half the difference to the waveform from every other FE point
-        (``inrush_current_peak``: the same relative U_lambda at
-        lambda_inrush over the curve's last slope, plus the inversion's).
+        (``inrush_current_peak``: the same relative U_lambda at the first
+        peak's flux linkage over the curve's slope there, plus the same
+        estimate on every other FE point's curve).
     lambda_inrush : the inrush estimate's first flux-linkage peak
         (2 + residual) lambda_pk (Wb-turns; NaN without ``residual_flux``).
-    inrush : per model ("hand", "hand_3d", "fe") the current (A) at
-        lambda_inrush, the inrush estimate's first peak; {} without one.
+    inrush : per model ("hand", "hand_3d", "fe") the inrush estimate's
+        first current peak (A): at lambda_inrush undamped, by equation (2)
+        of analytic.magnetizing.inrush_peak with ``resistance``; {} without
+        an estimate.
     """
 
     lambda_peak: float
@@ -149,6 +156,11 @@ class DriveResult:
     inrush: dict[str, float] = field(default_factory=dict)
     residual_flux: float = math.nan
     """The inrush estimate's residual flux linkage, a fraction of lambda_pk."""
+    inrush_linkage: dict[str, float] = field(default_factory=dict)
+    """Per model the flux linkage at the inrush estimate's first peak
+    (Wb-turns): lambda_inrush undamped, less with ``resistance``."""
+    resistance: float = 0.0
+    """The inrush estimate's series resistance (ohm; 0: undamped)."""
 
     def values(self, model: str) -> dict[str, float]:
         """DRIVE_KEYS values of "hand", "hand_3d" or "fe"."""
@@ -167,10 +179,11 @@ class DriveResult:
                                                       for k, v in m.harmonics_pct.items()}},
             "magnetizing_inductance": m.inductance,
             "peak_flux_linkage": self.lambda_peak}
-        if self.inrush:  # the estimate's first peak (A) at (2 + residual) lambda_pk
+        if self.inrush:  # the estimate's first peak (A) and the flux linkage there
             out["inrush"] = {"current_peak": self.inrush[model],
-                             "peak_flux_linkage": self.lambda_inrush,
-                             "residual_flux": self.residual_flux}
+                             "peak_flux_linkage": self.inrush_linkage[model],
+                             "residual_flux": self.residual_flux,
+                             "resistance": self.resistance}
         return out
 
 
@@ -190,8 +203,11 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
     """Both models' magnetizing currents and peak flux densities; the FE
     curve is solved on the check's finest mesh, warm-started point to point.
 
-    Raises RunError when a solve does not converge or the FE's flux linkage
-    does not reach lambda_pk within 16 times the hand's peak current."""
+    Raises RunError when a solve does not converge, when the FE's flux
+    linkage does not reach lambda_pk within 16 times the hand's peak
+    current, or (with ``residual_flux``) when the FE curve cannot be
+    continued to the inrush estimate's lambda_inrush (continue_curve) or
+    the estimate fails (analytic.magnetizing.DriveError)."""
     from .fe import solve_case_full
     from .margins import with_current
 
@@ -213,7 +229,7 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
     slope: Any = None
     i_fe, lam_fe, peak_fe, l_fe = [0.0], [0.0], [0.0], [math.nan]
 
-    def solve(current: float) -> None:
+    def solve(current: float) -> tuple[float, float]:
         # the tangent predictor: the previous point plus dA/dI times the step
         nonlocal A_prev, slope
         A0 = None if A_prev is None else A_prev + slope * (current - i_fe[-1])
@@ -223,6 +239,7 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
         lam_fe.append(abs(q.values["flux_linkage"]))
         peak_fe.append(q.peak_B)
         l_fe.append(abs(q.values["incremental_inductance"]))
+        return lam_fe[-1], l_fe[-1]
 
     for x in targets:
         solve(x)
@@ -256,40 +273,89 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
            "magnetizing_inductance": (rel * fe_m.inductance
                                       + 0.5 * abs(fe_half.inductance - fe_m.inductance)),
            "B_peak": fe_result.uncertainty.get("peak_B", math.nan)}
-    lam_in, inrush = math.nan, {}
+    lam_in, inrush, linkage = math.nan, {}, {}
     if w.residual_flux is not None:
         # past the B-H data the core's slope is mu0 (full saturation): expected here, not
         # worth a warning per solve
         with warnings.catch_warnings():
             warnings.simplefilter("ignore", BHRangeWarning)
             lam_in = inrush_flux_linkage(lam_pk, w.residual_flux)
-            inrush = {"hand": hand_current_at(case, lam_in, planar=True),
-                      "hand_3d": hand_current_at(case, lam_in, planar=False)}
-            # the hand curve on from the magnetizing range, evenly in log(current)
-            more = np.geomspace(1.05 * ip, 1.02 * inrush["hand"], HAND_POINTS)
-            curves["hand_inrush"] = (
-                np.concatenate([curves["hand"][0], more]),
-                np.concatenate([curves["hand"][1], [_lambda(case, x, True) for x in more]]))
-            # on up the FE curve past saturation by tangent steps aimed 1 % past
-            # lambda_inrush (the curve is concave there, so a step lands short of
-            # where its tangent aims; at most 3x the current per step)
-            while lam_fe[-1] < lam_in:
-                if i_fe[-1] > INRUSH_REACH * ip or len(i_fe) > INRUSH_SOLVES + FE_POINTS + 4:
-                    raise RunError(f"the FE flux linkage reaches {lam_fe[-1]:.6g} Wb-turns at "
-                                   f"{i_fe[-1]:.6g} A, short of the inrush estimate's "
-                                   f"{lam_in:.6g} Wb-turns")
-                step = (1.01 * lam_in - lam_fe[-1]) / l_fe[-1]
-                solve(min(i_fe[-1] + step, 3.0 * i_fe[-1]))
-            i_all, lam_all = np.array(i_fe), np.array(lam_fe)
-            curves["fe_inrush"] = (i_all, lam_all)
+            tops = {"hand": hand_current_at(case, lam_in, planar=True),
+                    "hand_3d": hand_current_at(case, lam_in, planar=False)}
+            # each hand curve on from the magnetizing range, evenly in log(current)
+            for key, planar, i_mag in (("hand", True, ip), ("hand_3d", False, i3)):
+                more = np.geomspace(1.05 * i_mag, 1.02 * tops[key], HAND_POINTS)
+                curves[key + "_inrush"] = (
+                    np.concatenate([curves[key][0], more]),
+                    np.concatenate([curves[key][1], [_lambda(case, x, planar) for x in more]]))
+            # on up the FE curve past saturation by tangent steps
+            continue_curve(solve, i_fe, lam_fe, l_fe, lam_in, INRUSH_REACH * ip, INRUSH_SOLVES)
             try:
-                inrush["fe"] = current_at(i_all, lam_all, lam_in)
-                keep = sorted(set(range(0, len(i_fe), 2)) | {len(i_fe) - 1})
-                half = current_at(i_all[keep], lam_all[keep], lam_in)
+                if w.resistance:
+                    # one more solve at the damped first peak, which falls between
+                    # the tangent steps' widely spaced points (on the demo 10 and 30 A)
+                    first = _first_peak(case, np.array(i_fe), np.array(lam_fe)).current
+                    if np.min(np.abs(np.array(i_fe) - first)) > 0.02 * first:
+                        solve(first)
+                order = np.argsort(i_fe)
+                i_all, lam_all = np.array(i_fe)[order], np.array(lam_fe)[order]
+                curves["fe_inrush"] = (i_all, lam_all)
+                keep = sorted(set(range(0, len(i_all), 2)) | {len(i_all) - 1})
+                for key in ("hand", "hand_3d", "fe"):
+                    pk = _first_peak(case, *curves[key + "_inrush"])
+                    inrush[key], linkage[key] = pk.current, pk.linkage
+                half = _first_peak(case, i_all[keep], lam_all[keep]).current
             except DriveError as exc:
-                raise RunError(f"FE inrush estimate: {exc}") from None
-            slope = (lam_all[-1] - lam_all[-2]) / (i_all[-1] - i_all[-2])
+                raise RunError(f"inrush estimate: {exc}") from None
+            # first order: the flux linkage's relative uncertainty over the
+            # curve's slope where it brackets the peak, plus the inversion's
+            k = max(1, min(int(np.searchsorted(lam_all, linkage["fe"])), len(i_all) - 1))
+            slope = (lam_all[k] - lam_all[k - 1]) / (i_all[k] - i_all[k - 1])
             u_rel = u_lam / abs(fe_result.values.get("flux_linkage", math.nan))
-            unc["inrush_current_peak"] = u_rel * lam_in / slope + 0.5 * abs(half - inrush["fe"])
+            unc["inrush_current_peak"] = (u_rel * linkage["fe"] / slope
+                                          + 0.5 * abs(half - inrush["fe"]))
     return DriveResult(lam_pk, hand_p, hand_3, fe_m, (b_hand, b_fe), curves, unc,
-                       lam_in, inrush, w.residual_flux if inrush else math.nan)
+                       lam_in, inrush, w.residual_flux if inrush else math.nan, linkage,
+                       w.resistance if inrush and w.resistance is not None else 0.0)
+
+
+def _first_peak(case: Any, currents: np.ndarray, linkages: np.ndarray) -> InrushPeak:
+    """The inrush estimate's first peak on one model's lambda-i curve
+    (analytic.magnetizing.inrush_peak; undamped without ``resistance``)."""
+    w = case.winding
+    return inrush_peak(currents, linkages, w.voltage, w.frequency, w.residual_flux,
+                       w.resistance or 0.0)
+
+
+def continue_curve(solve: Any, currents: list[float], linkages: list[float],
+                   slopes: list[float], target: float, max_current: float,
+                   max_solves: int) -> None:
+    """Extend a sampled lambda-i curve (lists, appended in place) until its
+    flux linkage passes ``target`` (Wb-turns): each step aims the tangent
+    (the last incremental inductance ``slopes[-1]``, H) 1 % past it, at most
+    3 times the current per step (the curve is concave past saturation, so
+    a step lands short of where its tangent aims, never past a point the
+    interpolation needs).  ``solve(i)`` returns (lambda, dlambda/di) at i;
+    when it has not appended them to the lists itself, this function does.
+
+    Raises RunError when the curve stops short: past ``max_current`` (A),
+    after ``max_solves`` solves, or on a slope that is not finite and
+    positive (then the step is the 3x cap)."""
+    n = 0
+    while linkages[-1] < target:
+        if currents[-1] > max_current or n >= max_solves:
+            raise RunError(f"the FE flux linkage reaches {linkages[-1]:.6g} Wb-turns at "
+                           f"{currents[-1]:.6g} A after {n} solves, short of the inrush "
+                           f"estimate's {target:.6g} Wb-turns")
+        cap = 3.0 * currents[-1]
+        l_last = slopes[-1]
+        step = ((1.01 * target - linkages[-1]) / l_last if math.isfinite(l_last) and l_last > 0
+                else math.inf)
+        i_next = min(currents[-1] + step, cap)
+        size = len(currents)
+        lam, slope = solve(i_next)
+        if len(currents) == size:
+            currents.append(i_next)
+            linkages.append(lam)
+            slopes.append(slope)
+        n += 1

@@ -151,6 +151,10 @@ class WindingSpec:
     residual_flux: float | None = None
     """Inrush estimate of a voltage-driven winding: the residual flux linkage
     at switch-on as a fraction of lambda_pk (None: no estimate)."""
+    resistance: float | None = None
+    """Series resistance of the driven winding and its source (ohm): damps the
+    inrush estimate (None: undamped, an upper bound).  The magnetizing
+    current neglects it."""
 
     @property
     def driven(self) -> bool:

@@ -327,9 +327,9 @@ def fig_magnetizing(res: CheckResult):
 
 
 def fig_inrush(res: CheckResult):
-    """The inrush estimate: both models' lambda-i curves on to the first
-    flux-linkage peak (2 + r) lambda_pk, and the current each reaches it at;
-    None without one."""
+    """The inrush estimate: both models' lambda-i curves on to the undamped
+    first flux-linkage peak (2 + r) lambda_pk, and each model's first peak
+    (current, flux linkage: lower with a resistance); None without one."""
     d = res.drive
     if d is None or not d.inrush:
         return None
@@ -340,17 +340,18 @@ def fig_inrush(res: CheckResult):
         pos = i > 0  # a log current axis
         ax.plot(i[pos], lam[pos], style, color=colour, ms=3, mfc="none", lw=1.1,
                 label=f"{label}: {d.inrush[model]:.4g} A at the first peak")
-        ax.plot([d.inrush[model]], [d.lambda_inrush], "o", color=colour, ms=6)
+        ax.plot([d.inrush[model]], [d.inrush_linkage[model]], "o", color=colour, ms=6)
     ax.axhline(d.lambda_peak, color="0.4", lw=0.8, ls=":",
                label=f"steady peak {d.lambda_peak:.4g} Wb-turns")
     ax.axhline(d.lambda_inrush, color="0.2", lw=0.8, ls="-.",
-               label=f"first peak (2 + {d.residual_flux:g}) x steady = {d.lambda_inrush:.4g} "
-                     "Wb-turns")
+               label=f"undamped first peak (2 + {d.residual_flux:g}) x steady = "
+                     f"{d.lambda_inrush:.4g} Wb-turns")
     ax.set_xscale("log")
     ax.set_xlabel("current (A)")
     ax.set_ylabel("flux linkage (Wb-turns)")
-    ax.set_title("inrush estimate: switched on at a voltage zero, no resistance (upper bound)",
-                 fontsize=9)
+    damping = (f"series resistance {d.resistance:.4g} ohm" if d.resistance > 0
+               else "no resistance (upper bound)")
+    ax.set_title(f"inrush estimate: switched on at a voltage zero, {damping}", fontsize=9)
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7)
     return fig
@@ -380,8 +381,9 @@ _CAPTIONS = {
                        "shaded), resistance, hysteresis and eddy currents neglected.",
     "inrush.png": "The inrush estimate: each model's lambda-i curve continued past saturation to "
                   "the first flux-linkage peak after switch-on at a voltage zero with the given "
-                  "residual flux; no resistance, so an upper bound of the first current peak "
-                  "(the hand network has no air flux beside the saturated core).",
+                  "residual flux, and each model's first current peak (with the winding's "
+                  "resistance, d lambda/dt = v - R i; without it an upper bound); the hand "
+                  "network has no air flux beside the saturated core.",
 }
 
 

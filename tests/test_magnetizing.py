@@ -10,8 +10,8 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from analytic.magnetizing import (DriveError, current_at, inrush_flux_linkage, magnetizing_current,
-                                  peak_flux_linkage)
+from analytic.magnetizing import (DriveError, current_at, inrush_flux_linkage, inrush_peak,
+                                  magnetizing_current, peak_flux_linkage)
 
 
 def test_peak_flux_linkage_is_the_emf_equation():
@@ -104,3 +104,73 @@ def test_current_at_a_flux_linkage_on_a_linear_and_a_saturating_curve():
     with pytest.raises(DriveError, match="extend it"):
         current_at(i, lam, 2.0)
 
+
+
+def rl_first_peak(v_rms: float, f: float, L: float, R: float, i0: float) -> tuple[float, float]:
+    """The largest current over the first period of L di/dt + R i =
+    sqrt(2) V sin(wt), i(0) = i0, and its time, from the exact solution
+    i = (V_pk/|Z|) sin(wt - phi) + (i0 + (V_pk/|Z|) sin phi) e^(-t R/L),
+    |Z| = sqrt(R^2 + (wL)^2), phi = atan(wL/R) (the classic switched RL
+    circuit), sampled at 2e6 points (test only)."""
+    w = 2 * math.pi * f
+    z, phi = math.hypot(R, w * L), math.atan2(w * L, R)
+    a = math.sqrt(2) * v_rms / z
+    t = np.linspace(0.0, 1.0 / f, 2_000_001)
+    i = a * np.sin(w * t - phi) + (i0 + a * math.sin(phi)) * np.exp(-t * R / L)
+    k = int(np.argmax(i))
+    return float(i[k]), float(t[k])
+
+
+@pytest.mark.parametrize("residual, R", [(0.0, 10.0), (0.5, 10.0), (0.8, 2.0), (0.3, 0.2)])
+def test_damped_inrush_on_a_linear_curve_is_the_switched_rl_circuit(residual, R):
+    # Source: exact solution of the switched series RL circuit (above); a
+    # linear lambda-i curve lambda = L i makes equation (2) that circuit
+    v, f, L = 230.0, 50.0, 0.05
+    lam_pk = peak_flux_linkage(v, f)
+    i = np.linspace(0.0, 3.0 * lam_pk / L, 7)
+    pk = inrush_peak(i, L * i, v, f, residual, R)
+    ref_i, ref_t = rl_first_peak(v, f, L, R, residual * lam_pk / L)
+    assert pk.current == pytest.approx(ref_i, rel=1e-7)
+    assert pk.linkage == pytest.approx(L * ref_i, rel=1e-7)
+    assert pk.time == pytest.approx(ref_t, abs=2e-8)
+
+
+def test_damped_inrush_on_a_saturating_curve_by_an_independent_integration():
+    # Source: the same ODE integrated in the current instead of the flux
+    # linkage, di/dt = (v - R i) / lambda'(i) on the analytic curve
+    # lambda = a tanh(i/b) + c i (scipy's LSODA, its own tolerances; test
+    # only), the peak where v = R i; and without resistance the undamped
+    # bound (2 + r) lambda_pk at wt = pi
+    from scipy.integrate import solve_ivp
+
+    v, f, r, R = 230.0, 50.0, 0.7, 8.0
+    lam_pk = peak_flux_linkage(v, f)
+    a, b, c = 1.1 * lam_pk, 0.05, 0.01
+    i = np.concatenate([np.linspace(0.0, 1.0, 400), np.geomspace(1.0, 600.0, 400)[1:]])
+    lam = a * np.tanh(i / b) + c * i
+    i0 = brentq(lambda x: a * math.tanh(x / b) + c * x - r * lam_pk, 0.0, 1.0, xtol=1e-15)
+    w = 2 * math.pi * f
+
+    def rate(t, y):
+        return [(math.sqrt(2) * v * math.sin(w * t) - R * y[0])
+                / (a / b * (1.0 - math.tanh(y[0] / b) ** 2) + c)]
+
+    def top(t, y):
+        return math.sqrt(2) * v * math.sin(w * t) - R * y[0]
+
+    top.terminal, top.direction = True, -1
+    ref = solve_ivp(rate, (0.0, 1.0 / f), [i0], method="LSODA", rtol=1e-10, atol=1e-12,
+                    events=top, max_step=1e-5)
+    pk = inrush_peak(i, lam, v, f, r, R)
+    # 1e-3: the monotone cubic through 800 samples against the analytic curve
+    assert pk.current == pytest.approx(ref.y_events[0][0][0], rel=1e-3)
+    assert pk.time == pytest.approx(ref.t_events[0][0], rel=1e-4)
+    assert pk.current < 0.5 * inrush_peak(i, lam, v, f, r, 0.0).current
+    undamped = inrush_peak(i, lam, v, f, r, 0.0)
+    assert undamped.linkage == pytest.approx((2 + r) * lam_pk, rel=1e-15)
+    assert undamped.time == pytest.approx(0.5 / f, rel=1e-15)
+    for bad in (-1.0, math.nan, math.inf):
+        with pytest.raises(DriveError, match="resistance"):
+            inrush_peak(i, lam, v, f, r, bad)
+    with pytest.raises(DriveError, match="extend it"):
+        inrush_peak(i[:300], lam[:300], v, f, r, 0.0)
