@@ -56,7 +56,13 @@ class TableReader:
         if name in self.data:
             return self.data[name]
         if default is MISSING:
-            raise CaseError(self.key(name), None, "missing key")
+            # a key in the table that nobody asked for and that is close to
+            # this one is most likely it, misspelt
+            strays = [k for k in self.data if k not in self._used]
+            close = difflib.get_close_matches(name, strays, n=1, cutoff=0.6)
+            hint = (f" ('{self.key(close[0])}' is given: a misspelling of '{name}'?)" if close
+                    else "")
+            raise CaseError(self.key(name), None, "missing key" + hint)
         return default
 
     # -- typed getters -----------------------------------------------------

@@ -233,3 +233,13 @@ def test_fuzz_mutated_windings(mutations):
         limb = case.limbs[w.limb]
         assert w.inner + w.clearance + w.thickness <= min(limb.room_minus, limb.room_plus) \
             * (1 + 1e-9)
+
+
+def test_a_misspelt_required_key_is_named_with_the_missing_one():
+    # a required key given under a misspelt name: the error names both
+    d = demo_dict()
+    d["core"]["depht"] = d["core"].pop("depth")
+    with pytest.raises(CaseError) as info:
+        case_from_dict(d)
+    assert info.value.key == "core.depth"
+    assert "missing key ('core.depht' is given: a misspelling of 'depth'?)" in str(info.value)
