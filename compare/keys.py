@@ -189,7 +189,9 @@ def _to_si(items: list[tuple[str, str]], dim: str) -> list[float]:
     pdim = "dimensionless" if dim == "integer" else dim
     out = []
     for num, unit in items:
-        v = parse_quantity(f"{num} {unit or default}".strip(), pdim)
+        # a number with no unit anywhere in the spec is SI, as an unquoted number in a case file
+        u = unit or default
+        v = parse_quantity(f"{num} {u}" if u else float(num), pdim)
         if not math.isfinite(v):
             raise ValueError(f"'{num}' is not finite")
         if dim == "integer":

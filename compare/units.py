@@ -17,7 +17,7 @@ from __future__ import annotations
 import math
 import re
 
-__all__ = ["UnitError", "Dimension", "DIMENSIONS", "parse_quantity", "format_si"]
+__all__ = ["UnitError", "Dimension", "DIMENSIONS", "SI_UNIT", "parse_quantity", "format_si"]
 
 
 class UnitError(ValueError):
@@ -44,6 +44,14 @@ DIMENSIONS: dict[str, Dimension] = {
     "frequency": (0, 0, -1, 0),
     "resistance": (2, 1, -3, -2),
 }
+
+SI_UNIT: dict[str, str] = {
+    "dimensionless": "", "length": "m", "area": "m^2", "current": "A", "flux density": "T",
+    "field strength": "A/m", "inductance": "H", "flux": "Wb", "current density": "A/m^2",
+    "energy": "J", "force": "N", "time": "s", "voltage": "V", "frequency": "Hz",
+    "resistance": "ohm",
+}
+"""The SI unit each dimension is printed in (with an engineering prefix, format_si)."""
 
 # Unit symbol -> (factor to SI, dimension). All factors are definitions:
 # 1 Oe = 1000/(4 pi) A/m, 1 G = 1e-4 T, 1 in = 25.4 mm, 1 mil = 25.4 um.
@@ -154,7 +162,8 @@ def parse_quantity(value: object, dimension: str) -> float:
         raise UnitError(f"'{value}': {exc}") from None
     if dim != want:
         if not m.group(2).strip():
-            raise UnitError(f"'{value}' has no unit; write a plain number for SI or add a unit")
+            raise UnitError(f"'{value}' has no unit; add one, or write the number unquoted "
+                              "for SI")
         raise UnitError(f"'{value}' is not a {dimension}")
     return number * scale
 

@@ -46,6 +46,8 @@ def test_range_and_list_specs():
     # a unit on one item applies to the items without one
     assert parse_vary("gaps[0].length=0.5,0.8mm").values == pytest.approx((0.5e-3, 0.8e-3))
     assert parse_vary("winding.turns=60:100:5").values == (60, 70, 80, 90, 100)
+    # no unit anywhere: SI, as an unquoted number in a case file
+    assert parse_vary("gaps[0].length=0.0005:0.003:2").values == pytest.approx((5e-4, 3e-3))
 
 
 @pytest.mark.parametrize("spec, words", [
