@@ -464,10 +464,23 @@ def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]
     from .sweep import CURRENT_KEY, curves
 
     x_key = CURRENT_KEY if CURRENT_KEY in res.keys else res.keys[0]
-    x_label = "winding current I (A)" if x_key == CURRENT_KEY else x_key
+    x_scale, x_unit = 1.0, ""
+    if x_key != CURRENT_KEY:
+        from .errors import CaseError
+        from .keys import key_dimension
+        from .units import SI_UNIT
+
+        try:
+            dim = key_dimension(x_key)
+        except CaseError:
+            dim = "dimensionless"
+        # lengths (strokes, gaps) in mm, the rest in SI
+        x_scale, x_unit = (1e3, "mm") if dim == "length" else (1.0, SI_UNIT.get(dim, ""))
+    x_label = ("winding current I (A)" if x_key == CURRENT_KEY
+               else f"{x_key} ({x_unit})" if x_unit else x_key)
 
     def x_of(p):
-        return abs(p.current) if x_key == CURRENT_KEY else p.settings[x_key]
+        return abs(p.current) if x_key == CURRENT_KEY else p.settings[x_key] * x_scale
 
     groups = curves(res) if x_key == CURRENT_KEY else [({}, list(res.points))]
     out = []
