@@ -78,6 +78,17 @@ def test_materials_list_and_plot(tmp_path, capsys):
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert_drawn(png)
     assert main(["materials", "demo-steel"]) == 2
+    # the magnet grades too, with H_c = B_r / (mu0 mu_r) (definition of the
+    # linear recoil line): 0.40 T / (mu0 1.08) = 295 kA/m
+    capsys.readouterr()
+    assert main(["materials", "demo-hard-ferrite"]) == 0
+    row = next(ln for ln in capsys.readouterr().out.splitlines()
+               if ln.startswith("demo-hard-ferrite"))
+    assert row.split()[1:5] == ["0.400", "1.08", "295", "-240"]
+    assert main(["materials"]) == 0
+    assert "demo-rare-earth" in capsys.readouterr().out
+    assert main(["materials", "demo-hard-ferite"]) == 2
+    assert "did you mean 'demo-hard-ferrite'" in capsys.readouterr().err
 
 
 def test_ei_case_runs(tmp_path):

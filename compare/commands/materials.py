@@ -1,4 +1,5 @@
-"""``magcheck materials [NAME] [--plot FILE]``: the built-in B-H curves."""
+"""``magcheck materials [NAME] [--plot FILE]``: the built-in B-H curves and
+magnet grades."""
 
 from __future__ import annotations
 
@@ -6,6 +7,7 @@ import argparse
 import difflib
 import sys
 
+from analytic.magnets import MAGNET_GRADES
 from analytic.materials import builtin, builtin_names
 
 from ..errors import CaseError
@@ -21,17 +23,28 @@ def input_files(args: argparse.Namespace) -> dict[str, str]:
 
 
 def add_args(p: argparse.ArgumentParser) -> None:
-    p.add_argument("name", nargs="?", help="a built-in material")
+    p.add_argument("name", nargs="?", help="a built-in material or magnet grade")
     p.add_argument("--plot", metavar="FILE", help="draw the B-H curve to FILE (.png, .svg or .pdf)")
 
 
 def _get(name: str):
     if name not in builtin_names():
-        close = difflib.get_close_matches(name, builtin_names(), n=1)
+        known = [*builtin_names(), *MAGNET_GRADES]
+        close = difflib.get_close_matches(name, known, n=1)
         hint = f"; did you mean '{close[0]}'?" if close else ""
         raise CaseError("material", name, f"unknown built-in material; known: "
-                                          f"{', '.join(builtin_names())}{hint}")
+                                          f"{', '.join(builtin_names())}; magnet grades: "
+                                          f"{', '.join(MAGNET_GRADES)}{hint}")
     return builtin(name)
+
+
+def _magnets(names: list[str], out) -> None:
+    rows = [[g.name, f"{g.remanence:.3f}", f"{g.mu_r:.3g}", f"{g.coercivity / 1e3:.0f}",
+             f"{g.knee_H / 1e3:.0f}", g.description]
+            for g in (MAGNET_GRADES[n] for n in names)]
+    render_table("built-in magnet grades (linear recoil; invented for the demo)",
+                 ["name", "B_r T", "recoil mu_r", "H_c kA/m", "knee H kA/m", "origin"], rows,
+                 out)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -40,6 +53,12 @@ def run(args: argparse.Namespace) -> int:
         figure_format(args.plot, "--plot")
         if not args.name:
             raise CaseError("--plot", args.plot, "name one material to plot")
+    if args.name in MAGNET_GRADES:
+        if args.plot:
+            raise CaseError("--plot", args.plot, f"'{args.name}' is a magnet grade, a straight "
+                                                 "recoil line: name a B-H material to plot")
+        _magnets([args.name], out)
+        return 0
     names = [args.name] if args.name else builtin_names()
     rows = []
     for n in names:
@@ -50,6 +69,9 @@ def run(args: argparse.Namespace) -> int:
     render_table("built-in B-H curves (invented for the demo)",
                  ["name", "initial mu_r", "B at 1 kA/m T", "B at 10 kA/m T",
                   "last B T", "last H A/m", "origin"], rows, out)
+    if not args.name:
+        out.write("\n")
+        _magnets(list(MAGNET_GRADES), out)
     if args.plot:
         from analytic.plotting import bh_figure
 
