@@ -506,9 +506,11 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                      "inductance at zero current, in both models.")
     fl = r["flux"]
     if math.isfinite(fl.diff_pct) and fl.diff_pct < -3:
+        bypass = ("bypasses the gap" if core_model(case).gap_regions
+                  else "does not follow the core's mean path")
         notes.append(f"The FE carries {-fl.diff_pct:.0f} % more flux in the winding limb than the "
                      "hand model: leakage flux (across the window, round the coil) links the "
-                     "winding but bypasses the gap, and the hand model has no leakage path.")
+                     f"winding but {bypass}, and the hand model has no leakage path.")
     elif math.isfinite(fl.diff_pct) and fl.diff_pct > 3:
         notes.append(f"The hand model carries {fl.diff_pct:.0f} % more flux in the winding limb "
                      "than the FE: its gap permeance (the fringing model) or its core "
@@ -522,7 +524,7 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
     ph = r["path_H"]
     if math.isfinite(ph.diff_pct) and abs(ph.diff_pct) > 5:
         notes.append(f"Path-averaged H differs by {abs(ph.diff_pct):.0f} %: H is not uniform along "
-                     "the mean path; the flux crowds to the inner corners of the window, where H "
+                     "the mean path; the flux crowds to the inner corners of the core, where H "
                      "rises far above the limb average.")
     law = case.material("core").law
     peak = fe.fine.peak_B
@@ -537,6 +539,11 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                  f"{'z' if rz else 'y'} = {y * 1e3:.1f} mm, "
                  "sits at a sharp corner where a 2D model's field is singular; it grows as "
                  "the mesh is refined and is not a design figure.")
+    if any(k.startswith("margin:") for k in r):
+        notes.append("Margin rows (', max', ', min') show the values they are judged on: the "
+                     "FE's" + ("" if rz else " 3D (depth-corrected)") + " value, which sets the "
+                     "verdict unless the label says (hand), and the hand model's"
+                     + ("" if rz else " 3D") + " value beside it for comparison.")
     inr = r.get("inrush_current_peak")
     if inr is not None and math.isfinite(inr.diff_pct) and inr.diff_pct > 20:
         notes.append(f"The hand inrush peak is {inr.diff_pct:.0f} % above the FE's: deep in "

@@ -137,12 +137,12 @@ def write_report(res: CheckResult, folder: str | Path) -> Path:
                               f"{d['inductance_difference_pct']:+.1f}",
                               f"{d['rms_difference_pct']:.1f}"] for d in res.fringing_ranking]))
     if res.breakdown:
-        from .serialize import BREAKDOWN_NOTE, breakdown_rows
+        from .serialize import breakdown_note, breakdown_rows
 
         columns, brows = breakdown_rows(res)
         parts.append("<h2>Where the difference comes from</h2>")
         parts.append(_table(columns, brows))
-        parts.append(f"<p>{html.escape(BREAKDOWN_NOTE)}</p>")
+        parts.append(f"<p>{html.escape(breakdown_note(res))}</p>")
     parts.append("<h2>Figures</h2>")
     for p in figures:
         parts.append(f"<figure><img src='{p.name}' alt='{p.stem}'>"

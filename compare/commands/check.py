@@ -50,7 +50,7 @@ def print_check(res: CheckResult, out) -> None:
 
     form = "axisymmetric" if core_model(c).axisymmetric else "planar"
     render_table(f"{c.name}: hand calc vs {form} FE, N = {w.turns}, I = {w.current:g} A "
-                 f"({res.hand_planar.fringing_model} fringing)", TABLE_COLUMNS, rows, out,
+                 f"(fringing model '{res.hand_planar.fringing_model}')", TABLE_COLUMNS, rows, out,
                  notes=notes)
     if res.fringing_ranking:
         rk = [[d["model"], f"{d['gap_B_difference_pct']:+.1f}", f"{d['flux_difference_pct']:+.1f}",
@@ -59,11 +59,11 @@ def print_check(res: CheckResult, out) -> None:
         render_table("fringing models vs FE (planar form), best first",
                      ["model", "gap B diff %", "flux diff %", "inductance diff %", "RMS %"], rk, out)
     if res.breakdown:
-        from ..serialize import BREAKDOWN_NOTE, breakdown_rows
+        from ..serialize import breakdown_note, breakdown_rows
 
         columns, brows = breakdown_rows(res)
         render_table("where the difference comes from: hand refinements one at a time",
-                     columns, brows, out, notes=[BREAKDOWN_NOTE])
+                     columns, brows, out, notes=[breakdown_note(res)])
     out.write(("PASS: all limits and margins met" if res.passed
                else "FAIL: a limit or margin is not met") + "\n")
     out.write(CAUTION + "\n")
