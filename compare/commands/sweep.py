@@ -30,8 +30,9 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("case", help="TOML case file")
     p.add_argument("--vary", action="append", metavar="KEY=SPEC", default=[],
                    help="key and values: a range start:stop:count (winding.current=0:20A:41) "
-                        "or a list (gaps[0].length=0.5mm,0.8mm); repeat for a grid; default: "
-                        "the case's [sweep]")
+                        "or a list (gaps[0].length=0.5mm,0.8mm); a moving part's stroke gives "
+                        "a force-stroke curve (core.stroke=0.2mm:5mm:13); repeat for a grid "
+                        "(stroke and current: a family of curves); default: the case's [sweep]")
     p.add_argument("--drops", metavar="PCT,...",
                    help="inductance drops (percent) for the saturation current; default 10,20,30")
     p.add_argument("--inductance", choices=("incremental", "secant"),
