@@ -147,6 +147,8 @@ def current_at(currents, linkages, linkage: float) -> float:
     """The current (A) at which a lambda-i curve (samples as for
     :func:`magnetizing_current`) reaches ``linkage`` (Wb-turns), by the same
     monotone cubic.  Raises DriveError when the curve ends below it."""
+    if not math.isfinite(linkage):
+        raise DriveError(f"linkage = {linkage!r} Wb-turns must be finite")
     inv, lo, hi = _inverse(np.asarray(currents, dtype=float), np.asarray(linkages, dtype=float))
     if not (lo <= linkage <= hi):
         raise DriveError(f"the lambda-i curve spans {lo:.6g} .. {hi:.6g} Wb-turns, not "

@@ -103,6 +103,8 @@ def test_current_at_a_flux_linkage_on_a_linear_and_a_saturating_curve():
                       + c * np.linspace(0, 50, 401), 1.3) == pytest.approx(ref, rel=1e-4)
     with pytest.raises(DriveError, match="extend it"):
         current_at(i, lam, 2.0)
+    with pytest.raises(DriveError, match="finite"):
+        current_at(i, lam, math.nan)
 
 
 
