@@ -28,12 +28,47 @@ from .geometry import Gap, Limb, WindingSpec, coil_rects
 from .keys import key_dimension, parse_key, parse_vary
 from .reader import TableReader
 
-__all__ = ["load_case", "case_from_dict", "plausibility_issues"]
+__all__ = ["load_case", "case_from_dict", "plausibility_issues", "referenced_files"]
+
+FILE_KEYS = ("csv", "dxf")
+"""Case keys whose value names a file the case reads (a B-H table, a drawing)."""
 
 MATERIAL_REGIONS = ("core",)
 
 
 # ---------------------------------------------------------------------------
+def referenced_files(path: str | Path) -> dict[str, str]:
+    """The files a case file reads besides itself (path -> what it is): the
+    values of FILE_KEYS anywhere in it, relative to its folder, that exist.
+    For the CLI's output check (no output may overwrite one); a case that
+    cannot be read gives {} here and its own error when it is loaded."""
+    import tomllib
+
+    path = Path(path)
+    try:
+        doc = tomllib.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError):
+        return {}
+    out: dict[str, str] = {}
+
+    def walk(node: object, where: str) -> None:
+        if isinstance(node, dict):
+            for k, v in node.items():
+                key = f"{where}.{k}" if where else str(k)
+                if k in FILE_KEYS and isinstance(v, str):
+                    p = Path(v) if Path(v).is_absolute() else path.parent / v
+                    if p.is_file():
+                        out[str(p)] = f"read by the case ({key} in {path.name})"
+                else:
+                    walk(v, key)
+        elif isinstance(node, list):
+            for i, v in enumerate(node):
+                walk(v, f"{where}[{i}]")
+
+    walk(doc, "")
+    return out
+
+
 def load_case(path: str | Path) -> Case:
     """Read and validate a TOML case file.
 

@@ -199,3 +199,18 @@ def test_help_wording(capsys):
     assert "table and notes then go to standard error" in check
     hand = _help(capsys, ["hand", "-h"])
     assert "- for standard output" in hand
+
+
+@pytest.mark.parametrize("command", ["check", "hand", "verify"])
+def test_an_output_may_not_be_a_file_the_case_reads(command, folder, capsys, no_run):
+    # a case whose core reads a B-H table beside it: that table is an input too
+    (folder / "steel.csv").write_text("H [A/m],B [T]\n0,0\n100,0.5\n1000,1.2\n10000,1.6\n")
+    text = (folder / "case.toml").read_text()
+    (folder / "case.toml").unlink()  # its links keep the old text
+    (folder / "case.toml").write_text(text.replace('core = "demo-sisteel"',
+                                                   'core = { csv = "steel.csv" }'))
+    assert 'csv = "steel.csv"' in (folder / "case.toml").read_text()
+    before = _snapshot(folder)
+    assert main([command, "case.toml", "--json", "steel.csv"]) == 2
+    _refused(capsys, "--json steel.csv: is read by the case (materials.core.csv in case.toml)")
+    assert _snapshot(folder) == before

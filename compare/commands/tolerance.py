@@ -21,7 +21,9 @@ OUTPUTS = {"--json": "file", "--plot": "file"}
 
 def input_files(args: argparse.Namespace) -> dict[str, str]:
     """The files the command reads (path -> what it is); no output may be one."""
-    return {args.case: "the input case file"}
+    from ..casefile import referenced_files
+
+    return {args.case: "the input case file", **referenced_files(args.case)}
 
 
 def add_args(p: argparse.ArgumentParser) -> None:

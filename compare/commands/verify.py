@@ -19,7 +19,12 @@ OUTPUTS = {"--junit": "file", "--json": "file"}
 
 def input_files(args: argparse.Namespace) -> dict[str, str]:
     """The files the command reads (path -> what it is); no output may be one."""
-    files = {str(f): "an input case file" for f in find_cases(args.paths)}
+    from ..casefile import referenced_files
+
+    files = {}
+    for f in find_cases(args.paths):
+        files[str(f)] = "an input case file"
+        files.update(referenced_files(f))
     if args.baseline:
         files[args.baseline] = "the --baseline file"
     return files
