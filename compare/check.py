@@ -544,6 +544,23 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                      "FE's" + ("" if rz else " 3D (depth-corrected)") + " value, which sets the "
                      "verdict unless the label says (hand), and the hand model's"
                      + ("" if rz else " 3D") + " value beside it for comparison.")
+    ls = r.get("leakage_inductance")
+    names = [w.name for w in case.windings]
+    kr = r.get(f"coupling:{names[0]},{names[1]}") if len(names) > 1 else None
+    l11 = r.get(f"L:{names[0]},{names[0]}")
+    if ls is not None and kr is not None and l11 is not None:
+        def k_of(leak: float, self_l: float) -> float:
+            x = 1.0 - leak / self_l if self_l else math.nan
+            return math.sqrt(x) if x >= 0 else math.nan
+
+        notes.append(f"The coupling factor rows are the magnetic circuit's (no leakage path: "
+                     f"k = 1) and the field solution's {'' if rz else 'in-plane '}inductance "
+                     "matrix" + ("" if rz else " (per stack depth: no end turns)") + "; the "
+                     "leakage-inductance row has the classic formula and the FE's balanced "
+                     "ampere-turns" + ("" if rz else " along the mean turn") + ". The coupling "
+                     "that leakage implies, k = sqrt(1 - L_s/L_11): "
+                     f"{k_of(ls.hand, l11.hand_3d):.5f} by hand, "
+                     f"{k_of(ls.fe, l11.fe_3d):.5f} FE.")
     inr = r.get("inrush_current_peak")
     if inr is not None and math.isfinite(inr.diff_pct) and inr.diff_pct > 20:
         notes.append(f"The hand inrush peak is {inr.diff_pct:.0f} % above the FE's: deep in "

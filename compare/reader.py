@@ -86,7 +86,8 @@ class TableReader:
         if not math.isfinite(value):
             raise CaseError(self.key(name), raw, "must be a finite number")
         if positive and (value < 0.0 or (value == 0.0 and not allow_zero)):
-            raise CaseError(self.key(name), raw, "must be positive")
+            raise CaseError(self.key(name), raw,
+                            "must not be negative" if allow_zero else "must be positive")
         return value
 
     def integer(self, name: str, default: Any = MISSING, *, minimum: int | None = None) -> int:

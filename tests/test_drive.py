@@ -83,7 +83,7 @@ def test_hand_peak_flux_density_is_the_emf_equation():
     (lambda d: d["windings"][0].update(residual_flux=math.nan), "windings[0].residual_flux",
      "finite"),
     (lambda d: d["windings"][0].update(resistance="-3 ohm"), "windings[0].resistance",
-     "positive"),
+     "must not be negative"),
     (lambda d: d["windings"][0].update(resistance="3 A"), "windings[0].resistance",
      "not a resistance"),
     (lambda d: d["windings"][0].pop("residual_flux") and d["windings"][0].update(
@@ -167,7 +167,13 @@ def test_linear_core_damped_inrush_is_the_switched_rl_circuit():
     assert res.drive.inrush["fe"] < 0.9 * 2.6 * lam_pk / res.fe.values["inductance"]
     doc = check_json(res)
     assert doc["fe"]["inrush"]["resistance"] == 400.0
-    assert "400 ohm" in {r.key: r for r in res.rows}["inrush_current_peak"].label
+    rows = {r.key: r for r in res.rows}
+    assert "400 ohm" in rows["inrush_current_peak"].label
+    # the note's coupling from the leakage row: L_s = L_11 (1 - k^2) (the
+    # issue's definition), the FE's with its 3D self-inductance
+    k_fe = math.sqrt(1 - rows["leakage_inductance"].fe / rows["L:primary,primary"].fe_3d)
+    note = next(n for n in res.notes if "coupling that leakage implies" in n)
+    assert f"{k_fe:.5f} FE" in note and 0.9 < k_fe < 1.0
 
 
 def _tanh_curve(a: float = 1.0, b: float = 0.2, c: float = 0.01):

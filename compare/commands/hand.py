@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import math
 
 from ..casefile import load_case
 from ..hand import UNITS, HandResult, run_hand
@@ -67,7 +68,9 @@ def print_hand(case, res: HandResult, out) -> None:
         "incremental_inductance": "inductance, incremental d lambda/dI",
         "energy": "stored energy (integral of H dB)",
     }
-    rows2 = [[labels[k], format_si(getattr(res, k), UNITS[k])] for k in labels]
+    # a quantity the case does not have (gap B of a core without a gap) prints as "-"
+    rows2 = [[labels[k], format_si(getattr(res, k), UNITS[k])
+              if math.isfinite(getattr(res, k)) else "-"] for k in labels]
     render_table("operating point", ["quantity", "value"], rows2, out,
                  notes=[f"Newton: {res.iterations} iterations, relative residual "
                         f"{res.residual:.1e}", CAUTION])
