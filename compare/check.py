@@ -545,9 +545,9 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                      "verdict unless the label says (hand), and the hand model's"
                      + ("" if rz else " 3D") + " value beside it for comparison.")
     ls = r.get("leakage_inductance")
-    names = [w.name for w in case.windings]
-    kr = r.get(f"coupling:{names[0]},{names[1]}") if len(names) > 1 else None
-    l11 = r.get(f"L:{names[0]},{names[0]}")
+    wn = [w.name for w in case.windings]
+    kr = r.get(f"coupling:{wn[0]},{wn[1]}") if len(wn) > 1 else None
+    l11 = r.get(f"L:{wn[0]},{wn[0]}")
     if ls is not None and kr is not None and l11 is not None:
         def k_of(leak: float, self_l: float) -> float:
             x = 1.0 - leak / self_l if self_l else math.nan
@@ -574,8 +574,8 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                                             "resistance to damp them)."))
     unc = [row for row in rows if row.key != "peak_B" and row.uncertainty_pct > UNCERTAIN_PCT]
     if unc:
-        names = ", ".join(row.label for row in unc)
-        notes.append(f"FE uncertainty above {UNCERTAIN_PCT:g} % for {names}: refine the mesh "
+        labels = ", ".join(row.label for row in unc)
+        notes.append(f"FE uncertainty above {UNCERTAIN_PCT:g} % for {labels}: refine the mesh "
                      "([fe] mesh_size smaller, gap_elements larger).")
     return tuple(notes)
 
