@@ -569,7 +569,8 @@ def _read_fe(t: TableReader) -> FESettings:
 AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
                   "incremental_inductance", "energy", "force", "force_pull", "B_peak",
                   "magnetizing_current_peak", "magnetizing_current_rms",
-                  "magnetizing_inductance", "leakage_inductance", "inrush_current_peak")
+                  "magnetizing_inductance", "leakage_inductance", "inrush_current_peak",
+                  "B_limb_peak")
 
 
 INDUCTANCE_KINDS = ("secant", "incremental")

@@ -127,6 +127,13 @@ def test_linear_core_fe_magnetizing_current_is_sinusoidal():
     assert res.drive.fe.peak == pytest.approx(lam_pk / L_fe, rel=1e-6)
     assert res.drive.fe.rms == pytest.approx(lam_pk / L_fe / math.sqrt(2), rel=1e-6)
     assert max(res.drive.fe.harmonics_pct.values()) < 1e-3
+    # the limb's mean B at the drive's peak: the limb flux scales with the
+    # current on a linear core, so it is the check's limb flux times
+    # (lambda_pk / L_FE) / I over A_c (exact for a linear field problem)
+    i_case = res.case.winding.current
+    b_limb = res.fe.values["flux"] * (lam_pk / L_fe) / i_case / (25e-3 * 30e-3)
+    assert res.drive.B_limb[1] == pytest.approx(b_limb, rel=1e-6)
+    assert res.drive.B_limb[0] == pytest.approx(lam_pk / (1000 * 25e-3 * 30e-3), rel=1e-12)
     assert res.drive.inrush["fe"] == pytest.approx(2.6 * lam_pk / L_fe, rel=1e-6)
     L = res.hand_planar.inductance
     assert res.drive.inrush["hand"] == pytest.approx(2.6 * lam_pk / L, rel=1e-9)
