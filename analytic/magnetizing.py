@@ -23,7 +23,7 @@ import numpy as np
 from scipy.interpolate import PchipInterpolator
 
 __all__ = ["peak_flux_linkage", "MagnetizingCurrent", "magnetizing_current",
-           "DriveError", "SAMPLES", "inrush_flux_linkage", "current_at", "InrushPeak",
+           "DriveError", "SAMPLES", "inrush_flux_linkage", "InrushPeak",
            "inrush_peak"]
 
 SAMPLES = 256
@@ -141,20 +141,6 @@ def inrush_flux_linkage(lambda_peak: float, residual: float) -> float:
     if not (math.isfinite(residual) and 0.0 <= residual <= 1.0):
         raise DriveError(f"residual = {residual!r} must be a fraction of lambda_pk in [0, 1]")
     return (2.0 + residual) * lambda_peak
-
-
-def current_at(currents, linkages, linkage: float) -> float:
-    """The current (A) at which a lambda-i curve (samples as for
-    :func:`magnetizing_current`) reaches ``linkage`` (Wb-turns), by the same
-    monotone cubic.  Raises DriveError when the curve ends below it."""
-    if not math.isfinite(linkage):
-        raise DriveError(f"linkage = {linkage!r} Wb-turns must be finite")
-    inv, lo, hi = _inverse(np.asarray(currents, dtype=float), np.asarray(linkages, dtype=float))
-    if not (lo <= linkage <= hi):
-        raise DriveError(f"the lambda-i curve spans {lo:.6g} .. {hi:.6g} Wb-turns, not "
-                         f"{linkage:.6g} Wb-turns: extend it")
-    return float(inv(linkage))
-
 
 
 @dataclass(frozen=True)

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from analytic.magnetizing import (DriveError, current_at, inrush_flux_linkage, inrush_peak,
+from analytic.magnetizing import (DriveError, inrush_flux_linkage, inrush_peak,
                                   magnetizing_current, peak_flux_linkage)
 
 
@@ -90,22 +90,22 @@ def test_inrush_flux_linkage_is_faradays_law_from_a_voltage_zero(residual):
             inrush_flux_linkage(lam_pk, bad)
 
 
-def test_current_at_a_flux_linkage_on_a_linear_and_a_saturating_curve():
+def test_undamped_inrush_current_on_a_linear_and_a_saturating_curve():
     # Source: exact for lambda = L i; for the analytic curve
     # lambda = a tanh(i / b) + c i (saturating, slope c at large i) the
-    # current by root-finding, as for the waveform above
-    i = np.linspace(0.0, 50.0, 41)
-    assert current_at(i, 2.5 * i, 60.0) == pytest.approx(24.0, rel=1e-12)
+    # current at (2 + r) lambda_pk by root-finding, as for the waveform above
+    v, f, r = 230.0, 50.0, 0.5
+    lam_in = (2 + r) * peak_flux_linkage(v, f)
+    i = np.linspace(0.0, 300.0, 41)
+    assert inrush_peak(i, 2.5 * i, v, f, r, 0.0).current == pytest.approx(lam_in / 2.5,
+                                                                           rel=1e-12)
     a, b, c = 1.0, 0.2, 0.01
-    lam = a * np.tanh(i / b) + c * i
-    ref = brentq(lambda x: a * math.tanh(x / b) + c * x - 1.3, 0.0, 50.0, xtol=1e-14)
-    assert current_at(np.linspace(0.0, 50.0, 401), a * np.tanh(np.linspace(0, 50, 401) / b)
-                      + c * np.linspace(0, 50, 401), 1.3) == pytest.approx(ref, rel=1e-4)
+    fine = np.linspace(0.0, 300.0, 3001)
+    ref = brentq(lambda x: a * math.tanh(x / b) + c * x - lam_in, 0.0, 300.0, xtol=1e-14)
+    got = inrush_peak(fine, a * np.tanh(fine / b) + c * fine, v, f, r, 0.0).current
+    assert got == pytest.approx(ref, rel=1e-6)
     with pytest.raises(DriveError, match="extend it"):
-        current_at(i, lam, 2.0)
-    with pytest.raises(DriveError, match="finite"):
-        current_at(i, lam, math.nan)
-
+        inrush_peak(i, 0.005 * i, v, f, r, 0.0)  # ends at 1.5 Wb-turns
 
 
 def rl_first_peak(v_rms: float, f: float, L: float, R: float, i0: float) -> tuple[float, float]:
