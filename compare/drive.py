@@ -237,7 +237,7 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
     slope: Any = None
     i_fe, lam_fe, peak_fe, l_fe, flux_fe = [0.0], [0.0], [0.0], [math.nan], [0.0]
 
-    def solve(current: float) -> tuple[float, float]:
+    def solve(current: float) -> None:
         # the tangent predictor: the previous point plus dA/dI times the step
         nonlocal A_prev, slope
         A0 = None if A_prev is None else A_prev + slope * (current - i_fe[-1])
@@ -248,7 +248,6 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
         peak_fe.append(q.peak_B)
         l_fe.append(abs(q.values["incremental_inductance"]))
         flux_fe.append(abs(q.values.get("flux", math.nan)))
-        return lam_fe[-1], l_fe[-1]
 
     for x in targets:
         solve(x)
@@ -351,8 +350,9 @@ def continue_curve(solve: Any, currents: list[float], linkages: list[float],
     (the last incremental inductance ``slopes[-1]``, H) 1 % past it, at most
     3 times the current per step (the curve is concave past saturation, so
     a step lands short of where its tangent aims, never past a point the
-    interpolation needs).  ``solve(i)`` returns (lambda, dlambda/di) at i;
-    when it has not appended them to the lists itself, this function does.
+    interpolation needs).  ``solve(i)`` solves at i and appends i, lambda
+    and dlambda/di to the three lists (as run_drive's warm-started solve
+    does for its own bookkeeping).
 
     Raises RunError when the curve stops short: past ``max_current`` (A),
     after ``max_solves`` solves, or on a slope that is not finite and
@@ -367,11 +367,5 @@ def continue_curve(solve: Any, currents: list[float], linkages: list[float],
         l_last = slopes[-1]
         step = ((1.01 * target - linkages[-1]) / l_last if math.isfinite(l_last) and l_last > 0
                 else math.inf)
-        i_next = min(currents[-1] + step, cap)
-        size = len(currents)
-        lam, slope = solve(i_next)
-        if len(currents) == size:
-            currents.append(i_next)
-            linkages.append(lam)
-            slopes.append(slope)
+        solve(min(currents[-1] + step, cap))
         n += 1

@@ -21,9 +21,9 @@ from typing import Any
 import numpy as np
 
 from .errors import CaseError
-from .units import UnitError, parse_quantity
+from .units import SI_UNIT, UnitError, parse_quantity
 
-__all__ = ["CURRENT_KEY", "SCALE_KEYS", "VarySpec", "parse_key", "key_dimension", "parse_vary",
+__all__ = ["CURRENT_KEY", "SCALE_KEYS", "VarySpec", "parse_key", "key_dimension", "display_unit", "parse_vary",
            "resolve_vary", "set_key", "winding_alias"]
 
 CURRENT_KEY = "winding.current"
@@ -144,6 +144,19 @@ class VarySpec:
 
 def _vary_error(spec: str, where: str, reason: str) -> CaseError:
     return CaseError(where, spec, reason)
+
+
+def display_unit(key: str) -> tuple[float, str]:
+    """How a swept key's SI values are shown: (factor, unit) with lengths
+    (strokes, gaps) in mm and the rest in their SI unit; (1, "") for a count,
+    a plain number or a key without a dimension here."""
+    try:
+        dim = key_dimension(key)
+    except CaseError:
+        return 1.0, ""
+    if dim == "length":
+        return 1e3, "mm"
+    return 1.0, "" if dim == "integer" else SI_UNIT.get(dim, "")
 
 
 def parse_vary(spec: str, *, where: str = "--vary", family: Any = None) -> VarySpec:

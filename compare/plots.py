@@ -464,18 +464,9 @@ def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]
     from .sweep import CURRENT_KEY, curves
 
     x_key = CURRENT_KEY if CURRENT_KEY in res.keys else res.keys[0]
-    x_scale, x_unit = 1.0, ""
-    if x_key != CURRENT_KEY:
-        from .errors import CaseError
-        from .keys import key_dimension
-        from .units import SI_UNIT
+    from .keys import display_unit
 
-        try:
-            dim = key_dimension(x_key)
-        except CaseError:
-            dim = "dimensionless"
-        # lengths (strokes, gaps) in mm, the rest in SI
-        x_scale, x_unit = (1e3, "mm") if dim == "length" else (1.0, SI_UNIT.get(dim, ""))
+    x_scale, x_unit = (1.0, "") if x_key == CURRENT_KEY else display_unit(x_key)
     x_label = ("winding current I (A)" if x_key == CURRENT_KEY
                else f"{x_key} ({x_unit})" if x_unit else x_key)
 

@@ -188,6 +188,20 @@ def _tanh_curve(a: float = 1.0, b: float = 0.2, c: float = 0.01):
     return (lambda i: (a * math.tanh(i / b) + c * i, a / b * (1 - math.tanh(i / b) ** 2) + c))
 
 
+def _lists(f, i0: float = 0.1, slope0: float | None = None):
+    """The curve's lists from (0, 0) and i0, and a solve that appends to them
+    (continue_curve's contract); slope0 overrides the slope at i0."""
+    i, lam, sl = [0.0, i0], [0.0, f(i0)[0]], [math.nan, f(i0)[1] if slope0 is None else slope0]
+
+    def solve(x):
+        y, d = f(x)
+        i.append(x)
+        lam.append(y)
+        sl.append(d)
+
+    return i, lam, sl, solve
+
+
 def test_curve_continuation_reaches_the_target_on_a_saturating_curve():
     # Source: the analytic curve above, its root by brentq (test only); the
     # continuation's last point lies past the target and within the 1 % aim
@@ -197,16 +211,16 @@ def test_curve_continuation_reaches_the_target_on_a_saturating_curve():
     from compare.drive import continue_curve
 
     f = _tanh_curve()
-    i, lam, sl = [0.0, 0.1], [0.0, f(0.1)[0]], [math.nan, f(0.1)[1]]
-    continue_curve(f, i, lam, sl, 1.8, 1e4, 30)
+    i, lam, sl, solve = _lists(f)
+    continue_curve(solve, i, lam, sl, 1.8, 1e4, 30)
     assert lam[-1] >= 1.8 and lam[-2] < 1.8
     assert lam[-1] <= 1.01 * 1.8 + 1e-12
     assert all(b <= 3.0 * a + 1e-12 for a, b in zip(i[1:], i[2:]))
     ref = brentq(lambda x: f(x)[0] - 1.8, 0.0, 1e3, xtol=1e-14)
     assert i[-2] < ref <= i[-1]
     # a NaN slope falls back on the 3x step
-    i2, lam2, sl2 = [0.0, 0.1], [0.0, f(0.1)[0]], [math.nan, math.nan]
-    continue_curve(f, i2, lam2, sl2, 0.9, 1e4, 30)
+    i2, lam2, sl2, solve2 = _lists(f, slope0=math.nan)
+    continue_curve(solve2, i2, lam2, sl2, 0.9, 1e4, 30)
     assert i2[2] == pytest.approx(0.3, rel=1e-15)
 
 
@@ -214,21 +228,13 @@ def test_curve_continuation_that_cannot_reach_says_so():
     from compare.drive import continue_curve
     from compare.errors import RunError
 
-    flat = _tanh_curve(c=0.0)  # never above 1 Wb-turn
+    i, lam, sl, solve = _lists(_tanh_curve(c=0.0))  # never above 1 Wb-turn
     with pytest.raises(RunError, match="short of the inrush"):
-        continue_curve(flat, [0.0, 0.1], [0.0, flat(0.1)[0]], [math.nan, flat(0.1)[1]], 1.5,
-                       1e4, 30)
-    calls = []
-    slow = _tanh_curve(c=1e-9)
-
-    def counted(i):
-        calls.append(i)
-        return slow(i)
-
+        continue_curve(solve, i, lam, sl, 1.5, 1e4, 30)
+    i, lam, sl, solve = _lists(_tanh_curve(c=1e-9))
     with pytest.raises(RunError, match="after 5 solves"):
-        continue_curve(counted, [0.0, 0.1], [0.0, slow(0.1)[0]], [math.nan, slow(0.1)[1]], 1.5,
-                       1e30, 5)
-    assert len(calls) == 5
+        continue_curve(solve, i, lam, sl, 1.5, 1e30, 5)
+    assert len(i) == 2 + 5
 
 
 def test_concentric_leakage_formula_typed_again():

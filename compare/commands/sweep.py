@@ -69,24 +69,15 @@ def _drops(text: str | None, default) -> tuple[float, ...]:
     return vals
 
 
-def _unit_of(key: str) -> str | None:
-    """The SI unit a swept key's values print in (None: a plain count)."""
-    from ..keys import key_dimension
-    from ..units import SI_UNIT
+def _fmt_key(key: str, v: float) -> str:
+    """A swept key's value as compare.keys.display_unit shows it: a count as
+    is, a length (stroke, gap) in mm, the rest in SI with a prefix."""
+    from ..keys import display_unit
 
-    try:
-        dim = key_dimension(key)
-    except CaseError:
-        return None
-    return None if dim in ("integer", "dimensionless") else SI_UNIT.get(dim)
-
-
-def _fmt_key(v: float, unit: str | None) -> str:
-    """A swept key's value: a plain count as is, a length (stroke, gap) in
-    mm, the rest in SI with a prefix."""
-    if unit is None:
-        return f"{v:.4g}"
-    return f"{v * 1e3:.4g} mm" if unit == "m" else _fmt(v, unit)
+    scale, unit = display_unit(key)
+    if unit in ("", "mm"):
+        return f"{v * scale:.4g} {unit}".rstrip()
+    return _fmt(v, unit)
 
 
 def _fmt(v: float, unit: str) -> str:
@@ -102,11 +93,10 @@ def print_sweep(res: SweepResult, margins, sat_table, out) -> None:
     if res.with_fe:
         cols += ["FE L", "FE dL/dI"] + (["FE F", "FE F (VW)"] if force else []) + [
             "FE peak B", "Newton", "start"]
-    units = {k: _unit_of(k) for k in keys}
     rows = []
     for p in res.points:
         vals = dict(p.settings, **{CURRENT_KEY: p.current})
-        r = [_fmt_key(vals[k], units[k]) for k in keys]
+        r = [_fmt_key(k, vals[k]) for k in keys]
         r += [_fmt(p.hand_planar.get("inductance", math.nan), "H"),
               _fmt(p.hand_planar.get("incremental_inductance", math.nan), "H")]
         if force:
