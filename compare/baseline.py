@@ -16,6 +16,10 @@ A baseline file maps a case name to a snapshot of its check: hand values
   the quantity. They are differences of two meshes' values, so they move
   more than the values do; a tenfold change (a wrong estimate) is caught.
 
+``agreement`` stores each agreement row's verdict (older baselines have
+none and stay readable): `magcheck verify` reports a FAIL stored there as a
+known disagreement instead of failing (compare.verify).
+
 The stored ``case_sha256`` ties each entry to the case file it was made from
 (tests/test_cases_regression.py fails when a case file changed without its
 entry being regenerated).
@@ -31,7 +35,8 @@ from pathlib import Path
 from .check import CheckResult
 from .hand import HAND_KEYS
 
-__all__ = ["snapshot", "Drift", "drift", "load_baseline", "HAND_RTOL", "FE_RTOL_FLOOR",
+__all__ = ["snapshot", "Drift", "drift", "load_baseline", "agreement_verdicts",
+           "stored_verdict_changes", "HAND_RTOL", "FE_RTOL_FLOOR",
            "FE_UNC_CAP", "UNITS"]
 
 UNITS = {"gap_B": "T", "core_B": "T", "path_H": "A/m", "flux": "Wb", "flux_linkage": "Wb",
@@ -68,8 +73,30 @@ def snapshot(res: CheckResult) -> dict:
         "fe_3d": {r.key: r.fe_3d for r in res.rows if r.key in HAND_KEYS},
         "margins": {r.key: r.fe if r.fe == r.fe else r.hand for r in res.rows
                     if r.limit_value is not None},
+        # the agreement rows' verdicts (not drift-checked: `magcheck verify`
+        # reports a FAIL stored here as a known disagreement)
+        "agreement": agreement_verdicts(res),
         "case_sha256": res.case.sha256,
     }
+
+
+def agreement_verdicts(res: CheckResult) -> dict[str, str]:
+    """Each agreement row's verdict (rows with an agreement limit), by key."""
+    return {r.key: r.verdict for r in res.rows
+            if r.judges == "agreement" and r.limit_pct is not None}
+
+
+def stored_verdict_changes(current: dict[str, str], stored: dict[str, str]) -> dict[str, str]:
+    """Agreement rows whose FAIL-ness differs from the stored verdict:
+    key -> the stored verdict ("" when the row was not stored).  A change
+    between "pass", "within FE noise" and "inconclusive" is mesh noise, not
+    a change of verdict."""
+    out = {}
+    for k, v in current.items():
+        s = stored.get(k, "")
+        if (v == "FAIL") != (s == "FAIL"):
+            out[k] = s
+    return out
 
 
 @dataclass(frozen=True)

@@ -22,7 +22,8 @@ from .casefile import plausibility_issues
 from .fe import FEResult, run_fe_checked
 from .hand import FORCE_KEYS, HAND_KEYS, UNITS, HandResult, gap_face, run_hand, winding_keys
 
-__all__ = ["Row", "CheckResult", "run_check", "DEFAULT_LIMITS", "LABELS", "rank_fringing"]
+__all__ = ["Row", "CheckResult", "run_check", "DEFAULT_LIMITS", "LABELS", "rank_fringing",
+           "NOISE", "INCONCLUSIVE", "EXIT_DESIGN", "EXIT_AGREEMENT", "AGREEMENT_MODES"]
 
 # Default agreement limits, percent of the FE value. Engineering judgement
 # (common practice, no source): a hand calc within 10 % on the gap and
@@ -100,6 +101,15 @@ class Row:
     limit_kind: str = "max"  # design margins: "max" (value <= limit) or "min" (value >= limit)
 
     @property
+    def judges(self) -> str:
+        """What the row's verdict is about: "design" (a design margin: peak B
+        and the ``margin:`` rows, judged against the case's own limits) or
+        "agreement" (hand calculation against the field solution)."""
+        if self.limit_value is not None or self.key == "peak_B" or self.key.startswith("margin:"):
+            return "design"
+        return "agreement"
+
+    @property
     def uncertainty_pct(self) -> float:
         return 100.0 * self.uncertainty / abs(self.fe) if self.fe else math.nan
 
@@ -110,7 +120,7 @@ class Row:
                 "limit_pct": self.limit_pct, "verdict": self.verdict,
                 "hand_3d": self.hand_3d, "fe_depth_corrected": self.fe_3d,
                 "limit_value": self.limit_value, "margin_pct": self.margin_pct,
-                "limit_kind": self.limit_kind}
+                "limit_kind": self.limit_kind, "judges": self.judges}
 
 
 @dataclass(frozen=True)
@@ -134,22 +144,76 @@ class CheckResult:
     """Two concentric windings: {"hand": L_s, "fe": L_s} referred to the first (H)."""
 
     @property
+    def design_passed(self) -> bool:
+        """The design meets its margins: no design row (peak B, ``margin:``) failed."""
+        return all(r.verdict != "FAIL" for r in self.rows if r.judges == "design")
+
+    @property
+    def agreement_passed(self) -> bool:
+        """The hand calculation agrees with the field solution: no agreement
+        row failed ("inconclusive" rows are not failures; see ``verdict_counts``)."""
+        return all(r.verdict != "FAIL" for r in self.rows if r.judges == "agreement")
+
+    @property
     def passed(self) -> bool:
-        return all(r.verdict != "FAIL" for r in self.rows)
+        """Both verdicts: every design margin met and every agreement limit
+        kept (no row FAIL), as before the two verdicts were split."""
+        return self.design_passed and self.agreement_passed
+
+    def verdict_counts(self, judges: str) -> dict[str, int]:
+        """How many rows of one kind ("design" or "agreement") got each
+        verdict; "within FE noise" counts as a pass, "inconclusive" apart."""
+        out: dict[str, int] = {}
+        for r in self.rows:
+            if r.judges == judges:
+                v = "pass" if r.verdict == NOISE else r.verdict
+                out[v] = out.get(v, 0) + 1
+        return out
+
+    def exit_code_for(self, agreement: str = "fatal") -> int:
+        """1 a design margin failed; else 4 an agreement limit failed (0 with
+        ``agreement="report"``); else 0."""
+        if not self.design_passed:
+            return EXIT_DESIGN
+        if not self.agreement_passed and agreement == "fatal":
+            return EXIT_AGREEMENT
+        return 0
 
     @property
     def exit_code(self) -> int:
-        return 0 if self.passed else 1
+        return self.exit_code_for("fatal")
+
+
+NOISE = "within FE noise"
+"""A passing agreement row whose |hand - FE| is within the FE uncertainty
+(the string JSON readers have always seen)."""
+INCONCLUSIVE = "inconclusive"
+"""An agreement row beyond its limit whose |hand - FE| is within the FE
+uncertainty: the mesh cannot tell; neither pass nor FAIL (refine the mesh)."""
+EXIT_DESIGN = 1
+"""Exit code: a design margin failed."""
+EXIT_AGREEMENT = 4
+"""Exit code: the design margins are met but hand and FE disagree beyond an
+agreement limit (``--agreement report`` makes it 0)."""
+AGREEMENT_MODES = ("fatal", "report")
 
 
 def _verdict(diff_pct: float, hand: float, fe: float, unc: float, limit: float | None) -> str:
+    """An agreement row's verdict: the limit first, then the FE noise.
+
+    Within the limit: "pass" ("within FE noise" when |hand - FE| is also
+    within the FE uncertainty).  Beyond it: "FAIL", unless |hand - FE| is
+    within the uncertainty, when the mesh cannot tell: "inconclusive".
+    Without a limit: "info" (or "within FE noise").
+    """
     if not (math.isfinite(hand) and math.isfinite(fe) and math.isfinite(diff_pct)):
         return "n/a"  # no value, or no relative difference (FE value zero)
-    if math.isfinite(unc) and abs(hand - fe) <= unc:
-        return "within FE noise"
+    noise = math.isfinite(unc) and abs(hand - fe) <= unc
     if limit is None:
-        return "info"
-    return "pass" if abs(diff_pct) <= limit else "FAIL"
+        return NOISE if noise else "info"
+    if abs(diff_pct) <= limit:
+        return NOISE if noise else "pass"
+    return INCONCLUSIVE if noise else "FAIL"
 
 
 def _diff_pct(hand: float, fe: float) -> float:
@@ -429,14 +493,24 @@ def winding_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
     def coupling(v: dict[str, float], j: int, k: int) -> float:
         return coupling_factor(v[l_keys[j][k]], v[l_keys[j][j]], v[l_keys[k][k]])
 
+    # The coupling factor is shown, not judged.  Near 1 a percent difference
+    # of k says nothing about leakage (hand 1 against FE 0.9984 is +0.2 %;
+    # any k from 0.8 to 1 kept a 20 % limit), and 1 - k, the leakage share,
+    # is zero in a network without a leakage path between the windings, so
+    # its difference would be -100 % whatever the design: a verdict that
+    # cannot pass.  What k is made of is judged instead: the self and mutual
+    # inductance rows above and, for a concentric pair, the leakage-
+    # inductance row (README, "Several windings").
     for j in range(n):
         for k in range(j + 1, n):
             fk = coupling(fv, j, k)
+            hk = coupling(hp, j, k)
             f3 = {kk: fv[kk] * ratio(kk) for kk in (l_keys[j][j], l_keys[k][k], l_keys[j][k])}
-            out.append(row(f"coupling:{names[j]},{names[k]}",
-                           f"coupling factor {names[j]},{names[k]}", "", coupling(hp, j, k), fk,
-                           coupling(h3, j, k), coupling(f3, j, k), math.nan,
-                           "incremental_inductance"))
+            d = _diff_pct(hk, fk)
+            out.append(Row(f"coupling:{names[j]},{names[k]}",
+                           f"coupling factor {names[j]},{names[k]}", "", hk, fk, math.nan, d,
+                           None, _verdict(d, hk, fk, math.nan, None),
+                           hand_3d=coupling(h3, j, k), fe_3d=coupling(f3, j, k)))
     return out
 
 
@@ -564,10 +638,19 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                      f"k = 1) and the field solution's {'' if rz else 'in-plane '}inductance "
                      "matrix" + ("" if rz else " (per stack depth: no end turns)") + "; the "
                      "leakage-inductance row has the classic formula and the FE's balanced "
-                     "ampere-turns" + ("" if rz else " along the mean turn") + ". The coupling "
-                     "that leakage implies, k = sqrt(1 - L_s/L_11): "
+                     "ampere-turns" + ("" if rz else " along the mean turn") + "; the coupling "
+                     "factor is shown, not judged (near 1 its percent difference hides the "
+                     "leakage): the inductance rows and the leakage-inductance row judge it. The "
+                     "coupling that leakage implies, k = sqrt(1 - L_s/L_11): "
                      f"{k_of(ls.hand, l11.hand_3d):.5f} by hand, "
-                     f"{k_of(ls.fe, l11.fe_3d):.5f} FE.")
+                     f"{k_of(ls.fe, l11.fe_3d):.5f} FE, a lower bound on |k| (L_s at the "
+                     "turns ratio N1/N2 is L_11 - 2(N1/N2)M + (N1/N2)^2 L_22, least, "
+                     "L_11(1 - k^2), when N1/N2 = M/L_22; equal only then).")
+        if not rz:
+            notes.append("The FE leakage inductance takes its planar energy per depth along the "
+                         "hand formula's own mean turn, so the end turns (outside the window) "
+                         "are tested by neither column: both assume the window's leakage field "
+                         "all round the turn.")
     inr = r.get("inrush_current_peak")
     if inr is not None and math.isfinite(inr.diff_pct) and inr.diff_pct > 20:
         notes.append(f"The hand inrush peak is {inr.diff_pct:.0f} % above the FE's: deep in "
@@ -579,12 +662,24 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                                             else ", and without the winding's resistance "
                                             "they are undamped, an upper bound (give "
                                             "resistance to damp them)."))
+    notes.extend(verdict_notes(rows))
     unc = [row for row in rows if row.key != "peak_B" and row.uncertainty_pct > UNCERTAIN_PCT]
     if unc:
         labels = ", ".join(row.label for row in unc)
         notes.append(f"FE uncertainty above {UNCERTAIN_PCT:g} % for {labels}: refine the mesh "
                      "([fe] mesh_size smaller, gap_elements larger).")
     return tuple(notes)
+
+
+def verdict_notes(rows: tuple[Row, ...]) -> list[str]:
+    """The note on inconclusive rows: beyond the limit, within the FE noise."""
+    inc = [row.label for row in rows if row.verdict == INCONCLUSIVE]
+    if not inc:
+        return []
+    return [f"Inconclusive: {', '.join(inc)}: the difference exceeds the agreement limit but "
+            "lies within the FE uncertainty, so the mesh cannot tell pass from FAIL; refine "
+            "the mesh ([fe] mesh_size smaller, gap_elements larger). Counted neither as pass "
+            "nor as FAIL."]
 
 
 def _inductance_direction(row: Row) -> str:

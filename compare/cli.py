@@ -1,8 +1,10 @@
 """The ``magcheck`` command line: a thin layer over the compare API.
 
 Exit codes (a contract): 0 all well (and every limit and margin met);
-1 a limit or margin failed; 2 bad input; 3 a solve failed; 130 interrupted
-(Ctrl-C). A closed standard output ends the run quietly with 0.
+1 a design margin failed; 2 bad input; 3 a solve failed; 4 the design
+margins met but hand and FE disagree beyond an agreement limit (check and
+verify; 0 with ``--agreement report``; before the two verdicts this was 1);
+130 interrupted (Ctrl-C). A closed standard output ends the run quietly with 0.
 """
 
 from __future__ import annotations
@@ -16,9 +18,10 @@ from typing import Sequence
 
 from .errors import CaseError, RunError
 
-__all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_SOLVE", "EXIT_INTERRUPT"]
+__all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_SOLVE", "EXIT_AGREEMENT",
+           "EXIT_INTERRUPT"]
 
-EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_SOLVE = 0, 1, 2, 3
+EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_SOLVE, EXIT_AGREEMENT = 0, 1, 2, 3, 4
 EXIT_INTERRUPT = 130
 
 

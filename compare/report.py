@@ -8,7 +8,7 @@ from pathlib import Path
 from .check import CheckResult
 from .coremodel import comparison_forms
 from .output import CAUTION, atomic_write_text
-from .serialize import TABLE_COLUMNS, table_cells, versions
+from .serialize import TABLE_COLUMNS, table_cells, verdict_lines, versions
 
 __all__ = ["write_report"]
 
@@ -19,6 +19,7 @@ table { border-collapse: collapse; font-size: 0.9em; }
 td, th { padding: 3px 9px; border-bottom: 1px solid #d5dbe1; text-align: right; }
 td:first-child, th:first-child { text-align: left; }
 .FAIL { color: #b3261e; font-weight: bold; } .pass { color: #1f7a4d; }
+.inconclusive { color: #8a5a00; }
 .caution { background: #fff4e0; border-left: 4px solid #e0a030; padding: 0.6em 1em; }
 figure { margin: 1em 0; } figcaption { font-size: 0.85em; color: #55606b; }
 img { max-width: 100%; }
@@ -32,7 +33,7 @@ def _table(headers, rows) -> str:
         cells = []
         for c in r:
             word = str(c).split(",")[0]
-            cls = f' class="{word}"' if word in ("FAIL", "pass") else ""
+            cls = f' class="{word}"' if word in ("FAIL", "pass", "inconclusive") else ""
             cells.append(f"<td{cls}>{html.escape(str(c))}</td>")
         out.append("<tr>" + "".join(cells) + "</tr>")
     out.append("</table>")
@@ -103,7 +104,7 @@ def _case_text(res: CheckResult) -> str:
         return ""
 
 
-def write_report(res: CheckResult, folder: str | Path) -> Path:
+def write_report(res: CheckResult, folder: str | Path, agreement: str = "fatal") -> Path:
     """Write ``index.html`` and its PNG figures into folder; returns the HTML path."""
     from .plots import caption, save_figures
 
@@ -119,6 +120,10 @@ def write_report(res: CheckResult, folder: str | Path) -> Path:
         f"<p class='caution'>{html.escape(CAUTION)}</p>",
         f"<h2>Hand calculation vs {comparison_forms(case)[1]} — "
         f"{'PASS' if res.passed else 'FAIL'}</h2>",
+        "<ul class='verdicts'>" + "".join(
+            f"<li class='{'pass' if ok else 'FAIL'}'>{html.escape(line)}</li>"
+            for ok, line in zip((res.design_passed, res.agreement_passed),
+                                verdict_lines(res, agreement))) + "</ul>",
         _table(TABLE_COLUMNS, [table_cells(r) for r in res.rows]),
         "<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in res.notes) + "</ul>",
         "<h2>Inputs</h2>",

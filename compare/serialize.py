@@ -15,7 +15,7 @@ from .output import CAUTION
 from .units import format_si
 
 __all__ = ["check_json", "check_csv", "check_markdown", "table_cells", "TABLE_COLUMNS",
-           "versions"]
+           "versions", "verdict_lines"]
 
 TABLE_COLUMNS = ["quantity", "hand", "FE", "FE +/-", "diff %", "limit %", "verdict",
                  "hand 3D", "FE 3D"]
@@ -58,7 +58,29 @@ def table_cells(row: Row) -> list[str]:
             _fmt(row.fe_3d, row.unit)]
 
 
-def check_json(res: CheckResult) -> dict:
+def _counts_text(counts: dict[str, int]) -> str:
+    order = ("pass", "FAIL", "inconclusive", "info", "n/a")
+    parts = [f"{counts[k]} {k}" for k in order if counts.get(k)]
+    parts += [f"{v} {k}" for k, v in counts.items() if k not in order]
+    return ", ".join(parts) or "no rows"
+
+
+def verdict_lines(res: CheckResult, agreement: str = "fatal") -> list[str]:
+    """The two verdicts in words: the design's margins, and the hand
+    calculation's agreement with the field solution (row counts beside)."""
+    design = ("PASS: the design meets its margins" if res.design_passed
+              else "FAIL: the design misses a margin")
+    agree = ("PASS: the hand calculation agrees with the field solution" if res.agreement_passed
+             else "FAIL: hand and FE disagree beyond a limit"
+             + (" (reported only: --agreement report)" if agreement == "report" else ""))
+    inc = res.verdict_counts("agreement").get("inconclusive", 0)
+    if res.agreement_passed and inc:
+        agree += f" where the mesh can tell ({inc} inconclusive: refine the mesh)"
+    return [f"design:    {design} ({_counts_text(res.verdict_counts('design'))})",
+            f"agreement: {agree} ({_counts_text(res.verdict_counts('agreement'))})"]
+
+
+def check_json(res: CheckResult, agreement: str = "fatal") -> dict:
     """The JSON document of a check.
 
     ``hand`` holds the hand calculation exactly as ``magcheck hand`` gives it
@@ -137,8 +159,12 @@ def check_json(res: CheckResult) -> dict:
         "fringing_ranking": list(res.fringing_ranking),
         "difference_breakdown": [st.to_dict() for st in res.breakdown],
         "notes": list(res.notes),
-        "passed": res.passed,
-        "exit_code": res.exit_code,
+        "passed": res.passed,  # both verdicts: design_passed and agreement_passed
+        "design_passed": res.design_passed,
+        "agreement_passed": res.agreement_passed,
+        "verdict_counts": {"design": res.verdict_counts("design"),
+                           "agreement": res.verdict_counts("agreement")},
+        "exit_code": res.exit_code_for(agreement),
         "timings_s": res.timings,
         "versions": versions(),
         "caution": CAUTION,
@@ -184,7 +210,7 @@ def breakdown_rows(res: CheckResult) -> tuple[list[str], list[list[str]]]:
     return columns, rows
 
 
-def check_markdown(res: CheckResult) -> str:
+def check_markdown(res: CheckResult, agreement: str = "fatal") -> str:
     lines = [f"# magcheck: {res.case.name}", "",
              f"Case file `{res.case.source}` (sha256 `{res.case.sha256[:12]}`), family "
              f"`{res.case.family}`, fringing model `{res.hand_planar.fringing_model}`.", "",
@@ -209,6 +235,7 @@ def check_markdown(res: CheckResult) -> str:
                   "| " + " | ".join(columns) + " |", "|" + "---|" * len(columns)]
         lines += ["| " + " | ".join(r) + " |" for r in rows]
         lines += ["", breakdown_note(res)]
-    lines += ["", f"Verdict: {'all limits and margins met' if res.passed else 'FAILED'}.", "",
-              f"*{CAUTION}*", ""]
+    lines += ["", f"Verdict: {'all limits and margins met' if res.passed else 'FAILED'}.", ""]
+    lines += [f"- {v}" for v in verdict_lines(res, agreement)]
+    lines += ["", f"*{CAUTION}*", ""]
     return "\n".join(lines)

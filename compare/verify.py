@@ -8,6 +8,14 @@ of the stored results beyond the tolerances of :mod:`compare.baseline`.
 
 One :class:`Item` per limit, margin or baseline check; an item is one JUnit
 test case. Cases run in parallel processes (one case per task).
+
+Two verdicts: the design (margins, sweeps, baseline drift; a failure exits
+1) and the agreement of the hand calculation with the field solution
+(agreement limits; a failure exits 4, or 0 with ``agreement="report"``).
+A case's stored baseline entry (``--baseline``, or else ``baseline.json``
+beside the case file, made from the same case file) may record an
+agreement row as FAIL: the same FAIL now is a "known disagreement (stored)",
+not a failure; a new FAIL, or a stored FAIL that no longer fails, is one.
 """
 
 from __future__ import annotations
@@ -24,19 +32,28 @@ from typing import Callable, Sequence
 from .errors import CaseError, RunError
 
 __all__ = ["Item", "CaseOutcome", "VerifyResult", "find_cases", "verify_case", "run_verify",
-           "junit_xml", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_SOLVE"]
+           "junit_xml", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_SOLVE", "EXIT_AGREEMENT",
+           "KNOWN", "AGREEMENT_GROUPS"]
 
 log = logging.getLogger(__name__)
 
-EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_SOLVE = 0, 1, 2, 3
+EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_SOLVE, EXIT_AGREEMENT = 0, 1, 2, 3, 4
+
+KNOWN = "known disagreement (stored)"
+"""An agreement FAIL that the case's stored baseline entry records too."""
+AGREEMENT_GROUPS = ("limit", "stored")
+"""Item groups of the agreement verdict; the others (margin, sweep, baseline) are the design's."""
 
 
 @dataclass(frozen=True)
 class Item:
     """One checked figure of one case.
 
-    group : "limit" (hand vs FE agreement), "margin", "sweep" or "baseline".
-    verdict : "pass", "FAIL", "n/a" (could not be judged), or "within FE noise".
+    group : "limit" (hand vs FE agreement), "stored" (an agreement verdict
+        against the stored one), "margin", "sweep" or "baseline".
+    verdict : "pass", "FAIL", "n/a" (could not be judged), "within FE noise",
+        "inconclusive" (beyond the limit, within the FE noise) or
+        "known disagreement (stored)".
     """
 
     group: str
@@ -54,10 +71,16 @@ class Item:
     def failed(self) -> bool:
         return self.verdict == "FAIL"
 
+    @property
+    def judges(self) -> str:
+        """"agreement" (hand vs FE) or "design" (margins, sweeps, baseline drift)."""
+        return "agreement" if self.group in AGREEMENT_GROUPS else "design"
+
     def to_dict(self) -> dict:
         return {"group": self.group, "key": self.key, "label": self.label, "unit": self.unit,
                 "value": self.value, "limit": self.limit, "limit_kind": self.limit_kind,
-                "margin_pct": self.margin_pct, "verdict": self.verdict, "message": self.message}
+                "margin_pct": self.margin_pct, "verdict": self.verdict, "message": self.message,
+                "judges": self.judges}
 
 
 @dataclass(frozen=True)
@@ -79,12 +102,34 @@ class CaseOutcome:
     def failed(self) -> bool:
         return any(i.failed for i in self.items)
 
+    @property
+    def design_passed(self) -> bool:
+        return not any(i.failed for i in self.items if i.judges == "design")
+
+    @property
+    def agreement_passed(self) -> bool:
+        return not any(i.failed for i in self.items if i.judges == "agreement")
+
+    @property
+    def known_disagreements(self) -> int:
+        return sum(i.verdict == KNOWN for i in self.items)
+
 
 @dataclass(frozen=True)
 class VerifyResult:
     outcomes: tuple[CaseOutcome, ...]
     seconds: float
     baseline: str = ""
+    agreement: str = "fatal"
+    """"fatal": an agreement failure exits 4; "report": it is printed, exit 0."""
+
+    @property
+    def design_passed(self) -> bool:
+        return all(o.design_passed for o in self.outcomes)
+
+    @property
+    def agreement_passed(self) -> bool:
+        return all(o.agreement_passed for o in self.outcomes)
 
     @property
     def exit_code(self) -> int:
@@ -92,7 +137,11 @@ class VerifyResult:
             return EXIT_INPUT
         if any(o.status == "solve" for o in self.outcomes):
             return EXIT_SOLVE
-        return EXIT_FAIL if any(o.failed for o in self.outcomes) else EXIT_OK
+        if not self.design_passed:
+            return EXIT_FAIL
+        if not self.agreement_passed and self.agreement == "fatal":
+            return EXIT_AGREEMENT
+        return EXIT_OK
 
 
 def find_cases(paths: Sequence[str | Path]) -> list[Path]:
@@ -123,7 +172,14 @@ def find_cases(paths: Sequence[str | Path]) -> list[Path]:
     return unique
 
 
-def _check_items(res) -> list[Item]:
+def _check_items(res, stored: dict[str, str] | None = None) -> list[Item]:
+    """The check's margin and agreement items; ``stored`` the agreement
+    verdicts of the case's baseline entry (None: none stored)."""
+    from .baseline import stored_verdict_changes
+
+    changed = stored_verdict_changes({r.key: r.verdict for r in res.rows
+                                      if r.judges == "agreement" and r.limit_pct is not None},
+                                     stored) if stored is not None else {}
     items = []
     for r in res.rows:
         if r.limit_value is not None:  # design margin
@@ -131,10 +187,20 @@ def _check_items(res) -> list[Item]:
             items.append(Item("margin", r.key.removeprefix("margin:"), r.label, r.unit, judged,
                               r.limit_value, r.limit_kind, r.margin_pct, r.verdict))
         elif r.limit_pct is not None:  # hand-vs-FE agreement limit, percent
+            verdict = r.verdict
+            message = f"hand {r.hand:.6g} {r.unit}, FE {r.fe:.6g} {r.unit}"
+            if verdict == "FAIL" and stored is not None and stored.get(r.key) == "FAIL":
+                verdict = KNOWN
+                message += "; the baseline entry stores this FAIL (the hand model's known miss)"
             items.append(Item("limit", f"agreement:{r.key}", f"hand vs FE: {r.label}", "%",
                               r.diff_pct, r.limit_pct, "abs", r.limit_pct - abs(r.diff_pct)
-                              if math.isfinite(r.diff_pct) else math.nan, r.verdict,
-                              f"hand {r.hand:.6g} {r.unit}, FE {r.fe:.6g} {r.unit}"))
+                              if math.isfinite(r.diff_pct) else math.nan, verdict, message))
+            if r.key in changed and r.verdict != "FAIL":
+                items.append(Item("stored", f"stored:agreement:{r.key}",
+                                  f"stored verdict: {r.label}", "", math.nan, None, "", math.nan,
+                                  "FAIL", f"now {r.verdict}, stored FAIL: the disagreement is "
+                                          "gone; regenerate the baseline entry "
+                                          "(tools/update_baseline.py)"))
     return items
 
 
@@ -147,7 +213,11 @@ def _margin_item(group: str, m) -> Item:
 def verify_case(path: str, stored: dict | None = None, *, use_baseline: bool = False,
                 estimate_error: bool = True) -> CaseOutcome:
     """Check one case file (runs in a worker process; never raises for bad input
-    or failed solves: they come back as the outcome's status)."""
+    or failed solves: they come back as the outcome's status).
+
+    ``stored`` the case's baseline entry: its agreement verdicts mark known
+    disagreements (when made from the same case file); with ``use_baseline``
+    its values are also checked for drift."""
     from .baseline import drift, snapshot
     from .check import run_check
     from .sweep import case_source, parse_vary, run_sweep, sweep_margins
@@ -162,7 +232,8 @@ def verify_case(path: str, stored: dict | None = None, *, use_baseline: bool = F
         specs_per_sweep = [[parse_vary(v, where="sweep.vary", family=case.family_model)
                             for v in decl.vary] for decl in case.sweeps]
         res = run_check(case, estimate_error=estimate_error)
-        items += _check_items(res)
+        same = stored is not None and stored.get("case_sha256") in (None, "", case.sha256)
+        items += _check_items(res, stored.get("agreement") if same and stored else None)
         for decl, specs in zip(case.sweeps, specs_per_sweep):
             sw = run_sweep(src, specs, workers=1)
             if not sw.converged:
@@ -221,8 +292,13 @@ def _run_task(t: _Task) -> CaseOutcome:
 def run_verify(paths: Sequence[str | Path], *, baseline: str | Path | None = None,
                workers: int | None = None, scheduler: str | None = None,
                estimate_error: bool = True,
-               on_done: Callable[[int, int], None] | None = None) -> VerifyResult:
+               on_done: Callable[[int, int], None] | None = None,
+               agreement: str = "fatal", stored_verdicts: bool = True) -> VerifyResult:
     """Verify every case under ``paths`` (see module doc).
+
+    Without ``baseline`` the stored agreement verdicts come from a
+    ``baseline.json`` beside each case file, when there is one
+    (``stored_verdicts=False``: none); no drift is checked then.
 
     Raises
     ------
@@ -244,6 +320,7 @@ def run_verify(paths: Sequence[str | Path], *, baseline: str | Path | None = Non
         if not isinstance(stored_all, dict):
             raise CaseError("--baseline", str(baseline), "must map case names to results")
     tasks = []
+    beside: dict[Path, dict] = {}
     first_file: dict[str, Path] = {}
     for f in files:
         name = _case_name(f)
@@ -252,11 +329,34 @@ def run_verify(paths: Sequence[str | Path], *, baseline: str | Path | None = Non
                                                f"{f}: give each case its own name")
         if name is not None:
             first_file[name] = f
-        tasks.append(_Task(str(f), stored_all.get(name), baseline is not None, estimate_error))
+        if baseline is not None:
+            entry = stored_all.get(name)
+        elif stored_verdicts and name is not None:
+            entry = _beside(f, beside).get(name)
+        else:
+            entry = None
+        tasks.append(_Task(str(f), entry, baseline is not None, estimate_error))
     outcomes, _ = run_tasks(_run_task, tasks, workers=workers, scheduler=scheduler,
                             on_done=on_done)
     return VerifyResult(tuple(outcomes), time.perf_counter() - t0,
-                        str(baseline) if baseline else "")
+                        str(baseline) if baseline else "", agreement)
+
+
+def _beside(case_file: Path, cache: dict[Path, dict]) -> dict:
+    """The ``baseline.json`` in a case file's folder ({} when there is none
+    or it is not a JSON object of entries; read once per folder and run)."""
+    folder = case_file.resolve().parent
+    if folder not in cache:
+        data: dict = {}
+        try:
+            loaded = json.loads((folder / "baseline.json").read_text())
+            data = loaded if isinstance(loaded, dict) else {}
+        except FileNotFoundError:
+            pass
+        except (OSError, ValueError) as exc:
+            log.warning("%s: not read for stored verdicts (%s)", folder / "baseline.json", exc)
+        cache[folder] = {k: v for k, v in data.items() if isinstance(v, dict)}
+    return cache[folder]
 
 
 def _case_name(path: Path) -> str | None:
@@ -303,6 +403,12 @@ def junit_xml(res: VerifyResult) -> str:
         cases = list(o.items)
         suite = ET.SubElement(suites, "testsuite", name=o.name, file=o.file,
                               time=f"{o.seconds:.3f}")
+        props = ET.SubElement(suite, "properties")
+        for pname, pvalue in (("design_passed", o.design_passed),
+                              ("agreement_passed", o.agreement_passed),
+                              ("known_disagreements", o.known_disagreements)):
+            ET.SubElement(props, "property", name=pname,
+                          value=str(pvalue).lower() if isinstance(pvalue, bool) else str(pvalue))
         nfail = nerr = nskip = 0
         for it in cases:
             tc = ET.SubElement(suite, "testcase", classname=f"magcheck.{o.name}", name=it.key,
@@ -312,12 +418,12 @@ def junit_xml(res: VerifyResult) -> str:
                 nfail += 1
                 f = ET.SubElement(tc, "failure", message=text, type=it.group)
                 f.text = text
-            elif it.verdict == "n/a":
+            elif it.verdict in ("n/a", "inconclusive"):
                 nskip += 1
-                ET.SubElement(tc, "skipped", message=text)
+                ET.SubElement(tc, "skipped", message=f"{it.verdict}: {text}")
             else:
                 out = ET.SubElement(tc, "system-out")
-                out.text = text
+                out.text = f"{KNOWN}: {text}" if it.verdict == KNOWN else text
         if o.status != "ok":
             nerr += 1
             tc = ET.SubElement(suite, "testcase", classname=f"magcheck.{o.name}",

@@ -11,7 +11,8 @@ from ..executor import Progress
 from ..output import (CAUTION, STDOUT_HELP, atomic_write_text, render_table,
                       text_stream, write_json)
 from ..units import format_si
-from ..verify import VerifyResult, find_cases, item_text, junit_xml, run_verify
+from ..verify import KNOWN, VerifyResult, find_cases, item_text, junit_xml, run_verify
+from .check import add_agreement_arg
 
 OUTPUTS = {"--junit": "file", "--json": "file"}
 """Output options and what each writes (checked before the run)."""
@@ -42,6 +43,10 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--workers", type=int, help="worker processes (default: one per core)")
     p.add_argument("--scheduler", metavar="ADDRESS",
                    help="dask.distributed scheduler (default $DASK_SCHEDULER_ADDRESS)")
+    add_agreement_arg(p)
+    p.add_argument("--no-stored-verdicts", action="store_true",
+                   help="judge every agreement row afresh: no 'known disagreement (stored)' from "
+                        "the baseline.json beside the case files (or --baseline)")
 
 
 def _value(v: float, unit: str) -> str:
@@ -76,12 +81,34 @@ def print_verify(res: VerifyResult, out) -> None:
         for it in o.items:
             if it.failed:
                 notes.append(f"FAIL {o.name}: {item_text(it)}")
+            elif it.verdict == KNOWN:
+                notes.append(f"{KNOWN} {o.name}: {item_text(it)}")
     render_table("magcheck verify", ["case", "check", "value", "limit", "margin left", "verdict"],
                  rows, out, notes=notes)
+    for line in verify_verdict_lines(res):
+        out.write(line + "\n")
     code = res.exit_code
-    out.write({0: "PASS: every limit and margin met", 1: "FAIL: a limit or margin is not met",
-               2: "ERROR: bad input", 3: "ERROR: a solve failed"}[code] + "\n")
+    out.write({0: "PASS: every limit and margin met" if res.agreement_passed
+               else "PASS: every design margin met (agreement FAIL reported only)",
+               1: "FAIL: a design margin is not met",
+               2: "ERROR: bad input", 3: "ERROR: a solve failed",
+               4: "FAIL: hand and FE disagree beyond a limit (the design margins are met)"}[code]
+              + "\n")
     out.write(CAUTION + "\n")
+
+
+def verify_verdict_lines(res: VerifyResult) -> list[str]:
+    """The two verdicts over every case (design; hand-vs-FE agreement)."""
+    bad_d = [o.name for o in res.outcomes if not o.design_passed]
+    bad_a = [o.name for o in res.outcomes if not o.agreement_passed]
+    known = sum(o.known_disagreements for o in res.outcomes)
+    design = ("PASS: every design meets its margins" if not bad_d
+              else f"FAIL: a margin missed in {', '.join(bad_d)}")
+    agree = ("PASS: the hand calculations agree with the field solutions" if not bad_a
+             else f"FAIL: hand and FE disagree beyond a limit in {', '.join(bad_a)}")
+    if known:
+        agree += f"; {known} known disagreement(s) (stored in the baseline entries)"
+    return [f"design:    {design}", f"agreement: {agree}"]
 
 
 def run(args: argparse.Namespace) -> int:
@@ -93,7 +120,8 @@ def run(args: argparse.Namespace) -> int:
     with Progress("verify") as bar:
         res = run_verify(args.paths, baseline=args.baseline, workers=args.workers,
                          scheduler=args.scheduler, estimate_error=not args.no_error_estimate,
-                         on_done=bar)
+                         on_done=bar, agreement=args.agreement,
+                         stored_verdicts=not args.no_stored_verdicts)
     print_verify(res, text_stream(args.json, args.junit))
     for o in res.outcomes:
         if o.status != "ok":
@@ -105,6 +133,10 @@ def run(args: argparse.Namespace) -> int:
         write_json(args.json, {
             "cases": [{"file": o.file, "name": o.name, "status": o.status, "error": o.error,
                        "seconds": o.seconds, "items": [i.to_dict() for i in o.items],
-                       "saturation_current": list(o.saturation)} for o in res.outcomes],
+                       "saturation_current": list(o.saturation),
+                       "design_passed": o.design_passed,
+                       "agreement_passed": o.agreement_passed,
+                       "known_disagreements": o.known_disagreements} for o in res.outcomes],
+            "design_passed": res.design_passed, "agreement_passed": res.agreement_passed,
             "exit_code": res.exit_code, "caution": CAUTION})
     return res.exit_code
