@@ -179,6 +179,7 @@ def test_disagreement_with_margins_met_exits_4_design_passed(wide_gap, capsys):
     assert "the design meets its margins" in html and "disagree beyond a limit" in html
 
 
+@pytest.mark.slow
 def test_agreement_report_exits_0_and_a_failed_margin_exits_1(wide_gap, tmp_path, capsys):
     path, _, _ = wide_gap
     capsys.readouterr()
@@ -199,6 +200,7 @@ def test_agreement_report_exits_0_and_a_failed_margin_exits_1(wide_gap, tmp_path
 
 
 # ----------------------------------------------------------------- verify
+@pytest.mark.slow
 def test_verify_two_verdicts_junit_and_known_disagreements(wide_gap, tmp_path, capsys):
     path, _, _ = wide_gap
     folder = tmp_path / "cases"
