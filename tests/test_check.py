@@ -206,17 +206,19 @@ def test_check_outputs(choke_run):
     assert len(m.points) > 1000
 
 
-def test_margin_failure_exit_1(tmp_path):
-    d = choke_dict()
-    d["margins"] = {"agreement": {"inductance": 1.0}}
+def test_agreement_failure_exit_4(tmp_path):
+    # an agreement limit failed, no design margin: exit 4 (exit 1 before the
+    # two verdicts; README "Exit codes"), design_passed true
     p = tmp_path / "tight.toml"
     text = (CASES / "demo_choke.toml").read_text().replace(
         "[margins]", "[margins]\nagreement = { inductance = 1.0 }")
     p.write_text(text)
-    assert main(["check", str(p), "--no-error-estimate", "--json", str(tmp_path / "o.json")]) == 1
+    assert main(["check", str(p), "--no-error-estimate", "--json", str(tmp_path / "o.json")]) == 4
     data = json.loads((tmp_path / "o.json").read_text())
     row = next(r for r in data["comparison"] if r["quantity"] == "inductance")
     assert row["verdict"] == "FAIL" and row["limit_pct"] == 1.0
+    assert data["design_passed"] is True and data["agreement_passed"] is False
+    assert data["passed"] is False and data["exit_code"] == 4
 
 
 def test_bad_input_exit_2(tmp_path, capsys):

@@ -129,6 +129,10 @@ def print_sweep(res: SweepResult, margins, sat_table, out) -> None:
                        ("<= " if m.kind == "max" else ">= ") + _fmt(m.limit, m.unit),
                        "-" if not math.isfinite(m.margin_pct) else f"{m.margin_pct:+.1f} %",
                        m.verdict, m.basis, m.note] for m in margins], out)
+        failed = any(m.verdict == "FAIL" for m in margins)
+        out.write("design:    " + ("FAIL: a margin along the sweep is missed" if failed else
+                                   "PASS: the design meets its margins along the sweep")
+                  + " (hand-vs-FE agreement is judged by check and verify)\n")
     out.write(CAUTION + "\n")
 
 
