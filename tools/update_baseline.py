@@ -5,7 +5,11 @@ deliberate change of results, and say in the commit why the values moved.
     PYTHONPATH=. python tools/update_baseline.py --all [--folder cases]
 
 It refuses to run without naming the cases (or --all), prints every value it
-changes (old, new, relative change) and writes the file atomically.
+changes (old, new, relative change) and writes the file atomically. Each
+entry stores the agreement rows' verdicts too (``agreement``): a FAIL stored
+there is what `magcheck verify` reports as a known disagreement, so a demo
+whose hand model misses something stays visible without failing CI; name
+in the commit why a verdict is stored as FAIL.
 """
 
 from __future__ import annotations
