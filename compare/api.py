@@ -54,7 +54,9 @@ def fe(case: Case, *, estimate_error: bool = True):
 
 def check(case: Case, *, estimate_error: bool = True):
     """Both models side by side (:class:`compare.check.CheckResult`): rows
-    with hand, FE, difference, FE uncertainty and verdict; ``.passed``."""
+    with hand, FE, difference, FE uncertainty and verdict; ``.design_passed``
+    (the design meets its margins), ``.agreement_passed`` (the hand
+    calculation agrees with the field solution), ``.passed`` (both)."""
     from .check import run_check
 
     return run_check(case, estimate_error=estimate_error)

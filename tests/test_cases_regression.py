@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pytest
 
-from compare.baseline import drift, snapshot
+from compare.baseline import drift, snapshot, stored_verdict_changes
 from compare.casefile import load_case
 from compare.check import run_check
 
@@ -24,6 +24,16 @@ CASE_FILES = sorted(CASES.glob("*.toml"))
 def test_every_case_has_a_baseline():
     names = {load_case(p).name for p in CASE_FILES}
     assert names == set(BASELINE)
+
+
+def test_every_baseline_entry_stores_its_agreement_verdicts():
+    # `magcheck verify cases/` (CI) reads them to tell a known disagreement
+    # from a new one (compare.verify); values are verdict strings
+    for name, entry in BASELINE.items():
+        verdicts = entry.get("agreement")
+        assert verdicts and "inductance" in verdicts, name
+        assert set(verdicts.values()) <= {"pass", "within FE noise", "FAIL", "inconclusive",
+                                          "n/a", "info"}, name
 
 
 @pytest.mark.parametrize("path", CASE_FILES, ids=[p.stem for p in CASE_FILES])
@@ -42,7 +52,12 @@ def test_case_matches_baseline(path):
     case = load_case(path)
     res = run_check(case)
     stored = BASELINE[case.name]
-    moved = drift(snapshot(res), stored)
+    current = snapshot(res)
+    moved = drift(current, stored)
     assert not moved, "\n".join(str(d) for d in moved)
+    # the stored agreement verdicts (the known disagreements `magcheck
+    # verify` accepts) are this code's: a FAIL gained or lost is a stale entry
+    changed = stored_verdict_changes(current["agreement"], stored.get("agreement", {}))
+    assert not changed, f"agreement verdicts changed from the stored ones: {changed}"
     # Every demo case is invented and says so.
     assert "invented for the demo" in path.read_text().lower()
