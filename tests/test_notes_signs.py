@@ -220,3 +220,44 @@ def test_residue_below_the_row_floor_prints_as_zero():
     assert table_cells(row(2e-9, 3.2e-6))[1] == "2 nWb"  # small but a value: kept
     assert table_cells(row(-3.2e-6, 3.1e-6))[1] == "-3.2 uWb"
     assert table_cells(row(math.nan, 1e-6))[1] == "-"
+
+
+def _reversed_ring(current: float) -> dict:
+    """tests/test_drawn.py's magnet ring (B_r 1.2 T up its right limb) with
+    the coil's go and return sides swapped and its circuit branch reversed
+    (windings = {main = "-iron"}): a positive current now drives the flux
+    against the magnet's, so here a positive current releases."""
+    import sys
+
+    sys.path.insert(0, str(ROOT / "tests"))
+    from test_drawn import _magnet_ring
+
+    d = _magnet_ring()
+    d["fe"]["mesh_size"] = "2 mm"
+    d["regions"][2]["side"] = "return"
+    del d["regions"][3]["side"]
+    d["circuit"]["windings"] = {"main": "-iron"}
+    d["windings"][0]["current"] = current
+    return d
+
+
+@pytest.mark.slow
+def test_a_magnet_against_the_coil_signs_positive_in_both_models():
+    # Source: definition (compare.hand.signed): values along the magnet's own
+    # direction, whichever way the coil is wound.  Closed ring, iron mu_r 1e5:
+    # 500 A-turns against the magnet's B_r l_m/(mu0 mu_r) = 1.82 kA-turns
+    # moves the magnet's B by 0.33 T on the load line without reversing it.
+    from compare.fe import run_fe
+
+    seen = {}
+    for i in (-500.0, 0.0, 500.0):
+        case = case_from_dict(_reversed_ring(i))
+        assert magnet_sense(case) == -1
+        h = run_hand(case)
+        q, _, _ = run_fe(case)
+        for name, v in (("hand", h.values()), ("FE", q.values)):
+            assert v["flux"] > 0 and v["flux_linkage"] > 0, (i, name)
+        seen[i] = (h.magnet_values["magnet_B"], q.magnet_values["magnet_B"])
+    # the positive current opposes this magnet in both models
+    for k in (0, 1):
+        assert seen[500.0][k] < seen[0.0][k] < seen[-500.0][k]
