@@ -646,8 +646,11 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
             x = 1.0 - leak / self_l if self_l else math.nan
             return math.sqrt(x) if x >= 0 else math.nan
 
-        notes.append(f"The coupling factor rows are the magnetic circuit's (no leakage path: "
-                     f"k = 1) and the field solution's {'' if rz else 'in-plane '}inductance "
+        # the hand network couples perfectly unless its circuit has leakage paths
+        hand_k = ("no leakage path: k = 1" if abs(abs(kr.hand) - 1.0) < 1e-9
+                  else f"k = {kr.hand:.5f} with its leakage paths")
+        notes.append(f"The coupling factor rows are the magnetic circuit's ({hand_k}) "
+                     f"and the field solution's {'' if rz else 'in-plane '}inductance "
                      "matrix" + ("" if rz else " (per stack depth: no end turns)") + "; the "
                      "leakage-inductance row has the classic formula and the FE's balanced "
                      "ampere-turns" + ("" if rz else " along the mean turn") + ". The coupling "

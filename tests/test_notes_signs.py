@@ -261,3 +261,22 @@ def test_a_magnet_against_the_coil_signs_positive_in_both_models():
     # the positive current opposes this magnet in both models
     for k in (0, 1):
         assert seen[500.0][k] < seen[0.0][k] < seen[-500.0][k]
+
+
+def test_coupling_note_says_k_1_only_when_the_hand_k_is_1():
+    case = load_case(ROOT / "cases" / "demo_ei_transformer.toml")
+    a, b = (w.name for w in case.windings)
+    hand = SimpleNamespace(fringing_model="area", leakage_permeance=0.0)
+
+    def notes(k_hand: float) -> str:
+        extra = (Row("leakage_inductance", "leakage", "H", 1e-5, 1.1e-5, math.nan, -9.0, 25.0,
+                     "pass", hand_3d=1e-5, fe_3d=1.1e-5),
+                 Row(f"coupling:{a},{b}", "k", "", k_hand, 0.998, math.nan, 0.1, 20.0, "pass",
+                     hand_3d=k_hand, fe_3d=0.998),
+                 Row(f"L:{a},{a}", "L", "H", 1e-2, 1e-2, math.nan, 0.0, 20.0, "pass",
+                     hand_3d=1e-2, fe_3d=1e-2))
+        return " ".join(explain(case, _rows(case, {}) + extra, hand, _fe(0.5, 0.9)))
+
+    assert "no leakage path: k = 1" in notes(1.0)
+    low = notes(0.98)
+    assert "k = 1" not in low and "k = 0.98000 with its leakage paths" in low
