@@ -614,10 +614,15 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                      "not uniform along the mean path; the flux crowds to the inner corners of "
                      "the core, where H rises far above the limb average.")
     elif math.isfinite(ph.diff_pct) and ph.diff_pct > 5:
-        notes.append(f"Path-averaged H is {ph.diff_pct:.0f} % higher by hand than in the FE: the "
-                     "hand model carries each branch's flux at a uniform B over its section, "
-                     "where the field solution's flux spreads (round corners, into wider parts) "
-                     "at a lower B along the mean path.")
+        cb = r["core_B"].diff_pct
+        why = ("the hand model carries each branch's flux at a uniform B over its section "
+               f"(core B {cb:+.0f} %), where the field solution's flux spreads (round corners, "
+               "into wider parts) at a lower B along the mean path."
+               if math.isfinite(cb) and cb > 0 else
+               "the hand model's iron takes more MMF than the field solution's along the "
+               "mean path.")
+        notes.append(f"Path-averaged H is {ph.diff_pct:.0f} % higher by hand than in the FE: "
+                     + why)
     law = case.material("core").law
     peak = fe.fine.peak_B
     knee = _knee(law)

@@ -123,6 +123,10 @@ def test_corner_crowding_note_only_where_the_fe_h_is_higher():
     # hand above the FE: the crowding cannot explain it
     above = _notes(case, {"path_H": 20.0})
     assert "crowds" not in above and "20 % higher by hand" in above
+    # the spreading at a lower B is claimed only where the core B row shows it
+    assert "lower B" in _notes(case, {"path_H": 20.0, "core_B": 8.0})
+    assert "lower B" not in above and "lower B" not in _notes(case, {"path_H": 20.0,
+                                                                      "core_B": -8.0})
     assert "Path-averaged H" not in _notes(case, {"path_H": 2.0})
 
 
