@@ -605,9 +605,14 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
     g = r["gap_B"]
     if math.isfinite(g.diff_pct) and abs(g.diff_pct) > 3:
         side = "over" if g.diff_pct > 0 else "under"
-        notes.append(f"The fringing model {side}states the gap B by {abs(g.diff_pct):.0f} %: the "
-                     "field spreads beyond the pole faces differently from the model's assumed "
-                     "fringing area.")
+        if hand_p.fringing_model == "none":
+            notes.append(f"The ideal gap (no fringing) {side}states the gap B by "
+                         f"{abs(g.diff_pct):.0f} %: the field spreads beyond the pole faces, "
+                         "which the hand model's bare face area leaves out.")
+        else:
+            notes.append(f"The fringing model {side}states the gap B by {abs(g.diff_pct):.0f} %: "
+                         "the field spreads beyond the pole faces differently from the model's "
+                         "assumed fringing area.")
     ph = r["path_H"]
     if math.isfinite(ph.diff_pct) and ph.diff_pct < -5:
         notes.append(f"Path-averaged H is {-ph.diff_pct:.0f} % higher in the FE than by hand: H is "

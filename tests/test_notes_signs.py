@@ -284,3 +284,12 @@ def test_coupling_note_says_k_1_only_when_the_hand_k_is_1():
     assert "no leakage path: k = 1" in notes(1.0)
     low = notes(0.98)
     assert "k = 1" not in low and "k = 0.98000 with its leakage paths" in low
+
+
+def test_gap_note_blames_a_fringing_model_only_when_there_is_one():
+    case = load_case(ROOT / "cases" / "demo_choke.toml")
+    with_model = _notes(case, {"gap_B": -8.0})
+    assert "The fringing model understates the gap B by 8 %" in with_model
+    bare = _notes(case, {"gap_B": -8.0}, hand=run_hand(case, planar=True, fringing="none"))
+    assert "fringing model" not in bare and "The ideal gap (no fringing) understates" in bare
+    assert "gap B by" not in _notes(case, {"gap_B": 1.0})
