@@ -20,10 +20,12 @@ from .case import Case
 
 from .casefile import plausibility_issues
 from .fe import FEResult, run_fe_checked
-from .hand import FORCE_KEYS, HAND_KEYS, UNITS, HandResult, gap_face, run_hand, winding_keys
+from .hand import (FORCE_KEYS, HAND_KEYS, UNITS, HandResult, cancelling_windings, gap_face,
+                   run_hand, winding_keys)
 from .units import format_si
 
-__all__ = ["Row", "CheckResult", "run_check", "DEFAULT_LIMITS", "LABELS", "rank_fringing"]
+__all__ = ["Row", "CheckResult", "run_check", "DEFAULT_LIMITS", "LABELS", "rank_fringing",
+           "cancelling_windings", "NET_MMF_KEYS"]
 
 # Default agreement limits, percent of the FE value. Engineering judgement
 # (common practice, no source): a hand calc within 10 % on the gap and
@@ -358,41 +360,9 @@ The secant inductance there is its small-signal limit, the incremental
 inductance at zero current, in both models."""
 
 
-CANCEL_FLOOR = 1e-9
-"""Relative floor of :func:`cancelling_windings`: a winding's flux linkage
-below this fraction of what its own and the other windings' currents drive
-through it (sum over j of |L_kj I_j|) is float residue of a cancellation."""
-
 NET_MMF_KEYS = (*ZERO_AT_ZERO_CURRENT, "inductance")
 """The rows that follow the net MMF around the core: n/a when the windings'
 fields cancel (:func:`cancelling_windings`)."""
-
-
-def cancelling_windings(case: Case, hand: HandResult) -> tuple[str, ...]:
-    """The windings whose fields cancel in the hand network, or ().
-
-    Two or more windings with current, no magnet, and every winding's flux
-    linkage (Wb) at float residue: below CANCEL_FLOOR of the sum over j of
-    |L_kj I_j| (the incremental inductance matrix times the currents: what
-    each winding's own MMF drives through winding k).  The net MMF around
-    the core's loop is then zero: the hand network carries no flux at all,
-    and the field solution only the leakage round the coils, so flux, gap
-    B, core B, path H, flux linkage, lambda/I and energy have nothing to
-    compare.  Returns the names of the windings with current.
-    """
-    from .coremodel import core_model
-
-    active = [w for w in case.windings if w.current != 0.0]
-    if len(active) < 2 or core_model(case).magnets:
-        return ()
-    lam_keys, l_keys = winding_keys(case)
-    v = hand.winding_values
-    for k, lk in enumerate(lam_keys):
-        scale = sum(abs(v[l_keys[min(k, j)][max(k, j)]] * w.current)
-                    for j, w in enumerate(case.windings))
-        if not (scale > 0 and abs(v[lk]) <= CANCEL_FLOOR * scale):
-            return ()
-    return tuple(w.name for w in active)
 
 
 def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult) -> tuple[Row, ...]:

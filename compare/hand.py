@@ -26,7 +26,7 @@ from .geometry import flux_direction
 from .errors import CaseError, RunError
 
 __all__ = ["HandResult", "build_network", "run_hand", "WINDING_NAME", "HAND_KEYS", "signed",
-           "magnet_sense",
+           "magnet_sense", "sign_reference", "cancelling_windings",
            "FORCE_KEYS", "hand_forces"]
 
 log = logging.getLogger(__name__)
@@ -441,6 +441,37 @@ def magnet_sense(case: Case) -> int:
     res = solve_network(net)
     lam = float(res.flux_linkage[case.winding.name]) if res.converged else 0.0
     return 0 if lam == 0.0 or not math.isfinite(lam) else (1 if lam > 0 else -1)
+
+
+CANCEL_FLOOR = 1e-9
+"""Relative floor of :func:`cancelling_windings`: a winding's flux linkage
+below this fraction of what its own and the other windings' currents drive
+through it (sum over j of |L_kj I_j|) is float residue of a cancellation."""
+
+
+def cancelling_windings(case: Case, hand: HandResult) -> tuple[str, ...]:
+    """The windings whose fields cancel in the hand network, or ().
+
+    Two or more windings with current, no magnet, and every winding's flux
+    linkage (Wb) at float residue: below CANCEL_FLOOR of the sum over j of
+    |L_kj I_j| (the incremental inductance matrix times the currents: what
+    each winding's own MMF drives through winding k).  The net MMF around
+    the core's loop is then zero: the hand network carries no flux at all,
+    and the field solution only the leakage round the coils, so flux, gap
+    B, core B, path H, flux linkage, lambda/I and energy have nothing to
+    compare.  Returns the names of the windings with current.
+    """
+    active = [w for w in case.windings if w.current != 0.0]
+    if len(active) < 2 or core_model(case).magnets:
+        return ()
+    lam_keys, l_keys = winding_keys(case)
+    v = hand.winding_values
+    for k, lk in enumerate(lam_keys):
+        scale = sum(abs(v[l_keys[min(k, j)][max(k, j)]] * w.current)
+                    for j, w in enumerate(case.windings))
+        if not (scale > 0 and abs(v[lk]) <= CANCEL_FLOOR * scale):
+            return ()
+    return tuple(w.name for w in active)
 
 
 def sign_reference(case: Case, lam_raw: float) -> float:

@@ -293,3 +293,24 @@ def test_gap_note_blames_a_fringing_model_only_when_there_is_one():
     bare = _notes(case, {"gap_B": -8.0}, hand=run_hand(case, planar=True, fringing="none"))
     assert "fringing model" not in bare and "The ideal gap (no fringing) understates" in bare
     assert "gap B by" not in _notes(case, {"gap_B": 1.0})
+
+
+def test_hand_command_prints_a_cancellation_as_zeros_and_says_so():
+    import io
+
+    from compare.commands.hand import print_hand
+
+    case = _cancel_case()
+    from compare.units import format_si
+
+    out = io.StringIO()
+    h = run_hand(case)
+    print_hand(case, h, out)
+    text = out.getvalue()
+    assert "e-1" not in text and "-0 " not in text, text
+    assert "The windings' fields cancel (A, B" in text
+    assert h.incremental_inductance > 0  # the incremental inductance is still printed
+    assert format_si(h.incremental_inductance, "H") in text
+    out = io.StringIO()
+    print_hand(_cancel_case(1.0), run_hand(_cancel_case(1.0)), out)
+    assert "cancel" not in out.getvalue()

@@ -297,7 +297,7 @@ MUTATIONS: tuple[Mutation, ...] = (
       "    if i != 0:\n        return (signs",
       "the magnet's secant note says lambda/I has no value at a non-zero current",
       ("tests/test_notes_signs.py",)),
-    M("cancel-undetected", "compare/check.py",
+    M("cancel-undetected", "compare/hand.py",
       "if not (scale > 0 and abs(v[lk]) <= CANCEL_FLOOR * scale):",
       "if not (scale > 0 and abs(v[lk]) <= 0.0):",
       "windings whose fields cancel compared row by row (-100 % FAIL on float residue)",
