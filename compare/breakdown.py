@@ -51,16 +51,21 @@ def _diff(h: float, f: float) -> float:
 
 
 def difference_breakdown(case: Case, fe_values: dict[str, float],
-                         best_fringing: str | None) -> tuple[Step, ...]:
-    """The steps (module docstring) against the FE values ``fe_values``."""
+                         best_fringing: str | None,
+                         na_keys: tuple[str, ...] = ()) -> tuple[Step, ...]:
+    """The steps (module docstring) against the FE values ``fe_values``.
+
+    ``na_keys``: quantities with nothing to compare (the windings' fields
+    cancel, compare.check.cancelling_windings): hand 0, difference NaN."""
     settings: dict[str, Any] = {"fringing": case.hand.fringing, "leakage": case.hand.leakage,
                                 "stacking": case.hand.stacking,
                                 "effective": case.hand.effective_parameters}
 
     def step(name: str) -> Step:
         h = run_hand(case, planar=True, **settings).values()
-        return Step(name, {k: h[k] for k in BREAKDOWN_KEYS},
-                    {k: _diff(h[k], fe_values[k]) for k in BREAKDOWN_KEYS}, dict(settings))
+        h = {k: 0.0 if k in na_keys else h[k] for k in BREAKDOWN_KEYS}
+        return Step(name, h, {k: math.nan if k in na_keys else _diff(h[k], fe_values[k])
+                              for k in BREAKDOWN_KEYS}, dict(settings))
 
     steps = [step("as written")]
     if best_fringing and best_fringing != settings["fringing"]:

@@ -20,10 +20,13 @@ from .case import Case
 
 from .casefile import plausibility_issues
 from .fe import FEResult, run_fe_checked
-from .hand import FORCE_KEYS, HAND_KEYS, UNITS, HandResult, gap_face, run_hand, winding_keys
+from .hand import (FORCE_KEYS, HAND_KEYS, UNITS, HandResult, cancelling_windings, gap_face,
+                   run_hand, winding_keys)
+from .units import format_si
 
 __all__ = ["Row", "CheckResult", "run_check", "DEFAULT_LIMITS", "LABELS", "rank_fringing",
-           "NOISE", "INCONCLUSIVE", "EXIT_DESIGN", "EXIT_AGREEMENT", "AGREEMENT_MODES"]
+           "NOISE", "INCONCLUSIVE", "EXIT_DESIGN", "EXIT_AGREEMENT", "AGREEMENT_MODES",
+           "cancelling_windings", "NET_MMF_KEYS"]
 
 # Default agreement limits, percent of the FE value. Engineering judgement
 # (common practice, no source): a hand calc within 10 % on the gap and
@@ -421,23 +424,44 @@ The secant inductance there is its small-signal limit, the incremental
 inductance at zero current, in both models."""
 
 
+NET_MMF_KEYS = (*ZERO_AT_ZERO_CURRENT, "inductance")
+"""The rows that follow the net MMF around the core: n/a when the windings'
+fields cancel (:func:`cancelling_windings`)."""
+
+
 def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult) -> tuple[Row, ...]:
-    """The comparison rows."""
+    """The comparison rows.
+
+    With a magnet the secant row (lambda/I, the magnet's own flux linkage
+    counted in) is info: the incremental inductance is the coil's and is
+    judged.  When the windings' fields cancel (:func:`cancelling_windings`)
+    the rows of NET_MMF_KEYS and each winding's flux linkage are n/a, their
+    hand values exactly 0 (no float residue) and no FE 3D value."""
     rows = []
     k3 = depth_corrections(hand_p, hand_3d)
     from .coremodel import core_model
 
     zero = (all(w.current == 0.0 for w in case.windings)
             and core_model(case).sourceless_at_zero_current)
+    magnets = bool(core_model(case).magnets)
+    cancel = bool(cancelling_windings(case, hand_p))
     for k in HAND_KEYS:
         h, f, u = hand_p.values()[k], fe.values[k], fe.uncertainty.get(k, math.nan)
-        d = math.nan if (zero and k in ZERO_AT_ZERO_CURRENT) else _diff_pct(h, f)
-        lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
+        h3 = hand_3d.values()[k]
         f3 = f * k3[k]
+        if cancel and k in NET_MMF_KEYS:
+            h, h3, f3 = 0.0, 0.0, math.nan
+        d = (math.nan if (zero and k in ZERO_AT_ZERO_CURRENT) or (cancel and k in NET_MMF_KEYS)
+             else _diff_pct(h, f))
+        lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
+        if magnets and k == "inductance":  # lambda/I counts the magnet's own flux: info
+            rows.append(Row(k, LABELS[k], UNITS[k], h, f, u, d, None, "info",
+                            hand_3d=h3, fe_3d=f3))
+            continue
         rows.append(Row(k, LABELS[k], UNITS[k], h, f, u, d, lim, _verdict(d, h, f, u, lim),
-                        hand_3d=hand_3d.values()[k], fe_3d=f3))
+                        hand_3d=h3, fe_3d=f3))
     if len(case.windings) > 1:
-        rows.extend(winding_rows(case, hand_p, hand_3d, fe))
+        rows.extend(winding_rows(case, hand_p, hand_3d, fe, cancel=cancel))
     rows.extend(force_rows(case, hand_p, hand_3d, fe))
     rows.extend(magnet_rows(case, hand_p, hand_3d, fe))
     peak, limit = fe.fine.peak_B, case.margins.peak_B
@@ -453,14 +477,15 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
 
 
 def winding_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
-                 fe: FEResult) -> list[Row]:
+                 fe: FEResult, *, cancel: bool = False) -> list[Row]:
     """With several windings: each winding's flux linkage, the incremental
     inductance matrix (diagonal and the entries above it; it is symmetric)
     and each pair's coupling factor k = L_jk / sqrt(L_jj L_kk), hand
     (planar-consistent) against FE, with the FE uncertainty and the FE 3D
     column by the hand network's own 3D / planar ratio per entry (as
     :func:`depth_corrections`).  Agreement limits: those of flux linkage and
-    incremental inductance."""
+    incremental inductance.  ``cancel``: the windings' fields cancel
+    (:func:`cancelling_windings`), the flux-linkage rows are n/a with hand 0."""
     lam_keys, l_keys = winding_keys(case)
     names = [w.name for w in case.windings]
     hp, h3, fv = hand_p.winding_values, hand_3d.winding_values, fe.fine.winding_values
@@ -477,6 +502,13 @@ def winding_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
 
     out = []
     for j, lk in enumerate(lam_keys):
+        if cancel:  # nothing to compare: the hand linkage is float residue of 0
+            out.append(Row(lk, f"flux linkage, {names[j]}", "Wb", 0.0, fv[lk],
+                           fe.uncertainty.get(lk, math.nan), math.nan,
+                           case.margins.agreement_limit("flux_linkage",
+                                                        DEFAULT_LIMITS["flux_linkage"]),
+                           "n/a", hand_3d=0.0, fe_3d=math.nan))
+            continue
         out.append(row(lk, f"flux linkage, {names[j]}", "Wb", hp[lk], fv[lk], h3[lk],
                        fv[lk] * ratio(lk), fe.uncertainty.get(lk, math.nan), "flux_linkage"))
     n = len(names)
@@ -585,13 +617,31 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                      "stored energy are zero in both models: no difference, verdict n/a. The "
                      "secant inductance is given as its small-signal limit, the incremental "
                      "inductance at zero current, in both models.")
+    model = core_model(case)
+    cancel = cancelling_windings(case, hand_p)
+    if cancel:
+        mmf = ", ".join(f"{w.name} {abs(w.turns * w.current):.4g} A-turns" for w in case.windings
+                        if w.name in cancel)
+        notes.append(f"The windings' fields cancel ({mmf}, in opposite senses): the net MMF "
+                     "round the core is 0, so neither model has a core flux to compare (the "
+                     "FE's is the leakage round the coils); flux, gap B, core B, path H, flux "
+                     "linkage, lambda/I and energy are n/a, the incremental inductances compare.")
+    if model.magnets:
+        notes.append(_magnet_note(case, r["inductance"]))
     fl = r["flux"]
     if math.isfinite(fl.diff_pct) and fl.diff_pct < -3:
-        bypass = ("bypasses the gap" if core_model(case).gap_regions
+        bypass = ("bypasses the gap" if model.gap_regions
                   else "does not follow the core's mean path")
+        from .hand import hand_circuit
+
+        circuit = hand_circuit(case)
+        has_leak = bool(hand_p.leakage_permeance) or bool(circuit is not None
+                                                           and circuit.leakage)
+        what = ("more leakage than the hand model's leakage paths carry" if has_leak
+                else "and the hand model has no leakage path")
         notes.append(f"The FE carries {-fl.diff_pct:.0f} % more flux in the winding limb than the "
                      "hand model: leakage flux (across the window, round the coil) links the "
-                     f"winding but {bypass}, and the hand model has no leakage path.")
+                     f"winding but {bypass}, {what}.")
     elif math.isfinite(fl.diff_pct) and fl.diff_pct > 3:
         notes.append(f"The hand model carries {fl.diff_pct:.0f} % more flux in the winding limb "
                      "than the FE: its gap permeance (the fringing model) or its core "
@@ -599,14 +649,29 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
     g = r["gap_B"]
     if math.isfinite(g.diff_pct) and abs(g.diff_pct) > 3:
         side = "over" if g.diff_pct > 0 else "under"
-        notes.append(f"The fringing model {side}states the gap B by {abs(g.diff_pct):.0f} %: the "
-                     "field spreads beyond the pole faces differently from the model's assumed "
-                     "fringing area.")
+        if hand_p.fringing_model == "none":
+            notes.append(f"The ideal gap (no fringing) {side}states the gap B by "
+                         f"{abs(g.diff_pct):.0f} %: the field spreads beyond the pole faces, "
+                         "which the hand model's bare face area leaves out.")
+        else:
+            notes.append(f"The fringing model {side}states the gap B by {abs(g.diff_pct):.0f} %: "
+                         "the field spreads beyond the pole faces differently from the model's "
+                         "assumed fringing area.")
     ph = r["path_H"]
-    if math.isfinite(ph.diff_pct) and abs(ph.diff_pct) > 5:
-        notes.append(f"Path-averaged H differs by {abs(ph.diff_pct):.0f} %: H is not uniform along "
-                     "the mean path; the flux crowds to the inner corners of the core, where H "
-                     "rises far above the limb average.")
+    if math.isfinite(ph.diff_pct) and ph.diff_pct < -5:
+        notes.append(f"Path-averaged H is {-ph.diff_pct:.0f} % higher in the FE than by hand: H is "
+                     "not uniform along the mean path; the flux crowds to the inner corners of "
+                     "the core, where H rises far above the limb average.")
+    elif math.isfinite(ph.diff_pct) and ph.diff_pct > 5:
+        cb = r["core_B"].diff_pct
+        why = ("the hand model carries each branch's flux at a uniform B over its section "
+               f"(core B {cb:+.0f} %), where the field solution's flux spreads (round corners, "
+               "into wider parts) at a lower B along the mean path."
+               if math.isfinite(cb) and cb > 0 else
+               "the hand model's iron takes more MMF than the field solution's along the "
+               "mean path.")
+        notes.append(f"Path-averaged H is {ph.diff_pct:.0f} % higher by hand than in the FE: "
+                     + why)
     law = case.material("core").law
     peak = fe.fine.peak_B
     knee = _knee(law)
@@ -615,11 +680,12 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
         notes.append(f"Part of the core is past the knee of the B-H curve (~{knee:.2f} T): 0.5 % of "
                      f"the core area is above {peak:.2f} T, so the hand model's uniform-B "
                      "assumption does not hold there" + _inductance_direction(r["inductance"]))
-    notes.append(f"Peak core B is the |B| exceeded on 0.5 % of the core area. The pointwise "
-                 f"maximum, {fe.fine.max_B:.2f} T at {'r' if rz else 'x'} = {x * 1e3:.1f} mm, "
-                 f"{'z' if rz else 'y'} = {y * 1e3:.1f} mm, "
-                 "sits at a sharp corner where a 2D model's field is singular; it grows as "
-                 "the mesh is refined and is not a design figure.")
+    if math.isfinite(fe.fine.max_B) and fe.fine.max_B > max(peak, 0.0) > 0.0:
+        notes.append(f"Peak core B is the |B| exceeded on 0.5 % of the core area. The pointwise "
+                     f"maximum, {fe.fine.max_B:.2f} T at {'r' if rz else 'x'} = {x * 1e3:.1f} mm, "
+                     f"{'z' if rz else 'y'} = {y * 1e3:.1f} mm, "
+                     "sits at a sharp corner where a 2D model's field is singular; it grows as "
+                     "the mesh is refined and is not a design figure.")
     if any(k.startswith("margin:") for k in r):
         notes.append("Margin rows (', max', ', min') show the values they are judged on: the "
                      "FE's" + ("" if rz else " 3D (depth-corrected)") + " value, which sets the "
@@ -634,8 +700,11 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
             x = 1.0 - leak / self_l if self_l else math.nan
             return math.sqrt(x) if x >= 0 else math.nan
 
-        notes.append(f"The coupling factor rows are the magnetic circuit's (no leakage path: "
-                     f"k = 1) and the field solution's {'' if rz else 'in-plane '}inductance "
+        # the hand network couples perfectly unless its circuit has leakage paths
+        hand_k = ("no leakage path: k = 1" if abs(abs(kr.hand) - 1.0) < 1e-9
+                  else f"k = {kr.hand:.5f} with its leakage paths")
+        notes.append(f"The coupling factor rows are the magnetic circuit's ({hand_k}) "
+                     f"and the field solution's {'' if rz else 'in-plane '}inductance "
                      "matrix" + ("" if rz else " (per stack depth: no end turns)") + "; the "
                      "leakage-inductance row has the classic formula and the FE's balanced "
                      "ampere-turns" + ("" if rz else " along the mean turn") + "; the coupling "
@@ -680,6 +749,32 @@ def verdict_notes(rows: tuple[Row, ...]) -> list[str]:
             "lies within the FE uncertainty, so the mesh cannot tell pass from FAIL; refine "
             "the mesh ([fe] mesh_size smaller, gap_elements larger). Counted neither as pass "
             "nor as FAIL."]
+
+
+def _magnet_note(case: Case, secant: Row) -> str:
+    """The note of a case with a magnet: the sign convention (which current
+    sign releases it) and why the secant row is info."""
+    from .hand import magnet_sense
+
+    s_m = magnet_sense(case)
+    i = case.winding.current
+    if s_m:
+        release = "negative" if s_m > 0 else "positive"
+        signs = ("Signs with a magnet: flux, gap B and flux linkage are positive along the "
+                 f"magnet's own direction; a {release} winding current opposes the magnet (releases "
+                 "it)")
+        if i != 0:
+            signs += (", as here" if (i > 0) == (s_m < 0) else "; this one aids it")
+    else:
+        signs = ("Signs: the magnet links no flux with the first winding, so flux, gap B and "
+                 "flux linkage take the sign of the winding current")
+    if i == 0:
+        return (signs + ". At zero current lambda/I has no value (the magnet's flux linkage over "
+                "0 A): the secant row repeats the incremental inductance, for information only.")
+    return (signs + f". lambda/I ({format_si(secant.hand, 'H')} by hand) counts the magnet's own flux "
+            "linkage, so it is no inductance of the coil and moves with the current: the "
+            "secant row is for information; the incremental inductance dlambda/dI is the "
+            "coil's and is judged.")
 
 
 def _inductance_direction(row: Row) -> str:
@@ -762,7 +857,8 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
     from .breakdown import difference_breakdown
 
     breakdown = difference_breakdown(case, fe.values, full_ranking[0]["model"] if full_ranking
-                                     else None)
+                                     else None,
+                                     NET_MMF_KEYS if cancelling_windings(case, hand_p) else ())
     t3 = time.perf_counter()
     return CheckResult(case=case, hand_3d=hand_3d, hand_planar=hand_p, fe=fe, rows=rows,
                        depth_factor=k_depth, notes=notes,

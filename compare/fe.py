@@ -29,7 +29,7 @@ from fem2d.sources import Coil, Sources
 from .case import Case
 from .errors import CaseError, RunError
 from .coremodel import COIL_MINUS, COIL_PLUS, WINDING, coil_name, coil_regions, core_model
-from .hand import HAND_KEYS, signed
+from .hand import HAND_KEYS, sign_reference, signed
 
 __all__ = ["FEQuantities", "FEResult", "case_layout", "mesh_case", "geometry_key", "solve_case",
            "solve_case_full", "FESolve",
@@ -148,8 +148,9 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     """Reduce a field solution to the hand quantities.
 
     Signs follow :func:`compare.hand.signed` (flux, flux linkage and gap B
-    take the sign of the winding current; magnitudes and inductances are
-    positive), the same convention as the hand model.
+    take the sign of the winding current, or with magnets point along the
+    magnet's own direction; magnitudes and inductances are positive), the
+    same convention as the hand model.
 
     Returns the quantities, the mean-path samples and dA/dI (the tangent
     solve of the incremental inductance, reused as a sweep predictor).
@@ -160,7 +161,7 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     vals: dict[str, float] = {}
     lam = post.flux_linkage(sol, w.turns, go, back)
     many = len(case.windings) > 1
-    ref = lam if many else w.current  # the sign reference (compare.hand.signed)
+    ref = sign_reference(case, lam)  # the sign reference (compare.hand.signed)
     if model.gap_region is not None:
         vals["gap_B"] = signed(post.region_mean_b(sol, model.gap_region,
                                                   direction=model.gap_direction), ref)

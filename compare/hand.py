@@ -26,6 +26,7 @@ from .geometry import flux_direction
 from .errors import CaseError, RunError
 
 __all__ = ["HandResult", "build_network", "run_hand", "WINDING_NAME", "HAND_KEYS", "signed",
+           "magnet_sense", "sign_reference", "cancelling_windings",
            "FORCE_KEYS", "hand_forces"]
 
 log = logging.getLogger(__name__)
@@ -419,8 +420,84 @@ def hand_magnet(case: Case, res: NetworkResult) -> dict[str, float]:
     return {"magnet_B": float(br.B), "magnet_H": float(br.H)}
 
 
+def magnet_sense(case: Case) -> int:
+    """+1 or -1: the sense of the flux linkage the case's magnets alone give
+    its first winding, in that winding's own frame (the sense a positive
+    current drives); 0 for a case without magnets, or whose magnets link the
+    first winding with no flux.
+
+    The hand network solved with every winding current at zero (linear in the
+    magnet's MMF, one solve): a geometric fact of the case (the magnet's
+    orientation against the winding's), which both models take as their sign
+    reference (:func:`signed`).  A winding current of the opposite sign,
+    -magnet_sense, opposes the magnet: it releases a holding magnet.
+    """
+    model = core_model(case) if hand_circuit(case) is not None else None
+    if model is None or not model.magnets:
+        return 0
+    off = replace(case, winding=replace(case.winding, current=0.0),
+                  extra_windings=tuple(replace(w, current=0.0) for w in case.extra_windings))
+    net, _ = build_network(off)
+    res = solve_network(net)
+    lam = float(res.flux_linkage[case.winding.name]) if res.converged else 0.0
+    return 0 if lam == 0.0 or not math.isfinite(lam) else (1 if lam > 0 else -1)
+
+
+CANCEL_FLOOR = 1e-9
+"""Relative floor of :func:`cancelling_windings`: a winding's flux linkage
+below this fraction of what its own and the other windings' currents drive
+through it (sum over j of |L_kj I_j|) is float residue of a cancellation."""
+
+
+def cancelling_windings(case: Case, hand: HandResult) -> tuple[str, ...]:
+    """The windings whose fields cancel in the hand network, or ().
+
+    Two or more windings with current, no magnet, and every winding's flux
+    linkage (Wb) at float residue: below CANCEL_FLOOR of the sum over j of
+    |L_kj I_j| (the incremental inductance matrix times the currents: what
+    each winding's own MMF drives through winding k).  The net MMF around
+    the core's loop is then zero: the hand network carries no flux at all,
+    and the field solution only the leakage round the coils, so flux, gap
+    B, core B, path H, flux linkage, lambda/I and energy have nothing to
+    compare.  Returns the names of the windings with current.
+    """
+    active = [w for w in case.windings if w.current != 0.0]
+    if len(active) < 2 or core_model(case).magnets:
+        return ()
+    lam_keys, l_keys = winding_keys(case)
+    v = hand.winding_values
+    for k, lk in enumerate(lam_keys):
+        scale = sum(abs(v[l_keys[min(k, j)][max(k, j)]] * w.current)
+                    for j, w in enumerate(case.windings))
+        if not (scale > 0 and abs(v[lk]) <= CANCEL_FLOOR * scale):
+            return ()
+    return tuple(w.name for w in active)
+
+
+def sign_reference(case: Case, lam_raw: float) -> float:
+    """The reference whose sign the signed quantities take (:func:`signed`):
+    with magnets the first winding's raw flux linkage (own frame, Wb) times
+    :func:`magnet_sense`, so that values point along the magnet's own
+    direction; with several windings that raw linkage; with one winding its
+    current (A)."""
+    s_m = magnet_sense(case)
+    if s_m:
+        return s_m * lam_raw
+    return lam_raw if len(case.windings) > 1 else case.winding.current
+
+
 def signed(magnitude: float, current: float) -> float:
     """The sign convention of both models' reported quantities, in one place.
+
+    With magnets (a holding magnet, a drawn magnet region) the reference is
+    the magnet's own direction (:func:`sign_reference`): flux, gap B and
+    flux linkage are positive when the winding's linked flux points the way
+    the magnet alone drives it (a magnet alone gives positive values, at any
+    current that does not reverse the flux); a winding current of sign
+    -magnet_sense(case) opposes the magnet (releases a holding magnet), the
+    other sign aids it.  The secant lambda/I then counts the magnet's own
+    flux linkage and is no inductance of the coil (compare.check reports it
+    for information; the incremental inductance is judged).
 
     With several windings the reference is not the first winding's current
     but its flux linkage (a second winding may drive the core the other
@@ -596,13 +673,15 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
     n = case.winding.turns
     name0 = case.winding.name
     many = len(case.windings) > 1
-    # the sign reference (compare.hand.signed): the winding current with one
-    # winding; with several, the first winding's own flux linkage, which
-    # is the current's sign whenever that winding's MMF dominates
-    i = float(res.flux_linkage[name0]) if many else case.winding.current
-    gap_B = signed(by_name[cmap.gap_branches[0]].B, i) if cmap.gap_branches else math.nan
-    flux = signed(abs(by_name[cmap.winding_branch].flux) + n * abs(i) * flux_leak, i)
-    lam0 = signed(abs(res.flux_linkage[name0]) + n * n * abs(i) * p_leak, i)
+    # the sign reference (compare.hand.sign_reference): the winding current
+    # with one winding; with several, the first winding's own flux linkage,
+    # which is the current's sign whenever that winding's MMF dominates; with
+    # magnets, that linkage along the magnet's own direction
+    ref = sign_reference(case, float(res.flux_linkage[name0]))
+    i = case.winding.current
+    gap_B = signed(by_name[cmap.gap_branches[0]].B, ref) if cmap.gap_branches else math.nan
+    flux = signed(abs(by_name[cmap.winding_branch].flux) + n * abs(i) * flux_leak, ref)
+    lam0 = signed(abs(res.flux_linkage[name0]) + n * n * abs(i) * p_leak, ref)
     l00 = res.incremental_inductance[name0] + n * n * p_leak
     i0 = case.winding.current
     secant = (abs(res.inductance[name0]) + n * n * p_leak if not many
@@ -618,8 +697,8 @@ def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
         wvals.update({l_keys[j][k]: float(m[j, k]) for j in range(n_w) for k in range(n_w)})
     segments = tuple(
         {"name": b.name, "kind": b.kind, "length": b.length, "area": b.area,
-         "flux": signed(b.flux, i), "B": signed(b.B, i), "H": signed(b.H, i),
-         "mmf_drop": signed(b.mmf_drop, i), "energy": b.energy}
+         "flux": signed(b.flux, ref), "B": signed(b.B, ref), "H": signed(b.H, ref),
+         "mmf_drop": signed(b.mmf_drop, ref), "energy": b.energy}
         for b in res.branches)
     return HandResult(
         force_values=hand_forces(case, net, res),

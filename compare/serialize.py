@@ -32,8 +32,24 @@ def versions() -> dict[str, str]:
     return out
 
 
-def _fmt(v: float, unit: str) -> str:
-    return "-" if v is None or not math.isfinite(v) else format_si(v, unit)
+RESIDUE_FLOOR = 1e-12
+"""A table value below this fraction of the largest magnitude in its row
+prints as 0: float residue of a cancellation (3.4e-159 beside 3.2e-6), not a
+result; so does -0."""
+
+
+def _fmt(v: float, unit: str, scale: float = 0.0) -> str:
+    if v is None or not math.isfinite(v):
+        return "-"
+    if v == 0.0 or abs(v) < RESIDUE_FLOOR * scale:
+        v = 0.0  # also turns -0.0 into 0
+    return format_si(v, unit)
+
+
+def _row_scale(row: Row) -> float:
+    """The largest finite magnitude among a row's values (the residue floor's reference)."""
+    vals = [abs(v) for v in (row.hand, row.fe, row.hand_3d, row.fe_3d) if math.isfinite(v)]
+    return max(vals, default=0.0)
 
 
 def _pct(v: float | None, digits: int = 1) -> str:
@@ -53,9 +69,10 @@ def table_cells(row: Row) -> list[str]:
     verdict = row.verdict
     if row.limit_value is not None and math.isfinite(row.margin_pct):
         verdict = f"{row.verdict}, {row.margin_pct:.0f} % left"  # margin left, % of the limit
-    return [row.label, _fmt(row.hand, row.unit), _fmt(row.fe, row.unit), unc,
-            _pct(row.diff_pct), limit, verdict, _fmt(row.hand_3d, row.unit),
-            _fmt(row.fe_3d, row.unit)]
+    scale = _row_scale(row)
+    return [row.label, _fmt(row.hand, row.unit, scale), _fmt(row.fe, row.unit, scale), unc,
+            _pct(row.diff_pct), limit, verdict, _fmt(row.hand_3d, row.unit, scale),
+            _fmt(row.fe_3d, row.unit, scale)]
 
 
 def _counts_text(counts: dict[str, int]) -> str:
@@ -193,12 +210,18 @@ BREAKDOWN_NOTE = ("Each row switches one more refinement on in the hand model (i
 def breakdown_note(res: CheckResult) -> str:
     """BREAKDOWN_NOTE in the case's form: an r-z case compares the whole
     hand circuit with an axisymmetric FE, no planar form."""
+    from .check import _knee
     from .coremodel import core_model
 
+    note = BREAKDOWN_NOTE
+    if not res.fe.fine.peak_B > _knee(res.case.material("core").law):
+        # no part of the core past its knee: no local saturation to blame
+        note = note.replace("non-uniform flux, local saturation, corners",
+                            "non-uniform flux, corners")
     if not core_model(res.case).axisymmetric:
-        return BREAKDOWN_NOTE
-    return BREAKDOWN_NOTE.replace("(its planar form against a planar FE)",
-                                  "(the whole circuit against the axisymmetric FE)")
+        return note
+    return note.replace("(its planar form against a planar FE)",
+                        "(the whole circuit against the axisymmetric FE)")
 
 
 def breakdown_rows(res: CheckResult) -> tuple[list[str], list[list[str]]]:

@@ -34,7 +34,7 @@ def _fe(peak_B: float = 0.1) -> SimpleNamespace:
     return SimpleNamespace(fine=SimpleNamespace(peak_B=peak_B, max_B=peak_B, peak_B_at=(0.0, 0.0)))
 
 
-HAND = SimpleNamespace(fringing_model="area")
+HAND = SimpleNamespace(fringing_model="area", leakage_permeance=0.0)  # no window leakage
 
 
 def _notes(case, rows, peak_B: float = 0.1) -> str:

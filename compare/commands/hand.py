@@ -6,7 +6,7 @@ import argparse
 import math
 
 from ..casefile import load_case
-from ..hand import UNITS, HandResult, run_hand
+from ..hand import UNITS, HandResult, cancelling_windings, run_hand
 from ..output import CAUTION, STDOUT_HELP, render_table, text_stream, write_json
 from ..units import format_si
 
@@ -54,8 +54,14 @@ def run(args: argparse.Namespace) -> int:
 def print_hand(case, res: HandResult, out) -> None:
     w = case.winding
     form = "planar (in-plane fringing only)" if res.planar else "3D"
+    cancel = cancelling_windings(case, res)
+
+    def val(v: float) -> float:  # the float residue of a cancellation prints as 0
+        return 0.0 if cancel or v == 0.0 else v
+
     rows = [[s["name"], s["kind"], f"{s['length'] * 1e3:.3f}", f"{s['area'] * 1e6:.2f}",
-             f"{s['B']:.4f}", f"{s['H']:.4g}", f"{s['mmf_drop']:.4g}"] for s in res.segments]
+             f"{val(s['B']):.4f}", f"{val(s['H']):.4g}", f"{val(s['mmf_drop']):.4g}"]
+            for s in res.segments]
     render_table(f"{case.name}: magnetic circuit, N = {w.turns}, I = {w.current:g} A, "
                  f"NI = {w.mmf:g} A; fringing model '{res.fringing_model}', {form}",
                  ["segment", "kind", "length mm", "area mm^2", "B T", "H A/m", "MMF drop A"],
@@ -69,8 +75,16 @@ def print_hand(case, res: HandResult, out) -> None:
         "energy": "stored energy (integral of H dB)",
     }
     # a quantity the case does not have (gap B of a core without a gap) prints as "-"
-    rows2 = [[labels[k], format_si(getattr(res, k), UNITS[k])
+    net = ("flux", "gap_B", "core_B", "path_H", "flux_linkage", "inductance", "energy")
+
+    def shown(k: str) -> float:
+        return val(getattr(res, k)) if k in net else getattr(res, k)
+
+    rows2 = [[labels[k], format_si(shown(k), UNITS[k])
               if math.isfinite(getattr(res, k)) else "-"] for k in labels]
-    render_table("operating point", ["quantity", "value"], rows2, out,
-                 notes=[f"Newton: {res.iterations} iterations, relative residual "
-                        f"{res.residual:.1e}", CAUTION])
+    notes = [f"Newton: {res.iterations} iterations, relative residual {res.residual:.1e}"]
+    if cancel:
+        notes.insert(0, f"The windings' fields cancel ({', '.join(cancel)}: equal ampere-turns "
+                        "in opposite senses): no net MMF round the core, so its flux and every "
+                        "value that follows it are 0; the incremental inductance stands.")
+    render_table("operating point", ["quantity", "value"], rows2, out, notes=[*notes, CAUTION])
