@@ -179,6 +179,13 @@ def test_check_uses_the_best_ranked_depth_model_and_judges_margins_in_its_band()
     assert ind.fe_3d == pytest.approx(ind.fe * h3.inductance / hp.inductance, rel=1e-12)
     band = ind.fe_3d_uncertainty
     assert band > ind.uncertainty  # the spread widens it
+    from compare.serialize import check_json
+
+    doc = check_json(res)
+    assert doc["fe"]["depth_correction_model"] == best
+    assert doc["fe"]["depth_corrected_uncertainty"]["inductance"] == band
+    row = next(r for r in doc["comparison"] if r["quantity"] == "inductance")
+    assert row["fe_depth_corrected_uncertainty"] == band
     # a minimum met by less than the band is not a clean pass; by more, it is
     d["margins"] = {"inductance": [{"at": "6 A", "min": f"{(ind.fe_3d - 0.5 * band) * 1e3} mH"},
                                    {"at": "6 A", "min": f"{(ind.fe_3d - 2 * band) * 1e3} mH"}]}
