@@ -213,6 +213,15 @@ def family_parts(family: Family, core: object) -> tuple[str, ...]:
 CORE_SIZE_RANGE = (1e-3, 2.0)  # m, outer core dimensions and stack depth
 GAP_MIN = 1e-6  # m
 MU_R_MIN = 5.0
+# The depth correction (the hand and FE 3D columns) adds the fringing at the
+# stack's front and back faces as two independent edges.  That holds while
+# the depth exceeds the gap: Roters's edge tubes (a half cylinder of diameter
+# g at each edge) of the two faces meet at depth = g, the area model's
+# (b + g)/b doubles the face there, and the conformal basic element reaches
+# the other edge's element (its half face b/2 shorter than its half gap g/2).
+# Beyond it the planar cut is no model of the part (its field is 3D
+# throughout) [derived here from the models' constructions].
+DEPTH_PER_GAP_MIN = 1.0
 
 
 def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
@@ -254,6 +263,7 @@ def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
                     out.append(CaseWarning(f"circuit.gaps[{i}].length",
                                            f"{gap.face.length:g} m",
                                            "below 1 um: shorter than a ground face is flat"))
+    out.extend(_depth_issues(case))
     for region in ("core", *case.part_overrides):
         spec = case.material(region)
         mu_r = float(spec.law.mu_r_initial)
@@ -264,6 +274,32 @@ def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
                                               "hardly magnetic, so the differences to the FE "
                                               "are not about fringing"))
     return tuple(out)
+
+
+def _depth_issues(case: Case) -> list[CaseWarning]:
+    """A planar case whose stack depth is shorter than one of its gaps
+    (:data:`DEPTH_PER_GAP_MIN`): its depth correction is outside every
+    fringing model's range, so its 3D columns are no estimate."""
+    from .coremodel import core_model
+    from .hand import gap_face, hand_circuit
+
+    if core_model(case).axisymmetric:  # an r-z case has no stack depth
+        return []
+    circuit = hand_circuit(case)
+    if circuit is not None:
+        gaps = [(f"circuit.gaps[{i}]", g.face) for i, g in enumerate(circuit.gaps)
+                if g.face.radii is None]
+    else:
+        gaps = [(f"gaps[{i}]", gap_face(case, i)) for i in range(len(case.gaps))]
+    worst = max(gaps, key=lambda kf: kf[1].length / kf[1].depth, default=None)
+    if worst is None or worst[1].depth >= DEPTH_PER_GAP_MIN * worst[1].length:
+        return []
+    where, face = worst
+    return [CaseWarning("core.depth", f"{face.depth:g} m",
+                        f"shorter than the {face.length * 1e3:g} mm gap ({where}): the depth "
+                        "fringing models hold for a depth above the gap length (the stack's "
+                        "front and back faces fringe independently), so the hand 3D and FE 3D "
+                        "columns are outside their range")]
 
 
 def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:

@@ -26,7 +26,7 @@ from .units import format_si
 
 __all__ = ["Row", "CheckResult", "run_check", "DEFAULT_LIMITS", "LABELS", "rank_fringing",
            "NOISE", "INCONCLUSIVE", "EXIT_DESIGN", "EXIT_AGREEMENT", "AGREEMENT_MODES",
-           "cancelling_windings", "NET_MMF_KEYS"]
+           "cancelling_windings", "NET_MMF_KEYS", "DepthCorrection", "depth_correction"]
 
 # Default agreement limits, percent of the FE value. Engineering judgement
 # (common practice, no source): a hand calc within 10 % on the gap and
@@ -102,6 +102,10 @@ class Row:
     limit_value: float | None = None  # design margins: the limit itself (SI)
     margin_pct: float = math.nan  # design margins: margin left, percent of the limit
     limit_kind: str = "max"  # design margins: "max" (value <= limit) or "min" (value >= limit)
+    fe_3d_uncertainty: float = math.nan
+    """Uncertainty of ``fe_3d`` (SI): the FE's own, scaled by the depth
+    correction, plus the spread of that correction across the fringing
+    models (:class:`DepthCorrection`)."""
 
     @property
     def judges(self) -> str:
@@ -123,7 +127,8 @@ class Row:
                 "limit_pct": self.limit_pct, "verdict": self.verdict,
                 "hand_3d": self.hand_3d, "fe_depth_corrected": self.fe_3d,
                 "limit_value": self.limit_value, "margin_pct": self.margin_pct,
-                "limit_kind": self.limit_kind, "judges": self.judges}
+                "limit_kind": self.limit_kind, "judges": self.judges,
+                "fe_depth_corrected_uncertainty": self.fe_3d_uncertainty}
 
 
 @dataclass(frozen=True)
@@ -145,6 +150,8 @@ class CheckResult:
     """compare.drive.DriveResult of a voltage-driven case (None otherwise)."""
     leakage: dict = field(default_factory=dict)
     """Two concentric windings: {"hand": L_s, "fe": L_s} referred to the first (H)."""
+    depth: Any = None
+    """The :class:`DepthCorrection` behind the FE 3D column (None: not computed)."""
 
     @property
     def design_passed(self) -> bool:
@@ -256,14 +263,93 @@ def depth_corrections(hand_p: HandResult | dict, hand_3d: HandResult | dict) -> 
     return out
 
 
-def fe_3d_factor(case: Case, key: str = "inductance") -> float:
+def fe_3d_factor(case: Case, key: str = "inductance", fringing: str | None = None) -> float:
     """`depth_corrections` of one quantity at the case's own operating point
-    (solves the hand network in both forms)."""
-    return depth_corrections(run_hand(case, planar=True), run_hand(case))[key]
+    (solves the hand network in both forms) under the fringing model
+    ``fringing`` (default: the case's)."""
+    return depth_corrections(run_hand(case, fringing=fringing, planar=True),
+                             run_hand(case, fringing=fringing))[key]
+
+
+DEPTH_MODELS = tuple(name for name in FRINGING_MODELS if name != "none")
+"""The fringing models a depth correction may come from: every model that
+has a depth-direction fringing ("none" has none, and would be no estimate)."""
+
+
+@dataclass(frozen=True)
+class DepthCorrection:
+    """What takes a planar FE value to its 3D estimate (the FE 3D column).
+
+    ``model``: the fringing model whose hand 3D / planar ratio is used, the
+    best-ranked of :data:`DEPTH_MODELS` against the planar FE
+    (:func:`rank_fringing`; None for an r-z case, whose field solution holds
+    all the fringing).  ``hand_planar`` and ``hand_3d`` are that model's
+    hand results, ``factors`` its ratios (:func:`depth_corrections`; force
+    and per-winding keys included), ``spread`` per key the max - min of the
+    ratio over :data:`DEPTH_MODELS`: how far the models disagree about the
+    correction, added to the FE 3D column's uncertainty (``fe_3d_uncertainty``).
+    """
+
+    model: str | None
+    factors: dict[str, float]
+    spread: dict[str, float]
+    hand_planar: HandResult | None = None
+    hand_3d: HandResult | None = None
+
+    def factor(self, key: str) -> float:
+        return self.factors.get(key, 1.0)
+
+    def uncertainty(self, key: str, fe: float, unc: float) -> float:
+        """The FE 3D value's uncertainty (SI): the FE's own times the
+        correction, plus |FE| times the models' spread of the correction."""
+        if not math.isfinite(unc):
+            return math.nan
+        return abs(unc * self.factor(key)) + abs(fe) * self.spread.get(key, 0.0)
+
+
+def _all_ratios(hp: HandResult, h3: HandResult) -> dict[str, float]:
+    """depth_corrections of the table's keys, the force's and the winding keys'."""
+    out = dict(depth_corrections(hp, h3))
+    for k in hp.force_values:
+        a, b = hp.force_values[k], h3.force_values.get(k, math.nan)
+        out[k] = b / a if a and math.isfinite(a) and math.isfinite(b) else 1.0
+    for k, a in hp.winding_values.items():
+        b = h3.winding_values.get(k, math.nan)
+        out[k] = b / a if a and math.isfinite(a) and math.isfinite(b) else math.nan
+    return out
+
+
+def depth_correction(case: Case, ranking: tuple[dict, ...] = ()) -> DepthCorrection:
+    """The FE 3D column's correction: the best-ranked depth model's hand 3D
+    / planar ratios (``ranking`` best first, as :func:`rank_fringing`; without
+    it the case's own model), and their spread over every model of
+    :data:`DEPTH_MODELS` (max - min per key).
+
+    The case's model is only the hand column's choice; the planar FE tells
+    which model describes this gap's in-plane fringing best, and the same
+    model's depth fringing is the defensible estimate of the third
+    dimension (in-plane and depth fringing are one physics on two edges).
+    The spread states what that choice leaves open."""
+    from .coremodel import core_model
+
+    if core_model(case).axisymmetric:
+        return DepthCorrection(None, {}, {})
+    ranked = [d["model"] for d in ranking if d["model"] in DEPTH_MODELS]
+    own = case.hand.fringing
+    chosen = ranked[0] if ranked else (own if own in DEPTH_MODELS else DEPTH_MODELS[0])
+    pairs = {m: (run_hand(case, fringing=m, planar=True), run_hand(case, fringing=m))
+             for m in DEPTH_MODELS}
+    ratios = {m: _all_ratios(*pairs[m]) for m in DEPTH_MODELS}
+    keys = set().union(*(r.keys() for r in ratios.values()))
+    spread = {}
+    for k in keys:
+        vals = [r[k] for r in ratios.values() if math.isfinite(r.get(k, math.nan))]
+        spread[k] = max(vals) - min(vals) if vals else 0.0
+    return DepthCorrection(chosen, ratios[chosen], spread, *pairs[chosen])
 
 
 def force_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
-               fe: FEResult) -> list[Row]:
+               fe: FEResult, depth: DepthCorrection | None = None) -> list[Row]:
     """With a moving part: the hand force by the network's virtual work and
     by the pull formula, each against the FE's Maxwell stress, and the FE's
     virtual work (the independent second method) beside them, N along the
@@ -278,19 +364,24 @@ def force_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
     # one depth correction for the FE force: the hand network's 3D over planar
     # force (the pull formula is one of the estimates compared, not a model
     # of the depth fringing)
-    hp_f, h3_f = hand_p.force_values["force"], hand_3d.force_values["force"]
-    k3 = h3_f / hp_f if hp_f and math.isfinite(h3_f) else 1.0
+    if depth is None:
+        hp_f, h3_f = hand_p.force_values["force"], hand_3d.force_values["force"]
+        k3 = h3_f / hp_f if hp_f and math.isfinite(h3_f) else 1.0
+        depth = DepthCorrection(case.hand.fringing, {"force": k3}, {})
+    k3 = depth.factor("force")
+    u3 = depth.uncertainty("force", f, u)
     for k in FORCE_KEYS:
         h, h3 = hand_p.force_values[k], hand_3d.force_values[k]
         d = _diff_pct(h, f)
         lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
         out.append(Row(k, LABELS[k], "N", h, f, u, d, lim, _verdict(d, h, f, u, lim),
-                       hand_3d=h3, fe_3d=f * k3))
+                       hand_3d=h3, fe_3d=f * k3, fe_3d_uncertainty=u3))
     vw = fv.get("force_virtual_work", math.nan)
     if math.isfinite(vw):
+        uv = fe.uncertainty.get("force_virtual_work", math.nan)
         out.append(Row("force_virtual_work", LABELS["force_virtual_work"], "N", math.nan, vw,
-                       fe.uncertainty.get("force_virtual_work", math.nan), math.nan, None,
-                       "info", fe_3d=vw * k3))
+                       uv, math.nan, None, "info", fe_3d=vw * k3,
+                       fe_3d_uncertainty=depth.uncertainty("force", vw, uv)))
     return out
 
 
@@ -429,8 +520,11 @@ NET_MMF_KEYS = (*ZERO_AT_ZERO_CURRENT, "inductance")
 fields cancel (:func:`cancelling_windings`)."""
 
 
-def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult) -> tuple[Row, ...]:
-    """The comparison rows.
+def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult,
+               depth: DepthCorrection | None = None) -> tuple[Row, ...]:
+    """The comparison rows.  ``depth``: the FE 3D column's correction
+    (:func:`depth_correction`; default: the case's own model's ratios, no
+    spread).
 
     With a magnet the secant row (lambda/I, the magnet's own flux linkage
     counted in) is info: the incremental inductance is the coil's and is
@@ -438,7 +532,9 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
     the rows of NET_MMF_KEYS and each winding's flux linkage are n/a, their
     hand values exactly 0 (no float residue) and no FE 3D value."""
     rows = []
-    k3 = depth_corrections(hand_p, hand_3d)
+    if depth is None:
+        depth = DepthCorrection(case.hand.fringing, _all_ratios(hand_p, hand_3d), {})
+    k3 = depth.factors
     from .coremodel import core_model
 
     zero = (all(w.current == 0.0 for w in case.windings)
@@ -448,21 +544,22 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
     for k in HAND_KEYS:
         h, f, u = hand_p.values()[k], fe.values[k], fe.uncertainty.get(k, math.nan)
         h3 = hand_3d.values()[k]
-        f3 = f * k3[k]
+        f3 = f * depth.factor(k)
+        u3 = depth.uncertainty(k, f, u)
         if cancel and k in NET_MMF_KEYS:
-            h, h3, f3 = 0.0, 0.0, math.nan
+            h, h3, f3, u3 = 0.0, 0.0, math.nan, math.nan
         d = (math.nan if (zero and k in ZERO_AT_ZERO_CURRENT) or (cancel and k in NET_MMF_KEYS)
              else _diff_pct(h, f))
         lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
         if magnets and k == "inductance":  # lambda/I counts the magnet's own flux: info
             rows.append(Row(k, LABELS[k], UNITS[k], h, f, u, d, None, "info",
-                            hand_3d=h3, fe_3d=f3))
+                            hand_3d=h3, fe_3d=f3, fe_3d_uncertainty=u3))
             continue
         rows.append(Row(k, LABELS[k], UNITS[k], h, f, u, d, lim, _verdict(d, h, f, u, lim),
-                        hand_3d=h3, fe_3d=f3))
+                        hand_3d=h3, fe_3d=f3, fe_3d_uncertainty=u3))
     if len(case.windings) > 1:
-        rows.extend(winding_rows(case, hand_p, hand_3d, fe, cancel=cancel))
-    rows.extend(force_rows(case, hand_p, hand_3d, fe))
+        rows.extend(winding_rows(case, hand_p, hand_3d, fe, depth, cancel=cancel))
+    rows.extend(force_rows(case, hand_p, hand_3d, fe, depth))
     rows.extend(magnet_rows(case, hand_p, hand_3d, fe))
     peak, limit = fe.fine.peak_B, case.margins.peak_B
     if limit is None:
@@ -472,12 +569,13 @@ def build_rows(case: Case, hand_p: HandResult, hand_3d: HandResult, fe: FEResult
     rows.append(Row("peak_B", LABELS["peak_B"], "T", math.nan, peak,
                     fe.uncertainty.get("peak_B", math.nan), math.nan, None, verdict,
                     fe_3d=peak, limit_value=limit, margin_pct=margin))
-    rows.extend(margin_rows(case, fe, hand_p, hand_3d))
+    rows.extend(margin_rows(case, fe, hand_p, hand_3d, depth))
     return tuple(rows)
 
 
 def winding_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
-                 fe: FEResult, *, cancel: bool = False) -> list[Row]:
+                 fe: FEResult, depth: DepthCorrection | None = None, *,
+                 cancel: bool = False) -> list[Row]:
     """With several windings: each winding's flux linkage, the incremental
     inductance matrix (diagonal and the entries above it; it is symmetric)
     and each pair's coupling factor k = L_jk / sqrt(L_jj L_kk), hand
@@ -494,10 +592,13 @@ def winding_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
             u: float, limit_key: str) -> Row:
         d = _diff_pct(h, f)
         lim = case.margins.agreement_limit(limit_key, DEFAULT_LIMITS.get(limit_key))
+        u3 = depth.uncertainty(key, f, u) if depth is not None else math.nan
         return Row(key, label, unit, h, f, u, d, lim, _verdict(d, h, f, u, lim),
-                   hand_3d=h3v, fe_3d=f3)
+                   hand_3d=h3v, fe_3d=f3, fe_3d_uncertainty=u3)
 
     def ratio(k: str) -> float:
+        if depth is not None and k in depth.factors:
+            return depth.factors[k]
         return h3[k] / hp[k] if hp[k] != 0 and math.isfinite(hp[k]) else math.nan
 
     out = []
@@ -547,14 +648,22 @@ def winding_rows(case: Case, hand_p: HandResult, hand_3d: HandResult,
 
 
 def margin_rows(case: Case, fe: FEResult, hand_p: HandResult | None = None,
-                hand_3d: HandResult | None = None) -> list[Row]:
+                hand_3d: HandResult | None = None,
+                depth: DepthCorrection | None = None) -> list[Row]:
     """Rows for the design margins other than peak B (see compare.margins).
 
     Inductance at a stated current and the minimum force are judged on the
-    FE value with the depth correction (the "FE 3D" column), the inductance solved on the FE
-    result's mesh at that current; saturation current on the 3D hand model's
-    L(I) (a field solution needs a sweep: ``magcheck sweep`` or a declared
-    ``[sweep]`` under ``magcheck verify``).
+    FE value with the depth correction (the "FE 3D" column, ``depth``'s
+    model), the inductance solved on the FE result's mesh at that current;
+    saturation current on the 3D hand model's L(I) (a field solution needs
+    a sweep: ``magcheck sweep`` or a declared ``[sweep]`` under ``magcheck
+    verify``).
+
+    Such a value carries the FE 3D column's uncertainty
+    (``fe_3d_uncertainty``: the FE's own, relative as at the case's current,
+    plus the depth models' spread of the correction at that current); a
+    margin met by less than that band is "inconclusive", not a pass (a
+    missed one stays FAIL).
     """
     from .fe import solve_case
     from .margins import design_margins, inductance_of, with_current
@@ -566,6 +675,8 @@ def margin_rows(case: Case, fe: FEResult, hand_p: HandResult | None = None,
             and m.force_min is None and not m.force and not core_model(case).magnet_knees):
         return []
     cache: dict[float, dict] = {case.winding.current: fe.values}
+    model = depth.model if depth is not None else None
+    bands: dict[str, float] = {}
 
     def fe_at(current: float, kind: str) -> float:
         at = with_current(case, current)
@@ -573,7 +684,13 @@ def margin_rows(case: Case, fe: FEResult, hand_p: HandResult | None = None,
             q, _, _ = solve_case(at, fe.solution.mesh)
             cache[current] = q.values
         key = "inductance" if kind == "secant" else "incremental_inductance"
-        return inductance_of(cache[current], kind) * fe_3d_factor(at, key)
+        f = inductance_of(cache[current], kind)
+        if depth is None:
+            return f * fe_3d_factor(at, key)
+        d_at = depth_correction(at, ({"model": model},) if model else ())
+        rel = fe.uncertainty.get(key, math.nan) / abs(fe.values[key]) if fe.values[key] else 0.0
+        bands[f"inductance_{kind}@{current:g}A"] = d_at.uncertainty(key, f, rel * f)
+        return f * d_at.factor(key)
 
     out = []
     fe_force = fe.fine.force_values.get("force", math.nan)
@@ -583,19 +700,33 @@ def margin_rows(case: Case, fe: FEResult, hand_p: HandResult | None = None,
         hand_3d = hand_3d or run_hand(case)
         hp = hand_p.force_values.get("force", math.nan)
         h3 = hand_3d.force_values.get("force", math.nan)
-        fe_force *= h3 / hp if hp and math.isfinite(h3) else 1.0
+        if depth is None:
+            fe_force *= h3 / hp if hp and math.isfinite(h3) else 1.0
+        else:
+            bands["force"] = depth.uncertainty("force", fe_force,
+                                               fe.uncertainty.get("force", math.nan))
+            fe_force *= depth.factor("force")
     for r in design_margins(case, fe_at=fe_at, fe_force=fe_force, hand_force=h3,
                             fe_magnet_H_min=fe.fine.magnet_values.get("magnet_H_min", math.nan)):
         if r.key == "peak_B":
             continue
         fe_value = math.nan if r.basis == "hand" else r.value  # judged on the hand model
+        band = math.nan
+        if r.basis == "FE":
+            band = bands.get("force" if r.key.startswith("force") else r.key.split(":")[0],
+                             math.nan)
+        verdict = r.verdict
+        if verdict == "pass" and math.isfinite(band) and abs(r.value - r.limit) <= band:
+            verdict = "inconclusive"  # met by less than the FE 3D column's uncertainty
         out.append(Row(f"margin:{r.key}", r.label + (" (hand)" if r.basis == "hand" else ""),
-                       r.unit, r.hand, fe_value, math.nan, math.nan, None, r.verdict,
-                       limit_value=r.limit, margin_pct=r.margin_pct, limit_kind=r.kind))
+                       r.unit, r.hand, fe_value, math.nan, math.nan, None, verdict,
+                       limit_value=r.limit, margin_pct=r.margin_pct, limit_kind=r.kind,
+                       fe_3d_uncertainty=band))
     return out
 
 
-def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult) -> tuple[str, ...]:
+def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult,
+            depth: DepthCorrection | None = None) -> tuple[str, ...]:
     """Short notes, in the trade's words, on where the differences come from."""
     r = {row.key: row for row in rows}
     from .coremodel import core_model
@@ -607,9 +738,16 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult)
                  "fringing included, and the '3D' columns repeat the others."]
     else:
         notes = ["Like for like: the hand column is the magnetic circuit with in-plane fringing "
-                 "only, the FE column the planar field solution for the stack depth; '3D' "
-                 f"columns add the depth-direction fringing of the '{hand_p.fringing_model}' "
-                 "model. A planar model sees no end-turn leakage."]
+                 "only, the FE column the planar field solution for the stack depth; the "
+                 f"hand 3D column adds the depth-direction fringing of the "
+                 f"'{hand_p.fringing_model}' model. A planar model sees no end-turn leakage."]
+        if depth is not None and depth.model is not None:
+            sl = depth.spread.get("inductance", 0.0) / depth.factor("inductance")
+            notes.append(f"FE 3D column: the planar FE times the '{depth.model}' model's hand "
+                         "3D / planar ratio (the depth model ranked best against the planar "
+                         "FE); its uncertainty adds the spread of that ratio over the fringing "
+                         f"models ({100 * sl:.1f} % on the inductance), and a margin met by "
+                         "less is inconclusive.")
     for w in plausibility_issues(case):
         notes.append(f"Check the input: {w}.")
     if all(w.current == 0.0 for w in case.windings) and not core_model(case).magnets:
@@ -841,7 +979,9 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
     fe = run_fe_checked(case, estimate_error=estimate_error)
     t2 = time.perf_counter()
     k_depth = depth_factor(case)
-    rows = build_rows(case, hand_p, hand_3d, fe)
+    full_ranking = rank_fringing(case, fe)
+    depth = depth_correction(case, full_ranking)
+    rows = build_rows(case, hand_p, hand_3d, fe, depth)
     drive = None
     if case.winding.driven:
         from .drive import run_drive
@@ -851,8 +991,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
     leakage = leakage_values(case, fe)
     if leakage:
         rows = rows + (leakage_row(case, leakage),)
-    notes = explain(case, rows, hand_p, fe)
-    full_ranking = rank_fringing(case, fe)
+    notes = explain(case, rows, hand_p, fe, depth)
     ranking = full_ranking if all_fringing else ()
     from .breakdown import difference_breakdown
 
@@ -865,4 +1004,4 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
                        timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
                                 "total": t3 - t0},
                        fringing_ranking=ranking, breakdown=breakdown, drive=drive,
-                       leakage=leakage)
+                       leakage=leakage, depth=depth)

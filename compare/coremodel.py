@@ -184,7 +184,9 @@ class CoreModel:
     materials : (fem2d material key, ``[materials]`` entry) for every
         region material that is not air.
     coils : per winding, in case order.
-    core_regions : the regions core B and peak B are taken over.
+    core_regions : the regions peak B is taken over, and core B (the mean
+        |B| along ``mean_path`` over its points in them; without a path the
+        mean over their area).
     gap_regions : regions left out of the path-averaged H (the gaps).
     gap_region, gap_direction : where gap B is measured, and the direction
         of the component taken (None: no gap B).

@@ -144,6 +144,20 @@ def core_b_quantile(sol: FieldSolution, fraction: float,
     return float(mag[order][min(k, len(order) - 1)])
 
 
+def path_mean_core_b(samples: Any, cores: Any) -> float:
+    """Core B as the hand model defines it: the mean |B| (T) along the mean
+    path over its points in the core regions (arc-length mean: the path's
+    samples are evenly spaced), the FE's counterpart of the hand's
+    length-weighted mean of |B| over the path's branches (compare.hand.run_hand).
+
+    A volume mean over the core would weigh each part by its volume (in r-z
+    by its radius), a different quantity from the branch mean: an r-z core's
+    outer parts, at large radius and low B, would pull it down.  NaN when
+    the path meets no core region."""
+    keep = np.isin(samples.region, list(cores))
+    return float(np.mean(samples.b[keep])) if np.any(keep) else math.nan
+
+
 def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantities, Any, np.ndarray]:
     """Reduce a field solution to the hand quantities.
 
@@ -168,7 +182,6 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     else:
         vals["gap_B"] = math.nan
     cores = list(model.core_regions)
-    vals["core_B"] = post.region_mean_b(sol, cores)
     samples = None
     if model.mean_path is not None:
         path = np.array(model.mean_path, dtype=float).T
@@ -176,8 +189,10 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
         samples = post.path_mean_h(sol, path, exclude=(*model.gap_regions,
                                                        *(m.region for m in model.magnets)))
         vals["path_H"] = samples.mean_h
+        vals["core_B"] = path_mean_core_b(samples, cores)
     else:
         vals["path_H"] = math.nan
+        vals["core_B"] = post.region_mean_b(sol, cores)
     if model.flux_line is not None:
         vals["flux"] = signed(post.flux_across(sol, *model.flux_line), ref)
     else:

@@ -115,6 +115,9 @@ def check_json(res: CheckResult, agreement: str = "fatal") -> dict:
         "max_B_at": list(fe.fine.peak_B_at),
         "depth_fringing_factor": res.depth_factor,
         "depth_corrected": {r.key: r.fe_3d for r in res.rows if r.key in HAND_KEYS},
+        "depth_corrected_uncertainty": {r.key: r.fe_3d_uncertainty for r in res.rows
+                                        if r.key in HAND_KEYS},
+        "depth_correction_model": res.depth.model if res.depth is not None else None,
         "newton_iterations": fe.fine.iterations,
         "residual": fe.fine.residual,
         "elements": fe.fine.nelements,

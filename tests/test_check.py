@@ -105,8 +105,13 @@ def test_uncertainty_brackets_finer_reference(checked_and_reference):
 # Galerkin energy: its error is the square of the energy-norm error, so it
 # converges at twice the field's order (from memory, standard FE theory), and
 # its error is so small (~1e-4 of the value) that the reference's own error
-# weighs in: factor 40 for it.
-PESSIMISM = {"gap_B": 12.0, "core_B": 12.0, "flux": 12.0, "flux_linkage": 12.0,
+# weighs in: factor 40 for it.  Core B and path H are means of point samples
+# along the mean path (compare.fe.path_mean_core_b): where the samples fall in
+# the elements changes from mesh to mesh (B is piecewise, discontinuous
+# between elements), so their differences are not monotone and the rule
+# bounds them loosely (core B: 30x the error on this case); they are held to
+# the bracketing test above only.
+PESSIMISM = {"gap_B": 12.0, "flux": 12.0, "flux_linkage": 12.0,
              "inductance": 12.0, "incremental_inductance": 12.0, "energy": 40.0}
 
 
@@ -242,16 +247,21 @@ def test_solve_failure_exit_3(monkeypatch, capsys):
 @pytest.mark.parametrize("fringing", ["area", "conformal"])
 def test_depth_corrected_fe_column_uses_the_hand_networks_3d_ratio(fringing):
     # The 'FE 3D' column is the planar FE value times the hand network's own
-    # 3D/planar ratio of that quantity (compare.check.depth_corrections):
-    # depth fringing raises only the gap permeance, so the circuit gains by
-    # the gap's share of its reluctance, less than the face factor k_depth.
+    # 3D/planar ratio of that quantity (compare.check.depth_corrections) under
+    # the depth model ranked best against the planar FE (res.depth.model),
+    # whatever the case's own model: depth fringing raises only the gap
+    # permeance, so the circuit gains by the gap's share of its reluctance,
+    # less than the face factor k_depth.
     data = tomllib.loads((CASES / "demo_choke.toml").read_text())
     data["hand"] = {"fringing": fringing}
     case = case_from_dict(data, base_dir=CASES)
     res = run_check(case, estimate_error=False)
     rows = {r.key: r for r in res.rows}
-    h3, hp = res.hand_3d.values(), res.hand_planar.values()
-    k_face = depth_factor(case)
+    m = res.depth.model
+    h3 = run_hand(case, fringing=m).values()
+    hp = run_hand(case, fringing=m, planar=True).values()
+    data["hand"] = {"fringing": m}
+    k_face = depth_factor(case_from_dict(data, base_dir=CASES))
     for key in ("flux", "flux_linkage", "inductance", "energy", "core_B", "path_H"):
         k = h3[key] / hp[key]
         assert k > 1.0 + 1e-4, key  # a real correction, or the check below proves nothing

@@ -119,17 +119,21 @@ class EICore:
                     part="I"),
             Segment("left", "tl", "bl", yt - yb, c.outer * d, "left", axis_sign=-1, part="E"),
             Segment("bottom-left", "bl", "bc", xc - xl - q, c.yoke * d, "yoke", part="E"),
-            Segment("top-right", "tc", "tr", xr - xc - q, c.yoke * d, "yoke", on_path=False,
-                    part="I"),
-            Segment("right", "tr", "br", yt - yb, c.outer * d, "right", on_path=False,
-                    axis_sign=-1, part="E"),
-            Segment("bottom-right", "br", "bc", xr - xc - q, c.yoke * d, "yoke", on_path=False,
-                    axis_sign=-1, part="E"),
+            Segment("top-right", "tc", "tr", xr - xc - q, c.yoke * d, "yoke", part="I"),
+            Segment("right", "tr", "br", yt - yb, c.outer * d, "right", axis_sign=-1, part="E"),
+            Segment("bottom-right", "br", "bc", xr - xc - q, c.yoke * d, "yoke", axis_sign=-1,
+                    part="E"),
         ]
 
     def mean_path(self, c: EICoreDims) -> list[tuple[float, float]]:
-        xl, xc, _, yb, yt = self._lines(c)
-        return [(xc, yb), (xc, yt), (xl, yt), (xl, yb), (xc, yb)]
+        """Every branch once (core B and path H average them all, as the
+        hand's segments, all on the path): the centre limb, the left loop,
+        then the right one, ending where the centre limb began (an open
+        figure of eight: bc, tc, left loop, bc, right loop, tc).  Averaging
+        one loop only would make a case and its mirror image differ when
+        a gap sits in one outer limb."""
+        xl, xc, xr, yb, yt = self._lines(c)
+        return [(xc, yb), (xc, yt), (xl, yt), (xl, yb), (xc, yb), (xr, yb), (xr, yt), (xc, yt)]
 
     def effective_path(self, c: EICoreDims) -> tuple[list[tuple[str, float, float]], tuple[str, ...]]:
         """IEC 60205 parts of the symmetric EI core: the centre limb, and
