@@ -381,7 +381,10 @@ def hand_forces(case: Case, net: Network, res: NetworkResult) -> dict[str, float
         of -(1/2) F^2 dP/dg (analytic.force.gap_forces: dW'/dx at constant
         current, exact for the network, every fringing model; a gap whose
         free sides move with the stroke, ``CircuitGap.stroke_faces``, takes
-        the derivative of its whole face).
+        the derivative of its whole face), and the iron segments the stroke
+        lengthens (``HandCircuit.segment_rates``): (W_seg / L_seg) dL/dstroke,
+        the explicit derivative of a core branch's co-energy at a fixed MMF
+        drop, -A w(B) per metre [derived here].
     force_pull : the Maxwell pull formula, the sum over the working gaps
         of phi^2 / (2 mu0 A) with phi the gap's flux and A its pole face
         (width x depth): the uniform-field stress B^2/(2 mu0) on the face
@@ -401,7 +404,11 @@ def hand_forces(case: Case, net: Network, res: NetworkResult) -> dict[str, float
         area = face.width * face.depth
         pull += maxwell_pull(res.branch(name).flux / area, area)
     moving = (*spec.gaps, *(n for n, _ in circuit.leakage_rates))
-    return {"force": float(sum(vw[n] for n in moving)), "force_pull": float(pull)}
+    # an iron segment the stroke lengthens or shortens: -dW'/dstroke of its
+    # co-energy at a fixed MMF drop is (W_seg / L_seg) dL/dstroke (HandCircuit.segment_rates)
+    iron = sum(res.branch(n).energy / res.branch(n).length * rate
+               for n, rate in circuit.segment_rates)
+    return {"force": float(sum(vw[n] for n in moving) + iron), "force_pull": float(pull)}
 
 
 def hand_magnet(case: Case, res: NetworkResult) -> dict[str, float]:

@@ -253,7 +253,10 @@ class Plunger:
         circuit = HandCircuit(segs, gaps, windings, "gap", "gap",
                               leakage=(("sliding-gap", "bb", "pb", p_slide, c.sliding_gap),
                                        ("coil-space-leakage", "pf", "sf", p_leak, room)),
-                              leakage_rates=(("coil-space-leakage", dp_leak),))
+                              leakage_rates=(("coil-space-leakage", dp_leak),),
+                              # the plunger's segment runs to its face: it lengthens one for
+                              # one as the gap closes
+                              segment_rates=(("plunger", -1.0),))
         y_gap = c.plunger_top + 0.5 * c.stroke
         gap_line = GapLine((0.0, y_gap), (2 * rp, y_gap), 1, (rp,),
                            f"the working gap ({c.stroke * 1e3:g} mm)")
