@@ -102,7 +102,12 @@ class GapFace:
     depth : float
         Out-of-plane face dimension b, the stack depth (m).
     free_height : float
-        Height available for fringing h, e.g. window height / winding length G (m).
+        The flux-factor model's G (m): the height of the winding window
+        beside the gapped limb (its straight length between the yokes or
+        plates, the winding length a window that is wound full has),
+        whatever the gap's place along it: one definition in every family
+        (McLyman 2011, via Liao & Chen 2022, eq. 20: G the window height).
+        The per-edge models take ``sides`` instead.
     sides : GapSides, optional
         The free face on each side of the gap (per-side models such as
         ``conformal`` use it; without it every side has ``free_height``
@@ -207,7 +212,9 @@ def flux_factor(face: GapFace) -> float:
     """Fringing flux factor F = 1 + (g/sqrt(A_c)) ln(2G/g), clamped to F >= 1.
 
     McLyman, Transformer and Inductor Design Handbook, 4th ed., 2011
-    [secondary, via Liao & Chen, J. Eng. 2022, eq. 20]; A_c = a*b, G = free height.
+    [secondary, via Liao & Chen, J. Eng. 2022, eq. 20]; A_c = a*b (a round
+    face: its area), G = ``free_height``, the window's height beside the
+    gapped limb (GapFace), the same in every family.
     The published factor lumps the in-plane and out-of-plane fringing
     together; :func:`flux_factor_split` divides it between the two.
     When 2G/g <= 1 the logarithm is non-positive and the published formula would

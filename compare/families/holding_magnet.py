@@ -200,16 +200,20 @@ class HoldingMagnet:
         # the faces' free sides (analytic.fringing round faces): below the
         # pole's face its steel side down to the magnet, below the wall's its
         # inner and outer sides; above both the keeper's underside, across the
-        # cup's annulus inside, and its outer edge outside
+        # cup's annulus inside (half of it to each: the pole's outer edge and
+        # the wall's inner edge face each other across it, as a u-armature's
+        # inner edges), and its outer edge outside
         window = rw0 - c.pole_radius
         h_pole = c.height - c.magnet_height
         k_out = c.keeper_thickness + (c.keeper_radius - c.radius)
-        pole_face = GapFace.round(s, 0.0, c.pole_radius, h_pole,
-                                  GapSides((h_pole, window), (h_pole, window), (h_pole, window),
-                                           (INF, window)))
+        # free height G of both faces: the cup's height, the window beside
+        # the pole (analytic.fringing.GapFace)
+        pole_face = GapFace.round(s, 0.0, c.pole_radius, c.height,
+                                  GapSides((h_pole, 0.5 * window), (h_pole, 0.5 * window),
+                                           (h_pole, 0.5 * window), (INF, window)))
         wall_face = GapFace.round(s, rw0, c.radius, c.height,
-                                  GapSides((c.height, window), (c.height + c.base, k_out),
-                                           (c.height, window), (window, INF)))
+                                  GapSides((c.height, 0.5 * window), (c.height + c.base, k_out),
+                                           (c.height, 0.5 * window), (window, INF)))
         gaps = (CircuitGap("gap-pole", "p", "k1", pole_face),
                 CircuitGap("gap-wall", "k2", "w", wall_face))
         mags = (MagnetBranch("magnet", "m0", "m", c.magnet_height, a_pole, c.remanence,

@@ -237,7 +237,8 @@ class Plunger:
         def face_at(stroke: float) -> GapFace:
             # the plunger's side shrinks one for one as its face withdraws
             lp = l_p + c.stroke - stroke
-            return GapFace.round(stroke, 0.0, rp, min(lp, l_s),
+            # free height G: the coil space's height (analytic.fringing.GapFace)
+            return GapFace.round(stroke, 0.0, rp, H - 2 * t,
                                  GapSides((lp, l_s), (lp, l_s), (lp, l_s), (INF, room)))
 
         step = 1e-3 * c.stroke  # as analytic.fringing.gap_permeance_derivative's

@@ -179,7 +179,8 @@ class PotCore:
         # faces, and its room is the hole's radius (no flux crosses the axis)
         hole = half + b
         inner_room = r0 if r0 > 0 else INF
-        face = GapFace.round(g, r0, r1, half,
+        # free height G: the window's height (analytic.fringing.GapFace)
+        face = GapFace.round(g, r0, r1, h,
                              GapSides((hole, hole), (half, half), (half, half),
                                       (inner_room, window)))
         gaps = (CircuitGap("gap", "g1", "g2", face),)
