@@ -32,11 +32,15 @@ N, I = 800, 1.0
 COIL = 32e-3  # the winding's length, centred between the plates
 
 
-def _coil_space_leakage(l_p: float, hh: float) -> tuple[float, float]:
-    """The family's coil-space leakage (Wb/A under N I) and its rate with
-    the plunger's side l_p, typed again from its definition: f(z) the
-    fraction of the turns below z (z from the lower plate over the coil
-    space's height hh), the plunger's side at N I f, the stop's at
+ROOM = R - SHELL - RP  # the coil space's radial room, 7.5 mm
+
+
+def _coil_space_leakage(l_lo: float, l_hi: float, hh: float) -> tuple[float, float]:
+    """The family's coil-space leakage (Wb/A under N I) over the plunger's
+    side from the lower plate up to l_lo and the stop's from the top plate
+    down to l_hi, and its rate with l_lo, typed again from its definition:
+    f(z) the fraction of the turns below z (z from the lower plate over the
+    coil space's height hh), the plunger's side at N I f, the stop's at
     N I (1 - f); by quadrature."""
     z1, z2 = 0.5 * (hh - COIL), 0.5 * (hh + COIL)
 
@@ -44,9 +48,9 @@ def _coil_space_leakage(l_p: float, hh: float) -> tuple[float, float]:
         return min(max((z - z1) / (z2 - z1), 0.0), 1.0)
 
     p_side = 2 * math.pi * mu_0 / math.log((R - SHELL) / RP)
-    below, _ = quad(lambda z: f(z) ** 2, 0.0, l_p, points=[z1])
-    above, _ = quad(lambda z: (1 - f(z)) ** 2, hh - STOP, hh, points=[z2])
-    return p_side * (below + above), p_side * f(l_p) ** 2
+    below, _ = quad(lambda z: f(z) ** 2, 0.0, l_lo, points=[z1])
+    above, _ = quad(lambda z: (1 - f(z)) ** 2, hh - l_hi, hh, points=[z2])
+    return p_side * (below + above), p_side * f(l_lo) ** 2
 
 
 def _doc(**core) -> dict:
@@ -76,14 +80,15 @@ def test_hand_circuit_against_the_closed_form():
     # mu0 A / g in parallel with the coil-space leakage, in series with the
     # sliding gap; the force -(1/2) F^2 dP/dg summed over both stroke-dependent
     # paths (co-energy at constant current), with the family's leakage
-    # typed again from its definition
+    # typed again from its definition, over the sides beyond the 7.5 mm
+    # beside the gap that belong to the gap's fringing (whatever its model)
     h = run_hand(_ideal())
     a = math.pi * RP ** 2
     p_g = mu_0 * a / STROKE
     p_s = 2 * math.pi * mu_0 * PLATE / math.log((RP + SLIDE) / RP)
     l_p = LENGTH - PLATE - STOP - STROKE - PLATE
     hh = LENGTH - 2 * PLATE
-    p_l, dp_l = _coil_space_leakage(l_p, hh)
+    p_l, dp_l = _coil_space_leakage(l_p - ROOM, STOP - ROOM, hh)
     phi = N * I / (1 / (p_g + p_l) + 1 / p_s)
     f_g = phi / (p_g + p_l)
     assert h.flux == pytest.approx(f_g * p_g, rel=1e-9)  # the flux row is the working gap's
@@ -93,6 +98,31 @@ def test_hand_circuit_against_the_closed_form():
     assert h.force_values["force"] == pytest.approx(force, rel=1e-9)
     assert h.force_values["force_pull"] == pytest.approx((f_g * p_g) ** 2 / (2 * mu_0 * a),
                                                          rel=1e-9)
+
+
+@pytest.mark.parametrize("stroke", [1e-3, 3e-3, 5e-3])
+def test_gap_tubes_and_coil_space_leakage_share_no_volume(stroke):
+    # The working gap's fringing tubes (flux-tube model: radius up to t about
+    # the plunger's edge, t the shorter free side capped by the room across
+    # the coil space) fill the coil space within t of the gap; the coil-space
+    # leakage (radial, plunger or stop side to the shell) must begin there.
+    # Before, both filled the whole 7.5 mm space (hand L +11.4 % over the FE).
+    from analytic.fringing import GapSides
+
+    model = core_model(case_from_dict(_doc(stroke=f"{stroke * 1e3} mm")))
+    face = model.circuit.gaps[0].face
+    sides = face.sides
+    assert isinstance(sides, GapSides)
+    t = min(min(sides.plus), sides.room[1])  # the tubes' reach (analytic.fringing._flux_tube)
+    assert t == pytest.approx(ROOM)
+    leak = {name: perm for name, _a, _b, perm, _l in model.circuit.leakage}
+    l_p = LENGTH - PLATE - STOP - stroke - PLATE
+    # Source: the leakage's definition typed again (quadrature), over the
+    # sides beyond the tubes' reach only; tolerance 1e-9: quadrature
+    p_l, _ = _coil_space_leakage(l_p - t, STOP - t, LENGTH - 2 * PLATE)
+    assert leak["coil-space-leakage"] == pytest.approx(p_l, rel=1e-9)
+    # the free faces the gap's fringing may use end where the leakage begins
+    assert max(*sides.plus, *sides.minus) == pytest.approx(t)
 
 
 @pytest.mark.parametrize("fringing", ["none", "area", "flux-factor", "flux-tube", "conformal"])
