@@ -125,15 +125,19 @@ def test_gap_tubes_and_coil_space_leakage_share_no_volume(stroke):
     assert max(*sides.plus, *sides.minus) == pytest.approx(t)
 
 
+@pytest.mark.parametrize("stop", ["12 mm", "26 mm"])
 @pytest.mark.parametrize("fringing", ["none", "area", "flux-factor", "flux-tube", "conformal"])
-def test_network_force_is_its_coenergy_derivative(fringing):
+def test_network_force_is_its_coenergy_derivative(fringing, stop):
     # Source: exact: the closing force at constant current is -dW'/d(stroke);
     # the stroke moves the gap, the plunger's free side beside it and the
     # leakage together, here by a central difference of two solves (the
     # family's rates are checked with it, not assumed).  With fringing the
-    # gap's permeance depends on the free side the stroke shortens.
+    # gap's permeance depends on the free side the stroke shortens: with the
+    # 26 mm stop the plunger's side in the coil space (5 mm) is shorter than
+    # the space's 7.5 mm room, so the fringing's reach and where the
+    # coil-space leakage begins move with the stroke.
     def case(s):
-        d = _doc(stroke=f"{s * 1e3} mm")
+        d = _doc(stroke=f"{s * 1e3} mm", stop_length=stop)
         d["materials"]["core"] = {"mu_r": 1e12}
         d["hand"]["fringing"] = fringing
         return case_from_dict(d)
