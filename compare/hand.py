@@ -98,13 +98,29 @@ def gap_face(case: Case, index: int) -> GapFace:
     winding length the flux-factor model's G stands for), sides = the free
     pole face each side of the gap as the geometry has it
     (:meth:`compare.geometry.Limb.face_run`): to the yoke across a window,
-    to the outer corner outside the core and on the stack's front and back.
+    to the outer corner outside the core and on the stack's front and back;
+    room across a window side: the window's width, or half of it where a gap
+    in the limb across the window sits within that width along the axis
+    (the two gaps' edges face each other and share the window).
     """
     gap = case.gaps[index]
     limb = case.limbs[gap.limb]
     start, end = gap.position - 0.5 * gap.length, gap.position + 0.5 * gap.length
     minus, plus, depth = (limb.face_run(s, start, end) for s in ("minus", "plus", "depth"))
-    sides = GapSides(minus, plus, depth, room=(limb.room_minus, limb.room_plus))
+    room = [limb.room_minus, limb.room_plus]
+    # a gap in the limb across a window, within the window's width along the
+    # axis: the two gaps' edges face each other across it and each takes half
+    # (their fringing tubes would otherwise fill the same volume)
+    for k, other in enumerate(case.gaps):
+        far = case.limbs[other.limb]
+        if k == index or other.limb == gap.limb or far.axis != limb.axis:
+            continue
+        for side, across in ((0, limb.c0 - far.c1), (1, far.c0 - limb.c1)):
+            w = room[side]
+            near = abs(other.position - gap.position) < 0.5 * (gap.length + other.length) + w
+            if math.isfinite(w) and math.isclose(across, w, rel_tol=1e-9) and near:
+                room[side] = 0.5 * w
+    sides = GapSides(minus, plus, depth, room=(room[0], room[1]))
     return GapFace(length=gap.length, width=limb.width, depth=case.depth, free_height=limb.span,
                    sides=sides)
 

@@ -11,8 +11,11 @@ from pathlib import Path
 
 import pytest
 
-from analytic.fringing import flux_factor
+from analytic.constants import mu_0
+
+from analytic.fringing import flux_factor, gap_permeance
 from compare import api
+from compare.casefile import case_from_dict
 from compare.coremodel import core_model
 from compare.hand import gap_face
 
@@ -75,3 +78,45 @@ def test_facing_edges_split_the_window_they_share():
     window = 17e-3 - 8e-3
     assert pole.plus[1] + wall.minus[1] == pytest.approx(window)
     assert pole.plus[1] == pytest.approx(wall.minus[1])
+
+
+def _choke(gaps: list[dict]):
+    import tomllib
+
+    d = tomllib.loads((CASES / "demo_choke.toml").read_text())
+    d["gaps"] = gaps
+    d["hand"]["fringing"] = "flux-tube"
+    return case_from_dict(d)
+
+
+def test_gaps_facing_each_other_across_a_window_share_it():
+    # demo choke: 60 x 70 mm frame, 12 mm limbs, 20 mm deep, window 36 x 46 mm.
+    # A 0.6 mm gap mid-height in each vertical limb: their window-side edges
+    # face each other across the 36 mm window and each tube may take 18 mm;
+    # alone, a gap's tube may cross the whole window.  Mirror images alike.
+    both = _choke([{"limb": "left", "length": "0.6 mm"}, {"limb": "right", "length": "0.6 mm"}])
+    left, right = gap_face(both, 0), gap_face(both, 1)
+    assert left.sides is not None and right.sides is not None
+    assert left.sides.room == pytest.approx((math.inf, 18e-3))
+    assert right.sides.room == pytest.approx((18e-3, math.inf))
+    for planar in (True, False):
+        assert gap_permeance(left, "flux-tube", planar) == pytest.approx(
+            gap_permeance(right, "flux-tube", planar), rel=1e-12)
+    alone = gap_face(_choke([{"limb": "left", "length": "0.6 mm"}]), 0)
+    assert alone.sides is not None and alone.sides.room == pytest.approx((math.inf, 36e-3))
+    # far apart along the limbs (more than the window's width), they do not
+    # share it
+    apart = _choke([{"limb": "left", "length": "0.6 mm", "position": "2 mm"},
+                    {"limb": "right", "length": "0.6 mm", "position": "44 mm"}])
+    assert gap_face(apart, 0).sides.room == pytest.approx((math.inf, 36e-3))
+    # Source: Roters 1941 flux tubes (tests/test_u_armature.py's edge term),
+    # evaluated by hand: outer edge t = 34.7 mm (to the frame's corners),
+    # window edge t = min(22.7 mm to the yokes, 18 mm); tolerance: rounding
+    g, a = 0.6e-3, 12e-3
+
+    def edge(t: float) -> float:
+        return 0.26 + math.log(1 + 2 * t / g) / math.pi
+
+    k_plane = 1 + g / a * (edge(34.7e-3) + edge(18e-3))
+    assert gap_permeance(left, "flux-tube", True) == pytest.approx(
+        mu_0 * a * 20e-3 / g * k_plane, rel=1e-12)
