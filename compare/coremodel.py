@@ -150,6 +150,13 @@ class HandCircuit:
     """(leakage path, dP/dstroke in Wb/A per m) for the linear paths that the
     moving part's stroke changes: their -(1/2) F^2 dP/dstroke adds to the
     network's virtual-work force."""
+    segment_rates: tuple[tuple[str, float], ...] = ()
+    """(core segment, dlength/dstroke, dimensionless) for the iron segments
+    whose length the stroke changes (a plunger that lengthens in the circuit
+    as its gap closes): at constant current a core branch's co-energy
+    A L w'(F/L) changes with its length, at a fixed MMF drop F, by -A w(B)
+    per metre (w the energy density), so each adds (W_seg / L_seg) x rate
+    to the closing force (compare.hand.hand_forces)."""
 
 
 @dataclass(frozen=True)

@@ -99,13 +99,29 @@ def gap_face(case: Case, index: int) -> GapFace:
     winding length the flux-factor model's G stands for), sides = the free
     pole face each side of the gap as the geometry has it
     (:meth:`compare.geometry.Limb.face_run`): to the yoke across a window,
-    to the outer corner outside the core and on the stack's front and back.
+    to the outer corner outside the core and on the stack's front and back;
+    room across a window side: the window's width, or half of it where a gap
+    in the limb across the window sits within that width along the axis
+    (the two gaps' edges face each other and share the window).
     """
     gap = case.gaps[index]
     limb = case.limbs[gap.limb]
     start, end = gap.position - 0.5 * gap.length, gap.position + 0.5 * gap.length
     minus, plus, depth = (limb.face_run(s, start, end) for s in ("minus", "plus", "depth"))
-    sides = GapSides(minus, plus, depth, room=(limb.room_minus, limb.room_plus))
+    room = [limb.room_minus, limb.room_plus]
+    # a gap in the limb across a window, within the window's width along the
+    # axis: the two gaps' edges face each other across it and each takes half
+    # (their fringing tubes would otherwise fill the same volume)
+    for k, other in enumerate(case.gaps):
+        far = case.limbs[other.limb]
+        if k == index or other.limb == gap.limb or far.axis != limb.axis:
+            continue
+        for side, across in ((0, limb.c0 - far.c1), (1, far.c0 - limb.c1)):
+            w = room[side]
+            near = abs(other.position - gap.position) < 0.5 * (gap.length + other.length) + w
+            if math.isfinite(w) and math.isclose(across, w, rel_tol=1e-9) and near:
+                room[side] = 0.5 * w
+    sides = GapSides(minus, plus, depth, room=(room[0], room[1]))
     return GapFace(length=gap.length, width=limb.width, depth=case.depth, free_height=limb.span,
                    sides=sides)
 
@@ -382,7 +398,10 @@ def hand_forces(case: Case, net: Network, res: NetworkResult) -> dict[str, float
         of -(1/2) F^2 dP/dg (analytic.force.gap_forces: dW'/dx at constant
         current, exact for the network, every fringing model; a gap whose
         free sides move with the stroke, ``CircuitGap.stroke_faces``, takes
-        the derivative of its whole face).
+        the derivative of its whole face), and the iron segments the stroke
+        lengthens (``HandCircuit.segment_rates``): (W_seg / L_seg) dL/dstroke,
+        the explicit derivative of a core branch's co-energy at a fixed MMF
+        drop, -A w(B) per metre [derived here].
     force_pull : the Maxwell pull formula, the sum over the working gaps
         of phi^2 / (2 mu0 A) with phi the gap's flux and A its pole face
         (width x depth): the uniform-field stress B^2/(2 mu0) on the face
@@ -402,7 +421,11 @@ def hand_forces(case: Case, net: Network, res: NetworkResult) -> dict[str, float
         area = face.width * face.depth
         pull += maxwell_pull(res.branch(name).flux / area, area)
     moving = (*spec.gaps, *(n for n, _ in circuit.leakage_rates))
-    return {"force": float(sum(vw[n] for n in moving)), "force_pull": float(pull)}
+    # an iron segment the stroke lengthens or shortens: -dW'/dstroke of its
+    # co-energy at a fixed MMF drop is (W_seg / L_seg) dL/dstroke (HandCircuit.segment_rates)
+    iron = sum(res.branch(n).energy / res.branch(n).length * rate
+               for n, rate in circuit.segment_rates)
+    return {"force": float(sum(vw[n] for n in moving) + iron), "force_pull": float(pull)}
 
 
 def hand_magnet(case: Case, res: NetworkResult) -> dict[str, float]:

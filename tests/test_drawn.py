@@ -712,11 +712,20 @@ def test_axisymmetric_circuit_gap_takes_a_round_face():
     case = case_from_dict(d)
     face = core_model(case).circuit.gaps[0].face
     assert face.radii == pytest.approx((0.0, 5e-3))
-    # Source: Roters 1941 flux tubes round the disc's edge [secondary, REFERENCES.md 1]
+    # Source: Roters 1941 flux tubes round the disc's edge [secondary, REFERENCES.md 1],
+    # the hollow cylinder bent round it (a half torus, each shell's reluctance
+    # integral by nested quadrature, as tests/test_fringing.py); 1e-6: quadrature
+    from scipy.integrate import quad
+
     g, r, t = 1e-3, 5e-3, 6e-3
     mu0_ = 4e-7 * math.pi
-    p = mu0_ * math.pi * r ** 2 / g + mu0_ * 2 * math.pi * r * (0.26 + math.log(1 + 2 * t / g)
-                                                                / math.pi)
+
+    def shell(rho: float) -> float:
+        inv, _ = quad(lambda th: rho / (2 * math.pi * (r + rho * math.sin(th))), 0.0, math.pi)
+        return 1.0 / inv
+
+    torus, _ = quad(shell, g / 2, g / 2 + t)
+    p = mu0_ * math.pi * r ** 2 / g + mu0_ * (2 * math.pi * r * 0.26 + torus)
     assert gap_permeance(face, "flux-tube", False) == pytest.approx(p, rel=1e-6)
     assert any("r 0 to 5 mm" in v for _, v in case.family_model.describe(case.core))
 

@@ -33,7 +33,8 @@ def test_hand_circuit_against_the_closed_form_load_line():
     # Source: exact for the circuit with ideal iron: the magnet (internal
     # permeance P_m = mu0 mu_r A_m / l_m, coercive MMF F_c = B_r l_m/(mu0 mu_r))
     # loaded by the two ideal gaps in series and the cup's leakage in parallel,
-    # phi_m = P_m F_c / (1 + P_m / P_ext)
+    # phi_m = P_m F_c / (1 + P_m / P_ext); the leakage energy-equivalent over
+    # the magnet's side (weight h_m/3, test_cup_leakage_is_energy_equivalent)
     d = _doc()
     d["materials"]["core"] = {"mu_r": 1e12}
     h = run_hand(case_from_dict(d))
@@ -41,7 +42,7 @@ def test_hand_circuit_against_the_closed_form_load_line():
     a_m = math.pi * rp ** 2
     a_w = math.pi * (20e-3 ** 2 - rw0 ** 2)
     p1, p2 = mu_0 * a_m / s, mu_0 * a_w / s
-    p_leak = 2 * math.pi * mu_0 * (hc - hm / 2) / math.log(rw0 / rp)
+    p_leak = 2 * math.pi * mu_0 * (hc - hm + hm / 3) / math.log(rw0 / rp)
     p_ext = p1 * p2 / (p1 + p2) + p_leak
     b_r, mu_r = 0.40, 1.08  # demo-hard-ferrite (analytic.magnets)
     p_m = mu_0 * mu_r * a_m / hm
@@ -54,6 +55,26 @@ def test_hand_circuit_against_the_closed_form_load_line():
     pull = phi_g ** 2 / (2 * mu_0 * a_m) + phi_g ** 2 / (2 * mu_0 * a_w)
     assert h.force_values["force"] == pytest.approx(pull, rel=1e-9)
     assert h.force_values["force_pull"] == pytest.approx(pull, rel=1e-9)
+
+
+def test_cup_leakage_is_energy_equivalent():
+    # Source: exact for radial flux across a coaxial annulus: P' dz =
+    # 2 pi mu0 dz / ln(r_wall / r_pole) per height; the pole's side at the
+    # full pole-to-wall drop F, the magnet's side at F z / h_m (its potential
+    # rising linearly from the base).  The energy (1/2) P' F^2 int w(z)^2 dz
+    # over the cup's height is that of P_eq = P' int w(z)^2 dz, done here by
+    # quadrature: the magnet's side counts h_m/3, as the coil-space leakage of
+    # the other r-z families (families.base.coil_space_leakage), not the
+    # flux-equivalent h_m/2.  Tolerance 1e-9: the quadrature.
+    from scipy.integrate import quad
+
+    model = core_model(case_from_dict(_doc()))
+    leak = {name: perm for name, _a, _b, perm, _l in model.circuit.leakage}
+    rp, rw0, hm, hc = 8e-3, 17e-3, 5e-3, 12e-3
+    p_side = 2 * math.pi * mu_0 / math.log(rw0 / rp)
+    weight, _ = quad(lambda z: (z / hm) ** 2 if z < hm else 1.0, 0.0, hc, points=[hm])
+    assert leak["cup-leakage"] + leak["cup-leakage-low"] == pytest.approx(p_side * weight,
+                                                                          rel=1e-9)
 
 
 def test_geometry_is_axisymmetric_with_the_keeper_moving():
@@ -109,7 +130,7 @@ def test_fe_magnet_nearly_shorted_sits_at_the_load_line_intersection():
     a_m = math.pi * rp ** 2
     a_w = math.pi * (20e-3 ** 2 - rw0 ** 2)
     p1, p2 = mu_0 * a_m / s, mu_0 * a_w / s
-    p_leak = 2 * math.pi * mu_0 * (hc - hm / 2) / math.log(rw0 / rp)
+    p_leak = 2 * math.pi * mu_0 * (hc - hm + hm / 3) / math.log(rw0 / rp)
     p_ext = p1 * p2 / (p1 + p2) + p_leak
     b_r, mu_r = 0.40, 1.08
     p_m = mu_0 * mu_r * a_m / hm

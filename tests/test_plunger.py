@@ -32,11 +32,15 @@ N, I = 800, 1.0
 COIL = 32e-3  # the winding's length, centred between the plates
 
 
-def _coil_space_leakage(l_p: float, hh: float) -> tuple[float, float]:
-    """The family's coil-space leakage (Wb/A under N I) and its rate with
-    the plunger's side l_p, typed again from its definition: f(z) the
-    fraction of the turns below z (z from the lower plate over the coil
-    space's height hh), the plunger's side at N I f, the stop's at
+ROOM = R - SHELL - RP  # the coil space's radial room, 7.5 mm
+
+
+def _coil_space_leakage(l_lo: float, l_hi: float, hh: float) -> tuple[float, float]:
+    """The family's coil-space leakage (Wb/A under N I) over the plunger's
+    side from the lower plate up to l_lo and the stop's from the top plate
+    down to l_hi, and its rate with l_lo, typed again from its definition:
+    f(z) the fraction of the turns below z (z from the lower plate over the
+    coil space's height hh), the plunger's side at N I f, the stop's at
     N I (1 - f); by quadrature."""
     z1, z2 = 0.5 * (hh - COIL), 0.5 * (hh + COIL)
 
@@ -44,9 +48,9 @@ def _coil_space_leakage(l_p: float, hh: float) -> tuple[float, float]:
         return min(max((z - z1) / (z2 - z1), 0.0), 1.0)
 
     p_side = 2 * math.pi * mu_0 / math.log((R - SHELL) / RP)
-    below, _ = quad(lambda z: f(z) ** 2, 0.0, l_p, points=[z1])
-    above, _ = quad(lambda z: (1 - f(z)) ** 2, hh - STOP, hh, points=[z2])
-    return p_side * (below + above), p_side * f(l_p) ** 2
+    below, _ = quad(lambda z: f(z) ** 2, 0.0, l_lo, points=[z1])
+    above, _ = quad(lambda z: (1 - f(z)) ** 2, hh - l_hi, hh, points=[z2])
+    return p_side * (below + above), p_side * f(l_lo) ** 2
 
 
 def _doc(**core) -> dict:
@@ -76,14 +80,15 @@ def test_hand_circuit_against_the_closed_form():
     # mu0 A / g in parallel with the coil-space leakage, in series with the
     # sliding gap; the force -(1/2) F^2 dP/dg summed over both stroke-dependent
     # paths (co-energy at constant current), with the family's leakage
-    # typed again from its definition
+    # typed again from its definition, over the sides beyond the 7.5 mm
+    # beside the gap that belong to the gap's fringing (whatever its model)
     h = run_hand(_ideal())
     a = math.pi * RP ** 2
     p_g = mu_0 * a / STROKE
     p_s = 2 * math.pi * mu_0 * PLATE / math.log((RP + SLIDE) / RP)
     l_p = LENGTH - PLATE - STOP - STROKE - PLATE
     hh = LENGTH - 2 * PLATE
-    p_l, dp_l = _coil_space_leakage(l_p, hh)
+    p_l, dp_l = _coil_space_leakage(l_p - ROOM, STOP - ROOM, hh)
     phi = N * I / (1 / (p_g + p_l) + 1 / p_s)
     f_g = phi / (p_g + p_l)
     assert h.flux == pytest.approx(f_g * p_g, rel=1e-9)  # the flux row is the working gap's
@@ -95,15 +100,44 @@ def test_hand_circuit_against_the_closed_form():
                                                          rel=1e-9)
 
 
+@pytest.mark.parametrize("stroke", [1e-3, 3e-3, 5e-3])
+def test_gap_tubes_and_coil_space_leakage_share_no_volume(stroke):
+    # The working gap's fringing tubes (flux-tube model: radius up to t about
+    # the plunger's edge, t the shorter free side capped by the room across
+    # the coil space) fill the coil space within t of the gap; the coil-space
+    # leakage (radial, plunger or stop side to the shell) must begin there.
+    # Before, both filled the whole 7.5 mm space (hand L +11.4 % over the FE).
+    from analytic.fringing import GapSides
+
+    model = core_model(case_from_dict(_doc(stroke=f"{stroke * 1e3} mm")))
+    face = model.circuit.gaps[0].face
+    sides = face.sides
+    assert isinstance(sides, GapSides)
+    t = min(min(sides.plus), sides.room[1])  # the tubes' reach (analytic.fringing._flux_tube)
+    assert t == pytest.approx(ROOM)
+    leak = {name: perm for name, _a, _b, perm, _l in model.circuit.leakage}
+    l_p = LENGTH - PLATE - STOP - stroke - PLATE
+    # Source: the leakage's definition typed again (quadrature), over the
+    # sides beyond the tubes' reach only; tolerance 1e-9: quadrature
+    p_l, _ = _coil_space_leakage(l_p - t, STOP - t, LENGTH - 2 * PLATE)
+    assert leak["coil-space-leakage"] == pytest.approx(p_l, rel=1e-9)
+    # the free faces the gap's fringing may use end where the leakage begins
+    assert max(*sides.plus, *sides.minus) == pytest.approx(t)
+
+
+@pytest.mark.parametrize("stop", ["12 mm", "26 mm"])
 @pytest.mark.parametrize("fringing", ["none", "area", "flux-factor", "flux-tube", "conformal"])
-def test_network_force_is_its_coenergy_derivative(fringing):
+def test_network_force_is_its_coenergy_derivative(fringing, stop):
     # Source: exact: the closing force at constant current is -dW'/d(stroke);
     # the stroke moves the gap, the plunger's free side beside it and the
     # leakage together, here by a central difference of two solves (the
     # family's rates are checked with it, not assumed).  With fringing the
-    # gap's permeance depends on the free side the stroke shortens.
+    # gap's permeance depends on the free side the stroke shortens: with the
+    # 26 mm stop the plunger's side in the coil space (5 mm) is shorter than
+    # the space's 7.5 mm room, so the fringing's reach and where the
+    # coil-space leakage begins move with the stroke.
     def case(s):
-        d = _doc(stroke=f"{s * 1e3} mm")
+        d = _doc(stroke=f"{s * 1e3} mm", stop_length=stop)
         d["materials"]["core"] = {"mu_r": 1e12}
         d["hand"]["fringing"] = fringing
         return case_from_dict(d)
@@ -114,6 +148,31 @@ def test_network_force_is_its_coenergy_derivative(fringing):
     ds = 1e-3 * STROKE
     fd = -(coenergy(STROKE + ds) - coenergy(STROKE - ds)) / (2 * ds)
     assert run_hand(case(STROKE)).force_values["force"] == pytest.approx(fd, rel=1e-5)
+
+
+@pytest.mark.parametrize("fringing", ["none", "flux-tube"])
+def test_network_force_on_linear_iron_is_its_coenergy_derivative(fringing):
+    # Source: exact: the closing force at constant current is -dW'/d(stroke)
+    # of the network's own co-energy.  On iron of finite permeability the
+    # plunger's segment (to its face) lengthens one for one as the gap
+    # closes, and its co-energy at a fixed MMF drop falls by A w per metre:
+    # without that term the force read 3.7934 N against the derivative's
+    # 3.7587 N here (mu_r 200, no fringing).
+    # Tolerance 1e-6: the central difference's truncation ~ (ds/s)^2 = 1e-6
+    # (ds = 1e-3 s) and the networks' rounding ~ 1e-10 W' s/ds = 1e-7,
+    # far below the 2.4e-3 the missing term is worth.
+    def case(s):
+        d = _doc(stroke=f"{s * 1e3} mm")
+        d["materials"]["core"] = {"mu_r": 200}
+        d["hand"]["fringing"] = fringing
+        return case_from_dict(d)
+
+    def coenergy(s):
+        return run_hand(case(s)).energy  # linear iron: W' = W
+
+    ds = 1e-3 * STROKE
+    fd = -(coenergy(STROKE + ds) - coenergy(STROKE - ds)) / (2 * ds)
+    assert run_hand(case(STROKE)).force_values["force"] == pytest.approx(fd, rel=1e-6)
 
 
 def test_geometry_of_both_models():
@@ -182,6 +241,11 @@ def test_check_force_methods_agree():
     # two independent FE methods (fem2d.force), within 1e-3 as the selftest holds them
     assert fv["force_virtual_work"] == pytest.approx(fv["force_maxwell"], rel=1e-3)
     assert res.fe.uncertainty["force"] < 0.01 * fv["force"]
-    # the hand network's virtual work is within 10 % of the field solution at
-    # the 3 mm stroke (6.6 % found): leakage and fringing as modelled
-    assert res.hand_3d.force_values["force"] == pytest.approx(fv["force"], rel=0.10)
+    # the hand network's virtual work is within 15 % of the field solution at
+    # the 3 mm stroke (11.9 % under it found, engineering judgement): its
+    # fringing tubes cross the coil space as if the gap's whole MMF drove them,
+    # and the coil-space leakage starts where they end (the space counted
+    # once); the force is its co-energy's derivative, the plunger's own
+    # segment included (was 6.0 % under with the space counted twice and
+    # that segment's term left out)
+    assert res.hand_3d.force_values["force"] == pytest.approx(fv["force"], rel=0.15)

@@ -7,6 +7,7 @@ FE methods agree, the FE converges), and that bad cores name their key.
 
 from __future__ import annotations
 
+import math
 import tomllib
 from pathlib import Path
 
@@ -42,6 +43,31 @@ def test_hand_model_against_the_ideal_closed_form():
                                                     rel=1e-9)
     assert h.force_values["force_pull"] == pytest.approx(h.force_values["force"], rel=1e-9)
     assert h.gap_B == pytest.approx(mu_0 * n * i / (2 * g), rel=1e-9)
+
+
+@pytest.mark.parametrize("planar", [True, False])
+def test_armature_limited_faces_against_the_flux_tube_closed_form(planar):
+    # Source: Roters, Electromagnetic Devices, Wiley 1941 (docs: the
+    # flux-tube model's edge term), evaluated here by hand: per edge a half
+    # solid cylinder 0.26 mu0 L and a half hollow cylinder
+    # (mu0 L / pi) ln(1 + 2 t/g), t the shorter free face of the two sides.
+    # The armature (5 mm thick) offers 5 mm at the outer and the two depth
+    # edges; at the inner edge its underside runs across the 14 mm window,
+    # 7 mm to each leg; the legs' faces are longer (22-30 mm).  Ideal iron,
+    # two equal gaps in series: L = N^2 P / 2 (exact for the network).
+    # Tolerance 1e-9: the network's solve.
+    d = _doc(stroke="0.8 mm")
+    d["materials"]["core"] = {"mu_r": 1e12}
+    h = run_hand(case_from_dict(d), planar=planar)
+    n, a, b, g = 1200, 8e-3, 12e-3, 0.8e-3
+
+    def edge(t: float) -> float:
+        return 0.26 + math.log(1 + 2 * t / g) / math.pi
+
+    k_plane = 1 + g / a * (edge(5e-3) + edge(7e-3))
+    k_depth = 1 + g / b * 2 * edge(5e-3)
+    p = mu_0 * a * b / g * k_plane * (1.0 if planar else k_depth)
+    assert h.inductance == pytest.approx(n * n * p / 2, rel=1e-9)
 
 
 def test_geometry_of_both_models():

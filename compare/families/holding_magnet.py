@@ -200,16 +200,20 @@ class HoldingMagnet:
         # the faces' free sides (analytic.fringing round faces): below the
         # pole's face its steel side down to the magnet, below the wall's its
         # inner and outer sides; above both the keeper's underside, across the
-        # cup's annulus inside, and its outer edge outside
+        # cup's annulus inside (half of it to each: the pole's outer edge and
+        # the wall's inner edge face each other across it, as a u-armature's
+        # inner edges), and its outer edge outside
         window = rw0 - c.pole_radius
         h_pole = c.height - c.magnet_height
         k_out = c.keeper_thickness + (c.keeper_radius - c.radius)
-        pole_face = GapFace.round(s, 0.0, c.pole_radius, h_pole,
-                                  GapSides((h_pole, window), (h_pole, window), (h_pole, window),
-                                           (INF, window)))
+        # free height G of both faces: the cup's height, the window beside
+        # the pole (analytic.fringing.GapFace)
+        pole_face = GapFace.round(s, 0.0, c.pole_radius, c.height,
+                                  GapSides((h_pole, 0.5 * window), (h_pole, 0.5 * window),
+                                           (h_pole, 0.5 * window), (INF, window)))
         wall_face = GapFace.round(s, rw0, c.radius, c.height,
-                                  GapSides((c.height, window), (c.height + c.base, k_out),
-                                           (c.height, window), (window, INF)))
+                                  GapSides((c.height, 0.5 * window), (c.height + c.base, k_out),
+                                           (c.height, 0.5 * window), (window, INF)))
         gaps = (CircuitGap("gap-pole", "p", "k1", pole_face),
                 CircuitGap("gap-wall", "k2", "w", wall_face))
         mags = (MagnetBranch("magnet", "m0", "m", c.magnet_height, a_pole, c.remanence,
@@ -217,17 +221,19 @@ class HoldingMagnet:
         # a positive release current: +phi round the axis drives flux up the pole (+z), with the magnet
         # leakage inside the cup, pole to wall across the annulus: both irons are
         # near equipotentials, so the full pole-to-wall drop acts over the pole's
-        # height and, rising linearly up the magnet's side, over half the
-        # magnet's: P = 2 pi mu0 (h_pole + h_m/2) / ln(r_wall / r_pole) (radial
-        # flux tubes of a coaxial annulus, exact for straight radial lines;
-        # common practice, no source).  It is lumped at the pole's two ends,
+        # height and, rising linearly up the magnet's side, a third of the
+        # magnet's (the energy-equivalent weight, int_0^h_m (z/h_m)^2 dz, the
+        # rule of families.base.coil_space_leakage for the other r-z
+        # families): P = 2 pi mu0 (h_pole + h_m/3) / ln(r_wall / r_pole)
+        # (radial flux tubes of a coaxial annulus, exact for straight radial
+        # lines; the energy weighting derived here; common practice, no source).  It is lumped at the pole's two ends,
         # the upper half of the pole's share at its face, the rest at its foot
         # (so a release coil's own flux can close round it without crossing
         # the magnet: the incremental L was 36 % under the FE's with all of it
         # at the face); with ideal iron the two are in parallel, one P.
         p_side = 2 * math.pi * mu_0 / math.log(rw0 / c.pole_radius)
         p_up = p_side * 0.5 * h_pole
-        p_low = p_side * (0.5 * h_pole + 0.5 * c.magnet_height)
+        p_low = p_side * (0.5 * h_pole + c.magnet_height / 3.0)
         circuit = HandCircuit(segs, gaps, (("pole", 1),), "gap-pole", "pole", mags,
                               leakage=(("cup-leakage", "p", "w", p_up, rw0 - c.pole_radius),
                                        ("cup-leakage-low", "m", "b", p_low, rw0 - c.pole_radius)))

@@ -22,7 +22,9 @@ Hand model, round the loop plunger (up) - working gap - stop - top plate
 
 * the working gap over the plunger's disc face with the case's fringing
   model (analytic.fringing round faces; free faces: the plunger's side below
-  the gap, the stop's above, room across: the coil space);
+  the gap and the stop's above, as far as the coil space's radial room (the
+  tubes' reach across it), room across: the coil space; free height G: the
+  coil space's height);
 * the sliding gap as the coaxial annulus over the plate's thickness t,
   P = 2 pi mu0 t / ln(r_bore / r_plunger) (exact for the radial field of a
   coaxial annulus; its end fringing neglected);
@@ -36,13 +38,17 @@ Hand model, round the loop plunger (up) - working gap - stop - top plate
   N I (1 - f(z)) beside the stop, f(z) the fraction of the turns below z.
   A coaxial annulus of length dz has permeance P' dz, P' = 2 pi mu0 /
   ln(r_shell / r_plunger); its energy over the plunger's side l_p and the
-  stop's l_s gives the energy-equivalent permeance under N I of
+  stop's l_s, less the stretch t beside the gap that the gap's fringing
+  takes (the coil space counted once), gives the energy-equivalent
+  permeance under N I of
   families.base.coil_space_leakage (P' (l_p^3 + l_s^3) / (3 h^2) for a
   winding filling the coil space's height h) [derived here; common
   practice, no source].  The stroke shortens l_p one for one, so its
-  dP/dstroke = -P' f(l_p)^2 enters the network's virtual-work force beside
-  the working gap's, whose own rate follows its whole face: the gap longer
-  and the plunger's free side shorter (``CircuitGap.stroke_faces``).
+  dP/dstroke (-P' f(l_p - t)^2 while t is the room) enters the network's
+  virtual-work force beside the working gap's, whose own rate follows its
+  whole face: the gap longer and the plunger's free side shorter
+  (``CircuitGap.stroke_faces``), and beside the plunger's segment, which
+  lengthens one for one (``HandCircuit.segment_rates``).
 
 The flux row is the working gap's (its fringing included): the field model
 measures it down the shell at the gap's height, where the leakage paths
@@ -234,26 +240,46 @@ class Plunger:
         l_p, l_s = c.plunger_top - t, c.stop_length  # side faces facing the coil space
         room = rs_in - rp
 
+        spans = tuple((mid - 0.5 * w.length - t, mid + 0.5 * w.length - t, float(w.turns))
+                      for w in case.windings)
+
+        def reach(lp: float) -> float:
+            # the sides' stretch beside the gap that its fringing takes: as far
+            # as the tubes reach across the coil space (its radial room), at
+            # most the shorter side; the coil-space leakage takes the rest
+            return min(room, lp, l_s)
+
         def face_at(stroke: float) -> GapFace:
             # the plunger's side shrinks one for one as its face withdraws
             lp = l_p + c.stroke - stroke
-            return GapFace.round(stroke, 0.0, rp, min(lp, l_s),
-                                 GapSides((lp, l_s), (lp, l_s), (lp, l_s), (INF, room)))
+            r = reach(lp)
+            # free height G: the coil space's height (analytic.fringing.GapFace)
+            return GapFace.round(stroke, 0.0, rp, H - 2 * t,
+                                 GapSides((r, r), (r, r), (r, r), (INF, room)))
+
+        def leak_at(stroke: float) -> float:
+            lp = l_p + c.stroke - stroke
+            r = reach(lp)
+            return coil_space_leakage(rp, rs_in, lp - r, l_s - r, H - 2 * t, spans)[0]
 
         step = 1e-3 * c.stroke  # as analytic.fringing.gap_permeance_derivative's
         f0, f1, f2, f3 = (face_at(c.stroke + k * step) for k in (-2, -1, 1, 2))
         gaps = (CircuitGap("gap", "pf", "sf", face_at(c.stroke), stroke_faces=(f0, f1, f2, f3)),)
         p_slide = 2 * math.pi * mu_0 * t / math.log(c.bore / rp)
-        spans = tuple((mid - 0.5 * w.length - t, mid + 0.5 * w.length - t, float(w.turns))
-                      for w in case.windings)
-        p_leak, dp_dlo = coil_space_leakage(rp, rs_in, l_p, l_s, H - 2 * t, spans)
+        p_leak = leak_at(c.stroke)
+        # its rate with the stroke, by the same fourth-order difference as the gap's
+        l0, l1, l2, l3 = (leak_at(c.stroke + k * step) for k in (-2, -1, 1, 2))
+        dp_leak = (8.0 * (l2 - l1) - (l3 - l0)) / (12.0 * step)
         windings = tuple(("shell", 1) for _ in case.windings)
-        # the stroke shortens the plunger's side in the coil space one for one
-        dp_leak = -dp_dlo
+        # (no coil-space branch when the gap's fringing takes the whole space)
+        leak = (("coil-space-leakage", "pf", "sf", p_leak, room),) if p_leak > 0.0 else ()
         circuit = HandCircuit(segs, gaps, windings, "gap", "gap",
                               leakage=(("sliding-gap", "bb", "pb", p_slide, c.sliding_gap),
-                                       ("coil-space-leakage", "pf", "sf", p_leak, room)),
-                              leakage_rates=(("coil-space-leakage", dp_leak),))
+                                       *leak),
+                              leakage_rates=(("coil-space-leakage", dp_leak),) if leak else (),
+                              # the plunger's segment runs to its face: it lengthens one for
+                              # one as the gap closes
+                              segment_rates=(("plunger", -1.0),))
         y_gap = c.plunger_top + 0.5 * c.stroke
         gap_line = GapLine((0.0, y_gap), (2 * rp, y_gap), 1, (rp,),
                            f"the working gap ({c.stroke * 1e3:g} mm)")

@@ -19,9 +19,10 @@ out) - wall (down) - bottom plate (radially in):
 
 * the post's gap over its face (a disc, or an annulus round the hole) with
   the case's fringing model (analytic.fringing round faces; free faces: the
-  post's side up and down to the plates, room across: the window; the
-  hole's side runs on through the base plates to the outer faces, its room
-  the hole's radius, since no flux crosses the axis);
+  post's side up and down from the gap as far as the window's width (the
+  tubes' reach across it), room across: the window; the hole's side runs on
+  through the base plates to the outer faces, its room the hole's radius,
+  since no flux crosses the axis; free height G: the window's height);
 * the plates as radial flux tubes between the post's and the wall's mean
   radii (exact reluctance ln(r2/r1) / (2 pi mu t), as in the other r-z
   families);
@@ -29,7 +30,10 @@ out) - wall (down) - bottom plate (radially in):
   the energy-equivalent permeance of families.base.coil_space_leakage
   over the winding's span (P' h / 12 for a winding filling the window and a
   gap at mid-height; less for a shorter winding, which encloses less MMF
-  near the plates) [derived; common practice, no source].
+  near the plates) [derived; common practice, no source], over the post's
+  sides beyond the stretch the gap's fringing takes (the window is counted
+  once: on the demo, a window as wide as half its height, the fringing
+  takes it all).
 
 The flux row is the gap's (its fringing included); the field model measures
 it down the wall at the gap's height, where the window's leakage has closed.
@@ -179,16 +183,22 @@ class PotCore:
         # faces, and its room is the hole's radius (no flux crosses the axis)
         hole = half + b
         inner_room = r0 if r0 > 0 else INF
-        face = GapFace.round(g, r0, r1, half,
-                             GapSides((hole, hole), (half, half), (half, half),
+        # the post's side beside the gap that the gap's fringing takes: as far
+        # as its tubes reach across the window, at most the side's length;
+        # the window leakage takes the rest (the window counted once)
+        reach = min(window, half)
+        # free height G: the window's height (analytic.fringing.GapFace)
+        face = GapFace.round(g, r0, r1, h,
+                             GapSides((hole, hole), (reach, reach), (reach, reach),
                                       (inner_room, window)))
         gaps = (CircuitGap("gap", "g1", "g2", face),)
         spans = tuple((c.mid - 0.5 * w.length - b, c.mid + 0.5 * w.length - b, float(w.turns))
                       for w in case.windings)
-        p_leak, _ = coil_space_leakage(r1, rw0, half, half, h, spans)
+        p_leak, _ = coil_space_leakage(r1, rw0, half - reach, half - reach, h, spans)
         windings = tuple(("post-lower", 1) for _ in case.windings)
-        circuit = HandCircuit(segs, gaps, windings, "gap", "gap",
-                              leakage=(("window-leakage", "g1", "g2", p_leak, window),))
+        # (no branch when the fringing takes the whole window)
+        leak = (("window-leakage", "g1", "g2", p_leak, window),) if p_leak > 0.0 else ()
+        circuit = HandCircuit(segs, gaps, windings, "gap", "gap", leakage=leak)
         gap_line = GapLine((0.0, c.mid), (r1 + 0.5 * window, c.mid), 1, (r0, r1),
                            f"the post's gap ({g * 1e3:g} mm)")
         return CoreModel(

@@ -14,7 +14,9 @@ Hand model: the mean path through the centre lines (legs from the yoke's
 centre line to the pole face, the armature between the legs' centre lines
 plus half its thickness at each end, the yoke between the legs' centre
 lines: common practice, no source), the two working gaps with the case's
-fringing model (face = leg width x depth, free height = the leg's length),
+fringing model (face = leg width x depth; the free faces at each edge
+as the parts have them, ``UArmature.gap_sides``; free height G = the
+window's height, the flux-factor model's winding length),
 each winding's MMF in its leg.  The moving body is the armature; the force
 is reported along its closing motion (-y).
 """
@@ -24,7 +26,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from analytic.fringing import GapFace
+from analytic.fringing import GapFace, GapSides
 from fem2d.layout import Rect, Region
 
 from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel, ForceSpec, GapLine,
@@ -132,6 +134,21 @@ class UArmature:
     def effective_path(self, c: UArmatureDims) -> tuple[list, tuple[str, ...]]:
         raise CaseError("hand.effective_parameters", True, "not modelled for a u-armature core")
 
+    def gap_sides(self, c: UArmatureDims) -> GapSides:
+        """The free faces at a working gap's edges (analytic.fringing.GapSides),
+        the same for both legs (mirror images): toward lo the leg's side
+        faces, toward hi the armature's.  Outer edge (``minus``): the leg's
+        outer face down to the yoke's underside, the armature's end face (its
+        thickness).  Inner edge (``plus``): the leg's window face down to the
+        yoke, the armature's underside across the window to its middle, where
+        the other leg's inner edge takes the rest; room across: the window.
+        Depth edges: the leg's front face down to the yoke's underside, the
+        armature's front face (its thickness)."""
+        down = c.window_height + c.yoke_width
+        arm = c.armature_thickness
+        return GapSides((down, arm), (c.window_height, 0.5 * c.window_width), (down, arm),
+                        room=(INF, c.window_width))
+
     # ------------------------------------------------------------ both models
     def core_model(self, case: Any) -> CoreModel:
         c: UArmatureDims = case.core
@@ -157,7 +174,7 @@ class UArmature:
         # the hand circuit: the loop left leg (up), gap, armature, gap, right leg (down), yoke
         seg = {s.name: s for s in self.segments(c)}
         face = GapFace(length=c.stroke, width=c.leg_width, depth=c.depth,
-                       free_height=c.window_height)
+                       free_height=c.window_height, sides=self.gap_sides(c))
         segments = tuple(CircuitSegment(s.name, s.node_a, s.node_b, s.length, s.area,
                                         "armature" if s.part == "armature" and own else "core")
                          for s in seg.values())
