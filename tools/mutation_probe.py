@@ -210,7 +210,7 @@ MUTATIONS: tuple[Mutation, ...] = (
       "armijo_ok = Wa <= W + c * a * slope + scale",
       "armijo_ok = True",
       "the Newton line search accepts any step",
-      ("tests/test_fem_newton.py", "tests/test_fem_exact.py")),
+      ("tests/test_line_search.py", "tests/test_fem_newton.py", "tests/test_fem_exact.py")),
     M("rz-field-scale", "fem2d/formulation.py",
       "        return 1.0 / xy[0]\n",
       "        return 1.0 / np.sqrt(xy[0])\n",
@@ -372,6 +372,11 @@ MUTATIONS: tuple[Mutation, ...] = (
       "m[1:-1] = (w1 + w2) / (w2 / d[:-1] + w1 / d[1:])",
       "the B-H interpolant's interior knot slopes with the harmonic mean's weights swapped",
       ("tests/test_bh_slopes.py", "tests/test_bh.py")),
+    M("line-search-full-step", "fem2d/solver.py",
+      "full_ok = bool(np.isfinite(Wn) and Wn <= W + c * slope + scale)",
+      "full_ok = bool(np.isfinite(Wn))",
+      "the Newton line search takes the full step without its sufficient-decrease test",
+      ("tests/test_line_search.py", "tests/test_fem_newton.py")),
 )
 
 
