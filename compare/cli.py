@@ -133,9 +133,22 @@ def _main(argv: Sequence[str] | None) -> int:
         except BrokenPipeError:
             raise
         except OSError as exc:
-            print(f"magcheck: cannot write output: {exc.filename or ''}: {exc.strerror or exc}",
+            where = _output_option(args, exc.filename)
+            print(f"magcheck: cannot write output: {where}: {exc.strerror or exc}",
                   file=sys.stderr)
             return EXIT_INPUT
+
+
+def _output_option(args: argparse.Namespace, path: object) -> str:
+    """``--json PATH`` for a failed write of PATH: the option that named it,
+    or the path alone (a file inside a --report folder)."""
+    text = os.fspath(path) if isinstance(path, (str, os.PathLike)) else ""
+    mod = getattr(args, "_command", None)
+    for opt in getattr(mod, "OUTPUTS", {}):
+        value = getattr(args, opt.lstrip("-").replace("-", "_"), None)
+        if value and text and (value == text or text.startswith(os.path.join(value, ""))):
+            return f"{opt} {value}" if value == text else f"{opt} {value} ({text})"
+    return text or "(unknown path)"
 
 
 def _check_outputs(args: argparse.Namespace) -> None:
