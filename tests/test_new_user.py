@@ -1,0 +1,65 @@
+"""What a new user hit (issue: ampere-turns taken per turn, empty or
+unwritable outputs, over-wide tolerances, one-line errors naming the key):
+each refusal is exit 2, one line naming the key or option and the value,
+and nothing is written."""
+
+from __future__ import annotations
+
+import tomllib
+from pathlib import Path
+
+import pytest
+
+from compare.casefile import case_from_dict
+from compare.cli import main
+from compare.errors import CaseError
+from compare.units import UnitError, parse_quantity
+
+CASES = Path(__file__).resolve().parents[1] / "cases"
+CHOKE = str(CASES / "demo_choke.toml")
+
+
+def demo_dict() -> dict:
+    return tomllib.loads((CASES / "demo_choke.toml").read_text())
+
+
+def one_line(capsys, *words: str, start: str = "magcheck: bad input: ") -> str:
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and err.startswith(start), err
+    assert "Traceback" not in err
+    for w in words:
+        assert w in err, err
+    return err
+
+
+# ------------------------------------------------------------ ampere-turns
+@pytest.mark.parametrize("text", ["480 At", "480At", "1.2 kAt", "480 At^1"])
+def test_ampere_turns_are_not_a_current_per_turn(text):
+    with pytest.raises(UnitError, match="ampere-turns"):
+        parse_quantity(text, "current")
+
+
+def test_ampere_turns_stay_welcome_in_a_field_strength():
+    assert parse_quantity("800 At/m", "field strength") == pytest.approx(800.0)
+    assert parse_quantity("12 A", "current") == 12.0
+
+
+def test_a_winding_current_in_ampere_turns_is_refused_naming_the_key(tmp_path, capsys):
+    """480 At on 80 turns read as 480 A per turn was 80x the MMF, exit 0."""
+    text = Path(CHOKE).read_text()
+    assert 'current = "6 A"' in text or "current = 6" in text
+    d = demo_dict()
+    d["winding"]["current"] = "480 At"
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(d, base_dir=CASES)
+    assert exc.value.key == "winding.current"
+    src = tmp_path / "at.toml"
+    src.write_text(text.replace('current = "6 A"', 'current = "480 At"'))
+    assert main(["hand", str(src), "--json", str(tmp_path / "h.json")]) == 2
+    one_line(capsys, "winding.current = '480 At'", "ampere-turns")
+    assert not (tmp_path / "h.json").exists()
+
+
+def test_a_swept_current_in_ampere_turns_is_refused(capsys):
+    assert main(["sweep", CHOKE, "--vary", "winding.current=100At:200At:2", "--hand-only"]) == 2
+    one_line(capsys, "winding.current", "ampere-turns")
