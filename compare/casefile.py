@@ -22,7 +22,7 @@ from analytic.materials import bh_from_table, builtin, builtin_names, load_bh_cs
 
 from .case import (Case, FESettings, HandSettings, InductanceLimit, Margins, MaterialSpec,
                    SaturationLimit, SweepDecl, Tolerance, ForceLimit)
-from .errors import CaseError, CaseWarning, RunError
+from .errors import CaseError, CaseWarning, RunError, format_value
 from .families import Family, get_family
 from .geometry import Gap, Limb, WindingSpec, coil_rects
 from .keys import key_dimension, parse_key, parse_vary
@@ -122,7 +122,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     fe = _read_fe(root.table("fe", {}))
     margins = _read_margins(root.table("margins", {}))
     sweeps = _read_sweeps(root, "sweep", family)
-    tolerances = tuple(_read_tolerance(t, family) for t in root.tables("tolerances"))
+    tolerances = tuple(_read_tolerance(t, family, data) for t in root.tables("tolerances"))
     root.finish()
     if len(windings) > 1 and hand.leakage:
         raise CaseError("hand.leakage", True, "window leakage is modelled for one winding; with "
@@ -696,7 +696,60 @@ def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDec
 DISTRIBUTIONS = ("uniform", "normal")
 
 
-def _read_tolerance(t: TableReader, family: Family) -> Tolerance:
+def _written_nominal(data: dict, key: str, dim: str) -> tuple[object, float] | None:
+    """The case file's value of ``key`` as written and in SI; None when the
+    key is not written there (the tolerance study names that) or unreadable."""
+    from .keys import SCALE_KEYS, winding_alias
+    from .units import UnitError, parse_quantity
+
+    if key in SCALE_KEYS:
+        return "1", 1.0
+    node: Any = data
+    for part in winding_alias(data, parse_key(key)):
+        try:
+            node = node[part]
+        except (KeyError, IndexError, TypeError):
+            return None
+    try:
+        return node, float(parse_quantity(node, dim))
+    except (UnitError, ValueError, TypeError):
+        return None
+
+
+def _check_tolerance_span(t: TableReader, key: str, dim: str, dist: str,
+                          vals: dict[str, float], relative: bool, data: dict) -> None:
+    """Refuse a deviation that reaches zero or beyond from the nominal: a gap,
+    a dimension, turns or a current of the other sign is no sample of the
+    design, and the study would fail on one random draw (or pass by chance).
+    The key named is the deviation that reaches: ``tolerances[i].minus`` (or
+    ``plus`` below a negative nominal; ``limit``, else ``sigma``, for a normal
+    one, whose default limit is 3 sigma)."""
+    nominal = _written_nominal(data, key, dim)
+    if nominal is None:
+        return
+    written, nom = nominal
+    if not (math.isfinite(nom) and nom != 0.0):
+        return
+    scale = abs(nom) if relative else 1.0
+    if dist == "uniform":
+        name = "minus" if nom > 0.0 else "plus"
+    else:
+        name = "limit" if t.has("limit") else "sigma"
+    dev = (vals["minus"] if nom > 0.0 else vals["plus"]) if dist == "uniform" else vals["limit"]
+    if abs(nom) - dev * scale > 0.0:
+        return
+    side = "below zero" if nom > 0.0 else "above zero"
+    if dist == "normal" and name == "sigma":
+        what = "3 sigma (the default limit)"
+    else:
+        what = "the deviation"
+    shown = written if isinstance(written, str) else format_value(written)
+    raise CaseError(t.key(name), t.raw(name),
+                    f"{what} reaches zero or {side} from the nominal {shown} of {key}; "
+                    "keep it smaller than the nominal")
+
+
+def _read_tolerance(t: TableReader, family: Family, data: dict | None = None) -> Tolerance:
 
     key = t.string("key")
     try:
@@ -735,5 +788,7 @@ def _read_tolerance(t: TableReader, family: Family) -> Tolerance:
         if vals["sigma"] <= 0.0:
             raise CaseError(t.key("sigma"), t.data["sigma"], "must be positive")
         vals.setdefault("limit", 3.0 * vals["sigma"])
+    if data is not None:
+        _check_tolerance_span(t, key, dim, dist, vals, rel == {True}, data)
     t.finish()
     return Tolerance(key=key, distribution=dist, relative=rel == {True}, **vals)

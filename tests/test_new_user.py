@@ -63,3 +63,43 @@ def test_a_winding_current_in_ampere_turns_is_refused_naming_the_key(tmp_path, c
 def test_a_swept_current_in_ampere_turns_is_refused(capsys):
     assert main(["sweep", CHOKE, "--vary", "winding.current=100At:200At:2", "--hand-only"]) == 2
     one_line(capsys, "winding.current", "ampere-turns")
+
+
+# ------------------------------------------------------------ tolerances
+def _margins_dict() -> dict:
+    return tomllib.loads((CASES / "demo_choke_margins.toml").read_text())
+
+
+@pytest.mark.parametrize("index, changes, named", [
+    (0, {"minus": "1 mm"}, "tolerances[0].minus = '1 mm'"),          # 0.6 mm gap
+    (0, {"minus": "500 %", "plus": "5 %"}, "tolerances[0].minus = '500 %'"),
+    (0, {"minus": "100 %", "plus": "5 %"}, "tolerances[0].minus = '100 %'"),
+    (2, {"sigma": "5 mm"}, "tolerances[2].sigma = '5 mm'"),            # 12 mm limb, 3 sigma = 15 mm
+    (1, {"sigma": "5 %", "limit": "120 %"}, "tolerances[1].limit = '120 %'"),
+])
+def test_a_tolerance_wider_than_its_nominal_is_refused_at_load(index, changes, named, tmp_path,
+                                                               capsys):
+    d = _margins_dict()
+    d["tolerances"][index].update(changes)
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(d, base_dir=CASES)
+    assert str(exc.value).startswith(named), exc.value
+    assert "nominal" in str(exc.value)
+
+
+def test_a_tolerance_inside_its_nominal_still_loads():
+    d = _margins_dict()
+    d["tolerances"][0].update({"minus": "0.59 mm"})  # 0.6 mm gap: 10 um left
+    case = case_from_dict(d, base_dir=CASES)
+    assert case.tolerances[0].minus == pytest.approx(0.59e-3)
+
+
+def test_the_tolerance_command_refuses_it_before_sampling(tmp_path, capsys):
+    text = (CASES / "demo_choke_margins.toml").read_text()
+    assert 'minus = "0.05 mm"' in text
+    src = tmp_path / "wide.toml"
+    src.write_text(text.replace('minus = "0.05 mm"', 'minus = "1 mm"', 1))
+    out = tmp_path / "t.json"
+    assert main(["tolerance", str(src), "--json", str(out)]) == 2
+    one_line(capsys, "tolerances[0].minus = '1 mm'", "0.6 mm", "gaps[0].length")
+    assert not out.exists()
