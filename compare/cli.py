@@ -12,7 +12,7 @@ import logging
 import os
 import sys
 import warnings
-from typing import Sequence
+from typing import NoReturn, Sequence
 
 from .errors import CaseError, RunError
 
@@ -43,11 +43,32 @@ COMMANDS: dict[str, str] = {
 }
 
 
+class _Parser(argparse.ArgumentParser):
+    """argparse with one-line usage errors: ``magcheck: bad input: --seed:
+    invalid int value: 'abc' (magcheck tolerance --help)``, exit 2, instead
+    of the usage block (which ``--help`` gives)."""
+
+    def error(self, message: str) -> NoReturn:
+        text = " ".join(message.split())  # argparse's text on one line
+        if text.startswith("argument "):
+            text = text[len("argument "):]
+        text = text.replace("argument command: ", "command: ")
+        prog = getattr(self, "help_prog", None) or self.prog
+        print(f"magcheck: bad input: {_printable(text)} ({prog} --help)", file=sys.stderr)
+        raise SystemExit(EXIT_INPUT)
+
+
+def _printable(text: str) -> str:
+    """``text`` without control characters (a newline or escape typed into an
+    argument reaches the terminal as its escaped form)."""
+    return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
+
+
 def build_parser(command: str | None = None) -> argparse.ArgumentParser:
     """The argument parser; the arguments of ``command`` only (all when None)."""
     import importlib
 
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="magcheck",
         description="Check the magnetic-circuit hand calculation of a magnetic device "
                     "(choke, transformer, relay, solenoid, holding magnet) against a 2D "
@@ -112,6 +133,8 @@ def _main(argv: Sequence[str] | None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     chosen = next((a for a in argv if a in COMMANDS), None)
     parser = build_parser(chosen if chosen is not None and "-h" not in argv[:1] else None)
+    if chosen is not None:  # unknown options are reported by the top parser
+        setattr(parser, "help_prog", f"magcheck {chosen}")
     try:
         args = parser.parse_args(argv)
     except SystemExit as exc:  # argparse: --help (0) or usage error (2)

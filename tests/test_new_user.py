@@ -103,3 +103,29 @@ def test_the_tolerance_command_refuses_it_before_sampling(tmp_path, capsys):
     assert main(["tolerance", str(src), "--json", str(out)]) == 2
     one_line(capsys, "tolerances[0].minus = '1 mm'", "0.6 mm", "gaps[0].length")
     assert not out.exists()
+
+
+# ------------------------------------------------------------ the command line
+@pytest.mark.parametrize("argv, words", [
+    (["tolerance", CHOKE, "--seed", "abc"], ["--seed", "'abc'", "(magcheck tolerance --help)"]),
+    (["hand", CHOKE, "--bogus"], ["unrecognized arguments: --bogus", "(magcheck hand --help)"]),
+    (["sweep", CHOKE, "--inductance", "bogus"], ["--inductance", "'bogus'"]),
+    (["hand", CHOKE, "--json"], ["--json: expected one argument"]),
+    (["materials", "--plot"], ["--plot: expected one argument"]),
+    (["check"], ["required: case", "(magcheck check --help)"]),
+    (["bogus"], ["invalid choice: 'bogus'", "(magcheck --help)"]),
+    (["hand", CHOKE, "--fringing", "bogus"], ["--fringing = 'bogus'", "must be one of"]),
+    (["hand", CHOKE, "--fringing", "aera"], ["--fringing = 'aera'", "did you mean 'area'"]),
+    (["hand", str(CASES / "demo_pot_core_choke.toml"), "--planar"],
+     ["--planar: ", "axisymmetric"]),
+])
+def test_a_usage_error_is_one_line_naming_the_option(argv, words, capsys):
+    """3-8 lines of usage before; now one line, the option and the value, exit 2."""
+    assert main(argv) == 2
+    err = one_line(capsys, *words)
+    assert "usage:" not in err and ".fringing" not in err
+
+
+def test_help_still_prints_the_usage(capsys):
+    assert main(["hand", "--help"]) == 0
+    assert "usage: magcheck hand" in capsys.readouterr().out
