@@ -16,7 +16,7 @@ import warnings
 from pathlib import Path
 from typing import Any
 
-from analytic.bh import BHDataError, LinearMaterial
+from analytic.bh import B_UNITS, H_UNITS, BHDataError, LinearMaterial
 from analytic.fringing import FRINGING_MODELS
 from analytic.materials import bh_from_table, builtin, builtin_names, load_bh_csv
 
@@ -92,10 +92,15 @@ def load_case(path: str | Path) -> Case:
                           sha256=hashlib.sha256(raw).hexdigest())
 
 
+ROOT_TABLES = ("case", "core", "gaps", "winding", "windings", "materials", "hand", "fe",
+               "margins", "sweep", "tolerances")
+"""The top-level tables of a case file (a family may read more: ``case_tables``)."""
+
+
 def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = "",
                    sha256: str = "") -> Case:
     """Validate an already parsed TOML document (see :func:`load_case`)."""
-    root = TableReader(data, "")
+    root = TableReader(data, "", known=ROOT_TABLES)
     meta = root.table("case")
     name = meta.string("name", "unnamed")
     family_name = meta.string("family")
@@ -106,6 +111,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     core_t = root.table("core")
     stacking = core_t.number("stacking", 1.0, lo=0.3, hi=1.0)
     extra = getattr(family, "case_tables", ())
+    root._known |= frozenset(extra)
     if extra:  # a family that reads tables of its own (a drawn core: [shapes], [[regions]], ...)
         reader: Any = family.read_core  # read_core(t, *, tables, base_dir) for such a family
         core = reader(core_t, tables={n: root.raw(n, None) for n in extra}, base_dir=base_dir)
@@ -497,14 +503,17 @@ def _read_material(t: TableReader, region: str, base_dir: Path | None) -> Materi
             p = Path(rel)
             if not p.is_absolute() and base_dir is not None:
                 p = base_dir / p
+            if p.is_dir():
+                raise CaseError(mt.key("csv"), rel, f"is a folder ({p}), not a B-H file; name "
+                                                    "the CSV file in it")
             if not p.is_file():
                 raise CaseError(mt.key("csv"), rel, f"no such B-H file ({p})")
             return MaterialSpec(region, "csv", f"B-H table {rel}", load_bh_csv(p, name=p.stem))
         if mt.has("H") or mt.has("B"):
             h = _number_list(mt, "H")
             b = _number_list(mt, "B")
-            h_unit = mt.string("H_unit", "A/m")
-            b_unit = mt.string("B_unit", "T")
+            h_unit = mt.string("H_unit", "A/m", choices=tuple(H_UNITS))
+            b_unit = mt.string("B_unit", "T", choices=tuple(B_UNITS))
             mt.finish()
             if len(h) != len(b):
                 raise CaseError(mt.key("B"), f"{len(b)} values",

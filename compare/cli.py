@@ -60,8 +60,10 @@ class _Parser(argparse.ArgumentParser):
 
 def _printable(text: str) -> str:
     """``text`` without control characters (a newline or escape typed into an
-    argument reaches the terminal as its escaped form)."""
-    return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
+    argument reaches the terminal as its escaped form; `errors.printable`)."""
+    from .errors import printable
+
+    return printable(text)
 
 
 def build_parser(command: str | None = None) -> argparse.ArgumentParser:
@@ -148,16 +150,16 @@ def _main(argv: Sequence[str] | None) -> int:
             _check_outputs(args)
             return int(args._run(args))
         except CaseError as exc:
-            print(f"magcheck: bad input: {exc}", file=sys.stderr)
+            print(f"magcheck: bad input: {_printable(str(exc))}", file=sys.stderr)
             return EXIT_INPUT
         except RunError as exc:
-            print(f"magcheck: solve failed: {exc}", file=sys.stderr)
+            print(f"magcheck: solve failed: {_printable(str(exc))}", file=sys.stderr)
             return EXIT_SOLVE
         except BrokenPipeError:
             raise
         except OSError as exc:
             where = _output_option(args, exc.filename)
-            print(f"magcheck: cannot write output: {where}: {exc.strerror or exc}",
+            print(f"magcheck: cannot write output: {_printable(where)}: {exc.strerror or exc}",
                   file=sys.stderr)
             return EXIT_INPUT
 
@@ -186,7 +188,7 @@ def _check_outputs(args: argparse.Namespace) -> None:
 
 
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
-    print(f"magcheck: warning: {message}", file=sys.stderr)
+    print(f"magcheck: warning: {_printable(str(message))}", file=sys.stderr)
 
 
 if __name__ == "__main__":  # pragma: no cover

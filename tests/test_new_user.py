@@ -129,3 +129,45 @@ def test_a_usage_error_is_one_line_naming_the_option(argv, words, capsys):
 def test_help_still_prints_the_usage(capsys):
     assert main(["hand", "--help"]) == 0
     assert "usage: magcheck hand" in capsys.readouterr().out
+
+
+# ------------------------------------------------------------ case-file keys
+def _refusal(d: dict) -> CaseError:
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(d, base_dir=CASES)
+    return exc.value
+
+
+def test_a_key_with_a_newline_is_printed_like_a_value_on_one_line(tmp_path, capsys):
+    text = Path(CHOKE).read_text().replace("[core]\n", '[core]\n"a\\nb\\u202e" = 1\n', 1)
+    src = tmp_path / "k.toml"
+    src.write_text(text)
+    assert main(["hand", str(src)]) == 2
+    err = one_line(capsys, "core.a\\nb\\u202e = 1: unknown key")
+    assert "\u202e" not in err
+
+
+@pytest.mark.parametrize("entry, key, words", [
+    ({"H": [0, 100, 1000], "B": [0, 1, 1.5], "H_unit": "Oersted"}, "materials.core.H_unit",
+     "must be one of A/m, kA/m, Oe"),
+    ({"H": [0, 100, 1000], "B": [0, 1, 1.5], "B_unit": "Tesla"}, "materials.core.B_unit",
+     "must be one of T, mT, G, kG"),
+    ({"csv": "."}, "materials.core.csv", "is a folder"),
+])
+def test_bh_input_errors_name_the_case_key(entry, key, words):
+    d = demo_dict()
+    d["materials"]["core"] = entry
+    exc = _refusal(d)
+    assert exc.key == key and words in exc.reason, exc
+    assert "[" not in exc.reason  # no Python list
+
+
+def test_a_missing_table_is_not_taken_for_a_misspelt_valid_one():
+    d = tomllib.loads((CASES / "demo_choke_margins.toml").read_text())
+    assert "margins" in d
+    del d["materials"]
+    exc = _refusal(d)
+    assert str(exc) == "materials: missing key", exc
+    d = demo_dict()
+    d["materails"] = d.pop("materials")
+    assert "misspelling of 'materials'" in str(_refusal(d))
