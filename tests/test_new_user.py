@@ -171,3 +171,43 @@ def test_a_missing_table_is_not_taken_for_a_misspelt_valid_one():
     d = demo_dict()
     d["materails"] = d.pop("materials")
     assert "misspelling of 'materials'" in str(_refusal(d))
+
+
+# ------------------------------------------------------------ [fe] tol
+@pytest.mark.parametrize("tol", [1e-14, 1e-11, 0.0])
+def test_an_fe_tolerance_the_solver_cannot_reach_is_refused(tol):
+    """tol = 1e-14 took 50 Newton steps (residual stalled at 4.4e-14) and
+    then failed; refused at load, naming fe.tol."""
+    d = demo_dict()
+    d.setdefault("fe", {})["tol"] = tol
+    exc = _refusal(d)
+    assert exc.key == "fe.tol", exc
+
+
+def test_a_reachable_fe_tolerance_loads():
+    d = demo_dict()
+    d.setdefault("fe", {})["tol"] = 1e-10
+    assert case_from_dict(d, base_dir=CASES).fe.tol == 1e-10
+
+
+@pytest.mark.slow
+def test_a_solve_that_does_not_converge_says_so_in_one_line(tmp_path):
+    """Without -v: one line 'magcheck: solve failed: ...' (was a logging line
+    and the error), exit 3, nothing written."""
+    import os
+    import subprocess
+    import sys
+
+    out = tmp_path / "c.json"
+    code = ("import functools, sys, fem2d.solver as s, compare.fe as fe; "
+            "fe.solve = functools.partial(s.solve, max_iter=1); "
+            "from compare.cli import main; "
+            f"sys.exit(main(['check', {CHOKE!r}, '--no-error-estimate', '--json', {str(out)!r}]))")
+    root = str(Path(__file__).resolve().parents[1])
+    env = dict(os.environ, PYTHONPATH=root + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          timeout=300, cwd=root, env=env)
+    assert proc.returncode == 3, proc.stderr
+    assert proc.stderr.count("\n") == 1, proc.stderr
+    assert proc.stderr.startswith("magcheck: solve failed: ") and "not converged" in proc.stderr
+    assert not out.exists()
