@@ -92,6 +92,9 @@ def load_case(path: str | Path) -> Case:
                           sha256=hashlib.sha256(raw).hexdigest())
 
 
+MAX_TURNS = 1_000_000
+TURNS_WHY = " (a winding of more turns is no wound component; common practice, no source)"
+
 MIN_FE_TOL = 1e-10
 """Smallest ``[fe] tol``: the demo choke's Newton residual stalls at 4.4e-14
 (50 steps, tol 1e-14), and the floor grows with the mesh's condition number,
@@ -169,7 +172,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
         if concentric_pair(case) is None:
             raise CaseError("hand.rogowski", True, "corrects the leakage inductance of two "
                             "concentric windings: give two [[windings]] on one limb, or drop it")
-    for w in plausibility_issues(case):
+    for w in plausibility_issues(case, data):
         warnings.warn(w, stacklevel=2)
     if case.winding.driven:
         case = _resolved_drive(case)
@@ -223,10 +226,29 @@ def family_parts(family: Family, core: object) -> tuple[str, ...]:
 # flatness; a core with mu_r under 5 is hardly magnetic.
 CORE_SIZE_RANGE = (1e-3, 2.0)  # m, outer core dimensions and stack depth
 GAP_MIN = 1e-6  # m
+PART_MIN = 1e-4  # m: a part thinner than 0.1 mm (a lamination's thickness) is no limb
+GAP_LIKE_KEYS = ("stroke", "sliding_gap", "gap")  # [core] lengths that may be tiny
 MU_R_MIN = 5.0
 
 
-def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
+def _as_written(data: dict | None, path: tuple, si: float) -> str:
+    """A length for a message as the case file wrote it ("0.001 mm", or a bare
+    number in metres "20 m"); in mm when the document is not at hand."""
+    node: Any = data
+    for part in path:
+        try:
+            node = node[part]
+        except (KeyError, IndexError, TypeError):
+            node = None
+            break
+    if isinstance(node, str):
+        return node.strip()
+    if isinstance(node, (int, float)) and not isinstance(node, bool):
+        return f"{node:g} m"
+    return f"{si * 1e3:.4g} mm"
+
+
+def plausibility_issues(case: Case, data: dict | None = None) -> tuple[CaseWarning, ...]:
     """Valid but implausible inputs of a case, as warnings (not raised).
 
     Checks the outer core dimensions and the stack depth against
@@ -241,12 +263,24 @@ def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
         dims.append(("depth", case.depth))  # an r-z core has no stack depth
     for name, v in dims:
         if not lo <= v <= hi:
-            out.append(CaseWarning(f"core.{name}", f"{v:g} m",
+            out.append(CaseWarning(f"core.{name}", _as_written(data, ("core", name), v),
                                    "outside the plausible 1 mm .. 2 m for a core dimension "
                                    "(a bare number is metres: write e.g. \"20 mm\")"))
+    seen = {name for name, _ in dims}
+    for name in case.family_model.core_keys:  # every other dimension of the core
+        v = getattr(case.core, name, None)
+        if name in seen or not isinstance(v, float) or v == 0.0:
+            continue
+        small = GAP_MIN if name in GAP_LIKE_KEYS else PART_MIN
+        if not small <= v <= hi:
+            span = "1 um" if small == GAP_MIN else "0.1 mm"
+            out.append(CaseWarning(f"core.{name}", _as_written(data, ("core", name), v),
+                                   f"outside the plausible {span} .. 2 m (a bare number is "
+                                   "metres: write e.g. \"20 mm\")"))
     for i, g in enumerate(case.gaps):
         if g.length < GAP_MIN:
-            out.append(CaseWarning(f"gaps[{i}].length", f"{g.length:g} m",
+            out.append(CaseWarning(f"gaps[{i}].length",
+                                   _as_written(data, ("gaps", i, "length"), g.length),
                                    "below 1 um: shorter than a ground face is flat"))
     if not case.family_model.limb_names:  # a drawn core: its drawing's extent, its circuit's gaps
         from .coremodel import core_model
@@ -378,14 +412,14 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
                 raise CaseError(t.key(key), t.raw(key), f"a {family.name} core's coils are "
                                 "drawn as regions (kind = \"coil\", winding = its name): give "
                                 "only name, turns and current here")
-        turns = t.integer("turns", minimum=1)
+        turns = t.integer("turns", minimum=1, maximum=MAX_TURNS, why=TURNS_WHY)
         current, voltage, frequency, residual, resistance = _read_drive(t)
         t.finish()
         return WindingSpec("", turns, current, 0.0, 0.0, 0.0, name, 0.0, voltage, frequency,
                            residual, resistance)
     limb_name = t.string("limb", choices=family.winding_limbs)
     limb = limbs[limb_name]
-    turns = t.integer("turns", minimum=1)
+    turns = t.integer("turns", minimum=1, maximum=MAX_TURNS, why=TURNS_WHY)
     current, voltage, frequency, residual, resistance = _read_drive(t)
     room = min(limb.room_minus, limb.room_plus) - inner
     inside = " left beside the windings inside it" if inner > 0 else ""

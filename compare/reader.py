@@ -93,7 +93,8 @@ class TableReader:
                             "must not be negative" if allow_zero else "must be positive")
         return value
 
-    def integer(self, name: str, default: Any = MISSING, *, minimum: int | None = None) -> int:
+    def integer(self, name: str, default: Any = MISSING, *, minimum: int | None = None,
+                maximum: int | None = None, why: str = "") -> int:
         raw = self._raw(name, default)
         if raw is default and default is not MISSING:
             return default
@@ -105,6 +106,9 @@ class TableReader:
             raw = int(raw)
         if minimum is not None and raw < minimum:
             raise CaseError(self.key(name), raw, f"must be at least {minimum}")
+        if maximum is not None and raw > maximum:
+            raise CaseError(self.key(name), self.data.get(name, raw),
+                            f"must be at most {maximum:,}{why}")
         return raw
 
     def number(self, name: str, default: Any = MISSING, *, lo: float | None = None,

@@ -211,3 +211,55 @@ def test_a_solve_that_does_not_converge_says_so_in_one_line(tmp_path):
     assert proc.stderr.count("\n") == 1, proc.stderr
     assert proc.stderr.startswith("magcheck: solve failed: ") and "not converged" in proc.stderr
     assert not out.exists()
+
+
+# ------------------------------------------------------------ plausibility
+def _warnings_of(d: dict) -> list[str]:
+    import warnings
+
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        case_from_dict(d, base_dir=CASES)
+    return [str(w.message) for w in caught]
+
+
+def test_every_core_dimension_is_checked_for_plausibility_in_the_users_units():
+    relay = tomllib.loads((CASES / "demo_clapper_relay.toml").read_text())
+    relay["core"]["armature_thickness"] = "0.001 mm"
+    msgs = _warnings_of(relay)
+    assert any(m.startswith("core.armature_thickness = '0.001 mm': outside the plausible")
+               for m in msgs), msgs
+    d = demo_dict()
+    d["core"]["limb_width"] = "12 mm"  # plausible: no warning
+    assert _warnings_of(d) == []
+    d["core"]["outer_width"] = "60 km"
+    msgs = _warnings_of(d)
+    assert any(m.startswith("core.outer_width = '60 km'") for m in msgs), msgs
+
+
+def test_the_mesh_guard_names_what_drives_the_count(tmp_path, capsys):
+    """An armature of 0.001 mm was blamed on 'fe.mesh_size (default)' with a
+    count in the billions and nothing else: the line now names the region
+    whose side sets the default element size, and the warning the key."""
+    text = (CASES / "demo_clapper_relay.toml").read_text()
+    assert 'armature_thickness = "5 mm"' in text
+    src = tmp_path / "thin.toml"
+    src.write_text(text.replace('armature_thickness = "5 mm"', 'armature_thickness = "0.001 mm"'))
+    assert main(["check", str(src), "--json", str(tmp_path / "c.json")]) == 2
+    err = capsys.readouterr().err.splitlines()
+    assert len(err) == 2 and "Traceback" not in "".join(err), err
+    assert err[0].startswith("magcheck: warning: core.armature_thickness = '0.001 mm'")
+    assert err[1].startswith("magcheck: bad input: fe.mesh_size (default): ")
+    assert "region 'armature''s smallest side (0.001 mm)" in err[1], err[1]
+    assert not (tmp_path / "c.json").exists()
+
+
+@pytest.mark.parametrize("turns, words", [(1e30, "must be at most 1,000,000"),
+                                          (80.5, "must be a whole number"),
+                                          (0, "must be at least 1"),
+                                          ("80", "must be a whole number")])
+def test_turns_are_a_whole_number_in_a_plausible_range(turns, words):
+    d = demo_dict()
+    d["winding"]["turns"] = turns
+    exc = _refusal(d)
+    assert exc.key == "winding.turns" and words in exc.reason, exc
