@@ -291,6 +291,7 @@ def guard_mesh_size(case: Case, *, refine: float = 1.0) -> int:
     if n > MAX_TRIANGLES and not case.fe.allow_large:
         no_gap = replace(layout, mesh=replace(layout.mesh, gap_elements=1))
         gap_driven = estimate_triangles(no_gap) < 0.5 * n
+        value: object
         if gap_driven:
             key, value = "fe.gap_elements", case.fe.gap_elements
         elif case.fe.mesh_size is not None:
