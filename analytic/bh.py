@@ -56,7 +56,11 @@ class BHDataError(ValueError):
 
 
 class BHRangeWarning(UserWarning):
-    """A flux density beyond the last measured point of a B-H curve was used."""
+    """A flux density beyond the last measured point of a B-H curve was used.
+
+    ``material`` names the curve (a caller may say it once per material)."""
+
+    material: str = ""
 
 
 def _as_float_array(x: ArrayLike) -> NDArray[np.float64]:
@@ -356,13 +360,12 @@ class BHCurve:
         b = np.abs(_as_float_array(b))
         if b.size and np.nanmax(b) > self.b_max:
             prefix = f"{where}: " if where else ""
-            warnings.warn(
+            w = BHRangeWarning(
                 f"{prefix}B = {float(np.nanmax(b)):.4g} T exceeds the last measured point of "
                 f"material '{self.name}' (B = {self.b_max:.4g} T, H = {self.h_max:.4g} A/m); "
-                "values beyond it are extrapolated with slope mu0",
-                BHRangeWarning,
-                stacklevel=2,
-            )
+                "values beyond it are extrapolated with slope mu0")
+            w.material = self.name
+            warnings.warn(w, stacklevel=2)
 
 
 # --------------------------------------------------------------------------- LinearMaterial

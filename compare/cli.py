@@ -143,6 +143,7 @@ def _main(argv: Sequence[str] | None) -> int:
         return int(exc.code or 0)
     logging.basicConfig(level=logging.INFO if args.verbose else logging.WARNING,
                         format="%(levelname)s %(name)s: %(message)s")
+    _SAID.clear()
     with warnings.catch_warnings():
         warnings.simplefilter("default")
         warnings.showwarning = _show_warning
@@ -187,8 +188,23 @@ def _check_outputs(args: argparse.Namespace) -> None:
     check_outputs(outputs, mod.input_files(args))
 
 
+_SAID: set[tuple[str, str]] = set()
+"""(warning kind, material) of the B-H range warnings said in this run."""
+
+
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
-    print(f"magcheck: warning: {_printable(str(message))}", file=sys.stderr)
+    """Print a warning in one line; a B-H curve's range warning once per
+    material (a sweep or a saturation search solves the hand model many
+    times, each solve past the curve's last point would repeat it)."""
+    material = getattr(message, "material", None)
+    text = _printable(str(message))
+    if material is not None:
+        key = (category.__name__, str(material))
+        if key in _SAID:
+            return
+        _SAID.add(key)
+        text += " (said once per material; other solves may go further)"
+    print(f"magcheck: warning: {text}", file=sys.stderr)
 
 
 if __name__ == "__main__":  # pragma: no cover

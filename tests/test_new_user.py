@@ -263,3 +263,18 @@ def test_turns_are_a_whole_number_in_a_plausible_range(turns, words):
     d["winding"]["turns"] = turns
     exc = _refusal(d)
     assert exc.key == "winding.turns" and words in exc.reason, exc
+
+
+def test_a_bh_range_warning_is_said_once_per_material(capsys):
+    """A hand-only current sweep of the pot core drives the ferrite past its
+    last measured point at many currents and branches: 62 warning lines
+    before, one now (per material)."""
+    argv = ["sweep", str(CASES / "demo_pot_core_choke.toml"), "--hand-only",
+            "--vary", "winding.current=0.5A:40A:40"]
+    assert main(argv) in (0, 1)
+    err = [line for line in capsys.readouterr().err.splitlines()
+           if "exceeds the last measured point" in line]
+    assert len(err) == 1, err
+    assert "material 'demo-ferrite'" in err[0] and "once per material" in err[0]
+    assert main(argv) in (0, 1)  # a second run in the same process says it again
+    assert sum("last measured" in line for line in capsys.readouterr().err.splitlines()) == 1
