@@ -127,9 +127,13 @@ def _validate_table(h: NDArray, b: NDArray) -> tuple[NDArray, NDArray]:
         chord = (bb[k] - bb[k - 1]) / (hh[k] - hh[k - 1])
         if chord < mu_0 * (1.0 - _CHORD_RTOL):
             row = k + 1 - (1 - offset)
+            ratio = chord / mu_0
+            shown = f"{ratio:.4g}"
+            if float(shown) >= 1.0:  # just below mu0: enough digits to show it is below
+                shown = f"{ratio:.12g}"
             raise BHDataError(
-                f"B-H table row {row}: H = {hh[k]:g} A/m, B = {bb[k]:g} T; the chord slope from the "
-                f"previous point is {chord / mu_0:.6g}*mu0, below mu0 (physically impossible)"
+                f"B-H table row {row}: H = {hh[k]:g} A/m, B = {bb[k]:g} T; the chord slope dB/dH "
+                f"from the previous point is {shown} x mu0, below mu0 (physically impossible)"
             )
     return hh, bb
 

@@ -16,7 +16,7 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Sequence
 
 import numpy as np
 
@@ -109,6 +109,14 @@ def winding_alias(data: dict, path: tuple[str | int, ...]) -> tuple[str | int, .
     return path
 
 
+def key_text(path: Sequence[str | int]) -> str:
+    """A key path as the case file's messages write it: ``gaps[3].length``."""
+    out = ""
+    for part in path:
+        out += f"[{part}]" if isinstance(part, int) else (f".{part}" if out else str(part))
+    return out
+
+
 def set_key(data: dict, path: tuple[str | int, ...], value: Any, key: str) -> None:
     path = winding_alias(data, path)
     node: Any = data
@@ -116,7 +124,7 @@ def set_key(data: dict, path: tuple[str | int, ...], value: Any, key: str) -> No
         try:
             node = node[part]
         except (KeyError, IndexError, TypeError):
-            raise CaseError("key", key, f"'{'.'.join(map(str, path[:i + 1]))}' is not in the "
+            raise CaseError("key", key, f"'{key_text(path[:i + 1])}' is not in the "
                                         "case file") from None
     last = path[-1]
     if isinstance(node, list):

@@ -76,13 +76,16 @@ def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str,
             set_key(data, parse_key(key), value, key)
         except CaseError as exc:
             where = spec_of.get(key, key) if spec_of else key
-            raise CaseError(where, value, exc.reason) from None
+            raise CaseError(where, None, exc.reason) from None
     try:
         case = case_from_dict(data, base_dir=src.base_dir, source=src.source, sha256=src.sha256)
     except CaseError as exc:
         if spec_of:
-            point = ", ".join(f"{k} = {v:g}" for k, v in settings.items())
-            raise CaseError(exc.key, exc.value, f"{exc.reason} (at the point {point})") from None
+            point = ", ".join(f"{k} = {_shown(k, v)}" for k, v in settings.items())
+            value = exc.value
+            if exc.key in settings and isinstance(value, float):  # the swept value, shown
+                value = _shown(exc.key, value)
+            raise CaseError(exc.key, value, f"{exc.reason} (at the point {point})") from None
         raise
     for k, v in scales.items():
         if v <= 0:
@@ -92,6 +95,14 @@ def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str,
         case = scale_core_material(case, scales.get(SCALE_KEYS[0], 1.0),
                                    scales.get(SCALE_KEYS[1], 1.0))
     return case
+
+
+def _shown(key: str, value: float) -> str:
+    """A swept SI value in the unit the sweep's tables show it in (lengths in mm)."""
+    from .keys import display_unit
+
+    factor, unit = display_unit(key)
+    return f"{value * factor:g} {unit}".rstrip()
 
 
 def scale_core_material(case: Case, k_h: float = 1.0, k_b: float = 1.0) -> Case:

@@ -278,3 +278,22 @@ def test_a_bh_range_warning_is_said_once_per_material(capsys):
     assert "material 'demo-ferrite'" in err[0] and "once per material" in err[0]
     assert main(argv) in (0, 1)  # a second run in the same process says it again
     assert sum("last measured" in line for line in capsys.readouterr().err.splitlines()) == 1
+
+
+# ------------------------------------------------------------ notation
+def test_key_paths_are_written_with_brackets_and_values_in_the_users_units(capsys):
+    assert main(["sweep", CHOKE, "--hand-only", "--vary", "gaps[3].length=1mm:2mm:2"]) == 2
+    err = one_line(capsys, "--vary gaps[3].length=1mm:2mm:2: 'gaps[3]' is not in the case file")
+    assert "gaps.3" not in err and "0.001" not in err
+    assert main(["sweep", CHOKE, "--hand-only", "--vary", "gaps[0].length=0.1mm:20mm:2"]) == 2
+    err = one_line(capsys, "gaps[0].length = '20 mm'", "(at the point gaps[0].length = 20 mm)")
+    assert "0.02" not in err
+
+
+def test_a_chord_slope_just_below_mu0_is_not_printed_as_1_mu0():
+    from analytic.bh import BHDataError, mu_0
+    from analytic.materials import bh_from_table
+
+    with pytest.raises(BHDataError) as exc:
+        bh_from_table([0, 1000, 2000, 3000], [0, 1.0, 1.2, 1.2 + 1000 * mu_0 * 0.9999999])
+    assert "0.9999999 x mu0, below mu0" in str(exc.value), exc.value
