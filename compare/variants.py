@@ -82,10 +82,10 @@ def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str,
     except CaseError as exc:
         if spec_of:
             point = ", ".join(f"{k} = {_shown(k, v)}" for k, v in settings.items())
-            value = exc.value
-            if exc.key in settings and isinstance(value, float):  # the swept value, shown
-                value = _shown(exc.key, value)
-            raise CaseError(exc.key, value, f"{exc.reason} (at the point {point})") from None
+            shown: object = exc.value
+            if exc.key in settings and isinstance(exc.value, float):  # the swept value
+                shown = _shown(exc.key, exc.value)
+            raise CaseError(exc.key, shown, f"{exc.reason} (at the point {point})") from None
         raise
     for k, v in scales.items():
         if v <= 0:
