@@ -100,6 +100,17 @@ MIN_FE_TOL = 1e-10
 (50 steps, tol 1e-14), and the floor grows with the mesh's condition number,
 so 1e-10 leaves the solver a margin of three or more decades."""
 
+def visible_text(text: str) -> str:
+    """``text`` without control and invisible format characters (a newline, an
+    escape sequence, a right-to-left override): a case name or description
+    goes into the terminal, Markdown, HTML and file names, where such a
+    character reorders or restyles what follows. Tabs and newlines become spaces."""
+    import unicodedata
+
+    text = text.replace("\t", " ").replace("\n", " ").replace("\r", " ")
+    return "".join(c for c in text if unicodedata.category(c) not in ("Cc", "Cf", "Zl", "Zp"))
+
+
 ROOT_TABLES = ("case", "core", "gaps", "winding", "windings", "materials", "hand", "fe",
                "margins", "sweep", "tolerances")
 """The top-level tables of a case file (a family may read more: ``case_tables``)."""
@@ -110,9 +121,9 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     """Validate an already parsed TOML document (see :func:`load_case`)."""
     root = TableReader(data, "", known=ROOT_TABLES)
     meta = root.table("case")
-    name = meta.string("name", "unnamed")
+    name = visible_text(meta.string("name", "unnamed"))
     family_name = meta.string("family")
-    description = meta.string("description", "")
+    description = visible_text(meta.string("description", ""))
     meta.finish()
     family = get_family(family_name)
 

@@ -297,3 +297,27 @@ def test_a_chord_slope_just_below_mu0_is_not_printed_as_1_mu0():
     with pytest.raises(BHDataError) as exc:
         bh_from_table([0, 1000, 2000, 3000], [0, 1.0, 1.2, 1.2 + 1000 * mu_0 * 0.9999999])
     assert "0.9999999 x mu0, below mu0" in str(exc.value), exc.value
+
+
+# ------------------------------------------------------------ case names in outputs
+HOSTILE = "<script>alert(1)</script> \u202echoke\x1b[31m *B* [x](y) | a\nb"
+
+
+def test_control_and_bidi_characters_are_dropped_from_the_case_name():
+    d = demo_dict()
+    d["case"]["name"] = HOSTILE
+    d["case"]["description"] = "rev \u202eB\u200f\x07"
+    case = case_from_dict(d, base_dir=CASES)
+    assert "\u202e" not in case.name and "\x1b" not in case.name and "\n" not in case.name
+    assert case.name == "<script>alert(1)</script> choke[31m *B* [x](y) | a b"
+    assert case.description == "rev B"
+
+
+def test_a_case_name_is_literal_markdown():
+    from compare.serialize import markdown_text
+
+    text = markdown_text("<script>alert(1)</script> *B* [x](y) | `c` # h")
+    assert "<script>" not in text and "*B*" not in text and "[x](y)" not in text
+    assert "|" not in text.replace("\\|", "")
+    # only escapes added: Markdown shows each escaped character as itself
+    assert text.replace("\\", "") == "<script>alert(1)</script> *B* [x](y) | `c` # h"
