@@ -65,9 +65,13 @@ def test_dev_null_stays_a_character_device(capsys):
 @pytest.mark.skipif(not os.path.exists("/dev/full"), reason="no /dev/full on this system")
 def test_full_device_is_an_error_not_replaced(capsys):
     code = main(["hand", CHOKE, "--json", "/dev/full"])
-    assert code == 2
-    assert "cannot write output" in capsys.readouterr().err
+    assert code == 2  # refused with the other output checks, before the solve
+    assert capsys.readouterr().err == ("magcheck: bad input: --json /dev/full: is a device that "
+                                       "refuses every write (no space left); give another path\n")
     assert stat.S_ISCHR(os.stat("/dev/full").st_mode)
+    with pytest.raises(OSError) as exc:  # the writer still names the path given
+        write_output("/dev/full", "x")
+    assert exc.value.filename == "/dev/full"
 
 
 def test_regular_file_replaced_atomically_with_its_mode(tmp_path):
