@@ -58,8 +58,10 @@ def parse_key(key: str) -> tuple[str | int, ...]:
 
 _NAMES = {
     "gaps": ("length", "position"),
-    "winding": ("current", "turns", "thickness", "length", "fill", "clearance"),
-    "windings": ("current", "turns", "thickness", "length", "fill", "clearance"),
+    "winding": ("current", "turns", "thickness", "length", "fill", "clearance", "voltage",
+                "frequency"),
+    "windings": ("current", "turns", "thickness", "length", "fill", "clearance", "voltage",
+                 "frequency"),
 }
 """The variable keys of the tables every case has; ``[core]``'s come from its family."""
 
@@ -69,7 +71,8 @@ def key_dimension(key: str, family: Any = None) -> str:
 
     Only design keys may vary: [core] dimensions (the family's ``core_keys``;
     without a family, those of every known family), [[gaps]] length and
-    position, [winding] current, turns, thickness, length, fill and clearance, and the
+    position, [winding] current, turns, thickness, length, fill and clearance (and a
+    voltage-driven winding's voltage and frequency), and the
     core material (``materials.core.mu_r``, ``scale_H``, ``scale_B``).
     """
     import difflib
@@ -91,6 +94,8 @@ def key_dimension(key: str, family: Any = None) -> str:
                                     f"(known: {', '.join(names[top])}){hint}")
     if last == "current":
         return "current"
+    if last in ("voltage", "frequency"):  # a voltage-driven winding's drive (rms V, Hz)
+        return last
     if last == "turns":
         return "integer"
     if last == "fill":

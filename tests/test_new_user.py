@@ -348,3 +348,39 @@ def test_a_swept_saturation_current_says_how_it_was_found(tmp_path, capsys):
         # 1 A steps on a curve bending over a few A: the chord misses the root
         # by well under half a step (0.5 A): common practice, no source
         assert abs(m["value"] - root) < 0.5, (m["value"], root)
+
+
+# ------------------------------------------------------------ drive keys
+def test_a_voltage_driven_windings_voltage_and_frequency_are_sweep_keys(tmp_path):
+    """Magnetizing current against voltage, a transformer designer's first
+    plot (--vary windings[0].voltage=100V,230V exited 2). Each point's hand
+    flux linkage is the drive's peak, and the current rises with the voltage
+    and falls with the frequency."""
+    import json
+    import math
+
+    from compare.keys import key_dimension
+
+    assert key_dimension("windings[0].voltage") == "voltage"
+    assert key_dimension("winding.frequency") == "frequency"
+    src = str(CASES / "demo_ei_transformer.toml")
+    runs = {}
+    for spec in ("windings[0].voltage=100V,230V", "windings[0].frequency=50Hz,60Hz"):
+        out = tmp_path / "s.json"
+        assert main(["sweep", src, "--hand-only", "--vary", spec, "--json", str(out)]) in (0, 1)
+        runs[spec.split("=")[0]] = json.loads(out.read_text())["points"]
+    volts = runs["windings[0].voltage"]
+    freqs = runs["windings[0].frequency"]
+    assert [p["windings[0].voltage"] for p in volts] == [100.0, 230.0]
+    assert volts[0]["winding.current"] < volts[1]["winding.current"]
+    assert freqs[0]["winding.current"] > freqs[1]["winding.current"]
+    d = tomllib.loads(Path(src).read_text())
+    v0, f0 = (parse_quantity(d["windings"][0][k], dim) for k, dim in
+              (("voltage", "voltage"), ("frequency", "frequency")))
+    for p, v, f in ((volts[0], 100.0, f0), (volts[1], 230.0, f0), (freqs[0], v0, 50.0),
+                    (freqs[1], v0, 60.0)):
+        # Source: Faraday's law for a sinusoidal drive, lambda_pk = sqrt(2) V_rms / (2 pi f)
+        # (winding resistance neglected, as the drive does). Tolerance 1e-4: the
+XX
+        assert p["hand_flux_linkage"] == pytest.approx(math.sqrt(2) * v / (2 * math.pi * f),
+                                                       rel=1e-4)
