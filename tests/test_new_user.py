@@ -381,6 +381,7 @@ def test_a_voltage_driven_windings_voltage_and_frequency_are_sweep_keys(tmp_path
                     (freqs[1], v0, 60.0)):
         # Source: Faraday's law for a sinusoidal drive, lambda_pk = sqrt(2) V_rms / (2 pi f)
         # (winding resistance neglected, as the drive does). Tolerance 1e-4: the
-XX
+        # drive's brentq inversion stops at rtol 1e-10 in current; the JSON
+        # holds the hand solve at that current (Newton to its own tolerance).
         assert p["hand_flux_linkage"] == pytest.approx(math.sqrt(2) * v / (2 * math.pi * f),
                                                        rel=1e-4)
