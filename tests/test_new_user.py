@@ -385,3 +385,19 @@ def test_a_voltage_driven_windings_voltage_and_frequency_are_sweep_keys(tmp_path
         # holds the hand solve at that current (Newton to its own tolerance).
         assert p["hand_flux_linkage"] == pytest.approx(math.sqrt(2) * v / (2 * math.pi * f),
                                                        rel=1e-4)
+
+
+def test_a_drawn_outlines_crossing_is_given_in_the_drawings_units():
+    """The drawing is in mm; the crossing edges' points were printed in metres."""
+    import sys
+
+    sys.path.insert(0, str(Path(__file__).parent))
+    from test_drawn import _drawn
+
+    d = _drawn()
+    assert d["shapes"]["units"] == "mm"
+    d["regions"][0]["points"] = [[0, 0], [60, 70], [60, 0], [0, 70]]
+    exc = _refusal(d)
+    assert exc.key == "regions[0].points"
+    assert "(0.0, 0.0) and (60.0, 0.0)" in str(exc) and "drawing's units" in str(exc), exc
+    assert "0.06" not in str(exc)
