@@ -178,7 +178,10 @@ def parse_quantity(value: object, dimension: str) -> float:
 
 def format_si(value: float, unit: str, digits: int = 4) -> str:
     """Format an SI value with an engineering prefix, e.g. ``1.25 mH``; a
-    pure number (``unit`` "" or "%") takes no prefix: ``0.9984``, ``0.8836 %``."""
+    pure number (``unit`` "" or "%") takes no prefix: ``0.9984``, ``0.8836 %``;
+    a current density (``unit`` "A/m^2") is shown in A/mm^2: ``3.2 A/mm^2``."""
+    if unit == "A/m^2":  # a winding's current density: A/mm^2, as designers write it
+        return f"{value / 1e6:.{digits}g} A/mm^2"
     if not math.isfinite(value) or value == 0.0 or unit in ("", "%"):
         return f"{value:.{digits}g} {unit}".rstrip()
     exp3 = int(math.floor(math.log10(abs(value)) / 3.0)) * 3
