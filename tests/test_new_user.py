@@ -409,3 +409,24 @@ def test_a_current_density_is_shown_in_a_per_mm2():
 
     assert format_si(parse_quantity("3.2 A/mm^2", "current density"), "A/m^2") == "3.2 A/mm^2"
     assert format_si(2.4e6, "A/m^2") == "2.4 A/mm^2"
+
+
+@pytest.mark.slow
+def test_a_worker_process_warning_is_said_once_in_one_line(tmp_path):
+    """With --workers 2 each worker printed Python's two-line warning (source
+    path and line) for every solve past the B-H data; now the parent says it
+    in its own form, once per material."""
+    import os
+    import subprocess
+    import sys
+
+    root = str(Path(__file__).resolve().parents[1])
+    env = dict(os.environ, PYTHONPATH=root + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    proc = subprocess.run(
+        [sys.executable, "-m", "compare.cli", "sweep", str(CASES / "demo_pot_core_choke.toml"),
+         "--hand-only", "--vary", "winding.current=0.5A:40A:40", "--workers", "2"],
+        capture_output=True, text=True, timeout=300, cwd=root, env=env)
+    assert proc.returncode in (0, 1), proc.stderr
+    lines = proc.stderr.splitlines()
+    assert len(lines) == 1 and lines[0].startswith("magcheck: warning: "), lines
+    assert "material 'demo-ferrite'" in lines[0] and ".py:" not in lines[0]
