@@ -16,6 +16,7 @@ import hashlib
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 from analytic.bh import BHDataError, scale_law
 
@@ -73,6 +74,7 @@ def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str,
         if key in SCALE_KEYS:
             continue
         try:
+            _check_drive_key(data, key)
             set_key(data, parse_key(key), value, key)
         except CaseError as exc:
             where = spec_of.get(key, key) if spec_of else key
@@ -95,6 +97,24 @@ def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str,
         case = scale_core_material(case, scales.get(SCALE_KEYS[0], 1.0),
                                    scales.get(SCALE_KEYS[1], 1.0))
     return case
+
+
+def _check_drive_key(data: dict, key: str) -> None:
+    """A winding's voltage or frequency varies only on a voltage-driven winding."""
+    from .keys import winding_alias
+
+    path = winding_alias(data, parse_key(key))
+    if path[-1] not in ("voltage", "frequency") or path[0] not in ("winding", "windings"):
+        return
+    node: Any = data
+    for part in path[:-1]:
+        try:
+            node = node[part]
+        except (KeyError, IndexError, TypeError):
+            return  # set_key names what is missing
+    if isinstance(node, dict) and "voltage" not in node:
+        raise CaseError("key", key, "this winding is driven by its current: vary its current, "
+                                    "or give it voltage and frequency in the case file")
 
 
 def _shown(key: str, value: float) -> str:

@@ -430,3 +430,8 @@ def test_a_worker_process_warning_is_said_once_in_one_line(tmp_path):
     lines = proc.stderr.splitlines()
     assert len(lines) == 1 and lines[0].startswith("magcheck: warning: "), lines
     assert "material 'demo-ferrite'" in lines[0] and ".py:" not in lines[0]
+
+
+def test_a_drive_key_on_a_current_driven_winding_says_so(capsys):
+    assert main(["sweep", CHOKE, "--hand-only", "--vary", "winding.voltage=100V,230V"]) == 2
+    one_line(capsys, "--vary winding.voltage=100V,230V: this winding is driven by its current")
