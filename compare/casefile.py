@@ -288,6 +288,16 @@ def plausibility_issues(case: Case, data: dict | None = None) -> tuple[CaseWarni
             out.append(CaseWarning(f"core.{name}", _as_written(data, ("core", name), v),
                                    f"outside the plausible {span} .. 2 m (a bare number is "
                                    "metres: write e.g. \"20 mm\")"))
+    file_windings = "windings" in (data or {})
+    for k, w in enumerate(case.windings):
+        table: tuple = ("windings", k) if file_windings or k else ("winding",)
+        for name in ("thickness", "length"):
+            v = getattr(w, name, 0.0)
+            if isinstance(v, float) and v != 0.0 and not PART_MIN <= v <= hi:
+                key = "windings[%d].%s" % (k, name) if table[0] == "windings" else f"winding.{name}"
+                out.append(CaseWarning(key, _as_written(data, (*table, name), v),
+                                       "outside the plausible 0.1 mm .. 2 m for a winding's "
+                                       "build (a bare number is metres: write e.g. \"20 mm\")"))
     for i, g in enumerate(case.gaps):
         if g.length < GAP_MIN:
             out.append(CaseWarning(f"gaps[{i}].length",

@@ -235,6 +235,11 @@ def test_every_core_dimension_is_checked_for_plausibility_in_the_users_units():
     d["core"]["outer_width"] = "60 km"
     msgs = _warnings_of(d)
     assert any(m.startswith("core.outer_width = '60 km'") for m in msgs), msgs
+    d = demo_dict()
+    d["winding"]["thickness"] = "0.001 mm"
+    assert [m.split(":")[0] for m in _warnings_of(d)] == ["winding.thickness = '0.001 mm'"]
+    for f in sorted(CASES.glob("*.toml")):  # the bundled cases are all plausible
+        assert _warnings_of(tomllib.loads(f.read_text())) == [], f
 
 
 def test_the_mesh_guard_names_what_drives_the_count(tmp_path, capsys):
