@@ -83,6 +83,15 @@ def _write_output(path: str | Path, data: str | bytes) -> Path | None:
     if _names_folder(path):
         raise IsADirectoryError(errno.EISDIR, "ends in a slash, so names a folder, not a file",
                                 os.fspath(path))
+    try:  # what the path leads to: /dev/stdout on a pipe is a FIFO, whose
+        # resolved name (/proc/PID/fd/pipe:[N]) cannot be opened by name
+        st_at = os.stat(path)
+    except (FileNotFoundError, NotADirectoryError):
+        st_at = None
+    if st_at is not None and not (stat.S_ISREG(st_at.st_mode) or stat.S_ISDIR(st_at.st_mode)):
+        with open(path, "wb") as f:  # device, FIFO, socket: write into it
+            f.write(blob)
+        return Path(path)
     target = Path(os.path.realpath(path)) if os.path.islink(path) else Path(path)
     try:
         st: os.stat_result | None = os.stat(target)
@@ -173,10 +182,15 @@ def check_outputs(outputs: Sequence[tuple[str, str | None, str]],
         if kind == "file" and _names_folder(path):
             raise CaseError(where, None, "ends in a slash, so names a folder; give a file path")
         target = Path(os.path.realpath(path))
-        try:
-            st: os.stat_result | None = os.stat(target)
+        try:  # the path followed (/dev/stdout on a pipe), then its resolved name
+            st: os.stat_result | None = os.stat(path)
         except (FileNotFoundError, NotADirectoryError):
             st = None
+        if st is not None and not (stat.S_ISREG(st.st_mode) or stat.S_ISDIR(st.st_mode)):
+            if kind == "folder":
+                raise CaseError(where, None, "is a file, not a folder; give a folder")
+            _probe_device(where, Path(path), st)
+            continue
         if st is not None:
             if kind == "file" and stat.S_ISDIR(st.st_mode):
                 raise CaseError(where, None, "is a folder, not a file; give a file path")

@@ -440,3 +440,23 @@ def test_a_worker_process_warning_is_said_once_in_one_line(tmp_path):
 def test_a_drive_key_on_a_current_driven_winding_says_so(capsys):
     assert main(["sweep", CHOKE, "--hand-only", "--vary", "winding.voltage=100V,230V"]) == 2
     one_line(capsys, "--vary winding.voltage=100V,230V: this winding is driven by its current")
+
+
+def test_dev_stdout_on_a_pipe_is_written_into(tmp_path):
+    """/dev/stdout on a pipe resolves to /proc/PID/fd/pipe:[N], a name that
+    cannot be opened: the early check must not refuse it, the writer writes
+    into the pipe."""
+    import json
+    import os
+    import subprocess
+    import sys
+
+    if not os.path.exists("/dev/stdout"):
+        pytest.skip("no /dev/stdout")
+    root = str(Path(__file__).resolve().parents[1])
+    env = dict(os.environ, PYTHONPATH=root + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    proc = subprocess.run([sys.executable, "-m", "compare.cli", "hand", CHOKE, "--json",
+                           "/dev/stdout"], capture_output=True, text=True, timeout=120, env=env)
+    assert proc.returncode == 0, proc.stderr
+    start = proc.stdout.index("{\n")
+    assert json.loads(proc.stdout[start:])["case"]["name"] == "demo-choke"
