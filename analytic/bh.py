@@ -56,7 +56,11 @@ class BHDataError(ValueError):
 
 
 class BHRangeWarning(UserWarning):
-    """A flux density beyond the last measured point of a B-H curve was used."""
+    """A flux density beyond the last measured point of a B-H curve was used.
+
+    ``material`` names the curve (a caller may say it once per material)."""
+
+    material: str = ""
 
 
 def _as_float_array(x: ArrayLike) -> NDArray[np.float64]:
@@ -123,9 +127,13 @@ def _validate_table(h: NDArray, b: NDArray) -> tuple[NDArray, NDArray]:
         chord = (bb[k] - bb[k - 1]) / (hh[k] - hh[k - 1])
         if chord < mu_0 * (1.0 - _CHORD_RTOL):
             row = k + 1 - (1 - offset)
+            ratio = chord / mu_0
+            shown = f"{ratio:.4g}"
+            if float(shown) >= 1.0:  # just below mu0: enough digits to show it is below
+                shown = f"{ratio:.12g}"
             raise BHDataError(
-                f"B-H table row {row}: H = {hh[k]:g} A/m, B = {bb[k]:g} T; the chord slope from the "
-                f"previous point is {chord / mu_0:.6g}*mu0, below mu0 (physically impossible)"
+                f"B-H table row {row}: H = {hh[k]:g} A/m, B = {bb[k]:g} T; the chord slope dB/dH "
+                f"from the previous point is {shown} x mu0, below mu0 (physically impossible)"
             )
     return hh, bb
 
@@ -356,13 +364,12 @@ class BHCurve:
         b = np.abs(_as_float_array(b))
         if b.size and np.nanmax(b) > self.b_max:
             prefix = f"{where}: " if where else ""
-            warnings.warn(
+            w = BHRangeWarning(
                 f"{prefix}B = {float(np.nanmax(b)):.4g} T exceeds the last measured point of "
                 f"material '{self.name}' (B = {self.b_max:.4g} T, H = {self.h_max:.4g} A/m); "
-                "values beyond it are extrapolated with slope mu0",
-                BHRangeWarning,
-                stacklevel=2,
-            )
+                "values beyond it are extrapolated with slope mu0")
+            w.material = self.name
+            warnings.warn(w, stacklevel=2)
 
 
 # --------------------------------------------------------------------------- LinearMaterial

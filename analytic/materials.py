@@ -61,9 +61,9 @@ def bh_from_table(
         Unknown unit (names the key and the value) or any table error.
     """
     if h_unit not in H_UNITS:
-        raise BHDataError(f"h_unit = {h_unit!r} is not a known H unit; choose one of {sorted(H_UNITS)}")
+        raise BHDataError(f"h_unit = {h_unit!r} is not a known H unit; choose one of {', '.join(H_UNITS)}")
     if b_unit not in B_UNITS:
-        raise BHDataError(f"b_unit = {b_unit!r} is not a known B unit; choose one of {sorted(B_UNITS)}")
+        raise BHDataError(f"b_unit = {b_unit!r} is not a known B unit; choose one of {', '.join(B_UNITS)}")
     try:
         h = np.asarray(H, dtype=float) * H_UNITS[h_unit]
         b = np.asarray(B, dtype=float) * B_UNITS[b_unit]
@@ -89,9 +89,9 @@ def _parse_header(cells: list[str], where: str) -> tuple[int, float, float]:
     h_unit = h_unit or "A/m"
     b_unit = b_unit or "T"
     if h_unit not in H_UNITS:
-        raise BHDataError(f"{where}: unknown H unit {h_unit!r}; choose one of {sorted(H_UNITS)}")
+        raise BHDataError(f"{where}: unknown H unit {h_unit!r}; choose one of {', '.join(H_UNITS)}")
     if b_unit not in B_UNITS:
-        raise BHDataError(f"{where}: unknown B unit {b_unit!r}; choose one of {sorted(B_UNITS)}")
+        raise BHDataError(f"{where}: unknown B unit {b_unit!r}; choose one of {', '.join(B_UNITS)}")
     return h_col, H_UNITS[h_unit], B_UNITS[b_unit]
 
 

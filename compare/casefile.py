@@ -16,13 +16,13 @@ import warnings
 from pathlib import Path
 from typing import Any
 
-from analytic.bh import BHDataError, LinearMaterial
+from analytic.bh import B_UNITS, H_UNITS, BHDataError, LinearMaterial
 from analytic.fringing import FRINGING_MODELS
 from analytic.materials import bh_from_table, builtin, builtin_names, load_bh_csv
 
 from .case import (Case, FESettings, HandSettings, InductanceLimit, Margins, MaterialSpec,
                    SaturationLimit, SweepDecl, Tolerance, ForceLimit)
-from .errors import CaseError, CaseWarning, RunError
+from .errors import CaseError, CaseWarning, RunError, format_value
 from .families import Family, get_family
 from .geometry import Gap, Limb, WindingSpec, coil_rects
 from .keys import key_dimension, parse_key, parse_vary
@@ -92,20 +92,45 @@ def load_case(path: str | Path) -> Case:
                           sha256=hashlib.sha256(raw).hexdigest())
 
 
+MAX_TURNS = 1_000_000
+TURNS_WHY = " (a winding of more turns is no wound component; common practice, no source)"
+
+MIN_FE_TOL = 1e-10
+"""Smallest ``[fe] tol``: the demo choke's Newton residual stalls at 4.4e-14
+(50 steps, tol 1e-14), and the floor grows with the mesh's condition number,
+so 1e-10 leaves the solver a margin of three or more decades."""
+
+def visible_text(text: str) -> str:
+    """``text`` without control and invisible format characters (a newline, an
+    escape sequence, a right-to-left override): a case name or description
+    goes into the terminal, Markdown, HTML and file names, where such a
+    character reorders or restyles what follows. Tabs and newlines become spaces."""
+    import unicodedata
+
+    text = text.replace("\t", " ").replace("\n", " ").replace("\r", " ")
+    return "".join(c for c in text if unicodedata.category(c) not in ("Cc", "Cf", "Zl", "Zp"))
+
+
+ROOT_TABLES = ("case", "core", "gaps", "winding", "windings", "materials", "hand", "fe",
+               "margins", "sweep", "tolerances")
+"""The top-level tables of a case file (a family may read more: ``case_tables``)."""
+
+
 def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = "",
                    sha256: str = "") -> Case:
     """Validate an already parsed TOML document (see :func:`load_case`)."""
-    root = TableReader(data, "")
+    root = TableReader(data, "", known=ROOT_TABLES)
     meta = root.table("case")
-    name = meta.string("name", "unnamed")
+    name = visible_text(meta.string("name", "unnamed"))
     family_name = meta.string("family")
-    description = meta.string("description", "")
+    description = visible_text(meta.string("description", ""))
     meta.finish()
     family = get_family(family_name)
 
     core_t = root.table("core")
     stacking = core_t.number("stacking", 1.0, lo=0.3, hi=1.0)
     extra = getattr(family, "case_tables", ())
+    root._known |= frozenset(extra)
     if extra:  # a family that reads tables of its own (a drawn core: [shapes], [[regions]], ...)
         reader: Any = family.read_core  # read_core(t, *, tables, base_dir) for such a family
         core = reader(core_t, tables={n: root.raw(n, None) for n in extra}, base_dir=base_dir)
@@ -122,7 +147,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     fe = _read_fe(root.table("fe", {}))
     margins = _read_margins(root.table("margins", {}))
     sweeps = _read_sweeps(root, "sweep", family)
-    tolerances = tuple(_read_tolerance(t, family) for t in root.tables("tolerances"))
+    tolerances = tuple(_read_tolerance(t, family, data) for t in root.tables("tolerances"))
     root.finish()
     if len(windings) > 1 and hand.leakage:
         raise CaseError("hand.leakage", True, "window leakage is modelled for one winding; with "
@@ -158,7 +183,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
         if concentric_pair(case) is None:
             raise CaseError("hand.rogowski", True, "corrects the leakage inductance of two "
                             "concentric windings: give two [[windings]] on one limb, or drop it")
-    for w in plausibility_issues(case):
+    for w in plausibility_issues(case, data):
         warnings.warn(w, stacklevel=2)
     if case.winding.driven:
         case = _resolved_drive(case)
@@ -212,6 +237,8 @@ def family_parts(family: Family, core: object) -> tuple[str, ...]:
 # flatness; a core with mu_r under 5 is hardly magnetic.
 CORE_SIZE_RANGE = (1e-3, 2.0)  # m, outer core dimensions and stack depth
 GAP_MIN = 1e-6  # m
+PART_MIN = 1e-4  # m: a part thinner than 0.1 mm (a lamination's thickness) is no limb
+GAP_LIKE_KEYS = ("stroke", "sliding_gap", "gap")  # [core] lengths that may be tiny
 MU_R_MIN = 5.0
 # The depth correction (the hand and FE 3D columns) adds the fringing at the
 # stack's front and back faces as two independent edges.  That holds while
@@ -224,7 +251,24 @@ MU_R_MIN = 5.0
 DEPTH_PER_GAP_MIN = 1.0
 
 
-def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
+def _as_written(data: dict | None, path: tuple, si: float) -> str:
+    """A length for a message as the case file wrote it ("0.001 mm", or a bare
+    number in metres "20 m"); in mm when the document is not at hand."""
+    node: Any = data
+    for part in path:
+        try:
+            node = node[part]
+        except (KeyError, IndexError, TypeError):
+            node = None
+            break
+    if isinstance(node, str):
+        return node.strip()
+    if isinstance(node, (int, float)) and not isinstance(node, bool):
+        return f"{node:g} m"
+    return f"{si * 1e3:.4g} mm"
+
+
+def plausibility_issues(case: Case, data: dict | None = None) -> tuple[CaseWarning, ...]:
     """Valid but implausible inputs of a case, as warnings (not raised).
 
     Checks the outer core dimensions and the stack depth against
@@ -239,12 +283,34 @@ def plausibility_issues(case: Case) -> tuple[CaseWarning, ...]:
         dims.append(("depth", case.depth))  # an r-z core has no stack depth
     for name, v in dims:
         if not lo <= v <= hi:
-            out.append(CaseWarning(f"core.{name}", f"{v:g} m",
+            out.append(CaseWarning(f"core.{name}", _as_written(data, ("core", name), v),
                                    "outside the plausible 1 mm .. 2 m for a core dimension "
                                    "(a bare number is metres: write e.g. \"20 mm\")"))
+    seen = {name for name, _ in dims}
+    for name in case.family_model.core_keys:  # every other dimension of the core
+        v = getattr(case.core, name, None)
+        if name in seen or not isinstance(v, float) or v == 0.0:
+            continue
+        small = GAP_MIN if name in GAP_LIKE_KEYS else PART_MIN
+        if not small <= v <= hi:
+            span = "1 um" if small == GAP_MIN else "0.1 mm"
+            out.append(CaseWarning(f"core.{name}", _as_written(data, ("core", name), v),
+                                   f"outside the plausible {span} .. 2 m (a bare number is "
+                                   "metres: write e.g. \"20 mm\")"))
+    file_windings = "windings" in (data or {})
+    for k, w in enumerate(case.windings):
+        table: tuple = ("windings", k) if file_windings or k else ("winding",)
+        for name in ("thickness", "length"):
+            v = getattr(w, name, 0.0)
+            if isinstance(v, float) and v != 0.0 and not PART_MIN <= v <= hi:
+                key = "windings[%d].%s" % (k, name) if table[0] == "windings" else f"winding.{name}"
+                out.append(CaseWarning(key, _as_written(data, (*table, name), v),
+                                       "outside the plausible 0.1 mm .. 2 m for a winding's "
+                                       "build (a bare number is metres: write e.g. \"20 mm\")"))
     for i, g in enumerate(case.gaps):
         if g.length < GAP_MIN:
-            out.append(CaseWarning(f"gaps[{i}].length", f"{g.length:g} m",
+            out.append(CaseWarning(f"gaps[{i}].length",
+                                   _as_written(data, ("gaps", i, "length"), g.length),
                                    "below 1 um: shorter than a ground face is flat"))
     if not case.family_model.limb_names:  # a drawn core: its drawing's extent, its circuit's gaps
         from .coremodel import core_model
@@ -403,14 +469,14 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
                 raise CaseError(t.key(key), t.raw(key), f"a {family.name} core's coils are "
                                 "drawn as regions (kind = \"coil\", winding = its name): give "
                                 "only name, turns and current here")
-        turns = t.integer("turns", minimum=1)
+        turns = t.integer("turns", minimum=1, maximum=MAX_TURNS, why=TURNS_WHY)
         current, voltage, frequency, residual, resistance = _read_drive(t)
         t.finish()
         return WindingSpec("", turns, current, 0.0, 0.0, 0.0, name, 0.0, voltage, frequency,
                            residual, resistance)
     limb_name = t.string("limb", choices=family.winding_limbs)
     limb = limbs[limb_name]
-    turns = t.integer("turns", minimum=1)
+    turns = t.integer("turns", minimum=1, maximum=MAX_TURNS, why=TURNS_WHY)
     current, voltage, frequency, residual, resistance = _read_drive(t)
     room = min(limb.room_minus, limb.room_plus) - inner
     inside = " left beside the windings inside it" if inner > 0 else ""
@@ -533,14 +599,17 @@ def _read_material(t: TableReader, region: str, base_dir: Path | None) -> Materi
             p = Path(rel)
             if not p.is_absolute() and base_dir is not None:
                 p = base_dir / p
+            if p.is_dir():
+                raise CaseError(mt.key("csv"), rel, f"is a folder ({p}), not a B-H file; name "
+                                                    "the CSV file in it")
             if not p.is_file():
                 raise CaseError(mt.key("csv"), rel, f"no such B-H file ({p})")
             return MaterialSpec(region, "csv", f"B-H table {rel}", load_bh_csv(p, name=p.stem))
         if mt.has("H") or mt.has("B"):
             h = _number_list(mt, "H")
             b = _number_list(mt, "B")
-            h_unit = mt.string("H_unit", "A/m")
-            b_unit = mt.string("B_unit", "T")
+            h_unit = mt.string("H_unit", "A/m", choices=tuple(H_UNITS))
+            b_unit = mt.string("B_unit", "T", choices=tuple(B_UNITS))
             mt.finish()
             if len(h) != len(b):
                 raise CaseError(mt.key("B"), f"{len(b)} values",
@@ -592,7 +661,12 @@ def _read_fe(t: TableReader) -> FESettings:
     mesh_size = t.quantity("mesh_size", "length", None)
     air_factor = t.number("air_factor", None, lo=1.5, hi=100.0)
     boundary = t.string("boundary", d.boundary, choices=("open", "closed"))
-    tol = t.number("tol", d.tol, lo=1e-14, hi=1e-2)
+    tol = t.number("tol", d.tol, lo=0.0, hi=1e-2)
+    if tol < MIN_FE_TOL:
+        raise CaseError(t.key("tol"), t.raw("tol"),
+                        f"must be at least {MIN_FE_TOL:g}: below it the Newton residual meets "
+                        "double-precision rounding (about 4e-14 on the demo choke's mesh, more "
+                        "on finer ones) and the solve cannot converge")
     allow_large = t.raw("allow_large", False)
     if not isinstance(allow_large, bool):
         raise CaseError(t.key("allow_large"), allow_large, "must be true or false")
@@ -732,7 +806,60 @@ def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDec
 DISTRIBUTIONS = ("uniform", "normal")
 
 
-def _read_tolerance(t: TableReader, family: Family) -> Tolerance:
+def _written_nominal(data: dict, key: str, dim: str) -> tuple[object, float] | None:
+    """The case file's value of ``key`` as written and in SI; None when the
+    key is not written there (the tolerance study names that) or unreadable."""
+    from .keys import SCALE_KEYS, winding_alias
+    from .units import UnitError, parse_quantity
+
+    if key in SCALE_KEYS:
+        return "1", 1.0
+    node: Any = data
+    for part in winding_alias(data, parse_key(key)):
+        try:
+            node = node[part]
+        except (KeyError, IndexError, TypeError):
+            return None
+    try:
+        return node, float(parse_quantity(node, dim))
+    except (UnitError, ValueError, TypeError):
+        return None
+
+
+def _check_tolerance_span(t: TableReader, key: str, dim: str, dist: str,
+                          vals: dict[str, float], relative: bool, data: dict) -> None:
+    """Refuse a deviation that reaches zero or beyond from the nominal: a gap,
+    a dimension, turns or a current of the other sign is no sample of the
+    design, and the study would fail on one random draw (or pass by chance).
+    The key named is the deviation that reaches: ``tolerances[i].minus`` (or
+    ``plus`` below a negative nominal; ``limit``, else ``sigma``, for a normal
+    one, whose default limit is 3 sigma)."""
+    nominal = _written_nominal(data, key, dim)
+    if nominal is None:
+        return
+    written, nom = nominal
+    if not (math.isfinite(nom) and nom != 0.0):
+        return
+    scale = abs(nom) if relative else 1.0
+    if dist == "uniform":
+        name = "minus" if nom > 0.0 else "plus"
+    else:
+        name = "limit" if t.has("limit") else "sigma"
+    dev = (vals["minus"] if nom > 0.0 else vals["plus"]) if dist == "uniform" else vals["limit"]
+    if abs(nom) - dev * scale > 0.0:
+        return
+    side = "below zero" if nom > 0.0 else "above zero"
+    if dist == "normal" and name == "sigma":
+        what = "3 sigma (the default limit)"
+    else:
+        what = "the deviation"
+    shown = written if isinstance(written, str) else format_value(written)
+    raise CaseError(t.key(name), t.raw(name),
+                    f"{what} reaches zero or {side} from the nominal {shown} of {key}; "
+                    "keep it smaller than the nominal")
+
+
+def _read_tolerance(t: TableReader, family: Family, data: dict | None = None) -> Tolerance:
 
     key = t.string("key")
     try:
@@ -771,5 +898,7 @@ def _read_tolerance(t: TableReader, family: Family) -> Tolerance:
         if vals["sigma"] <= 0.0:
             raise CaseError(t.key("sigma"), t.data["sigma"], "must be positive")
         vals.setdefault("limit", 3.0 * vals["sigma"])
+    if data is not None:
+        _check_tolerance_span(t, key, dim, dist, vals, rel == {True}, data)
     t.finish()
     return Tolerance(key=key, distribution=dist, relative=rel == {True}, **vals)

@@ -14,7 +14,7 @@ import logging
 import os
 import sys
 import warnings
-from typing import Sequence
+from typing import NoReturn, Sequence
 
 from .errors import CaseError, RunError
 
@@ -46,11 +46,34 @@ COMMANDS: dict[str, str] = {
 }
 
 
+class _Parser(argparse.ArgumentParser):
+    """argparse with one-line usage errors: ``magcheck: bad input: --seed:
+    invalid int value: 'abc' (magcheck tolerance --help)``, exit 2, instead
+    of the usage block (which ``--help`` gives)."""
+
+    def error(self, message: str) -> NoReturn:
+        text = " ".join(message.split())  # argparse's text on one line
+        if text.startswith("argument "):
+            text = text[len("argument "):]
+        text = text.replace("argument command: ", "command: ")
+        prog = getattr(self, "help_prog", None) or self.prog
+        print(f"magcheck: bad input: {_printable(text)} ({prog} --help)", file=sys.stderr)
+        raise SystemExit(EXIT_INPUT)
+
+
+def _printable(text: str) -> str:
+    """``text`` without control characters (a newline or escape typed into an
+    argument reaches the terminal as its escaped form; `errors.printable`)."""
+    from .errors import printable
+
+    return printable(text)
+
+
 def build_parser(command: str | None = None) -> argparse.ArgumentParser:
     """The argument parser; the arguments of ``command`` only (all when None)."""
     import importlib
 
-    parser = argparse.ArgumentParser(
+    parser = _Parser(
         prog="magcheck",
         description="Check the magnetic-circuit hand calculation of a magnetic device "
                     "(choke, transformer, relay, solenoid, holding magnet) against a 2D "
@@ -115,12 +138,15 @@ def _main(argv: Sequence[str] | None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     chosen = next((a for a in argv if a in COMMANDS), None)
     parser = build_parser(chosen if chosen is not None and "-h" not in argv[:1] else None)
+    if chosen is not None:  # unknown options are reported by the top parser
+        setattr(parser, "help_prog", f"magcheck {chosen}")
     try:
         args = parser.parse_args(argv)
     except SystemExit as exc:  # argparse: --help (0) or usage error (2)
         return int(exc.code or 0)
     logging.basicConfig(level=logging.INFO if args.verbose else logging.WARNING,
                         format="%(levelname)s %(name)s: %(message)s")
+    _SAID.clear()
     with warnings.catch_warnings():
         warnings.simplefilter("default")
         warnings.showwarning = _show_warning
@@ -128,17 +154,30 @@ def _main(argv: Sequence[str] | None) -> int:
             _check_outputs(args)
             return int(args._run(args))
         except CaseError as exc:
-            print(f"magcheck: bad input: {exc}", file=sys.stderr)
+            print(f"magcheck: bad input: {_printable(str(exc))}", file=sys.stderr)
             return EXIT_INPUT
         except RunError as exc:
-            print(f"magcheck: solve failed: {exc}", file=sys.stderr)
+            print(f"magcheck: solve failed: {_printable(str(exc))}", file=sys.stderr)
             return EXIT_SOLVE
         except BrokenPipeError:
             raise
         except OSError as exc:
-            print(f"magcheck: cannot write output: {exc.filename or ''}: {exc.strerror or exc}",
+            where = _output_option(args, exc.filename)
+            print(f"magcheck: cannot write output: {_printable(where)}: {exc.strerror or exc}",
                   file=sys.stderr)
             return EXIT_INPUT
+
+
+def _output_option(args: argparse.Namespace, path: object) -> str:
+    """``--json PATH`` for a failed write of PATH: the option that named it,
+    or the path alone (a file inside a --report folder)."""
+    text = os.fspath(path) if isinstance(path, (str, os.PathLike)) else ""
+    mod = getattr(args, "_command", None)
+    for opt in getattr(mod, "OUTPUTS", {}):
+        value = getattr(args, opt.lstrip("-").replace("-", "_"), None)
+        if value and text and (value == text or text.startswith(os.path.join(value, ""))):
+            return f"{opt} {value}" if value == text else f"{opt} {value} ({text})"
+    return text or "(unknown path)"
 
 
 def _check_outputs(args: argparse.Namespace) -> None:
@@ -152,8 +191,23 @@ def _check_outputs(args: argparse.Namespace) -> None:
     check_outputs(outputs, mod.input_files(args))
 
 
+_SAID: set[tuple[str, str]] = set()
+"""(warning kind, material) of the B-H range warnings said in this run."""
+
+
 def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
-    print(f"magcheck: warning: {message}", file=sys.stderr)
+    """Print a warning in one line; a B-H curve's range warning once per
+    material (a sweep or a saturation search solves the hand model many
+    times, each solve past the curve's last point would repeat it)."""
+    material = getattr(message, "material", None)
+    text = _printable(str(message))
+    if material is not None:
+        key = (category.__name__, str(material))
+        if key in _SAID:
+            return
+        _SAID.add(key)
+        text += " (said once per material; other solves may go further)"
+    print(f"magcheck: warning: {text}", file=sys.stderr)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -4,7 +4,14 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["CaseError", "RunError", "CaseWarning", "format_value"]
+__all__ = ["CaseError", "RunError", "CaseWarning", "format_value", "printable"]
+
+
+def printable(text: str) -> str:
+    """``text`` with every non-printable character escaped (``\\n``,
+    ``\\u202e``): a key or name from a case file then stays on one line and
+    cannot reorder or restyle the terminal line it is printed on."""
+    return "".join(c if c.isprintable() else repr(c)[1:-1] for c in text)
 
 
 def format_value(value: object) -> str:
@@ -35,10 +42,11 @@ class CaseError(ValueError):
         self.key = key
         self.value = value
         self.reason = reason
+        shown = printable(str(key))
         if value is None:
-            text = f"{key}: {reason}"
+            text = f"{shown}: {reason}"
         else:
-            text = f"{key} = {format_value(value)}: {reason}"
+            text = f"{shown} = {format_value(value)}: {reason}"
         super().__init__(text)
 
 
@@ -58,4 +66,4 @@ class CaseWarning(UserWarning):
         self.key = key
         self.value = value
         self.reason = reason
-        super().__init__(f"{key} = {format_value(value)}: {reason}")
+        super().__init__(f"{printable(str(key))} = {format_value(value)}: {reason}")

@@ -104,9 +104,11 @@ def run_tasks(fn: Callable[[Any], Any], tasks: Sequence[Any], *, workers: int | 
     results = [None] * total
     pool = ProcessPoolExecutor(max_workers=n, mp_context=mp.get_context("spawn"))
     try:
-        futures = {pool.submit(fn, t): i for i, t in enumerate(tasks)}
+        futures = {pool.submit(_WithWarnings(fn), t): i for i, t in enumerate(tasks)}
         for done, fut in enumerate(as_completed(futures), start=1):
-            results[futures[fut]] = fut.result()
+            results[futures[fut]], said = fut.result()
+            for item in said:
+                _reemit(*item)
             if on_done:
                 on_done(done, total)
     except BaseException:
@@ -115,6 +117,39 @@ def run_tasks(fn: Callable[[Any], Any], tasks: Sequence[Any], *, workers: int | 
         raise
     pool.shutdown(wait=True)
     return results, ExecInfo("processes", n, time.perf_counter() - t0)
+
+
+class _WithWarnings:
+    """A task run in a worker process with its warnings recorded and handed
+    back (category, text, simple attributes), so the parent says them as it
+    says its own: one line each, a B-H range warning once per material, not
+    the worker's default two-line form with a source path."""
+
+    def __init__(self, fn: Callable[[Any], Any]):
+        self.fn = fn
+
+    def __call__(self, task: Any) -> tuple[Any, list[tuple[type[Warning], str, dict]]]:
+        import warnings
+
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            out = self.fn(task)
+        said = []
+        for w in caught:
+            attrs = {k: v for k, v in vars(w.message).items()
+                     if isinstance(v, (str, int, float, bool))}
+            said.append((w.category, str(w.message), attrs))
+        return out, said
+
+
+def _reemit(category: type[Warning], text: str, attrs: dict) -> None:
+    """Warn in this process with a worker's warning (see `_WithWarnings`)."""
+    import warnings
+
+    w = Warning.__new__(category)
+    Warning.__init__(w, text)
+    w.__dict__.update(attrs)
+    warnings.warn(w, stacklevel=2)
 
 
 def _terminate(pool: Any) -> None:

@@ -307,13 +307,30 @@ def guard_mesh_size(case: Case, *, refine: float = 1.0) -> int:
     if n > MAX_TRIANGLES and not case.fe.allow_large:
         no_gap = replace(layout, mesh=replace(layout.mesh, gap_elements=1))
         gap_driven = estimate_triangles(no_gap) < 0.5 * n
-        key, value = (("fe.gap_elements", case.fe.gap_elements) if gap_driven
-                      else ("fe.mesh_size", case.fe.mesh_size if case.fe.mesh_size is not None
-                            else f"{layout.core_size():.3g} m (default)"))
+        value: object
+        if gap_driven:
+            key, value = "fe.gap_elements", case.fe.gap_elements
+        elif case.fe.mesh_size is not None:
+            key, value = "fe.mesh_size", f"{case.fe.mesh_size * 1e3:.4g} mm"
+        else:  # the default size: a quarter of the smallest part's smallest side
+            key, value = "fe.mesh_size (default)", None
+        driver = ""
+        if not gap_driven:  # what the count scales with: (extent / element size)^2
+            parts = [r for r in layout.regions if r.kind != "gap"] or list(layout.regions)
+            small = min(parts, key=lambda r: r.feature())
+            boxes = [r.bbox() for r in layout.regions]
+            extent = max(max(b[2] for b in boxes) - min(b[0] for b in boxes),
+                         max(b[3] for b in boxes) - min(b[1] for b in boxes))
+            size = (f"the default element size {layout.core_size() * 1e3:.4g} mm is a quarter "
+                    f"of region '{small.name}''s smallest side ({small.feature() * 1e3:.4g} mm)"
+                    if case.fe.mesh_size is None else "")
+            span = f"{extent:.4g} m" if extent >= 1.0 else f"{extent * 1e3:.4g} mm"
+            driver = (f" (the parts span {span}" + (f"; {size}" if size else "")
+                      + ": check those dimensions)")
         what = "the refined mesh of the uncertainty estimate" if refine != 1 else "the mesh"
         raise CaseError(key, value, f"{what} would have about {n:,} triangles (limit "
-                                    f"{MAX_TRIANGLES:,}); coarsen it, or set [fe] allow_large = "
-                                    "true (or --allow-large) to mesh it anyway")
+                                    f"{MAX_TRIANGLES:,}){driver}; coarsen it, or set [fe] "
+                                    "allow_large = true (or --allow-large) to mesh it anyway")
     return n
 
 

@@ -16,7 +16,7 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Sequence
 
 import numpy as np
 
@@ -58,8 +58,10 @@ def parse_key(key: str) -> tuple[str | int, ...]:
 
 _NAMES = {
     "gaps": ("length", "position"),
-    "winding": ("current", "turns", "thickness", "length", "fill", "clearance"),
-    "windings": ("current", "turns", "thickness", "length", "fill", "clearance"),
+    "winding": ("current", "turns", "thickness", "length", "fill", "clearance", "voltage",
+                "frequency"),
+    "windings": ("current", "turns", "thickness", "length", "fill", "clearance", "voltage",
+                 "frequency"),
 }
 """The variable keys of the tables every case has; ``[core]``'s come from its family."""
 
@@ -69,7 +71,8 @@ def key_dimension(key: str, family: Any = None) -> str:
 
     Only design keys may vary: [core] dimensions (the family's ``core_keys``;
     without a family, those of every known family), [[gaps]] length and
-    position, [winding] current, turns, thickness, length, fill and clearance, and the
+    position, [winding] current, turns, thickness, length, fill and clearance (and a
+    voltage-driven winding's voltage and frequency), and the
     core material (``materials.core.mu_r``, ``scale_H``, ``scale_B``).
     """
     import difflib
@@ -91,6 +94,8 @@ def key_dimension(key: str, family: Any = None) -> str:
                                     f"(known: {', '.join(names[top])}){hint}")
     if last == "current":
         return "current"
+    if last in ("voltage", "frequency"):  # a voltage-driven winding's drive (rms V, Hz)
+        return last
     if last == "turns":
         return "integer"
     if last == "fill":
@@ -109,6 +114,14 @@ def winding_alias(data: dict, path: tuple[str | int, ...]) -> tuple[str | int, .
     return path
 
 
+def key_text(path: Sequence[str | int]) -> str:
+    """A key path as the case file's messages write it: ``gaps[3].length``."""
+    out = ""
+    for part in path:
+        out += f"[{part}]" if isinstance(part, int) else (f".{part}" if out else str(part))
+    return out
+
+
 def set_key(data: dict, path: tuple[str | int, ...], value: Any, key: str) -> None:
     path = winding_alias(data, path)
     node: Any = data
@@ -116,7 +129,7 @@ def set_key(data: dict, path: tuple[str | int, ...], value: Any, key: str) -> No
         try:
             node = node[part]
         except (KeyError, IndexError, TypeError):
-            raise CaseError("key", key, f"'{'.'.join(map(str, path[:i + 1]))}' is not in the "
+            raise CaseError("key", key, f"'{key_text(path[:i + 1])}' is not in the "
                                         "case file") from None
     last = path[-1]
     if isinstance(node, list):

@@ -57,6 +57,17 @@ def write_output(path: str | Path, data: str | bytes) -> Path | None:
     Text is written as UTF-8 with the newlines given. Returns the path written
     (the link's target for a symlink).
     """
+    try:
+        return _write_output(path, data)
+    except BrokenPipeError:
+        raise
+    except OSError as exc:
+        # name the path the user gave, never the temporary file beside it
+        # (the CLI adds the option: `cli._output_option`)
+        raise type(exc)(exc.errno, exc.strerror or str(exc), os.fspath(path)) from None
+
+
+def _write_output(path: str | Path, data: str | bytes) -> Path | None:
     blob = data.encode("utf-8") if isinstance(data, str) else bytes(data)
     if os.fspath(path) == STDOUT:
         stream = sys.stdout
@@ -72,6 +83,15 @@ def write_output(path: str | Path, data: str | bytes) -> Path | None:
     if _names_folder(path):
         raise IsADirectoryError(errno.EISDIR, "ends in a slash, so names a folder, not a file",
                                 os.fspath(path))
+    try:  # what the path leads to: /dev/stdout on a pipe is a FIFO, whose
+        # resolved name (/proc/PID/fd/pipe:[N]) cannot be opened by name
+        st_at = os.stat(path)
+    except (FileNotFoundError, NotADirectoryError):
+        st_at = None
+    if st_at is not None and not (stat.S_ISREG(st_at.st_mode) or stat.S_ISDIR(st_at.st_mode)):
+        with open(path, "wb") as f:  # device, FIFO, socket: write into it
+            f.write(blob)
+        return Path(path)
     target = Path(os.path.realpath(path)) if os.path.islink(path) else Path(path)
     try:
         st: os.stat_result | None = os.stat(target)
@@ -136,6 +156,11 @@ def check_outputs(outputs: Sequence[tuple[str, str | None, str]],
     """
     from .errors import CaseError
 
+    for opt, path, _ in outputs:
+        if path is not None and not os.fspath(path).strip():
+            raise CaseError(opt, os.fspath(path), "is an empty path; give a file or folder "
+                                                  "(- for standard output), or leave the "
+                                                  "option out")
     given = [(opt, os.fspath(path), kind) for opt, path, kind in outputs if path]
     for opt, path, _ in given:
         for source, what in (inputs or {}).items():
@@ -157,19 +182,71 @@ def check_outputs(outputs: Sequence[tuple[str, str | None, str]],
         if kind == "file" and _names_folder(path):
             raise CaseError(where, None, "ends in a slash, so names a folder; give a file path")
         target = Path(os.path.realpath(path))
-        try:
-            st: os.stat_result | None = os.stat(target)
+        try:  # the path followed (/dev/stdout on a pipe), then its resolved name
+            st: os.stat_result | None = os.stat(path)
         except (FileNotFoundError, NotADirectoryError):
             st = None
+        if st is not None and not (stat.S_ISREG(st.st_mode) or stat.S_ISDIR(st.st_mode)):
+            if kind == "folder":
+                raise CaseError(where, None, "is a file, not a folder; give a folder")
+            _probe_device(where, Path(path), st)
+            continue
         if st is not None:
             if kind == "file" and stat.S_ISDIR(st.st_mode):
                 raise CaseError(where, None, "is a folder, not a file; give a file path")
             if kind == "folder" and not stat.S_ISDIR(st.st_mode):
                 raise CaseError(where, None, "is a file, not a folder; give a folder")
+            if stat.S_ISDIR(st.st_mode):
+                _probe_folder(where, target)
+            elif stat.S_ISREG(st.st_mode):
+                _probe_folder(where, target.parent)
+            else:
+                _probe_device(where, target, st)
             continue
         parent = next(p for p in target.parents if os.path.exists(p))
         if not parent.is_dir():
             raise CaseError(where, None, f"{parent} is a file, not a folder; give another path")
+        _probe_folder(where, parent)
+
+
+def _probe_folder(where: str, folder: Path) -> None:
+    """Refuse (CaseError naming ``where``) a folder in which no file can be
+    created: the writer makes a temporary file there, then renames it. A file
+    is created and removed at once, so root's permission bypass, read-only
+    mounts and /proc are all seen as the write would see them."""
+    from .errors import CaseError
+
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=".magcheck-probe.", dir=folder)
+    except OSError as exc:
+        reason = exc.strerror or str(exc)
+        raise CaseError(where, None, f"cannot be written ({folder}: {reason})") from None
+    os.close(fd)
+    try:
+        os.unlink(tmp)
+    except OSError:
+        pass
+
+
+# (major, minor) of Linux's /dev/full, which fails every write with ENOSPC.
+_FULL_DEVICE = (1, 7)
+
+
+def _probe_device(where: str, target: Path, st: os.stat_result) -> None:
+    """Refuse a device, FIFO or socket that cannot be opened for writing
+    (without blocking, without writing a byte), and the always-full device."""
+    from .errors import CaseError
+
+    if stat.S_ISCHR(st.st_mode) and (os.major(st.st_rdev), os.minor(st.st_rdev)) == _FULL_DEVICE:
+        raise CaseError(where, None, "is a device that refuses every write "
+                                     "(no space left); give another path")
+    if stat.S_ISFIFO(st.st_mode) or stat.S_ISSOCK(st.st_mode):
+        return  # opening a FIFO would wait for its reader; the write itself is guarded
+    try:
+        fd = os.open(target, os.O_WRONLY | os.O_NONBLOCK)
+    except OSError as exc:
+        raise CaseError(where, None, f"cannot be written ({exc.strerror or exc})") from None
+    os.close(fd)
 
 
 def text_stream(*paths: str | None) -> TextIO:

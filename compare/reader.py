@@ -36,12 +36,15 @@ class TableReader:
         Its key path in the file ("" for the root, "core", "gaps[1]").
     """
 
-    def __init__(self, data: object, path: str):
+    def __init__(self, data: object, path: str, *, known: tuple[str, ...] = ()):
         if not isinstance(data, dict):
             raise CaseError(path or "<root>", data, "must be a table")
         self.data: dict[str, Any] = data
         self.path = path
         self._used: set[str] = set()
+        # keys this table may hold: a missing key is never taken for a
+        # misspelling of one of them ([margins] given, [materials] missing)
+        self._known = frozenset(known)
 
     # -- helpers -----------------------------------------------------------
     def key(self, name: str) -> str:
@@ -58,7 +61,7 @@ class TableReader:
         if default is MISSING:
             # a key in the table that nobody asked for and that is close to
             # this one is most likely it, misspelt
-            strays = [k for k in self.data if k not in self._used]
+            strays = [k for k in self.data if k not in self._used and k not in self._known]
             close = difflib.get_close_matches(name, strays, n=1, cutoff=0.6)
             hint = (f" ('{self.key(close[0])}' is given: a misspelling of '{name}'?)" if close
                     else "")
@@ -90,7 +93,8 @@ class TableReader:
                             "must not be negative" if allow_zero else "must be positive")
         return value
 
-    def integer(self, name: str, default: Any = MISSING, *, minimum: int | None = None) -> int:
+    def integer(self, name: str, default: Any = MISSING, *, minimum: int | None = None,
+                maximum: int | None = None, why: str = "") -> int:
         raw = self._raw(name, default)
         if raw is default and default is not MISSING:
             return default
@@ -102,6 +106,9 @@ class TableReader:
             raw = int(raw)
         if minimum is not None and raw < minimum:
             raise CaseError(self.key(name), raw, f"must be at least {minimum}")
+        if maximum is not None and raw > maximum:
+            raise CaseError(self.key(name), self.data.get(name, raw),
+                            f"must be at most {maximum:,}{why}")
         return raw
 
     def number(self, name: str, default: Any = MISSING, *, lo: float | None = None,

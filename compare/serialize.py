@@ -236,8 +236,19 @@ def breakdown_rows(res: CheckResult) -> tuple[list[str], list[list[str]]]:
     return columns, rows
 
 
+_MD_SPECIAL = set("\\`*_{}[]<>()#+!|&~")
+
+
+def markdown_text(text: str) -> str:
+    """Case text (a name, a note) as literal Markdown: every character Markdown
+    or inline HTML could read as markup is backslash-escaped (``<script>``
+    stays text), line breaks become spaces."""
+    text = " ".join(str(text).splitlines())
+    return "".join("\\" + c if c in _MD_SPECIAL else c for c in text)
+
+
 def check_markdown(res: CheckResult, agreement: str = "fatal") -> str:
-    lines = [f"# magcheck: {res.case.name}", "",
+    lines = [f"# magcheck: {markdown_text(res.case.name)}", "",
              f"Case file `{res.case.source}` (sha256 `{res.case.sha256[:12]}`), family "
              f"`{res.case.family}`, fringing model `{res.hand_planar.fringing_model}`.", "",
              "| " + " | ".join(TABLE_COLUMNS) + " |",
@@ -245,7 +256,7 @@ def check_markdown(res: CheckResult, agreement: str = "fatal") -> str:
     for r in res.rows:
         lines.append("| " + " | ".join(table_cells(r)) + " |")
     lines.append("")
-    lines += [f"- {n}" for n in res.notes]
+    lines += [f"- {markdown_text(n)}" for n in res.notes]
     if res.fringing_ranking:
         lines += ["", "Fringing models against the FE (planar form), best first:", "",
                   "| model | gap B diff % | flux diff % | inductance diff % | RMS % |",

@@ -60,7 +60,7 @@ _UNITS: dict[str, tuple[float, Dimension]] = {
     "in": (0.0254, DIMENSIONS["length"]),
     "mil": (25.4e-6, DIMENSIONS["length"]),
     "A": (1.0, DIMENSIONS["current"]),
-    "At": (1.0, DIMENSIONS["current"]),  # ampere-turn
+    "At": (1.0, DIMENSIONS["current"]),  # ampere-turn: only in a ratio (At/m), see _TURN_UNIT_RE
     "T": (1.0, DIMENSIONS["flux density"]),
     "G": (1e-4, DIMENSIONS["flux density"]),
     "Oe": (1000.0 / (4.0 * math.pi), DIMENSIONS["field strength"]),
@@ -79,6 +79,11 @@ _PREFIXES: dict[str, float] = {
     "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "μ": 1e-6, "m": 1e-3,
     "c": 1e-2, "k": 1e3, "M": 1e6,
 }
+
+# An ampere-turn factor not divided by anything: "480 At", "1.2 kAt". Every
+# current a case file gives is a winding's current per turn, so an MMF there
+# is N times too large; At stays welcome inside a field strength ("800 At/m").
+_TURN_UNIT_RE = re.compile(r"^(?:[pnuµμmckM])?At(?:\^1)?$")
 
 _NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
 _QUANTITY_RE = re.compile(rf"^\s*({_NUMBER}|nan|inf|-inf|\+inf)\s*(.*?)\s*$", re.IGNORECASE)
@@ -160,6 +165,9 @@ def parse_quantity(value: object, dimension: str) -> float:
         scale, dim = _parse_unit(m.group(2))
     except UnitError as exc:
         raise UnitError(f"'{value}': {exc}") from None
+    if dimension == "current" and _TURN_UNIT_RE.match(m.group(2).replace(" ", "")):
+        raise UnitError(f"'{value}' is ampere-turns (an MMF), but this is the current per "
+                        "turn: give it in A (the MMF divided by the turns)")
     if dim != want:
         if not m.group(2).strip():
             raise UnitError(f"'{value}' has no unit; add one, or write the number unquoted "
@@ -170,7 +178,10 @@ def parse_quantity(value: object, dimension: str) -> float:
 
 def format_si(value: float, unit: str, digits: int = 4) -> str:
     """Format an SI value with an engineering prefix, e.g. ``1.25 mH``; a
-    pure number (``unit`` "" or "%") takes no prefix: ``0.9984``, ``0.8836 %``."""
+    pure number (``unit`` "" or "%") takes no prefix: ``0.9984``, ``0.8836 %``;
+    a current density (``unit`` "A/m^2") is shown in A/mm^2: ``3.2 A/mm^2``."""
+    if unit == "A/m^2":  # a winding's current density: A/mm^2, as designers write it
+        return f"{value / 1e6:.{digits}g} A/mm^2"
     if not math.isfinite(value) or value == 0.0 or unit in ("", "%"):
         return f"{value:.{digits}g} {unit}".rstrip()
     exp3 = int(math.floor(math.log10(abs(value)) / 3.0)) * 3

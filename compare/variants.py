@@ -16,6 +16,7 @@ import hashlib
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
+from typing import Any
 
 from analytic.bh import BHDataError, scale_law
 
@@ -73,16 +74,20 @@ def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str,
         if key in SCALE_KEYS:
             continue
         try:
+            _check_drive_key(data, key)
             set_key(data, parse_key(key), value, key)
         except CaseError as exc:
             where = spec_of.get(key, key) if spec_of else key
-            raise CaseError(where, value, exc.reason) from None
+            raise CaseError(where, None, exc.reason) from None
     try:
         case = case_from_dict(data, base_dir=src.base_dir, source=src.source, sha256=src.sha256)
     except CaseError as exc:
         if spec_of:
-            point = ", ".join(f"{k} = {v:g}" for k, v in settings.items())
-            raise CaseError(exc.key, exc.value, f"{exc.reason} (at the point {point})") from None
+            point = ", ".join(f"{k} = {_shown(k, v)}" for k, v in settings.items())
+            shown: object = exc.value
+            if exc.key in settings and isinstance(exc.value, float):  # the swept value
+                shown = _shown(exc.key, exc.value)
+            raise CaseError(exc.key, shown, f"{exc.reason} (at the point {point})") from None
         raise
     for k, v in scales.items():
         if v <= 0:
@@ -92,6 +97,32 @@ def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str,
         case = scale_core_material(case, scales.get(SCALE_KEYS[0], 1.0),
                                    scales.get(SCALE_KEYS[1], 1.0))
     return case
+
+
+def _check_drive_key(data: dict, key: str) -> None:
+    """A winding's voltage or frequency varies only on a voltage-driven winding."""
+    from .keys import winding_alias
+
+    path = winding_alias(data, parse_key(key))
+    if path[-1] not in ("voltage", "frequency") or path[0] not in ("winding", "windings"):
+        return
+    node: Any = data
+    for part in path[:-1]:
+        try:
+            node = node[part]
+        except (KeyError, IndexError, TypeError):
+            return  # set_key names what is missing
+    if isinstance(node, dict) and "voltage" not in node:
+        raise CaseError("key", key, "this winding is driven by its current: vary its current, "
+                                    "or give it voltage and frequency in the case file")
+
+
+def _shown(key: str, value: float) -> str:
+    """A swept SI value in the unit the sweep's tables show it in (lengths in mm)."""
+    from .keys import display_unit
+
+    factor, unit = display_unit(key)
+    return f"{value * factor:g} {unit}".rstrip()
 
 
 def scale_core_material(case: Case, k_h: float = 1.0, k_b: float = 1.0) -> Case:

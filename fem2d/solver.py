@@ -384,7 +384,8 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
                         ndofs=asm.ndofs, assembler=asm, linear_solver=factory,
                         sources=sources)
     if not converged:
-        logger.warning(message)
-        if check:
+        if check:  # the error carries the message: logged only at -v, not a second line
+            logger.info(message)
             raise ConvergenceError(message)
+        logger.warning(message)
     return sol

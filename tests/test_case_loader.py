@@ -7,6 +7,7 @@ from __future__ import annotations
 import copy
 import math
 import tomllib
+import warnings
 from pathlib import Path
 
 import pytest
@@ -14,7 +15,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from compare.casefile import case_from_dict, load_case
-from compare.errors import CaseError
+from compare.errors import CaseError, CaseWarning
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -24,7 +25,16 @@ def demo_dict() -> dict:
 
 
 def load(d: dict):
-    return case_from_dict(d, base_dir=CASES)
+    """Load a document; the warnings it gives are asserted here, not leaked
+    into the suite's output: each a one-line CaseWarning naming a key (a
+    fuzzed document may well be valid and implausible)."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        case = case_from_dict(d, base_dir=CASES)
+    for w in caught:
+        assert issubclass(w.category, CaseWarning), w
+        assert "\n" not in str(w.message) and w.message.key, w  # type: ignore[union-attr]
+    return case
 
 
 def test_demo_choke_loads_in_si():

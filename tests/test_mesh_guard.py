@@ -56,7 +56,7 @@ def test_far_too_fine_mesh_is_bad_input_at_once(tmp_path, capsys):
     assert time.perf_counter() - t0 < 10.0  # no meshing happened (generous: shared machine)
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1
-    assert "fe.mesh_size = 2e-05" in err[0] and "allow_large" in err[0] and "triangles" in err[0]
+    assert "fe.mesh_size = '0.02 mm'" in err[0] and "allow_large" in err[0] and "triangles" in err[0]
 
 
 def test_too_many_gap_elements_names_gap_elements():
@@ -98,7 +98,7 @@ def test_sweep_and_tolerance_refuse_a_far_too_fine_mesh_before_running(command, 
     path.write_text(text)
     assert main([command[0], str(path), *command[1:]]) == 2
     err = capsys.readouterr().err.strip().splitlines()
-    assert len(err) == 1 and "fe.mesh_size = 2e-05" in err[0] and "--allow-large" in err[0]
+    assert len(err) == 1 and "fe.mesh_size = '0.02 mm'" in err[0] and "--allow-large" in err[0]
 
 
 def test_allow_large_option_of_sweep_and_tolerance_reaches_every_derived_case(tmp_path):

@@ -133,6 +133,57 @@ def test_an_output_that_cannot_fit_is_refused_before_the_run(argv, words, folder
     assert _snapshot(folder) == before
 
 
+@pytest.mark.parametrize("argv, option", [
+    (["hand", CHOKE, "--json", ""], "--json"),
+    (["check", CHOKE, "--csv", ""], "--csv"),
+    (["check", CHOKE, "--report", " "], "--report"),
+    (["sweep", CHOKE, "--vary", "winding.current=1A:2A:2", "--plots", ""], "--plots"),
+    (["tolerance", CHOKE, "--plot", ""], "--plot"),
+    (["verify", CHOKE, "--junit", ""], "--junit"),
+])
+def test_an_empty_output_path_is_refused(argv, option, folder, capsys, no_run):
+    """A CI script with an unset variable (``--json "$OUT"``) must not lose its
+    result silently: an empty path is bad input, exit 2, one line naming the option."""
+    before = _snapshot(folder)
+    assert main(argv) == 2
+    err = _refused(capsys, f"{option} = ", "is an empty path")
+    assert err.startswith(f"magcheck: bad input: {option} ="), err
+    assert _snapshot(folder) == before
+
+
+@pytest.mark.parametrize("argv, words", [
+    (["hand", CHOKE, "--json", "/dev/full"], "--json /dev/full: is a device that refuses"),
+    (["check", CHOKE, "--json", "/proc/self/x.json"], "--json /proc/self/x.json: cannot be written"),
+    (["check", CHOKE, "--report", "/proc/self/rep"], "--report /proc/self/rep: cannot be written"),
+    (["sweep", CHOKE, "--vary", "winding.current=1A:2A:2", "--csv", "/proc/x/y.csv"],
+     "--csv /proc/x/y.csv: cannot be written"),
+    (["materials", "demo-ferrite", "--plot", "/proc/self/m.png"], "--plot /proc/self/m.png"),
+])
+def test_an_unwritable_output_is_refused_before_the_run(argv, words, folder, capsys, no_run):
+    """Writability is checked with the other output checks, before any solve:
+    a full device, a folder where no file can be created (/proc, even for root)."""
+    if not os.path.exists("/dev/full") or not os.path.isdir("/proc/self"):
+        pytest.skip("needs Linux's /dev/full and /proc")
+    before = _snapshot(folder)
+    assert main(argv) == 2
+    _refused(capsys, words)
+    assert _snapshot(folder) == before
+
+
+def test_a_write_failure_after_the_run_names_the_option_and_the_path(folder, capsys, monkeypatch):
+    """Should a write still fail late (a disk filling during the solve), the one
+    line names the option and the path given, never a temporary file."""
+    import compare.output as output
+
+    def full(path, data):
+        raise OSError(28, "No space left on device", f"{folder}/.h.json.abc.tmp")
+
+    monkeypatch.setattr(output, "_write_output", full)
+    assert main(["hand", "case.toml", "--json", "h.json"]) == 2
+    err = capsys.readouterr().err
+    assert err == "magcheck: cannot write output: --json h.json: No space left on device\n", err
+
+
 def test_the_writer_refuses_a_trailing_slash(tmp_path):
     with pytest.raises(IsADirectoryError, match="names a folder"):
         write_output(str(tmp_path / "newdir") + "/", "x")

@@ -65,9 +65,13 @@ def test_dev_null_stays_a_character_device(capsys):
 @pytest.mark.skipif(not os.path.exists("/dev/full"), reason="no /dev/full on this system")
 def test_full_device_is_an_error_not_replaced(capsys):
     code = main(["hand", CHOKE, "--json", "/dev/full"])
-    assert code == 2
-    assert "cannot write output" in capsys.readouterr().err
+    assert code == 2  # refused with the other output checks, before the solve
+    assert capsys.readouterr().err == ("magcheck: bad input: --json /dev/full: is a device that "
+                                       "refuses every write (no space left); give another path\n")
     assert stat.S_ISCHR(os.stat("/dev/full").st_mode)
+    with pytest.raises(OSError) as exc:  # the writer still names the path given
+        write_output("/dev/full", "x")
+    assert exc.value.filename == "/dev/full"
 
 
 def test_regular_file_replaced_atomically_with_its_mode(tmp_path):
@@ -163,6 +167,45 @@ def test_closed_stdout_ends_quietly_with_exit_0():
     assert err == b""
 
 
+def _sigint_default() -> None:
+    """preexec_fn: the child starts with SIGINT at its default action. A test
+    run started as a background job (``pytest &`` in a script, many CI
+    runners) has SIGINT ignored, children inherit that, and Python then
+    installs no KeyboardInterrupt handler: the run would ignore Ctrl-C
+    entirely (the 1.3-million-triangle mesh left running after the test)."""
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+
+
+def _reap(proc: subprocess.Popen) -> None:
+    """Kill ``proc`` and its process group if still running (every path out of
+    a test that started it, a failed assertion or a timeout included)."""
+    if proc.poll() is None:
+        try:
+            os.killpg(proc.pid, signal.SIGKILL)
+        except (ProcessLookupError, PermissionError):
+            proc.kill()
+    try:
+        proc.communicate(timeout=30)
+    except (subprocess.TimeoutExpired, ValueError):
+        pass
+
+
+def test_a_child_started_from_a_background_job_still_takes_ctrl_c():
+    """The Ctrl-C tests' children honour SIGINT even when the test run itself
+    ignores it (started with ``&``): _sigint_default resets the inherited SIG_IGN."""
+    code = "import signal; print(signal.getsignal(signal.SIGINT) is signal.default_int_handler)"
+    previous = signal.signal(signal.SIGINT, signal.SIG_IGN)  # as under `pytest &`
+    try:
+        ignored = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                                 timeout=60)
+        reset = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                               timeout=60, preexec_fn=_sigint_default)
+    finally:
+        signal.signal(signal.SIGINT, previous)
+    assert ignored.stdout.strip() == "False"  # what made the interrupt look unreliable
+    assert reset.stdout.strip() == "True"
+
+
 def _children(pid: int) -> list[int]:
     out = []
     for entry in Path("/proc").iterdir():
@@ -183,16 +226,20 @@ def test_ctrl_c_exits_130_with_one_line_and_no_orphans(tmp_path):
     proc = subprocess.Popen(
         [sys.executable, "-m", "compare.cli", "sweep", CHOKE, "--vary",
          "winding.current=1:12A:24", "--workers", "2", "--json", str(out)],
-        stdout=subprocess.PIPE, stderr=subprocess.PIPE, cwd=ROOT, env=_env())
-    kids: list[int] = []
-    deadline = time.monotonic() + 60
-    while time.monotonic() < deadline and len(kids) < 2:
-        time.sleep(0.5)
-        kids = [k for k in _children(proc.pid)]
-    assert kids, "the sweep started no worker processes"
-    time.sleep(2.0)  # the workers are solving now
-    proc.send_signal(signal.SIGINT)
-    _, err = proc.communicate(timeout=60)
+        stdout=subprocess.PIPE, stderr=subprocess.PIPE, cwd=ROOT, env=_env(),
+        preexec_fn=_sigint_default, start_new_session=True)
+    try:
+        kids: list[int] = []
+        deadline = time.monotonic() + 60
+        while time.monotonic() < deadline and len(kids) < 2:
+            time.sleep(0.5)
+            kids = [k for k in _children(proc.pid)]
+        assert kids, "the sweep started no worker processes"
+        time.sleep(2.0)  # the workers are solving now
+        proc.send_signal(signal.SIGINT)
+        _, err = proc.communicate(timeout=60)
+    finally:
+        _reap(proc)
     assert proc.returncode == 130
     lines = err.decode().strip().splitlines()
     assert lines[-1] == "magcheck: interrupted" and "Traceback" not in err.decode()
@@ -214,20 +261,27 @@ def test_ctrl_c_while_gmsh_meshes_exits_at_once(tmp_path):
     out = tmp_path / "fine.json"
     proc = subprocess.Popen([sys.executable, "-m", "compare.cli", "check", str(case), "-v",
                              "--json", str(out)],
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, cwd=ROOT, env=_env())
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, cwd=ROOT, env=_env(),
+                            preexec_fn=_sigint_default, start_new_session=True)
     assert proc.stderr is not None
-    seen = []
-    for raw in proc.stderr:  # wait for the estimate logged just before meshing
-        seen.append(raw.decode())
-        if "triangles estimated" in seen[-1]:
-            break
-    else:
-        pytest.fail("no mesh estimate logged: " + "".join(seen))
-    time.sleep(2.0)
-    proc.send_signal(signal.SIGINT)
-    t0 = time.monotonic()
-    _, rest = proc.communicate(timeout=120)
-    waited = time.monotonic() - t0
+    try:
+        seen = []
+        # The first estimate is the finest mesh's guard, before any mesh; the
+        # second is logged by mesh_case just before gmsh meshes the coarsest.
+        for raw in proc.stderr:
+            seen.append(raw.decode())
+            if sum("triangles estimated" in line for line in seen) == 2:
+                break
+        else:
+            pytest.fail("no mesh estimate logged: " + "".join(seen))
+        time.sleep(2.0)
+        assert proc.poll() is None, "the run ended before the interrupt: " + "".join(seen)
+        proc.send_signal(signal.SIGINT)
+        t0 = time.monotonic()
+        _, rest = proc.communicate(timeout=60)
+        waited = time.monotonic() - t0
+    finally:
+        _reap(proc)  # never leave a 2 GB mesher running behind a failed test
     err = "".join(seen) + rest.decode()
     assert proc.returncode == 130, err
     assert waited < 5.0, f"the run went on for {waited:.1f} s after Ctrl-C"

@@ -76,7 +76,7 @@ def test_swept_value_validated_like_case_input(capsys):
     assert main(["sweep", str(CHOKE), "--hand-only",
                  "--vary", "gaps[0].length=0.6mm,13mm"]) == 2
     err = capsys.readouterr().err
-    assert "gaps[0].length" in err and "0.013" in err
+    assert "gaps[0].length" in err and "'13 mm'" in err  # in the sweep's unit, not bare metres
 
 
 # --------------------------------------------------------------------------- B-H scaling

@@ -78,7 +78,7 @@ def test_junit_one_testcase_per_item_with_value_limit_margin(verify_run):
     f = fails[0]
     msg = f.get("message")
     # value, limit and margin left, in both the attribute and the text
-    assert "3.2 MA/m^2" in msg and "<= 3 MA/m^2" in msg and "-6.7 %" in msg
+    assert "3.2 A/mm^2" in msg and "<= 3 A/mm^2" in msg and "-6.7 %" in msg
     assert f.text == msg
 
 

@@ -151,7 +151,8 @@ def test_implausible_core_dimension_warns(key: str, value, needle: str) -> None:
 
 def test_tiny_depth_warns() -> None:
     _, msgs = _case_with(**{"core.depth": "0.5 mm"})
-    assert any(m.startswith("core.depth = '0.0005 m'") for m in msgs), msgs
+    # echoed as written, not in bare metres
+    assert any(m.startswith("core.depth = '0.5 mm'") for m in msgs), msgs
 
 
 def test_sub_micron_gap_warns() -> None:
@@ -164,7 +165,7 @@ def test_sub_micron_gap_warns() -> None:
         warnings.simplefilter("always")
         case_from_dict(data, base_dir=CASES)
     msgs = [str(w.message) for w in caught]
-    assert any(m.startswith("gaps[0].length = '5e-07 m': below 1 um") for m in msgs), msgs
+    assert any(m.startswith("gaps[0].length = '0.5 um': below 1 um") for m in msgs), msgs
 
 
 def test_air_like_core_warns_and_the_notes_say_so() -> None:

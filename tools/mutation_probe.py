@@ -556,6 +556,22 @@ MUTATIONS: tuple[Mutation, ...] = (
       "full_ok = bool(np.isfinite(Wn))",
       "the Newton line search takes the full step without its sufficient-decrease test",
       ("tests/test_line_search.py", "tests/test_fem_newton.py")),
+    # ---------------------------------------------------------------- compare: input at the edge
+    M("ampere-turns-per-turn", "compare/units.py",
+      'if dimension == "current" and _TURN_UNIT_RE.match(m.group(2).replace(" ", "")):',
+      'if False and _TURN_UNIT_RE.match(m.group(2).replace(" ", "")):',
+      "a current of 480 At read as 480 A per turn (N times the MMF)",
+      ("tests/test_new_user.py",)),
+    M("tolerance-past-nominal", "compare/casefile.py",
+      "if abs(nom) - dev * scale > 0.0:",
+      "if abs(nom) + dev * scale > 0.0:",
+      "a tolerance reaching zero from its nominal (a negative gap) accepted at load",
+      ("tests/test_new_user.py",)),
+    M("drive-key-dimension", "compare/keys.py",
+      'if last in ("voltage", "frequency"):  # a voltage-driven winding\'s drive (rms V, Hz)',
+      'if last in ("frequency",):  # a voltage-driven winding\'s drive (rms V, Hz)',
+      "a swept supply voltage read as a length",
+      ("tests/test_new_user.py",)),
 )
 
 

@@ -39,11 +39,22 @@ def hand_json(case, result: HandResult) -> dict:
 def run(args: argparse.Namespace) -> int:
     case = load_case(args.case)
     if args.fringing:
-        from ..reader import TableReader
         from analytic.fringing import FRINGING_MODELS
 
-        TableReader({"fringing": args.fringing}, "--fringing").string(
-            "fringing", choices=tuple(FRINGING_MODELS))
+        from ..errors import CaseError
+        from ..reader import _choice_text
+
+        if args.fringing not in FRINGING_MODELS:
+            raise CaseError("--fringing", args.fringing,
+                            _choice_text(args.fringing, tuple(FRINGING_MODELS)))
+    if args.planar:
+        from ..coremodel import core_model
+        from ..errors import CaseError
+
+        if core_model(case).axisymmetric:
+            raise CaseError("--planar", None, "this case's field model is axisymmetric (r-z), a "
+                                              "3D one whose gaps fringe all round: there is no "
+                                              "planar form to compare with; leave --planar out")
     res = run_hand(case, fringing=args.fringing, planar=args.planar)
     print_hand(case, res, text_stream(args.json))
     if args.json:

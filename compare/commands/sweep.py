@@ -121,7 +121,9 @@ def print_sweep(res: SweepResult, margins, sat_table, out) -> None:
                                            "hand_planar": "hand planar"}[r["model"]],
                        r["inductance"]] + [_fmt(r[c], "A") for c in drop_cols]
                       for r in sat_table], out,
-                     notes=["'-' = not reached in the swept range."])
+                     notes=["'-' = not reached in the swept range. Read off each curve, "
+                            "linear between the swept currents: finer steps move it, and "
+                            "`magcheck check` finds the hand value by root-finding."])
     if margins:
         render_table("design margins along the sweep",
                      ["margin", "value", "limit", "margin left", "verdict", "basis", "note"],

@@ -410,6 +410,21 @@ def _points(raw: Any, key: str, unit: float | None, closed: bool = True) -> list
     return pts[:-1]
 
 
+def _in_drawing_units(shape: Polygon, unit: float | None, name: str, exc: LayoutError) -> str:
+    """The outline check's message with its points in the drawing's units
+    (the check runs in metres; the user drew in ``[shapes] units``): the same
+    check on the outline scaled back, whose crossing edges are the same."""
+    if not unit or unit == 1.0:
+        return str(exc)
+    back = Polygon(tuple((x / unit, y / unit) for x, y in shape.points),
+                   tuple(tuple((x / unit, y / unit) for x, y in h) for h in shape.holes))
+    try:
+        back.check(f"region {name!r}")
+    except LayoutError as again:
+        return f"{again} (points in the drawing's units)"
+    return str(exc)
+
+
 def _read_region(t: TableReader, unit: float | None, drawn: dict[str, tuple]) -> DrawnRegion:
     name = t.string("name")
     kind = t.string("kind", choices=KINDS)
@@ -430,7 +445,8 @@ def _read_region(t: TableReader, unit: float | None, drawn: dict[str, tuple]) ->
         try:
             shape.check(f"region {name!r}")
         except LayoutError as exc:
-            raise CaseError(t.key("points"), name, str(exc)) from None
+            raise CaseError(t.key("points"), name, _in_drawing_units(shape, unit, name, exc)) \
+                from None
         shapes: tuple = (shape,)
     elif name in drawn:
         if t.has("holes"):
