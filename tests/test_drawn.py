@@ -712,7 +712,7 @@ def test_axisymmetric_circuit_gap_takes_a_round_face():
     case = case_from_dict(d)
     face = core_model(case).circuit.gaps[0].face
     assert face.radii == pytest.approx((0.0, 5e-3))
-    # Source: Roters 1941 flux tubes round the disc's edge [secondary, REFERENCES.md 1]
+    # Source: Roters 1941 flux tubes round the disc's edge [secondary, docs/references.md section 1]
     g, r, t = 1e-3, 5e-3, 6e-3
     mu0_ = 4e-7 * math.pi
     p = mu0_ * math.pi * r ** 2 / g + mu0_ * 2 * math.pi * r * (0.26 + math.log(1 + 2 * t / g)

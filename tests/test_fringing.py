@@ -33,7 +33,7 @@ def _element_permeance_per_depth(w, l, h):
 
 def _sigma_from_elements(w, g, h):
     # four elements with l = g/2: two half widths in parallel, two half lengths in series
-    # (REFERENCES.md 1 [derived])
+    # (docs/references.md section 1 [derived])
     p_elem = _element_permeance_per_depth(w, g / 2, h)
     p_gap = 1.0 / (1.0 / (2 * p_elem) + 1.0 / (2 * p_elem))
     p_ideal = mu_0 * w / g
@@ -54,7 +54,7 @@ def test_area_model():
     assert k_plane == pytest.approx((a + g) / a, rel=1e-15)
     assert k_depth == pytest.approx((b + g) / b, rel=1e-15)
     assert effective_area(FACE, "area", planar=False) == pytest.approx((a + g) * (b + g), rel=1e-14)
-    # planar 2D comparison uses (a+g) b (REFERENCES.md 1 [confirmed])
+    # planar 2D comparison uses (a+g) b (docs/references.md section 1 [confirmed])
     assert effective_area(FACE, "area", planar=True) == pytest.approx((a + g) * b, rel=1e-14)
 
 
@@ -145,7 +145,7 @@ def test_conformal_with_its_own_free_face_each_side():
 def test_conformal_check_value():
     face = GapFace(length=1e-3, width=10e-3, depth=10e-3, free_height=10e-3)
     sigma = 1 / get_fringing("conformal").factors(face)[0]
-    # Source: REFERENCES.md 1, w = h = 10 mm, l_g = 1 mm gives sigma = 0.807 [derived]; 3 significant figures
+    # Source: docs/references.md section 1, w = h = 10 mm, l_g = 1 mm gives sigma = 0.807 [derived]; 3 significant figures
     assert round(sigma, 3) == 0.807
 
 
@@ -164,7 +164,7 @@ def test_ordering_for_small_gap():
     #   flux-factor: 1 + 0.02 ln(2*10/0.02) = 1 + 0.02*6.908         = 1.1382
     #   conformal:   per direction 1 + (0.04/pi)(1 + ln(pi*10/0.04)) = 1.0976, squared 1.2048
     #   planar flux-factor: half the excess (a = b, perimeter share) = 1.0691
-    # Source: the model formulas of REFERENCES.md 1, evaluated by hand above (3D and planar orderings)
+    # Source: the model formulas of docs/references.md section 1, evaluated by hand above (3D and planar orderings)
     total = {n: np.prod(get_fringing(n).factors(face)) for n in FRINGING_MODELS}
     assert total["none"] < total["area"] < total["flux-factor"] < total["conformal"]
     plane = {n: get_fringing(n).factors(face)[0] for n in FRINGING_MODELS}
@@ -209,7 +209,7 @@ def test_bad_face_rejected(key, bad):
 
 
 def test_flux_tube_model_edge_by_edge():
-    # Source: Roters, Electromagnetic Devices, 1941 [secondary, REFERENCES.md
+    # Source: Roters, Electromagnetic Devices, 1941 [secondary, docs/references.md
     # section 1]: per pole edge of length L a half solid cylinder 0.26 mu0 L
     # and a half hollow cylinder (mu0 L/pi) ln(1 + t/r_i), r_i = g/2.
     # Composed here: in-plane edges (length b) each with the shorter free face
@@ -271,7 +271,7 @@ def test_round_disc_closed_forms():
     assert gap_permeance(DISC, "area", False) == pytest.approx(
         mu_0 * math.pi * (r + g / 2) ** 2 / g, rel=1e-13)
     # Source: Roters 1941 flux tubes (0.26 mu0 L + (mu0 L/pi) ln(1 + 2t/g)) round the
-    # circumference L = 2 pi r [secondary, REFERENCES.md 1]
+    # circumference L = 2 pi r [secondary, docs/references.md section 1]
     tube = mu_0 * 2 * math.pi * r * (0.26 + math.log(1 + 2 * h / g) / math.pi)
     assert gap_permeance(DISC, "flux-tube", False) == pytest.approx(p0 + tube, rel=1e-13)
     # Source: Muehlethaler, Kolar, Ecklebe 2011 basic element: per edge length
