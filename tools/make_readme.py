@@ -1,0 +1,293 @@
+"""Regenerate every number-bearing block of README.md from the code.
+
+    PYTHONPATH=. python3 tools/make_readme.py            # rewrite the quick blocks
+    PYTHONPATH=. python3 tools/make_readme.py --slow     # ... and the FE-run blocks
+    PYTHONPATH=. python3 tools/make_readme.py --check    # exit 1 and print the diff on drift
+
+A block is the text between ``<!-- generated: NAME -->`` and
+``<!-- end generated -->`` (a whole table, a code block, or a few words
+inside a sentence); everything outside the markers is left as written.
+Each NAME has one function below.  The quick blocks are deterministic and
+take about a second: case results come from ``cases/baseline.json`` (which
+tests/test_cases_regression.py holds to the code), other figures from hand
+model calls, the command reference from the argument parser.  The slow
+blocks (marked ``generated (slow)``: a full ``magcheck check`` printout,
+force-stroke sweeps with the FE) run the field solutions; ``--slow``
+regenerates them, ``--check --slow`` compares them too (timings such as
+"run time 2.5 s" are not compared).  tests/test_readme.py runs ``--check``
+(quick) and, in the slow tier, ``--check --slow``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import difflib
+import io
+import json
+import re
+import sys
+import types
+from functools import lru_cache
+from collections.abc import Callable
+from contextlib import redirect_stdout
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+README = ROOT / "README.md"
+BASELINE = ROOT / "cases" / "baseline.json"
+
+BLOCK = re.compile(r"(<!-- generated(?P<slow> \(slow\))?: (?P<name>[\w-]+) -->)(?P<body>.*?)"
+                   r"(<!-- end generated -->)", re.S)
+# measured times inside slow blocks vary from run to run and are not compared
+TIMING = re.compile(r"run time [0-9.]+ s")
+
+
+@lru_cache(maxsize=1)
+def _baseline() -> dict:
+    return json.loads(BASELINE.read_text())
+
+
+def _case(name: str):
+    from compare.casefile import load_case
+
+    return load_case(ROOT / "cases" / f"{name}.toml")
+
+
+def _pct(h: float, f: float) -> float:
+    return 100.0 * (h - f) / f
+
+
+def _sig(x: float, n: int = 4) -> str:
+    return f"{x:.{n}g}"
+
+
+def _signed(x: float, digits: int = 1) -> str:
+    """A percent difference as the README writes it (typographic minus)."""
+    s = f"{x:+.{digits}f}"
+    return s.replace("-", "−")
+
+
+# ------------------------------------------------------------ quick blocks
+def block_commands() -> str:
+    """The command reference: every sub-command's usage and options, from
+    the argument parser (compare/cli.py, compare/commands/*)."""
+    from compare.cli import COMMANDS, build_parser
+
+    parser = build_parser()
+    subs = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))
+    out = ["", "Generated from the argument parser (`magcheck COMMAND --help` prints the same).", ""]
+    for name in COMMANDS:
+        p = subs.choices[name]
+        fmt = argparse.HelpFormatter(p.prog, width=10_000, max_help_position=10_000)
+        fmt.add_usage(p.usage, p._actions, p._mutually_exclusive_groups, prefix="")
+        usage = " ".join(fmt.format_help().split())
+        out.append(f"**`magcheck {name}`** — {COMMANDS[name]}.")
+        out.append("")
+        out.append(f"`{usage}`")
+        out.append("")
+        # the sub-command's own arguments, positionals first; -h and the global -v left out
+        acts = [a for a in p._actions if a.dest not in ("help", "verbose")]
+        for a in sorted(acts, key=lambda a: bool(a.option_strings)):
+            if a.help == argparse.SUPPRESS:
+                continue
+            if a.option_strings:
+                metavar = fmt._format_args(a, a.dest.upper()) if a.nargs != 0 else ""
+                flag = ", ".join(a.option_strings) + (f" {metavar}" if metavar else "")
+            else:
+                flag = fmt._format_args(a, a.dest)
+            text = " ".join(fmt._expand_help(a).split()) if a.help else ""
+            out.append(f"- `{flag}`: {text}")
+        out.append("")
+    return "\n".join(out)
+
+
+def block_choke_gap_B() -> str:
+    b = _baseline()["demo-choke"]
+    return f"{abs(_pct(b['hand_planar']['gap_B'], b['fe']['gap_B'])):.0f} %"
+
+
+def block_choke_L() -> str:
+    b = _baseline()["demo-choke"]
+    return f"{abs(_pct(b['hand_planar']['inductance'], b['fe']['inductance'])):.0f} %"
+
+
+@lru_cache(maxsize=1)
+def _choke_breakdown():
+    from compare.breakdown import BREAKDOWN_KEYS, difference_breakdown
+    from compare.check import rank_fringing
+
+    case = _case("demo_choke")
+    fe = types.SimpleNamespace(values=_baseline()["demo-choke"]["fe"])
+    best = rank_fringing(case, fe)[0]["model"]  # type: ignore[arg-type]
+    return BREAKDOWN_KEYS, difference_breakdown(case, fe.values, best)
+
+
+def block_choke_breakdown() -> str:
+    """The difference-breakdown table of the demo choke, from the stored FE
+    values and the hand model's steps (compare.breakdown)."""
+    keys, steps = _choke_breakdown()
+    heads = {"gap_B": "gap B", "core_B": "core B", "path_H": "path H", "flux": "flux",
+             "inductance": "L", "incremental_inductance": "dL/dI"}
+    lines = ["  | step | " + " | ".join(heads[k] for k in keys) + " |",
+             "  |---|" + "---|" * len(keys)]
+    for s in steps:
+        lines.append(f"  | {s.name} | " + " | ".join(_signed(s.diff_pct[k]) for k in keys) + " |")
+    return "\n" + "\n".join(lines) + "\n  "
+
+
+def block_choke_fringing_gain() -> str:
+    _, steps = _choke_breakdown()
+    return f"{abs(steps[1].diff_pct['inductance'] - steps[0].diff_pct['inductance']):.1f} points"
+
+
+def block_choke_leakage_gain() -> str:
+    _, steps = _choke_breakdown()
+    leak = next(s for s in steps if s.name == "window leakage")
+    prev = steps[steps.index(leak) - 1]
+    return f"{abs(leak.diff_pct['inductance'] - prev.diff_pct['inductance']):.1f}"
+
+
+def block_choke_left() -> str:
+    _, steps = _choke_breakdown()
+    last = steps[-1]
+    return (f"the {abs(last.diff_pct['inductance']):.0f} % left, with core B now "
+            f"{abs(last.diff_pct['core_B']):.1f} % {'high' if last.diff_pct['core_B'] > 0 else 'low'}")
+
+
+def block_pot_core_L() -> str:
+    b = _baseline()["demo-pot-core-choke"]
+    return (f"L {_sig(b['hand']['inductance'] * 1e3)} mH by hand, "
+            f"{_sig(b['fe']['inductance'] * 1e3)} mH by FE")
+
+
+def block_drawn_L() -> str:
+    b = _baseline()
+    return (f"{_sig(b['demo-drawn-core']['fe']['inductance'] * 1e3)} mH against the rectangular "
+            f"choke's {_sig(b['demo-choke']['fe']['inductance'] * 1e3)} mH")
+
+
+def block_plunger_force_3mm() -> str:
+    b = _baseline()["demo-plunger-solenoid"]
+    return f"{_signed(_pct(b['hand']['force'], b['fe']['force']))} %"
+
+
+# ------------------------------------------------------------- slow blocks
+def block_choke_check() -> str:
+    """The printout of ``magcheck check cases/demo_choke.toml`` (FE run)."""
+    from compare.cli import main
+
+    buf = io.StringIO()
+    with redirect_stdout(buf):
+        main(["check", str(ROOT / "cases" / "demo_choke.toml")])
+    text = "\n".join(line.rstrip() for line in buf.getvalue().strip().splitlines())
+    return "\n```\n" + text + "\n```\n"
+
+
+def _force_rows(case: str, strokes: list[str], label: str = "") -> list[str]:
+    from compare import api
+
+    sw = api.sweep(str(ROOT / "cases" / f"{case}.toml"), "core.stroke=" + ",".join(strokes))
+    rows = []
+    for s, p in zip(strokes, sw.points):
+        vals = (p.hand_planar["force"], p.hand_planar["force_pull"], p.fe["force_maxwell"],
+                p.fe["force_virtual_work"])
+        stroke = s.replace("mm", " mm")
+        rows.append(f"| {label}{stroke} | " + " | ".join(f"{_sig(v)} N" for v in vals) + " |")
+    return rows
+
+
+def block_clapper_forces() -> str:
+    head = ["", "| stroke | hand, virtual work | hand, pull formula | FE, Maxwell stress | FE, virtual work |",
+            "|---|---|---|---|---|"]
+    return "\n".join(head + _force_rows("demo_clapper_relay", ["0.2mm", "0.8mm", "1.2mm"])) + "\n"
+
+
+def block_plunger_holding_forces() -> str:
+    head = ["", "| case, stroke | hand, virtual work | hand, pull formula | FE, Maxwell stress | "
+                "FE, virtual work |", "|---|---|---|---|---|"]
+    rows = (_force_rows("demo_plunger_solenoid", ["1mm", "3mm"], "plunger, ")
+            + _force_rows("demo_holding_magnet", ["0.1mm", "1mm"], "holding magnet, "))
+    return "\n".join(head + rows) + "\n"
+
+
+QUICK: dict[str, Callable[[], str]] = {
+    "commands": block_commands,
+    "choke-gap-B": block_choke_gap_B,
+    "choke-L": block_choke_L,
+    "choke-breakdown": block_choke_breakdown,
+    "choke-fringing-gain": block_choke_fringing_gain,
+    "choke-leakage-gain": block_choke_leakage_gain,
+    "choke-left": block_choke_left,
+    "pot-core-L": block_pot_core_L,
+    "drawn-L": block_drawn_L,
+    "plunger-force-3mm": block_plunger_force_3mm,
+}
+SLOW: dict[str, Callable[[], str]] = {
+    "choke-check": block_choke_check,
+    "clapper-forces": block_clapper_forces,
+    "plunger-holding-forces": block_plunger_holding_forces,
+}
+
+
+def render(text: str, slow: bool) -> str:
+    """README text with its blocks regenerated (slow ones only with ``slow``).
+
+    Raises ValueError for a block of unknown name, a block marked quick or
+    slow against its generator's kind, or a generator without its block.
+    """
+    seen = set()
+
+    def sub(m: re.Match) -> str:
+        name, is_slow = m["name"], bool(m["slow"])
+        table = SLOW if is_slow else QUICK
+        if name not in table:
+            kind = "slow" if name in SLOW else "quick" if name in QUICK else None
+            raise ValueError(f"README block {name!r}: " + (f"it is a {kind} block, mark it so"
+                                                          if kind else "no generator of that name"))
+        seen.add(name)
+        if is_slow and not slow:
+            return m.group(0)
+        return m.group(1) + table[name]() + m.group(5)
+
+    out = BLOCK.sub(sub, text)
+    missing = (set(QUICK) | set(SLOW)) - seen
+    if missing:
+        raise ValueError(f"README.md has no block for {', '.join(sorted(missing))}")
+    return out
+
+
+def main(argv: list[str] | None = None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--check", action="store_true",
+                    help="write nothing; exit 1 and print the diff when README.md differs")
+    ap.add_argument("--slow", action="store_true", help="also the blocks that need FE runs")
+    args = ap.parse_args(argv)
+    old = README.read_text(encoding="utf-8")
+    try:
+        new = render(old, args.slow)
+    except ValueError as exc:
+        print(f"make_readme: {exc}", file=sys.stderr)
+        return 2
+    if args.check:
+        a, b = TIMING.sub("run time N s", old), TIMING.sub("run time N s", new)
+        if a == b:
+            print("README.md is up to date" + (" (quick and slow blocks)" if args.slow else ""))
+            return 0
+        sys.stdout.writelines(difflib.unified_diff(
+            a.splitlines(keepends=True), b.splitlines(keepends=True),
+            "README.md", "README.md as tools/make_readme.py writes it"))
+        print("\nREADME.md is stale: run PYTHONPATH=. python3 tools/make_readme.py"
+              + (" --slow" if args.slow else ""))
+        return 1
+    if new != old:
+        from compare.output import write_output
+
+        write_output(README, new)
+        print("wrote README.md")
+    else:
+        print("README.md unchanged")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
