@@ -58,7 +58,8 @@ def _pct(h: float, f: float) -> float:
 
 
 def _sig(x: float, n: int = 4) -> str:
-    return f"{x:.{n}g}"
+    """n significant digits, trailing zeros kept (11.80, 0.6725)."""
+    return f"{x:#.{n}g}".rstrip(".")
 
 
 def _signed(x: float, digits: int = 1) -> str:
@@ -171,6 +172,17 @@ def block_plunger_force_3mm() -> str:
     return f"{_signed(_pct(b['hand']['force'], b['fe']['force']))} %"
 
 
+def block_ei_leakage() -> str:
+    """The demo EI's planar hand inductance against the stored FE value,
+    without and with window leakage (the case's conformal fringing)."""
+    from compare.hand import run_hand
+
+    case = _case("demo_ei_inductor")
+    fe = _baseline()["demo-ei-inductor"]["fe"]["inductance"]
+    off, on = (_pct(run_hand(case, planar=True, leakage=lk).inductance, fe) for lk in (False, True))
+    return f"{_signed(off)} % to {_signed(on)} %"
+
+
 # ------------------------------------------------------------- slow blocks
 def block_choke_check() -> str:
     """The printout of ``magcheck check cases/demo_choke.toml`` (FE run)."""
@@ -183,31 +195,71 @@ def block_choke_check() -> str:
     return "\n```\n" + text + "\n```\n"
 
 
-def _force_rows(case: str, strokes: list[str], label: str = "") -> list[str]:
+@lru_cache(maxsize=None)
+def _force_sweep(case: str, strokes: tuple[str, ...]) -> dict[str, dict]:
+    """stroke -> {hand, hand_pull, fe, fe_vw, fe_peak_B}: a sweep of the
+    stroke with both models (N, T; hand in the planar form like the sweep
+    table)."""
     from compare import api
 
     sw = api.sweep(str(ROOT / "cases" / f"{case}.toml"), "core.stroke=" + ",".join(strokes))
+    return {s: {"hand": p.hand_planar["force"], "hand_pull": p.hand_planar["force_pull"],
+                "fe": p.fe["force_maxwell"], "fe_vw": p.fe["force_virtual_work"],
+                "fe_peak_B": p.fe_peak_B}
+            for s, p in zip(strokes, sw.points)}
+
+
+def _force_rows(case: str, strokes: tuple[str, ...], label: str = "") -> list[str]:
     rows = []
-    for s, p in zip(strokes, sw.points):
-        vals = (p.hand_planar["force"], p.hand_planar["force_pull"], p.fe["force_maxwell"],
-                p.fe["force_virtual_work"])
-        stroke = s.replace("mm", " mm")
-        rows.append(f"| {label}{stroke} | " + " | ".join(f"{_sig(v)} N" for v in vals) + " |")
+    for s, v in _force_sweep(case, strokes).items():
+        vals = (v["hand"], v["hand_pull"], v["fe"], v["fe_vw"])
+        rows.append(f"| {label}{s.replace('mm', ' mm')} | "
+                    + " | ".join(f"{_sig(x)} N" for x in vals) + " |")
     return rows
+
+
+CLAPPER = ("0.2mm", "0.8mm", "1.2mm")
+PLUNGER = ("1mm", "3mm")
+HOLDING = ("0.1mm", "1mm")
 
 
 def block_clapper_forces() -> str:
     head = ["", "| stroke | hand, virtual work | hand, pull formula | FE, Maxwell stress | FE, virtual work |",
             "|---|---|---|---|---|"]
-    return "\n".join(head + _force_rows("demo_clapper_relay", ["0.2mm", "0.8mm", "1.2mm"])) + "\n"
+    return "\n".join(head + _force_rows("demo_clapper_relay", CLAPPER)) + "\n"
 
 
 def block_plunger_holding_forces() -> str:
     head = ["", "| case, stroke | hand, virtual work | hand, pull formula | FE, Maxwell stress | "
                 "FE, virtual work |", "|---|---|---|---|---|"]
-    rows = (_force_rows("demo_plunger_solenoid", ["1mm", "3mm"], "plunger, ")
-            + _force_rows("demo_holding_magnet", ["0.1mm", "1mm"], "holding magnet, "))
+    rows = (_force_rows("demo_plunger_solenoid", PLUNGER, "plunger, ")
+            + _force_rows("demo_holding_magnet", HOLDING, "holding magnet, "))
     return "\n".join(head + rows) + "\n"
+
+
+def block_clapper_pull() -> str:
+    f = _force_sweep("demo_clapper_relay", CLAPPER)
+    a, b = (_pct(f[s]["hand_pull"], f[s]["fe"]) for s in (CLAPPER[0], CLAPPER[-1]))
+    return (f"{a:.0f} % at {CLAPPER[0].replace('mm', ' mm')} and {b:.0f} % at "
+            f"{CLAPPER[-1].replace('mm', ' mm')}")
+
+
+def block_clapper_vw() -> str:
+    f = _force_sweep("demo_clapper_relay", CLAPPER)
+    d = {s: -_pct(v["hand"], v["fe"]) for s, v in f.items()}
+    lo, hi = min(d.values()), max(d.values())
+    where = max(d, key=lambda s: d[s])
+    word = "below" if lo > 0 else "from"
+    return (f"{lo:.0f}-{hi:.0f} % {word} the FE along the stroke ({hi:.0f} % at "
+            f"{where.replace('mm', ' mm')})")
+
+
+def block_plunger_small_stroke() -> str:
+    v = _force_sweep("demo_plunger_solenoid", ("0.2mm",))["0.2mm"]
+    pull, vw = _pct(v["hand_pull"], v["fe"]), _pct(v["hand"], v["fe"])
+    return (f"FE peak B {v['fe_peak_B']:.2f} T at 0.2 mm, where the pull formula comes within "
+            f"{abs(pull):.0f} % of the FE and the network's virtual work is {abs(vw):.0f} % "
+            f"{'under' if vw < 0 else 'over'} it")
 
 
 QUICK: dict[str, Callable[[], str]] = {
@@ -221,11 +273,15 @@ QUICK: dict[str, Callable[[], str]] = {
     "pot-core-L": block_pot_core_L,
     "drawn-L": block_drawn_L,
     "plunger-force-3mm": block_plunger_force_3mm,
+    "ei-leakage": block_ei_leakage,
 }
 SLOW: dict[str, Callable[[], str]] = {
     "choke-check": block_choke_check,
     "clapper-forces": block_clapper_forces,
     "plunger-holding-forces": block_plunger_holding_forces,
+    "clapper-pull": block_clapper_pull,
+    "clapper-vw": block_clapper_vw,
+    "plunger-small-stroke": block_plunger_small_stroke,
 }
 
 
