@@ -254,12 +254,221 @@ def block_clapper_vw() -> str:
             f"{where.replace('mm', ' mm')})")
 
 
+@lru_cache(maxsize=1)
+def _transformer() -> dict:
+    """The voltage-driven EI transformer demo's check (about 90 s): drive,
+    inrush and leakage-inductance figures of both models."""
+    from dataclasses import replace
+
+    from analytic.magnetizing import inrush_peak
+    from compare.check import run_check
+    from compare.coupling import hand_leakage
+
+    case = _case("demo_ei_transformer")
+    res = run_check(case)
+    d, w = res.drive, case.winding
+    undamped = {}
+    for m in ("hand", "fe"):
+        cur, lam = d.curves[f"{m}_inrush"]
+        undamped[m] = inrush_peak(cur, lam, w.voltage, w.frequency, d.residual_flux, 0.0).current
+    plain = replace(case, hand=replace(case.hand, rogowski=False))
+    with_kr = replace(case, hand=replace(case.hand, rogowski=True))
+    return {"drive": d, "leakage": res.leakage, "undamped": undamped,
+            "ls_plain": hand_leakage(plain), "ls_kr": hand_leakage(with_kr)}
+
+
+def block_transformer_summary() -> str:
+    t = _transformer()
+    d, lk, un = t["drive"], t["leakage"], t["undamped"]
+    h3, f3 = d.hand.harmonics_pct[3], d.fe.harmonics_pct[3]
+    third = (f"3rd harmonic {h3:.1f} % in both" if f"{h3:.1f}" == f"{f3:.1f}"
+             else f"3rd harmonic {h3:.1f} % by hand, {f3:.1f} % FE")
+    return (f"B_pk {d.B_peak[0]:.2f} T by hand, {d.B_peak[1]:.2f} T FE; magnetizing current "
+            f"{d.hand.peak * 1e3:.1f} mA peak / {d.hand.rms * 1e3:.1f} mA rms by hand, "
+            f"{d.fe.peak * 1e3:.1f} / {d.fe.rms * 1e3:.1f} mA FE, {third}; leakage inductance "
+            f"{lk['hand'] * 1e3:.1f} mH by hand, {lk['fe'] * 1e3:.1f} mH FE; inrush first peak "
+            f"(residual {d.residual_flux:g}, {_transformer_ohm()}) {d.inrush['hand']:.1f} A by hand, "
+            f"{d.inrush['fe']:.1f} A FE (undamped, the bound: {un['hand']:.1f} A by hand, "
+            f"{un['fe']:.1f} A FE")
+
+
+def _transformer_ohm() -> str:
+    return f"{_case('demo_ei_transformer').winding.resistance:g} Ω"
+
+
+def block_transformer_rogowski() -> str:
+    t = _transformer()
+    fe = t["leakage"]["fe"]
+    return f"{_signed(_pct(t['ls_plain'], fe))} % into {_signed(_pct(t['ls_kr'], fe))} %"
+
+
+def block_transformer_inrush() -> str:
+    d = _transformer()["drive"]
+    u = d.uncertainty.get("inrush_current_peak", float("nan"))
+    return (f"{d.inrush['hand']:.2f} A by hand and {d.inrush['fe']:.2f} A by FE "
+            f"(±{100 * u / d.inrush['fe']:.2f} %)")
+
+
+def block_transformer_undamped() -> str:
+    un = _transformer()["undamped"]
+    return f"{un['hand']:.1f} A and {un['fe']:.1f} A"
+
+
 def block_plunger_small_stroke() -> str:
     v = _force_sweep("demo_plunger_solenoid", ("0.2mm",))["0.2mm"]
     pull, vw = _pct(v["hand_pull"], v["fe"]), _pct(v["hand"], v["fe"])
     return (f"FE peak B {v['fe_peak_B']:.2f} T at 0.2 mm, where the pull formula comes within "
             f"{abs(pull):.0f} % of the FE and the network's virtual work is {abs(vw):.0f} % "
             f"{'under' if vw < 0 else 'over'} it")
+
+
+SELFTEST_FORCES = (  # README row label -> selftest cases (fem2d.verification.CASES)
+    ("two round wires, ±10 A, 6 mm apart (planar)", "μ0 I1 I2/(2π d), exact",
+     ("planar-wire-pair-force",)),
+    ("wire beside a permeable cylinder, μr 10 (planar)", "images, exact",
+     ("planar-wire-cylinder-force",)),
+    ("two coaxial coils (r-z)", "I1 I2 dM/dz, Maxwell's formula", ("rz-coaxial-coil-force",)),
+    ("two cylinder magnets, faces 1 / 2.5 / 5 mm apart (r-z)",
+     "sheet currents with Maxwell's formula (= magpylib, tests/test_force_references.py)",
+     ("rz-magnet-pair-force-1mm", "rz-magnet-pair-force-2.5mm", "rz-magnet-pair-force-5mm")),
+    ("U core and armature, saturating steel, two 0.5 mm gaps (planar)", "the other method",
+     ("planar-armature-force",)),
+)
+
+
+def block_selftest_forces() -> str:
+    """The selftest's force cases on the quick meshes (fem2d.verification)."""
+    from fem2d.verification import run_cases
+
+    names = tuple(n for *_, group in SELFTEST_FORCES for n in group)
+    res = {r.name: r for r in run_cases(quick=True, names=names)}
+    lines = ["", "| case | reference | error (stress) | stress vs virtual work |", "|---|---|---|---|"]
+    for label, ref, group in SELFTEST_FORCES:
+        rs = [res[n] for n in group]
+        if label.startswith("U core"):  # its reference is the other method
+            err = "—"
+        else:
+            err = " / ".join(
+                f"{abs((r.methods or {})['maxwell_stress'] - r.reference) / abs(r.reference):.1e}"
+                for r in rs)
+        spread = [float(r.methods_rel_diff or 0.0) for r in rs]
+        vw = f"{spread[0]:.1e}" if len(rs) == 1 else f"≤ {max(spread):.1e}"
+        lines.append(f"| {label} | {ref} | {err} | {vw} |")
+    return "\n".join(lines) + "\n"
+
+
+def block_selftest_count() -> str:
+    from fem2d.verification import CASES
+
+    return f"{len(CASES)} exact-solution cases"
+
+
+def block_open_boundary() -> str:
+    """The demo choke's open boundary against the limit of ever larger closed
+    boxes (Richardson over factors 6, 12, 24), as tests/test_open_boundary_case.py."""
+    import math
+    from dataclasses import replace
+
+    from compare.fe import run_fe
+
+    case = _case("demo_choke")
+
+    def values(boundary: str, factor: float) -> tuple[float, float]:
+        c = replace(case, fe=replace(case.fe, boundary=boundary, air_factor=factor))
+        q, _, _ = run_fe(c)
+        return q.values["inductance"], q.values["gap_B"]
+
+    closed = [values("closed", f) for f in (6.0, 12.0, 24.0)]
+    opened, old = values("open", 1.5), values("closed", 3.0)
+    lim = []
+    for k in (0, 1):
+        q1, q2, q3 = (c[k] for c in closed)
+        p = min(max(math.log(abs((q1 - q2) / (q2 - q3))) / math.log(2.0), 1.0), 4.0)
+        lim.append(q3 + (q3 - q2) / (2.0 ** p - 1.0))
+    e_l, e_b = (abs(opened[k] - lim[k]) / abs(lim[k]) for k in (0, 1))
+    low = 100 * (lim[0] - old[0]) / lim[0]
+    return (f"within {e_l:.1e} in L and {e_b:.1e} in gap B, where the former 3x closed box was "
+            f"{abs(low):.2f} % {'low' if low > 0 else 'high'} in L")
+
+
+def _ideal_window_core(ow_mm: float, oh_mm: float, leakage: bool):
+    """An ideal-iron window core (mu_r 1e6), 0.5 mm gap, conformal fringing:
+    the three window shapes of tests/test_leakage.py."""
+    from compare.casefile import case_from_dict
+
+    wh = oh_mm - 20
+    return case_from_dict({
+        "case": {"name": "lk", "family": "window-core"},
+        "core": {"outer_width": f"{ow_mm} mm", "outer_height": f"{oh_mm} mm",
+                 "limb_width": "10 mm", "depth": "20 mm"},
+        "gaps": [{"limb": "right", "length": "0.5 mm"}],
+        "winding": {"limb": "left", "turns": 100, "current": "1 A", "thickness": "6 mm",
+                    "length": f"{wh - 2} mm"},
+        "materials": {"core": {"mu_r": 1e6}},
+        "hand": {"fringing": "conformal", "leakage": leakage},
+    })
+
+
+def block_leakage_windows() -> str:
+    from compare.fe import run_fe
+    from compare.hand import run_hand
+
+    off, on = [], []
+    for ow, oh in ((40, 100), (60, 60), (100, 40)):
+        q, _, _ = run_fe(_ideal_window_core(ow, oh, False))
+        fe = q.values["inductance"]
+        off.append(_pct(run_hand(_ideal_window_core(ow, oh, False), planar=True).inductance, fe))
+        on.append(_pct(run_hand(_ideal_window_core(ow, oh, True), planar=True).inductance, fe))
+    return "/".join(_signed(x) for x in off) + " % to " + "/".join(_signed(x) for x in on) + " %"
+
+
+def _pot_pair(height_mm: float, end_mm: float):
+    """The demo pot core with ideal iron and two 60-turn windings of 1.5 mm
+    build, 0.5 mm apart, ``height_mm`` high with ``end_mm`` to each plate
+    (tests/test_leakage_inductance.py)."""
+    import tomllib
+
+    from compare.casefile import case_from_dict
+
+    d = tomllib.loads((ROOT / "cases" / "demo_pot_core_choke.toml").read_text())
+    for k in ("sweep", "margins", "winding"):
+        d.pop(k, None)
+    d["core"]["height"] = f"{height_mm + 2 * end_mm} mm"
+    d["windings"] = [
+        {"name": "a", "limb": "post", "turns": 60, "current": "1 A", "thickness": "1.5 mm",
+         "length": f"{height_mm} mm", "clearance": "0.6 mm"},
+        {"name": "b", "limb": "post", "turns": 60, "current": "-1 A", "thickness": "1.5 mm",
+         "length": f"{height_mm} mm", "clearance": "0.5 mm"}]
+    d["materials"]["core"] = {"mu_r": 1e5}
+    return case_from_dict(d)
+
+
+def _pot_leakage(heights: tuple[float, ...], end_mm: float) -> list[tuple[float, float, float, float]]:
+    """(h_w mm, hand H, FE H, K_R) per winding height."""
+    from analytic.leakage import rogowski_factor
+    from compare.coupling import fe_leakage, hand_leakage
+    from compare.fe import mesh_case
+
+    rows = []
+    for h in heights:
+        case = _pot_pair(h, end_mm)
+        rows.append((h, hand_leakage(case), fe_leakage(case, mesh_case(case)),
+                     rogowski_factor(h * 1e-3, 1.5e-3, 1.5e-3, 0.5e-3)))
+    return rows
+
+
+def block_leakage_hw_table() -> str:
+    lines = ["", "| h_w | hand | FE | FE/hand | K_R | FE/(K_R·hand) |", "|---|---|---|---|---|---|"]
+    for h, hand, fe, k in _pot_leakage((6.0, 12.0, 24.0, 48.0), 1.0):
+        lines.append(f"| {h:g} mm | {_sig(hand * 1e6)} µH | {_sig(fe * 1e6)} µH | "
+                     f"{fe / hand:.3f} | {k:.3f} | {fe / (k * hand):.3f} |")
+    return "\n".join(lines) + "\n"
+
+
+def block_leakage_hw_3mm() -> str:
+    rows = _pot_leakage((3.0, 6.0, 12.0, 24.0, 48.0), 3.0)
+    return (", ".join(f"{fe / (k * hand):.3f}" for _, hand, fe, k in rows) + " over h_w = "
+            + ", ".join(f"{h:g}" for h, *_ in rows) + " mm")
 
 
 QUICK: dict[str, Callable[[], str]] = {
@@ -274,6 +483,7 @@ QUICK: dict[str, Callable[[], str]] = {
     "drawn-L": block_drawn_L,
     "plunger-force-3mm": block_plunger_force_3mm,
     "ei-leakage": block_ei_leakage,
+    "selftest-count": block_selftest_count,
 }
 SLOW: dict[str, Callable[[], str]] = {
     "choke-check": block_choke_check,
@@ -282,6 +492,15 @@ SLOW: dict[str, Callable[[], str]] = {
     "clapper-pull": block_clapper_pull,
     "clapper-vw": block_clapper_vw,
     "plunger-small-stroke": block_plunger_small_stroke,
+    "transformer-summary": block_transformer_summary,
+    "transformer-rogowski": block_transformer_rogowski,
+    "transformer-inrush": block_transformer_inrush,
+    "transformer-undamped": block_transformer_undamped,
+    "selftest-forces": block_selftest_forces,
+    "open-boundary": block_open_boundary,
+    "leakage-windows": block_leakage_windows,
+    "leakage-hw-table": block_leakage_hw_table,
+    "leakage-hw-3mm": block_leakage_hw_3mm,
 }
 
 
