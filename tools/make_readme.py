@@ -183,6 +183,49 @@ def block_ei_leakage() -> str:
     return f"{_signed(off)} % to {_signed(on)} %"
 
 
+def block_agreement_limits() -> str:
+    """The default agreement limits of the main rows (compare.check.DEFAULT_LIMITS)."""
+    from compare.check import DEFAULT_LIMITS
+
+    names = (("gap_B", "gap B"), ("core_B", "core B"),
+             ("path_H", "path-averaged H"), ("flux", "flux"), ("flux_linkage", "flux linkage"),
+             ("inductance", "inductance"), ("incremental_inductance", "incremental inductance"),
+             ("energy", "energy"))
+    parts = [f"{label} {DEFAULT_LIMITS[k]:g}" + (" (H is far from uniform along a path)"
+                                                 if k == "path_H" else "")
+             for k, label in names]
+    return ", ".join(parts)
+
+
+def block_magnet_grades() -> str:
+    """The built-in magnet grades (analytic.magnets.MAGNET_GRADES)."""
+    from analytic.magnets import MAGNET_GRADES
+
+    parts = []
+    for i, g in enumerate(MAGNET_GRADES.values()):
+        vals = (f"{g.remanence:.2f} T", f"{g.mu_r:.2f}", f"{g.knee_H / 1e3:.0f} kA/m".replace("-", "−"))
+        if i == 0:
+            parts.append(f"`{g.name}`: B_r {vals[0]}, recoil μ_r {vals[1]}, knee {vals[2]}")
+        else:
+            parts.append(f"`{g.name}`: " + ", ".join(vals))
+    return "; ".join(parts)
+
+
+def block_mesh_ratio() -> str:
+    from fem2d.mesher import TRIANGLE_ESTIMATE_RATIO
+
+    lo, hi = TRIANGLE_ESTIMATE_RATIO
+    return f"{lo:g}-{hi:g}x"
+
+
+def block_selftest_force_count() -> str:
+    from fem2d.verification import CASES
+
+    n = sum("force" in name for name in CASES)
+    words = {5: "five", 6: "six", 7: "seven", 8: "eight", 9: "nine", 10: "ten"}
+    return words.get(n, str(n))
+
+
 # ------------------------------------------------------------- slow blocks
 def block_choke_check() -> str:
     """The printout of ``magcheck check cases/demo_choke.toml`` (FE run)."""
@@ -341,7 +384,7 @@ def block_selftest_forces() -> str:
     from fem2d.verification import run_cases
 
     names = tuple(n for *_, group in SELFTEST_FORCES for n in group)
-    res = {r.name: r for r in run_cases(quick=True, names=names)}
+    res = {r.name.split(":")[0]: r for r in run_cases(quick=True, names=names)}  # "NAME: title"
     lines = ["", "| case | reference | error (stress) | stress vs virtual work |", "|---|---|---|---|"]
     for label, ref, group in SELFTEST_FORCES:
         rs = [res[n] for n in group]
@@ -484,6 +527,10 @@ QUICK: dict[str, Callable[[], str]] = {
     "plunger-force-3mm": block_plunger_force_3mm,
     "ei-leakage": block_ei_leakage,
     "selftest-count": block_selftest_count,
+    "selftest-force-count": block_selftest_force_count,
+    "agreement-limits": block_agreement_limits,
+    "magnet-grades": block_magnet_grades,
+    "mesh-ratio": block_mesh_ratio,
 }
 SLOW: dict[str, Callable[[], str]] = {
     "choke-check": block_choke_check,
