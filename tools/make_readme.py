@@ -62,6 +62,11 @@ def _sig(x: float, n: int = 4) -> str:
     return f"{x:#.{n}g}".rstrip(".")
 
 
+def _e(x: float, digits: int = 1) -> str:
+    """Scientific notation as the README writes it: 2.2e-5, not 2.2e-05."""
+    return re.sub(r"e([+-])0*(\d)", lambda m: "e" + m[1].replace("+", "") + m[2], f"{x:.{digits}e}")
+
+
 def _signed(x: float, digits: int = 1) -> str:
     """A percent difference as the README writes it (typographic minus)."""
     s = f"{x:+.{digits}f}"
@@ -392,10 +397,10 @@ def block_selftest_forces() -> str:
             err = "—"
         else:
             err = " / ".join(
-                f"{abs((r.methods or {})['maxwell_stress'] - r.reference) / abs(r.reference):.1e}"
+                _e(abs((r.methods or {})["maxwell_stress"] - r.reference) / abs(r.reference))
                 for r in rs)
         spread = [float(r.methods_rel_diff or 0.0) for r in rs]
-        vw = f"{spread[0]:.1e}" if len(rs) == 1 else f"≤ {max(spread):.1e}"
+        vw = _e(spread[0]) if len(rs) == 1 else f"≤ {_e(max(spread))}"
         lines.append(f"| {label} | {ref} | {err} | {vw} |")
     return "\n".join(lines) + "\n"
 
@@ -430,7 +435,7 @@ def block_open_boundary() -> str:
         lim.append(q3 + (q3 - q2) / (2.0 ** p - 1.0))
     e_l, e_b = (abs(opened[k] - lim[k]) / abs(lim[k]) for k in (0, 1))
     low = 100 * (lim[0] - old[0]) / lim[0]
-    return (f"within {e_l:.1e} in L and {e_b:.1e} in gap B, where the former 3x closed box was "
+    return (f"within {_e(e_l)} in L and {_e(e_b)} in gap B, where the former 3x closed box was "
             f"{abs(low):.2f} % {'low' if low > 0 else 'high'} in L")
 
 
