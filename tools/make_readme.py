@@ -12,10 +12,12 @@ take about a second: case results come from ``cases/baseline.json`` (which
 tests/test_cases_regression.py holds to the code), other figures from hand
 model calls, the command reference from the argument parser.  The slow
 blocks (marked ``generated (slow)``: a full ``magcheck check`` printout,
-force-stroke sweeps with the FE) run the field solutions; ``--slow``
-regenerates them, ``--check --slow`` compares them too (timings such as
-"run time 2.5 s" and a converged Newton residual are not compared).  tests/test_readme.py runs ``--check``
-(quick) and, in the slow tier, ``--check --slow``.
+force-stroke sweeps, the transformer demo's check, the selftest's force
+cases, leakage and open-boundary studies) run field solutions, a few
+minutes in all; ``--slow`` regenerates them, ``--check --slow`` compares
+them too (measured run times and a converged Newton residual are not
+compared).  tests/test_readme.py checks the quick blocks, and each slow
+block on its own in the slow tier.
 """
 
 from __future__ import annotations
@@ -28,8 +30,8 @@ import math
 import re
 import sys
 import types
-from functools import lru_cache
 from collections.abc import Callable
+from functools import lru_cache
 from contextlib import redirect_stdout
 from pathlib import Path
 
