@@ -114,7 +114,7 @@ def block_commands() -> str:
             text = " ".join(fmt._expand_help(a).split()) if a.help else ""
             out.append(f"- `{flag}`: {text}")
         out.append("")
-    return "\n".join(out)
+    return "\n".join(out) + "\n"
 
 
 def block_choke_gap_B() -> str:
@@ -148,7 +148,7 @@ def block_choke_breakdown() -> str:
              "  |---|" + "---|" * len(keys)]
     for s in steps:
         lines.append(f"  | {s.name} | " + " | ".join(_signed(s.diff_pct[k]) for k in keys) + " |")
-    return "\n" + "\n".join(lines) + "\n  "
+    return "\n" + "\n".join(lines) + "\n\n  "
 
 
 def block_choke_fringing_gain() -> str:
@@ -284,7 +284,7 @@ HOLDING = ("0.1mm", "1mm")
 def block_clapper_forces() -> str:
     head = ["", "| stroke | hand, virtual work | hand, pull formula | FE, Maxwell stress | FE, virtual work |",
             "|---|---|---|---|---|"]
-    return "\n".join(head + _force_rows("demo_clapper_relay", CLAPPER)) + "\n"
+    return "\n".join(head + _force_rows("demo_clapper_relay", CLAPPER)) + "\n\n"
 
 
 def block_plunger_holding_forces() -> str:
@@ -292,7 +292,7 @@ def block_plunger_holding_forces() -> str:
                 "FE, virtual work |", "|---|---|---|---|---|"]
     rows = (_force_rows("demo_plunger_solenoid", PLUNGER, "plunger, ")
             + _force_rows("demo_holding_magnet", HOLDING, "holding magnet, "))
-    return "\n".join(head + rows) + "\n"
+    return "\n".join(head + rows) + "\n\n"
 
 
 def block_clapper_pull() -> str:
@@ -415,7 +415,7 @@ def block_selftest_forces() -> str:
         spread = max(float(r.methods_rel_diff or 0.0) for r in rs)
         vw = "< 1e-6" if spread < 1e-6 else _e(spread)
         lines.append(f"| {label} | {ref} | {err} | {vw} |")
-    return "\n".join(lines) + "\n"
+    return "\n".join(lines) + "\n\n"
 
 
 def block_selftest_count() -> str:
@@ -522,7 +522,7 @@ def block_leakage_hw_table() -> str:
     for h, hand, fe, k in _pot_leakage((6.0, 12.0, 24.0, 48.0), 1.0):
         lines.append(f"| {h:g} mm | {_sig(hand * 1e6)} µH | {_sig(fe * 1e6)} µH | "
                      f"{fe / hand:.3f} | {k:.3f} | {fe / (k * hand):.3f} |")
-    return "\n".join(lines) + "\n"
+    return "\n".join(lines) + "\n\n"
 
 
 def block_leakage_hw_3mm() -> str:
