@@ -4,7 +4,7 @@ A :class:`BHCurve` is built from a measured or invented table of points
 (H_i, B_i).  Between the points H(B) is a monotone C1 piecewise cubic Hermite
 interpolant (Fritsch & Carlson, "Monotone piecewise cubic interpolation",
 SIAM J. Numer. Anal. 17, 1980 [confirmed as cited]); beyond the last point the
-curve continues with slope exactly mu0, B = mu0*H + j_s (REFERENCES.md 3,
+curve continues with slope exactly mu0, B = mu0*H + j_s (docs/references.md section 3,
 physically required).
 
 Construction, chosen so that every property below holds by design:

@@ -1,7 +1,7 @@
 """Air-gap fringing models for the magnetic-circuit hand calculation.
 
 Every model returns two multiplicative factors on the ideal gap permeance
-P_0 = mu0*a*b/g of a gap with pole face a x b and length g (REFERENCES.md 1):
+P_0 = mu0*a*b/g of a gap with pole face a x b and length g (docs/references.md section 1):
 
 * ``k_plane`` - in-plane part (across the face width a, in the plane of the
   planar FE cut); the only part a planar 2D FE model contains;
@@ -274,7 +274,7 @@ def conformal_sigma(w: float, g: float, h: float) -> float:
     widths in parallel, the two half lengths (either side of the mid-gap symmetry
     plane) in series, so the gap permeance per depth is
     mu0*[w/g + (2/pi)(1 + ln(pi h/(2 g)))] against the ideal mu0*w/g, which gives
-    [derived, REFERENCES.md 1]
+    [derived, docs/references.md section 1]
 
         sigma = 1 / (1 + (2 g/(pi w)) (1 + ln(pi h/(2 g)))).
 
@@ -354,7 +354,7 @@ def flux_tube_edge(g: float, t: float) -> float:
     solid cylinder spanning the gap at the edge (0.26 mu0 L) and a half
     hollow cylinder from side face to side face, radii g/2 to g/2 + t,
     (mu0 L / pi) ln(1 + 2 t / g) (Roters, Electromagnetic Devices, Wiley
-    1941 [secondary: REFERENCES.md section 1]).  t is the free side face
+    1941 [secondary: docs/references.md section 1]).  t is the free side face
     the hollow cylinder can use (both sides of the gap, and the room across).
     """
     return HALF_CYLINDER + math.log1p(2.0 * t / g) / math.pi

@@ -9,7 +9,7 @@ row, first quadrant, origin optional.  Units: :data:`analytic.bh.H_UNITS`,
 Built-in demo materials (``analytic/data/*.csv``) are invented for the demo:
 each is sampled from the Froehlich-Kennelly law plus the vacuum term,
 
-    B(H) = mu0*H + H/(a + b*H)        (Froehlich-Kennelly [from memory], REFERENCES.md 3)
+    B(H) = mu0*H + H/(a + b*H)        (Froehlich-Kennelly [from memory], docs/references.md section 3)
 
 with invented parameters a (m/H, initial reluctivity of the polarisation part)
 and b (1/T, inverse saturation polarisation).  Its slope mu0 + a/(a + b H)^2

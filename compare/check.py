@@ -3,7 +3,7 @@
 The like-for-like comparison is the hand model in its planar-consistent
 form (fringing in the plane only) against the planar FE per stack depth.
 Beside it stand the 3D hand value the engineer would use and the FE value
-with the depth-direction fringing correction (REFERENCES.md section 6:
+with the depth-direction fringing correction (docs/references.md section 6:
 multiply the planar permeance by the model's out-of-plane factor).
 """
 

@@ -137,7 +137,7 @@ def build_network(case: Case, *, fringing: str | None = None, planar: bool = Fal
         Fringing model name (default: the case's ``hand.fringing``).
     planar : bool
         True applies only the in-plane part of the fringing correction, the
-        form a planar 2D field model can be compared with (REFERENCES.md
+        form a planar 2D field model can be compared with (docs/references.md
         section 6); False is the full 3D hand calculation.
     leakage : bool
         Add, for each winding window, the yoke-to-yoke path across it in

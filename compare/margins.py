@@ -17,7 +17,7 @@ A negative margin is a failed margin. The figures themselves:
   the whole coil cross-section). Definition, no source needed.
 - saturation current at a drop d: the current at which the inductance has
   fallen to (1 - d) times its low-current value (the way makers quote it;
-  common practice, no source, REFERENCES.md section 6). The low-current value
+  common practice, no source, docs/references.md section 6). The low-current value
   is the inductance at I = 0 (the initial inductance) when available.
 """
 

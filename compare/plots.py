@@ -107,7 +107,7 @@ def flux_levels(res: CheckResult, lines: int = FLUX_LINES) -> tuple[np.ndarray, 
     neighbouring lines (Wb).
 
     In the planar model the flux (per the stack depth d) between two points
-    is d (A2 - A1) (REFERENCES.md section 5), in the r-z model 2 pi (u2 - u1)
+    is d (A2 - A1) (docs/references.md section 5), in the r-z model 2 pi (u2 - u1)
     with u = r A_phi the unknown, so equally spaced levels make
     the number of lines crossing any segment proportional to the flux through
     it, in the window as in the limbs.  The step is a 1-2-5 number and A = 0

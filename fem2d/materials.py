@@ -78,7 +78,7 @@ class BrauerReluctivity:
     (about 2.3 T for steel-like constants), which no material does.  With
     ``vacuum=True`` the permeabilities add, 1/nu = 1/nu_B + mu_0 (i.e.
     B = mu_0 H + the Brauer material part), so nu -> 1/mu_0 and the B-H
-    slope tends to mu_0 as REFERENCES.md section 3 requires.  The relative
+    slope tends to mu_0 as docs/references.md section 3 requires.  The relative
     change of nu is mu_0 nu_B/(1 + mu_0 nu_B): 0.05 % up to 1 T, 0.6 % at
     1.8 T, 3 % at 2 T for k1, k2, k3 = 3.8, 2.17, 396.2.
 

@@ -391,7 +391,7 @@ def flux_linkage(sol, turns: float, plus, minus) -> float:
 
     <A> is the cross-section mean of the unknown over the coil-side
     region(s).  Planar: N depth (<A>+ - <A>-) (standard planar formula,
-    REFERENCES.md section 5).  Axisymmetric: (N/S) int 2 pi u dS for a coil
+    docs/references.md section 5).  Axisymmetric: (N/S) int 2 pi u dS for a coil
     of cross-section S (``minus`` may be empty).
     """
     minus_mean = _mean_over(sol, sol.A, minus) if _names(minus) else 0.0

@@ -39,7 +39,7 @@ CURVE_IDS = builtin_names() + ["rising"]
 
 
 def test_unit_factors_are_the_definitions():
-    # Source: exact definitions, 1 Oe = 1000/(4 pi) A/m = 79.577 A/m, 1 G = 1e-4 T (REFERENCES.md 3, definitions)
+    # Source: exact definitions, 1 Oe = 1000/(4 pi) A/m = 79.577 A/m, 1 G = 1e-4 T (docs/references.md section 3, definitions)
     assert H_UNITS["Oe"] == pytest.approx(1000.0 / (4.0 * math.pi), rel=1e-15)  # same expression, rounding only
     assert H_UNITS["Oe"] == pytest.approx(79.577, abs=5e-4)  # quoted to 5 significant figures
     assert H_UNITS["kA/m"] == 1e3 and H_UNITS["A/m"] == 1.0
@@ -48,7 +48,7 @@ def test_unit_factors_are_the_definitions():
 
 def test_table_in_oe_and_kg_equals_table_in_si():
     h_si, b_si = RISING_H, RISING_B
-    # Source: definitions 1 Oe = 1000/(4 pi) A/m, 1 kG = 0.1 T (REFERENCES.md 3, definitions)
+    # Source: definitions 1 Oe = 1000/(4 pi) A/m, 1 kG = 0.1 T (docs/references.md section 3, definitions)
     h_oe = h_si / (1000.0 / (4.0 * math.pi))
     b_kg = b_si / 0.1
     c_si = BHCurve.from_points(h_si, b_si)
@@ -70,7 +70,7 @@ def test_unknown_unit_rejected():
 
 @pytest.mark.parametrize("curve", all_curves(), ids=CURVE_IDS)
 def test_monotone_on_fine_grid_including_beyond_data(curve):
-    # Source: required property of a single-valued B-H law (REFERENCES.md 3, well-posedness: nu(B) B
+    # Source: required property of a single-valued B-H law (docs/references.md section 3, well-posedness: nu(B) B
     # increasing [confirmed]); construction after Fritsch & Carlson 1980 [confirmed as cited]
     b = np.linspace(0.0, 3.0 * curve.b_max, 200_001)
     h = curve.h_of_b(b)
@@ -80,7 +80,7 @@ def test_monotone_on_fine_grid_including_beyond_data(curve):
 
 @pytest.mark.parametrize("curve", all_curves(), ids=CURVE_IDS)
 def test_c1_at_every_knot(curve):
-    # Source: C1 requirement for Newton (REFERENCES.md 3: a piecewise-linear curve makes the Jacobian jump)
+    # Source: C1 requirement for Newton (docs/references.md section 3: a piecewise-linear curve makes the Jacobian jump)
     knots = curve.b_points[1:-1]
     eps = 1e-9 * curve.b_max
     left = curve.dh_db(knots - eps)
@@ -101,14 +101,14 @@ def test_builtins_join_extrapolation_c1(name):
     curve = builtin(name)
     assert curve.c1_at_last_point
     bm = curve.b_max
-    # Source: slope mu0 beyond the data (REFERENCES.md 3 [from memory; physically required]); C1 join
+    # Source: slope mu0 beyond the data (docs/references.md section 3 [from memory; physically required]); C1 join
     # tolerance: change of dH/dB over 1e-9*B_max at a C1 point is ~1e-9 relative
     assert curve.dh_db(bm * (1 - 1e-9)) * mu_0 == pytest.approx(1.0, rel=1e-6)
 
 
 @pytest.mark.parametrize("curve", all_curves(), ids=CURVE_IDS)
 def test_slope_exactly_mu0_beyond_data(curve):
-    # Source: B = mu0 H + J_s beyond the last point (REFERENCES.md 3 [from memory; physically required])
+    # Source: B = mu0 H + J_s beyond the last point (docs/references.md section 3 [from memory; physically required])
     h = curve.h_max * np.array([1.0 + 1e-6, 1.5, 3.0, 100.0])
     np.testing.assert_allclose(curve.db_dh(h), mu_0, rtol=1e-14)  # tolerance: exact constant, rounding only
     expected = mu_0 * h + (curve.b_max - mu_0 * curve.h_max)
@@ -170,7 +170,7 @@ def test_nu_interface_at_zero_and_positive_tangent(curve):
     assert curve.nu(0.0) * mu_0 * curve.mu_r_initial == pytest.approx(1.0, rel=1e-14)
     s = np.linspace(0.0, (3 * curve.b_max) ** 2, 400_001)
     tangent = curve.nu(s) + 2 * s * curve.dnu_ds(s)
-    # Source: 2D tangent reluctivity is positive definite iff dH/dB > 0 (REFERENCES.md 3 [derived])
+    # Source: 2D tangent reluctivity is positive definite iff dH/dB > 0 (docs/references.md section 3 [derived])
     assert np.all(tangent > 0)
     # exact identity d(nu(B^2) B)/dB = nu + 2 s dnu/ds = dH/dB [derived]; tolerance: cancellation in
     # (dH/dB - nu)/(2 s) costs a few digits at small s
@@ -197,7 +197,7 @@ def test_rising_permeability_gives_negative_dnu_ds():
 
 def test_nu_tends_to_inverse_mu0():
     c = builtin("demo-sisteel")
-    # Source: nu -> 1/mu0 as B -> infinity (REFERENCES.md 3, well-posedness [confirmed]);
+    # Source: nu -> 1/mu0 as B -> infinity (docs/references.md section 3, well-posedness [confirmed]);
     # at B = 1000 T the offset j_s/B is 2e-3 relative
     assert c.nu(1000.0**2) * mu_0 == pytest.approx(1.0 - c.j_s / 1000.0, rel=1e-12)
 
@@ -364,7 +364,7 @@ def test_builtin_csv_equals_generator_and_is_marked_invented(name):
 )
 def test_builtin_design_targets(name, mu_lo, mu_hi, h_knee, b_knee_lo, b_knee_hi, h_sat, b_sat_lo, b_sat_hi):
     # Source: design targets of the invented demo data (silicon steel knee 1.4-1.6 T, soft iron 1.2-1.4 T,
-    # ferrite ~0.4-0.5 T; common practice, no source, cf. REFERENCES.md 6)
+    # ferrite ~0.4-0.5 T; common practice, no source, cf. docs/references.md section 6)
     c = builtin(name)
     assert mu_lo <= c.mu_r_initial <= mu_hi
     assert b_knee_lo <= c.b_of_h(h_knee) <= b_knee_hi
@@ -391,7 +391,7 @@ def test_random_valid_tables_are_monotone_and_invertible():
         c = BHCurve.from_points(h, b)
         bb = np.linspace(0.0, 2 * c.b_max, 5001)
         # Source: monotone C1 Hermite construction (Fritsch & Carlson 1980 [confirmed as cited]);
-        # strictly increasing H(B) everywhere, positive 2D tangent (REFERENCES.md 3 [derived])
+        # strictly increasing H(B) everywhere, positive 2D tangent (docs/references.md section 3 [derived])
         assert np.all(np.diff(c.h_of_b(bb)) > 0)
         s = bb**2
         assert np.all(c.nu(s) + 2 * s * c.dnu_ds(s) > 0)

@@ -41,7 +41,7 @@ def test_linear_core_fe_and_hand_near_ideal_formula():
     # Mean path of the 60 x 70 mm frame with 12 mm limbs: 2*(48 + 58) mm, less the gap.
     l_c = 2 * (0.048 + 0.058) - g
     # Source: exact solution of the ideal gapped core with finite mu_r,
-    # B = mu0*N*I/(l_g + l_c/mu_r) (REFERENCES.md section 2).
+    # B = mu0*N*I/(l_g + l_c/mu_r) (docs/references.md section 2).
     b_ideal = mu_0 * N * I / (g + l_c / 1e4)
     hand = run_hand(case, fringing="none", planar=True)
     assert hand.gap_B == pytest.approx(b_ideal, rel=1e-9)
@@ -58,7 +58,7 @@ def test_linear_core_fe_and_hand_near_ideal_formula():
     assert 1.0 < ratio < 1.20
     # Tighter lower bound with a source: the in-plane fringing alone, by the
     # conformal-map gap element (Muehlethaler, Kolar, Ecklebe, ICPE-ECCE Asia
-    # 2011 [confirmed: approach]; symmetric form [derived], REFERENCES.md
+    # 2011 [confirmed: approach]; symmetric form [derived], docs/references.md
     # section 1), in the same series circuit; the field solution has that
     # fringing and the window leakage besides, so it lies above.
     conformal = run_hand(case, fringing="conformal", planar=True)

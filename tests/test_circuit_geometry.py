@@ -97,7 +97,7 @@ def test_network_branches_from_the_geometry():
     for i, (g, a, _) in FACE.items():
         b = br[f"gap{i}"]
         assert b.length == pytest.approx(g * MM, rel=1e-12)
-        # Source: ideal gap permeance mu0*a*b/g (REFERENCES.md section 1, no fringing).
+        # Source: ideal gap permeance mu0*a*b/g (docs/references.md section 1, no fringing).
         assert b.permeance == pytest.approx(mu_0 * a * DEPTH * MM / g, rel=1e-12), i
     assert cmap.winding_branch == "left"
     assert cmap.gap_branches == ("gap0", "gap1")
@@ -109,10 +109,10 @@ def gap_reluctance(i: int, fringing: str, planar: bool) -> float:
     g, a, _ = (v * MM for v in FACE[i])
     b = DEPTH * MM
     if fringing == "none":
-        # Source: ideal gap, P = mu0*a*b/g (REFERENCES.md section 1).
+        # Source: ideal gap, P = mu0*a*b/g (docs/references.md section 1).
         return g / (mu_0 * a * b)
     # Source: area enlargement A_g = (a+g)(b+g), Matsch 1964 ch. 3 [confirmed,
-    # REFERENCES.md section 1]; its planar form keeps (a+g)*b only.
+    # docs/references.md section 1]; its planar form keeps (a+g)*b only.
     return g / (mu_0 * (a + g) * (b if planar else b + g))
 
 
@@ -122,7 +122,7 @@ def test_series_circuit_closed_form(mu_r, fringing, planar):
     case = make(mu_r, fringing)
     h = run_hand(case, fringing=fringing, planar=planar)
     # Source: exact solution of a single-loop linear magnetic circuit
-    # (REFERENCES.md section 2, ideal gapped core with finite mu_r, in series
+    # (docs/references.md section 2, ideal gapped core with finite mu_r, in series
     # form): flux = N I / sum R, R_core = l/(mu0 mu_r A), R_gap = 1/P_gap.
     r_core = {"left": SEG["left"][0] * MM, "bottom": SEG["bottom"][0] * MM,
               "right": (SEG["right"][0] - G0) * MM, "top": (SEG["top"][0] - G1) * MM}
@@ -160,7 +160,7 @@ def test_series_circuit_closed_form(mu_r, fringing, planar):
 def test_high_permeability_limit_is_the_gaps_alone():
     mu_r = 1e9
     h = run_hand(make(mu_r, "none"), fringing="none", planar=True)
-    # Source: ideal gapped core, mu_r -> infinity (REFERENCES.md section 2):
+    # Source: ideal gapped core, mu_r -> infinity (docs/references.md section 2):
     # the MMF drops across the gaps only, flux = N I / sum(g/(mu0 a b)).
     # Tolerance 1e-5: the core's share of the reluctance at mu_r = 1e9 is
     # ~ (l_c/A_c)/(mu_r g/A_g) ~ 1e-6.
@@ -254,7 +254,7 @@ def test_ei_series_parallel_circuit_closed_form(mu_r):
 
 
 def test_ei_high_permeability_limit_is_the_gap_alone():
-    # Source: ideal gapped core (REFERENCES.md section 2 [exact]): mu_r -> inf,
+    # Source: ideal gapped core (docs/references.md section 2 [exact]): mu_r -> inf,
     # B_g = mu0 N I / g. Tolerance 1e-5: the core's reluctance at mu_r = 1e9.
     res = run_hand(ei_case(1e9))
     assert res.gap_B == pytest.approx(mu_0 * EN * EI_ / (EG * MM), rel=1e-5)

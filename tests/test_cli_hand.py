@@ -106,7 +106,7 @@ def test_ei_case_runs(tmp_path):
     # front and back, to the core's outer edge, (30 + 2*8 - 0.5)/2 = 22.75 mm.
     # Source: Muehlethaler, Kolar, Ecklebe, ICPE-ECCE Asia 2011 [confirmed:
     # approach], symmetric leg-to-leg form sigma = 1/(1 + (2g/(pi w))(1 +
-    # ln(pi h/(2g)))) [derived, REFERENCES.md section 1] with h the element's
+    # ln(pi h/(2g)))) [derived, docs/references.md section 1] with h the element's
     # free face. Tolerance 1e-9: the same closed form evaluated twice.
     def sigma(w: float, h: float, g: float = 0.5e-3) -> float:
         return 1 / (1 + 2 * g / (math.pi * w) * (1 + math.log(math.pi * h / (2 * g))))

@@ -712,7 +712,7 @@ def test_axisymmetric_circuit_gap_takes_a_round_face():
     case = case_from_dict(d)
     face = core_model(case).circuit.gaps[0].face
     assert face.radii == pytest.approx((0.0, 5e-3))
-    # Source: Roters 1941 flux tubes round the disc's edge [secondary, REFERENCES.md 1],
+    # Source: Roters 1941 flux tubes round the disc's edge [secondary, docs/references.md section 1],
     # the hollow cylinder bent round it (a half torus, each shell's reluctance
     # integral by nested quadrature, as tests/test_fringing.py); 1e-6: quadrature
     from scipy.integrate import quad

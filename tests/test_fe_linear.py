@@ -42,7 +42,7 @@ def test_linear_core_secant_incremental_and_energy_inductance_agree(solved):
     case, v = solved
     I = case.winding.current
     # Physics: with a linear core lambda = L*I, so lambda/I = d lambda/dI and
-    # W = L*I^2/2 exactly (REFERENCES.md section 5: "2W/i^2 equals lambda/i
+    # W = L*I^2/2 exactly (docs/references.md section 5: "2W/i^2 equals lambda/i
     # only when linear"). Tolerance 1e-6: all three come from the same field;
     # they differ only by the Newton and linear-solve tolerances (1e-8
     # residual), not by the mesh.
@@ -77,7 +77,7 @@ def test_fe_inductance_bounded_by_the_planar_circuit(solved):
     # Source: the 'area' in-plane factor is 1 + g/a (Matsch 1964, ch. 3,
     # [confirmed]); the conformal-map element (Muehlethaler, Kolar, Ecklebe,
     # ICPE-ECCE Asia 2011 [confirmed: approach]; symmetric leg-to-leg form
-    # [derived] in REFERENCES.md section 1) gives 1 + (2g/(pi a))(1 +
+    # [derived] in docs/references.md section 1) gives 1 + (2g/(pi a))(1 +
     # ln(pi h/(2g))), larger than 1 + g/a whenever h > 1.12 g; the conformal
     # map solves the 2D gap field, so the FE (which has it plus leakage) lies
     # above it.

@@ -1,4 +1,4 @@
-"""fem2d against exact solutions (REFERENCES.md section 2)."""
+"""fem2d against exact solutions (docs/references.md section 2)."""
 from __future__ import annotations
 
 import numpy as np
@@ -53,7 +53,7 @@ def test_round_wire_b_and_a_at_points():
     pts = np.vstack([(R * np.cos(T)).ravel(), (R * np.sin(T)).ravel()])
     B = post.sample_b(sol, pts)
     rr = np.hypot(*pts)
-    # Source: exact solution (Ampere's law), REFERENCES.md section 2 "Round wire"
+    # Source: exact solution (Ampere's law), docs/references.md section 2 "Round wire"
     b_exact = np.where(rr < A_WIRE, mu_0 * I_WIRE * rr / (2 * np.pi * A_WIRE**2), mu_0 * I_WIRE / (2 * np.pi * rr))
     # direction: counter-clockwise e_theta for +z current
     et = np.vstack([-pts[1], pts[0]]) / rr
@@ -114,7 +114,7 @@ def ring_flux_exact(I):
     """Flux per metre through the ring: int_{r_in}^{r_out} B(I/(2 pi r)) dr (Wb/m).
 
     Source: exact solution (Ampere's law with circular symmetry gives
-    H = I/(2 pi r) for any B-H curve), REFERENCES.md section 2 [derived].
+    H = I/(2 pi r) for any B-H curve), docs/references.md section 2 [derived].
     """
     return quad(lambda r: b_of_h(BRAUER, I / (2 * np.pi * r)), RI, RO, epsabs=0.0, epsrel=1e-12)[0]
 
@@ -196,7 +196,7 @@ def test_gapped_core_tends_to_ideal_gap_formula():
                         currents={"cin": NI, "cout": -NI})
             # flux per metre across the gapped limb at the gap mid-plane
             phi = abs(post.flux_across(sol, (60 * mm - w, 30 * mm), (60 * mm, 30 * mm))) / sol.mesh.layout.depth
-            # Source: ideal gapped core B = mu0 N I/(l_g + l_c/mu_r), REFERENCES.md section 2
+            # Source: ideal gapped core B = mu0 N I/(l_g + l_c/mu_r), docs/references.md section 2
             ideal = mu_0 * NI / (gap + (lc - gap) / mu_r) * w
             ratios[(gap, mu_r)] = phi / ideal
     # Trend: with mu_r -> infinity and g/w -> 0 the FE flux tends to the ideal formula.
@@ -214,7 +214,7 @@ def test_gapped_core_tends_to_ideal_gap_formula():
     # 0.4 g/w): ratio > 1 - g/(2w). Above: the flux may shorten its core path
     # to the window's inner perimeter 4 (60 mm - 2w), no further, so the ratio
     # is at most (g + l_c/mu_r)/(g + l_inner/mu_r) [derived from the ideal
-    # gapped-core formula, REFERENCES.md section 2].
+    # gapped-core formula, docs/references.md section 2].
     l_inner = 4 * (60 * mm - 2 * w)
     for (gap, mu_r), val in ratios.items():
         assert val > 1 - gap / (2 * w), (gap, mu_r, val)

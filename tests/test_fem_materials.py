@@ -33,7 +33,7 @@ def test_brauer_vacuum_tends_to_mu0_and_stays_monotone():
     b = np.sqrt(s)
     H = law.nu(s) * b
     assert np.all(np.diff(H) > 0)  # H(B) strictly increasing
-    # Source: physically required slope mu0 in deep saturation (REFERENCES.md section 3,
+    # Source: physically required slope mu0 in deep saturation (docs/references.md section 3,
     # [from memory]); 1/nu = 1/nu_B + mu0 gives nu -> 1/mu0. Tolerance 1e-6 at B = 4 T
     # where 1/nu_B ~ 1e-17 H/m.
     assert law.nu(16.0) == pytest.approx(1.0 / mu_0, rel=1e-6)

@@ -35,7 +35,7 @@ def _element_permeance_per_depth(w, l, h):
 
 def _sigma_from_elements(w, g, h):
     # four elements with l = g/2: two half widths in parallel, two half lengths in series
-    # (REFERENCES.md 1 [derived])
+    # (docs/references.md section 1 [derived])
     p_elem = _element_permeance_per_depth(w, g / 2, h)
     p_gap = 1.0 / (1.0 / (2 * p_elem) + 1.0 / (2 * p_elem))
     p_ideal = mu_0 * w / g
@@ -56,7 +56,7 @@ def test_area_model():
     assert k_plane == pytest.approx((a + g) / a, rel=1e-15)
     assert k_depth == pytest.approx((b + g) / b, rel=1e-15)
     assert effective_area(FACE, "area", planar=False) == pytest.approx((a + g) * (b + g), rel=1e-14)
-    # planar 2D comparison uses (a+g) b (REFERENCES.md 1 [confirmed])
+    # planar 2D comparison uses (a+g) b (docs/references.md section 1 [confirmed])
     assert effective_area(FACE, "area", planar=True) == pytest.approx((a + g) * b, rel=1e-14)
 
 
@@ -147,7 +147,7 @@ def test_conformal_with_its_own_free_face_each_side():
 def test_conformal_check_value():
     face = GapFace(length=1e-3, width=10e-3, depth=10e-3, free_height=10e-3)
     sigma = 1 / get_fringing("conformal").factors(face)[0]
-    # Source: REFERENCES.md 1, w = h = 10 mm, l_g = 1 mm gives sigma = 0.807 [derived]; 3 significant figures
+    # Source: docs/references.md section 1, w = h = 10 mm, l_g = 1 mm gives sigma = 0.807 [derived]; 3 significant figures
     assert round(sigma, 3) == 0.807
 
 
@@ -166,7 +166,7 @@ def test_ordering_for_small_gap():
     #   flux-factor: 1 + 0.02 ln(2*10/0.02) = 1 + 0.02*6.908         = 1.1382
     #   conformal:   per direction 1 + (0.04/pi)(1 + ln(pi*10/0.04)) = 1.0976, squared 1.2048
     #   planar flux-factor: half the excess (a = b, perimeter share) = 1.0691
-    # Source: the model formulas of REFERENCES.md 1, evaluated by hand above (3D and planar orderings)
+    # Source: the model formulas of docs/references.md section 1, evaluated by hand above (3D and planar orderings)
     total = {n: np.prod(get_fringing(n).factors(face)) for n in FRINGING_MODELS}
     assert total["none"] < total["area"] < total["flux-factor"] < total["conformal"]
     plane = {n: get_fringing(n).factors(face)[0] for n in FRINGING_MODELS}
@@ -211,7 +211,7 @@ def test_bad_face_rejected(key, bad):
 
 
 def test_flux_tube_model_edge_by_edge():
-    # Source: Roters, Electromagnetic Devices, 1941 [secondary, REFERENCES.md
+    # Source: Roters, Electromagnetic Devices, 1941 [secondary, docs/references.md
     # section 1]: per pole edge of length L a half solid cylinder 0.26 mu0 L
     # and a half hollow cylinder (mu0 L/pi) ln(1 + t/r_i), r_i = g/2.
     # Composed here: in-plane edges (length b) each with the shorter free face
@@ -272,7 +272,7 @@ def test_round_disc_closed_forms():
     # Source: Matsch 1964 ch. 3 area enlargement, g/2 added at the edge: pi (r + g/2)^2
     assert gap_permeance(DISC, "area", False) == pytest.approx(
         mu_0 * math.pi * (r + g / 2) ** 2 / g, rel=1e-13)
-    # Source: Roters 1941 flux tubes [secondary, REFERENCES.md 1]: the half
+    # Source: Roters 1941 flux tubes [secondary, docs/references.md section 1]: the half
     # solid cylinder 0.26 mu0 round the circumference 2 pi r, the half hollow
     # cylinder bent round the edge (a half torus), its permeance by nested
     # quadrature (_half_torus); tolerance 1e-8: the two quadratures
@@ -339,7 +339,7 @@ def test_curved_tube_against_nested_quadrature(g, t, r_e, outward):
 
 def test_curved_tube_bends_the_straight_tube():
     # Source: Roters 1941 straight half hollow cylinder, (mu0 L / pi) ln(1 + 2t/g)
-    # per edge length L [secondary, REFERENCES.md 1], the limit of a large
+    # per edge length L [secondary, docs/references.md section 1], the limit of a large
     # radius; a round face's tubes are curved: at the plunger demo's outer
     # edge (g 3 mm, t 7.5 mm, r 6 mm) the bent tube carries 1.40 times the
     # straight one, an inner edge's less

@@ -173,10 +173,11 @@ def test_yoke_to_yoke_bypass_permeance_against_its_integral(name, clearance_mm):
 def test_leakage_brings_the_hand_inductance_toward_the_fe_for_three_window_shapes():
     # Ideal iron (mu_r = 1e6), gap 0.5 mm mid-way up the facing limb, coil on
     # the other limb; conformal fringing (planar form). The reference is the
-    # planar FE.  Measured on this code (hand - FE, % of FE):
-    #   window  20x80 mm: no leakage -2.5, with leakage -0.4
-    #   window  40x40 mm: no leakage -5.5, with leakage -1.5
-    #   window  80x20 mm: no leakage -16.6, with leakage -2.8
+    # planar FE.  Measured on this code (hand - FE, % of FE; README's
+    # generated block leakage-windows, tools/make_readme.py):
+    #   window  20x80 mm: no leakage -3.1, with leakage -0.9
+    #   window  40x40 mm: no leakage -6.4, with leakage -2.5
+    #   window  80x20 mm: no leakage -17.0, with leakage -3.3
     # The model's approximation (straight field lines, fringing of the gap
     # and the window paths added) is stated in analytic.leakage: assert that
     # the leakage always helps and that the remainder is inside 4 %.

@@ -57,7 +57,7 @@ def test_inductance_margin_against_ideal_gapped_core():
                         materials={"core": {"mu_r": mu_r}}, hand={"fringing": "none"})
     lims = design_margins(case)
     # Source: exact solution of the ideal gapped core with finite mu_r
-    # (REFERENCES.md section 2): L = mu0 N^2 A / (l_g + l_c/mu_r), with
+    # (docs/references.md section 2): L = mu0 N^2 A / (l_g + l_c/mu_r), with
     # A = 12 mm x 20 mm and l_c = mean path 2 (48 + 58) mm less the gap.
     l_c = 2 * (0.048 + 0.058) - g
     L = mu_0 * N ** 2 * 0.012 * 0.020 / (g + l_c / mu_r)

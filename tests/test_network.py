@@ -59,7 +59,7 @@ def ei_mmf(b_centre, material=SISTEEL):
     """Scalar EI loop equation N I(B_c) = H(B_c) l_c + B_c l_g/mu0 + H(B_c A_c/(2 A_o)) l_o.
 
     Source: Ampere's law around centre limb + one outer limb, with each outer limb carrying half the
-    centre flux by symmetry (REFERENCES.md 2, ideal gapped core generalised [derived]).
+    centre flux by symmetry (docs/references.md section 2, ideal gapped core generalised [derived]).
     """
     h = material.h_of_b
     return float(h(b_centre)) * LC + b_centre * LG / mu_0 + float(h(b_centre * AC / (2 * AO))) * LO
@@ -76,7 +76,7 @@ KNEE_CURRENT = ei_mmf(KNEE_B) / NT
 def test_ideal_gapped_core_finite_mu_r(current):
     mu_r, l_c, l_g, n = 2000.0, 0.3, 1e-3, 100
     res = solve_network(gapped_core(LinearMaterial(mu_r), current)).raise_if_failed()
-    # Source: exact solution B = mu0 N I/(l_g + l_c/mu_r) (REFERENCES.md 2); tolerance 1e-9 per brief,
+    # Source: exact solution B = mu0 N I/(l_g + l_c/mu_r) (docs/references.md section 2); tolerance 1e-9 per brief,
     # solver stops at relative residual 1e-10
     b_ref = mu_0 * n * current / (l_g + l_c / mu_r)
     assert res.branch("core").B == pytest.approx(b_ref, rel=1e-9)
@@ -87,7 +87,7 @@ def test_ideal_gapped_core_finite_mu_r(current):
 def test_ideal_gapped_core_infinite_mu_r_limit():
     l_g, area, n, current = 1e-3, 1e-4, 100, 2.0
     res = solve_network(gapped_core(LinearMaterial(1e12), current)).raise_if_failed()
-    # Source: exact solution for mu_r -> infinity: B_g = mu0 N I/l_g, L = mu0 N^2 A/l_g (REFERENCES.md 2);
+    # Source: exact solution for mu_r -> infinity: B_g = mu0 N I/l_g, L = mu0 N^2 A/l_g (docs/references.md section 2);
     # tolerance 1e-9: the neglected l_c/mu_r = 3e-13 m is 3e-10 of l_g
     assert res.branch("gap").B == pytest.approx(mu_0 * n * current / l_g, rel=1e-9)
     assert res.inductance["w"] == pytest.approx(mu_0 * n**2 * area / l_g, rel=1e-9)
@@ -97,9 +97,9 @@ def test_ideal_gapped_core_infinite_mu_r_limit():
 def test_linear_energy_and_incremental_equals_secant():
     res = solve_network(gapped_core(LinearMaterial(1500.0), 4.0)).raise_if_failed()
     lsec = res.inductance["w"]
-    # Source: linear circuit, incremental = secant inductance (REFERENCES.md 5); tolerance: residual 1e-10
+    # Source: linear circuit, incremental = secant inductance (docs/references.md section 5); tolerance: residual 1e-10
     assert res.incremental_inductance["w"] == pytest.approx(lsec, rel=1e-9)
-    # Source: W = L I^2/2 for a linear inductor (REFERENCES.md 5); W = W' when linear
+    # Source: W = L I^2/2 for a linear inductor (docs/references.md section 5); W = W' when linear
     assert res.energy == pytest.approx(0.5 * lsec * 4.0**2, rel=1e-9)
     assert res.coenergy == pytest.approx(res.energy, rel=1e-9)
 
@@ -139,7 +139,7 @@ def test_nonlinear_thin_core_against_scalar_root(current):
         warnings.simplefilter("ignore", BHRangeWarning)
         res = solve_network(gapped_core(SISTEEL, current)).raise_if_failed()
 
-    # Source: N I = H(B) l_c + B l_g/mu0 (REFERENCES.md 2, nonlinear thin core), root by scipy brentq
+    # Source: N I = H(B) l_c + B l_g/mu0 (docs/references.md section 2, nonlinear thin core), root by scipy brentq
     def loop(b):
         return float(SISTEEL.h_of_b(b)) * l_c + b * l_g / mu_0 - n * current
 
@@ -169,7 +169,7 @@ def test_nonlinear_energy_coenergy_legendre(factor):
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", BHRangeWarning)
         res = solve_network(ei_core(current)).raise_if_failed()
-    # Source: Legendre identity W + W' = lambda I (REFERENCES.md 5; Tellegen over the branches) [derived];
+    # Source: Legendre identity W + W' = lambda I (docs/references.md section 5; Tellegen over the branches) [derived];
     # tolerance: residual 1e-10
     assert res.energy + res.coenergy == pytest.approx(res.flux_linkage["w"] * current, rel=1e-9)
     assert res.energy != pytest.approx(res.coenergy, rel=1e-3)  # nonlinear: W differs from W'
@@ -239,7 +239,7 @@ def test_initial_flux_guess_from_a_solution_converges_at_once():
 def test_worked_example_a():
     l_c, l_g, area, mu_r, n = 0.40, 0.05e-2, 12e-4, 4000.0, 400
     gap_area = 1.05 * area
-    # Source: REFERENCES.md 4 (a), i = 0.602 A [derived from the data; data from memory]; recomputed here:
+    # Source: docs/references.md section 4 (a), i = 0.602 A [derived from the data; data from memory]; recomputed here:
     # flux = B_gap A_gap, core H = flux/(A mu0 mu_r), N i = H_c l_c + B_gap l_g/mu0
     b_gap = 0.5
     flux = b_gap * gap_area
@@ -257,7 +257,7 @@ def test_worked_example_a():
 
 def test_worked_example_b():
     area, l_g, l_c, n, mu_r, b = 9e-4, 0.05e-2, 0.30, 500, 70000.0, 1.0
-    # Source: REFERENCES.md 4 (b), i = 0.80 A [derived; data from memory]; recomputed: N i = B (l_c/mu_r + l_g)/mu0
+    # Source: docs/references.md section 4 (b), i = 0.80 A [derived; data from memory]; recomputed: N i = B (l_c/mu_r + l_g)/mu0
     i_ref = b * (l_c / mu_r + l_g) / mu_0 / n
     assert round(i_ref, 2) == 0.80
     res = solve_network(
@@ -352,7 +352,7 @@ def test_bad_solver_options():
     assert math.isfinite(solve_network(net).energy)
     # The default options solve it: the energy against the scalar loop
     # equation N I = H(B) l_c + B l_g/mu0 (Ampere's law on the single loop,
-    # REFERENCES.md section 2, nonlinear thin core) and W = A l_c int_0^B H db
+    # docs/references.md section 2, nonlinear thin core) and W = A l_c int_0^B H db
     # + (B A)^2 l_g/(2 mu0 A). Tolerances: brentq to 1e-14 T and quad to 1e-12
     # relative; the network's Newton stops at 1e-10 relative residual, and W is
     # stationary at the solution, so 1e-8 holds with room.

@@ -75,7 +75,7 @@ def test_path_h_axis_is_linear_within_a_decade(report):
 def test_flux_lines_count_the_flux_between_them(report):
     # Equal-flux contours: the number of lines crossing a segment is the flux
     # through it over the flux per line (planar model: flux = d (A2 - A1),
-    # REFERENCES.md section 5), to one line.
+    # docs/references.md section 5), to one line.
     import numpy as np
     from matplotlib.colors import LogNorm
 

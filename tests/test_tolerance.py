@@ -163,7 +163,7 @@ def linear_tolerance_source(tmp_path):
 
 
 def closed_form_inductance(gap: float) -> float:
-    # Source: ideal gapped core with finite mu_r (REFERENCES.md section 2):
+    # Source: ideal gapped core with finite mu_r (docs/references.md section 2):
     # L = N^2 / (l_g/(mu0 A) + l_c/(mu0 mu_r A)); window 60 x 70 mm, 12 mm
     # limbs: mean path 2 (48 + 58) mm, A = 12 mm x 20 mm, N = 80.
     from scipy.constants import mu_0
