@@ -339,7 +339,8 @@ def curves(res: SweepResult) -> list[tuple[dict, list[PointResult]]]:
 
 
 def sweep_rows(res: SweepResult) -> list[dict]:
-    """One flat dict per point (CSV/JSON rows): settings, hand, hand planar, FE."""
+    """One flat dict per point (CSV/JSON rows): settings, hand, hand planar,
+    the depth model, FE (and the FE 3D inductance, as ``magcheck check``)."""
     rows = []
     for p in res.points:
         r: dict[str, Any] = {"index": p.index, **p.settings}
@@ -350,8 +351,14 @@ def sweep_rows(res: SweepResult) -> list[dict]:
         r.update({f"hand_planar_{k}": p.hand_planar.get(k, math.nan)
                   for k in (*HAND_KEYS, *forces)})
         r["hand_planar_peak_B"] = p.hand_peak_B
+        # the FE 3D column's depth model (compare.check.choose_depth_model):
+        # basis "FE" = ranked against this point's planar FE, "case" = the
+        # case's own model (no FE value at the point)
+        r["depth_model"] = p.depth_model
+        r["depth_basis"] = p.depth_basis
         if res.with_fe:
             r.update({f"fe_{k}": p.fe.get(k, math.nan) for k in HAND_KEYS})
+            r["fe_3d_inductance"] = p.fe.get("inductance", math.nan) * _fe_3d(p, "inductance")
             r.update({f"fe_{k}": p.fe.get(k, math.nan)
                       for k in ("force_maxwell", "force_virtual_work") if forces})
             r["fe_peak_B"] = p.fe_peak_B
