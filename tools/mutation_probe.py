@@ -572,6 +572,18 @@ MUTATIONS: tuple[Mutation, ...] = (
       'if last in ("frequency",):  # a voltage-driven winding\'s drive (rms V, Hz)',
       "a swept supply voltage read as a length",
       ("tests/test_new_user.py",)),
+    # ---------------------------------------------------------------- compare: one depth-model rule
+    M("sweep-depth-own-model", "compare/sweep.py",
+      "base.update(_depth(choose_depth_model(case, q.values, own=(hp, h3))))",
+      "base.update(_depth(choose_depth_model(case, own=(hp, h3))))",
+      "a sweep point's FE 3D column back to the case's own fringing model's ratio",
+      ("tests/test_sweep.py::test_sweep_fe_3d_inductance_equals_check",)),
+    M("depth-rank-worst", "compare/check.py",
+      'chosen = _rank_order(entries)[0]["model"]',
+      'chosen = _rank_order(entries)[-1]["model"]',
+      "the depth model ranked last against the point's FE is chosen",
+      ("tests/test_sweep.py::test_sweep_fe_3d_inductance_equals_check",
+       "tests/test_tolerance.py")),
 )
 
 
