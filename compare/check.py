@@ -526,12 +526,15 @@ def leakage_row(case: Case, leakage: dict) -> Row:
                _verdict(d, h, f, math.nan, lim), hand_3d=h, fe_3d=f)
 
 
-def drive_rows(case: Case, drive: Any) -> list[Row]:
+def drive_rows(case: Case, drive: Any, depth: DepthCorrection | None = None) -> list[Row]:
     """A voltage-driven winding: the peak flux density, the magnetizing
     current (peak, rms), the magnetizing inductance the fundamental sees
     (lambda_pk over the fundamental's amplitude), hand (planar form) against
     FE with the first-order FE uncertainty (compare.drive), the FE 3D
-    column by the hand's own 3D / planar ratio; the 3rd, 5th and 7th
+    column by the hand's 3D / planar ratio under ``depth``'s model (the
+    model ranked against the planar FE at the case's operating point,
+    :func:`choose_depth_model`, as every other FE 3D value; the case's own
+    model without ``depth``: compare.drive.hand_depth_ratios); the 3rd, 5th and 7th
     harmonics (info); with ``residual_flux`` the inrush estimate's first
     current peak (info unless ``[margins.agreement] inrush_current_peak``
     sets a limit: the hand network has no air flux beside the saturated
@@ -539,11 +542,17 @@ def drive_rows(case: Case, drive: Any) -> list[Row]:
     ``magnetizing_current_peak``, ``magnetizing_current_rms`` and
     ``inrush_current_peak`` (maxima, judged on the FE's 3D value)."""
     hv, h3, fv = drive.values("hand"), drive.values("hand_3d"), drive.values("fe")
+    ratios: dict[str, float] = {}
+    if depth is not None and depth.model and depth.model != case.hand.fringing:
+        from .drive import hand_depth_ratios
+
+        ratios = hand_depth_ratios(case, depth.model)
     out = []
     for k in ("B_peak", "B_limb_peak", "magnetizing_current_peak", "magnetizing_current_rms",
               "magnetizing_inductance"):
         unit = {"B_peak": "T", "B_limb_peak": "T", "magnetizing_inductance": "H"}.get(k, "A")
         ratio = h3[k] / hv[k] if k not in ("B_peak", "B_limb_peak") and hv[k] else 1.0
+        ratio = ratios.get(k, ratio)
         d = _diff_pct(hv[k], fv[k])
         lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
         u = drive.uncertainty.get(k, math.nan)
@@ -1081,7 +1090,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
         from .drive import run_drive
 
         drive = run_drive(case, fe)
-        rows = rows + tuple(drive_rows(case, drive))
+        rows = rows + tuple(drive_rows(case, drive, depth))
     leakage = leakage_values(case, fe)
     if leakage:
         rows = rows + (leakage_row(case, leakage),)
