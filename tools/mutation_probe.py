@@ -584,6 +584,10 @@ MUTATIONS: tuple[Mutation, ...] = (
       "the depth model ranked last against the point's FE is chosen",
       ("tests/test_sweep.py::test_sweep_fe_3d_inductance_equals_check",
        "tests/test_tolerance.py")),
+    M("drive-depth-own-model", "compare/check.py",
+      "ratio = ratios.get(k, ratio)", "ratio = ratios.get(k + '?', ratio)",
+      "the drive rows' FE 3D column back to the case's own fringing model's ratio",
+      ("tests/test_drive.py::test_drive_rows_fe_3d_under_the_checks_depth_model",)),
 )
 
 
