@@ -266,7 +266,8 @@ def depth_corrections(hand_p: HandResult | dict, hand_3d: HandResult | dict) -> 
 def fe_3d_factor(case: Case, key: str = "inductance", fringing: str | None = None) -> float:
     """`depth_corrections` of one quantity at the case's own operating point
     (solves the hand network in both forms) under the fringing model
-    ``fringing`` (default: the case's)."""
+    ``fringing`` (default: the case's).  The FE 3D column itself takes the
+    model :func:`choose_depth_model` picks."""
     return depth_corrections(run_hand(case, fringing=fringing, planar=True),
                              run_hand(case, fringing=fringing))[key]
 
@@ -345,7 +346,8 @@ class DepthChoice:
     ``model``: a name of :data:`DEPTH_MODELS` (or the case's own model);
     ``basis``: "FE" when ranked against that point's planar FE values (as
     ``magcheck check`` ranks), "case" when no FE value exists there and the
-    case's own fringing model is kept.  ``hand_planar``, ``hand_3d``: that
+    case's own fringing model is kept, "r-z" for an axisymmetric case (its
+    field solution is 3D: the case's model, ratio 1).  ``hand_planar``, ``hand_3d``: that
     model's hand solves at the point; :meth:`factor` their 3D / planar ratio
     (:func:`depth_corrections`; force keys as the check's force rows)."""
 
@@ -397,9 +399,13 @@ def choose_depth_model(case: Case, fe_values: dict | None = None, *,
             planar[m] = run_hand(case, fringing=m, planar=True, flux0=start[0])
         return planar[m]
 
+    from .coremodel import core_model
+
     ranked = [d["model"] for d in ranking if d["model"] in DEPTH_MODELS]
     basis = "FE"
-    if ranked:
+    if core_model(case).axisymmetric:  # the field solution holds all the fringing: nothing
+        chosen, basis = own_name, "r-z"  # to choose (the two hand forms are the same)
+    elif ranked:
         chosen = ranked[0]
     elif fe_values and any(math.isfinite(fe_values.get(k, math.nan)) for k in RANK_KEYS):
         entries = [{"model": m, "rms_difference_pct": _rank_rms(hand_p(m).values(), fe_values)[0]}
@@ -757,8 +763,9 @@ def margin_rows(case: Case, fe: FEResult, hand_p: HandResult | None = None,
     """Rows for the design margins other than peak B (see compare.margins).
 
     Inductance at a stated current and the minimum force are judged on the
-    FE value with the depth correction (the "FE 3D" column, ``depth``'s
-    model), the inductance solved on the FE result's mesh at that current;
+    FE value with the depth correction (the "FE 3D" column: the force with
+    ``depth``'s model, the inductance with the model ranked against the FE
+    at that current, :func:`choose_depth_model`), the inductance solved on the FE result's mesh at that current;
     saturation current on the 3D hand model's L(I) (a field solution needs
     a sweep: ``magcheck sweep`` or a declared ``[sweep]`` under ``magcheck
     verify``).
