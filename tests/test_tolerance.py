@@ -320,3 +320,41 @@ def test_fe_samples_judge_force_and_demagnetisation_on_the_field_solution(tmp_pa
     assert m["demagnetisation"].value == pytest.approx(-q.magnet_values["magnet_H_min"], rel=1e-6)
     h = {r.key: r for r in hand_sample.margins}
     assert h["force_min"].basis == "hand" and h["demagnetisation"].verdict == "n/a"
+
+
+def test_fe_sample_margin_at_another_current_ranks_the_depth_model_there(tmp_path, monkeypatch):
+    """An FE sample's inductance margin at a current other than the case's
+    is judged on the FE 3D value with the depth model ranked against the FE
+    at that current (compare.check.choose_depth_model), as `magcheck check`
+    and the sweep do.  Stand-in FE: the "flux-tube" model's planar hand
+    values, so the ranking picks it over the case's "area" model."""
+    import types
+
+    from compare import fe as fe_mod
+    from compare.hand import run_hand
+    from compare.margins import with_current
+
+    text = MARGINS.read_text().replace('at = "6 A"', 'at = "3 A"')
+    p = tmp_path / "m.toml"
+    p.write_text(text)
+    src = case_source(p)[0]
+
+    def solve_case(case, mesh, **kw):
+        vals = dict(run_hand(case, fringing="flux-tube", planar=True).values())
+        return types.SimpleNamespace(values=vals, peak_B=1.0, force_values={},
+                                     magnet_values={}), None, None
+
+    monkeypatch.setattr(fe_mod, "mesh_case", lambda case, **kw: None)
+    monkeypatch.setattr(fe_mod, "solve_case", solve_case)
+    res = run_tolerance(src, samples=1, seed=3, fe_samples=1, workers=1)
+    s0 = res.samples[0]
+    (m,) = [m for m in s0.margins if m.key.startswith("inductance") and m.kind == "min"]
+    at = with_current(make_case(src, s0.settings), 3.0)
+    assert at.hand.fringing == "area"
+    fe_l = run_hand(at, fringing="flux-tube", planar=True).inductance
+    depth = choose_depth_model(at, solve_case(at, None)[0].values)
+    assert depth.model == "flux-tube"
+    # the same hand solves as the sample's: to Newton's tolerance
+    assert m.value == pytest.approx(fe_l * depth.factor("inductance"), rel=1e-9)
+    own = run_hand(at).inductance / run_hand(at, planar=True).inductance
+    assert abs(depth.factor("inductance") / own - 1) > 1e-3  # what the test tells apart
