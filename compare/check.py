@@ -266,7 +266,8 @@ def depth_corrections(hand_p: HandResult | dict, hand_3d: HandResult | dict) -> 
 def fe_3d_factor(case: Case, key: str = "inductance", fringing: str | None = None) -> float:
     """`depth_corrections` of one quantity at the case's own operating point
     (solves the hand network in both forms) under the fringing model
-    ``fringing`` (default: the case's)."""
+    ``fringing`` (default: the case's).  The FE 3D column itself takes the
+    model :func:`choose_depth_model` picks."""
     return depth_corrections(run_hand(case, fringing=fringing, planar=True),
                              run_hand(case, fringing=fringing))[key]
 
@@ -319,6 +320,106 @@ def _all_ratios(hp: HandResult, h3: HandResult) -> dict[str, float]:
     return out
 
 
+RANK_KEYS = ("gap_B", "flux", "inductance")
+"""The planar values a fringing model is ranked on against the planar FE
+(:func:`rank_fringing`, :func:`choose_depth_model`)."""
+
+
+def _rank_rms(hand_values: dict, fe_values: dict) -> tuple[float, dict[str, float]]:
+    """RMS of the percent differences of :data:`RANK_KEYS`, hand against FE
+    (NaN when none is finite), and the differences."""
+    diffs = {k: _diff_pct(hand_values[k], fe_values.get(k, math.nan)) for k in RANK_KEYS}
+    finite = [d for d in diffs.values() if math.isfinite(d)]
+    return (math.sqrt(sum(d * d for d in finite) / len(finite)) if finite else math.nan), diffs
+
+
+def _rank_order(entries: list[dict]) -> list[dict]:
+    """Best first by ``rms_difference_pct`` (NaN last; ties keep their order)."""
+    return sorted(entries, key=lambda d: (not math.isfinite(d["rms_difference_pct"]),
+                                          d["rms_difference_pct"]))
+
+
+@dataclass(frozen=True)
+class DepthChoice:
+    """The depth model chosen for one operating point, and its hand pair.
+
+    ``model``: a name of :data:`DEPTH_MODELS` (or the case's own model);
+    ``basis``: "FE" when ranked against that point's planar FE values (as
+    ``magcheck check`` ranks), "case" when no FE value exists there and the
+    case's own fringing model is kept, "r-z" for an axisymmetric case (its
+    field solution is 3D: the case's model, ratio 1).  ``hand_planar``, ``hand_3d``: that
+    model's hand solves at the point; :meth:`factor` their 3D / planar ratio
+    (:func:`depth_corrections`; force keys as the check's force rows)."""
+
+    model: str
+    basis: str
+    hand_planar: HandResult
+    hand_3d: HandResult
+
+    @property
+    def factors(self) -> dict[str, float]:
+        return _all_ratios(self.hand_planar, self.hand_3d)
+
+    def factor(self, key: str) -> float:
+        return self.factors.get(key, 1.0)
+
+
+def choose_depth_model(case: Case, fe_values: dict | None = None, *,
+                       ranking: tuple[dict, ...] = (),
+                       own: tuple[HandResult, HandResult] | None = None) -> DepthChoice:
+    """The one rule that picks the FE 3D column's depth model at a point.
+
+    With ``ranking`` (best first, as :func:`rank_fringing`): its best
+    :data:`DEPTH_MODELS` entry.  Else with planar FE values ``fe_values``
+    holding :data:`RANK_KEYS`: each depth model's planar hand solve at the
+    point ranked against them as :func:`rank_fringing` ranks (RMS of the
+    percent differences), the best taken.  Else (a hand-only point) the
+    case's own model, ``basis`` "case" (as the hand column; "none" gives
+    no depth correction).  Used by
+    ``magcheck check`` (:func:`depth_correction`), the sweep, the tolerance
+    study and the margins, so that one margin is judged on one number.
+
+    ``own``: the case's (planar, 3D) hand results at the point when already
+    solved; reused when the case's model is chosen.  Cost: one planar hand
+    solve per depth model not the case's, and one 3D solve when the chosen
+    model is not the case's."""
+    own_name = case.hand.fringing
+    planar: dict[str, HandResult] = {}
+    # the other models start Newton from the case's model's branch fluxes
+    # (same network, other gap permeances: about half the time of a cold
+    # start; each converges to its own tolerance whatever the start)
+    start: tuple[Any, Any] = (None, None)
+    if own is not None:
+        planar[own_name] = own[0]
+        start = tuple({b.name: b.flux for b in h.network.branches}  # type: ignore[assignment]
+                      for h in own)
+
+    def hand_p(m: str) -> HandResult:
+        if m not in planar:
+            planar[m] = run_hand(case, fringing=m, planar=True, flux0=start[0])
+        return planar[m]
+
+    from .coremodel import core_model
+
+    ranked = [d["model"] for d in ranking if d["model"] in DEPTH_MODELS]
+    basis = "FE"
+    if core_model(case).axisymmetric:  # the field solution holds all the fringing: nothing
+        chosen, basis = own_name, "r-z"  # to choose (the two hand forms are the same)
+    elif ranked:
+        chosen = ranked[0]
+    elif fe_values and any(math.isfinite(fe_values.get(k, math.nan)) for k in RANK_KEYS):
+        entries = [{"model": m, "rms_difference_pct": _rank_rms(hand_p(m).values(), fe_values)[0]}
+                   for m in DEPTH_MODELS]
+        chosen = _rank_order(entries)[0]["model"]
+    else:
+        chosen, basis = own_name, "case"
+    if own is not None and chosen == own_name:
+        h3 = own[1]
+    else:
+        h3 = run_hand(case, fringing=chosen, flux0=start[1])
+    return DepthChoice(chosen, basis, hand_p(chosen), h3)
+
+
 def depth_correction(case: Case, ranking: tuple[dict, ...] = ()) -> DepthCorrection:
     """The FE 3D column's correction: the best-ranked depth model's hand 3D
     / planar ratios (``ranking`` best first, as :func:`rank_fringing`; without
@@ -334,11 +435,11 @@ def depth_correction(case: Case, ranking: tuple[dict, ...] = ()) -> DepthCorrect
 
     if core_model(case).axisymmetric:
         return DepthCorrection(None, {}, {})
-    ranked = [d["model"] for d in ranking if d["model"] in DEPTH_MODELS]
-    own = case.hand.fringing
-    chosen = ranked[0] if ranked else (own if own in DEPTH_MODELS else DEPTH_MODELS[0])
     pairs = {m: (run_hand(case, fringing=m, planar=True), run_hand(case, fringing=m))
              for m in DEPTH_MODELS}
+    chosen = choose_depth_model(case, ranking=ranking, own=pairs.get(case.hand.fringing)).model
+    if chosen not in DEPTH_MODELS:  # "none" has no depth fringing: the first model stands in
+        chosen = DEPTH_MODELS[0]
     ratios = {m: _all_ratios(*pairs[m]) for m in DEPTH_MODELS}
     keys = set().union(*(r.keys() for r in ratios.values()))
     spread = {}
@@ -431,12 +532,15 @@ def leakage_row(case: Case, leakage: dict) -> Row:
                _verdict(d, h, f, math.nan, lim), hand_3d=h, fe_3d=f)
 
 
-def drive_rows(case: Case, drive: Any) -> list[Row]:
+def drive_rows(case: Case, drive: Any, depth: DepthCorrection | None = None) -> list[Row]:
     """A voltage-driven winding: the peak flux density, the magnetizing
     current (peak, rms), the magnetizing inductance the fundamental sees
     (lambda_pk over the fundamental's amplitude), hand (planar form) against
     FE with the first-order FE uncertainty (compare.drive), the FE 3D
-    column by the hand's own 3D / planar ratio; the 3rd, 5th and 7th
+    column by the hand's 3D / planar ratio under ``depth``'s model (the
+    model ranked against the planar FE at the case's operating point,
+    :func:`choose_depth_model`, as every other FE 3D value; the case's own
+    model without ``depth``: compare.drive.hand_depth_ratios); the 3rd, 5th and 7th
     harmonics (info); with ``residual_flux`` the inrush estimate's first
     current peak (info unless ``[margins.agreement] inrush_current_peak``
     sets a limit: the hand network has no air flux beside the saturated
@@ -444,11 +548,17 @@ def drive_rows(case: Case, drive: Any) -> list[Row]:
     ``magnetizing_current_peak``, ``magnetizing_current_rms`` and
     ``inrush_current_peak`` (maxima, judged on the FE's 3D value)."""
     hv, h3, fv = drive.values("hand"), drive.values("hand_3d"), drive.values("fe")
+    ratios: dict[str, float] = {}
+    if depth is not None and depth.model and depth.model != case.hand.fringing:
+        from .drive import hand_depth_ratios
+
+        ratios = hand_depth_ratios(case, depth.model)
     out = []
     for k in ("B_peak", "B_limb_peak", "magnetizing_current_peak", "magnetizing_current_rms",
               "magnetizing_inductance"):
         unit = {"B_peak": "T", "B_limb_peak": "T", "magnetizing_inductance": "H"}.get(k, "A")
         ratio = h3[k] / hv[k] if k not in ("B_peak", "B_limb_peak") and hv[k] else 1.0
+        ratio = ratios.get(k, ratio)
         d = _diff_pct(hv[k], fv[k])
         lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
         u = drive.uncertainty.get(k, math.nan)
@@ -653,8 +763,9 @@ def margin_rows(case: Case, fe: FEResult, hand_p: HandResult | None = None,
     """Rows for the design margins other than peak B (see compare.margins).
 
     Inductance at a stated current and the minimum force are judged on the
-    FE value with the depth correction (the "FE 3D" column, ``depth``'s
-    model), the inductance solved on the FE result's mesh at that current;
+    FE value with the depth correction (the "FE 3D" column: the force with
+    ``depth``'s model, the inductance with the model ranked against the FE
+    at that current, :func:`choose_depth_model`), the inductance solved on the FE result's mesh at that current;
     saturation current on the 3D hand model's L(I) (a field solution needs
     a sweep: ``magcheck sweep`` or a declared ``[sweep]`` under ``magcheck
     verify``).
@@ -686,8 +797,11 @@ def margin_rows(case: Case, fe: FEResult, hand_p: HandResult | None = None,
         key = "inductance" if kind == "secant" else "incremental_inductance"
         f = inductance_of(cache[current], kind)
         if depth is None:
-            return f * fe_3d_factor(at, key)
-        d_at = depth_correction(at, ({"model": model},) if model else ())
+            return f * choose_depth_model(at, cache[current]).factor(key)
+        # the depth model ranked against the FE at this current (the rule of
+        # the sweep and the tolerance study: choose_depth_model)
+        ranked = ({"model": choose_depth_model(at, cache[current]).model},) if model else ()
+        d_at = depth_correction(at, ranked)
         rel = fe.uncertainty.get(key, math.nan) / abs(fe.values[key]) if fe.values[key] else 0.0
         bands[f"inductance_{kind}@{current:g}A"] = d_at.uncertainty(key, f, rel * f)
         return f * d_at.factor(key)
@@ -954,14 +1068,10 @@ def rank_fringing(case: Case, fe: FEResult) -> tuple[dict, ...]:
     out: list[dict[str, Any]] = []
     for name in FRINGING_MODELS:
         h = run_hand(case, fringing=name, planar=True)
-        diffs = {k: _diff_pct(h.values()[k], fe.values[k])
-                 for k in ("gap_B", "flux", "inductance")}
-        finite = [d for d in diffs.values() if math.isfinite(d)]
-        rms = math.sqrt(sum(d * d for d in finite) / len(finite)) if finite else math.nan
+        rms, diffs = _rank_rms(h.values(), fe.values)
         out.append({"model": name, "title": get_fringing(name).title, "rms_difference_pct": rms,
                     **{f"{k}_difference_pct": v for k, v in diffs.items()}})
-    out.sort(key=lambda d: (not math.isfinite(d["rms_difference_pct"]), d["rms_difference_pct"]))
-    return tuple(out)
+    return tuple(_rank_order(out))
 
 
 def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = True) -> CheckResult:
@@ -987,7 +1097,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
         from .drive import run_drive
 
         drive = run_drive(case, fe)
-        rows = rows + tuple(drive_rows(case, drive))
+        rows = rows + tuple(drive_rows(case, drive, depth))
     leakage = leakage_values(case, fe)
     if leakage:
         rows = rows + (leakage_row(case, leakage),)

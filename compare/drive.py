@@ -74,34 +74,37 @@ DRIVE_KEYS = ("B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
               "magnetizing_inductance", "B_limb_peak")
 
 
-def _lambda(case: Any, current: float, planar: bool) -> float:
+def _lambda(case: Any, current: float, planar: bool, fringing: str | None = None) -> float:
     from .hand import run_hand
     from .margins import with_current
 
-    return abs(run_hand(with_current(case, current), planar=planar).flux_linkage)
+    return abs(run_hand(with_current(case, current), planar=planar,
+                        fringing=fringing).flux_linkage)
 
 
-def hand_peak_current(case: Any, planar: bool = False) -> float:
+def hand_peak_current(case: Any, planar: bool = False, fringing: str | None = None) -> float:
     """The current (A) at which the hand network's flux linkage of the
-    driven winding is lambda_pk."""
+    driven winding is lambda_pk (``fringing``: a fringing model other than
+    the case's)."""
     w = case.winding
-    return hand_current_at(case, peak_flux_linkage(w.voltage, w.frequency), planar)
+    return hand_current_at(case, peak_flux_linkage(w.voltage, w.frequency), planar, fringing)
 
 
-def hand_current_at(case: Any, linkage: float, planar: bool = False) -> float:
+def hand_current_at(case: Any, linkage: float, planar: bool = False,
+                    fringing: str | None = None) -> float:
     """The current (A) at which the hand network's flux linkage of the
     driven winding is ``linkage`` (Wb-turns; bracketed by doubling, then
     brentq to 1e-10)."""
     hi = 1e-3
     for _ in range(80):
-        if _lambda(case, hi, planar) >= linkage:
+        if _lambda(case, hi, planar, fringing) >= linkage:
             break
         hi *= 2.0
     else:  # pragma: no cover - a core that never reaches it by 1e21 A
         raise RunError(f"the hand model's flux linkage does not reach {linkage:.6g} Wb-turns "
                        "at any current")
-    return float(brentq(lambda i: _lambda(case, i, planar) - linkage, 0.0, hi, xtol=1e-12 * hi,
-                        rtol=1e-10))
+    return float(brentq(lambda i: _lambda(case, i, planar, fringing) - linkage, 0.0, hi,
+                        xtol=1e-12 * hi, rtol=1e-10))
 
 
 def resolve_drive(case: Any) -> Any:
@@ -113,11 +116,34 @@ def resolve_drive(case: Any) -> Any:
     return dataclasses.replace(case, winding=dataclasses.replace(case.winding, current=i_pk))
 
 
-def hand_curve(case: Any, planar: bool, i_top: float) -> tuple[np.ndarray, np.ndarray]:
+def hand_curve(case: Any, planar: bool, i_top: float,
+               fringing: str | None = None) -> tuple[np.ndarray, np.ndarray]:
     """The hand lambda-i curve from 0 to ``i_top`` (A), HAND_POINTS + 1 points
     (the flux linkage's magnitude)."""
     i = np.linspace(0.0, i_top, HAND_POINTS + 1)
-    return i, np.array([_lambda(case, x, planar) if x > 0 else 0.0 for x in i])
+    return i, np.array([_lambda(case, x, planar, fringing) if x > 0 else 0.0 for x in i])
+
+
+def hand_depth_ratios(case: Any, fringing: str | None = None) -> dict[str, float]:
+    """The FE 3D column's factor of each DRIVE_KEYS value: the hand
+    network's 3D over planar value under the fringing model ``fringing``
+    (default the case's; magcheck check passes its chosen depth model,
+    compare.check.choose_depth_model), each from that model's own lambda-i
+    curves as :func:`run_drive` makes them.  The peak flux densities keep
+    1 (the EMF equation's B does not depend on the gaps)."""
+    w = case.winding
+    lam_pk = peak_flux_linkage(w.voltage, w.frequency)
+    m = {}
+    for planar in (True, False):
+        i_top = 1.02 * hand_peak_current(case, planar, fringing)
+        m[planar] = magnetizing_current(*hand_curve(case, planar, i_top, fringing), lam_pk,
+                                        w.frequency)
+    out = {"B_peak": 1.0, "B_limb_peak": 1.0}
+    for k, attr in (("magnetizing_current_peak", "peak"), ("magnetizing_current_rms", "rms"),
+                    ("magnetizing_inductance", "inductance")):
+        a, b = getattr(m[True], attr), getattr(m[False], attr)
+        out[k] = b / a if a else 1.0
+    return out
 
 
 @dataclass(frozen=True)

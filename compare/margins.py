@@ -339,8 +339,13 @@ def _force_limit_results(lim: Any, value: float, hand: float, basis: str, note: 
 
 def _force_3d(p: Any) -> float:
     """A sweep point's depth correction of the FE force, as ``magcheck
-    check`` applies it: the hand network's 3D force over its planar one (1
-    for an r-z case, whose two hand forms are the same)."""
+    check`` applies it: the hand network's 3D force over its planar one
+    under the point's depth model (``depth_factors``, compare.check.
+    choose_depth_model; else the case's model; 1 for an r-z case, whose two
+    hand forms are the same)."""
+    factors = getattr(p, "depth_factors", None) or {}
+    if "force" in factors:
+        return factors["force"]
     h3, hp = p.hand.get("force", math.nan), p.hand_planar.get("force", math.nan)
     return h3 / hp if hp and math.isfinite(hp) and math.isfinite(h3) else 1.0
 

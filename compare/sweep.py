@@ -70,7 +70,12 @@ class PointResult:
     fe_peak_B : the FE's peak core B (|B| exceeded on 0.5 % of the core area).
     start : Newton start used ("cold", "previous", "secant", "tangent").
     depth_factor : the secant inductance's FE 3D correction, hand 3D L / hand planar L
-        (compare.check.depth_corrections).
+        (compare.check.depth_corrections) under the point's ``depth_model``.
+    depth_model : the fringing model whose hand 3D / planar ratio makes the FE 3D
+        values (compare.check.choose_depth_model, the rule of ``magcheck check``):
+        ranked against the point's planar FE; the case's own model at a point
+        without FE values (``depth_basis`` "case" instead of "FE").
+    depth_factors : that model's ratio per key (hand keys and force keys).
     first_residual : Newton's relative residual at its start (1 for a cold start):
         how good the prediction was.
     """
@@ -91,6 +96,9 @@ class PointResult:
     ndofs: int = 0
     depth_factor: float = 1.0
     first_residual: float = math.nan
+    depth_model: str = ""
+    depth_basis: str = ""
+    depth_factors: dict[str, float] = field(default_factory=dict)
 
     def to_dict(self) -> dict:
         return dataclasses.asdict(self)
@@ -160,7 +168,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
     """
     from threadpoolctl import threadpool_limits
 
-    from .check import depth_corrections
+    from .check import choose_depth_model
     from .fe import _with_virtual_work, mesh_case, solve_case_full
 
     mesh = None
@@ -190,7 +198,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
         base: dict[str, Any] = dict(index=idx, settings=settings, current=current,
                     hand=h3.values() | h3.force_values,
                     hand_planar=hp.values() | hp.force_values, hand_peak_B=_hand_peak(hp),
-                    depth_factor=depth_corrections(hp, h3)["inductance"])
+                    **_depth(choose_depth_model(case, own=(hp, h3))))
         if not task.with_fe:
             out.append(PointResult(**base))
             continue
@@ -238,6 +246,10 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
             # dA/dI from the incremental-inductance tangent solve: no extra solve.
             slope = fs.dA_dI
         q = _with_virtual_work(case, q, sol)  # a moving part: the second force method
+        try:  # the depth model ranked against this point's planar FE (as magcheck check)
+            base.update(_depth(choose_depth_model(case, q.values, own=(hp, h3))))
+        except RunError as exc:  # another model's hand solve failed: the case's model stays
+            log.info("point %d: depth-model ranking failed (%s); case's model kept", idx, exc)
         out.append(PointResult(**base, fe=dict(q.values) | q.force_values | q.magnet_values,
                                fe_peak_B=q.peak_B,
                                iterations=q.iterations, seconds=time.perf_counter() - t0,
@@ -327,7 +339,8 @@ def curves(res: SweepResult) -> list[tuple[dict, list[PointResult]]]:
 
 
 def sweep_rows(res: SweepResult) -> list[dict]:
-    """One flat dict per point (CSV/JSON rows): settings, hand, hand planar, FE."""
+    """One flat dict per point (CSV/JSON rows): settings, hand, hand planar,
+    the depth model, FE (and the FE 3D inductance, as ``magcheck check``)."""
     rows = []
     for p in res.points:
         r: dict[str, Any] = {"index": p.index, **p.settings}
@@ -338,8 +351,14 @@ def sweep_rows(res: SweepResult) -> list[dict]:
         r.update({f"hand_planar_{k}": p.hand_planar.get(k, math.nan)
                   for k in (*HAND_KEYS, *forces)})
         r["hand_planar_peak_B"] = p.hand_peak_B
+        # the FE 3D column's depth model (compare.check.choose_depth_model):
+        # basis "FE" = ranked against this point's planar FE, "case" = the
+        # case's own model (no FE value at the point)
+        r["depth_model"] = p.depth_model
+        r["depth_basis"] = p.depth_basis
         if res.with_fe:
             r.update({f"fe_{k}": p.fe.get(k, math.nan) for k in HAND_KEYS})
+            r["fe_3d_inductance"] = p.fe.get("inductance", math.nan) * _fe_3d(p, "inductance")
             r.update({f"fe_{k}": p.fe.get(k, math.nan)
                       for k in ("force_maxwell", "force_virtual_work") if forces})
             r["fe_peak_B"] = p.fe_peak_B
@@ -352,9 +371,19 @@ def sweep_rows(res: SweepResult) -> list[dict]:
     return rows
 
 
+def _depth(choice: Any) -> dict[str, Any]:
+    """A point's depth-correction fields from a compare.check.DepthChoice."""
+    factors = choice.factors
+    return dict(depth_factor=factors["inductance"], depth_model=choice.model,
+                depth_basis=choice.basis, depth_factors=factors)
+
+
 def _fe_3d(p: PointResult, key: str) -> float:
-    """The point's depth correction of ``key`` (compare.check.depth_corrections):
-    hand 3D over hand planar."""
+    """The point's depth correction of ``key``: its ``depth_model``'s hand 3D
+    over hand planar (compare.check.choose_depth_model); for a point made
+    without one, the case's own model's (compare.check.depth_corrections)."""
+    if key in p.depth_factors:
+        return p.depth_factors[key]
     from .check import depth_corrections
 
     return depth_corrections(p.hand_planar, p.hand)[key]

@@ -155,7 +155,7 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
     """Evaluate samples (runs in a worker process; failures come back as ok=False)."""
     from threadpoolctl import threadpool_limits
 
-    from .check import fe_3d_factor
+    from .check import choose_depth_model
     from .fe import mesh_case, solve_case
     from .hand import run_hand
 
@@ -172,13 +172,14 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
                 mesh = mesh_case(case)
                 with threadpool_limits(limits=1):  # one BLAS thread per worker (see sweep.run_block)
                     q, _, _ = solve_case(case, mesh)
-                fe_peak, fe_l = q.peak_B, q.values["inductance"] * fe_3d_factor(case)
+                # the depth model ranked against this sample's planar FE, as
+                # magcheck check chooses it (compare.check.choose_depth_model)
+                depth = choose_depth_model(case, q.values, own=(run_hand(case, planar=True), h))
+                fe_peak, fe_l = q.peak_B, q.values["inductance"] * depth.factor("inductance")
                 fe_h_min = q.magnet_values.get("magnet_H_min", math.nan)
                 fe_force = q.force_values.get("force", math.nan)
                 if math.isfinite(fe_force):  # the depth correction of magcheck check
-                    hp_force = run_hand(case, planar=True).force_values.get("force", math.nan)
-                    if hp_force and math.isfinite(hp_force) and math.isfinite(hand_force):
-                        fe_force *= hand_force / hp_force
+                    fe_force *= depth.factor("force")
                 cache = {case.winding.current: q.values}
 
                 def fe_at(current: float, kind: str, case=case, mesh=mesh, cache=cache) -> float:
@@ -187,7 +188,8 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
                         with threadpool_limits(limits=1):
                             cache[current] = solve_case(at, mesh)[0].values
                     key = "inductance" if kind == "secant" else "incremental_inductance"
-                    return inductance_of(cache[current], kind) * fe_3d_factor(at, key)
+                    return (inductance_of(cache[current], kind)
+                            * choose_depth_model(at, cache[current]).factor(key))
 
             def saturation(drop: float, kind: str, case=case, sat=sat):
                 v = sat if (drop == task.drop and kind == "incremental") else \

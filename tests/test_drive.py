@@ -4,6 +4,7 @@ sinusoidal magnetizing current in both models."""
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import tomllib
 from pathlib import Path
@@ -274,3 +275,48 @@ def test_fe_leakage_equals_the_short_circuit_inductance_of_its_matrix():
     # 1e-3: the matrix form is a difference of entries 500 times larger than
     # L_s, each to the tangent solve's tolerance (1.3e-4 found)
     assert ls == pytest.approx(sc, rel=1e-3)
+
+
+def test_drive_rows_fe_3d_under_the_checks_depth_model():
+    """The drive rows' FE 3D column takes the hand 3D / planar ratio of the
+    depth model the check chose (compare.check.choose_depth_model), like
+    every other FE 3D value; without one, the case's own model's ratio, which
+    is the drive's own hand_3d / hand (the same lambda-i recipe)."""
+    import types
+
+    from analytic.magnetizing import magnetizing_current
+    from compare.check import DepthCorrection, drive_rows
+    from compare.drive import hand_curve, hand_depth_ratios, hand_peak_current
+
+    doc = tomllib.loads((CASE.parent / "demo_choke.toml").read_text())
+    doc["winding"].pop("current")
+    doc["winding"].update(voltage="4 V", frequency="50 Hz")  # about 5 A peak
+    case = case_from_dict(doc)
+    assert case.hand.fringing == "area"
+    lam_pk = math.sqrt(2) * 4 / (2 * math.pi * 50)
+    m = {p: magnetizing_current(*hand_curve(case, p, 1.02 * hand_peak_current(case, p)),
+                                lam_pk, 50.0) for p in (True, False)}
+    fe_m = dataclasses.replace(m[True], peak=1.02 * m[True].peak, rms=1.02 * m[True].rms)
+
+    def values(model):
+        mm = {"hand": m[True], "hand_3d": m[False], "fe": fe_m}[model]
+        return {"B_peak": 1.0, "B_limb_peak": 1.0, "magnetizing_current_peak": mm.peak,
+                "magnetizing_current_rms": mm.rms, "magnetizing_inductance": mm.inductance}
+
+    drive = types.SimpleNamespace(values=values, uncertainty={}, hand=m[True], hand_3d=m[False],
+                                  fe=fe_m, inrush={})
+    keys = ("magnetizing_current_peak", "magnetizing_current_rms")
+    own = {r.key: r.fe_3d for r in drive_rows(case, drive) if r.key in keys}
+    own_ratio = hand_depth_ratios(case)
+    chosen = {r.key: r.fe_3d for r in drive_rows(case, drive, DepthCorrection("flux-tube", {}, {}))
+              if r.key in keys}
+    ratio = hand_depth_ratios(case, "flux-tube")
+    for k in keys:
+        # the same hand solves in the same order: to rounding
+        assert own[k] == pytest.approx(values("fe")[k] * values("hand_3d")[k] / values("hand")[k],
+                                       rel=1e-12)
+        assert own_ratio[k] == pytest.approx(values("hand_3d")[k] / values("hand")[k], rel=1e-12)
+        assert chosen[k] == pytest.approx(values("fe")[k] * ratio[k], rel=1e-12)
+        # depth fringing adds gap permeance: less current for the same flux
+        # linkage, and the two models' corrections differ (what this tells apart)
+        assert ratio[k] < 1.0 and abs(ratio[k] / own_ratio[k] - 1) > 1e-3

@@ -3,6 +3,7 @@ an exact solution, and `magcheck check` reporting every margin."""
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
 import tomllib
@@ -302,3 +303,53 @@ def test_demagnetisation_is_judged_at_the_sweeps_worst_point():
     assert m.verdict == "FAIL" and "winding.current = -4" in m.note
     assert sweep_demagnetisation(case, pts[:2], True)[0].verdict == "pass"
     assert sweep_demagnetisation(case, pts, False) == []  # the hand model has no H_min
+
+
+def test_check_margin_at_another_current_ranks_the_depth_model_there(monkeypatch):
+    """`magcheck check` judges an inductance margin at a current other than
+    the case's on the FE 3D value with the depth model ranked against the FE
+    solved at that current (compare.check.choose_depth_model: the rule of the
+    sweep and the tolerance study), not the model chosen at the case's
+    current.  Stand-in FE: the "flux-tube" model's planar hand values at the
+    case's 7 A, the "flux-factor" model's at the margin's 3 A."""
+    import types
+    from pathlib import Path
+
+    from compare import fe as fe_mod
+    from compare.casefile import load_case
+    from compare.check import depth_correction, margin_rows, rank_fringing
+    from compare.hand import run_hand
+    from compare.margins import with_current
+
+    path = Path(__file__).resolve().parents[1] / "cases" / "demo_choke_margins.toml"
+    case0 = load_case(path)
+    doc_case = dataclasses.replace(
+        case0, margins=dataclasses.replace(
+            case0.margins, inductance=tuple(dataclasses.replace(m, at=3.0)
+                                            for m in case0.margins.inductance)))
+    case = doc_case
+    assert case.winding.current == 7.0 and case.hand.fringing == "area"
+
+    def values(c, model):
+        return dict(run_hand(c, fringing=model, planar=True).values())
+
+    def solve_case(c, mesh, **kw):
+        return types.SimpleNamespace(values=values(c, "flux-factor")), None, None
+
+    monkeypatch.setattr(fe_mod, "solve_case", solve_case)
+    v6 = values(case, "flux-tube")
+    fe = types.SimpleNamespace(values=v6, uncertainty={}, solution=types.SimpleNamespace(mesh=None),
+                               fine=types.SimpleNamespace(force_values={}, magnet_values={}))
+    depth = depth_correction(case, rank_fringing(case, fe))
+    assert depth.model == "flux-tube"
+    at = with_current(case, 3.0)
+    l3 = values(at, "flux-factor")["inductance"]
+    want = l3 * depth_correction(at, ({"model": "flux-factor"},)).factor("inductance")
+    for d in (depth, None):  # with the check's correction, and without one
+        rows = [r for r in margin_rows(case, fe, depth=d) if r.key.startswith("margin:inductance")]
+        assert rows
+        for r in rows:  # the same hand solves: to Newton's tolerance
+            assert r.fe == pytest.approx(want, rel=1e-9)
+    # the model chosen at 7 A would give another number (what the test tells apart)
+    other = l3 * depth_correction(at, ({"model": "flux-tube"},)).factor("inductance")
+    assert abs(other / want - 1) > 1e-4  # 1e5 times the tolerance above

@@ -278,3 +278,74 @@ def test_make_case_applies_b_h_scale(fe_src):
     base = make_case(fe_src, {}).material("core").law
     assert law.b_max == pytest.approx(mu_0 * base.h_max + 0.9 * (base.b_max - mu_0 * base.h_max),
                                       rel=1e-12)  # exact: definition of the scaling
+
+
+# --------------------------------------------------------------------------- depth model
+def _stand_in_fe(monkeypatch, values: dict) -> None:
+    """Replace the sweep's mesh and field solve by fixed planar FE values."""
+    import types
+
+    from compare import fe as fe_mod
+
+    def solve_case_full(case, mesh, **kw):
+        q = types.SimpleNamespace(values=dict(values), force_values={}, magnet_values={},
+                                  peak_B=1.0, iterations=1, ndofs=1)
+        sol = types.SimpleNamespace(A=np.zeros(1), residual_history=[1.0])
+        return types.SimpleNamespace(quantities=q, solution=sol, dA_dI=None)
+
+    monkeypatch.setattr(fe_mod, "mesh_case", lambda case, **kw: object())
+    monkeypatch.setattr(fe_mod, "solve_case_full", solve_case_full)
+
+
+def test_sweep_fe_3d_inductance_equals_check(monkeypatch):
+    """A sweep point's FE 3D inductance is the number `magcheck check` shows
+    for the same case and the same planar FE values: the depth model ranked
+    against the point's FE (compare.check.choose_depth_model), not the case's
+    own fringing model.  The stand-in FE is the "flux-tube" model's planar
+    hand values with the inductance 1 % off, so the ranking picks a model
+    other than the case's ("area") and the two rules give different numbers."""
+    import types
+
+    from compare.check import depth_correction, rank_fringing
+    from compare.sweep import _fe_3d, plan_sweep, sweep_rows
+
+    src = case_source(CHOKE)[0]
+    case = make_case(src, {"winding.current": 6.0})
+    assert case.hand.fringing == "area"
+    fe_vals = dict(run_hand(case, fringing="flux-tube", planar=True).values())
+    fe_vals["inductance"] *= 1.01
+    _stand_in_fe(monkeypatch, fe_vals)
+    tasks = plan_sweep(src, [parse_vary("winding.current=6A")])
+    (p,) = run_block(tasks[0])
+    # what run_check does with the same FE values (its FE 3D inductance row:
+    # FE x depth.factor("inductance"))
+    depth = depth_correction(case, rank_fringing(case, types.SimpleNamespace(values=fe_vals)))
+    check_l3d = fe_vals["inductance"] * depth.factor("inductance")
+    assert depth.model == "flux-tube" and p.depth_model == depth.model and p.depth_basis == "FE"
+    # Same model, same hand solves to Newton's rtol 1e-10 (warm starts only
+    # change the iterate, not the converged value): 1e-9 relative.
+    assert p.fe["inductance"] * _fe_3d(p, "inductance") == pytest.approx(check_l3d, rel=1e-9)
+    assert p.depth_factor == pytest.approx(depth.factor("inductance"), rel=1e-9)
+    res = types.SimpleNamespace(points=(p,), with_fe=True)
+    (row,) = sweep_rows(res)  # type: ignore[arg-type]
+    assert row["depth_model"] == "flux-tube"
+    assert row["fe_3d_inductance"] == pytest.approx(check_l3d, rel=1e-9)
+    # the case's own model would give another number (what the test tells apart)
+    own = run_hand(case, planar=True), run_hand(case)
+    k_own = own[1].inductance / own[0].inductance
+    assert abs(k_own / depth.factor("inductance") - 1) > 1e-4
+
+
+def test_hand_only_sweep_keeps_the_case_model():
+    """Without FE values a point keeps the case's own fringing model for the
+    depth correction, and says so (``depth_basis`` "case")."""
+    from compare.sweep import sweep_rows
+
+    src = case_source(CHOKE)[0]
+    res = run_sweep(src, [parse_vary("winding.current=2A,6A")], with_fe=False)
+    for p, row in zip(res.points, sweep_rows(res)):
+        case = make_case(src, p.settings)
+        k = run_hand(case).inductance / run_hand(case, planar=True).inductance
+        assert (p.depth_model, p.depth_basis) == ("area", "case")
+        assert (row["depth_model"], row["depth_basis"]) == ("area", "case")  # the JSON/CSV row
+        assert p.depth_factor == pytest.approx(k, rel=1e-9)

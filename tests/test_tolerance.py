@@ -14,7 +14,7 @@ from figures import assert_drawn
 from compare.case import Tolerance
 
 from compare.casefile import load_case
-from compare.check import fe_3d_factor
+from compare.check import choose_depth_model, fe_3d_factor
 from compare.cli import main
 from compare.errors import CaseError
 from compare.fe import run_fe
@@ -92,10 +92,13 @@ def test_fe_subset_values_and_correction(tmp_path):
     case0 = make_case(src, s0.settings)
     q, _, _ = run_fe(case0)
     # The FE samples carry the FE inductance with the depth correction
-    # (as `magcheck check` judges it); same mesh and solve, so to the Newton
+    # (as `magcheck check` judges it: the depth model ranked against the
+    # sample's planar FE); same mesh and solve, so to the Newton
     # tolerance (1e-8 residual -> ~1e-6 relative in the quantities).
+    depth = choose_depth_model(case0, q.values)
+    assert depth.basis == "FE"
     assert res.values["inductance"][0] == pytest.approx(q.values["inductance"]
-                                                        * fe_3d_factor(case0), rel=1e-6)
+                                                        * depth.factor("inductance"), rel=1e-6)
     assert res.values["peak_B"][0] == pytest.approx(q.peak_B, rel=1e-6)
     # The other samples: FE estimated from the hand value by the mean ratio
     # (2 FE samples < 3): the ratio is the FE samples' own.
@@ -194,8 +197,18 @@ def affine_fe(monkeypatch):
         h = run_hand(case)
         k = fe_3d_factor(case)
         vals = dict(h.values())
-        for key in ("inductance", "incremental_inductance"):
-            vals[key] = (A_L + B_L * vals[key]) / k
+        # the FE 3D inductance is the planar one times the ratio of the depth
+        # model ranked against these values (choose_depth_model): iterate to
+        # the model that the stand-in's own values choose
+        for _ in range(4):
+            for key in ("inductance", "incremental_inductance"):
+                vals[key] = (A_L + B_L * h.values()[key]) / k
+            k_next = choose_depth_model(case, vals).factor("inductance")
+            if k_next == k:
+                break
+            k = k_next
+        else:
+            raise AssertionError("stand-in FE: the depth model does not settle")
         q = types.SimpleNamespace(values=vals, peak_B=A_P + B_P * _hand_peak(h), force_values={},
                                   magnet_values={})
         return q, None, None
@@ -307,3 +320,41 @@ def test_fe_samples_judge_force_and_demagnetisation_on_the_field_solution(tmp_pa
     assert m["demagnetisation"].value == pytest.approx(-q.magnet_values["magnet_H_min"], rel=1e-6)
     h = {r.key: r for r in hand_sample.margins}
     assert h["force_min"].basis == "hand" and h["demagnetisation"].verdict == "n/a"
+
+
+def test_fe_sample_margin_at_another_current_ranks_the_depth_model_there(tmp_path, monkeypatch):
+    """An FE sample's inductance margin at a current other than the case's
+    is judged on the FE 3D value with the depth model ranked against the FE
+    at that current (compare.check.choose_depth_model), as `magcheck check`
+    and the sweep do.  Stand-in FE: the "flux-tube" model's planar hand
+    values, so the ranking picks it over the case's "area" model."""
+    import types
+
+    from compare import fe as fe_mod
+    from compare.hand import run_hand
+    from compare.margins import with_current
+
+    text = MARGINS.read_text().replace('at = "6 A"', 'at = "3 A"')
+    p = tmp_path / "m.toml"
+    p.write_text(text)
+    src = case_source(p)[0]
+
+    def solve_case(case, mesh, **kw):
+        vals = dict(run_hand(case, fringing="flux-tube", planar=True).values())
+        return types.SimpleNamespace(values=vals, peak_B=1.0, force_values={},
+                                     magnet_values={}), None, None
+
+    monkeypatch.setattr(fe_mod, "mesh_case", lambda case, **kw: None)
+    monkeypatch.setattr(fe_mod, "solve_case", solve_case)
+    res = run_tolerance(src, samples=1, seed=3, fe_samples=1, workers=1)
+    s0 = res.samples[0]
+    (m,) = [m for m in s0.margins if m.key.startswith("inductance") and m.kind == "min"]
+    at = with_current(make_case(src, s0.settings), 3.0)
+    assert at.hand.fringing == "area"
+    fe_l = run_hand(at, fringing="flux-tube", planar=True).inductance
+    depth = choose_depth_model(at, solve_case(at, None)[0].values)
+    assert depth.model == "flux-tube"
+    # the same hand solves as the sample's: to Newton's tolerance
+    assert m.value == pytest.approx(fe_l * depth.factor("inductance"), rel=1e-9)
+    own = run_hand(at).inductance / run_hand(at, planar=True).inductance
+    assert abs(depth.factor("inductance") / own - 1) > 1e-3  # what the test tells apart
