@@ -23,5 +23,10 @@ def test_snippet_occurs_once(m):
     text = (ROOT / m.file).read_text(encoding="utf-8")
     assert text.count(m.old) == 1, f"{m.name}: update the snippet to the current code"
     assert m.new != m.old
-    for t in m.tests:
-        assert (ROOT / t).is_file(), f"{m.name}: no test file {t}"
+    for t in m.tests:  # a file, or a file::test node id
+        path, _, node = t.partition("::")
+        assert (ROOT / path).is_file(), f"{m.name}: no test file {path}"
+        if node:
+            name = node.split("::")[-1].split("[")[0]
+            assert f"def {name}(" in (ROOT / path).read_text(encoding="utf-8"), \
+                f"{m.name}: no test {node} in {path}"
