@@ -364,20 +364,23 @@ class DepthChoice:
         return self.factors.get(key, 1.0)
 
 
+def _best_ranked(ranking: tuple[dict, ...]) -> str | None:
+    """The best :data:`DEPTH_MODELS` entry of a ranking (best first), if any."""
+    return next((d["model"] for d in ranking if d["model"] in DEPTH_MODELS), None)
+
+
 def choose_depth_model(case: Case, fe_values: dict | None = None, *,
-                       ranking: tuple[dict, ...] = (),
                        own: tuple[HandResult, HandResult] | None = None) -> DepthChoice:
     """The one rule that picks the FE 3D column's depth model at a point.
 
-    With ``ranking`` (best first, as :func:`rank_fringing`): its best
-    :data:`DEPTH_MODELS` entry.  Else with planar FE values ``fe_values``
-    holding :data:`RANK_KEYS`: each depth model's planar hand solve at the
-    point ranked against them as :func:`rank_fringing` ranks (RMS of the
-    percent differences), the best taken.  Else (a hand-only point) the
-    case's own model, ``basis`` "case" (as the hand column; "none" gives
-    no depth correction).  Used by
-    ``magcheck check`` (:func:`depth_correction`), the sweep, the tolerance
-    study and the margins, so that one margin is judged on one number.
+    With planar FE values ``fe_values`` holding :data:`RANK_KEYS`: each
+    depth model's planar hand solve at the point ranked against them as
+    :func:`rank_fringing` ranks (RMS of the percent differences), the best
+    taken, which is the model :func:`depth_correction` takes from the
+    check's own ranking.  Else (a hand-only point) the case's own model,
+    ``basis`` "case" (as the hand column; "none" gives no depth
+    correction).  Used by the sweep, the tolerance study and the margins at
+    other currents, so that one margin is judged on one number.
 
     ``own``: the case's (planar, 3D) hand results at the point when already
     solved; reused when the case's model is chosen.  Cost: one planar hand
@@ -401,12 +404,9 @@ def choose_depth_model(case: Case, fe_values: dict | None = None, *,
 
     from .coremodel import core_model
 
-    ranked = [d["model"] for d in ranking if d["model"] in DEPTH_MODELS]
     basis = "FE"
     if core_model(case).axisymmetric:  # the field solution holds all the fringing: nothing
         chosen, basis = own_name, "r-z"  # to choose (the two hand forms are the same)
-    elif ranked:
-        chosen = ranked[0]
     elif fe_values and any(math.isfinite(fe_values.get(k, math.nan)) for k in RANK_KEYS):
         entries = [{"model": m, "rms_difference_pct": _rank_rms(hand_p(m).values(), fe_values)[0]}
                    for m in DEPTH_MODELS]
@@ -437,7 +437,8 @@ def depth_correction(case: Case, ranking: tuple[dict, ...] = ()) -> DepthCorrect
         return DepthCorrection(None, {}, {})
     pairs = {m: (run_hand(case, fringing=m, planar=True), run_hand(case, fringing=m))
              for m in DEPTH_MODELS}
-    chosen = choose_depth_model(case, ranking=ranking, own=pairs.get(case.hand.fringing)).model
+    # the rule of choose_depth_model without its solves (every pair is here)
+    chosen = _best_ranked(ranking) or case.hand.fringing
     if chosen not in DEPTH_MODELS:  # "none" has no depth fringing: the first model stands in
         chosen = DEPTH_MODELS[0]
     ratios = {m: _all_ratios(*pairs[m]) for m in DEPTH_MODELS}

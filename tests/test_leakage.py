@@ -16,6 +16,7 @@ from scipy.constants import mu_0
 from analytic.leakage import LeakageError, window_leakage
 from compare.casefile import case_from_dict
 from compare.hand import run_hand
+from study_cases import ideal_window_core
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 W, D, H = 20e-3, 10e-3, 40e-3  # invented for the test
@@ -88,20 +89,6 @@ def test_leakage_adds_its_permeance_to_both_inductances_and_the_energy(name):
     assert run_hand(case, planar=True).refinements == ()
 
 
-def _ideal_window_core(ow_mm: float, oh_mm: float, fringing: str = "none", leakage: bool = False):
-    wh = oh_mm - 20
-    return case_from_dict({
-        "case": {"name": "lk", "family": "window-core"},
-        "core": {"outer_width": f"{ow_mm} mm", "outer_height": f"{oh_mm} mm",
-                 "limb_width": "10 mm", "depth": "20 mm"},
-        "gaps": [{"limb": "right", "length": "0.5 mm"}],
-        "winding": {"limb": "left", "turns": 100, "current": "1 A", "thickness": "6 mm",
-                    "length": f"{wh - 2} mm"},
-        "materials": {"core": {"mu_r": 1e6}},
-        "hand": {"fringing": fringing, "leakage": leakage},
-    })
-
-
 def test_yoke_to_yoke_bypass_is_in_parallel_with_the_gap():
     # Source: exact solution of the linear circuit (Kirchhoff's laws of the
     # magnetic circuit), mu_r = 1e6, no fringing: the facing (right) limb's
@@ -109,7 +96,7 @@ def test_yoke_to_yoke_bypass_is_in_parallel_with_the_gap():
     # mu0 d (w - t + t/3)/h, in series with the other three limbs; plus the
     # across-window leakage N^2 P_leak.  Window 40 x 40 mm, limbs 10 mm
     # (corner to corner 50 mm), coil build t = 6 mm, window height h = 40 mm.
-    case = _ideal_window_core(60, 60, leakage=True)
+    case = ideal_window_core(60, 60, leakage=True)
     h = run_hand(case, planar=True)
     mu, a = mu_0 * 1e6, 10e-3 * 20e-3
     r_other = 3 * 50e-3 / (mu * a)  # left, top, bottom
@@ -184,10 +171,10 @@ def test_leakage_brings_the_hand_inductance_toward_the_fe_for_three_window_shape
     from compare.fe import run_fe
 
     for ow, oh in ((40, 100), (60, 60), (100, 40)):
-        q, _, _ = run_fe(_ideal_window_core(ow, oh, "conformal"))
+        q, _, _ = run_fe(ideal_window_core(ow, oh, "conformal"))
         l_fe = q.values["inductance"]
-        off = run_hand(_ideal_window_core(ow, oh, "conformal"), planar=True).inductance
-        on = run_hand(_ideal_window_core(ow, oh, "conformal", leakage=True), planar=True).inductance
+        off = run_hand(ideal_window_core(ow, oh, "conformal"), planar=True).inductance
+        on = run_hand(ideal_window_core(ow, oh, "conformal", leakage=True), planar=True).inductance
         assert abs(on - l_fe) < abs(off - l_fe), (ow, oh)
         assert abs(on - l_fe) < 0.04 * l_fe, (ow, oh, on / l_fe)
 

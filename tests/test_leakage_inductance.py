@@ -14,6 +14,7 @@ from analytic.leakage import rogowski_factor
 from compare.casefile import case_from_dict
 from compare.coupling import hand_leakage
 from compare.errors import CaseError
+from study_cases import pot_pair
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -57,22 +58,6 @@ def test_rogowski_needs_two_concentric_windings():
     assert "hand.rogowski" in str(err.value) and "concentric" in str(err.value)
 
 
-def _pot_pair(height_mm: float, end_mm: float = 1.0):
-    """The demo pot core with ideal iron and two 60-turn windings of 1.5 mm
-    build, 0.5 mm apart, ``height_mm`` high with ``end_mm`` to each plate."""
-    d = tomllib.loads((CASES / "demo_pot_core_choke.toml").read_text())
-    for k in ("sweep", "margins", "winding"):
-        d.pop(k, None)
-    d["core"]["height"] = f"{height_mm + 2 * end_mm} mm"
-    d["windings"] = [
-        {"name": "a", "limb": "post", "turns": 60, "current": "1 A", "thickness": "1.5 mm",
-         "length": f"{height_mm} mm", "clearance": "0.6 mm"},
-        {"name": "b", "limb": "post", "turns": 60, "current": "-1 A", "thickness": "1.5 mm",
-         "length": f"{height_mm} mm", "clearance": "0.5 mm"}]
-    d["materials"]["core"] = {"mu_r": 1e5}
-    return case_from_dict(d)
-
-
 @pytest.mark.slow
 def test_fe_leakage_tends_to_the_formula_as_the_windings_get_long():
     # Source: the classic formula mu0 N^2 (MLT/h_w)(a1/3 + a2/3 + d) holds
@@ -88,7 +73,7 @@ def test_fe_leakage_tends_to_the_formula_as_the_windings_get_long():
 
     rows = []
     for h in (6.0, 12.0, 24.0, 48.0):
-        case = _pot_pair(h)
+        case = pot_pair(h)
         hand, fe = hand_leakage(case), fe_leakage(case, mesh_case(case))
         rows.append((h, hand, fe, rogowski_factor(h * 1e-3, 1.5e-3, 1.5e-3, 0.5e-3)))
     print("\n h_w mm   hand uH    FE uH   FE/hand   K_R   FE/(K_R hand)")

@@ -38,6 +38,8 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parent.parent
 README = ROOT / "README.md"
 BASELINE = ROOT / "cases" / "baseline.json"
+# the studies the tests and the README share (tests/study_cases.py)
+sys.path.insert(0, str(ROOT / "tests"))
 
 BLOCK = re.compile(r"(<!-- generated(?P<slow> \(slow\))?: (?P<name>[\w-]+) -->)(?P<body>.*?)"
                    r"(<!-- end generated -->)", re.S)
@@ -451,67 +453,31 @@ def block_open_boundary() -> str:
             f"{abs(low):.2f} % {'low' if low > 0 else 'high'} in L")
 
 
-def _ideal_window_core(ow_mm: float, oh_mm: float, leakage: bool):
-    """An ideal-iron window core (mu_r 1e6), 0.5 mm gap, conformal fringing:
-    the three window shapes of tests/test_leakage.py."""
-    from compare.casefile import case_from_dict
-
-    wh = oh_mm - 20
-    return case_from_dict({
-        "case": {"name": "lk", "family": "window-core"},
-        "core": {"outer_width": f"{ow_mm} mm", "outer_height": f"{oh_mm} mm",
-                 "limb_width": "10 mm", "depth": "20 mm"},
-        "gaps": [{"limb": "right", "length": "0.5 mm"}],
-        "winding": {"limb": "left", "turns": 100, "current": "1 A", "thickness": "6 mm",
-                    "length": f"{wh - 2} mm"},
-        "materials": {"core": {"mu_r": 1e6}},
-        "hand": {"fringing": "conformal", "leakage": leakage},
-    })
-
-
 def block_leakage_windows() -> str:
+    from study_cases import ideal_window_core
     from compare.fe import run_fe
     from compare.hand import run_hand
 
     off, on = [], []
     for ow, oh in ((40, 100), (60, 60), (100, 40)):
-        q, _, _ = run_fe(_ideal_window_core(ow, oh, False))
+        q, _, _ = run_fe(ideal_window_core(ow, oh, "conformal", False))
         fe = q.values["inductance"]
-        off.append(_pct(run_hand(_ideal_window_core(ow, oh, False), planar=True).inductance, fe))
-        on.append(_pct(run_hand(_ideal_window_core(ow, oh, True), planar=True).inductance, fe))
+        for out, leak in ((off, False), (on, True)):
+            hand = run_hand(ideal_window_core(ow, oh, "conformal", leak), planar=True)
+            out.append(_pct(hand.inductance, fe))
     return "/".join(_signed(x) for x in off) + " % to " + "/".join(_signed(x) for x in on) + " %"
-
-
-def _pot_pair(height_mm: float, end_mm: float):
-    """The demo pot core with ideal iron and two 60-turn windings of 1.5 mm
-    build, 0.5 mm apart, ``height_mm`` high with ``end_mm`` to each plate
-    (tests/test_leakage_inductance.py)."""
-    import tomllib
-
-    from compare.casefile import case_from_dict
-
-    d = tomllib.loads((ROOT / "cases" / "demo_pot_core_choke.toml").read_text())
-    for k in ("sweep", "margins", "winding"):
-        d.pop(k, None)
-    d["core"]["height"] = f"{height_mm + 2 * end_mm} mm"
-    d["windings"] = [
-        {"name": "a", "limb": "post", "turns": 60, "current": "1 A", "thickness": "1.5 mm",
-         "length": f"{height_mm} mm", "clearance": "0.6 mm"},
-        {"name": "b", "limb": "post", "turns": 60, "current": "-1 A", "thickness": "1.5 mm",
-         "length": f"{height_mm} mm", "clearance": "0.5 mm"}]
-    d["materials"]["core"] = {"mu_r": 1e5}
-    return case_from_dict(d)
 
 
 def _pot_leakage(heights: tuple[float, ...], end_mm: float) -> list[tuple[float, float, float, float]]:
     """(h_w mm, hand H, FE H, K_R) per winding height."""
+    from study_cases import pot_pair
     from analytic.leakage import rogowski_factor
     from compare.coupling import fe_leakage, hand_leakage
     from compare.fe import mesh_case
 
     rows = []
     for h in heights:
-        case = _pot_pair(h, end_mm)
+        case = pot_pair(h, end_mm)
         rows.append((h, hand_leakage(case), fe_leakage(case, mesh_case(case)),
                      rogowski_factor(h * 1e-3, 1.5e-3, 1.5e-3, 0.5e-3)))
     return rows
