@@ -15,7 +15,7 @@ from compare.fe import case_layout, run_fe
 from compare.hand import run_hand
 from compare.keys import key_dimension, parse_vary
 
-from test_leakage import _ideal_window_core
+from study_cases import ideal_window_core
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -77,7 +77,7 @@ def test_the_yoke_to_yoke_bypass_leaves_out_the_clearance():
     # encloses the whole coil side, so with the gap taking N I it sees no
     # MMF), plus the across-window leakage, which depends on the coil's span
     # along the limb only.  Window 40 x 40 mm, t = 6 mm, c = 3 mm.
-    base = _ideal_window_core(60, 60, leakage=True)
+    base = ideal_window_core(60, 60, leakage=True)
     case = replace(base, winding=replace(base.winding, clearance=3e-3))
     h = run_hand(case, planar=True)
     p_gap = mu_0 * 10e-3 * 20e-3 / 0.5e-3
@@ -94,7 +94,7 @@ def test_both_models_lose_leakage_inductance_as_the_coil_stands_off():
     # 6 mm off the limb lowers both inductances, the FE by 5.9e-5 H and the
     # hand model by 3.8e-5 H (measured; the hand bypass is a straight-line
     # estimate, so only the sign and the order of magnitude are held)
-    base = _ideal_window_core(60, 60, leakage=True)
+    base = ideal_window_core(60, 60, leakage=True)
     off = replace(base, winding=replace(base.winding, clearance=6e-3))
     dh = run_hand(off, planar=True).inductance - run_hand(base, planar=True).inductance
     dfe = run_fe(off)[0].values["inductance"] - run_fe(base)[0].values["inductance"]
