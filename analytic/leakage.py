@@ -25,7 +25,7 @@ middle gives 1/12, since the potential then swings from +1/2 to -1/2.
 
 The other window path, from yoke to yoke across the window in parallel
 with the facing limb's gap, is a linear branch of the network itself
-(compare.hand.window_bypass), since the MMF it sees is the gap's.
+(compare.models.hand.window_bypass), since the MMF it sees is the gap's.
 
 The drops are the gaps' and the iron's, from the solved network: a gap's
 as a step where the loop crosses it, the yoke's at the lo end as a constant,

@@ -256,7 +256,7 @@ def builtin_csv_text(name: str) -> str:
     """Stored CSV text of built-in material ``name`` (packaged in ``analytic/data``)."""
     if name not in DEMO_MATERIALS:
         raise BHDataError(_unknown_message(name))
-    return resources.files("analytic").joinpath("data", f"{name}.csv").read_text(encoding="utf-8")
+    return resources.files(__name__.rpartition(".")[0]).joinpath("data", f"{name}.csv").read_text(encoding="utf-8")
 
 
 def builtin(name: str) -> BHCurve:

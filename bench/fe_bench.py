@@ -32,7 +32,7 @@ VACUUM = os.environ.get("FE_BENCH_PURE_BRAUER") is None
 def window_core(size: float | None, order: int, gap: float = 1e-3):
     """60 x 60 mm core, 15 mm limbs, gap in the right limb, coil sides in the
     window and outside the left limb (invented for the demo)."""
-    from fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
+    from magcheck.fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
 
     mm = 1e-3
     g = gap
@@ -52,7 +52,7 @@ def pot_core(size: float | None, order: int, gap: float = 1e-3):
     """Axisymmetric pot core (invented for the demo): centre post radius 8 mm,
     window 8-18 mm, wall 18-22 mm, plates 4 mm, window height 16 mm, a gap
     in the centre post; the coil fills the window with clearance."""
-    from fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
+    from magcheck.fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
 
     mm = 1e-3
     g = gap
@@ -68,7 +68,7 @@ def pot_core(size: float | None, order: int, gap: float = 1e-3):
 
 
 def materials():
-    from fem2d.materials import AIR, BrauerReluctivity
+    from magcheck.fem2d.materials import AIR, BrauerReluctivity
 
     return {"steel": BrauerReluctivity(K1, K2, K3, vacuum=VACUUM), "copper": AIR}
 
@@ -79,9 +79,9 @@ def run_case(size, order, solver, NI_low, NI_high, geometry="planar"):
 
     import numpy as np
 
-    from fem2d import post
-    from fem2d.mesh import build_mesh
-    from fem2d.solver import solve
+    from magcheck.fem2d import post
+    from magcheck.fem2d.mesh import build_mesh
+    from magcheck.fem2d.solver import solve
 
     t0 = time.perf_counter()
     rz = geometry == "rz"
@@ -104,7 +104,7 @@ def run_case(size, order, solver, NI_low, NI_high, geometry="planar"):
         out[f"t_lin_step_{tag}"] = sol.timings["linear"] / max(sol.iterations, 1)
         out["ndofs"] = int(sol.ndofs)
     # a linear reference solve: same mesh and solver, linear material (mu_r(0))
-    from fem2d.materials import AIR, LinearReluctivity
+    from magcheck.fem2d.materials import AIR, LinearReluctivity
 
     lin = {"steel": LinearReluctivity(1.0 / (4e-7 * np.pi * (K1 + K3))), "copper": AIR}
     t1 = time.perf_counter()

@@ -31,9 +31,9 @@ MM = 1e-3
 
 
 def planar_case():
-    from fem2d.formulation import Planar
-    from fem2d.materials import AIR, BrauerReluctivity
-    from fem2d.verification import u_core_armature
+    from magcheck.fem2d.formulation import Planar
+    from magcheck.fem2d.materials import AIR, BrauerReluctivity
+    from magcheck.fem2d.verification import u_core_armature
 
     lay, src = u_core_armature(0.5 * MM)
     mats = {"steel": BrauerReluctivity(3.8, 2.17, 396.2), "copper": AIR, "air": AIR}
@@ -41,10 +41,10 @@ def planar_case():
 
 
 def rz_case():
-    from fem2d.formulation import Axisymmetric
-    from fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
-    from fem2d.materials import AIR, BrauerReluctivity
-    from fem2d.sources import Coil, Magnet, Sources
+    from magcheck.fem2d.formulation import Axisymmetric
+    from magcheck.fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
+    from magcheck.fem2d.materials import AIR, BrauerReluctivity
+    from magcheck.fem2d.sources import Coil, Magnet, Sources
 
     regs = (Region("magnet", (Rect(0, 0, 5 * MM, 4 * MM),), "pm", kind="magnet"),
             Region("keeper", (Rect(0, 5 * MM, 8 * MM, 8 * MM),), "steel", kind="core"),
@@ -58,9 +58,9 @@ def rz_case():
 
 
 def run(build, repeat: int) -> dict:
-    from fem2d.force import maxwell_force, virtual_work_force
-    from fem2d.mesh import build_mesh
-    from fem2d.solver import solve
+    from magcheck.fem2d.force import maxwell_force, virtual_work_force
+    from magcheck.fem2d.mesh import build_mesh
+    from magcheck.fem2d.solver import solve
 
     lay, mats, src, currents, form, body, direction = build()
     mesh = build_mesh(lay)

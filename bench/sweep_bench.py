@@ -19,8 +19,8 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from compare.margins import hand_saturation_current  # noqa: E402
-from compare.sweep import case_source, parse_vary, run_sweep, sweep_margins  # noqa: E402
+from magcheck.compare.judge.margins import hand_saturation_current  # noqa: E402
+from magcheck.compare.studies.sweep import case_source, parse_vary, run_sweep, sweep_margins  # noqa: E402
 
 
 def main(argv=None) -> int:

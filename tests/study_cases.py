@@ -7,8 +7,8 @@ from __future__ import annotations
 import tomllib
 from pathlib import Path
 
-from compare.case import Case
-from compare.casefile import case_from_dict
+from magcheck.compare.design.case import Case
+from magcheck.compare.reading.casefile import case_from_dict
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 

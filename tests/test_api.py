@@ -1,4 +1,4 @@
-"""The Python API (compare.api): the README's example runs as written, and
+"""The Python API (compare.front.api): the README's example runs as written, and
 the API gives the same results as the command line."""
 import json
 import re
@@ -7,8 +7,8 @@ from pathlib import Path
 
 import pytest
 
-from compare import api
-from compare.cli import main
+from magcheck.compare.front import api
+from magcheck.compare.front.cli import main
 
 ROOT = Path(__file__).resolve().parents[1]
 

@@ -9,8 +9,8 @@ from pathlib import Path
 
 import pytest
 
-from compare.baseline import FE_RTOL_FLOOR, FE_UNC_CAP, drift
-from compare.cli import main
+from magcheck.compare.judge.baseline import FE_RTOL_FLOOR, FE_UNC_CAP, drift
+from magcheck.compare.front.cli import main
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"

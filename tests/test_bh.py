@@ -10,17 +10,11 @@ import pytest
 from scipy.constants import mu_0
 from scipy.integrate import quad
 
-from analytic.bh import B_UNITS, H_UNITS, BHCurve, BHDataError, BHRangeWarning, LinearMaterial
-from analytic.materials import (
-    DEMO_MATERIALS,
-    bh_from_table,
-    builtin,
-    builtin_csv_text,
-    builtin_names,
-    demo_curve_points,
-    load_bh_csv,
-    render_demo_csv,
-)
+from magcheck.analytic.bh import (B_UNITS, H_UNITS, BHCurve, BHDataError, BHRangeWarning,
+                                  LinearMaterial)
+from magcheck.analytic.materials import (DEMO_MATERIALS, bh_from_table, builtin, builtin_csv_text,
+                                         builtin_names, demo_curve_points, load_bh_csv,
+                                         render_demo_csv)
 
 # A steel-like table, invented for the demo, whose permeability first RISES with
 # field (chord slope from the origin below the next chords), so dnu/ds < 0 at low field.
@@ -372,7 +366,7 @@ def test_builtin_design_targets(name, mu_lo, mu_hi, h_knee, b_knee_lo, b_knee_hi
 
 
 def test_plot_bh_writes_png(tmp_path):
-    from analytic.plotting import plot_bh
+    from magcheck.analytic.plotting import plot_bh
 
     c = builtin("demo-softiron")
     out = plot_bh(c, tmp_path / "bh.png", operating_points=[(1000.0, float(c.b_of_h(1000.0)))])
@@ -405,6 +399,6 @@ def test_mu0_agrees_with_scipy():
     # Source: scipy.constants (CODATA); fem2d uses scipy's value directly.
     import scipy.constants
 
-    from analytic.constants import mu_0
+    from magcheck.analytic.constants import mu_0
 
     assert mu_0 == scipy.constants.mu_0

@@ -9,8 +9,8 @@ import pytest
 from scipy.constants import mu_0
 from scipy.interpolate import PchipInterpolator
 
-from analytic.bh import BHCurve
-from analytic.materials import builtin, builtin_names
+from magcheck.analytic.bh import BHCurve
+from magcheck.analytic.materials import builtin, builtin_names
 
 # Invented for the test: a steel-like table with knot spacings in B from
 # 0.02 to 0.5 T (ratios up to 10 between neighbours)

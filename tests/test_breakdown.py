@@ -9,11 +9,11 @@ from pathlib import Path
 
 import pytest
 
-from compare.breakdown import BREAKDOWN_KEYS, difference_breakdown
-from compare.casefile import case_from_dict, load_case
-from compare.check import run_check
-from compare.cli import main
-from compare.hand import run_hand
+from magcheck.compare.judge.breakdown import BREAKDOWN_KEYS, difference_breakdown
+from magcheck.compare.reading.casefile import case_from_dict, load_case
+from magcheck.compare.judge.check import run_check
+from magcheck.compare.front.cli import main
+from magcheck.compare.models.hand import run_hand
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 

@@ -14,8 +14,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from compare.casefile import case_from_dict, load_case
-from compare.errors import CaseError, CaseWarning
+from magcheck.compare.reading.casefile import case_from_dict, load_case
+from magcheck.compare.errors import CaseError, CaseWarning
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 

@@ -1,6 +1,6 @@
 """Every bundled case runs and matches its stored results (cases/baseline.json).
 
-Tolerances and their reasons are in compare/baseline.py: hand values 1e-6
+Tolerances and their reasons are in compare/judge/baseline.py: hand values 1e-6
 relative, FE values max(0.2 %, 2 x stored FE uncertainty). A deliberate
 change of results regenerates the file with tools/update_baseline.py.
 """
@@ -12,9 +12,9 @@ from pathlib import Path
 
 import pytest
 
-from compare.baseline import drift, snapshot, stored_verdict_changes
-from compare.casefile import load_case
-from compare.check import run_check
+from magcheck.compare.judge.baseline import drift, snapshot, stored_verdict_changes
+from magcheck.compare.reading.casefile import load_case
+from magcheck.compare.judge.check import run_check
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 BASELINE = json.loads((CASES / "baseline.json").read_text())
@@ -28,7 +28,7 @@ def test_every_case_has_a_baseline():
 
 def test_every_baseline_entry_stores_its_agreement_verdicts():
     # `magcheck verify cases/` (CI) reads them to tell a known disagreement
-    # from a new one (compare.verify); values are verdict strings
+    # from a new one (compare.studies.verify); values are verdict strings
     for name, entry in BASELINE.items():
         verdicts = entry.get("agreement")
         # a case with a magnet shows lambda/I for information only (not

@@ -11,12 +11,12 @@ from pathlib import Path
 import pytest
 from scipy.constants import mu_0
 
-from compare import fe as fe_mod
-from compare.casefile import case_from_dict, load_case
-from compare.check import depth_factor, run_check
-from compare.cli import main
-from compare.fe import run_fe
-from compare.hand import run_hand
+from magcheck.compare.models import fe as fe_mod
+from magcheck.compare.reading.casefile import case_from_dict, load_case
+from magcheck.compare.judge.check import depth_factor, run_check
+from magcheck.compare.front.cli import main
+from magcheck.compare.models.fe import run_fe
+from magcheck.compare.models.hand import run_hand
 from figures import assert_drawn
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
@@ -88,7 +88,7 @@ def test_uncertainty_brackets_finer_reference(checked_and_reference):
         err = abs(res.values[key] - ref.values[key])
         # Source: Richardson-style estimate with order taken as 1 on the
         # larger of two successive differences, factor of safety 1.5
-        # (compare.fe.uncertainty_rule); it must bound the error of the
+        # (compare.models.fe.uncertainty_rule); it must bound the error of the
         # finest value against a solve on a mesh 4x finer again.
         assert err <= res.uncertainty[key] * 1.0 + 1e-12 * abs(ref.values[key]), key
 
@@ -106,7 +106,7 @@ def test_uncertainty_brackets_finer_reference(checked_and_reference):
 # converges at twice the field's order (from memory, standard FE theory), and
 # its error is so small (~1e-4 of the value) that the reference's own error
 # weighs in: factor 40 for it.  Core B and path H are means of point samples
-# along the mean path (compare.fe.path_mean_core_b): where the samples fall in
+# along the mean path (compare.models.fe.path_mean_core_b): where the samples fall in
 # the elements changes from mesh to mesh (B is piecewise, discontinuous
 # between elements), so their differences are not monotone and the rule
 # bounds them loosely (core B: 30x the error on this case); they are held to
@@ -134,7 +134,7 @@ def test_uncertainty_is_its_stated_rule(coarse_case):
     fine, _, _ = run_fe(coarse_case, refine=1.5)
     for key in ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
                 "incremental_inductance", "energy"):
-        # The rule (README "The check", compare.fe.uncertainty_rule):
+        # The rule (README "The check", compare.models.fe.uncertainty_rule):
         # 1.5 max(|Q_f - Q_m|, |Q_m - Q_c|) / (1.5 - 1), from three
         # independent solves here. The checked run warm-starts each solve from
         # the one before, so its values differ from these cold solves by the
@@ -180,7 +180,7 @@ def test_check_outputs(choke_run):
     assert [d["model"] for d in data["fringing_ranking"]]
     # The ranking: every fringing model once, each one's differences those of
     # its planar hand values against the FE values of this run, best RMS first.
-    from analytic.fringing import FRINGING_MODELS
+    from magcheck.analytic.fringing import FRINGING_MODELS
 
     ranking = data["fringing_ranking"]
     assert sorted(d["model"] for d in ranking) == sorted(FRINGING_MODELS)
@@ -234,7 +234,7 @@ def test_bad_input_exit_2(tmp_path, capsys):
 
 
 def test_solve_failure_exit_3(monkeypatch, capsys):
-    from fem2d.solver import ConvergenceError
+    from magcheck.fem2d.solver import ConvergenceError
 
     def no_convergence(*a, **k):
         raise ConvergenceError("Newton stopped after 50 steps at relative residual 3e-2")
@@ -247,7 +247,7 @@ def test_solve_failure_exit_3(monkeypatch, capsys):
 @pytest.mark.parametrize("fringing", ["area", "conformal"])
 def test_depth_corrected_fe_column_uses_the_hand_networks_3d_ratio(fringing):
     # The 'FE 3D' column is the planar FE value times the hand network's own
-    # 3D/planar ratio of that quantity (compare.check.depth_corrections) under
+    # 3D/planar ratio of that quantity (compare.judge.check.depth_corrections) under
     # the depth model ranked best against the planar FE (res.depth.model),
     # whatever the case's own model: depth fringing raises only the gap
     # permeance, so the circuit gains by the gap's share of its reluctance,
@@ -277,9 +277,9 @@ def test_depth_correction_is_the_gaps_reluctance_share_for_a_linear_core():
     # reluctance R_c, gap R_g (in-plane fringing in the planar form); depth
     # fringing divides R_g by k_depth, so the flux (and L) rise by
     # (R_c + R_g)/(R_c + R_g/k_depth).  Tolerance 1e-9: networks solved to 1e-10.
-    from analytic.fringing import gap_permeance, get_fringing
-    from compare.check import depth_corrections
-    from compare.hand import gap_face
+    from magcheck.analytic.fringing import gap_permeance, get_fringing
+    from magcheck.compare.judge.check import depth_corrections
+    from magcheck.compare.models.hand import gap_face
 
     data = tomllib.loads((CASES / "demo_choke.toml").read_text())
     data["materials"] = {"core": {"mu_r": 800.0}}

@@ -12,8 +12,8 @@ from __future__ import annotations
 import pytest
 from scipy.constants import mu_0
 
-from compare.casefile import case_from_dict
-from compare.hand import build_network, gap_face, run_hand
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.models.hand import build_network, gap_face, run_hand
 
 MM = 1e-3
 
@@ -144,12 +144,12 @@ def test_series_circuit_closed_form(mu_r, fringing, planar):
         assert seg[name]["B"] == pytest.approx(flux / (SEG[name][1] * MM**2), rel=1e-9), name
         assert seg[name]["mmf_drop"] == pytest.approx(flux * r_core[name], rel=1e-9), name
     for i in (0, 1):
-        # Gap B = flux over the gap's effective area g*P/mu0 (compare.hand).
+        # Gap B = flux over the gap's effective area g*P/mu0 (compare.models.hand).
         a_eff = FACE[i][0] * MM / (mu_0 * r_gap[i])
         assert seg[f"gap{i}"]["B"] == pytest.approx(flux / a_eff, rel=1e-9), i
         assert seg[f"gap{i}"]["mmf_drop"] == pytest.approx(flux * r_gap[i], rel=1e-9), i
     assert h.gap_B == pytest.approx(flux / (FACE[0][0] * MM / (mu_0 * r_gap[0])), rel=1e-9)
-    # Path averages, length-weighted over the four core segments (compare.hand).
+    # Path averages, length-weighted over the four core segments (compare.models.hand).
     lengths = {k: case_len for k, case_len in
                ((n, seg[n]["length"]) for n in SEG)}
     tot = sum(lengths.values())
@@ -184,7 +184,7 @@ EG, EN, EI_ = 0.4, 60, 1.5
 # Written out by hand: each limb runs between the yoke centre lines; each yoke
 # from the outer limb's centre line to the centre line of its half of the
 # centre limb (c/4 from the centre), so a T-junction square is counted once
-# (compare.families.EICore.segments).
+# (compare.design.families.EICore.segments).
 E_XL, E_XC = EO / 2, EO + EWW + EC / 2
 E_YB, E_YT = EY / 2, EWH + 2 * EY - EY / 2
 E_YOKE = E_XC - E_XL - EC / 4                 # 19.5 mm

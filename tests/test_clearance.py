@@ -9,11 +9,11 @@ from pathlib import Path
 import pytest
 from scipy.constants import mu_0
 
-from compare.casefile import case_from_dict
-from compare.errors import CaseError
-from compare.fe import case_layout, run_fe
-from compare.hand import run_hand
-from compare.keys import key_dimension, parse_vary
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.fe import case_layout, run_fe
+from magcheck.compare.models.hand import run_hand
+from magcheck.compare.design.keys import key_dimension, parse_vary
 
 from study_cases import ideal_window_core
 

@@ -10,7 +10,7 @@ import pytest
 from figures import assert_drawn
 from scipy.constants import mu_0
 
-from compare.cli import main
+from magcheck.compare.front.cli import main
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 HAND_KEYS = {"gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
@@ -127,12 +127,28 @@ def test_installed_console_script_runs_outside_the_source_tree(tmp_path):
     exe = shutil.which("magcheck")
     if exe is None:
         pytest.skip("magcheck is not installed (run the README's install command)")
-    code = ("import compare.commands.check, compare.commands.verify, fem2d.post, "
-            "analytic.materials; print(analytic.materials.builtin_names())")
+    import os
+
+    env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}  # the installed copy
+    code = ("import magcheck, magcheck.compare.front.commands.check, "
+            "magcheck.compare.front.commands.verify, magcheck.fem2d.post, "
+            "magcheck.analytic.materials as m; print(m.builtin_names()); "
+            "print(magcheck.__version__); print(magcheck.__file__)\n"
+            "from importlib import metadata\n"
+            "tops = {str(f).split('/')[0] for f in metadata.files('magcheck')}\n"
+            "print(sorted(t for t in tops if not t.startswith(('magcheck', '..'))))")
     out = subprocess.run([sys.executable, "-c", code], cwd=tmp_path, capture_output=True,
-                         text=True, timeout=120)
+                         text=True, timeout=120, env=env)
     assert out.returncode == 0, out.stderr
-    assert "demo-sisteel" in out.stdout
+    names, version, where, others = out.stdout.splitlines()
+    assert "demo-sisteel" in names
+    from importlib import metadata
+
+    assert version == metadata.version("magcheck")
+    assert str(tmp_path) not in where
+    # one import package: no generic top-level compare/, analytic/ or fem2d/
+    # (only magcheck/ and its dist-info; the console script sits in ../bin)
+    assert others == "[]"
     out = subprocess.run([exe, "materials"], cwd=tmp_path, capture_output=True, text=True,
                          timeout=120)
     assert out.returncode == 0, out.stderr

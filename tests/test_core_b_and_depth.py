@@ -2,11 +2,11 @@
 
 - Core B is the mean |B| along the mean path in both models: the hand's
   length-weighted mean over the path's branches, the FE's arc-length mean
-  over the path's points in the core (compare.fe.path_mean_core_b).
+  over the path's points in the core (compare.models.fe.path_mean_core_b).
 - A case and its mirror image give the same table.
 - The FE 3D column is the best-ranked depth model's hand 3D / planar ratio,
-  its uncertainty widened by the models' spread (compare.check.depth_correction).
-- A stack depth shorter than the gap is flagged (compare.casefile._depth_issues).
+  its uncertainty widened by the models' spread (compare.judge.check.depth_correction).
+- A stack depth shorter than the gap is flagged (compare.reading.casefile._depth_issues).
 """
 
 from __future__ import annotations
@@ -18,10 +18,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from compare.casefile import case_from_dict, plausibility_issues
-from compare.check import DEPTH_MODELS, depth_correction, run_check
-from compare.coremodel import core_model
-from compare.hand import run_hand
+from magcheck.compare.reading.casefile import case_from_dict, plausibility_issues
+from magcheck.compare.judge.check import DEPTH_MODELS, depth_correction, run_check
+from magcheck.compare.design.coremodel import core_model
+from magcheck.compare.models.hand import run_hand
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -45,15 +45,15 @@ def _inside(rects, x: np.ndarray, y: np.ndarray) -> np.ndarray:
 
 @pytest.mark.slow
 def test_rz_core_b_is_the_line_mean_of_b_along_the_mean_path():
-    # Independent of compare.fe: Gauss-Legendre quadrature of |B| along each
+    # Independent of compare.models.fe: Gauss-Legendre quadrature of |B| along each
     # leg of the pot core's mean path (B from the solution's own evaluation,
     # fem2d.post.sample_b), core membership from the core's rectangles (not
     # the mesh's element regions), divided by the length in the core.
     # Tolerance 0.3 %: the reported mean samples 2000 midpoints, so a gap
     # edge costs at most one sample (path 43.9 mm / 2000 = 0.022 mm, 5e-4 of
     # the path) and the quadrature here resolves the edges to 1e-4 of a leg.
-    from compare.fe import run_fe
-    from fem2d import post
+    from magcheck.compare.models.fe import run_fe
+    from magcheck.fem2d import post
 
     case = _case(_doc("demo_pot_core_choke.toml"))
     model = core_model(case)
@@ -179,7 +179,7 @@ def test_check_uses_the_best_ranked_depth_model_and_judges_margins_in_its_band()
     assert ind.fe_3d == pytest.approx(ind.fe * h3.inductance / hp.inductance, rel=1e-12)
     band = ind.fe_3d_uncertainty
     assert band > ind.uncertainty  # the spread widens it
-    from compare.serialize import check_json
+    from magcheck.compare.outputs.serialize import check_json
 
     doc = check_json(res)
     assert doc["fe"]["depth_correction_model"] == best
@@ -195,7 +195,7 @@ def test_check_uses_the_best_ranked_depth_model_and_judges_margins_in_its_band()
 
 
 def _ranking(res):
-    from compare.check import rank_fringing
+    from magcheck.compare.judge.check import rank_fringing
 
     return rank_fringing(res.case, res.fe)
 
@@ -210,7 +210,7 @@ def _depth_warnings(case) -> list:
                                             ("0.61 mm", False), ("20 mm", False)])
 def test_a_depth_shorter_than_the_gap_is_flagged(depth, flagged):
     # The demo choke's gap is 0.6 mm: the threshold is depth = gap length
-    # (compare.casefile.DEPTH_PER_GAP_MIN).
+    # (compare.reading.casefile.DEPTH_PER_GAP_MIN).
     d = _doc("demo_choke.toml")
     d["core"]["depth"] = depth
     ws = _depth_warnings(_case(d))

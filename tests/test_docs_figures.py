@@ -36,7 +36,7 @@ def test_stamp_is_read_back_from_a_written_png(tmp_path):
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
 
-    from compare.output import save_figure
+    from magcheck.compare.outputs.output import save_figure
 
     tool = _tool()
     fig, ax = plt.subplots()

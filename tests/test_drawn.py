@@ -21,11 +21,11 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from compare.casefile import case_from_dict, load_case
-from compare.coremodel import core_model
-from compare.errors import CaseError
-from compare.fe import case_layout, run_fe, run_fe_checked
-from compare.hand import HAND_KEYS, run_hand
+from magcheck.compare.reading.casefile import case_from_dict, load_case
+from magcheck.compare.design.coremodel import core_model
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.fe import case_layout, run_fe, run_fe_checked
+from magcheck.compare.models.hand import HAND_KEYS, run_hand
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -100,8 +100,8 @@ def test_drawn_regions_and_measures_follow_the_drawing():
 def test_thin_direction_of_a_tilted_gap():
     # a 10 x 0.5 strip turned by 30 degrees: its flux direction is the short
     # side's, (-sin 30, cos 30); exact for the second moments of a rectangle
-    from compare.families.drawn import DrawnRegion, _thin_direction
-    from fem2d.layout import Polygon
+    from magcheck.compare.design.families.drawn import DrawnRegion, _thin_direction
+    from magcheck.fem2d.layout import Polygon
 
     c, s = math.cos(math.radians(30)), math.sin(math.radians(30))
     pts = [(x * c - y * s, x * s + y * c) for x, y in ((0, 0), (10, 0), (10, 0.5), (0, 0.5))]
@@ -362,7 +362,7 @@ def test_axisymmetric_hand_applies_the_whole_fringing():
 
 @pytest.mark.slow
 def test_axisymmetric_check_runs_and_is_consistent():
-    from compare.check import run_check
+    from magcheck.compare.judge.check import run_check
 
     res = run_check(case_from_dict(_rz_pot()))
     fe = res.fe.values
@@ -405,7 +405,7 @@ def _magnet_ring(mu_c: float = 1e5) -> dict:
 
 
 def test_a_magnet_in_a_closed_ring_sits_on_its_recoil_line_in_both_models():
-    from fem2d import post
+    from magcheck.fem2d import post
 
     case = case_from_dict(_magnet_ring())
     # Source: exact for the series circuit (load line of a magnet closed by
@@ -496,8 +496,8 @@ def test_hand_force_is_minus_the_coenergy_derivative_along_the_stroke(fringing):
 
 @pytest.mark.slow
 def test_clapper_check_gives_force_rows_and_both_fe_methods_agree(tmp_path):
-    from compare.check import run_check
-    from compare.serialize import check_json
+    from magcheck.compare.judge.check import run_check
+    from magcheck.compare.outputs.serialize import check_json
 
     res = run_check(case_from_dict(_clapper()))
     rows = {r.key: r for r in res.rows}
@@ -584,7 +584,7 @@ def test_a_coil_side_drawn_in_pieces_carries_n_i_once():
     assert model.coils[0].area == pytest.approx(400e-6)
     go_region = next(r for r in case_layout(case).regions if r.name == "go")
     assert len(go_region.shapes) == 2
-    from compare.margins import current_density
+    from magcheck.compare.judge.margins import current_density
 
     assert current_density(case) == pytest.approx(80 * 6 / 400e-6)
 
@@ -593,8 +593,8 @@ def test_overlap_check_agrees_with_exact_rectangle_overlap():
     # Source: exact. Two axis-aligned rectangles overlap iff their x and y
     # ranges both overlap with positive length; 3000 random pairs on a grid
     # (so that edges often coincide, touch or cross)
-    from compare.families.drawn import _shapes_overlap
-    from fem2d.layout import Polygon
+    from magcheck.compare.design.families.drawn import _shapes_overlap
+    from magcheck.fem2d.layout import Polygon
 
     rng = np.random.default_rng(7)
     for _ in range(3000):
@@ -619,8 +619,8 @@ def test_a_drawing_in_the_wrong_unit_warns():
 
 @pytest.mark.slow
 def test_magnet_rows_json_and_demagnetisation_margin():
-    from compare.check import run_check
-    from compare.serialize import check_json
+    from magcheck.compare.judge.check import run_check
+    from magcheck.compare.outputs.serialize import check_json
 
     d = _magnet_ring()
     pm = d["regions"][1]
@@ -686,7 +686,7 @@ def test_magnet_energy_is_the_recoil_field_energy():
     # discrete solution, the weak form tested with A itself); with the
     # magnet's energy mu H^2/2 (from its own state) and B^2/(2 mu) elsewhere
     # the stored energy is then W = -(1/2) int_magnet H.B_r dV
-    from fem2d import post
+    from magcheck.fem2d import post
 
     d = _magnet_ring(mu_c=100.0)
     fe, sol, _ = run_fe(case_from_dict(d))
@@ -703,7 +703,7 @@ def test_axisymmetric_circuit_gap_takes_a_round_face():
     # a round face (r_outer, r_inner) is the disc's: its flux-tube fringing
     # round the circumference 2 pi r (analytic.fringing round faces), not the
     # equal-area square's round 4 sqrt(A)
-    from analytic.fringing import gap_permeance
+    from magcheck.analytic.fringing import gap_permeance
 
     d = _rz_pot()
     d["circuit"]["gaps"] = [{"name": "gap", "length": "1 mm", "r_outer": "5 mm",

@@ -1,4 +1,4 @@
-"""Voltage drive (compare.drive): the case keys and their refusals, the
+"""Voltage drive (compare.models.drive): the case keys and their refusals, the
 operating point each model finds, the EMF equation, and a linear core's
 sinusoidal magnetizing current in both models."""
 
@@ -11,10 +11,10 @@ from pathlib import Path
 
 import pytest
 
-from analytic.constants import mu_0
-from compare.casefile import case_from_dict
-from compare.errors import CaseError
-from compare.hand import run_hand
+from magcheck.analytic.constants import mu_0
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.hand import run_hand
 
 CASE = Path(__file__).resolve().parents[1] / "cases" / "demo_ei_transformer.toml"
 
@@ -41,14 +41,14 @@ def test_linear_ideal_core_drive_in_closed_form():
     lam_pk = math.sqrt(2) * 230 / (2 * math.pi * 50)
     L = run_hand(case).inductance
     assert case.winding.current == pytest.approx(lam_pk / L, rel=1e-9)
-    from compare.drive import hand_curve
-    from analytic.magnetizing import magnetizing_current
+    from magcheck.compare.models.drive import hand_curve
+    from magcheck.analytic.magnetizing import magnetizing_current
 
     m = magnetizing_current(*hand_curve(case, False, 1.02 * case.winding.current), lam_pk, 50.0)
     assert m.peak == pytest.approx(lam_pk / L, rel=1e-9)
     assert max(m.harmonics_pct.values()) < 1e-6
     # the inrush estimate's first peak (2 + r) lambda_pk on the same line
-    from compare.drive import hand_current_at
+    from magcheck.compare.models.drive import hand_current_at
 
     assert hand_current_at(case, 2.6 * lam_pk) == pytest.approx(2.6 * lam_pk / L, rel=1e-9)
 
@@ -56,7 +56,7 @@ def test_linear_ideal_core_drive_in_closed_form():
 def test_hand_peak_flux_density_is_the_emf_equation():
     # Source: the transformer EMF equation B_pk = V / (4.44 f N A_c) with
     # A_c the centre limb's 25 mm x 30 mm (4.44 = 2 pi / sqrt(2) unrounded)
-    from compare.drive import _limb_area
+    from magcheck.compare.models.drive import _limb_area
 
     case = case_from_dict(_doc())
     a_c = 25e-3 * 30e-3
@@ -113,7 +113,7 @@ def test_linear_core_fe_magnetizing_current_is_sinusoidal():
     # Source: exact for a linear field problem: lambda = L_FE i, so the FE's
     # magnetizing current is lambda_pk / L_FE sin(wt), harmonics nil (the
     # inversion of linear data is exact; Newton's tolerance bounds the rest)
-    from compare.check import run_check
+    from magcheck.compare.judge.check import run_check
 
     # and the inrush estimate's first peak (2 + r) lambda_pk / L_FE on the same line
     d = _doc()
@@ -144,7 +144,7 @@ def test_linear_core_fe_magnetizing_current_is_sinusoidal():
     margin = rows["margin:inrush_current_peak"]
     assert margin.fe == pytest.approx(2.6 * lam_pk / L_fe, rel=1e-6)  # judged on the planar FE
     assert 2.6 * lam_pk / L_fe < 1.0 and margin.verdict == "pass"
-    from compare.serialize import check_json
+    from magcheck.compare.outputs.serialize import check_json
 
     doc = check_json(res)
     assert doc["fe"]["inrush"]["current_peak"] == pytest.approx(res.drive.inrush["fe"])
@@ -158,8 +158,8 @@ def test_linear_core_damped_inrush_is_the_switched_rl_circuit():
     # Source: exact solution of the switched series RL circuit
     # (tests.test_magnetizing.rl_first_peak) with L the FE's own inductance:
     # a linear core makes d lambda/dt = v - R i that circuit in both models
-    from compare.check import run_check
-    from compare.serialize import check_json
+    from magcheck.compare.judge.check import run_check
+    from magcheck.compare.outputs.serialize import check_json
     from tests.test_magnetizing import rl_first_peak
 
     d = _doc()
@@ -209,7 +209,7 @@ def test_curve_continuation_reaches_the_target_on_a_saturating_curve():
     # plus the curve's concavity, and no step exceeds 3x the current
     from scipy.optimize import brentq
 
-    from compare.drive import continue_curve
+    from magcheck.compare.models.drive import continue_curve
 
     f = _tanh_curve()
     i, lam, sl, solve = _lists(f)
@@ -226,8 +226,8 @@ def test_curve_continuation_reaches_the_target_on_a_saturating_curve():
 
 
 def test_curve_continuation_that_cannot_reach_says_so():
-    from compare.drive import continue_curve
-    from compare.errors import RunError
+    from magcheck.compare.models.drive import continue_curve
+    from magcheck.compare.errors import RunError
 
     i, lam, sl, solve = _lists(_tanh_curve(c=0.0))  # never above 1 Wb-turn
     with pytest.raises(RunError, match="short of the inrush"):
@@ -243,7 +243,7 @@ def test_concentric_leakage_formula_typed_again():
     # for two concentric windings (Kulkarni and Khaparde, Transformer
     # Engineering, 2004, ch. 3 [from memory]); the demo's mean turn round the
     # 25 x 30 mm centre limb at the middle of the 0.5 mm space, typed again
-    from compare.coupling import hand_leakage, mean_turn
+    from magcheck.compare.models.coupling import hand_leakage, mean_turn
 
     case = case_from_dict(_doc())
     e = 0.8e-3 + 5e-3 + 0.25e-3
@@ -258,9 +258,9 @@ def test_fe_leakage_equals_the_short_circuit_inductance_of_its_matrix():
     # Source: exact for a linear field problem: the energy of balanced
     # ampere-turns is (1/2) I1^2 (L11 - L12^2 / L22) (the short-circuit
     # inductance); both scaled by the same mean-turn rule
-    from compare.coupling import fe_leakage, mean_turn
-    from compare.fe import mesh_case, solve_case
-    from fem2d import post
+    from magcheck.compare.models.coupling import fe_leakage, mean_turn
+    from magcheck.compare.models.fe import mesh_case, solve_case
+    from magcheck.fem2d import post
 
     d = _doc()
     d["materials"]["core"] = {"mu_r": 2000}
@@ -279,14 +279,14 @@ def test_fe_leakage_equals_the_short_circuit_inductance_of_its_matrix():
 
 def test_drive_rows_fe_3d_under_the_checks_depth_model():
     """The drive rows' FE 3D column takes the hand 3D / planar ratio of the
-    depth model the check chose (compare.check.choose_depth_model), like
+    depth model the check chose (compare.judge.check.choose_depth_model), like
     every other FE 3D value; without one, the case's own model's ratio, which
     is the drive's own hand_3d / hand (the same lambda-i recipe)."""
     import types
 
-    from analytic.magnetizing import magnetizing_current
-    from compare.check import DepthCorrection, drive_rows
-    from compare.drive import hand_curve, hand_depth_ratios, hand_peak_current
+    from magcheck.analytic.magnetizing import magnetizing_current
+    from magcheck.compare.judge.check import DepthCorrection, drive_rows
+    from magcheck.compare.models.drive import hand_curve, hand_depth_ratios, hand_peak_current
 
     doc = tomllib.loads((CASE.parent / "demo_choke.toml").read_text())
     doc["winding"].pop("current")

@@ -1,4 +1,4 @@
-"""Region outlines from DXF drawings (compare.dxf) on good and bad files."""
+"""Region outlines from DXF drawings (compare.design.dxf) on good and bad files."""
 from __future__ import annotations
 
 import math
@@ -8,10 +8,10 @@ from pathlib import Path
 import ezdxf
 import pytest
 
-from compare.dxf import ARC_STEP_DEG, read_dxf_regions
-from compare.errors import CaseError
-from fem2d.layout import AirBox, Disk, Layout, MeshSettings, Region
-from fem2d.mesh import build_mesh
+from magcheck.compare.design.dxf import ARC_STEP_DEG, read_dxf_regions
+from magcheck.compare.errors import CaseError
+from magcheck.fem2d.layout import AirBox, Disk, Layout, MeshSettings, Region
+from magcheck.fem2d.mesh import build_mesh
 
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT / "tools"))

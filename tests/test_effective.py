@@ -5,10 +5,10 @@ from __future__ import annotations
 import pytest
 from scipy.constants import mu_0
 
-from analytic.effective import EffectiveParametersError, effective_parameters
-from compare.casefile import case_from_dict
-from compare.errors import CaseError
-from compare.hand import run_hand
+from magcheck.analytic.effective import EffectiveParametersError, effective_parameters
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.hand import run_hand
 
 
 def test_effective_parameters_of_two_parts():
@@ -184,7 +184,7 @@ def test_every_family_with_an_effective_path_is_checked_against_iec_60205():
     # A built-in family that gains an effective path must get its sums
     # written out in the test above: every other one refuses the setting
     # (before it looks at any dimensions).
-    from compare.families import BUILTIN
+    from magcheck.compare.design.families import BUILTIN
 
     checked = {"ei-core", "window-core"}
     for family in BUILTIN:

@@ -8,8 +8,8 @@ from pathlib import Path
 
 import pytest
 
-from compare.executor import Progress, run_tasks, scheduler_address
-from compare.sweep import case_source, parse_vary, run_sweep
+from magcheck.compare.studies.executor import Progress, run_tasks, scheduler_address
+from magcheck.compare.studies.sweep import case_source, parse_vary, run_sweep
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -48,7 +48,7 @@ def test_progress_silent_when_not_a_terminal():
 
 
 def test_unreachable_scheduler_is_bad_input(capsys):
-    from compare.cli import main
+    from magcheck.compare.front.cli import main
 
     code = main(["sweep", str(CASES / "demo_choke.toml"), "--hand-only",
                  "--vary", "winding.current=1A,2A", "--scheduler", "tcp://127.0.0.1:9"])
@@ -91,7 +91,7 @@ class _Tty(io.StringIO):
 
 
 def test_progress_on_a_terminal_only_for_long_runs(monkeypatch):
-    import compare.executor as ex
+    import magcheck.compare.studies.executor as ex
 
     clock = iter([0.0, 0.0, 1.0, 5.0, 6.0])  # enter, then one reading per call
     monkeypatch.setattr(ex.time, "perf_counter", lambda: next(clock))
@@ -107,8 +107,8 @@ def test_progress_on_a_terminal_only_for_long_runs(monkeypatch):
 def test_scheduler_address_probe():
     import socket
 
-    from compare.errors import CaseError
-    from compare.executor import _probe_address
+    from magcheck.compare.errors import CaseError
+    from magcheck.compare.studies.executor import _probe_address
 
     # A closed loopback port refuses at once: bad input naming the option and value.
     with pytest.raises(CaseError) as exc:
@@ -127,8 +127,8 @@ def test_scheduler_address_probe():
 
 def test_default_workers_follow_the_task_count():
     # Few tasks run in this process: worker start-up (~2 s of imports) outweighs
-    # the gain (measured in compare.executor.MIN_TASKS_FOR_PROCESSES's docstring).
-    from compare.executor import MIN_TASKS_FOR_PROCESSES, default_workers
+    # the gain (measured in compare.studies.executor.MIN_TASKS_FOR_PROCESSES's docstring).
+    from magcheck.compare.studies.executor import MIN_TASKS_FOR_PROCESSES, default_workers
 
     assert default_workers(1) == 1
     assert default_workers(MIN_TASKS_FOR_PROCESSES - 1) == 1

@@ -5,12 +5,12 @@ from pathlib import Path
 
 import pytest
 
-from compare import families
-from compare.casefile import case_from_dict
-from compare.errors import CaseError
-from compare.families import FAMILIES, WindowCore, get_family, register
-from compare.hand import run_hand
-from compare.keys import key_dimension, parse_vary
+from magcheck.compare.design import families
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.errors import CaseError
+from magcheck.compare.design.families import FAMILIES, WindowCore, get_family, register
+from magcheck.compare.models.hand import run_hand
+from magcheck.compare.design.keys import key_dimension, parse_vary
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -23,7 +23,7 @@ class SquareFrame(WindowCore):
     core_keys = ("size", "limb_width", "depth")
 
     def read_core(self, t):
-        from compare.families.window_core import WindowCoreDims
+        from magcheck.compare.design.families.window_core import WindowCoreDims
 
         s = t.quantity("size", "length")
         w = t.quantity("limb_width", "length")

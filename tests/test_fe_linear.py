@@ -10,9 +10,9 @@ from pathlib import Path
 
 import pytest
 
-from compare.casefile import case_from_dict
-from compare.fe import run_fe
-from compare.hand import run_hand
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.models.fe import run_fe
+from magcheck.compare.models.hand import run_hand
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 

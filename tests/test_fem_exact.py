@@ -7,11 +7,11 @@ from scipy.constants import mu_0
 from scipy.integrate import quad
 from scipy.optimize import brentq
 
-from fem2d import post
-from fem2d.layout import AirBox, Annulus, Disk, Layout, MeshSettings, Rect, Region
-from fem2d.materials import AIR, BrauerReluctivity, LinearReluctivity
-from fem2d.mesh import build_mesh
-from fem2d.solver import solve
+from magcheck.fem2d import post
+from magcheck.fem2d.layout import AirBox, Annulus, Disk, Layout, MeshSettings, Rect, Region
+from magcheck.fem2d.materials import AIR, BrauerReluctivity, LinearReluctivity
+from magcheck.fem2d.mesh import build_mesh
+from magcheck.fem2d.solver import solve
 
 # test-only steel-like law (Brauer, IEEE Trans. Magn. MAG-11, 1975); mu_r(0) ~ 2000
 BRAUER = BrauerReluctivity(3.8, 2.17, 396.2)

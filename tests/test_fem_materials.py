@@ -6,8 +6,8 @@ import pytest
 from scipy.constants import mu_0
 from scipy.integrate import quad
 
-from fem2d.materials import (BrauerReluctivity, LinearReluctivity, MaterialError, coenergy_density,
-                             energy_density)
+from magcheck.fem2d.materials import (BrauerReluctivity, LinearReluctivity, MaterialError,
+                                      coenergy_density, energy_density)
 
 S = np.array([1e-6, 0.3, 1.0, 2.56, 4.0, 6.0, 9.0])
 

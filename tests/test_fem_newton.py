@@ -5,11 +5,11 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from fem2d import post
-from fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
-from fem2d.materials import AIR, BrauerReluctivity, LinearReluctivity
-from fem2d.mesh import build_mesh
-from fem2d.solver import ConvergenceError, solve
+from magcheck.fem2d import post
+from magcheck.fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
+from magcheck.fem2d.materials import AIR, BrauerReluctivity, LinearReluctivity
+from magcheck.fem2d.mesh import build_mesh
+from magcheck.fem2d.solver import ConvergenceError, solve
 
 BRAUER = BrauerReluctivity(3.8, 2.17, 396.2)  # test-only law (Brauer, IEEE Trans. Magn. MAG-11, 1975)
 N_TURNS = 50

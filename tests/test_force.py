@@ -5,14 +5,14 @@ import math
 import pytest
 from scipy.constants import mu_0
 
-from fem2d.force import maxwell_force, virtual_work_force
-from fem2d.layout import AirBox, Annulus, Disk, Layout, MeshSettings, Rect, Region
-from fem2d.materials import AIR, LinearReluctivity
-from fem2d.mesh import build_mesh
-from fem2d.post import PostError, coil_flux_linkage, region_mean_b
-from fem2d.solver import solve
-from fem2d.sources import Coil, Magnet, Sources
-from fem2d.verification import BRAUER, _gauss_square, loop_mutual_inductance
+from magcheck.fem2d.force import maxwell_force, virtual_work_force
+from magcheck.fem2d.layout import AirBox, Annulus, Disk, Layout, MeshSettings, Rect, Region
+from magcheck.fem2d.materials import AIR, LinearReluctivity
+from magcheck.fem2d.mesh import build_mesh
+from magcheck.fem2d.post import PostError, coil_flux_linkage, region_mean_b
+from magcheck.fem2d.solver import solve
+from magcheck.fem2d.sources import Coil, Magnet, Sources
+from magcheck.fem2d.verification import BRAUER, _gauss_square, loop_mutual_inductance
 
 A, D = 1e-3, 6e-3
 
@@ -185,7 +185,7 @@ def test_magnet_pulls_its_keeper_and_virtual_work_counts_the_remanence():
 
 @pytest.mark.slow
 def test_the_three_mesh_uncertainty_bounds_the_force_error():
-    # The FE uncertainty rule of every checked quantity (compare.fe.
+    # The FE uncertainty rule of every checked quantity (compare.models.fe.
     # uncertainty_rule: three meshes refined by 1.5) applied to the force:
     # for both methods on the saturating U core it bounds the difference to
     # a mesh twice finer than the finest (measured: U = 2.4e-4 of F, the
@@ -193,7 +193,7 @@ def test_the_three_mesh_uncertainty_bounds_the_force_error():
     import math
     from dataclasses import replace
 
-    from compare.fe import uncertainty_rule
+    from magcheck.compare.models.fe import uncertainty_rule
 
     lay0 = ucore(0.5 * MM)
     base = lay0.core_size()

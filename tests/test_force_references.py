@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from scipy.constants import mu_0
 
-from fem2d.verification import image_force_cylinder, magnet_pair_force
+from magcheck.fem2d.verification import image_force_cylinder, magnet_pair_force
 
 
 def _line_b(current, x0, y0, x, y):

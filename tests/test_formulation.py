@@ -10,15 +10,16 @@ import numpy as np
 import pytest
 from scipy.constants import mu_0
 
-from compare.cli import main
-from fem2d import post
-from fem2d.assembly import Assembler
-from fem2d.formulation import Axisymmetric, Planar
-from fem2d.layout import AirBox, Layout, LayoutError, MeshSettings, Rect, Region
-from fem2d.materials import AIR, BrauerReluctivity
-from fem2d.mesh import build_mesh
-from fem2d.solver import solve
-from fem2d.verification import _gauss_square, loop_field, loop_mutual_inductance, run_cases
+from magcheck.compare.front.cli import main
+from magcheck.fem2d import post
+from magcheck.fem2d.assembly import Assembler
+from magcheck.fem2d.formulation import Axisymmetric, Planar
+from magcheck.fem2d.layout import AirBox, Layout, LayoutError, MeshSettings, Rect, Region
+from magcheck.fem2d.materials import AIR, BrauerReluctivity
+from magcheck.fem2d.mesh import build_mesh
+from magcheck.fem2d.solver import solve
+from magcheck.fem2d.verification import (_gauss_square, loop_field, loop_mutual_inductance,
+                                         run_cases)
 
 A, S = 10e-3, 1e-3  # coil radius and section side (invented for the tests)
 

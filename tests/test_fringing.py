@@ -8,17 +8,9 @@ import numpy as np
 import pytest
 from scipy.constants import mu_0
 
-from analytic.fringing import (
-    FRINGING_MODELS,
-    GapFace,
-    GapFaceError,
-    GapSides,
-    UnknownModelError,
-    curved_tube_edge,
-    effective_area,
-    gap_permeance,
-    get_fringing,
-)
+from magcheck.analytic.fringing import (FRINGING_MODELS, GapFace, GapFaceError, GapSides,
+                                        UnknownModelError, curved_tube_edge, effective_area,
+                                        gap_permeance, get_fringing)
 
 FACE = GapFace(length=0.8e-3, width=12e-3, depth=20e-3, free_height=30e-3)  # invented for the test
 
@@ -124,7 +116,7 @@ def test_conformal_with_its_own_free_face_each_side():
     # element formula from memory]): each edge is two elements in series
     # (either side of the mid-gap plane), with the free face that side has;
     # the two edges' columns in parallel.  Composed here from the element.
-    from analytic.fringing import GapSides
+    from magcheck.analytic.fringing import GapSides
 
     g, a, b = 0.8e-3, 12e-3, 20e-3
     sides = GapSides(minus=(5e-3, 25e-3), plus=(40e-3, 40e-3), depth=(45e-3, 45e-3))
@@ -216,7 +208,7 @@ def test_flux_tube_model_edge_by_edge():
     # and a half hollow cylinder (mu0 L/pi) ln(1 + t/r_i), r_i = g/2.
     # Composed here: in-plane edges (length b) each with the shorter free face
     # of its two sides, capped by the room across; depth edges (length a).
-    from analytic.fringing import GapSides
+    from magcheck.analytic.fringing import GapSides
 
     g, a, b = 0.8e-3, 12e-3, 20e-3
     sides = GapSides(minus=(5e-3, 25e-3), plus=(40e-3, 40e-3), depth=(45e-3, 60e-3),
@@ -236,7 +228,7 @@ def test_flux_tube_model_edge_by_edge():
 def test_flux_tube_needs_room_beside_the_gap():
     # A window half as wide halves the tube's reach: less fringing, and the
     # half cylinder alone (0.26 per edge) when the room is ~0.
-    from analytic.fringing import GapSides
+    from magcheck.analytic.fringing import GapSides
 
     g, a = 1e-3, 10e-3
     wide = GapSides((30e-3, 30e-3), (30e-3, 30e-3), (30e-3, 30e-3), room=(20e-3, 20e-3))

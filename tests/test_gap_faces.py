@@ -11,13 +11,13 @@ from pathlib import Path
 
 import pytest
 
-from analytic.constants import mu_0
+from magcheck.analytic.constants import mu_0
 
-from analytic.fringing import flux_factor, gap_permeance
-from compare import api
-from compare.casefile import case_from_dict
-from compare.coremodel import core_model
-from compare.hand import gap_face
+from magcheck.analytic.fringing import flux_factor, gap_permeance
+from magcheck.compare.front import api
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.design.coremodel import core_model
+from magcheck.compare.models.hand import gap_face
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 

@@ -4,10 +4,10 @@ import math
 import pytest
 from scipy.constants import mu_0
 
-from analytic.bh import LinearMaterial
-from analytic.force import gap_closing_force, maxwell_pull, virtual_work_force
-from analytic.materials import builtin
-from analytic.network import CoreBranch, GapBranch, Network, Winding, solve_network
+from magcheck.analytic.bh import LinearMaterial
+from magcheck.analytic.force import gap_closing_force, maxwell_pull, virtual_work_force
+from magcheck.analytic.materials import builtin
+from magcheck.analytic.network import CoreBranch, GapBranch, Network, Winding, solve_network
 
 AREA, L_CORE, N, I = 4e-4, 0.25, 200, 3.0
 
@@ -62,7 +62,7 @@ def test_maxwell_pull_value_and_bad_input():
 # ---------------------------------------------- gap branches' geometry derivative
 def test_the_ideal_gap_derivative_is_minus_p0_over_g():
     # exact: P = mu0 a b / g, dP/dg = -P/g
-    from analytic.fringing import GapFace, gap_permeance_derivative
+    from magcheck.analytic.fringing import GapFace, gap_permeance_derivative
 
     face = GapFace(1e-3, 10e-3, 20e-3, 30e-3)
     d = gap_permeance_derivative(face, "none", planar=False)
@@ -76,9 +76,9 @@ def test_gap_forces_from_one_solve_equal_the_network_virtual_work(model, planar)
     # central difference of the network's co-energy over two solves with the
     # gap at g -/+ 1e-3 g (the same virtual-work principle two ways), in a
     # loop whose steel saturates (1.8 T) so the core's share is not trivial.
-    from analytic.fringing import FRINGING_MODELS, GapFace, GapSides, effective_area, \
-        gap_permeance, gap_permeance_derivative
-    from analytic.force import gap_forces
+    from magcheck.analytic.fringing import (FRINGING_MODELS, GapFace, GapSides, effective_area,
+                                            gap_permeance, gap_permeance_derivative)
+    from magcheck.analytic.force import gap_forces
 
     assert set(FRINGING_MODELS) == {"none", "area", "flux-factor", "conformal", "flux-tube"}
     steel = builtin("demo-sisteel")
@@ -105,7 +105,7 @@ def test_gap_forces_from_one_solve_equal_the_network_virtual_work(model, planar)
 
 
 def test_a_non_finite_permeance_derivative_is_refused():
-    from analytic.network import NetworkError
+    from magcheck.analytic.network import NetworkError
 
     with pytest.raises(NetworkError, match=r"'g': dpermeance_dlength = nan"):
         GapBranch("g", "a", "b", 1e-3, 1e-7, 1e-4, dpermeance_dlength=float("nan"))

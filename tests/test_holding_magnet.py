@@ -14,11 +14,11 @@ from pathlib import Path
 
 import pytest
 
-from analytic.constants import mu_0
-from compare.casefile import case_from_dict
-from compare.coremodel import core_model
-from compare.errors import CaseError
-from compare.hand import run_hand
+from magcheck.analytic.constants import mu_0
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.design.coremodel import core_model
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.hand import run_hand
 
 DATA = Path(__file__).resolve().parent / "data" / "holding_magnet.toml"
 
@@ -101,7 +101,7 @@ def test_bad_cores_name_the_key(core, key, words):
 
 @pytest.mark.slow
 def test_both_fe_force_methods_agree_on_the_keeper():
-    from compare.check import run_check
+    from magcheck.compare.judge.check import run_check
 
     res = run_check(case_from_dict(_doc()))
     fv = res.fe.fine.force_values
@@ -120,7 +120,7 @@ def test_fe_magnet_nearly_shorted_sits_at_the_load_line_intersection():
     # keeper 20 um away and iron of mu_r 1e5 the field solution must sit
     # there (the iron's own reluctance and the gaps' fringing are below
     # 1e-3 of it at this stroke: the gap is 1/400 of the pole's radius)
-    from compare.fe import run_fe
+    from magcheck.compare.models.fe import run_fe
 
     d = _doc(stroke="0.02 mm")
     d["materials"]["core"] = {"mu_r": 1e5}

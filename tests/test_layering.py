@@ -1,25 +1,34 @@
-"""The package layering: fem2d and analytic never import each other nor compare,
-and no module imports itself back through a cycle.
+"""The package layering, read from the source (ast) under the installed names.
 
-The imports are read from the source (ast), so a lazy import inside a function
-counts like a top-level one: a cycle hidden behind a function-level import is
-still a cycle of the design.
+- magcheck.fem2d and magcheck.analytic never import each other nor compare;
+- magcheck.compare's layers import one way only, downwards (:data:`LAYERS`);
+- no module imports itself back through a cycle;
+- pyproject.toml installs every package folder.
+
+A lazy import inside a function counts like a top-level one: a cycle or an
+upward edge hidden behind a function-level import is still one of the design.
 """
 
 from __future__ import annotations
 
 import ast
+import tomllib
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
-PACKAGES = ("fem2d", "analytic", "compare")
+PARTS = ("fem2d", "analytic", "compare")  # folders beside magcheck/, installed under it
+# compare's layers, lowest first: a module may import its own layer and the
+# layers below it, never one above.  "errors" is compare/errors.py (one
+# exceptions module for the package), "" the package's __init__.
+LAYERS = ("", "errors", "design", "models", "reading", "judge", "studies", "outputs", "front")
 
 
 def _modules() -> dict[str, Path]:
-    mods = {}
-    for pkg in PACKAGES:
-        for p in (ROOT / pkg).rglob("*.py"):
-            name = ".".join(p.relative_to(ROOT).with_suffix("").parts)
+    """Installed name -> source file, for magcheck and its three parts."""
+    mods = {"magcheck": ROOT / "magcheck" / "__init__.py"}
+    for part in PARTS:
+        for p in (ROOT / part).rglob("*.py"):
+            name = "magcheck." + ".".join(p.relative_to(ROOT).with_suffix("").parts)
             mods[name.removesuffix(".__init__")] = p
     return mods
 
@@ -50,15 +59,46 @@ def _graph() -> dict[str, set[str]]:
     return {m: _imports(m, p, mods) for m, p in mods.items()}
 
 
+def _part(mod: str) -> str:
+    return mod.split(".")[1] if mod.count(".") else ""
+
+
+def _layer(mod: str) -> int:
+    """The compare layer's rank of a module of magcheck.compare."""
+    parts = mod.split(".")
+    return LAYERS.index(parts[2] if len(parts) > 2 else "")
+
+
 def test_fem2d_and_analytic_stand_alone():
     bad = []
     for mod, deps in _graph().items():
-        top = mod.split(".")[0]
         for d in deps:
-            other = d.split(".")[0]
-            if top in ("fem2d", "analytic") and other != top:
+            if _part(mod) in ("fem2d", "analytic") and _part(d) != _part(mod):
                 bad.append(f"{mod} imports {d}")
     assert bad == []
+
+
+def test_compare_is_in_layers_importing_downwards_only():
+    folders = {p.name for p in (ROOT / "compare").iterdir()
+               if p.is_dir() and (p / "__init__.py").exists()}
+    files = {p.stem for p in (ROOT / "compare").glob("*.py")} - {"__init__"}
+    # every sub-package and top-level module of compare is a known layer
+    assert folders | files == set(LAYERS) - {""}
+    bad = []
+    for mod, deps in _graph().items():
+        if _part(mod) != "compare":
+            continue
+        for d in deps:
+            if _part(d) == "compare" and _layer(d) > _layer(mod):
+                bad.append(f"{mod} ({LAYERS[_layer(mod)]}) imports {d} ({LAYERS[_layer(d)]})")
+    assert bad == []
+
+
+def test_the_package_root_imports_only_the_front():
+    # magcheck/__init__ re-exports the API (lazily): it must not pull in
+    # anything else, so that `import magcheck.fem2d` stays a field engine alone
+    deps = _graph()["magcheck"]
+    assert deps <= {"magcheck.compare.front.api"}
 
 
 def test_no_import_cycle():
@@ -85,12 +125,30 @@ def test_no_import_cycle():
 
 
 def test_the_graph_is_read():
-    # the walker must see the known edges, or the two tests above prove nothing
+    # the walker must see the known edges, or the tests above prove nothing
     graph = _graph()
-    assert "compare.keys" in graph["compare.casefile"]
-    assert "compare.case" in graph["compare.casefile"]
-    assert "compare.case" in graph["compare.sweep"]
+    c = "magcheck.compare."
+    assert c + "design.keys" in graph[c + "reading.casefile"]
+    assert c + "design.case" in graph[c + "reading.casefile"]
+    assert c + "design.case" in graph[c + "studies.sweep"]
+    assert c + "models.drive" in graph[c + "reading.casefile"]  # a relative import, lazy
+    assert "magcheck.analytic.fringing" in graph[c + "judge.check"]  # an absolute one
     # the case model does not read files: the reader sits above it
-    assert "compare.casefile" not in graph["compare.case"]
-    assert "compare.families" in graph["compare.case"]
-    assert "fem2d.layout" in graph["fem2d.mesher"] or "fem2d.layout" in graph["fem2d.mesh"]
+    assert c + "reading.casefile" not in graph[c + "design.case"]
+    assert c + "design.families" in graph[c + "design.case"]
+    assert ("magcheck.fem2d.layout" in graph["magcheck.fem2d.mesher"]
+            or "magcheck.fem2d.layout" in graph["magcheck.fem2d.mesh"])
+    # and the layer test would see an upward edge
+    assert _layer(c + "models.fe") > _layer(c + "design.case")
+
+
+def test_pyproject_installs_every_package_folder():
+    """pyproject.toml lists the packages explicitly (package-dir maps the
+    three folders under magcheck): a folder left out would be missing from
+    the installed distribution."""
+    conf = tomllib.loads((ROOT / "pyproject.toml").read_text(encoding="utf-8"))["tool"]["setuptools"]
+    want = {"magcheck"} | {
+        "magcheck." + ".".join(p.parent.relative_to(ROOT).parts)
+        for part in PARTS for p in (ROOT / part).rglob("__init__.py")}
+    assert set(conf["packages"]) == want
+    assert conf["package-dir"] == {"magcheck": "magcheck", **{f"magcheck.{p}": p for p in PARTS}}

@@ -1,4 +1,4 @@
-"""Window leakage of the hand model (analytic.leakage, compare.hand).
+"""Window leakage of the hand model (analytic.leakage, compare.models.hand).
 
 Closed forms: with straight field lines across a window of width w, depth d
 and height h, the linkage-weighted permeance is (mu0 d / w) * integral u^2,
@@ -13,9 +13,9 @@ from pathlib import Path
 import pytest
 from scipy.constants import mu_0
 
-from analytic.leakage import LeakageError, window_leakage
-from compare.casefile import case_from_dict
-from compare.hand import run_hand
+from magcheck.analytic.leakage import LeakageError, window_leakage
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.models.hand import run_hand
 from study_cases import ideal_window_core
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
@@ -73,7 +73,7 @@ def test_leakage_adds_its_permeance_to_both_inductances_and_the_energy(name):
     # Linear addition of the across-window part (module docstring) to the
     # network's own values (which hold the yoke-to-yoke bypass):
     # L = L_net + N^2 P, W = W_net + N^2 P I^2/2.
-    from compare.hand import WINDING_NAME
+    from magcheck.compare.models.hand import WINDING_NAME
 
     on = run_hand(_case(name, leakage=True), planar=True)
     case = _case(name)
@@ -134,10 +134,10 @@ def _bypass_closed_form(width, clearance, build, height, depth):
     ("demo_choke.toml", None), ("demo_ei_inductor.toml", None),
     ("demo_choke.toml", 3.0), ("demo_ei_inductor.toml", 1.5)])
 def test_yoke_to_yoke_bypass_permeance_against_its_integral(name, clearance_mm):
-    # Every window's bypass branch (compare.hand.window_bypass) of a window
+    # Every window's bypass branch (compare.models.hand.window_bypass) of a window
     # core (one window) and an EI core (two), with and without a clearance
     # between limb and coil.
-    from compare.hand import window_bypass
+    from magcheck.compare.models.hand import window_bypass
 
     data = tomllib.loads((CASES / name).read_text())
     if clearance_mm is not None:
@@ -168,7 +168,7 @@ def test_leakage_brings_the_hand_inductance_toward_the_fe_for_three_window_shape
     # The model's approximation (straight field lines, fringing of the gap
     # and the window paths added) is stated in analytic.leakage: assert that
     # the leakage always helps and that the remainder is inside 4 %.
-    from compare.fe import run_fe
+    from magcheck.compare.models.fe import run_fe
 
     for ow, oh in ((40, 100), (60, 60), (100, 40)):
         q, _, _ = run_fe(ideal_window_core(ow, oh, "conformal"))

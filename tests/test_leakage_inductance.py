@@ -10,10 +10,10 @@ from pathlib import Path
 
 import pytest
 
-from analytic.leakage import rogowski_factor
-from compare.casefile import case_from_dict
-from compare.coupling import hand_leakage
-from compare.errors import CaseError
+from magcheck.analytic.leakage import rogowski_factor
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.models.coupling import hand_leakage
+from magcheck.compare.errors import CaseError
 from study_cases import pot_pair
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
@@ -68,8 +68,8 @@ def test_fe_leakage_tends_to_the_formula_as_the_windings_get_long():
     # halves with each doubling of h_w, and with the factor applied the
     # formula meets the FE within 1.5 % from h_w = 1.7 s on (plates 1 mm
     # from the windings' ends, which the factor does not know).
-    from compare.coupling import fe_leakage
-    from compare.fe import mesh_case
+    from magcheck.compare.models.coupling import fe_leakage
+    from magcheck.compare.models.fe import mesh_case
 
     rows = []
     for h in (6.0, 12.0, 24.0, 48.0):

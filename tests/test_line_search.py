@@ -15,7 +15,7 @@ from types import SimpleNamespace
 
 import numpy as np
 
-from fem2d.solver import _line_search
+from magcheck.fem2d.solver import _line_search
 
 B_KNEE, H_JUMP, H_SLOPE = 0.01, 1.4, 0.01  # invented for the test (A/m, T units dropped)
 LOAD = 1.0  # b: phi(a) = w(a) - LOAD a, phi'(0) = H(0) - LOAD = -1

@@ -12,11 +12,11 @@ import math
 import pytest
 from scipy.optimize import brentq
 
-from analytic.bh import LinearMaterial
-from analytic.constants import mu_0
-from analytic.materials import builtin
-from analytic.network import (CoreBranch, GapBranch, MagnetBranch, Network, NetworkError,
-                              Winding, solve_network)
+from magcheck.analytic.bh import LinearMaterial
+from magcheck.analytic.constants import mu_0
+from magcheck.analytic.materials import builtin
+from magcheck.analytic.network import (CoreBranch, GapBranch, MagnetBranch, Network, NetworkError,
+                                       Winding, solve_network)
 
 L_M, A_M, B_R, MU_R = 4e-3, 100e-6, 1.2, 1.05  # magnet: 4 mm long, 100 mm^2, 1.2 T, recoil 1.05
 G, A_G = 1e-3, 150e-6                           # gap 1 mm, face 150 mm^2

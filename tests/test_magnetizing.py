@@ -10,8 +10,8 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from analytic.magnetizing import (DriveError, inrush_flux_linkage, inrush_peak,
-                                  magnetizing_current, peak_flux_linkage)
+from magcheck.analytic.magnetizing import (DriveError, inrush_flux_linkage, inrush_peak,
+                                           magnetizing_current, peak_flux_linkage)
 
 
 def test_peak_flux_linkage_is_the_emf_equation():

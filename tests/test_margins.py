@@ -13,12 +13,12 @@ import pytest
 from scipy.constants import mu_0
 from scipy.optimize import brentq
 
-from compare.casefile import case_from_dict, load_case
-from compare.cli import main
-from compare.errors import CaseError
-from compare.hand import run_hand
-from compare.margins import (MarginResult, current_density, design_margins,
-                             hand_saturation_current, with_current)
+from magcheck.compare.reading.casefile import case_from_dict, load_case
+from magcheck.compare.front.cli import main
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.hand import run_hand
+from magcheck.compare.judge.margins import (MarginResult, current_density, design_margins,
+                                            hand_saturation_current, with_current)
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -178,7 +178,7 @@ def _plunger_doc() -> dict:
 
 
 def _stroke_point(i, stroke, current, fe_force, hand_force):
-    from compare.sweep import PointResult
+    from magcheck.compare.studies.sweep import PointResult
 
     return PointResult(i, {"core.stroke": stroke, "winding.current": current}, current,
                        {"force": hand_force}, {"force": hand_force}, math.nan,
@@ -188,7 +188,7 @@ def _stroke_point(i, stroke, current, fe_force, hand_force):
 def test_force_limits_are_judged_along_the_stroke_curve_at_the_case_current():
     # definition: linear interpolation of the FE force along the curve of the
     # case's own current (1 A), sorted by the stroke; outside the swept range: n/a
-    from compare.margins import stroke_margins
+    from magcheck.compare.judge.margins import stroke_margins
 
     d = _plunger_doc()
     d["margins"]["force"] = [{"stroke": "2.5 mm", "min": "6 N"}, {"stroke": "5.5 mm", "max": "1 N"}]
@@ -210,7 +210,7 @@ def test_force_limits_are_judged_along_the_stroke_curve_at_the_case_current():
     assert off["force@2.5mm:min"].verdict == "n/a"
     assert "not among the swept currents" in off["force@2.5mm:min"].note
     # a sweep that does not vary the stroke judges none of them
-    from compare.sweep import PointResult
+    from magcheck.compare.studies.sweep import PointResult
 
     flat = [PointResult(0, {"winding.current": 1.0}, 1.0, {"force": 1.0}, {"force": 1.0}, 0.0)]
     assert stroke_margins(case, flat, True) == []
@@ -288,8 +288,8 @@ def test_force_limit_needs_a_moving_part():
 def test_demagnetisation_is_judged_at_the_sweeps_worst_point():
     # definition: the largest demagnetising |H| over every point against the
     # grade's knee field (demo-hard-ferrite: -240 kA/m), the point named
-    from compare.margins import sweep_demagnetisation
-    from compare.sweep import PointResult
+    from magcheck.compare.judge.margins import sweep_demagnetisation
+    from magcheck.compare.studies.sweep import PointResult
 
     d = tomllib.loads((CASES / "demo_holding_magnet.toml").read_text())
     d.pop("sweep")
@@ -308,18 +308,18 @@ def test_demagnetisation_is_judged_at_the_sweeps_worst_point():
 def test_check_margin_at_another_current_ranks_the_depth_model_there(monkeypatch):
     """`magcheck check` judges an inductance margin at a current other than
     the case's on the FE 3D value with the depth model ranked against the FE
-    solved at that current (compare.check.choose_depth_model: the rule of the
+    solved at that current (compare.judge.check.choose_depth_model: the rule of the
     sweep and the tolerance study), not the model chosen at the case's
     current.  Stand-in FE: the "flux-tube" model's planar hand values at the
     case's 7 A, the "flux-factor" model's at the margin's 3 A."""
     import types
     from pathlib import Path
 
-    from compare import fe as fe_mod
-    from compare.casefile import load_case
-    from compare.check import depth_correction, margin_rows, rank_fringing
-    from compare.hand import run_hand
-    from compare.margins import with_current
+    from magcheck.compare.models import fe as fe_mod
+    from magcheck.compare.reading.casefile import load_case
+    from magcheck.compare.judge.check import depth_correction, margin_rows, rank_fringing
+    from magcheck.compare.models.hand import run_hand
+    from magcheck.compare.design.case import with_current
 
     path = Path(__file__).resolve().parents[1] / "cases" / "demo_choke_margins.toml"
     case0 = load_case(path)

@@ -9,11 +9,11 @@ from pathlib import Path
 
 import pytest
 
-from compare.casefile import case_from_dict, load_case
-from compare.cli import main
-from compare.errors import CaseError
-from compare.fe import MAX_TRIANGLES, case_layout, guard_mesh_size
-from fem2d.mesher import TRIANGLE_ESTIMATE_RATIO, estimate_triangles, mesh_layout
+from magcheck.compare.reading.casefile import case_from_dict, load_case
+from magcheck.compare.front.cli import main
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.fe import MAX_TRIANGLES, case_layout, guard_mesh_size
+from magcheck.fem2d.mesher import TRIANGLE_ESTIMATE_RATIO, estimate_triangles, mesh_layout
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -102,7 +102,7 @@ def test_sweep_and_tolerance_refuse_a_far_too_fine_mesh_before_running(command, 
 
 
 def test_allow_large_option_of_sweep_and_tolerance_reaches_every_derived_case(tmp_path):
-    from compare.sweep import case_source, make_case
+    from magcheck.compare.studies.sweep import case_source, make_case
 
     path = _tiny_mesh_case(tmp_path)
     src, case = case_source(path, allow_large=True)

@@ -10,17 +10,10 @@ import pytest
 from scipy.constants import mu_0
 from scipy.optimize import brentq
 
-from analytic.bh import BHRangeWarning, LinearMaterial
-from analytic.materials import builtin
-from analytic.network import (
-    ConvergenceError,
-    CoreBranch,
-    GapBranch,
-    Network,
-    NetworkError,
-    Winding,
-    solve_network,
-)
+from magcheck.analytic.bh import BHRangeWarning, LinearMaterial
+from magcheck.analytic.materials import builtin
+from magcheck.analytic.network import (ConvergenceError, CoreBranch, GapBranch, Network,
+                                       NetworkError, Winding, solve_network)
 
 SISTEEL = builtin("demo-sisteel")
 

@@ -10,10 +10,10 @@ from pathlib import Path
 
 import pytest
 
-from compare.casefile import case_from_dict
-from compare.cli import main
-from compare.errors import CaseError
-from compare.units import UnitError, parse_quantity
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.front.cli import main
+from magcheck.compare.errors import CaseError
+from magcheck.compare.design.units import UnitError, parse_quantity
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 CHOKE = str(CASES / "demo_choke.toml")
@@ -199,9 +199,9 @@ def test_a_solve_that_does_not_converge_says_so_in_one_line(tmp_path):
     import sys
 
     out = tmp_path / "c.json"
-    code = ("import functools, sys, fem2d.solver as s, compare.fe as fe; "
+    code = ("import functools, sys, magcheck.fem2d.solver as s, magcheck.compare.models.fe as fe; "
             "fe.solve = functools.partial(s.solve, max_iter=1); "
-            "from compare.cli import main; "
+            "from magcheck.compare.front.cli import main; "
             f"sys.exit(main(['check', {CHOKE!r}, '--no-error-estimate', '--json', {str(out)!r}]))")
     root = str(Path(__file__).resolve().parents[1])
     env = dict(os.environ, PYTHONPATH=root + os.pathsep + os.environ.get("PYTHONPATH", ""))
@@ -296,8 +296,8 @@ def test_key_paths_are_written_with_brackets_and_values_in_the_users_units(capsy
 
 
 def test_a_chord_slope_just_below_mu0_is_not_printed_as_1_mu0():
-    from analytic.bh import BHDataError, mu_0
-    from analytic.materials import bh_from_table
+    from magcheck.analytic.bh import BHDataError, mu_0
+    from magcheck.analytic.materials import bh_from_table
 
     with pytest.raises(BHDataError) as exc:
         bh_from_table([0, 1000, 2000, 3000], [0, 1.0, 1.2, 1.2 + 1000 * mu_0 * 0.9999999])
@@ -319,7 +319,7 @@ def test_control_and_bidi_characters_are_dropped_from_the_case_name():
 
 
 def test_a_case_name_is_literal_markdown():
-    from compare.serialize import markdown_text
+    from magcheck.compare.outputs.serialize import markdown_text
 
     text = markdown_text("<script>alert(1)</script> *B* [x](y) | `c` # h")
     assert "<script>" not in text and "*B*" not in text and "[x](y)" not in text
@@ -335,8 +335,8 @@ def test_a_swept_saturation_current_says_how_it_was_found(tmp_path, capsys):
     from the root by no more than the linear interpolation's error."""
     import json
 
-    from compare.casefile import load_case
-    from compare.margins import SWEPT_SATURATION_NOTE, hand_saturation_current
+    from magcheck.compare.reading.casefile import load_case
+    from magcheck.compare.judge.margins import SWEPT_SATURATION_NOTE, hand_saturation_current
 
     src = CASES / "demo_choke_margins.toml"
     out = tmp_path / "s.json"
@@ -364,7 +364,7 @@ def test_a_voltage_driven_windings_voltage_and_frequency_are_sweep_keys(tmp_path
     import json
     import math
 
-    from compare.keys import key_dimension
+    from magcheck.compare.design.keys import key_dimension
 
     assert key_dimension("windings[0].voltage") == "voltage"
     assert key_dimension("winding.frequency") == "frequency"
@@ -410,7 +410,7 @@ def test_a_drawn_outlines_crossing_is_given_in_the_drawings_units():
 
 def test_a_current_density_is_shown_in_a_per_mm2():
     """The case says "3 A/mm^2"; tables and JUnit said 3 MA/m^2."""
-    from compare.units import format_si
+    from magcheck.compare.design.units import format_si
 
     assert format_si(parse_quantity("3.2 A/mm^2", "current density"), "A/m^2") == "3.2 A/mm^2"
     assert format_si(2.4e6, "A/m^2") == "2.4 A/mm^2"
@@ -428,7 +428,7 @@ def test_a_worker_process_warning_is_said_once_in_one_line(tmp_path):
     root = str(Path(__file__).resolve().parents[1])
     env = dict(os.environ, PYTHONPATH=root + os.pathsep + os.environ.get("PYTHONPATH", ""))
     proc = subprocess.run(
-        [sys.executable, "-m", "compare.cli", "sweep", str(CASES / "demo_pot_core_choke.toml"),
+        [sys.executable, "-m", "magcheck.compare.front.cli", "sweep", str(CASES / "demo_pot_core_choke.toml"),
          "--hand-only", "--vary", "winding.current=0.5A:40A:40", "--workers", "2"],
         capture_output=True, text=True, timeout=300, cwd=root, env=env)
     assert proc.returncode in (0, 1), proc.stderr
@@ -455,7 +455,7 @@ def test_dev_stdout_on_a_pipe_is_written_into(tmp_path):
         pytest.skip("no /dev/stdout")
     root = str(Path(__file__).resolve().parents[1])
     env = dict(os.environ, PYTHONPATH=root + os.pathsep + os.environ.get("PYTHONPATH", ""))
-    proc = subprocess.run([sys.executable, "-m", "compare.cli", "hand", CHOKE, "--json",
+    proc = subprocess.run([sys.executable, "-m", "magcheck.compare.front.cli", "hand", CHOKE, "--json",
                            "/dev/stdout"], capture_output=True, text=True, timeout=120, env=env)
     assert proc.returncode == 0, proc.stderr
     start = proc.stdout.index("{\n")

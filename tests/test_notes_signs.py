@@ -1,6 +1,6 @@
 """Signs with a magnet, windings whose fields cancel, and canned notes that
-follow the numbers (compare.hand.signed, compare.check.build_rows/explain,
-compare.serialize).
+follow the numbers (compare.models.hand.signed, compare.judge.check.build_rows/explain,
+compare.outputs.serialize).
 
 Each note test builds the rows it reads with the note's condition true and
 false: a note claims a direction, a non-zero field or a current, and must not
@@ -16,12 +16,12 @@ from types import SimpleNamespace
 
 import pytest
 
-from compare.casefile import case_from_dict, load_case
-from compare.check import (HAND_KEYS, LABELS, NET_MMF_KEYS, Row, build_rows,
-                           cancelling_windings, explain)
-from compare.fe import FEQuantities, FEResult
-from compare.hand import UNITS, magnet_sense, run_hand, winding_keys
-from compare.serialize import breakdown_note, table_cells
+from magcheck.compare.reading.casefile import case_from_dict, load_case
+from magcheck.compare.judge.check import (HAND_KEYS, LABELS, NET_MMF_KEYS, Row, build_rows,
+                                          cancelling_windings, explain)
+from magcheck.compare.models.fe import FEQuantities, FEResult
+from magcheck.compare.models.hand import UNITS, magnet_sense, run_hand, winding_keys
+from magcheck.compare.outputs.serialize import breakdown_note, table_cells
 
 ROOT = Path(__file__).resolve().parents[1]
 MAGNET = ROOT / "tests" / "data" / "holding_magnet.toml"
@@ -37,7 +37,7 @@ def _magnet_case(current: float):
 def _cancel_case(current_b: float = 2.0):
     """The coupled-inductor demo with equal windings (60 turns, 2 A): on the
     window core's two vertical limbs positive currents oppose round the loop
-    (compare.hand.winding_signs gives (1, -1))."""
+    (compare.models.hand.winding_signs gives (1, -1))."""
     d = tomllib.loads(COUPLED.read_text())
     a, b = d["windings"]
     a["current"], b["turns"], b["current"] = 2.0, 60, current_b
@@ -47,7 +47,7 @@ def _cancel_case(current_b: float = 2.0):
 # ----------------------------------------------------------------- magnets: signs
 @pytest.mark.parametrize("current", [-1.0, 0.0, 1.0])
 def test_hand_magnet_quantities_point_along_the_magnet(current):
-    # Source: definition (compare.hand.signed): with a magnet, flux, gap B and
+    # Source: definition (compare.models.hand.signed): with a magnet, flux, gap B and
     # flux linkage are positive along the magnet's own direction; a +-1 A
     # release coil moves the demo's 100 A-turns against a magnet MMF of
     # B_r l_m / (mu0 mu_r) = 1.47 kA-turns, far from reversing the flux.
@@ -75,10 +75,10 @@ def test_the_negative_current_releases_this_holding_magnet():
 
 @pytest.mark.slow
 def test_fe_and_rows_with_a_magnet_at_the_release_current():
-    # Source: definition (compare.hand.signed), both models: at -1 A (the
+    # Source: definition (compare.models.hand.signed), both models: at -1 A (the
     # release sign) the gap B, flux and flux linkage are positive in the FE
     # as in the hand column, and lambda/I is info while dlambda/dI is judged.
-    from compare.check import run_check
+    from magcheck.compare.judge.check import run_check
 
     res = run_check(_magnet_case(-1.0), estimate_error=False)
     r = {row.key: row for row in res.rows}
@@ -247,11 +247,11 @@ def _reversed_ring(current: float) -> dict:
 
 @pytest.mark.slow
 def test_a_magnet_against_the_coil_signs_positive_in_both_models():
-    # Source: definition (compare.hand.signed): values along the magnet's own
+    # Source: definition (compare.models.hand.signed): values along the magnet's own
     # direction, whichever way the coil is wound.  Closed ring, iron mu_r 1e5:
     # 500 A-turns against the magnet's B_r l_m/(mu0 mu_r) = 1.82 kA-turns
     # moves the magnet's B by 0.33 T on the load line without reversing it.
-    from compare.fe import run_fe
+    from magcheck.compare.models.fe import run_fe
 
     seen = {}
     for i in (-500.0, 0.0, 500.0):
@@ -298,10 +298,10 @@ def test_gap_note_blames_a_fringing_model_only_when_there_is_one():
 def test_hand_command_prints_a_cancellation_as_zeros_and_says_so():
     import io
 
-    from compare.commands.hand import print_hand
+    from magcheck.compare.front.commands.hand import print_hand
 
     case = _cancel_case()
-    from compare.units import format_si
+    from magcheck.compare.design.units import format_si
 
     out = io.StringIO()
     h = run_hand(case)

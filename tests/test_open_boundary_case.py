@@ -4,8 +4,8 @@ from dataclasses import replace
 
 import pytest
 
-from compare.casefile import load_case
-from compare.fe import run_fe
+from magcheck.compare.reading.casefile import load_case
+from magcheck.compare.models.fe import run_fe
 
 pytestmark = pytest.mark.slow
 

@@ -14,8 +14,8 @@ from pathlib import Path
 
 import pytest
 
-from compare.cli import COMMANDS, main
-from compare.output import write_output
+from magcheck.compare.front.cli import COMMANDS, main
+from magcheck.compare.outputs.output import write_output
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 CHOKE = str(CASES / "demo_choke.toml")
@@ -29,7 +29,7 @@ def _must_not_run(args):
 def no_run(monkeypatch):
     """Every command's run() fails the test: a refusal must come before it."""
     for name in COMMANDS:
-        monkeypatch.setattr(importlib.import_module(f"compare.commands.{name}"), "run",
+        monkeypatch.setattr(importlib.import_module(f"magcheck.compare.front.commands.{name}"), "run",
                             _must_not_run)
 
 
@@ -173,7 +173,7 @@ def test_an_unwritable_output_is_refused_before_the_run(argv, words, folder, cap
 def test_a_write_failure_after_the_run_names_the_option_and_the_path(folder, capsys, monkeypatch):
     """Should a write still fail late (a disk filling during the solve), the one
     line names the option and the path given, never a temporary file."""
-    import compare.output as output
+    import magcheck.compare.outputs.output as output
 
     def full(path, data):
         raise OSError(28, "No space left on device", f"{folder}/.h.json.abc.tmp")
@@ -204,7 +204,7 @@ def test_valid_outputs_pass_the_early_check(folder, capsys):
 def test_text_stream():
     import sys
 
-    from compare.output import text_stream
+    from magcheck.compare.outputs.output import text_stream
 
     assert text_stream(None, "a.json") is sys.stdout
     assert text_stream(None, "-") is sys.stderr

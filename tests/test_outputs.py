@@ -15,8 +15,8 @@ from pathlib import Path
 
 import pytest
 
-from compare.cli import main
-from compare.output import save_figure, write_json, write_output
+from magcheck.compare.front.cli import main
+from magcheck.compare.outputs.output import save_figure, write_json, write_output
 
 ROOT = Path(__file__).resolve().parents[1]
 CASES = ROOT / "cases"
@@ -157,7 +157,7 @@ def test_save_figure_formats(tmp_path):
 
 # --------------------------------------------------------------------- pipes, signals
 def test_closed_stdout_ends_quietly_with_exit_0():
-    proc = subprocess.Popen([sys.executable, "-m", "compare.cli", "hand", CHOKE],
+    proc = subprocess.Popen([sys.executable, "-m", "magcheck.compare.front.cli", "hand", CHOKE],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, cwd=ROOT, env=_env())
     assert proc.stdout is not None and proc.stderr is not None
     proc.stdout.readline()
@@ -224,7 +224,7 @@ def _children(pid: int) -> list[int]:
 def test_ctrl_c_exits_130_with_one_line_and_no_orphans(tmp_path):
     out = tmp_path / "sweep.json"
     proc = subprocess.Popen(
-        [sys.executable, "-m", "compare.cli", "sweep", CHOKE, "--vary",
+        [sys.executable, "-m", "magcheck.compare.front.cli", "sweep", CHOKE, "--vary",
          "winding.current=1:12A:24", "--workers", "2", "--json", str(out)],
         stdout=subprocess.PIPE, stderr=subprocess.PIPE, cwd=ROOT, env=_env(),
         preexec_fn=_sigint_default, start_new_session=True)
@@ -259,7 +259,7 @@ def test_ctrl_c_while_gmsh_meshes_exits_at_once(tmp_path):
     text = (CASES / "demo_choke.toml").read_text()
     case.write_text(text.replace("[fe]\n", '[fe]\nmesh_size = "0.1 mm"\nallow_large = true\n'))
     out = tmp_path / "fine.json"
-    proc = subprocess.Popen([sys.executable, "-m", "compare.cli", "check", str(case), "-v",
+    proc = subprocess.Popen([sys.executable, "-m", "magcheck.compare.front.cli", "check", str(case), "-v",
                              "--json", str(out)],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, cwd=ROOT, env=_env(),
                             preexec_fn=_sigint_default, start_new_session=True)
@@ -294,7 +294,7 @@ def _on_a_terminal(args: list[str], cwd: Path) -> tuple[int, str]:
     """Run the CLI under a pseudo-terminal (stdout is a tty, so rich is used)."""
     import pty
 
-    code = (f"import sys; sys.path.insert(0, {str(ROOT)!r}); from compare.cli import main; "
+    code = (f"import sys; sys.path.insert(0, {str(ROOT)!r}); from magcheck.compare.front.cli import main; "
             f"sys.exit(main({args!r}))")
     master, slave = pty.openpty()
     proc = subprocess.Popen([sys.executable, "-c", code], stdin=slave, stdout=slave,
@@ -334,7 +334,7 @@ def test_verbose_after_the_sub_command(capsys):
 
 def test_version(capsys):
     with pytest.raises(SystemExit) as exc:
-        from compare.cli import build_parser
+        from magcheck.compare.front.cli import build_parser
 
         build_parser().parse_args(["--version"])
     assert exc.value.code == 0

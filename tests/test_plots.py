@@ -14,8 +14,8 @@ import numpy as np  # noqa: E402
 import pytest  # noqa: E402
 from matplotlib.colors import to_rgb  # noqa: E402
 
-from compare.plots import sweep_figures, tolerance_figure  # noqa: E402
-from compare.sweep import case_source, parse_vary, run_sweep, sweep_margins  # noqa: E402
+from magcheck.compare.outputs.plots import sweep_figures, tolerance_figure  # noqa: E402
+from magcheck.compare.studies.sweep import case_source, parse_vary, run_sweep, sweep_margins  # noqa: E402
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 MARGINS = CASES / "demo_choke_margins.toml"
@@ -64,8 +64,8 @@ def test_sweep_inductance_panel_marks_the_saturation_currents(fe_sweep):
 
 
 def test_tolerance_histograms_count_in_integers_and_draw_the_limits():
-    from compare.commands.tolerance import _labels
-    from compare.tolerance import run_tolerance
+    from magcheck.compare.front.commands.tolerance import _labels
+    from magcheck.compare.studies.tolerance import run_tolerance
 
     src, case = case_source(MARGINS)
     res = run_tolerance(src, samples=25, seed=3, fe_samples=0)

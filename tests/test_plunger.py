@@ -17,11 +17,11 @@ from pathlib import Path
 import pytest
 from scipy.integrate import quad
 
-from analytic.constants import mu_0
-from compare.casefile import case_from_dict
-from compare.coremodel import core_model
-from compare.errors import CaseError
-from compare.hand import build_network, run_hand
+from magcheck.analytic.constants import mu_0
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.design.coremodel import core_model
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.hand import build_network, run_hand
 
 CASE = Path(__file__).resolve().parents[1] / "cases" / "demo_plunger_solenoid.toml"
 
@@ -107,7 +107,7 @@ def test_gap_tubes_and_coil_space_leakage_share_no_volume(stroke):
     # the coil space) fill the coil space within t of the gap; the coil-space
     # leakage (radial, plunger or stop side to the shell) must begin there.
     # Before, both filled the whole 7.5 mm space (hand L +11.4 % over the FE).
-    from analytic.fringing import GapSides
+    from magcheck.analytic.fringing import GapSides
 
     model = core_model(case_from_dict(_doc(stroke=f"{stroke * 1e3} mm")))
     face = model.circuit.gaps[0].face
@@ -217,7 +217,7 @@ def test_fe_force_tends_to_the_pull_of_its_own_gap_field():
     # a part of order g / r_plunger, so the FE force over the pull of the FE's
     # own mean gap B tends to 1 in proportion to g as the gap closes (linear
     # iron, so saturation does not enter)
-    from compare.fe import run_fe
+    from magcheck.compare.models.fe import run_fe
 
     d = _doc()
     d["materials"]["core"] = {"mu_r": 1e4}
@@ -234,7 +234,7 @@ def test_fe_force_tends_to_the_pull_of_its_own_gap_field():
 
 @pytest.mark.slow
 def test_check_force_methods_agree():
-    from compare.check import run_check
+    from magcheck.compare.judge.check import run_check
 
     res = run_check(case_from_dict(_doc()))
     fv = res.fe.fine.force_values

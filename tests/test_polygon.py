@@ -2,8 +2,8 @@
 import numpy as np
 import pytest
 
-from fem2d.layout import AirBox, Layout, LayoutError, MeshSettings, Polygon, Region
-from fem2d.mesh import build_mesh
+from magcheck.fem2d.layout import AirBox, Layout, LayoutError, MeshSettings, Polygon, Region
+from magcheck.fem2d.mesh import build_mesh
 
 FRAME = ((0.0, 0.0), (0.06, 0.0), (0.06, 0.07), (0.0, 0.07))
 WINDOW = ((0.012, 0.012), (0.048, 0.012), (0.048, 0.058), (0.012, 0.058))

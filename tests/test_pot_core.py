@@ -15,12 +15,12 @@ from pathlib import Path
 import pytest
 from scipy.integrate import quad
 
-from analytic.constants import mu_0
-from compare.casefile import case_from_dict
-from compare.coremodel import core_model
-from compare.errors import CaseError
-from compare.families.base import coil_space_leakage
-from compare.hand import run_hand
+from magcheck.analytic.constants import mu_0
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.design.coremodel import core_model
+from magcheck.compare.errors import CaseError
+from magcheck.compare.design.families.base import coil_space_leakage
+from magcheck.compare.models.hand import run_hand
 
 CASE = Path(__file__).resolve().parents[1] / "cases" / "demo_pot_core_choke.toml"
 

@@ -52,7 +52,7 @@ def test_a_stale_number_is_rewritten():
 
 
 def test_command_reference_lists_every_option_of_the_parser():
-    from compare.cli import COMMANDS, build_parser
+    from magcheck.compare.front.cli import COMMANDS, build_parser
 
     tool = _tool()
     ref = tool.block_commands()

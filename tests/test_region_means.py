@@ -13,12 +13,12 @@ import pytest
 from scipy.constants import mu_0
 from scipy.integrate import dblquad
 
-from fem2d import post
-from fem2d.formulation import Axisymmetric
-from fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
-from fem2d.materials import AIR, LinearReluctivity
-from fem2d.mesh import build_mesh
-from fem2d.solver import solve
+from magcheck.fem2d import post
+from magcheck.fem2d.formulation import Axisymmetric
+from magcheck.fem2d.layout import AirBox, Layout, MeshSettings, Rect, Region
+from magcheck.fem2d.materials import AIR, LinearReluctivity
+from magcheck.fem2d.mesh import build_mesh
+from magcheck.fem2d.solver import solve
 
 # a ring of rectangular section, r in [R0, R1], z in [Z0, Z1] (invented for the
 # test): r spans a factor 4, so an unweighted mean of a field varying with r

@@ -9,9 +9,9 @@ from pathlib import Path
 
 import pytest
 
-from compare.casefile import case_from_dict, load_case
-from compare.check import run_check
-from compare.report import write_report
+from magcheck.compare.reading.casefile import case_from_dict, load_case
+from magcheck.compare.judge.check import run_check
+from magcheck.compare.outputs.report import write_report
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -48,7 +48,7 @@ def test_report_escapes_case_text(report):
 
 
 def test_gap_figure_uses_the_case_names_and_is_left_out_without_a_gap(tmp_path):
-    from compare.plots import fig_gap_line
+    from magcheck.compare.outputs.plots import fig_gap_line
 
     data = tomllib.loads((CASES / "demo_choke.toml").read_text())
     res = run_check(case_from_dict(data, base_dir=CASES), estimate_error=False)
@@ -64,7 +64,7 @@ def test_gap_figure_uses_the_case_names_and_is_left_out_without_a_gap(tmp_path):
 def test_path_h_axis_is_linear_within_a_decade(report):
     # The demo choke's |H| along the path spans less than a decade: a linear
     # axis with its default ticks, not a log axis with two labels.
-    from compare.plots import fig_path_h
+    from magcheck.compare.outputs.plots import fig_path_h
 
     _, _, _, res = report
     ax = fig_path_h(res).axes[0]
@@ -79,8 +79,8 @@ def test_flux_lines_count_the_flux_between_them(report):
     import numpy as np
     from matplotlib.colors import LogNorm
 
-    from compare.plots import fig_flux, flux_caption, flux_levels
-    from fem2d import post
+    from magcheck.compare.outputs.plots import fig_flux, flux_caption, flux_levels
+    from magcheck.fem2d import post
 
     _, _, _, res = report
     sol = res.fe.solution

@@ -15,11 +15,11 @@ from pathlib import Path
 
 import pytest
 
-from compare.casefile import load_case
-from compare.check import _diff_pct, _verdict
-from compare.fe import mesh_case, solve_case
-from compare.hand import run_hand
-from compare.margins import with_current
+from magcheck.compare.reading.casefile import load_case
+from magcheck.compare.judge.check import _diff_pct, _verdict
+from magcheck.compare.models.fe import mesh_case, solve_case
+from magcheck.compare.models.hand import run_hand
+from magcheck.compare.design.case import with_current
 
 CASES = Path(__file__).resolve().parent.parent / "cases"
 
@@ -91,12 +91,12 @@ def test_a_zero_fe_value_gets_no_verdict() -> None:
 def test_zero_current_check_reports_small_signal_inductance_and_na() -> None:
     import json
 
-    from compare.casefile import case_from_dict
-    from compare.check import ZERO_AT_ZERO_CURRENT, run_check
+    from magcheck.compare.reading.casefile import case_from_dict
+    from magcheck.compare.judge.check import ZERO_AT_ZERO_CURRENT, run_check
     import tomllib
 
-    from compare.output import _clean
-    from compare.serialize import check_json, table_cells
+    from magcheck.compare.outputs.output import _clean
+    from magcheck.compare.outputs.serialize import check_json, table_cells
 
     data = tomllib.loads((CASES / "demo_choke.toml").read_text())
     data["winding"]["current"] = "0 A"
@@ -127,7 +127,7 @@ def test_zero_current_check_reports_small_signal_inductance_and_na() -> None:
 def test_saturation_current_and_inductance_do_not_depend_on_the_sign() -> None:
     # Source: exact symmetry (module docstring) - L(-I) = L(I), so the
     # current at which L has dropped by d is the same |I| for both signs.
-    from compare.margins import hand_saturation_current, saturation_from_curve
+    from magcheck.compare.judge.margins import hand_saturation_current, saturation_from_curve
     case = load_case(CASES / "demo_saturating_choke.toml")
     i = case.winding.current
     pos = hand_saturation_current(with_current(case, i), 0.2)

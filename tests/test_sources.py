@@ -6,14 +6,14 @@ import numpy as np
 import pytest
 from scipy.constants import mu_0
 
-from fem2d import post
-from fem2d.exterior import ring_tensor
-from fem2d.layout import AirBox, Disk, Layout, LayoutError, MeshSettings, Rect, Region
-from fem2d.materials import AIR
-from fem2d.mesh import build_mesh
-from fem2d.solver import SolverInputError, solve
-from fem2d.sources import Background, Coil, Magnet, Sources
-from fem2d.verification import BRAUER, loop_mutual_inductance
+from magcheck.fem2d import post
+from magcheck.fem2d.exterior import ring_tensor
+from magcheck.fem2d.layout import AirBox, Disk, Layout, LayoutError, MeshSettings, Rect, Region
+from magcheck.fem2d.materials import AIR
+from magcheck.fem2d.mesh import build_mesh
+from magcheck.fem2d.solver import SolverInputError, solve
+from magcheck.fem2d.sources import Background, Coil, Magnet, Sources
+from magcheck.fem2d.verification import BRAUER, loop_mutual_inductance
 
 
 def _pair(open_: bool, factor: float, size: float = 2.5e-4):
@@ -176,7 +176,7 @@ def test_magnet_coenergy_is_half_the_remanence_times_h():
     # B_r . H dV; for a sphere magnet H_in = -B_r/(mu0 (mu_r + 2)) (uniform,
     # Jackson, Classical Electrodynamics, 1999, sec. 5.10), hence
     # W' = -B_r^2 V / (2 mu0 (mu_r + 2)). r-z, open boundary.
-    from fem2d.layout import HalfDisk
+    from magcheck.fem2d.layout import HalfDisk
 
     a, br, mu_r = 5e-3, 1.2, 1.05
     lay = Layout((Region("magnet", (HalfDisk(0.0, 0.0, a),), "m", kind="magnet"),),

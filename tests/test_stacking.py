@@ -9,9 +9,9 @@ from pathlib import Path
 import pytest
 from scipy.constants import mu_0
 
-from compare.casefile import case_from_dict
-from compare.errors import CaseError
-from compare.hand import build_network, run_hand
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.hand import build_network, run_hand
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -51,7 +51,7 @@ def test_linear_core_reluctance_rises_by_one_over_k_s():
 
 def test_fe_solves_the_homogenised_core():
     # B = mu0 H + k_s J(H): a linear core becomes mu_r,eff = 1 + k_s (mu_r - 1) (exact).
-    from compare.fe import _materials
+    from magcheck.compare.models.fe import _materials
 
     law = _materials(_case(0.8, False, mu_r=300.0))["core"]
     assert law.mu_r == pytest.approx(1 + 0.8 * 299.0, rel=1e-15)

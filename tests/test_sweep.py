@@ -12,14 +12,15 @@ from figures import assert_drawn
 from scipy.constants import mu_0
 from scipy.optimize import brentq
 
-from analytic.bh import LinearMaterial
-from analytic.materials import builtin
-from compare.cli import main
-from compare.errors import CaseError
-from compare.hand import run_hand
-from compare.margins import hand_saturation_current, saturation_from_curve, with_current
-from compare.sweep import (case_source, make_case, parse_vary, run_block, run_sweep, scale_law,
-                           sweep_margins)
+from magcheck.analytic.bh import LinearMaterial
+from magcheck.analytic.materials import builtin
+from magcheck.compare.front.cli import main
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.hand import run_hand
+from magcheck.compare.design.case import with_current
+from magcheck.compare.judge.margins import hand_saturation_current, saturation_from_curve
+from magcheck.compare.studies.sweep import (case_source, make_case, parse_vary, run_block,
+                                            run_sweep, scale_law, sweep_margins)
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 CHOKE = CASES / "demo_choke.toml"
@@ -85,7 +86,7 @@ def test_scale_law_acts_on_polarisation():
     k_h, k_b = 1.1, 0.95
     s = scale_law(law, k_h, k_b)
     h = np.array([10.0, 100.0, 1e3, 1e4, 1e5])
-    # Source: exact, by the definition in compare.sweep.scale_law:
+    # Source: exact, by the definition in compare.studies.sweep.scale_law:
     # B_new(H) = mu0 H + k_b (B(H/k_h) - mu0 H/k_h).
     expect = mu_0 * h + k_b * (law.b_of_h(h / k_h) - mu_0 * h / k_h)
     # 2e-6: the curve is rebuilt by monotone cubic interpolation through the
@@ -115,7 +116,7 @@ def test_saturation_from_curve_exact_function():
 
 def _independent_hand_root(case, drop: float) -> float:
     """Root of L_inc(I) = (1 - drop) L_inc(0) on the 3D hand model, by bisection
-    bracket from a scan; written apart from compare.margins."""
+    bracket from a scan; written apart from compare.judge.margins."""
     def L(i):
         return run_hand(with_current(case, i)).incremental_inductance
 
@@ -257,9 +258,9 @@ def test_sweep_cli_outputs(tmp_path):
 
 
 def test_failed_point_reported_not_raised(fe_src, monkeypatch):
-    from compare import fe as fe_mod
-    from compare.errors import RunError
-    from compare.sweep import plan_sweep
+    from magcheck.compare.models import fe as fe_mod
+    from magcheck.compare.errors import RunError
+    from magcheck.compare.studies.sweep import plan_sweep
 
     tasks = plan_sweep(fe_src, [parse_vary("winding.current=2A,4A")])
 
@@ -285,7 +286,7 @@ def _stand_in_fe(monkeypatch, values: dict) -> None:
     """Replace the sweep's mesh and field solve by fixed planar FE values."""
     import types
 
-    from compare import fe as fe_mod
+    from magcheck.compare.models import fe as fe_mod
 
     def solve_case_full(case, mesh, **kw):
         q = types.SimpleNamespace(values=dict(values), force_values={}, magnet_values={},
@@ -300,14 +301,14 @@ def _stand_in_fe(monkeypatch, values: dict) -> None:
 def test_sweep_fe_3d_inductance_equals_check(monkeypatch):
     """A sweep point's FE 3D inductance is the number `magcheck check` shows
     for the same case and the same planar FE values: the depth model ranked
-    against the point's FE (compare.check.choose_depth_model), not the case's
+    against the point's FE (compare.judge.check.choose_depth_model), not the case's
     own fringing model.  The stand-in FE is the "flux-tube" model's planar
     hand values with the inductance 1 % off, so the ranking picks a model
     other than the case's ("area") and the two rules give different numbers."""
     import types
 
-    from compare.check import depth_correction, rank_fringing
-    from compare.sweep import _fe_3d, plan_sweep, sweep_rows
+    from magcheck.compare.judge.check import depth_correction, rank_fringing
+    from magcheck.compare.studies.sweep import _fe_3d, plan_sweep, sweep_rows
 
     src = case_source(CHOKE)[0]
     case = make_case(src, {"winding.current": 6.0})
@@ -339,7 +340,7 @@ def test_sweep_fe_3d_inductance_equals_check(monkeypatch):
 def test_hand_only_sweep_keeps_the_case_model():
     """Without FE values a point keeps the case's own fringing model for the
     depth correction, and says so (``depth_basis`` "case")."""
-    from compare.sweep import sweep_rows
+    from magcheck.compare.studies.sweep import sweep_rows
 
     src = case_source(CHOKE)[0]
     res = run_sweep(src, [parse_vary("winding.current=2A,6A")], with_fe=False)

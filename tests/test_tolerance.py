@@ -11,15 +11,15 @@ import numpy as np
 import pytest
 from figures import assert_drawn
 
-from compare.case import Tolerance
+from magcheck.compare.design.case import Tolerance
 
-from compare.casefile import load_case
-from compare.check import choose_depth_model, fe_3d_factor
-from compare.cli import main
-from compare.errors import CaseError
-from compare.fe import run_fe
-from compare.sweep import case_source, make_case
-from compare.tolerance import draw_samples, run_tolerance
+from magcheck.compare.reading.casefile import load_case
+from magcheck.compare.judge.check import choose_depth_model, fe_3d_factor
+from magcheck.compare.front.cli import main
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.fe import run_fe
+from magcheck.compare.studies.sweep import case_source, make_case
+from magcheck.compare.studies.tolerance import draw_samples, run_tolerance
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 MARGINS = CASES / "demo_choke_margins.toml"
@@ -186,9 +186,9 @@ def affine_fe(monkeypatch):
     """Replace the FE solve by an exact affine function of the 3D hand values."""
     import types
 
-    from compare import fe as fe_mod
-    from compare.hand import run_hand
-    from compare.tolerance import _hand_peak
+    from magcheck.compare.models import fe as fe_mod
+    from magcheck.compare.models.hand import run_hand
+    from magcheck.compare.studies.tolerance import _hand_peak
 
     calls = []
 
@@ -235,7 +235,7 @@ def test_mean_ratio_branch_with_two_fe_samples(tmp_path, affine_fe):
     res = run_tolerance(src, samples=5, seed=5, fe_samples=2, workers=1)
     hand = np.array([s.hand_inductance for s in res.samples])
     fe = A_L + B_L * hand[:2]
-    # Closed form of the branch (compare/tolerance.py): with fewer than 3 FE
+    # Closed form of the branch (compare/studies/tolerance.py): with fewer than 3 FE
     # samples the correction is the mean of FE/hand over them.
     r = np.mean(fe / hand[:2])
     assert res.values["inductance"][:2] == pytest.approx(fe, rel=1e-12)
@@ -271,7 +271,7 @@ def test_straight_line_branch_recovers_intercept_and_slope(tmp_path, affine_fe):
 def _printed(res) -> str:
     import io
 
-    from compare.commands.tolerance import print_tolerance
+    from magcheck.compare.front.commands.tolerance import print_tolerance
     buf = io.StringIO()
     print_tolerance(res, buf)
     return buf.getvalue()
@@ -280,7 +280,7 @@ def _printed(res) -> str:
 @pytest.mark.parametrize("m", [1, 2])
 def test_printed_text_names_the_mean_ratio_below_three_fe_samples(tmp_path, affine_fe, m):
     # The estimator with fewer than 3 FE samples is the mean FE/hand ratio
-    # (compare/tolerance.py): the printed text must say so, not "a + b hand".
+    # (compare/studies/tolerance.py): the printed text must say so, not "a + b hand".
     src = linear_tolerance_source(tmp_path)
     res = run_tolerance(src, samples=4, seed=5, fe_samples=m, workers=1)
     text = " ".join(_printed(res).split())
@@ -325,14 +325,14 @@ def test_fe_samples_judge_force_and_demagnetisation_on_the_field_solution(tmp_pa
 def test_fe_sample_margin_at_another_current_ranks_the_depth_model_there(tmp_path, monkeypatch):
     """An FE sample's inductance margin at a current other than the case's
     is judged on the FE 3D value with the depth model ranked against the FE
-    at that current (compare.check.choose_depth_model), as `magcheck check`
+    at that current (compare.judge.check.choose_depth_model), as `magcheck check`
     and the sweep do.  Stand-in FE: the "flux-tube" model's planar hand
     values, so the ranking picks it over the case's "area" model."""
     import types
 
-    from compare import fe as fe_mod
-    from compare.hand import run_hand
-    from compare.margins import with_current
+    from magcheck.compare.models import fe as fe_mod
+    from magcheck.compare.models.hand import run_hand
+    from magcheck.compare.design.case import with_current
 
     text = MARGINS.read_text().replace('at = "6 A"', 'at = "3 A"')
     p = tmp_path / "m.toml"

@@ -13,12 +13,12 @@ from pathlib import Path
 
 import pytest
 
-from analytic.constants import mu_0
-from compare.casefile import case_from_dict
-from compare.coremodel import core_model
-from compare.errors import CaseError
-from compare.fe import case_layout
-from compare.hand import run_hand
+from magcheck.analytic.constants import mu_0
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.design.coremodel import core_model
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.fe import case_layout
+from magcheck.compare.models.hand import run_hand
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -91,7 +91,7 @@ def test_two_windings_on_both_legs_add_with_the_legs_sense():
     # the same N I split over both legs drives the same flux (ideal core) when
     # the right leg's current is reversed: coils placed alike on the two legs
     # drive each leg's flux the same way (down), which is opposite senses round
-    # the loop, as in both models (compare.geometry.flux_direction)
+    # the loop, as in both models (compare.design.geometry.flux_direction)
     one = _doc()
     one["materials"]["core"] = {"mu_r": 1e9}
     two = _doc()
@@ -126,7 +126,7 @@ def test_gaps_table_is_refused():
 
 @pytest.mark.slow
 def test_check_force_methods_agree_and_converge():
-    from compare.check import run_check
+    from magcheck.compare.judge.check import run_check
 
     res = run_check(case_from_dict(_doc()))
     fv = res.fe.fine.force_values
@@ -140,9 +140,9 @@ def test_check_force_methods_agree_and_converge():
 
 @pytest.mark.slow
 def test_force_stroke_sweep(tmp_path):
-    from compare.keys import parse_vary
-    from compare.plots import sweep_figures
-    from compare.sweep import case_source, run_sweep, sweep_rows
+    from magcheck.compare.design.keys import parse_vary
+    from magcheck.compare.outputs.plots import sweep_figures
+    from magcheck.compare.studies.sweep import case_source, run_sweep, sweep_rows
 
     src, case = case_source(CASES / "demo_clapper_relay.toml")
     res = run_sweep(src, [parse_vary("core.stroke=0.3mm,0.6mm,1.2mm", family=case.family_model)],

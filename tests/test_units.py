@@ -4,7 +4,7 @@ import math
 
 import pytest
 
-from compare.units import UnitError, format_si, parse_quantity
+from magcheck.compare.design.units import UnitError, format_si, parse_quantity
 
 
 @pytest.mark.parametrize("text,dim,si", [

@@ -16,10 +16,10 @@ from types import SimpleNamespace
 
 import pytest
 
-from compare.casefile import case_from_dict, load_case
-from compare.check import (INCONCLUSIVE, NOISE, CheckResult, Row, _diff_pct, _verdict,
-                           winding_rows)
-from compare.cli import main
+from magcheck.compare.reading.casefile import case_from_dict, load_case
+from magcheck.compare.judge.check import (INCONCLUSIVE, NOISE, CheckResult, Row, _diff_pct,
+                                          _verdict, winding_rows)
+from magcheck.compare.front.cli import main
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -120,7 +120,7 @@ def test_coupling_and_leakage_notes_say_what_they_bound():
     p["current"] = "50 mA"
     d.pop("margins")
     d["fe"] = {"mesh_size": "3 mm", "gap_elements": 2}
-    from compare.check import run_check
+    from magcheck.compare.judge.check import run_check
 
     res = run_check(case_from_dict(d), estimate_error=False)
     rows = {r.key: r for r in res.rows}
@@ -223,8 +223,8 @@ def test_verify_two_verdicts_junit_and_known_disagreements(wide_gap, tmp_path, c
     assert main(args + ["--agreement", "report"]) == 0
     capsys.readouterr()
     # the baseline entry beside the case stores the same FAIL: known, exit 0
-    from compare.baseline import snapshot
-    from compare.check import run_check
+    from magcheck.compare.judge.baseline import snapshot
+    from magcheck.compare.judge.check import run_check
 
     res = run_check(load_case(case), estimate_error=False)
     entry = snapshot(res)

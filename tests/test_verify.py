@@ -9,11 +9,11 @@ from pathlib import Path
 
 import pytest
 
-from compare.baseline import snapshot
-from compare.casefile import load_case
-from compare.check import run_check
-from compare.cli import main
-from compare.verify import find_cases, run_verify
+from magcheck.compare.judge.baseline import snapshot
+from magcheck.compare.reading.casefile import load_case
+from magcheck.compare.judge.check import run_check
+from magcheck.compare.front.cli import main
+from magcheck.compare.studies.verify import find_cases, run_verify
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -107,7 +107,7 @@ def test_baseline_drift_flagged(folder, tmp_path):
     items = [i for i in res.outcomes[0].items if i.group == "baseline"]
     assert [i.verdict for i in items] == ["pass"]
     # A stored hand value 1 % off is drift: the hand tolerance is 1e-6
-    # relative (compare.baseline: the circuit solve is converged to 1e-10).
+    # relative (compare.judge.baseline: the circuit solve is converged to 1e-10).
     stored["good"]["hand"]["inductance"] *= 1.01
     base.write_text(json.dumps(stored))
     res = run_verify([path], baseline=base, workers=1)
@@ -142,8 +142,8 @@ def test_declared_sweep_margins(tmp_path):
     # the sweep's currents and the crossing of L_inc = 0.8 L_inc(0) by linear
     # interpolation written out here. Tolerance 1e-5: the sweep warm-starts
     # its Newton solves, so each L agrees to the Newton tolerance (~1e-6).
-    from compare.fe import run_fe
-    from compare.margins import with_current
+    from magcheck.compare.models.fe import run_fe
+    from magcheck.compare.design.case import with_current
 
     case = load_case(p)
     currents = (0.0, 4.0, 8.0)

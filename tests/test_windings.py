@@ -10,13 +10,14 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from compare.casefile import case_from_dict
-from compare.check import run_check
-from compare.errors import CaseError
-from compare.fe import case_layout, coil_name, mesh_case, run_fe, solve_case, winding_currents
-from compare.hand import run_hand
-from compare.keys import key_dimension, parse_vary
-from compare.serialize import check_json
+from magcheck.compare.reading.casefile import case_from_dict
+from magcheck.compare.judge.check import run_check
+from magcheck.compare.errors import CaseError
+from magcheck.compare.models.fe import (case_layout, coil_name, mesh_case, run_fe, solve_case,
+                                        winding_currents)
+from magcheck.compare.models.hand import run_hand
+from magcheck.compare.design.keys import key_dimension, parse_vary
+from magcheck.compare.outputs.serialize import check_json
 
 CASES = Path(__file__).resolve().parents[1] / "cases"
 
@@ -118,7 +119,7 @@ def test_fe_matrix_symmetric_first_entry_as_one_winding_and_equal_to_finite_diff
         <= res.fe.uncertainty["incremental_inductance"]
     # the matrix from the tangent solves against central differences of
     # the flux linkages in the other winding's current (1e-4, on one mesh)
-    from fem2d import post
+    from magcheck.fem2d import post
 
     mesh = mesh_case(case)
     d = 0.01
@@ -160,7 +161,7 @@ def test_check_reports_the_matrix_rows_and_json(tmp_path):
 
 
 def test_one_winding_json_keeps_its_keys_and_adds_a_one_by_one_matrix():
-    from compare.casefile import load_case
+    from magcheck.compare.reading.casefile import load_case
 
     h = run_hand(load_case(CASES / "demo_choke.toml")).to_dict()
     assert h["windings"] == ["main"]
@@ -203,7 +204,7 @@ def test_the_fe_signs_follow_the_same_rule():
 
 
 def test_the_first_windings_keys_work_in_either_form_of_the_file():
-    from compare.api import sweep
+    from magcheck.compare.front.api import sweep
 
     sw = sweep(_doc(), "winding.current=1A,2A", with_fe=False)
     assert [p.current for p in sw.points] == [1.0, 2.0]

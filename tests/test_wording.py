@@ -13,8 +13,8 @@ from types import SimpleNamespace
 
 import pytest
 
-from compare.casefile import load_case
-from compare.check import LABELS, Row, explain
+from magcheck.compare.reading.casefile import load_case
+from magcheck.compare.judge.check import LABELS, Row, explain
 
 CASES = Path(__file__).resolve().parent.parent / "cases"
 KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
@@ -96,8 +96,8 @@ ALL_AGREEMENT = ("gap_B, core_B, path_H, flux, flux_linkage, inductance, "
 
 
 def test_agreement_typo_lists_every_key_with_a_suggestion() -> None:
-    from compare.casefile import case_from_dict
-    from compare.errors import CaseError
+    from magcheck.compare.reading.casefile import case_from_dict
+    from magcheck.compare.errors import CaseError
     data = _demo_dict()
     data.setdefault("margins", {})["agreement"] = {"inductanse": 8}
     with pytest.raises(CaseError) as exc:
@@ -110,8 +110,8 @@ def test_agreement_typo_lists_every_key_with_a_suggestion() -> None:
 
 
 def test_agreement_unknown_key_beside_a_valid_one_lists_all_keys() -> None:
-    from compare.casefile import case_from_dict
-    from compare.errors import CaseError
+    from magcheck.compare.reading.casefile import case_from_dict
+    from magcheck.compare.errors import CaseError
     data = _demo_dict()
     # (a key like no valid one: "foo" now resembles "force")
     data.setdefault("margins", {})["agreement"] = {"inductance": 8, "zzq": 3}
@@ -127,7 +127,7 @@ def _case_with(**edits) -> "object":
     """demo_choke with edits {"table.key": value}, loaded with warnings recorded."""
     import warnings
 
-    from compare.casefile import case_from_dict
+    from magcheck.compare.reading.casefile import case_from_dict
     data = _demo_dict()
     for dotted, value in edits.items():
         table, key = dotted.split(".")
@@ -158,7 +158,7 @@ def test_tiny_depth_warns() -> None:
 def test_sub_micron_gap_warns() -> None:
     import warnings
 
-    from compare.casefile import case_from_dict
+    from magcheck.compare.reading.casefile import case_from_dict
     data = _demo_dict()
     data["gaps"][0]["length"] = "0.5 um"
     with warnings.catch_warnings(record=True) as caught:
@@ -169,7 +169,7 @@ def test_sub_micron_gap_warns() -> None:
 
 
 def test_air_like_core_warns_and_the_notes_say_so() -> None:
-    from compare.casefile import plausibility_issues
+    from magcheck.compare.reading.casefile import plausibility_issues
     case, msgs = _case_with(**{"materials.core": {"mu_r": 1}})
     assert any(m.startswith("materials.core.mu_r = 1.0: core mu_r below 5") for m in msgs), msgs
     rows = _rows()
@@ -191,7 +191,7 @@ def test_bh_curve_initial_permeability_is_checked() -> None:
 def test_bundled_cases_raise_no_plausibility_warning() -> None:
     import warnings
 
-    from compare.casefile import load_case
+    from magcheck.compare.reading.casefile import load_case
     for path in sorted(CASES.glob("*.toml")):
         with warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")
@@ -202,7 +202,7 @@ def test_bundled_cases_raise_no_plausibility_warning() -> None:
 def test_within_fe_noise_only_inside_the_uncertainty():
     # 'within FE noise' means |hand - FE| <= the FE uncertainty, nothing wider
     # (README, "The check"); just outside it the agreement limit decides.
-    from compare.check import _verdict
+    from magcheck.compare.judge.check import _verdict
 
     fe, unc = 1.0, 0.01
     assert _verdict(0.5, 1.005, fe, unc, 10.0) == "within FE noise"

@@ -19,7 +19,7 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 
-#: docs figure -> (case file, figure function name in compare.plots)
+#: docs figure -> (case file, figure function name in compare.outputs.plots)
 DOCS_FIGURES = {
     "docs/demo_choke_flux.png": ("cases/demo_choke.toml", "fig_flux"),
 }
@@ -30,8 +30,8 @@ def stamp(res) -> str:
     """The values that define a flux figure, as one line of text."""
     import numpy as np
 
-    from compare.plots import flux_levels
-    from fem2d import post
+    from magcheck.compare.outputs.plots import flux_levels
+    from magcheck.fem2d import post
 
     bmax = float(np.linalg.norm(post.b_elements(res.fe.solution), axis=0).max())
     _, per_line = flux_levels(res)
@@ -40,8 +40,8 @@ def stamp(res) -> str:
 
 
 def _result(case_file: str):
-    from compare.casefile import load_case
-    from compare.check import run_check
+    from magcheck.compare.reading.casefile import load_case
+    from magcheck.compare.judge.check import run_check
 
     return run_check(load_case(ROOT / case_file), estimate_error=False)
 
@@ -57,8 +57,8 @@ def stored_stamp(png: Path) -> str | None:
 def make(name: str) -> Path:
     import matplotlib.pyplot as plt
 
-    from compare import plots
-    from compare.output import save_figure
+    from magcheck.compare.outputs import plots
+    from magcheck.compare.outputs.output import save_figure
 
     case_file, fig_name = DOCS_FIGURES[name]
     res = _result(case_file)

@@ -60,7 +60,7 @@ def _baseline() -> dict:
 
 
 def _case(name: str):
-    from compare.casefile import load_case
+    from magcheck.compare.reading.casefile import load_case
 
     return load_case(ROOT / "cases" / f"{name}.toml")
 
@@ -88,8 +88,8 @@ def _signed(x: float, digits: int = 1) -> str:
 # ------------------------------------------------------------ quick blocks
 def block_commands() -> str:
     """The command reference: every sub-command's usage and options, from
-    the argument parser (compare/cli.py, compare/commands/*)."""
-    from compare.cli import COMMANDS, build_parser
+    the argument parser (compare/front/cli.py, compare/front/commands/*)."""
+    from magcheck.compare.front.cli import COMMANDS, build_parser
 
     parser = build_parser()
     subs = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))
@@ -131,8 +131,8 @@ def block_choke_L() -> str:
 
 @lru_cache(maxsize=1)
 def _choke_breakdown():
-    from compare.breakdown import BREAKDOWN_KEYS, difference_breakdown
-    from compare.check import rank_fringing
+    from magcheck.compare.judge.breakdown import BREAKDOWN_KEYS, difference_breakdown
+    from magcheck.compare.judge.check import rank_fringing
 
     case = _case("demo_choke")
     fe = types.SimpleNamespace(values=_baseline()["demo-choke"]["fe"])
@@ -142,7 +142,7 @@ def _choke_breakdown():
 
 def block_choke_breakdown() -> str:
     """The difference-breakdown table of the demo choke, from the stored FE
-    values and the hand model's steps (compare.breakdown)."""
+    values and the hand model's steps (compare.judge.breakdown)."""
     keys, steps = _choke_breakdown()
     heads = {"gap_B": "gap B", "core_B": "core B", "path_H": "path H", "flux": "flux",
              "inductance": "L", "incremental_inductance": "dL/dI"}
@@ -192,7 +192,7 @@ def block_plunger_force_3mm() -> str:
 def block_ei_leakage() -> str:
     """The demo EI's planar hand inductance against the stored FE value,
     without and with window leakage (the case's conformal fringing)."""
-    from compare.hand import run_hand
+    from magcheck.compare.models.hand import run_hand
 
     case = _case("demo_ei_inductor")
     fe = _baseline()["demo-ei-inductor"]["fe"]["inductance"]
@@ -201,8 +201,8 @@ def block_ei_leakage() -> str:
 
 
 def block_agreement_limits() -> str:
-    """The default agreement limits of the main rows (compare.check.DEFAULT_LIMITS)."""
-    from compare.check import DEFAULT_LIMITS
+    """The default agreement limits of the main rows (compare.judge.check.DEFAULT_LIMITS)."""
+    from magcheck.compare.judge.check import DEFAULT_LIMITS
 
     names = (("gap_B", "gap B"), ("core_B", "core B"),
              ("path_H", "path-averaged H"), ("flux", "flux"), ("flux_linkage", "flux linkage"),
@@ -216,7 +216,7 @@ def block_agreement_limits() -> str:
 
 def block_magnet_grades() -> str:
     """The built-in magnet grades (analytic.magnets.MAGNET_GRADES)."""
-    from analytic.magnets import MAGNET_GRADES
+    from magcheck.analytic.magnets import MAGNET_GRADES
 
     parts = []
     for i, g in enumerate(MAGNET_GRADES.values()):
@@ -229,14 +229,14 @@ def block_magnet_grades() -> str:
 
 
 def block_mesh_ratio() -> str:
-    from fem2d.mesher import TRIANGLE_ESTIMATE_RATIO
+    from magcheck.fem2d.mesher import TRIANGLE_ESTIMATE_RATIO
 
     lo, hi = TRIANGLE_ESTIMATE_RATIO
     return f"{lo:g}-{hi:g}x"
 
 
 def block_selftest_force_count() -> str:
-    from fem2d.verification import CASES
+    from magcheck.fem2d.verification import CASES
 
     n = sum("force" in name for name in CASES)
     words = {5: "five", 6: "six", 7: "seven", 8: "eight", 9: "nine", 10: "ten"}
@@ -246,7 +246,7 @@ def block_selftest_force_count() -> str:
 # ------------------------------------------------------------- slow blocks
 def block_choke_check() -> str:
     """The printout of ``magcheck check cases/demo_choke.toml`` (FE run)."""
-    from compare.cli import main
+    from magcheck.compare.front.cli import main
 
     buf = io.StringIO()
     with redirect_stdout(buf):
@@ -260,7 +260,7 @@ def _force_sweep(case: str, strokes: tuple[str, ...]) -> dict[str, dict]:
     """stroke -> {hand, hand_pull, fe, fe_vw, fe_peak_B}: a sweep of the
     stroke with both models (N, T; hand in the planar form like the sweep
     table)."""
-    from compare import api
+    from magcheck.compare.front import api
 
     sw = api.sweep(str(ROOT / "cases" / f"{case}.toml"), "core.stroke=" + ",".join(strokes))
     return {s: {"hand": p.hand_planar["force"], "hand_pull": p.hand_planar["force_pull"],
@@ -320,9 +320,9 @@ def _transformer() -> dict:
     inrush and leakage-inductance figures of both models."""
     from dataclasses import replace
 
-    from analytic.magnetizing import inrush_peak
-    from compare.check import run_check
-    from compare.coupling import hand_leakage
+    from magcheck.analytic.magnetizing import inrush_peak
+    from magcheck.compare.judge.check import run_check
+    from magcheck.compare.models.coupling import hand_leakage
 
     case = _case("demo_ei_transformer")
     res = run_check(case)
@@ -398,7 +398,7 @@ SELFTEST_FORCES = (  # README row label -> selftest cases (fem2d.verification.CA
 
 def block_selftest_forces() -> str:
     """The selftest's force cases on the quick meshes (fem2d.verification)."""
-    from fem2d.verification import run_cases
+    from magcheck.fem2d.verification import run_cases
 
     names = tuple(n for *_, group in SELFTEST_FORCES for n in group)
     res = {r.name.split(":")[0]: r for r in run_cases(quick=True, names=names)}  # "NAME: title"
@@ -421,7 +421,7 @@ def block_selftest_forces() -> str:
 
 
 def block_selftest_count() -> str:
-    from fem2d.verification import CASES
+    from magcheck.fem2d.verification import CASES
 
     return f"{len(CASES)} exact-solution cases"
 
@@ -431,7 +431,7 @@ def block_open_boundary() -> str:
     boxes (Richardson over factors 6, 12, 24), as tests/test_open_boundary_case.py."""
     from dataclasses import replace
 
-    from compare.fe import run_fe
+    from magcheck.compare.models.fe import run_fe
 
     case = _case("demo_choke")
 
@@ -455,8 +455,8 @@ def block_open_boundary() -> str:
 
 def block_leakage_windows() -> str:
     from study_cases import ideal_window_core
-    from compare.fe import run_fe
-    from compare.hand import run_hand
+    from magcheck.compare.models.fe import run_fe
+    from magcheck.compare.models.hand import run_hand
 
     off, on = [], []
     for ow, oh in ((40, 100), (60, 60), (100, 40)):
@@ -471,9 +471,9 @@ def block_leakage_windows() -> str:
 def _pot_leakage(heights: tuple[float, ...], end_mm: float) -> list[tuple[float, float, float, float]]:
     """(h_w mm, hand H, FE H, K_R) per winding height."""
     from study_cases import pot_pair
-    from analytic.leakage import rogowski_factor
-    from compare.coupling import fe_leakage, hand_leakage
-    from compare.fe import mesh_case
+    from magcheck.analytic.leakage import rogowski_factor
+    from magcheck.compare.models.coupling import fe_leakage, hand_leakage
+    from magcheck.compare.models.fe import mesh_case
 
     rows = []
     for h in heights:
@@ -589,7 +589,7 @@ def main(argv: list[str] | None = None) -> int:
               + (" --slow" if args.slow else ""))
         return 1
     if new != old:
-        from compare.output import write_output
+        from magcheck.compare.outputs.output import write_output
 
         write_output(README, new)
         print("wrote README.md")

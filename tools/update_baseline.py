@@ -20,10 +20,10 @@ import math
 import sys
 from pathlib import Path
 
-from compare.baseline import snapshot
-from compare.casefile import load_case
-from compare.check import run_check
-from compare.output import write_output
+from magcheck.compare.judge.baseline import snapshot
+from magcheck.compare.reading.casefile import load_case
+from magcheck.compare.judge.check import run_check
+from magcheck.compare.outputs.output import write_output
 
 
 def _flat(d: dict, prefix: str = "") -> dict:

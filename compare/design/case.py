@@ -1,0 +1,296 @@
+"""The case model: one validated design case as frozen dataclasses, SI inside.
+
+The case file is read and checked at the edge, in :mod:`compare.reading.casefile`
+(TOML -> :class:`Case`); the models downstream trust what they are given.
+The file's tables map onto these classes::
+
+    [case]       name, family, description
+    [core]       family dimensions (see compare.design.families)
+    [[gaps]]     limb, length, position (optional; default mid-limb)
+    [winding]    limb, turns, current, and thickness + length, or fill; clearance
+    [materials]  core = "<built-in>" | {csv = "file.csv"} |
+                 {H = [...], B = [...], H_unit = "A/m", B_unit = "T"} | {mu_r = 2000}
+    [hand]       fringing = "<model>"
+    [fe]         order, gap_elements, mesh_size, air_factor, boundary, tol
+    [margins]    peak_B, current_density (+ copper_fill), force_min, [[margins.inductance]]
+                 (at, min, max, kind), [[margins.saturation_current]] (drop_pct, min,
+                 kind), [margins.agreement] (percent per quantity)
+    [sweep]      vary = ["KEY=SPEC", ...], drops_pct, inductance; or [[sweep]] for several
+    [[tolerances]] key, distribution (uniform: minus/plus; normal: sigma, limit)
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass, field
+from typing import Any
+
+from .families import FAMILIES, Family
+from .geometry import Gap, Limb, WindingSpec
+
+__all__ = ["Case", "with_current", "MaterialSpec", "HandSettings", "FESettings", "Margins",
+           "InductanceLimit", "SaturationLimit", "ForceLimit", "SweepDecl", "Tolerance"]
+
+
+@dataclass(frozen=True)
+class MaterialSpec:
+    """A region's material: where it came from and the loaded law.
+
+    ``law`` provides h_of_b, b_of_h, nu(s), dnu_ds(s) (SI) - a BHCurve or a
+    LinearMaterial from analytic.bh.
+    """
+
+    region: str
+    kind: str  # "builtin" | "csv" | "table" | "mu_r"
+    description: str
+    law: Any = field(repr=False, compare=False)
+
+
+@dataclass(frozen=True)
+class HandSettings:
+    """Settings of the magnetic-circuit model.
+
+    fringing : the gap fringing model (analytic.fringing.FRINGING_MODELS).
+    leakage : add the leakage across the winding window(s)
+        (analytic.leakage; ``[hand] leakage = true``).
+    stacking : core B and H on the net iron area k_s A ([core] stacking),
+        the gaps on the gross face (``[hand] stacking = true``).
+    effective_parameters : one core branch of the IEC 60205 effective
+        length and area instead of the mean-path segments
+        (``[hand] effective_parameters = true``).
+    rogowski : the leakage inductance of two concentric windings with
+        Rogowski's factor for the end fringing of their leakage field
+        (analytic.leakage.rogowski_factor; ``[hand] rogowski = true``).
+    """
+
+    fringing: str = "area"
+    leakage: bool = False
+    stacking: bool = False
+    effective_parameters: bool = False
+    rogowski: bool = False
+
+
+@dataclass(frozen=True)
+class FESettings:
+    """Settings of the finite-element model.
+
+    order : element order, 1 or 2.
+    gap_elements : minimum number of elements across each gap length.
+    mesh_size : element size in the core (m); None picks one from the geometry.
+    boundary : "open" (default): the field decays as in unbounded space (the
+        air disk's exterior mapped onto a ring of elements, fem2d.exterior);
+        "closed": A = 0 on the air box (a flux-tight enclosure).
+    air_factor : the air domain's size as a multiple of the parts' largest
+        extent: the air disk's diameter (open; default OPEN_AIR_FACTOR) or
+        the air box's side (closed; default CLOSED_AIR_FACTOR).
+    tol : relative Newton residual to stop at.
+    allow_large : mesh even when the element estimate exceeds
+        compare.models.fe.MAX_TRIANGLES (``[fe] allow_large = true`` or ``--allow-large``).
+    """
+
+    order: int = 2
+    gap_elements: int = 4
+    mesh_size: float | None = None
+    air_factor: float | None = None
+    tol: float = 1e-8
+    allow_large: bool = False
+    boundary: str = "open"
+
+    @property
+    def air_extent(self) -> float:
+        """The air domain's size factor in use (air_factor or its default)."""
+        if self.air_factor is not None:
+            return self.air_factor
+        return OPEN_AIR_FACTOR if self.boundary == "open" else CLOSED_AIR_FACTOR
+
+
+OPEN_AIR_FACTOR = 1.5
+"""Default air disk diameter / parts' extent with the open boundary."""
+CLOSED_AIR_FACTOR = 3.0
+"""Default air box side / parts' extent with the closed boundary."""
+
+
+@dataclass(frozen=True)
+class InductanceLimit:
+    """Inductance at a stated current must lie within [min, max] (H; None = open).
+
+    at : winding current (A); kind : "secant" (lambda/I) or "incremental" (d lambda/dI).
+    """
+
+    at: float
+    min: float | None = None
+    max: float | None = None
+    kind: str = "secant"
+
+
+@dataclass(frozen=True)
+class SaturationLimit:
+    """The current at which the inductance has fallen by ``drop`` (fraction of
+    its low-current value) must be at least ``min`` (A)."""
+
+    drop: float
+    min: float
+    kind: str = "incremental"
+
+
+@dataclass(frozen=True)
+class ForceLimit:
+    """The force on the moving part at a stated stroke (m) must lie within
+    [min, max] (N along the closing stroke; None = open): the pull-in force
+    at the open position, the holding force closed.  Judged along a sweep of
+    the stroke (FE, interpolated), or at the case's own stroke by the check."""
+
+    stroke: float
+    min: float | None = None
+    max: float | None = None
+
+
+@dataclass(frozen=True)
+class Margins:
+    """Design margins and hand-vs-FE agreement limits.
+
+    peak_B : maximum peak core flux density (T), checked on the FE's peak
+        (see compare.models.fe); None = no limit.
+    agreement : maximum |hand - FE| per quantity, percent of the FE value;
+        quantities not named keep compare.judge.check.DEFAULT_LIMITS.
+    current_density : maximum winding current density (A/m^2) in the
+        conductor, N |I| / (copper_fill * coil cross-section); None = no limit.
+    copper_fill : conductor fraction of the coil cross-section (0, 1].
+    inductance : inductance limits at stated currents.
+    saturation : minimum saturation currents at stated drops.
+    """
+
+    peak_B: float | None = None
+    agreement: tuple[tuple[str, float], ...] = ()
+    current_density: float | None = None
+    copper_fill: float = 1.0
+    inductance: tuple[InductanceLimit, ...] = ()
+    saturation: tuple[SaturationLimit, ...] = ()
+    force_min: float | None = None
+    """Minimum force on the moving part at the case's stroke and current (N,
+    along the closing stroke: the pull-in force at the open position, the
+    holding force closed), judged on the FE's Maxwell stress."""
+    force: tuple[ForceLimit, ...] = ()
+    """Force limits at stated strokes ([[margins.force]])."""
+    B_peak: float | None = None
+    """Maximum peak flux density of a voltage-driven winding at the drive's
+    peak (T; FE: the 0.5 % area quantile)."""
+    magnetizing_current_peak: float | None = None
+    """Maximum magnetizing current of a voltage-driven winding, peak (A)."""
+    magnetizing_current_rms: float | None = None
+    """Maximum magnetizing current of a voltage-driven winding, rms (A)."""
+    inrush_current_peak: float | None = None
+    """Maximum first peak of the inrush current estimate (A; the driven
+    winding's ``residual_flux`` given)."""
+
+    def agreement_limit(self, key: str, default: float | None) -> float | None:
+        return dict(self.agreement).get(key, default)
+
+
+@dataclass(frozen=True)
+class SweepDecl:
+    """A sweep the case declares: ``--vary`` specs and saturation drop levels."""
+
+    vary: tuple[str, ...]
+    drops: tuple[float, ...] = (0.10, 0.20, 0.30)
+    inductance: str = "incremental"
+
+
+@dataclass(frozen=True)
+class Tolerance:
+    """A manufacturing tolerance on one case key (see compare.studies.tolerance).
+
+    key : key path (``gaps[0].length``) or ``materials.core.scale_H`` /
+        ``materials.core.scale_B`` (B-H curve scale factors, nominal 1).
+    distribution : "uniform" (nominal - minus .. nominal + plus) or
+        "normal" (sigma, truncated at +-limit).
+    minus, plus, sigma, limit : SI deviations, or fractions of the nominal
+        value when ``relative`` (given as "5 %").
+    """
+
+    key: str
+    distribution: str
+    minus: float = 0.0
+    plus: float = 0.0
+    sigma: float = 0.0
+    limit: float = 0.0
+    relative: bool = False
+
+
+@dataclass(frozen=True)
+class Case:
+    """One validated design case. All values SI."""
+
+    name: str
+    family: str
+    core: Any
+    gaps: tuple[Gap, ...]
+    winding: WindingSpec
+    """The first winding: the one the scalar quantities (flux linkage,
+    inductance, saturation current, current density) refer to."""
+    materials: tuple[MaterialSpec, ...]
+    hand: HandSettings = HandSettings()
+    fe: FESettings = FESettings()
+    margins: Margins = Margins()
+    sweeps: tuple[SweepDecl, ...] = ()
+    tolerances: tuple[Tolerance, ...] = ()
+    description: str = ""
+    source: str = ""
+    sha256: str = ""
+    extra_windings: tuple[WindingSpec, ...] = ()
+    """The windings after the first ([[windings]] entries 1, 2, ...)."""
+    stacking: float = 1.0
+    """Lamination stacking factor k_s ([core] stacking): iron over gross
+    cross-section.  The FE always uses the homogenised core (polarisation
+    scaled by k_s, analytic.bh.scale_law); the hand model uses the net iron
+    area k_s A when ``[hand] stacking = true``."""
+
+    @property
+    def family_model(self) -> Family:
+        # through the registry's lookup, which loads entry-point plug-ins (a
+        # worker process starts with the built-in families only)
+        from .families import get_family
+
+        return FAMILIES[self.family] if self.family in FAMILIES else get_family(self.family)
+
+    @property
+    def limbs(self) -> dict[str, Limb]:
+        return self.family_model.limbs(self.core)
+
+    @property
+    def windings(self) -> tuple[WindingSpec, ...]:
+        """Every winding, in case-file order (the first is :attr:`winding`)."""
+        return (self.winding, *self.extra_windings)
+
+    @property
+    def depth(self) -> float:
+        """The stack depth (m); 1 for an axisymmetric core, which has none."""
+        return getattr(self.core, "depth", 1.0)
+
+    def material(self, region: str) -> MaterialSpec:
+        for m in self.materials:
+            if m.region == region:
+                return m
+        raise KeyError(region)
+
+    def part_material(self, part: str) -> MaterialSpec:
+        """The material of a core part: its own ``[materials]`` entry, or the core's."""
+        for m in self.materials:
+            if m.region == part:
+                return m
+        return self.material("core")
+
+    @property
+    def part_overrides(self) -> tuple[str, ...]:
+        """The core parts with a material of their own, in the family's order."""
+        given = {m.region for m in self.materials}
+        fam = self.family_model
+        names = getattr(fam, "part_names", None)
+        parts = names(self.core) if names is not None else fam.parts
+        return tuple(p for p in parts if p in given)
+
+
+def with_current(case: Case, current: float) -> Case:
+    """The case with another winding current (A); everything else unchanged."""
+    return dataclasses.replace(case, winding=dataclasses.replace(case.winding,
+                                                                  current=float(current)))

@@ -1,0 +1,112 @@
+"""``magcheck check CASE``: hand calculation and field solution side by side."""
+
+from __future__ import annotations
+
+import argparse
+
+from ...reading.casefile import load_case
+from ...judge.check import AGREEMENT_MODES, CheckResult, run_check
+from ...outputs.output import (CAUTION, STDOUT_HELP, atomic_write_text, render_table, text_stream,
+                               write_json, write_produced)
+from ...outputs.serialize import (TABLE_COLUMNS, check_csv, check_json, check_markdown,
+                                  table_cells, verdict_lines)
+
+OUTPUTS = {"--json": "file", "--csv": "file", "--markdown": "file", "--report": "folder",
+           "--vtu": "file"}
+"""Output options and what each writes (checked before the run)."""
+
+
+def input_files(args: argparse.Namespace) -> dict[str, str]:
+    """The files the command reads (path -> what it is); no output may be one."""
+    from ...reading.casefile import referenced_files
+
+    return {args.case: "the input case file", **referenced_files(args.case)}
+
+
+def add_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("case", help="TOML case file")
+    p.add_argument("--json", metavar="FILE", help=f"write the full result as JSON ({STDOUT_HELP})")
+    p.add_argument("--csv", metavar="FILE", help=f"write the comparison table as CSV ({STDOUT_HELP})")
+    p.add_argument("--markdown", metavar="FILE", help=f"write the comparison as Markdown ({STDOUT_HELP})")
+    p.add_argument("--report", metavar="DIR", help="write an HTML report with figures to DIR")
+    p.add_argument("--vtu", metavar="FILE", help=f"write the FE fields as VTU ({STDOUT_HELP})")
+    p.add_argument("--all-fringing", action="store_true",
+                   help="rank every fringing model by its difference to the FE")
+    p.add_argument("--allow-large", action="store_true",
+                   help="mesh even when the element estimate exceeds the limit "
+                        "(as [fe] allow_large = true)")
+    p.add_argument("--no-error-estimate", action="store_true",
+                   help="solve on the case's mesh only, not on the three meshes of the FE "
+                        "error estimate (no FE uncertainty; faster)")
+    add_agreement_arg(p)
+
+
+def add_agreement_arg(p: argparse.ArgumentParser) -> None:
+    """``--agreement {fatal,report}`` (check and verify)."""
+    p.add_argument("--agreement", choices=AGREEMENT_MODES, default="fatal",
+                   help="a hand-vs-FE disagreement beyond an agreement limit, the design "
+                        "margins met: 'fatal' (default) exits 4, 'report' prints it and exits 0 "
+                        "(a failed design margin exits 1 either way)")
+
+
+def print_check(res: CheckResult, out, agreement: str = "fatal") -> None:
+    c = res.case
+    w = c.winding
+    rows = [table_cells(r) for r in res.rows]
+    fe = res.fe.fine
+    notes = list(res.notes)
+    notes.append(f"FE: {fe.nelements} elements, P{c.fe.order}, {fe.ndofs} DOFs, "
+                 f"{fe.iterations} Newton steps to residual {fe.residual:.1e}; "
+                 f"run time {res.timings['total']:.1f} s.")
+    from ...design.coremodel import core_model
+
+    form = "axisymmetric" if core_model(c).axisymmetric else "planar"
+    render_table(f"{c.name}: hand calc vs {form} FE, N = {w.turns}, I = {w.current:g} A "
+                 f"(fringing model '{res.hand_planar.fringing_model}')", TABLE_COLUMNS, rows, out,
+                 notes=notes)
+    if res.fringing_ranking:
+        rk = [[d["model"], f"{d['gap_B_difference_pct']:+.1f}", f"{d['flux_difference_pct']:+.1f}",
+               f"{d['inductance_difference_pct']:+.1f}", f"{d['rms_difference_pct']:.1f}"]
+              for d in res.fringing_ranking]
+        render_table("fringing models vs FE (planar form), best first",
+                     ["model", "gap B diff %", "flux diff %", "inductance diff %", "RMS %"], rk, out)
+    if res.breakdown:
+        from ...outputs.serialize import breakdown_note, breakdown_rows
+
+        columns, brows = breakdown_rows(res)
+        render_table("where the difference comes from: hand refinements one at a time",
+                     columns, brows, out, notes=[breakdown_note(res)])
+    for line in verdict_lines(res, agreement):
+        out.write(line + "\n")
+    out.write(CAUTION + "\n")
+
+
+def run(args: argparse.Namespace) -> int:
+    case = load_case(args.case)
+    if args.allow_large:
+        from dataclasses import replace
+
+        case = replace(case, fe=replace(case.fe, allow_large=True))
+    res = run_check(case, all_fringing=args.all_fringing,
+                    estimate_error=not args.no_error_estimate)
+    out = text_stream(args.json, args.csv, args.markdown, args.vtu)
+    print_check(res, out, args.agreement)
+    if args.json:
+        write_json(args.json, check_json(res, args.agreement))
+    if args.csv:
+        atomic_write_text(args.csv, check_csv(res))
+    if args.markdown:
+        atomic_write_text(args.markdown, check_markdown(res, args.agreement))
+    if args.vtu:
+        import meshio
+
+        from magcheck.fem2d.export import vtu_mesh
+
+        mesh = vtu_mesh(res.fe.solution)
+        write_produced(args.vtu, lambda tmp: meshio.write(tmp, mesh, file_format="vtu"), ".vtu")
+    if args.report:
+        from ...outputs.report import write_report
+
+        path = write_report(res, args.report, args.agreement)
+        out.write(f"report: {path}\n")
+    return res.exit_code_for(args.agreement)

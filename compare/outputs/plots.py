@@ -1,0 +1,618 @@
+"""Figures of a check (matplotlib, Agg backend). Each function returns the
+figure; :func:`save_figures` writes them and closes every one."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+from typing import Any, Sequence
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+import numpy as np  # noqa: E402
+from matplotlib.colors import LinearSegmentedColormap, LogNorm  # noqa: E402
+from matplotlib.patches import Rectangle  # noqa: E402
+from matplotlib.tri import Triangulation  # noqa: E402
+
+from magcheck.fem2d import post  # noqa: E402
+
+from ..judge.check import CheckResult  # noqa: E402
+from ..design.coremodel import comparison_forms  # noqa: E402
+from .output import save_figure  # noqa: E402
+
+__all__ = ["save_figures", "FIGURES", "caption", "flux_levels", "sweep_figures",
+           "save_sweep_figures", "tolerance_figure", "save_tolerance_figure"]
+
+# magcheck's own palette: slate core, amber gaps, teal/rose coil sides.
+REGION_COLOURS = {"core": "#5b6c80", "gap": "#e0a030", "coil+": "#2a9d8f", "coil-": "#c8553d"}
+HAND_COLOUR, FE_COLOUR = "#c8553d", "#264653"
+
+
+def _zoom(ax, res: CheckResult, pad: float = 0.25) -> None:
+    x0, y0, x1, y1 = res.fe.solution.mesh.layout.bbox()
+    dx, dy = (x1 - x0) * pad, (y1 - y0) * pad
+    ax.set_xlim((x0 - dx) * 1e3, (x1 + dx) * 1e3)
+    ax.set_ylim((y0 - dy) * 1e3, (y1 + dy) * 1e3)
+    ax.set_aspect("equal")
+    rz = res.fe.solution.assembler.formulation.name == "axisymmetric"
+    ax.set_xlabel("r (mm)" if rz else "x (mm)")
+    ax.set_ylabel("z (mm)" if rz else "y (mm)")
+
+
+def _outlines(ax, res: CheckResult, lw: float = 1.2) -> None:
+    from matplotlib.patches import Circle
+    from matplotlib.patches import Polygon as PolygonPatch
+
+    from ..design.coremodel import core_model
+
+    side = {r: sgn for c in core_model(res.case).coils for r, sgn in c.sides}
+    for region in res.fe.solution.mesh.layout.regions:
+        if region.name in side:  # every winding's go and return sides alike
+            colour = REGION_COLOURS["coil+" if side[region.name] > 0 else "coil-"]
+        else:
+            colour = REGION_COLOURS.get(region.kind, "#444444")
+        for s in region.shapes:
+            if hasattr(s, "points"):  # a polygon and its holes
+                for loop in (s.points, *s.holes):
+                    ax.add_patch(PolygonPatch([(x * 1e3, y * 1e3) for x, y in loop],
+                                              closed=True, fill=False, ec=colour, lw=lw))
+            elif hasattr(s, "r") and hasattr(s, "cx"):
+                ax.add_patch(Circle((s.cx * 1e3, s.cy * 1e3), s.r * 1e3, fill=False, ec=colour,
+                                    lw=lw))
+            else:
+                x0, y0, x1, y1 = s.bbox()
+                ax.add_patch(Rectangle((x0 * 1e3, y0 * 1e3), (x1 - x0) * 1e3, (y1 - y0) * 1e3,
+                                       fill=False, ec=colour, lw=lw))
+
+
+def _tri(res: CheckResult) -> Triangulation:
+    m = res.fe.solution.mesh.mesh
+    nv = int(m.t[:3].max()) + 1  # vertices come first; curved meshes add mid-side nodes
+    return Triangulation(m.p[0, :nv] * 1e3, m.p[1, :nv] * 1e3, m.t[:3].T)
+
+
+def fig_geometry(res: CheckResult):
+    fig, ax = plt.subplots(figsize=(6.5, 6))
+    tri = _tri(res)
+    ax.triplot(tri, lw=0.2, color="#9aa5b1")
+    _outlines(ax, res, lw=1.6)
+    _zoom(ax, res)
+    m = res.fe.solution.mesh.mesh
+    ax.set_title(f"Regions and mesh ({m.t.shape[1]} elements, P{res.case.fe.order})")
+    handles = [Rectangle((0, 0), 1, 1, fill=False, ec=c, lw=2) for c in REGION_COLOURS.values()]
+    ax.legend(handles, ["core", "gap", "coil side +", "coil side -"], loc="upper right",
+              fontsize=8)
+    return fig
+
+
+#: about this many flux lines span the whole range of A
+FLUX_LINES = 60
+#: the |B| colour scale spans this many decades below the peak
+B_DECADES = 3
+
+
+def _nice_step(raw: float) -> float:
+    """The 1-2-5 number at or above raw (raw > 0)."""
+    exp = math.floor(math.log10(raw))
+    for m in (1.0, 2.0, 5.0, 10.0):
+        if m * 10.0 ** exp >= raw * (1 - 1e-12):
+            return m * 10.0 ** exp
+    return 10.0 ** (exp + 1)  # pragma: no cover
+
+
+def flux_levels(res: CheckResult, lines: int = FLUX_LINES) -> tuple[np.ndarray, float]:
+    """Contour levels of A for the flux plot and the flux between two
+    neighbouring lines (Wb).
+
+    In the planar model the flux (per the stack depth d) between two points
+    is d (A2 - A1) (docs/references.md section 5), in the r-z model 2 pi (u2 - u1)
+    with u = r A_phi the unknown, so equally spaced levels make
+    the number of lines crossing any segment proportional to the flux through
+    it, in the window as in the limbs.  The step is a 1-2-5 number and A = 0
+    (the box boundary) is one of the levels.
+    """
+    sol = res.fe.solution
+    a = sol.A[sol.basis.nodal_dofs[0]]
+    lo, hi = float(a.min()), float(a.max())
+    if not hi > lo:
+        return np.array([]), 0.0
+    step = _nice_step((hi - lo) / lines)
+    levels = np.arange(math.floor(lo / step) + 1, math.ceil(hi / step)) * step
+    return levels, step * sol.assembler.formulation.total  # depth, or 2 pi round the axis
+
+
+def _si(value: float, unit: str) -> str:
+    for factor, prefix in ((1.0, ""), (1e-3, "m"), (1e-6, "\u00b5"), (1e-9, "n")):
+        if abs(value) >= factor * (1 - 1e-9):
+            return f"{value / factor:.3g} {prefix}{unit}"
+    return f"{value:.3g} {unit}"
+
+
+#: the dotted air lines are this many times denser than the solid lines
+AIR_LINE_FACTOR = 10
+
+
+def _fine_levels(levels: np.ndarray) -> np.ndarray:
+    if levels.size < 2:
+        return np.array([])
+    step = (levels[1] - levels[0]) / AIR_LINE_FACTOR
+    k = np.arange(math.floor(levels[0] / step) - AIR_LINE_FACTOR,
+                  math.ceil(levels[-1] / step) + AIR_LINE_FACTOR + 1)
+    return k[k % AIR_LINE_FACTOR != 0] * step
+
+
+def _iron_mask(res: CheckResult) -> np.ndarray:
+    """True for the elements of core regions (the dotted lines leave them out)."""
+    rmesh = res.fe.solution.mesh
+    mask = np.zeros(rmesh.nelements, dtype=bool)
+    for region in rmesh.layout.regions:
+        if region.kind == "core":
+            mask[rmesh.elements_of(region.name)] = True
+    return mask
+
+
+def flux_caption(res: CheckResult) -> str:
+    """What the flux plot shows, with the flux per line."""
+    _, per_line = flux_levels(res)
+    sol = res.fe.solution
+    where = ("round the axis" if sol.assembler.formulation.name == "axisymmetric"
+             else f"through the {sol.mesh.layout.depth * 1e3:g} mm stack")
+    return (f"Flux lines (equally spaced contours of A: one solid line per {_si(per_line, 'Wb')} "
+            f"of flux {where}; in the "
+            f"air, dotted lines at one per {_si(per_line / AIR_LINE_FACTOR, 'Wb')} show the "
+            f"leakage and fringing flux) over |B| on a logarithmic scale spanning {B_DECADES} "
+            "decades.")
+
+
+# pale (weak field) to deep red (strong), stopping short of the darkest red so
+# that the dark flux lines stay visible over saturated iron
+_B_MAP = LinearSegmentedColormap.from_list(
+    "magcheck_b", plt.get_cmap("YlOrRd")(np.linspace(0.0, 0.8, 256)))
+
+
+def fig_flux(res: CheckResult):
+    sol = res.fe.solution
+    fig, ax = plt.subplots(figsize=(6.5, 6))
+    tri = _tri(res)
+    bmag = np.linalg.norm(post.b_elements(sol), axis=0)
+    top = float(bmag.max()) if bmag.size and bmag.max() > 0 else 1.0
+    floor = top * 10.0 ** -B_DECADES
+    norm = LogNorm(vmin=floor, vmax=top, clip=True)
+    pc = ax.tripcolor(tri, facecolors=np.maximum(bmag, floor), cmap=_B_MAP, norm=norm,
+                      shading="flat")
+    levels, per_line = flux_levels(res)
+    a_vert = sol.A[sol.basis.nodal_dofs[0]][: tri.x.size]
+    if levels.size:
+        ax.tricontour(tri, a_vert, levels=levels, colors="#102a43", linewidths=0.45)
+        # outside the iron, dotted lines at a tenth of the step show the
+        # leakage and fringing flux that is smaller than one solid line
+        fine = _fine_levels(levels)
+        air = Triangulation(tri.x, tri.y, tri.triangles, mask=_iron_mask(res))
+        if fine.size:
+            ax.tricontour(air, a_vert, levels=fine, colors="#1f5f8b", linewidths=0.35,
+                          linestyles=":")
+    _outlines(ax, res, lw=0.8)
+    _zoom(ax, res)
+    fig.colorbar(pc, ax=ax, label="|B| (T), logarithmic", shrink=0.85)
+    ax.set_title(f"Flux lines over |B|: solid one per {_si(per_line, 'Wb')}, dotted (air) one per "
+                 f"{_si(per_line / AIR_LINE_FACTOR, 'Wb')}", fontsize=9)
+    return fig
+
+
+def fig_gap_line(res: CheckResult, n: int = 400):
+    """B across the first gap; None for a core without a gap line (no figure)."""
+    from ..design.coremodel import core_model
+
+    line = core_model(res.case).gap_line
+    if line is None:
+        return None
+    fig, ax = plt.subplots(figsize=(6.5, 4))
+    (x0, y0), (x1, y1) = line.start, line.end
+    u = np.linspace(0.0, 1.0, n)
+    pts = np.vstack([x0 + u * (x1 - x0), y0 + u * (y1 - y0)])
+    t = line.offset + u * math.hypot(x1 - x0, y1 - y0)
+    b = post.sample_b(res.fe.solution, pts)[line.component]
+    sign = np.sign(b[len(b) // 2]) or 1.0
+    ax.plot(t * 1e3, sign * b, color=FE_COLOUR, label="FE, B along the gap's flux")
+    ax.axhline(res.hand_planar.gap_B, color=HAND_COLOUR, ls="--",
+               label=f"hand gap B ({res.hand_planar.fringing_model}, planar)")
+    for c in line.faces:
+        ax.axvline(c * 1e3, color="#888888", lw=0.8, ls=":")
+    ax.set_xlabel("position across the gap (mm); dotted: pole-face edges")
+    ax.set_ylabel("B (T)")
+    ax.set_title(f"B across the middle of the gap in {line.label}: fringing beyond the faces",
+                 fontsize=9)
+    ax.legend(fontsize=8)
+    return fig
+
+
+def fig_path_h(res: CheckResult):
+    fig, ax = plt.subplots(figsize=(6.5, 4))
+    s = res.fe.path
+    kept = s.kept
+    ax.plot(s.s[kept] * 1e3, s.h[kept], ".", ms=1.5, color=FE_COLOUR, label="FE |H| on the path")
+    ax.axhline(res.fe.values["path_H"], color=FE_COLOUR, lw=1, label="FE path mean")
+    ax.axhline(res.hand_planar.path_H, color=HAND_COLOUR, ls="--", label="hand path mean")
+    h = s.h[kept]
+    h = h[np.isfinite(h) & (h > 0)]
+    if h.size and h.max() > 10.0 * h.min():
+        ax.set_yscale("log")  # over a decade: log, with labelled minor ticks
+        from matplotlib.ticker import LogFormatterSciNotation
+
+        ax.yaxis.set_minor_formatter(LogFormatterSciNotation(labelOnlyBase=False,
+                                                             minor_thresholds=(2, 0.4)))
+    ax.set_xlabel("distance along the mean path (mm); gaps left out")
+    ax.set_ylabel("|H| (A/m)")
+    ax.set_title("H along the mean path")
+    ax.legend(fontsize=8)
+    return fig
+
+
+def fig_bh(res: CheckResult):
+    fig, ax = plt.subplots(figsize=(6.5, 4))
+    law = res.case.material("core").law
+    h_top = max(3 * res.fe.values["path_H"], 3 * res.hand_planar.path_H, 2000.0)
+    h = np.linspace(0, h_top, 400)
+    ax.plot(h, law.b_of_h(h), color="#5b6c80", label=res.case.material("core").description)
+    ax.plot(res.hand_planar.path_H, res.hand_planar.core_B, "o", color=HAND_COLOUR,
+            label="hand: path H, core B")
+    ax.plot(res.fe.values["path_H"], res.fe.values["core_B"], "s", color=FE_COLOUR,
+            label="FE: path-mean H, core-mean B")
+    ax.set_xlabel("H (A/m)")
+    ax.set_ylabel("B (T)")
+    ax.set_title("B-H curve and operating points")
+    ax.legend(fontsize=8)
+    return fig
+
+
+def fig_breakdown(res: CheckResult):
+    """The difference breakdown: each quantity's hand-vs-FE difference after
+    each step; None without steps."""
+    from ..judge.breakdown import BREAKDOWN_KEYS
+
+    if not res.breakdown:
+        return None
+    fig, ax = plt.subplots(figsize=(6.5, 4))
+    x = np.arange(len(res.breakdown))
+    markers = "osD^vP"
+    for k, m in zip(BREAKDOWN_KEYS, markers):
+        y = [st.diff_pct[k] for st in res.breakdown]
+        ax.plot(x, y, marker=m, lw=1.2, label=k.replace("_", " "))
+    ax.axhline(0.0, color="#444444", lw=0.8)
+    ax.set_xticks(x, [st.name for st in res.breakdown], rotation=15, fontsize=8)
+    ax.set_ylabel("(hand - FE) / FE (%)")
+    ax.set_title("Where the difference comes from: hand refinements one at a time", fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7)
+    return fig
+
+
+def fig_magnetizing(res: CheckResult):
+    """A voltage-driven winding: the magnetizing current over one period
+    (hand and FE) and the lambda-i curves each model inverted, with the
+    operating range +-lambda_pk marked; None without a drive."""
+    d = res.drive
+    if d is None:
+        return None
+    fig, (ax1, ax2) = plt.subplots(1, 2, figsize=(9.0, 3.8))
+    f = res.case.winding.frequency
+    for m, label, colour, line in ((d.hand, "hand", HAND_COLOUR, "--"),
+                                   (d.fe, "FE", FE_COLOUR, "-")):
+        t = np.append(m.t, 1.0 / float(f or 1.0)) * 1e3
+        ax1.plot(t, np.append(m.i, m.i[0]), line, color=colour, lw=1.3,
+                 label=f"{label}: peak {m.peak:.4g} A, rms {m.rms:.4g} A, "
+                       f"3rd {m.harmonics_pct[3]:.1f} %")
+    ax1.set_xlabel("time (ms)")
+    ax1.set_ylabel("magnetizing current (A)")
+    ax1.set_title(f"one period at {f:g} Hz", fontsize=9)
+    ax1.grid(alpha=0.3)
+    ax1.legend(fontsize=7)
+    for key, label, colour, style in (("hand", "hand", HAND_COLOUR, "o--"),
+                                      ("fe", "FE", FE_COLOUR, "s-")):
+        i, lam = d.curves[key]
+        ax2.plot(np.concatenate([-i[::-1], i]), np.concatenate([-lam[::-1], lam]), style,
+                 color=colour, ms=3, mfc="none", lw=1.1, label=label)
+    for s in (-1, 1):
+        ax2.axhline(s * d.lambda_peak, color="0.4", lw=0.8, ls=":")
+    ax2.axhspan(-d.lambda_peak, d.lambda_peak, color="0.85", alpha=0.4,
+                label=f"operating range +-{d.lambda_peak:.4g} Wb-turns")
+    ax2.set_xlabel("current (A)")
+    ax2.set_ylabel("flux linkage (Wb-turns)")
+    ax2.set_title("lambda-i curve of the driven winding (no hysteresis)", fontsize=9)
+    ax2.grid(alpha=0.3)
+    ax2.legend(fontsize=7)
+    return fig
+
+
+def fig_inrush(res: CheckResult):
+    """The inrush estimate: both models' lambda-i curves on to the undamped
+    first flux-linkage peak (2 + r) lambda_pk, and each model's first peak
+    (current, flux linkage: lower with a resistance); None without one."""
+    d = res.drive
+    if d is None or not d.inrush:
+        return None
+    fig, ax = plt.subplots(figsize=(6.4, 4.0))
+    for key, model, label, colour, style in (("hand_inrush", "hand", "hand", HAND_COLOUR, "--"),
+                                             ("fe_inrush", "fe", "FE", FE_COLOUR, "s-")):
+        i, lam = d.curves[key]
+        pos = i > 0  # a log current axis
+        ax.plot(i[pos], lam[pos], style, color=colour, ms=3, mfc="none", lw=1.1,
+                label=f"{label}: {d.inrush[model]:.4g} A at the first peak")
+        ax.plot([d.inrush[model]], [d.inrush_linkage[model]], "o", color=colour, ms=6)
+    ax.axhline(d.lambda_peak, color="0.4", lw=0.8, ls=":",
+               label=f"steady peak {d.lambda_peak:.4g} Wb-turns")
+    ax.axhline(d.lambda_inrush, color="0.2", lw=0.8, ls="-.",
+               label=f"undamped first peak (2 + {d.residual_flux:g}) x steady = "
+                     f"{d.lambda_inrush:.4g} Wb-turns")
+    ax.set_xscale("log")
+    ax.set_xlabel("current (A)")
+    ax.set_ylabel("flux linkage (Wb-turns)")
+    damping = (f"series resistance {d.resistance:.4g} ohm" if d.resistance > 0
+               else "no resistance (upper bound)")
+    ax.set_title(f"inrush estimate: switched on at a voltage zero, {damping}", fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7)
+    return fig
+
+
+FIGURES = {
+    "geometry.png": fig_geometry,
+    "flux.png": fig_flux,
+    "gap_line.png": fig_gap_line,
+    "path_h.png": fig_path_h,
+    "bh.png": fig_bh,
+    "breakdown.png": fig_breakdown,
+    "magnetizing.png": fig_magnetizing,
+    "inrush.png": fig_inrush,
+}
+
+
+_CAPTIONS = {
+    "geometry.png": "Regions (core, gaps, coil sides) and the finer mesh.",
+    "gap_line.png": "B along a line across the middle of the first gap, beyond both pole faces.",
+    "path_h.png": "|H| along the core's mean path (gaps left out), with the hand value.",
+    "bh.png": "The core's B-H curve with the hand and FE operating points.",
+    "breakdown.png": "The hand-vs-FE difference of each quantity after each refinement of the "
+                     "hand model (planar forms), in the order of the table above.",
+    "magnetizing.png": "The magnetizing current of the voltage-driven winding over one period, "
+                       "each model's from its own lambda-i curve (right; the operating range "
+                       "shaded), resistance, hysteresis and eddy currents neglected.",
+    "inrush.png": "The inrush estimate: each model's lambda-i curve continued past saturation to "
+                  "the first flux-linkage peak after switch-on at a voltage zero with the given "
+                  "residual flux, and each model's first current peak (with the winding's "
+                  "resistance, d lambda/dt = v - R i; without it an upper bound); the hand "
+                  "network has no air flux beside the saturated core.",
+}
+
+
+def caption(name: str, res: CheckResult) -> str:
+    """The caption of figure ``name`` of a check."""
+    if name == "flux.png":
+        return flux_caption(res)
+    return _CAPTIONS.get(name, "")
+
+
+def save_figures(res: CheckResult, folder: str | Path) -> list[Path]:
+    """Write every figure as PNG into folder (through compare.outputs.output's writer)."""
+    folder = Path(folder)
+    paths = []
+    for name, make in FIGURES.items():
+        fig = make(res)
+        if fig is None:  # nothing to show (a gapless core has no gap figure)
+            continue
+        try:
+            fig.tight_layout()
+            paths.append(save_figure(fig, folder / name, option="--report") or folder / name)
+        finally:
+            plt.close(fig)
+    return paths
+
+
+# ----------------------------------------------------------------- sweeps
+#: line style of each model: colour, marker and marker fill.  Hand markers are
+#: open and larger and drawn on top, so an FE curve under a hand curve still
+#: shows (and the other way round); the second series of a panel is dashed
+#: with its own marker.
+_SWEEP_STYLE: dict[tuple[str, int], dict[str, Any]] = {
+    ("hand", 0): dict(color=HAND_COLOUR, marker="o", mfc="none", ms=5, zorder=3),
+    ("hand", 1): dict(color=HAND_COLOUR, marker="^", mfc="none", ms=5, zorder=3),
+    ("FE", 0): dict(color=FE_COLOUR, marker="s", ms=3, zorder=2),
+    ("FE", 1): dict(color=FE_COLOUR, marker="D", ms=3, zorder=2),
+}
+_SERIES_LINE = ("-", "--")
+_GROUP_SHADES = (1.0, 0.65, 0.4, 0.25)
+
+SWEEP_PANELS = (
+    ("sweep_inductance.png", "inductance (mH)", 1e3,
+     (("inductance", "secant"), ("incremental_inductance", "incremental"))),
+    ("sweep_flux_linkage.png", "flux linkage (mWb)", 1e3, (("flux_linkage", ""),)),
+    ("sweep_core_B.png", "core B (T)", 1.0, (("core_B", "mean"), ("peak_B", "peak"))),
+)
+
+
+def _shade(colour: str, amount: float) -> tuple:
+    """colour blended toward white: 1 keeps it, 0 is white."""
+    from matplotlib.colors import to_rgb
+
+    r, g, b = to_rgb(colour)
+    return (1 - amount + amount * r, 1 - amount + amount * g, 1 - amount + amount * b)
+
+
+def _saturation_marks(ax, sat_rows, tag: str, shade: float) -> None:
+    """Vertical dotted lines at the saturation currents of one curve (FE and
+    the planar hand form, the two drawn on these axes)."""
+    for row in sat_rows:
+        if row.get("curve", "") != tag or row["model"] not in ("fe", "hand_planar"):
+            continue
+        colour = FE_COLOUR if row["model"] == "fe" else HAND_COLOUR
+        who = "FE" if row["model"] == "fe" else "hand"
+        for label, current in row.items():
+            if not label.endswith("%") or not math.isfinite(current):
+                continue
+            ax.axvline(current, color=_shade(colour, shade), ls=":", lw=1.0, zorder=1,
+                       label=f"{who}: {row['inductance']} L -{label} at {current:.3g} A")
+
+
+def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]:
+    """The figures of a sweep as (file name, figure): inductance (secant and
+    incremental), flux linkage and core B (mean and peak) against the swept
+    key; one curve per combination of the other swept keys.  When the current
+    is swept, the inductance panel marks the saturation currents of
+    ``saturation`` (rows of `compare.studies.sweep.sweep_margins`)."""
+    from ..studies.sweep import CURRENT_KEY, curves
+
+    x_key = CURRENT_KEY if CURRENT_KEY in res.keys else res.keys[0]
+    from ..design.keys import display_unit
+
+    x_scale, x_unit = (1.0, "") if x_key == CURRENT_KEY else display_unit(x_key)
+    x_label = ("winding current I (A)" if x_key == CURRENT_KEY
+               else f"{x_key} ({x_unit})" if x_unit else x_key)
+
+    def x_of(p):
+        return abs(p.current) if x_key == CURRENT_KEY else p.settings[x_key] * x_scale
+
+    groups = curves(res) if x_key == CURRENT_KEY else [({}, list(res.points))]
+    out = []
+    for name, ylabel, scale, series in SWEEP_PANELS:
+        fig, ax = plt.subplots(figsize=(6.5, 4.2))
+        for g, (fixed, pts) in enumerate(groups):
+            shade = _GROUP_SHADES[min(g, len(_GROUP_SHADES) - 1)]
+            tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
+            suffix = f" ({tag})" if tag else ""
+            x = [x_of(p) for p in pts]
+            for s, (key, what) in enumerate(series):
+                if key == "peak_B":
+                    by_model = {"hand": [p.hand_peak_B for p in pts], "FE": [p.fe_peak_B for p in pts]}
+                else:
+                    by_model = {"hand": [p.hand_planar.get(key, math.nan) for p in pts],
+                                "FE": [p.fe.get(key, math.nan) for p in pts]}
+                for model, ys in by_model.items():
+                    if model == "FE" and not res.with_fe:
+                        continue
+                    style: dict[str, Any] = dict(_SWEEP_STYLE[(model, s)])
+                    style["color"] = _shade(style["color"], shade)
+                    ax.plot(x, [v * scale for v in ys], _SERIES_LINE[s], lw=1.2,
+                            label=" ".join(w for w in (model, what) if w) + suffix, **style)
+            if name == "sweep_inductance.png" and x_key == CURRENT_KEY:
+                _saturation_marks(ax, saturation, tag, shade)
+        ax.set_xlabel(x_label)
+        ax.set_ylabel(ylabel)
+        ax.grid(alpha=0.3)
+        ax.legend(fontsize=7)
+        hand_form, fe_form = comparison_forms(res.case)
+        ax.set_title(f"{res.case.name}: hand ({hand_form}) and {fe_form}")
+        out.append((name, fig))
+    if res.points and "force" in res.points[0].hand_planar:
+        out.append(("sweep_force.png", fig_sweep_force(res, groups, x_of, x_label)))
+    return out
+
+
+def fig_sweep_force(res, groups, x_of, x_label):
+    """Force on the moving part against the swept key: the hand network's
+    virtual work and the pull formula (planar form), the FE's Maxwell stress
+    and virtual work."""
+    fig, ax = plt.subplots(figsize=(6.5, 4.2))
+    series = (("hand", "force", "hand, virtual work", HAND_COLOUR, "o-", "none"),
+              ("hand", "force_pull", "hand, pull formula", HAND_COLOUR, "s--", "none"),
+              ("fe", "force_maxwell", "FE, Maxwell stress", FE_COLOUR, "-", None),
+              ("fe", "force_virtual_work", "FE, virtual work", FE_COLOUR, "x:", None))
+    for g, (fixed, pts) in enumerate(groups):
+        shade = _GROUP_SHADES[min(g, len(_GROUP_SHADES) - 1)]
+        tag = ", ".join(f"{k} = {v:g}" for k, v in fixed.items())
+        suffix = f" ({tag})" if tag else ""
+        order = sorted(range(len(pts)), key=lambda i: x_of(pts[i]))
+        x = [x_of(pts[i]) for i in order]
+        for model, key, what, colour, line, face in series:
+            if model == "fe" and not res.with_fe:
+                continue
+            block = (lambda p: p.hand_planar) if model == "hand" else (lambda p: p.fe)
+            ys = [block(pts[i]).get(key, math.nan) for i in order]
+            kw: dict[str, Any] = {"color": _shade(colour, shade)}
+            if face is not None:
+                kw["markerfacecolor"] = face
+            ax.plot(x, ys, line, lw=1.2, label=what + suffix, **kw)
+    ax.set_xlabel(x_label)
+    ax.set_ylabel("force on the moving part (N), closing")
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7)
+    hand_form, fe_form = comparison_forms(res.case)
+    ax.set_title(f"{res.case.name}: force along the stroke, hand ({hand_form}) and {fe_form}",
+                 fontsize=9)
+    return fig
+
+
+def save_sweep_figures(res, folder: str | Path, saturation: Sequence[dict] = ()) -> list[Path]:
+    """Write `sweep_figures` as PNG into folder; every figure closed."""
+    folder = Path(folder)
+    paths = []
+    figures = sweep_figures(res, saturation)
+    try:
+        for name, fig in figures:
+            fig.tight_layout()
+            paths.append(save_figure(fig, folder / name, option="--plots") or folder / name)
+    finally:
+        for _, fig in figures:
+            plt.close(fig)
+    return paths
+
+
+# ----------------------------------------------------------------- tolerance
+def _tolerance_limits(res) -> dict[str, list[tuple[str, float]]]:
+    """The design's limits on each histogram's figure, as (label, value (SI)):
+    secant-inductance limits at the case's own current, the peak-B maximum,
+    and the minimum saturation current at the study's drop (incremental L)."""
+    m = res.case.margins
+    at = res.case.winding.current
+    out: dict[str, list[tuple[str, float]]] = {"inductance": [], "peak_B": [],
+                                               "saturation_current": []}
+    for ind in m.inductance:
+        if ind.kind == "secant" and math.isclose(ind.at, at, rel_tol=1e-9, abs_tol=1e-12):
+            out["inductance"] += [(f"{k} {v * 1e3:.4g} mH", v) for k, v in
+                                  (("min", ind.min), ("max", ind.max)) if v is not None]
+    if m.peak_B is not None:
+        out["peak_B"].append((f"max {m.peak_B:.4g} T", m.peak_B))
+    for lim in m.saturation:
+        if lim.kind == "incremental" and math.isclose(lim.drop, res.drop):
+            out["saturation_current"].append((f"min {lim.min:.4g} A", lim.min))
+    return out
+
+
+_TOLERANCE_UNITS = {"inductance": (1e3, "mH"), "peak_B": (1.0, "T"),
+                    "saturation_current": (1.0, "A")}
+
+
+def tolerance_figure(res, labels: dict[str, str]):
+    """Histograms of the tolerance study's figures, counts on an integer
+    axis, the design's limits drawn as vertical lines (`_tolerance_limits`)."""
+    from matplotlib.ticker import MaxNLocator
+
+    limits = _tolerance_limits(res)
+    fig, axes = plt.subplots(1, 3, figsize=(12, 3.8))
+    for ax, (k, v) in zip(axes, res.values.items()):
+        scale, unit = _TOLERANCE_UNITS[k]
+        x = v[np.isfinite(v)] * scale
+        ax.hist(x, bins=max(5, min(30, int(len(x) ** 0.5) + 1)), color=FE_COLOUR, alpha=0.85)
+        for label, value in limits[k]:
+            ax.axvline(value * scale, color=HAND_COLOUR, lw=1.5, ls="--", label=f"limit: {label}")
+        if limits[k]:
+            ax.legend(fontsize=7)
+        ax.yaxis.set_major_locator(MaxNLocator(integer=True))
+        ax.set_xlabel(f"{labels[k]} ({unit})", fontsize=8)
+        ax.grid(alpha=0.3)
+    axes[0].set_ylabel("samples")
+    fig.suptitle(f"{res.case.name}: {len(res.samples)} samples, seed {res.seed}, "
+                 f"yield {100 * res.yield_fraction:.1f} %")
+    return fig
+
+
+def save_tolerance_figure(res, labels: dict[str, str], path: str | Path) -> Path:
+    """Write `tolerance_figure` (format from the suffix); the figure is closed."""
+    fig = tolerance_figure(res, labels)
+    try:
+        fig.tight_layout()
+        written = save_figure(fig, path, option="--plot")
+    finally:
+        plt.close(fig)
+    return written or Path(path)

@@ -1,0 +1,172 @@
+"""A self-contained HTML report of a check, with its figures beside it."""
+
+from __future__ import annotations
+
+import html
+from pathlib import Path
+
+from ..judge.check import CheckResult
+from ..design.coremodel import comparison_forms
+from .output import CAUTION, atomic_write_text
+from .serialize import TABLE_COLUMNS, table_cells, verdict_lines, versions
+
+__all__ = ["write_report"]
+
+_STYLE = """
+body { font-family: system-ui, sans-serif; max-width: 980px; margin: 2em auto; color: #1d2733; }
+h1 { font-size: 1.5em; } h2 { font-size: 1.15em; margin-top: 1.6em; }
+table { border-collapse: collapse; font-size: 0.9em; }
+td, th { padding: 3px 9px; border-bottom: 1px solid #d5dbe1; text-align: right; }
+td:first-child, th:first-child { text-align: left; }
+.FAIL { color: #b3261e; font-weight: bold; } .pass { color: #1f7a4d; }
+.inconclusive { color: #8a5a00; }
+.caution { background: #fff4e0; border-left: 4px solid #e0a030; padding: 0.6em 1em; }
+figure { margin: 1em 0; } figcaption { font-size: 0.85em; color: #55606b; }
+img { max-width: 100%; }
+"""
+
+
+
+def _table(headers, rows) -> str:
+    out = ["<table><tr>" + "".join(f"<th>{html.escape(h)}</th>" for h in headers) + "</tr>"]
+    for r in rows:
+        cells = []
+        for c in r:
+            word = str(c).split(",")[0]
+            cls = f' class="{word}"' if word in ("FAIL", "pass", "inconclusive") else ""
+            cells.append(f"<td{cls}>{html.escape(str(c))}</td>")
+        out.append("<tr>" + "".join(cells) + "</tr>")
+    out.append("</table>")
+    return "\n".join(out)
+
+
+def _mm(v: float) -> str:
+    return f"{v * 1e3:.4g} mm"
+
+
+def input_rows(res: CheckResult) -> list[list[str]]:
+    """The case as solved, one row per input: enough to read the operating
+    point from the report alone (SI values shown in engineering units)."""
+    import dataclasses
+    import os
+
+    case = res.case
+    rows = [["case file (as given)", case.source],
+            ["case file (absolute)", os.path.abspath(case.source) if case.source else ""],
+            ["case sha256", case.sha256], ["family", case.family]]
+    core = case.core
+    describe = getattr(case.family_model, "describe", None)
+    fields = [] if describe is not None else dataclasses.fields(core)
+    if describe is not None:  # a family with shapes of its own says what to show
+        rows += [[k, v] for k, v in describe(core)]
+    for f in fields:
+        v = getattr(core, f.name)
+        if isinstance(v, float):
+            rows.append([f"core.{f.name}", _mm(v)])
+        elif dataclasses.is_dataclass(v):
+            for sub in dataclasses.fields(v):
+                w = getattr(v, sub.name)
+                rows.append([f"core.{f.name}.{sub.name}", _mm(w) if isinstance(w, float) else str(w)])
+        else:
+            rows.append([f"core.{f.name}", str(v)])
+    for i, gap in enumerate(case.gaps):
+        rows.append([f"gaps[{i}]", f"{gap.limb} limb, length {_mm(gap.length)}, "
+                                   f"centre {_mm(gap.position)} from the limb's start"])
+    if not case.gaps and case.family_model.limb_names:  # a drawn core lists its own
+        rows.append(["gaps", "none"])
+    w = case.winding
+    if w.limb:
+        rows += [["winding", f"on the {w.limb} limb, N = {w.turns}, I = {w.current:g} A, "
+                             f"NI = {w.mmf:g} A"],
+                 ["coil build", f"thickness {_mm(w.thickness)}, length {_mm(w.length)}, "
+                                f"clearance to the limb {_mm(w.clearance)}"]]
+    else:
+        rows += [["winding", f"drawn coil, N = {w.turns}, I = {w.current:g} A, "
+                             f"NI = {w.mmf:g} A"]]
+    for m in case.materials:
+        rows.append([f"material of {m.region}", f"{m.description} ({m.kind})"])
+    rows.append(["fringing model (hand)", case.hand.fringing])
+    fe, fine = case.fe, res.fe.fine
+    air = (f"open boundary, air disk {fe.air_extent:g}x" if fe.boundary == "open"
+           else f"closed air box {fe.air_extent:g}x")
+    rows += [["FE settings", f"order {fe.order}, {fe.gap_elements} elements across each gap, "
+                             f"mesh size {'auto' if fe.mesh_size is None else _mm(fe.mesh_size)}, "
+                             f"{air}, Newton tol {fe.tol:g}"],
+             ["FE mesh (finer)", f"{fine.nelements} elements, {fine.ndofs} DOFs, core element "
+                                 f"size {_mm(fine.element_size)}"]]
+    return rows
+
+
+def _case_text(res: CheckResult) -> str:
+    try:
+        return Path(res.case.source).read_text(encoding="utf-8")
+    except (OSError, UnicodeDecodeError):
+        return ""
+
+
+def write_report(res: CheckResult, folder: str | Path, agreement: str = "fatal") -> Path:
+    """Write ``index.html`` and its PNG figures into folder; returns the HTML path."""
+    from .plots import caption, save_figures
+
+    folder = Path(folder)
+    figures = save_figures(res, folder)
+    case = res.case
+    fe = res.fe.fine
+    parts = [
+        "<!doctype html><html><head><meta charset='utf-8'>",
+        f"<title>magcheck: {html.escape(case.name)}</title><style>{_STYLE}</style></head><body>",
+        f"<h1>magcheck: {html.escape(case.name)}</h1>",
+        f"<p>{html.escape(case.description)}</p>",
+        f"<p class='caution'>{html.escape(CAUTION)}</p>",
+        f"<h2>Hand calculation vs {comparison_forms(case)[1]} — "
+        f"{'PASS' if res.passed else 'FAIL'}</h2>",
+        "<ul class='verdicts'>" + "".join(
+            f"<li class='{'pass' if ok else 'FAIL'}'>{html.escape(line)}</li>"
+            for ok, line in zip((res.design_passed, res.agreement_passed),
+                                verdict_lines(res, agreement))) + "</ul>",
+        _table(TABLE_COLUMNS, [table_cells(r) for r in res.rows]),
+        "<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in res.notes) + "</ul>",
+        "<h2>Inputs</h2>",
+        _table(["input", "value"], input_rows(res)),
+    ]
+    text = _case_text(res)
+    if text:
+        parts.append(f"<h2>Case file</h2><p>{html.escape(res.case.source)}, sha256 "
+                     f"{html.escape(res.case.sha256)}</p><pre>{html.escape(text)}</pre>")
+    if res.fringing_ranking:
+        parts.append(f"<h2>Fringing models against the FE ({comparison_forms(case)[0]}), "
+                     "best first</h2>")
+        parts.append(_table(["model", "gap B diff %", "flux diff %", "inductance diff %", "RMS %"],
+                            [[d["model"], f"{d['gap_B_difference_pct']:+.1f}",
+                              f"{d['flux_difference_pct']:+.1f}",
+                              f"{d['inductance_difference_pct']:+.1f}",
+                              f"{d['rms_difference_pct']:.1f}"] for d in res.fringing_ranking]))
+    if res.breakdown:
+        from .serialize import breakdown_note, breakdown_rows
+
+        columns, brows = breakdown_rows(res)
+        parts.append("<h2>Where the difference comes from</h2>")
+        parts.append(_table(columns, brows))
+        parts.append(f"<p>{html.escape(breakdown_note(res))}</p>")
+    parts.append("<h2>Figures</h2>")
+    for p in figures:
+        parts.append(f"<figure><img src='{p.name}' alt='{p.stem}'>"
+                     f"<figcaption>{html.escape(caption(p.name, res))}</figcaption></figure>")
+    meta = [
+        ["case file", case.source], ["case sha256", case.sha256],
+        ["family", case.family], ["fringing model", res.hand_planar.fringing_model],
+        ["element order", f"P{case.fe.order}"], ["elements (finer mesh)", str(fe.nelements)],
+        ["DOFs (finer mesh)", str(fe.ndofs)],
+        ["element size in the core", f"{fe.element_size * 1e3:.3g} mm"],
+        ["Newton iterations (finer mesh)", str(fe.iterations)],
+        ["final relative residual", f"{fe.residual:.2e}"],
+        ["hand-model Newton iterations", str(res.hand_planar.iterations)],
+        *[[f"time: {k}", f"{v:.2f} s"] for k, v in res.timings.items()],
+        *[[f"version: {k}", v] for k, v in versions().items()],
+    ]
+    parts.append("<h2>Run</h2>")
+    parts.append(_table(["item", "value"], meta))
+    parts.append("</body></html>")
+    path = folder / "index.html"
+    atomic_write_text(path, "\n".join(parts))
+    return path

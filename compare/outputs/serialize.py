@@ -1,0 +1,278 @@
+"""A check result as JSON, CSV, Markdown and table rows (no physics here)."""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import platform
+from importlib import metadata
+from typing import Any
+
+from ..judge.check import CheckResult, Row
+from ..models.hand import HAND_KEYS, UNITS, winding_keys
+from .output import CAUTION
+from ..design.units import format_si
+
+__all__ = ["check_json", "check_csv", "check_markdown", "table_cells", "TABLE_COLUMNS",
+           "versions", "verdict_lines"]
+
+TABLE_COLUMNS = ["quantity", "hand", "FE", "FE +/-", "diff %", "limit %", "verdict",
+                 "hand 3D", "FE 3D"]
+
+
+def versions() -> dict[str, str]:
+    out = {"python": platform.python_version()}
+    for dist in ("magcheck", "numpy", "scipy", "scikit-fem", "gmsh", "meshio", "matplotlib",
+                 "pyamg"):
+        try:
+            out[dist] = metadata.version(dist)
+        except metadata.PackageNotFoundError:
+            out[dist] = "not installed"
+    return out
+
+
+RESIDUE_FLOOR = 1e-12
+"""A table value below this fraction of the largest magnitude in its row
+prints as 0: float residue of a cancellation (3.4e-159 beside 3.2e-6), not a
+result; so does -0."""
+
+
+def _fmt(v: float, unit: str, scale: float = 0.0) -> str:
+    if v is None or not math.isfinite(v):
+        return "-"
+    if v == 0.0 or abs(v) < RESIDUE_FLOOR * scale:
+        v = 0.0  # also turns -0.0 into 0
+    return format_si(v, unit)
+
+
+def _row_scale(row: Row) -> float:
+    """The largest finite magnitude among a row's values (the residue floor's reference)."""
+    vals = [abs(v) for v in (row.hand, row.fe, row.hand_3d, row.fe_3d) if math.isfinite(v)]
+    return max(vals, default=0.0)
+
+
+def _pct(v: float | None, digits: int = 1) -> str:
+    return "-" if v is None or not math.isfinite(v) else f"{v:+.{digits}f}"
+
+
+def table_cells(row: Row) -> list[str]:
+    """The row as display strings, in TABLE_COLUMNS order."""
+    if row.limit_value is not None:  # a design margin
+        sign = ">=" if row.limit_kind == "min" else "<="
+        limit = f"{sign} {format_si(row.limit_value, row.unit)}"
+    else:
+        limit = "-" if row.limit_pct is None else f"{row.limit_pct:g}"
+    # Percent of the FE value; "-" when it has none (no estimate, or FE value zero).
+    unc = "-" if not math.isfinite(row.uncertainty_pct) else (
+        f"{row.uncertainty_pct:.2g} %")
+    verdict = row.verdict
+    if row.limit_value is not None and math.isfinite(row.margin_pct):
+        verdict = f"{row.verdict}, {row.margin_pct:.0f} % left"  # margin left, % of the limit
+    scale = _row_scale(row)
+    return [row.label, _fmt(row.hand, row.unit, scale), _fmt(row.fe, row.unit, scale), unc,
+            _pct(row.diff_pct), limit, verdict, _fmt(row.hand_3d, row.unit, scale),
+            _fmt(row.fe_3d, row.unit, scale)]
+
+
+def _counts_text(counts: dict[str, int]) -> str:
+    order = ("pass", "FAIL", "inconclusive", "info", "n/a")
+    parts = [f"{counts[k]} {k}" for k in order if counts.get(k)]
+    parts += [f"{v} {k}" for k, v in counts.items() if k not in order]
+    return ", ".join(parts) or "no rows"
+
+
+def verdict_lines(res: CheckResult, agreement: str = "fatal") -> list[str]:
+    """The two verdicts in words: the design's margins, and the hand
+    calculation's agreement with the field solution (row counts beside)."""
+    design = ("PASS: the design meets its margins" if res.design_passed
+              else "FAIL: the design misses a margin")
+    agree = ("PASS: the hand calculation agrees with the field solution" if res.agreement_passed
+             else "FAIL: hand and FE disagree beyond a limit"
+             + (" (reported only: --agreement report)" if agreement == "report" else ""))
+    inc = res.verdict_counts("agreement").get("inconclusive", 0)
+    if res.agreement_passed and inc:
+        agree += f" where the mesh can tell ({inc} inconclusive: refine the mesh)"
+    return [f"design:    {design} ({_counts_text(res.verdict_counts('design'))})",
+            f"agreement: {agree} ({_counts_text(res.verdict_counts('agreement'))})"]
+
+
+def check_json(res: CheckResult, agreement: str = "fatal") -> dict:
+    """The JSON document of a check.
+
+    ``hand`` holds the hand calculation exactly as ``magcheck hand`` gives it
+    (3D, the case's fringing model); ``hand_planar`` its planar-consistent
+    form; ``fe`` the FE values under the same keys plus ``uncertainty``;
+    ``comparison`` one entry per table row.
+    """
+    fe = res.fe
+    fe_block: dict[str, Any] = {k: fe.values[k] for k in HAND_KEYS}
+    fe_block.update({
+        "uncertainty": {k: fe.uncertainty.get(k) for k in (*HAND_KEYS, "peak_B")},
+        "peak_B": fe.fine.peak_B,
+        "peak_B_definition": "|B| exceeded on 0.5 % of the core area",
+        "max_B": fe.fine.max_B,
+        "max_B_at": list(fe.fine.peak_B_at),
+        "depth_fringing_factor": res.depth_factor,
+        "depth_corrected": {r.key: r.fe_3d for r in res.rows if r.key in HAND_KEYS},
+        "depth_corrected_uncertainty": {r.key: r.fe_3d_uncertainty for r in res.rows
+                                        if r.key in HAND_KEYS},
+        "depth_correction_model": res.depth.model if res.depth is not None else None,
+        "newton_iterations": fe.fine.iterations,
+        "residual": fe.fine.residual,
+        "elements": fe.fine.nelements,
+        "dofs": fe.fine.ndofs,
+        "element_order": res.case.fe.order,
+        "units": dict(UNITS, peak_B="T"),
+    })
+    # per winding (H and Wb, planar FE per stack depth like every FE value;
+    # winding order as in the case): the flux linkages and the incremental
+    # inductance matrix, and their uncertainties
+    lam_keys, l_keys = winding_keys(res.case)
+    wv = fe.fine.winding_values
+    fe_block["windings"] = [w.name for w in res.case.windings]
+    fe_block["flux_linkages"] = [wv[k] for k in lam_keys]
+    fe_block["inductance_matrix"] = [[wv[k] for k in row] for row in l_keys]
+    fe_block["uncertainty"]["flux_linkages"] = [fe.uncertainty.get(k) for k in lam_keys]
+    fe_block["uncertainty"]["inductance_matrix"] = [[fe.uncertainty.get(k) for k in row]
+                                                    for row in l_keys]
+    # a moving part's force (N along its closing stroke; null without one):
+    # fe.force is the Maxwell stress's, fe.force_virtual_work the second method
+    fv = fe.fine.force_values
+    for k in ("force", "force_maxwell", "force_virtual_work"):
+        fe_block[k] = fv.get(k)
+    fe_block["uncertainty"]["force"] = fe.uncertainty.get("force")
+    mv = fe.fine.magnet_values
+    if mv:  # the first magnet's operating point along its magnetisation (T, A/m)
+        from ..design.coremodel import core_model
+
+        model = core_model(res.case)
+        knees = dict(model.magnet_knees)
+        first = model.magnets[0].region
+        fe_block["magnet"] = {"region": first, "B": mv["magnet_B"], "H": mv["magnet_H"],
+                              "H_min": mv["magnet_H_min"], "knee_H": knees.get(first),
+                              "uncertainty": {k[7:]: fe.uncertainty.get(k) for k in mv}}
+    case = res.case
+    hand_block, planar_block = res.hand_3d.to_dict(), res.hand_planar.to_dict()
+    if res.drive is not None:  # a voltage drive (compare.models.drive): per model, SI
+        hand_block.update(res.drive.to_dict("hand_3d"))
+        planar_block.update(res.drive.to_dict("hand"))
+        fe_block.update(res.drive.to_dict("fe"))
+        fe_block["uncertainty"].update({k: v for k, v in res.drive.uncertainty.items()})
+    from ..models.coupling import coupling_matrix
+
+    for block in (hand_block, planar_block, fe_block):  # k_jk = L_jk / sqrt(L_jj L_kk)
+        lm = [[math.nan if v is None else v for v in row] for row in block["inductance_matrix"]]
+        block["coupling"] = [[v if math.isfinite(v) else None for v in row]
+                             for row in coupling_matrix(lm)]
+    if res.leakage:  # two concentric windings: L_s referred to the first (H)
+        hand_block["leakage_inductance"] = res.leakage["hand"]
+        planar_block["leakage_inductance"] = res.leakage["hand"]
+        fe_block["leakage_inductance"] = res.leakage["fe"]
+    return {
+        "case": {"name": case.name, "family": case.family, "file": case.source,
+                 "sha256": case.sha256},
+        "hand": hand_block,
+        "hand_planar": planar_block,
+        "fe": fe_block,
+        "comparison": [r.to_dict() for r in res.rows],
+        "fringing_ranking": list(res.fringing_ranking),
+        "difference_breakdown": [st.to_dict() for st in res.breakdown],
+        "notes": list(res.notes),
+        "passed": res.passed,  # both verdicts: design_passed and agreement_passed
+        "design_passed": res.design_passed,
+        "agreement_passed": res.agreement_passed,
+        "verdict_counts": {"design": res.verdict_counts("design"),
+                           "agreement": res.verdict_counts("agreement")},
+        "exit_code": res.exit_code_for(agreement),
+        "timings_s": res.timings,
+        "versions": versions(),
+        "caution": CAUTION,
+    }
+
+
+def check_csv(res: CheckResult) -> str:
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    keys = list(res.rows[0].to_dict())
+    w.writerow(keys)
+    for r in res.rows:
+        w.writerow(["" if isinstance(v, float) and not math.isfinite(v) else
+                    ("" if v is None else v) for v in r.to_dict().values()])
+    return buf.getvalue()
+
+
+BREAKDOWN_LABELS = {"gap_B": "gap B", "core_B": "core B", "path_H": "path H", "flux": "flux",
+                    "inductance": "L", "incremental_inductance": "dL/dI"}
+BREAKDOWN_NOTE = ("Each row switches one more refinement on in the hand model (its planar form "
+                  "against a planar FE) and gives its difference to the same FE, (hand - FE)/FE in %. What is left in the "
+                  "last row is what only a field solution sees: non-uniform flux, local saturation, "
+                  "corners, the winding's effect on fringing.")
+
+
+def breakdown_note(res: CheckResult) -> str:
+    """BREAKDOWN_NOTE in the case's form: an r-z case compares the whole
+    hand circuit with an axisymmetric FE, no planar form."""
+    from ..judge.check import _knee
+    from ..design.coremodel import core_model
+
+    note = BREAKDOWN_NOTE
+    if not res.fe.fine.peak_B > _knee(res.case.material("core").law):
+        # no part of the core past its knee: no local saturation to blame
+        note = note.replace("non-uniform flux, local saturation, corners",
+                            "non-uniform flux, corners")
+    if not core_model(res.case).axisymmetric:
+        return note
+    return note.replace("(its planar form against a planar FE)",
+                        "(the whole circuit against the axisymmetric FE)")
+
+
+def breakdown_rows(res: CheckResult) -> tuple[list[str], list[list[str]]]:
+    """Columns and rows of the difference breakdown table (differences in %)."""
+    from ..judge.breakdown import BREAKDOWN_KEYS
+
+    columns = ["step"] + [f"{BREAKDOWN_LABELS[k]} diff %" for k in BREAKDOWN_KEYS]
+    rows = [[st.name] + [_pct(st.diff_pct[k]) for k in BREAKDOWN_KEYS] for st in res.breakdown]
+    return columns, rows
+
+
+_MD_SPECIAL = set("\\`*_{}[]<>()#+!|&~")
+
+
+def markdown_text(text: str) -> str:
+    """Case text (a name, a note) as literal Markdown: every character Markdown
+    or inline HTML could read as markup is backslash-escaped (``<script>``
+    stays text), line breaks become spaces."""
+    text = " ".join(str(text).splitlines())
+    return "".join("\\" + c if c in _MD_SPECIAL else c for c in text)
+
+
+def check_markdown(res: CheckResult, agreement: str = "fatal") -> str:
+    lines = [f"# magcheck: {markdown_text(res.case.name)}", "",
+             f"Case file `{res.case.source}` (sha256 `{res.case.sha256[:12]}`), family "
+             f"`{res.case.family}`, fringing model `{res.hand_planar.fringing_model}`.", "",
+             "| " + " | ".join(TABLE_COLUMNS) + " |",
+             "|" + "---|" * len(TABLE_COLUMNS)]
+    for r in res.rows:
+        lines.append("| " + " | ".join(table_cells(r)) + " |")
+    lines.append("")
+    lines += [f"- {markdown_text(n)}" for n in res.notes]
+    if res.fringing_ranking:
+        lines += ["", "Fringing models against the FE (planar form), best first:", "",
+                  "| model | gap B diff % | flux diff % | inductance diff % | RMS % |",
+                  "|---|---|---|---|---|"]
+        for d in res.fringing_ranking:
+            lines.append(f"| {d['model']} | {_pct(d['gap_B_difference_pct'])} | "
+                         f"{_pct(d['flux_difference_pct'])} | "
+                         f"{_pct(d['inductance_difference_pct'])} | "
+                         f"{d['rms_difference_pct']:.1f} |")
+    if res.breakdown:
+        columns, rows = breakdown_rows(res)
+        lines += ["", "Where the difference comes from (hand refinements one at a time):", "",
+                  "| " + " | ".join(columns) + " |", "|" + "---|" * len(columns)]
+        lines += ["| " + " | ".join(r) + " |" for r in rows]
+        lines += ["", breakdown_note(res)]
+    lines += ["", f"Verdict: {'all limits and margins met' if res.passed else 'FAILED'}.", ""]
+    lines += [f"- {v}" for v in verdict_lines(res, agreement)]
+    lines += ["", f"*{CAUTION}*", ""]
+    return "\n".join(lines)

@@ -1,0 +1,145 @@
+"""Varied cases: a case file's document kept to derive cases from it.
+
+A sweep point or a tolerance sample is the case file with some keys set to
+other values (:func:`make_case`); it is validated again through
+:func:`compare.reading.casefile.case_from_dict`, so a varied value is checked
+exactly like case-file input.  Two keys scale the core's B-H curve instead
+of setting a value (factor, nominal 1; :func:`analytic.bh.scale_law`):
+``materials.core.scale_H`` and ``materials.core.scale_B``.
+"""
+
+from __future__ import annotations
+
+import copy
+import dataclasses
+import hashlib
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from magcheck.analytic.bh import BHDataError, scale_law
+
+from ..design.case import Case, MaterialSpec
+from .casefile import case_from_dict
+from ..errors import CaseError
+from ..design.keys import SCALE_KEYS, parse_key, set_key
+
+__all__ = ["CaseSource", "case_source", "make_case", "scale_core_material"]
+
+
+@dataclass(frozen=True)
+class CaseSource:
+    """A case file's parsed TOML, kept to derive varied cases from."""
+
+    data: dict = field(repr=False, compare=False)
+    base_dir: Path | None
+    source: str
+    sha256: str
+
+
+def case_source(path: str | Path, *, allow_large: bool = False) -> tuple[CaseSource, Case]:
+    """Read a case file both as raw TOML (to vary) and validated.
+
+    ``allow_large`` sets ``[fe] allow_large = true`` in both (the
+    ``--allow-large`` option); the file's hash stays that of the file.
+    """
+    from dataclasses import replace
+
+    from .casefile import load_case
+
+    case = load_case(path)  # all errors of a bad file come from here
+    path = Path(path)
+    raw = path.read_bytes()
+    data = tomllib.loads(raw.decode("utf-8"))
+    if allow_large:
+        fe = data.get("fe")
+        data["fe"] = {**(fe if isinstance(fe, dict) else {}), "allow_large": True}
+        case = replace(case, fe=replace(case.fe, allow_large=True))
+    return CaseSource(data, path.parent, str(path), hashlib.sha256(raw).hexdigest()), case
+
+
+def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str, str] | None = None) -> Case:
+    """The case of ``src`` with ``settings`` (key -> SI value) applied, validated.
+
+    Raises
+    ------
+    CaseError
+        Naming the ``--vary`` spec (when ``spec_of`` maps the key to it) and
+        the offending value.
+    """
+    data = copy.deepcopy(src.data)
+    scales = {k: v for k, v in settings.items() if k in SCALE_KEYS}
+    for key, value in settings.items():
+        if key in SCALE_KEYS:
+            continue
+        try:
+            _check_drive_key(data, key)
+            set_key(data, parse_key(key), value, key)
+        except CaseError as exc:
+            where = spec_of.get(key, key) if spec_of else key
+            raise CaseError(where, None, exc.reason) from None
+    try:
+        case = case_from_dict(data, base_dir=src.base_dir, source=src.source, sha256=src.sha256)
+    except CaseError as exc:
+        if spec_of:
+            point = ", ".join(f"{k} = {_shown(k, v)}" for k, v in settings.items())
+            shown: object = exc.value
+            if exc.key in settings and isinstance(exc.value, float):  # the swept value
+                shown = _shown(exc.key, exc.value)
+            raise CaseError(exc.key, shown, f"{exc.reason} (at the point {point})") from None
+        raise
+    for k, v in scales.items():
+        if v <= 0:
+            where = spec_of.get(k, k) if spec_of else k
+            raise CaseError(where, v, "a B-H scale factor must be positive")
+    if scales:
+        case = scale_core_material(case, scales.get(SCALE_KEYS[0], 1.0),
+                                   scales.get(SCALE_KEYS[1], 1.0))
+    return case
+
+
+def _check_drive_key(data: dict, key: str) -> None:
+    """A winding's voltage or frequency varies only on a voltage-driven winding."""
+    from ..design.keys import winding_alias
+
+    path = winding_alias(data, parse_key(key))
+    if path[-1] not in ("voltage", "frequency") or path[0] not in ("winding", "windings"):
+        return
+    node: Any = data
+    for part in path[:-1]:
+        try:
+            node = node[part]
+        except (KeyError, IndexError, TypeError):
+            return  # set_key names what is missing
+    if isinstance(node, dict) and "voltage" not in node:
+        raise CaseError("key", key, "this winding is driven by its current: vary its current, "
+                                    "or give it voltage and frequency in the case file")
+
+
+def _shown(key: str, value: float) -> str:
+    """A swept SI value in the unit the sweep's tables show it in (lengths in mm)."""
+    from ..design.keys import display_unit
+
+    factor, unit = display_unit(key)
+    return f"{value * factor:g} {unit}".rstrip()
+
+
+def scale_core_material(case: Case, k_h: float = 1.0, k_b: float = 1.0) -> Case:
+    """The case with its core material's B-H curve scaled, H by ``k_h`` and
+    B by ``k_b`` (analytic.bh.scale_law; the parts with a material of their
+    own keep theirs).
+
+    Raises
+    ------
+    CaseError
+        Naming ``materials.core.scale_H`` when the scaled curve is not valid.
+    """
+    spec = case.material("core")
+    try:
+        law = scale_law(spec.law, k_h, k_b)
+    except BHDataError as exc:
+        raise CaseError(SCALE_KEYS[0], {"scale_H": k_h, "scale_B": k_b}, str(exc)) from None
+    new = MaterialSpec(spec.region, spec.kind, f"{spec.description}, scaled", law)
+    return dataclasses.replace(case, materials=tuple(
+        new if m.region == "core" else m for m in case.materials))

@@ -1,0 +1,444 @@
+"""``verify``: every stored design checked against its limits, margins and baseline.
+
+For each case file under the given paths: the side-by-side check
+(:func:`compare.judge.check.run_check`: hand-vs-FE agreement limits and the design
+margins), the sweeps the case declares (``[sweep]``, saturation current and
+inductance margins read off the FE curves), and, with a baseline file, drift
+of the stored results beyond the tolerances of :mod:`compare.judge.baseline`.
+
+One :class:`Item` per limit, margin or baseline check; an item is one JUnit
+test case. Cases run in parallel processes (one case per task).
+
+Two verdicts: the design (margins, sweeps, baseline drift; a failure exits
+1) and the agreement of the hand calculation with the field solution
+(agreement limits; a failure exits 4, or 0 with ``agreement="report"``).
+A case's stored baseline entry (``--baseline``, or else ``baseline.json``
+beside the case file, made from the same case file) may record an
+agreement row as FAIL: the same FAIL now is a "known disagreement (stored)",
+not a failure; a new FAIL, or a stored FAIL that no longer fails, is one.
+"""
+
+from __future__ import annotations
+
+import json
+import logging
+import math
+import time
+import xml.etree.ElementTree as ET
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Callable, Sequence
+
+from ..errors import CaseError, RunError
+
+__all__ = ["Item", "CaseOutcome", "VerifyResult", "find_cases", "verify_case", "run_verify",
+           "junit_xml", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_SOLVE", "EXIT_AGREEMENT",
+           "KNOWN", "AGREEMENT_GROUPS"]
+
+log = logging.getLogger(__name__)
+
+EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_SOLVE, EXIT_AGREEMENT = 0, 1, 2, 3, 4
+
+KNOWN = "known disagreement (stored)"
+"""An agreement FAIL that the case's stored baseline entry records too."""
+AGREEMENT_GROUPS = ("limit", "stored")
+"""Item groups of the agreement verdict; the others (margin, sweep, baseline) are the design's."""
+
+
+@dataclass(frozen=True)
+class Item:
+    """One checked figure of one case.
+
+    group : "limit" (hand vs FE agreement), "stored" (an agreement verdict
+        against the stored one), "margin", "sweep" or "baseline".
+    verdict : "pass", "FAIL", "n/a" (could not be judged), "within FE noise",
+        "inconclusive" (beyond the limit, within the FE noise) or
+        "known disagreement (stored)".
+    """
+
+    group: str
+    key: str
+    label: str
+    unit: str
+    value: float
+    limit: float | None
+    limit_kind: str
+    margin_pct: float
+    verdict: str
+    message: str = ""
+
+    @property
+    def failed(self) -> bool:
+        return self.verdict == "FAIL"
+
+    @property
+    def judges(self) -> str:
+        """"agreement" (hand vs FE) or "design" (margins, sweeps, baseline drift)."""
+        return "agreement" if self.group in AGREEMENT_GROUPS else "design"
+
+    def to_dict(self) -> dict:
+        return {"group": self.group, "key": self.key, "label": self.label, "unit": self.unit,
+                "value": self.value, "limit": self.limit, "limit_kind": self.limit_kind,
+                "margin_pct": self.margin_pct, "verdict": self.verdict, "message": self.message,
+                "judges": self.judges}
+
+
+@dataclass(frozen=True)
+class CaseOutcome:
+    """Everything verify found for one case file.
+
+    status : "ok" (ran), "input" (bad case file: exit 2) or "solve" (a solve failed: exit 3).
+    """
+
+    file: str
+    name: str
+    items: tuple[Item, ...]
+    status: str = "ok"
+    error: str = ""
+    seconds: float = 0.0
+    saturation: tuple[dict, ...] = ()
+
+    @property
+    def failed(self) -> bool:
+        return any(i.failed for i in self.items)
+
+    @property
+    def design_passed(self) -> bool:
+        return not any(i.failed for i in self.items if i.judges == "design")
+
+    @property
+    def agreement_passed(self) -> bool:
+        return not any(i.failed for i in self.items if i.judges == "agreement")
+
+    @property
+    def known_disagreements(self) -> int:
+        return sum(i.verdict == KNOWN for i in self.items)
+
+
+@dataclass(frozen=True)
+class VerifyResult:
+    outcomes: tuple[CaseOutcome, ...]
+    seconds: float
+    baseline: str = ""
+    agreement: str = "fatal"
+    """"fatal": an agreement failure exits 4; "report": it is printed, exit 0."""
+
+    @property
+    def design_passed(self) -> bool:
+        return all(o.design_passed for o in self.outcomes)
+
+    @property
+    def agreement_passed(self) -> bool:
+        return all(o.agreement_passed for o in self.outcomes)
+
+    @property
+    def exit_code(self) -> int:
+        if any(o.status == "input" for o in self.outcomes):
+            return EXIT_INPUT
+        if any(o.status == "solve" for o in self.outcomes):
+            return EXIT_SOLVE
+        if not self.design_passed:
+            return EXIT_FAIL
+        if not self.agreement_passed and self.agreement == "fatal":
+            return EXIT_AGREEMENT
+        return EXIT_OK
+
+
+def find_cases(paths: Sequence[str | Path]) -> list[Path]:
+    """Case files (``*.toml``) under the given files and folders, sorted, no repeats.
+
+    Raises
+    ------
+    CaseError
+        A path that does not exist, or no case file found at all.
+    """
+    out: list[Path] = []
+    for p in paths:
+        path = Path(p)
+        if path.is_dir():
+            out.extend(sorted(path.rglob("*.toml")))
+        elif path.is_file():
+            out.append(path)
+        else:
+            raise CaseError("PATH", str(p), "no such file or folder")
+    seen, unique = set(), []
+    for p in out:
+        r = p.resolve()
+        if r not in seen:
+            seen.add(r)
+            unique.append(p)
+    if not unique:
+        raise CaseError("PATH", ", ".join(map(str, paths)), "no case files (*.toml) found")
+    return unique
+
+
+def _check_items(res, stored: dict[str, str] | None = None) -> list[Item]:
+    """The check's margin and agreement items; ``stored`` the agreement
+    verdicts of the case's baseline entry (None: none stored)."""
+    from ..judge.baseline import stored_verdict_changes
+
+    changed = stored_verdict_changes({r.key: r.verdict for r in res.rows
+                                      if r.judges == "agreement" and r.limit_pct is not None},
+                                     stored) if stored is not None else {}
+    items = []
+    for r in res.rows:
+        if r.limit_value is not None:  # design margin
+            judged = r.fe if math.isfinite(r.fe) else r.hand  # hand-based margins have no FE value
+            items.append(Item("margin", r.key.removeprefix("margin:"), r.label, r.unit, judged,
+                              r.limit_value, r.limit_kind, r.margin_pct, r.verdict))
+        elif r.limit_pct is not None:  # hand-vs-FE agreement limit, percent
+            verdict = r.verdict
+            message = f"hand {r.hand:.6g} {r.unit}, FE {r.fe:.6g} {r.unit}"
+            if verdict == "FAIL" and stored is not None and stored.get(r.key) == "FAIL":
+                verdict = KNOWN
+                message += "; the baseline entry stores this FAIL (the hand model's known miss)"
+            items.append(Item("limit", f"agreement:{r.key}", f"hand vs FE: {r.label}", "%",
+                              r.diff_pct, r.limit_pct, "abs", r.limit_pct - abs(r.diff_pct)
+                              if math.isfinite(r.diff_pct) else math.nan, verdict, message))
+            if r.key in changed and r.verdict != "FAIL":
+                items.append(Item("stored", f"stored:agreement:{r.key}",
+                                  f"stored verdict: {r.label}", "", math.nan, None, "", math.nan,
+                                  "FAIL", f"now {r.verdict}, stored FAIL: the disagreement is "
+                                          "gone; regenerate the baseline entry "
+                                          "(tools/update_baseline.py)"))
+    return items
+
+
+def _margin_item(group: str, m) -> Item:
+    """A sweep margin: key and label say "sweep" (check has items of the same name)."""
+    return Item(group, f"{group}:{m.key}", f"{group}: {m.label}", m.unit, m.value, m.limit,
+                m.kind, m.margin_pct, m.verdict, m.note)
+
+
+def verify_case(path: str, stored: dict | None = None, *, use_baseline: bool = False,
+                estimate_error: bool = True) -> CaseOutcome:
+    """Check one case file (runs in a worker process; never raises for bad input
+    or failed solves: they come back as the outcome's status).
+
+    ``stored`` the case's baseline entry: its agreement verdicts mark known
+    disagreements (when made from the same case file); with ``use_baseline``
+    its values are also checked for drift."""
+    from ..judge.baseline import drift, snapshot
+    from ..judge.check import run_check
+    from .sweep import case_source, parse_vary, run_sweep, sweep_margins
+
+    t0 = time.perf_counter()
+    name = Path(path).stem
+    items: list[Item] = []
+    sat: list[dict] = []
+    try:
+        src, case = case_source(path)
+        name = case.name
+        specs_per_sweep = [[parse_vary(v, where="sweep.vary", family=case.family_model)
+                            for v in decl.vary] for decl in case.sweeps]
+        res = run_check(case, estimate_error=estimate_error)
+        same = stored is not None and stored.get("case_sha256") in (None, "", case.sha256)
+        items += _check_items(res, stored.get("agreement") if same and stored else None)
+        for decl, specs in zip(case.sweeps, specs_per_sweep):
+            sw = run_sweep(src, specs, workers=1)
+            if not sw.converged:
+                bad = [p for p in sw.points if not p.converged]
+                raise RunError(f"sweep {', '.join(decl.vary)}: {len(bad)} point(s) failed; "
+                               f"first: {bad[0].message}")
+            margins, table = sweep_margins(sw, decl.drops, decl.inductance)
+            items += [_margin_item("sweep", m) for m in margins]
+            sat += [dict(row, sweep=" ".join(decl.vary)) for row in table]
+        if use_baseline:
+            if stored is None:
+                items.append(Item("baseline", "baseline", "stored results", "", math.nan, None,
+                                  "", math.nan, "n/a", "no stored results for this case"))
+            elif stored.get("case_sha256") not in (None, "", case.sha256):
+                items.append(Item("baseline", "baseline", "stored results", "", math.nan, None,
+                                  "", math.nan, "FAIL",
+                                  f"the case file differs from the one the baseline entry "
+                                  f"'{name}' was made from (sha256 {case.sha256[:12]}... vs "
+                                  f"{str(stored['case_sha256'])[:12]}...): its values are not "
+                                  "comparable; regenerate the entry or rename the case"))
+            else:
+                moved = drift(snapshot(res), stored)
+                if moved:
+                    for d in moved:
+                        items.append(Item("baseline", f"baseline:{d.block}.{d.key}",
+                                          f"drift of {d.block}.{d.key}", d.unit,
+                                          math.nan if d.current is None else d.current, d.stored,
+                                          "abs", math.nan, "FAIL", str(d)))
+                else:
+                    items.append(Item("baseline", "baseline", "stored results", "", math.nan,
+                                      None, "", math.nan, "pass",
+                                      "every stored value within its drift tolerance"))
+    except CaseError as exc:
+        return CaseOutcome(str(path), name, tuple(items), "input", str(exc),
+                           time.perf_counter() - t0)
+    except RunError as exc:
+        return CaseOutcome(str(path), name, tuple(items), "solve", str(exc),
+                           time.perf_counter() - t0)
+    return CaseOutcome(str(path), name, tuple(items), "ok", "", time.perf_counter() - t0,
+                       tuple(sat))
+
+
+@dataclass(frozen=True)
+class _Task:
+    path: str
+    stored: dict | None
+    use_baseline: bool
+    estimate_error: bool
+
+
+def _run_task(t: _Task) -> CaseOutcome:
+    return verify_case(t.path, t.stored, use_baseline=t.use_baseline,
+                       estimate_error=t.estimate_error)
+
+
+def run_verify(paths: Sequence[str | Path], *, baseline: str | Path | None = None,
+               workers: int | None = None, scheduler: str | None = None,
+               estimate_error: bool = True,
+               on_done: Callable[[int, int], None] | None = None,
+               agreement: str = "fatal", stored_verdicts: bool = True) -> VerifyResult:
+    """Verify every case under ``paths`` (see module doc).
+
+    Without ``baseline`` the stored agreement verdicts come from a
+    ``baseline.json`` beside each case file, when there is one
+    (``stored_verdicts=False``: none); no drift is checked then.
+
+    Raises
+    ------
+    CaseError
+        For a missing path or an unreadable baseline file.
+    """
+    from .executor import run_tasks
+
+    t0 = time.perf_counter()
+    files = find_cases(paths)
+    stored_all: dict = {}
+    if baseline is not None:
+        try:
+            stored_all = json.loads(Path(baseline).read_text())
+        except OSError as exc:
+            raise CaseError("--baseline", str(baseline), f"cannot read ({exc.strerror})") from None
+        except json.JSONDecodeError as exc:
+            raise CaseError("--baseline", str(baseline), f"not JSON ({exc})") from None
+        if not isinstance(stored_all, dict):
+            raise CaseError("--baseline", str(baseline), "must map case names to results")
+    tasks = []
+    beside: dict[Path, dict] = {}
+    first_file: dict[str, Path] = {}
+    for f in files:
+        name = _case_name(f)
+        if name is not None and name in first_file:
+            raise CaseError("case.name", name, f"used by two case files, {first_file[name]} and "
+                                               f"{f}: give each case its own name")
+        if name is not None:
+            first_file[name] = f
+        if baseline is not None:
+            entry = stored_all.get(name)
+        elif stored_verdicts and name is not None:
+            entry = _beside(f, beside).get(name)
+        else:
+            entry = None
+        tasks.append(_Task(str(f), entry, baseline is not None, estimate_error))
+    outcomes, _ = run_tasks(_run_task, tasks, workers=workers, scheduler=scheduler,
+                            on_done=on_done)
+    return VerifyResult(tuple(outcomes), time.perf_counter() - t0,
+                        str(baseline) if baseline else "", agreement)
+
+
+def _beside(case_file: Path, cache: dict[Path, dict]) -> dict:
+    """The ``baseline.json`` in a case file's folder ({} when there is none
+    or it is not a JSON object of entries; read once per folder and run)."""
+    folder = case_file.resolve().parent
+    if folder not in cache:
+        data: dict = {}
+        try:
+            loaded = json.loads((folder / "baseline.json").read_text())
+            data = loaded if isinstance(loaded, dict) else {}
+        except FileNotFoundError:
+            pass
+        except (OSError, ValueError) as exc:
+            log.warning("%s: not read for stored verdicts (%s)", folder / "baseline.json", exc)
+        cache[folder] = {k: v for k, v in data.items() if isinstance(v, dict)}
+    return cache[folder]
+
+
+def _case_name(path: Path) -> str | None:
+    """The [case] name of a file, cheaply (for the baseline lookup); None if unreadable."""
+    import tomllib
+
+    try:
+        return tomllib.loads(path.read_text(encoding="utf-8")).get("case", {}).get("name", "unnamed")
+    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError, AttributeError):
+        return None
+
+
+# --------------------------------------------------------------------------- JUnit
+def _num(v: float | None, unit: str) -> str:
+    from ..design.units import format_si
+
+    if v is None or not math.isfinite(v):
+        return "-" if v is None or math.isnan(v) else str(v)
+    return format_si(v, unit) if unit and unit != "%" else f"{v:.4g}{' %' if unit == '%' else ''}"
+
+
+def item_text(it: Item) -> str:
+    """One line: value, limit and margin left (used in tables and JUnit messages)."""
+    if it.group == "limit":
+        return (f"{it.label}: difference {_num(it.value, '%')} against a limit of "
+                f"+-{_num(it.limit, '%')}; {it.message}")
+    if it.group == "baseline":
+        return it.message
+    sign = "<=" if it.limit_kind == "max" else ">="
+    text = (f"{it.label}: value {_num(it.value, it.unit)}, limit {sign} "
+            f"{_num(it.limit, it.unit)}, margin {it.margin_pct:+.1f} % of the limit")
+    return text + (f" ({it.message})" if it.message else "")
+
+
+def junit_xml(res: VerifyResult) -> str:
+    """JUnit XML: one <testsuite> per case, one <testcase> per item.
+
+    A failed item carries value, limit and margin in both the ``message``
+    attribute and the text of its <failure>; "n/a" items are <skipped>; a
+    case that could not run is one <error> test case.
+    """
+    suites = ET.Element("testsuites", name="magcheck verify", time=f"{res.seconds:.3f}")
+    for o in res.outcomes:
+        cases = list(o.items)
+        suite = ET.SubElement(suites, "testsuite", name=o.name, file=o.file,
+                              time=f"{o.seconds:.3f}")
+        props = ET.SubElement(suite, "properties")
+        for pname, pvalue in (("design_passed", o.design_passed),
+                              ("agreement_passed", o.agreement_passed),
+                              ("known_disagreements", o.known_disagreements)):
+            ET.SubElement(props, "property", name=pname,
+                          value=str(pvalue).lower() if isinstance(pvalue, bool) else str(pvalue))
+        nfail = nerr = nskip = 0
+        for it in cases:
+            tc = ET.SubElement(suite, "testcase", classname=f"magcheck.{o.name}", name=it.key,
+                               file=o.file, time="0")
+            text = item_text(it)
+            if it.failed:
+                nfail += 1
+                f = ET.SubElement(tc, "failure", message=text, type=it.group)
+                f.text = text
+            elif it.verdict in ("n/a", "inconclusive"):
+                nskip += 1
+                ET.SubElement(tc, "skipped", message=f"{it.verdict}: {text}")
+            else:
+                out = ET.SubElement(tc, "system-out")
+                out.text = f"{KNOWN}: {text}" if it.verdict == KNOWN else text
+        if o.status != "ok":
+            nerr += 1
+            tc = ET.SubElement(suite, "testcase", classname=f"magcheck.{o.name}",
+                               name="bad input" if o.status == "input" else "solve",
+                               file=o.file, time=f"{o.seconds:.3f}")
+            e = ET.SubElement(tc, "error", message=o.error,
+                              type="bad input" if o.status == "input" else "solve failed")
+            e.text = o.error
+        suite.set("tests", str(len(cases) + (o.status != "ok")))
+        suite.set("failures", str(nfail))
+        suite.set("errors", str(nerr))
+        suite.set("skipped", str(nskip))
+    total = sum(int(s.get("tests", "0")) for s in suites)
+    suites.set("tests", str(total))
+    suites.set("failures", str(sum(int(s.get("failures", "0")) for s in suites)))
+    suites.set("errors", str(sum(int(s.get("errors", "0")) for s in suites)))
+    ET.indent(suites)
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(suites, encoding="unicode") + "\n"
