@@ -10,9 +10,12 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from magcheck.analytic.bh import BHDataError
-from magcheck.analytic.materials import bh_csv_text, builtin, builtin_names, load_bh_csv
+from magcheck.analytic.materials import (_parse_bh_text, bh_csv_text, builtin, builtin_names,
+                                         load_bh_csv)
 from magcheck.compare.front.cli import main
 from magcheck.compare.reading.casefile import case_from_dict
 
@@ -197,3 +200,20 @@ def test_bh_csv_text_of_a_converted_curve_reads_back_exactly(tmp_path):
     again = load_bh_csv(_write(tmp_path, bh_csv_text(c, ["two\nlines"]), "again.csv"))
     np.testing.assert_array_equal(again.h_points, c.h_points)
     np.testing.assert_array_equal(again.b_points, c.b_points)
+
+
+# --------------------------------------------------------------- never another exception
+_PIECES = ["H [A/m]", "B (T)", "J [mT]", "h(oe)", "1", "0,5", "2.5", "-3", "1e3", "nan", "#",
+           ",", ";", "\t", "\n", "\r\n", "\ufeff", '"', " ", "[", ")", "x", "\x00", "1,5"]
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(st.sampled_from(_PIECES), max_size=40) | st.text(max_size=200))
+def test_any_text_gives_a_curve_or_a_one_line_bh_data_error(parts):
+    text = parts if isinstance(parts, str) else "".join(parts)
+    try:
+        h, b = _parse_bh_text(text, "fuzz.csv")
+    except BHDataError as exc:
+        assert str(exc).startswith("fuzz.csv") and "\n" not in str(exc)
+        return
+    assert h.shape == b.shape
