@@ -1,4 +1,4 @@
-"""A check result as JSON, CSV, Markdown and table rows (no physics here)."""
+"""A check result as JSON, CSV, Markdown and table rows, and a sweep as CSV (no physics here)."""
 
 from __future__ import annotations
 
@@ -19,8 +19,8 @@ from ..errors import CaseError
 if TYPE_CHECKING:
     from ..studies.sweep import SweepResult
 
-__all__ = ["check_json", "check_csv", "sweep_csv", "sweep_column_unit", "csv_cell", "check_markdown", "table_cells", "TABLE_COLUMNS",
-           "versions", "verdict_lines"]
+__all__ = ["check_json", "check_csv", "check_markdown", "table_cells", "TABLE_COLUMNS",
+           "versions", "verdict_lines", "sweep_csv", "sweep_column_unit", "csv_cell", "CSV_DIGITS"]
 
 TABLE_COLUMNS = ["quantity", "hand", "FE", "FE +/-", "diff %", "limit %", "verdict",
                  "hand 3D", "FE 3D"]
