@@ -1,10 +1,23 @@
 """B-H tables from CSV files and inline data, and the built-in demo materials.
 
-CSV format: optional comment lines starting with ``#``; one header row naming
-the two columns with bracketed units, e.g. ``H [A/m],B [T]`` or
-``H [Oe],B [kG]`` (A/m and T when no unit is given); then one ``H,B`` pair per
-row, first quadrant, origin optional.  Units: :data:`analytic.bh.H_UNITS`,
-:data:`analytic.bh.B_UNITS`.
+CSV format (what spreadsheets write is read as saved): UTF-8 text, a leading
+byte-order mark allowed (UTF-16 with its byte-order mark too); optional
+comment lines starting with ``#``; one header row naming the two columns with
+their units in brackets or parentheses, e.g. ``H [A/m],B [T]``,
+``H (kA/m);B (mT)`` or ``H [Oe]<tab>B [kG]`` (A/m and T when no unit is given;
+letters and units in any case, spaces ignored); then one ``H,B`` pair per row,
+first quadrant, origin optional.  The column separator -- a comma, a semicolon
+or a tab -- is read off the header row and holds for the whole file; numbers
+take a decimal point: a decimal comma (``1,5``) is refused naming the file,
+the line and the value.  Units: :data:`analytic.bh.H_UNITS`,
+:data:`analytic.bh.B_UNITS` (1 Oe = 1000/(4 pi) A/m, 1 G = 1e-4 T: SI
+definitions, NIST SP 811 appendix B; docs/references.md section 3).
+
+A ``J`` column instead of ``B`` holds the magnetic polarisation (units as B)
+and is read as B = mu0*H + J, the definition of J (IEC 60050-121,
+International Electrotechnical Vocabulary, "magnetic polarization"; any
+magnetics textbook; docs/references.md section 3).  :func:`bh_csv_text` writes
+a curve in this format.
 
 Built-in demo materials (``analytic/data/*.csv``) are invented for the demo:
 each is sampled from the Froehlich-Kennelly law plus the vacuum term,
@@ -20,14 +33,15 @@ file's exact text; :func:`write_demo_csvs` rewrites all of them.
 
 from __future__ import annotations
 
+import codecs
 import csv
 import difflib
-import io
 import logging
 import re
 from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
+from typing import Sequence
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -37,7 +51,6 @@ from .bh import B_UNITS, H_UNITS, BHCurve, BHDataError
 
 logger = logging.getLogger(__name__)
 
-_HEADER_RE = re.compile(r"^\s*([HB])\s*(?:\[\s*([^\]]*?)\s*\])?\s*$")
 
 
 # --------------------------------------------------------------------------- tables
@@ -72,53 +85,133 @@ def bh_from_table(
     return BHCurve.from_points(h, b, name=name, source=source)
 
 
-def _parse_header(cells: list[str], where: str) -> tuple[int, float, float]:
-    """Return (index of the H column, H factor, B factor) from a header row."""
+_UNIT_PART = r"(?:\[\s*(?P<bracket>[^\]]*?)\s*\]|\(\s*(?P<paren>[^)]*?)\s*\))"
+_HEADER_RE = re.compile(r"^\s*(?P<q>[HBJ])\s*" + _UNIT_PART + r"?\s*$", re.IGNORECASE)
+
+SEPARATORS: dict[str, str] = {",": "a comma", ";": "a semicolon", "\t": "a tab"}
+"""Column separators of a B-H CSV file (one per file, detected from its header row)."""
+
+_BLANK = " \t,;\"'"  # a line of only these characters holds no cell
+_INTEGER_RE = re.compile(r"^[+-]?\d+$")
+
+
+def _unit_factor(unit: str, table: dict[str, float]) -> float | None:
+    """Factor to SI of a unit as written in a header (spaces ignored, any case); None if unknown."""
+    compact = "".join(unit.split())
+    if compact in table:
+        return table[compact]
+    by_lower = {k.lower(): v for k, v in table.items()}
+    return by_lower.get(compact.lower())
+
+
+def _parse_header(cells: list[str], where: str) -> tuple[int, float, float, str]:
+    """Return (index of the H column, H factor to A/m, factor to T of the other
+    column, its quantity ``"B"`` or ``"J"``) from a header row."""
     if len(cells) != 2:
-        raise BHDataError(f"{where}: header must name exactly two columns (H and B), got {cells!r}")
+        raise BHDataError(f"{where}: header must name exactly two columns (H and B, or H and J), "
+                          f"separated by a comma, a semicolon or a tab; got {cells!r}")
     found: dict[str, tuple[int, str]] = {}
     for col, cell in enumerate(cells):
         match = _HEADER_RE.match(cell)
         if not match:
-            raise BHDataError(f"{where}: header cell {cell!r} is not of the form 'H [unit]' or 'B [unit]'")
-        found[match.group(1)] = (col, match.group(2) or "")
-    if set(found) != {"H", "B"}:
-        raise BHDataError(f"{where}: header {cells!r} must name one H column and one B column")
+            raise BHDataError(f"{where}: header cell {cell!r} is not of the form 'H [unit]', "
+                              "'B [unit]' or 'J [unit]' (units in brackets or parentheses)")
+        q = match.group("q").upper()
+        if q in found:
+            raise BHDataError(f"{where}: header {cells!r} names {q} twice")
+        found[q] = (col, match.group("bracket") or match.group("paren") or "")
+    other = "J" if "J" in found else "B"
+    if set(found) != {"H", other}:
+        raise BHDataError(f"{where}: header {cells!r} must name one H column and one B column "
+                          "(or one J column, the polarisation)")
     h_col, h_unit = found["H"]
-    _, b_unit = found["B"]
-    h_unit = h_unit or "A/m"
-    b_unit = b_unit or "T"
-    if h_unit not in H_UNITS:
+    _, b_unit = found[other]
+    h_factor = _unit_factor(h_unit or "A/m", H_UNITS)
+    b_factor = _unit_factor(b_unit or "T", B_UNITS)
+    if h_factor is None:
         raise BHDataError(f"{where}: unknown H unit {h_unit!r}; choose one of {', '.join(H_UNITS)}")
-    if b_unit not in B_UNITS:
-        raise BHDataError(f"{where}: unknown B unit {b_unit!r}; choose one of {', '.join(B_UNITS)}")
-    return h_col, H_UNITS[h_unit], B_UNITS[b_unit]
+    if b_factor is None:
+        raise BHDataError(f"{where}: unknown {other} unit {b_unit!r}; choose one of {', '.join(B_UNITS)}")
+    return h_col, h_factor, b_factor, other
+
+
+def _split(line: str, sep: str, where: str) -> list[str]:
+    """The stripped cells of one line (quotes as in CSV), trailing empty cells dropped
+    (a spreadsheet writes them when another row is longer)."""
+    try:
+        cells = [c.strip() for c in next(csv.reader([line], delimiter=sep), [])]
+    except csv.Error as exc:  # e.g. a cell beyond the csv module's field size limit
+        raise BHDataError(f"{where}: not a CSV row ({exc})") from None
+    while cells and not cells[-1]:
+        cells.pop()
+    return cells
+
+
+def _separator(header_line: str, where: str) -> str:
+    """The file's column separator: the first of ``,`` ``;`` tab that splits the
+    header row into two or more cells (``,`` when none does)."""
+    for sep in SEPARATORS:
+        if len(_split(header_line, sep, where)) >= 2:
+            return sep
+    return ","
+
+
+def _number(cell: str, sep: str, where: str) -> float:
+    """A data cell as a float; a decimal comma or another separator is refused by name."""
+    try:
+        return float(cell)
+    except ValueError:
+        pass
+    if cell.count(",") == 1:
+        fixed = cell.replace(",", ".")
+        try:
+            float(fixed)
+        except ValueError:
+            pass
+        else:
+            raise BHDataError(f"{where}: {cell!r} is written with a decimal comma; write {fixed} "
+                              "(a point as the decimal separator, no thousands separator)")
+    for other, name in SEPARATORS.items():
+        if other != sep and other in cell:
+            raise BHDataError(f"{where}: cell {cell!r} holds {name}, but the header row separates "
+                              f"columns with {SEPARATORS[sep]}; use one separator throughout the file")
+    raise BHDataError(f"{where}: cell {cell!r} is not a number")
 
 
 def _parse_bh_text(text: str, label: str) -> tuple[np.ndarray, np.ndarray]:
-    """Parse CSV text into H (A/m) and B (T) arrays; errors name ``label`` and the line."""
-    header = None
+    """Parse CSV text into H (A/m) and B (T) arrays; errors name ``label`` and the line.
+
+    The separator is read off the header row and holds for the whole file; a
+    leading byte-order mark is dropped. A J column (magnetic polarisation) is
+    turned into B = mu0*H + J, the definition of J (IEC 60050-121, magnetic
+    polarization; docs/references.md section 3) [exact: a definition].
+    """
+    text = text.removeprefix("\ufeff")
+    header: tuple[int, float, float, str] | None = None
+    sep = ","
     h_vals: list[float] = []
     b_vals: list[float] = []
-    for lineno, cells in enumerate(csv.reader(io.StringIO(text)), start=1):
-        cells = [c.strip() for c in cells]
-        if not cells or all(not c for c in cells) or cells[0].startswith("#"):
+    for lineno, line in enumerate(text.splitlines(), start=1):
+        if not line.strip(_BLANK) or line.lstrip(_BLANK).startswith("#"):
             continue
         where = f"{label}, line {lineno}"
         if header is None:
-            header = _parse_header(cells, where)
+            sep = _separator(line, where)
+            header = _parse_header(_split(line, sep, where), where)
             continue
+        cells = _split(line, sep, where)
         if len(cells) != 2:
-            raise BHDataError(f"{where}: expected 2 columns (H, B), got {len(cells)}: {','.join(cells)!r}")
-        values = []
-        for cell in cells:
-            try:
-                values.append(float(cell))
-            except ValueError:
-                raise BHDataError(f"{where}: cell {cell!r} is not a number") from None
-        h_col, h_factor, b_factor = header
-        h_vals.append(values[h_col] * h_factor)
-        b_vals.append(values[1 - h_col] * b_factor)
+            hint = f"; the header row separates columns with {SEPARATORS[sep]}"
+            if sep == "," and len(cells) > 2 and all(_INTEGER_RE.match(c) for c in cells):
+                hint += "; a decimal comma? write numbers with a point (1.5)"
+            raise BHDataError(f"{where}: expected 2 columns (H, B), got {len(cells)}: "
+                              f"{sep.join(cells)!r}{hint}")
+        values = [_number(cell, sep, where) for cell in cells]
+        h_col, h_factor, b_factor, other = header
+        h = values[h_col] * h_factor
+        b = values[1 - h_col] * b_factor
+        h_vals.append(h)
+        b_vals.append(b + mu_0 * h if other == "J" else b)
     if header is None:
         raise BHDataError(f"{label}: no header row (expected e.g. 'H [A/m],B [T]')")
     return np.array(h_vals), np.array(b_vals)
@@ -142,10 +235,22 @@ def load_bh_csv(path: str | Path, name: str | None = None) -> BHCurve:
     """
     path = Path(path)
     try:
-        text = path.read_text(encoding="utf-8")
+        raw = path.read_bytes()
     except OSError as exc:
         raise BHDataError(f"B-H file {str(path)!r} cannot be read: {exc.strerror or exc}") from None
-    return _curve_from_text(text, str(path), name if name is not None else path.stem)
+    return _curve_from_text(_decode(raw, str(path)), str(path), name if name is not None else path.stem)
+
+
+def _decode(raw: bytes, label: str) -> str:
+    """The text of a B-H file: UTF-8 (a byte-order mark dropped), or UTF-16
+    when it starts with that byte-order mark (a spreadsheet's "Unicode text")."""
+    try:
+        if raw.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
+            return raw.decode("utf-16")
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise BHDataError(f"B-H file {label!r} is not UTF-8 text (byte 0x{raw[exc.start]:02x} at "
+                          f"offset {exc.start}); save it as CSV in UTF-8") from None
 
 
 def _curve_from_text(text: str, label: str, name: str) -> BHCurve:
@@ -154,6 +259,21 @@ def _curve_from_text(text: str, label: str, name: str) -> BHCurve:
         return BHCurve.from_points(h, b, name=name, source=label)
     except BHDataError as exc:
         raise BHDataError(f"{label}: {exc}") from None
+
+
+def bh_csv_text(curve: BHCurve, comments: Sequence[str] = ()) -> str:
+    """A curve's table as B-H CSV text in the format :func:`load_bh_csv` reads.
+
+    Header ``H [A/m],B [T]``, then one row per table point, the origin
+    included; each value is written as the shortest decimal that reads back
+    to the same float (``repr``), so reading the text back gives the curve's
+    points bit for bit.  Each line of ``comments`` becomes a ``#`` line above
+    the header.
+    """
+    lines = [f"# {line}".rstrip() for c in comments for line in str(c).splitlines() or [""]]
+    lines.append("H [A/m],B [T]")
+    lines += [f"{float(h)!r},{float(b)!r}" for h, b in zip(curve.h_points, curve.b_points)]
+    return "\n".join(lines) + "\n"
 
 
 # --------------------------------------------------------------------------- demo materials

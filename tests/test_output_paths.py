@@ -224,7 +224,7 @@ def test_sweep_csv_to_stdout_is_csv_alone(capsys):
                  "--csv", "-"]) == 0
     captured = capsys.readouterr()
     rows = list(csv.DictReader(io.StringIO(captured.out)))
-    assert [float(r["winding.current"]) for r in rows] == [1.0, 2.0]
+    assert [float(r["winding.current [A]"]) for r in rows] == [1.0, 2.0]
     assert "sweep of winding.current" in captured.err
 
 

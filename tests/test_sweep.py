@@ -248,10 +248,13 @@ def test_sweep_cli_outputs(tmp_path):
     # The CSV and the JSON say the same (round trip of the point table).
     import csv
 
-    rows = list(csv.DictReader((out / "s.csv").open()))
+    # The CSV header gives each column's unit ("fe_inductance [H]"); its values
+    # are the JSON's to 12 significant digits (tolerance: half a unit in the 12th digit).
+    rows = [{k.split(" [")[0]: v for k, v in r.items()}
+            for r in csv.DictReader((out / "s.csv").open())]
     for r, pj in zip(rows, data["points"]):
-        for k in ("fe_inductance", "hand_incremental_inductance", "fe_peak_B"):
-            assert float(r[k]) == pytest.approx(pj[k], rel=1e-12)
+        for k in ("fe_inductance", "hand_incremental_inductance", "fe_peak_B", "fe_3d_inductance"):
+            assert float(r[k]) == pytest.approx(pj[k], rel=5e-12)
     # Secant inductance is flux linkage over current at every point.
     p2 = data["points"][2]
     assert p2["fe_inductance"] == pytest.approx(p2["fe_flux_linkage"] / 8.0, rel=1e-12)
@@ -350,3 +353,81 @@ def test_hand_only_sweep_keeps_the_case_model():
         assert (p.depth_model, p.depth_basis) == ("area", "case")
         assert (row["depth_model"], row["depth_basis"]) == ("area", "case")  # the JSON/CSV row
         assert p.depth_factor == pytest.approx(k, rel=1e-9)
+
+
+# --------------------------------------------------------------------------- the CSV
+def _significant_digits(cell: str) -> int:
+    mantissa = cell.lstrip("+-").lower().split("e")[0].replace(".", "").lstrip("0")
+    return len(mantissa.rstrip("0")) or 1
+
+
+def test_sweep_csv_header_units_and_no_float_noise(tmp_path, capsys):
+    """The sweep CSV: the JSON's point keys in their order, each with its SI
+    unit in brackets; values the JSON's rounded to 12 significant digits,
+    so a gap of 0.4 mm reads 0.0004, not 0.00039999999999999996."""
+    import csv
+    import json
+
+    code = main(["sweep", str(CHOKE), "--vary", "gaps[0].length=0.2mm:0.6mm:5",
+                 "--vary", "winding.current=0.1:0.3:3", "--hand-only",
+                 "--csv", str(tmp_path / "s.csv"), "--json", str(tmp_path / "s.json")])
+    assert code == 0
+    header, *rows = list(csv.reader((tmp_path / "s.csv").open()))
+    points = json.loads((tmp_path / "s.json").read_text())["points"]
+    assert header[:4] == ["index", "gaps[0].length [m]", "winding.current [A]", "hand_gap_B [T]"]
+    names = [h.split(" [")[0] for h in header]
+    assert names == list(points[0])  # the old header by position: the same columns in order
+    units = dict(zip(names, (h[len(n) + 2:-1] for h, n in zip(header, names))))
+    assert (units["hand_path_H"], units["hand_planar_flux"], units["hand_inductance"],
+            units["hand_energy"], units["hand_planar_peak_B"]) == ("A/m", "Wb", "H", "J", "T")
+    assert "depth_model" in header and "converged" in header and "index" in header  # no unit
+    assert [r[1] for r in rows[::3]] == ["0.0002", "0.0003", "0.0004", "0.0005", "0.0006"]
+    assert [r[2] for r in rows[:3]] == ["0.1", "0.2", "0.3"]
+    floats = 0
+    for r, pj in zip(rows, points, strict=True):
+        for name, cell in zip(names, r, strict=True):
+            v = pj[name]
+            if isinstance(v, float):
+                floats += 1
+                assert float(cell) == float(f"{v:.12g}"), (name, cell, v)
+                assert _significant_digits(cell) <= 12, (name, cell)
+            else:
+                assert cell == ("" if v is None else str(v)), (name, cell, v)
+    assert floats > 200  # 15 points of 19 float columns were compared
+
+
+def test_sweep_column_units_of_fe_and_other_keys():
+    from magcheck.compare.outputs.serialize import sweep_column_unit
+
+    fe = {"fe_inductance": "H", "fe_3d_inductance": "H", "fe_incremental_inductance": "H",
+          "fe_peak_B": "T", "fe_seconds": "s", "fe_force_maxwell": "N",
+          "fe_force_virtual_work": "N", "hand_force_pull": "N", "fe_newton_iterations": "",
+          "fe_start": "", "message": "", "depth_basis": ""}
+    for col, unit in fe.items():
+        assert sweep_column_unit(col) == unit, col
+    swept = ("core.stroke", "winding.turns", "materials.core.mu_r", "windings[0].voltage",
+             "windings[0].frequency", "gaps[1].position")
+    got = {k: sweep_column_unit(k, swept) for k in swept}
+    assert got == {"core.stroke": "m", "winding.turns": "", "materials.core.mu_r": "",
+                   "windings[0].voltage": "V", "windings[0].frequency": "Hz",
+                   "gaps[1].position": "m"}
+    assert sweep_column_unit("winding.current") == "A"  # always a column
+
+
+def test_csv_cell_and_check_csv_without_float_noise():
+    from types import SimpleNamespace
+
+    from magcheck.compare.outputs.serialize import check_csv, csv_cell
+
+    assert csv_cell(0.4e-3 * (1 + 1e-16)) == "0.0004"
+    assert csv_cell(0.1 + 0.2) == "0.3"  # 0.30000000000000004
+    assert csv_cell(3.0) == "3.0" and csv_cell(2.5e-6) == "2.5e-06" and csv_cell(-0.0) == "-0.0"
+    assert csv_cell(123456789.0123456) == "123456789.012"
+    assert csv_cell(float("nan")) == "" and csv_cell(None) == "" and csv_cell(7) == 7
+    assert csv_cell(True) is True and csv_cell("pass") == "pass"
+    row = {"quantity": "inductance", "hand": 0.002955234269967902, "fe": 0.1 + 0.2,
+           "difference_pct": -13.814324783197069, "limit_value": None, "judges": "agreement"}
+    res = SimpleNamespace(rows=[SimpleNamespace(to_dict=lambda: row)])
+    assert check_csv(res).splitlines() == [
+        "quantity,hand,fe,difference_pct,limit_value,judges",
+        "inductance,0.00295523426997,0.3,-13.8143247832,,agreement"]

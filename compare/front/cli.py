@@ -34,7 +34,7 @@ COMMANDS: dict[str, str] = {
     "check": "run the magnetic-circuit model and the FE model (planar or axisymmetric) on one case and "
              "compare them quantity by quantity",
     "hand": "solve a case's magnetic circuit (the hand calculation) and print its operating point",
-    "materials": "list the built-in B-H curves, or show and plot one",
+    "materials": "list the built-in B-H curves, or show, plot or write one as CSV",
     "sweep": "solve a case over values of its keys (a current sweep gives L(I) and the "
              "saturation current); hand and FE at every point",
     "verify": "run every case (and the sweeps it declares) under the given files or folders "

@@ -1,4 +1,4 @@
-"""A check result as JSON, CSV, Markdown and table rows (no physics here)."""
+"""A check result as JSON, CSV, Markdown and table rows, and a sweep as CSV (no physics here)."""
 
 from __future__ import annotations
 
@@ -7,15 +7,20 @@ import io
 import math
 import platform
 from importlib import metadata
-from typing import Any
+from typing import TYPE_CHECKING, Any, Sequence
 
 from ..judge.check import CheckResult, Row
 from ..models.hand import HAND_KEYS, UNITS, winding_keys
 from .output import CAUTION
-from ..design.units import format_si
+from ..design.keys import CURRENT_KEY, key_dimension
+from ..design.units import SI_UNIT, format_si
+from ..errors import CaseError
+
+if TYPE_CHECKING:
+    from ..studies.sweep import SweepResult
 
 __all__ = ["check_json", "check_csv", "check_markdown", "table_cells", "TABLE_COLUMNS",
-           "versions", "verdict_lines"]
+           "versions", "verdict_lines", "sweep_csv", "sweep_column_unit", "csv_cell", "CSV_DIGITS"]
 
 TABLE_COLUMNS = ["quantity", "hand", "FE", "FE +/-", "diff %", "limit %", "verdict",
                  "hand 3D", "FE 3D"]
@@ -191,15 +196,89 @@ def check_json(res: CheckResult, agreement: str = "fatal") -> dict:
     }
 
 
-def check_csv(res: CheckResult) -> str:
+CSV_DIGITS = 12
+"""Significant digits of a float in the CSV outputs (`csv_cell`).
+
+Twelve: the binary float noise of a decimal step or a unit conversion sits
+in the 16th-17th digit (one ulp is 1.1e-16 relative; a few operations add a
+few ulps), four orders below; and nothing in a result is resolved that
+finely (``[fe] tol`` is at least 1e-10, the FE's uncertainty and the
+hand-vs-FE differences are per mille to per cent). The JSON outputs keep
+every digit."""
+
+
+def csv_cell(v: Any) -> Any:
+    """One CSV cell: a float rounded to `CSV_DIGITS` significant digits and
+    written as the shortest decimal that reads back to that rounded float
+    (``repr``: ``0.0004`` where the float is 0.00039999999999999996, ``1.0``,
+    ``2.5e-06``); a value that has no noise is written as before, and as the
+    JSON writes it. A non-finite float or None is an empty cell; anything
+    else (int, bool, str) as it is."""
+    if v is None:
+        return ""
+    if isinstance(v, float):
+        if not math.isfinite(v):
+            return ""
+        return repr(float(f"{v:.{CSV_DIGITS}g}"))
+    return v
+
+
+def _csv_text(header: list[str], rows: list[list[Any]]) -> str:
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
-    keys = list(res.rows[0].to_dict())
-    w.writerow(keys)
-    for r in res.rows:
-        w.writerow(["" if isinstance(v, float) and not math.isfinite(v) else
-                    ("" if v is None else v) for v in r.to_dict().values()])
+    w.writerow(header)
+    for r in rows:
+        w.writerow([csv_cell(v) for v in r])
     return buf.getvalue()
+
+
+def check_csv(res: CheckResult) -> str:
+    """The comparison rows as CSV: the columns of `Row.to_dict` (units in the
+    ``unit`` column), floats as `csv_cell` writes them."""
+    keys = list(res.rows[0].to_dict())
+    return _csv_text(keys, [list(r.to_dict().values()) for r in res.rows])
+
+
+SWEEP_EXTRA_UNITS = {"hand_planar_peak_B": "T", "fe_peak_B": "T", "fe_seconds": "s"}
+"""Units of the sweep row columns that are not a swept key or a hand quantity."""
+
+
+def sweep_column_unit(column: str, swept: Sequence[str] = (), family: Any = None) -> str:
+    """The SI unit of a sweep row's column (``""`` for a count, a flag or text).
+
+    A swept key (``swept``, and ``winding.current``) takes the SI unit of its
+    dimension (compare.design.keys.key_dimension, compare.design.units.SI_UNIT;
+    none for a count or a plain number); ``hand_``, ``hand_planar_``, ``fe_``
+    and ``fe_3d_`` plus a hand quantity take that quantity's unit
+    (compare.models.hand.UNITS); peak B is in T, a solve time in s."""
+    if column in swept or column == CURRENT_KEY:
+        try:
+            dim = key_dimension(column, family)
+        except CaseError:
+            return ""
+        return SI_UNIT.get(dim, "")
+    for prefix in ("hand_planar_", "hand_", "fe_3d_", "fe_"):
+        if column.startswith(prefix) and column[len(prefix):] in UNITS:
+            return UNITS[column[len(prefix):]]
+    return SWEEP_EXTRA_UNITS.get(column, "")
+
+
+def sweep_csv(res: SweepResult) -> str:
+    """A sweep (compare.studies.sweep.SweepResult) as CSV, one row per point.
+
+    The columns of compare.studies.sweep.sweep_rows in their order, each
+    header with its SI unit in brackets where it has one
+    (``winding.current [A]``, ``gaps[0].length [m]``, ``fe_inductance [H]``;
+    `sweep_column_unit`); floats as `csv_cell` writes them (12 significant
+    digits, no float noise); a non-finite value is an empty cell."""
+    from ..studies.sweep import sweep_rows
+
+    rows = sweep_rows(res)
+    columns = list(rows[0])
+    family = res.case.family_model
+    header = [f"{c} [{u}]" if (u := sweep_column_unit(c, res.keys, family)) else c
+              for c in columns]
+    return _csv_text(header, [[r[c] for c in columns] for r in rows])
 
 
 BREAKDOWN_LABELS = {"gap_B": "gap B", "core_B": "core B", "path_H": "path H", "flux": "flux",

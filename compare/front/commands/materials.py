@@ -1,19 +1,19 @@
-"""``magcheck materials [NAME] [--plot FILE]``: the built-in B-H curves and
-magnet grades."""
+"""``magcheck materials [NAME] [--plot FILE] [--csv FILE]``: the built-in B-H
+curves and magnet grades; ``--csv`` writes a curve as a case's ``{csv = ...}`` reads it."""
 
 from __future__ import annotations
 
 import argparse
 import difflib
-import sys
 
 from magcheck.analytic.magnets import MAGNET_GRADES
-from magcheck.analytic.materials import builtin, builtin_names
+from magcheck.analytic.materials import bh_csv_text, builtin, builtin_csv_text, builtin_names
 
 from ...errors import CaseError
-from ...outputs.output import figure_format, render_table, save_figure
+from ...outputs.output import (STDOUT, STDOUT_HELP, atomic_write_text, figure_format,
+                               render_table, save_figure, text_stream)
 
-OUTPUTS = {"--plot": "file"}
+OUTPUTS = {"--plot": "file", "--csv": "file"}
 """Output options and what each writes (checked before the run)."""
 
 
@@ -25,6 +25,9 @@ def input_files(args: argparse.Namespace) -> dict[str, str]:
 def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("name", nargs="?", help="a built-in material or magnet grade")
     p.add_argument("--plot", metavar="FILE", help="draw the B-H curve to FILE (.png, .svg or .pdf)")
+    p.add_argument("--csv", metavar="FILE",
+                   help="write the B-H curve as CSV, the format a case's {csv = ...} reads "
+                        f"({STDOUT_HELP})")
 
 
 def _get(name: str):
@@ -47,16 +50,32 @@ def _magnets(names: list[str], out) -> None:
                  out)
 
 
+def csv_text(name: str) -> str:
+    """Built-in material ``name`` as B-H CSV text (`bh_csv_text`): its table
+    points in A/m and T, under the packaged file's first comment line (what
+    the curve imitates; invented for the demo)."""
+    curve = _get(name)
+    first = next((line.lstrip("# ").rstrip() for line in builtin_csv_text(name).splitlines()
+                  if line.startswith("#")), name)
+    return bh_csv_text(curve, [first, f"Written by `magcheck materials {name} --csv`: the "
+                                      "built-in table, origin included; read it with "
+                                      "[materials] core = {csv = \"FILE\"}."])
+
+
 def run(args: argparse.Namespace) -> int:
-    out = sys.stdout
-    if args.plot:
-        figure_format(args.plot, "--plot")
+    out = text_stream(args.csv)
+    for opt, what in (("--plot", "plot"), ("--csv", "write")):
+        path = getattr(args, opt[2:])
+        if not path:
+            continue
+        if opt == "--plot":
+            figure_format(path, "--plot")
         if not args.name:
-            raise CaseError("--plot", args.plot, "name one material to plot")
+            raise CaseError(opt, path, f"name one material to {what}")
+        if args.name in MAGNET_GRADES:
+            raise CaseError(opt, path, f"'{args.name}' is a magnet grade, a straight "
+                                       f"recoil line: name a B-H material to {what}")
     if args.name in MAGNET_GRADES:
-        if args.plot:
-            raise CaseError("--plot", args.plot, f"'{args.name}' is a magnet grade, a straight "
-                                                 "recoil line: name a B-H material to plot")
         _magnets([args.name], out)
         return 0
     names = [args.name] if args.name else builtin_names()
@@ -77,4 +96,8 @@ def run(args: argparse.Namespace) -> int:
 
         written = save_figure(bh_figure(_get(args.name)), args.plot, option="--plot", dpi=100)
         out.write(f"wrote {written or args.plot}\n")
+    if args.csv:
+        written = atomic_write_text(args.csv, csv_text(args.name))
+        if args.csv != STDOUT:
+            out.write(f"wrote {written or args.csv}\n")
     return 0

@@ -3,8 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import csv
-import io
 import math
 import sys
 
@@ -13,6 +11,7 @@ from ...errors import CaseError
 from ...models.hand import UNITS
 from ...outputs.output import (CAUTION, STDOUT_HELP, atomic_write_text, render_table, text_stream,
                                write_json)
+from ...outputs.serialize import sweep_csv
 from ...studies.sweep import (CURRENT_KEY, DEFAULT_BLOCK, PREDICTORS, SweepResult, case_source,
                               parse_vary, run_sweep, sweep_margins, sweep_rows)
 from ...design.units import format_si
@@ -136,17 +135,6 @@ def print_sweep(res: SweepResult, margins, sat_table, out) -> None:
                                    "PASS: the design meets its margins along the sweep")
                   + " (hand-vs-FE agreement is judged by check and verify)\n")
     out.write(CAUTION + "\n")
-
-
-def sweep_csv(res: SweepResult) -> str:
-    rows = sweep_rows(res)
-    buf = io.StringIO()
-    w = csv.DictWriter(buf, fieldnames=list(rows[0]), lineterminator="\n")
-    w.writeheader()
-    for r in rows:
-        w.writerow({k: ("" if isinstance(v, float) and not math.isfinite(v) else v)
-                    for k, v in r.items()})
-    return buf.getvalue()
 
 
 def sweep_json(res: SweepResult, margins, sat_table) -> dict:
