@@ -215,7 +215,7 @@ def dxf_text(case: Any) -> str:
 
     ext = bbox.extents(msp)
     if ext.has_data:  # the extents and the opening view: the whole drawing
-        doc.header["$EXTMIN"], doc.header["$EXTMAX"] = ext.extmin, ext.extmax
+        msp.dxf.extmin, msp.dxf.extmax = ext.extmin, ext.extmax  # the header's on writing
         doc.set_modelspace_vport(height=1.1 * max(ext.size.x, ext.size.y), center=ext.center)
     buf = io.StringIO()
     doc.write(buf)
