@@ -113,8 +113,7 @@ def visible_text(text: str) -> str:
     return "".join(c for c in text if unicodedata.category(c) not in ("Cc", "Cf", "Zl", "Zp"))
 
 
-ROOT_TABLES = ("case", "core", "gaps", "winding", "windings", "materials", "hand", "fe",
-               "margins", "sweep", "tolerances")
+ROOT_TABLES = tuple(ROOT_KEYS)
 """The top-level tables of a case file (a family may read more: ``case_tables``)."""
 
 
