@@ -80,7 +80,7 @@ def _snap(values: list[float], tol: float) -> tuple[list[float], dict[float, int
     return grid, index
 
 
-def _rect_cells(rect_sets: Sequence[Sequence[Rect]]) -> list[list[tuple[tuple[float, ...], ...]]]:
+def _rect_cells(rect_sets: Sequence[Sequence[Rect]]) -> list[list[tuple[tuple[float, float], ...]]]:
     """Each set's cells of a common grid, the later set winning a cell, traced
     into loops of (x, y) points (outlines counter-clockwise, holes clockwise)."""
     rects = [r for rs in rect_sets for r in rs]
