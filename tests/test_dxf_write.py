@@ -128,6 +128,37 @@ def test_a_cell_grid_keeps_corner_touching_parts_apart():
     assert sorted(signed) == [-1.0, 9.0]
 
 
+def test_round_shapes_are_written_as_circles_and_arcs(tmp_path):
+    # shapes no built-in family makes but a drawn case or fem2d may hold: a
+    # lone disk is a CIRCLE read back exactly; an annulus (two circles) and a
+    # half disk (a bulge-1 arc and its chord) come back as chords 2 degrees
+    # apart, whose polygon's area is low by 1 - sin(2 deg)/(2 deg / 1 rad) =
+    # 2.0e-4 relative (compare.design.dxf.ARC_STEP_DEG; exact geometry)
+    from magcheck.compare.outputs.drawing import drawing_text, outlines_of
+    from magcheck.fem2d.layout import Annulus, Disk, HalfDisk, Polygon, Region
+
+    regions = [Region("disk", (Disk(0.01, 0.0, 0.002),), material="air", kind="coil"),
+               Region("ring", (Annulus(0.0, 0.02, 0.003, 0.005),), material="core", kind="core"),
+               Region("half", (HalfDisk(0.0, -0.02, 0.004),), material="air", kind="gap"),
+               Region("frame", (Polygon(((0.02, 0.0), (0.03, 0.0), (0.03, 0.01), (0.02, 0.01)),
+                                        (((0.022, 0.002), (0.028, 0.002), (0.028, 0.008),
+                                          (0.022, 0.008)),)),), material="core", kind="core")]
+    path = tmp_path / "round.dxf"
+    path.write_text(drawing_text(outlines_of(regions)))
+    shapes = read_dxf_regions(path)
+    assert type(shapes["disk"][0]).__name__ == "Disk"
+    assert shapes["disk"][0].area() == pytest.approx(math.pi * 4e-6, rel=1e-12)
+    step = math.radians(2.0)
+    chord = math.sin(step) / step  # a polygon of 2-degree chords over its circle
+    assert _area(shapes["ring"]) == pytest.approx(math.pi * (25e-6 - 9e-6) * chord, rel=1e-9)
+    assert _area(shapes["half"]) == pytest.approx(0.5 * math.pi * 16e-6 * chord, rel=1e-9)
+    assert _area(shapes["frame"]) == pytest.approx(1e-4 - 36e-6, rel=1e-12)
+
+
+def _area(shapes) -> float:
+    return sum(s.area() for s in shapes)
+
+
 # ---------------------------------------------------- the drawn case read back
 def _companion(case, doc: dict, dxf: str, circuit: dict) -> dict:
     """The drawn case of a written drawing: what the DXF does not hold.

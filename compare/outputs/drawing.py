@@ -32,14 +32,14 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Sequence
 
-from magcheck.fem2d.layout import Annulus, Disk, HalfDisk, Polygon, Rect
+from magcheck.fem2d.layout import Annulus, Disk, HalfDisk, Polygon, Rect, Region
 
 from ..design.coremodel import core_model
 from ..design.dxf import INSUNITS
 from .output import write_output
 
-__all__ = ["DXF_UNIT", "DXF_UNITS_CODE", "LAYER_COLOURS", "RegionOutline", "region_outlines", "dxf_text",
-           "write_dxf"]
+__all__ = ["DXF_UNIT", "DXF_UNITS_CODE", "LAYER_COLOURS", "RegionOutline", "region_outlines",
+           "outlines_of", "dxf_text", "drawing_text", "write_dxf"]
 
 DXF_UNITS_CODE = 4
 """The written DXF's ``$INSUNITS`` code: millimetres."""
@@ -168,7 +168,11 @@ def _shape_outline(s: Any) -> tuple[list[tuple[Vertex, ...]], list[tuple[float, 
 
 def region_outlines(case: Any) -> tuple[RegionOutline, ...]:
     """The outlines of every region of the case's field model (m), in its order."""
-    regions = core_model(case).regions
+    return outlines_of(core_model(case).regions)
+
+
+def outlines_of(regions: Sequence[Region]) -> tuple[RegionOutline, ...]:
+    """The outlines of fem2d regions (m) in priority order (see the module)."""
     if all(isinstance(s, Rect) for r in regions for s in r.shapes):
         traced = _rect_cells([r.shapes for r in regions])
         return tuple(RegionOutline(r.name, r.kind, tuple(tuple((x, y, 0.0) for x, y in loop)
@@ -196,6 +200,11 @@ def dxf_text(case: Any) -> str:
     """The case's built geometry as DXF text (R2010, millimetres): one layer
     per region, named after it, closed LWPOLYLINEs (bulges for arcs) and
     CIRCLEs."""
+    return drawing_text(region_outlines(case))
+
+
+def drawing_text(outlines: Sequence[RegionOutline]) -> str:
+    """Region outlines as DXF text (see :func:`dxf_text`)."""
     import ezdxf
 
     doc = ezdxf.new("R2010")
@@ -203,7 +212,7 @@ def dxf_text(case: Any) -> str:
     doc.header["$MEASUREMENT"] = 1  # metric
     msp = doc.modelspace()
     k = 1.0 / DXF_UNIT
-    for reg in region_outlines(case):
+    for reg in outlines:
         doc.layers.add(reg.name, color=LAYER_COLOURS.get(reg.kind, 7))
         attribs = {"layer": reg.name}
         for loop in reg.loops:
