@@ -93,6 +93,12 @@ BAD = {
         CHOKE, lambda d: _set(d, ("shapes",), {"units": "mm"})),
     "unknown agreement quantity": (
         "demo_choke_margins.toml", lambda d: _set(d, ("margins", "agreement"), {"gapB": 5})),
+    "a limb the family has not": (CHOKE, lambda d: _set(d, ("winding", "limb"), "centre")),
+    "a part the family has not": (CHOKE, lambda d: _set(d, ("materials", "leg"), {"mu_r": 900})),
+    "a gap on a drawn core": ("demo_drawn_core.toml",
+                              lambda d: _set(d, ("gaps",), [{"limb": "left", "length": 1e-3}])),
+    "a coil build on a drawn core": ("demo_drawn_core.toml",
+                                     lambda d: _set(d, ("windings", 0, "thickness"), "10 mm")),
     "unknown region key": ("demo_drawn_core.toml",
                            lambda d: _set(d, ("regions", 0, "colour"), "red")),
     "a region kind that is none": ("demo_drawn_core.toml",

@@ -26,7 +26,7 @@ from .casekeys import ROOT_KEYS, Key, table
 from .families import BUILTIN
 from .units import SI_UNIT
 
-__all__ = ["SCHEMA_DIALECT", "SCHEMA_PATH", "case_schema", "key_schema"]
+__all__ = ["SCHEMA_DIALECT", "SCHEMA_PATH", "DRAWN_COIL_KEYS", "case_schema", "key_schema"]
 
 SCHEMA_DIALECT = "https://json-schema.org/draft/2020-12/schema"
 SCHEMA_PATH = "docs/case.schema.json"
@@ -81,6 +81,27 @@ def _table(k: Key) -> dict[str, Any]:
     return out
 
 
+DRAWN_COIL_KEYS = ("limb", "thickness", "length", "fill", "clearance")
+"""A winding's keys that a family drawing its own coils (no ``winding_limbs``) refuses."""
+
+
+def _family_rules(fam: Any) -> dict[str, Any]:
+    """What a family narrows: the limbs a gap or a winding names, the
+    [materials] parts (when they do not depend on the case)."""
+    out: dict[str, Any] = {}
+    out["gaps"] = ({"items": {"properties": {"limb": {"enum": list(fam.limb_names)}}}}
+                   if fam.limb_names else False)
+    if fam.winding_limbs:
+        winding = {"properties": {"limb": {"enum": list(fam.winding_limbs)}}}
+    else:  # the family draws the coils: a winding is its name, turns and drive
+        winding = {"properties": {k: False for k in DRAWN_COIL_KEYS}}
+    out["winding"] = winding
+    out["windings"] = {"items": winding}
+    if not hasattr(fam, "part_names"):  # parts fixed by the family
+        out["materials"] = {"propertyNames": {"enum": ["core", *fam.parts]}}
+    return out
+
+
 def case_schema() -> dict[str, Any]:
     """The JSON Schema (a dict) of a case file, for the built-in families."""
     from .casekeys import CORE_COMMON
@@ -107,6 +128,7 @@ def case_schema() -> dict[str, Any]:
         for name, who in owners.items():
             if fam.name not in who:  # another family's table: not read for this one
                 then["properties"][name] = False
+        then["properties"].update(_family_rules(fam))
         rules.append({"if": {"properties": {"case": {"properties": {
             "family": {"const": fam.name}}, "required": ["family"]}}, "required": ["case"]},
             "then": then})
