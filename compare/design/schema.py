@@ -91,6 +91,7 @@ def _family_rules(fam: Any) -> dict[str, Any]:
     out: dict[str, Any] = {}
     out["gaps"] = ({"items": {"properties": {"limb": {"enum": list(fam.limb_names)}}}}
                    if fam.limb_names else False)
+    winding: dict[str, Any]
     if fam.winding_limbs:
         winding = {"properties": {"limb": {"enum": list(fam.winding_limbs)}}}
     else:  # the family draws the coils: a winding is its name, turns and drive
