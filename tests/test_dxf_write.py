@@ -235,9 +235,11 @@ def _circuit_of(case) -> dict:
         gaps.append(t)
     windings = {case.windings[k].name: ("-" if s < 0 else "") + b
                 for k, (b, s) in enumerate(c.windings)}
+    magnets = [{"name": m.name, "from": m.node_a, "to": m.node_b, "length": m.length,
+                "area": m.area, "remanence": m.remanence, "mu_r": m.mu_r} for m in c.magnets]
     return {"gap_B": c.gap_B, "path": _mm(model.mean_path), "flux_line": _mm(model.flux_line),
             "core_B": list(model.core_regions), "windings": windings, "segments": segs,
-            "gaps": gaps}
+            "gaps": gaps, "magnets": magnets}
 
 
 def _doc(name: str) -> dict:
@@ -304,6 +306,21 @@ def test_the_drawn_pot_core_has_the_same_regions(tmp_path):
              (("a", case), ("b", drawn))}
     assert run_hand(ideal["b"]).inductance == pytest.approx(run_hand(ideal["a"]).inductance,
                                                             rel=1e-9)
+
+
+def test_the_drawn_holding_magnet_has_the_same_regions_and_magnet(tmp_path):
+    # an r-z core with a magnet and a moving keeper: the magnet region comes
+    # back as a magnet with the family's remanence vector and recoil mu_r
+    case = _load("demo_holding_magnet.toml")
+    write_dxf(case, tmp_path / "hm.dxf")
+    d = _companion(case, _doc("demo_holding_magnet.toml"), "hm.dxf", _circuit_of(case))
+    d["shapes"]["units"] = "mm"
+    a, b = core_model(case), core_model(case_from_dict(d, base_dir=tmp_path))
+    got = {r.name: sum(s.area() for s in r.shapes) * 1e6 for r in b.regions}
+    assert got == pytest.approx(_mesh_areas(case), rel=1e-12)
+    assert [(r.name, r.kind) for r in b.regions] == [(r.name, r.kind) for r in a.regions]
+    assert b.magnets == a.magnets
+    _same_coils(a, b)
 
 
 @pytest.mark.slow
