@@ -613,6 +613,17 @@ MUTATIONS: tuple[Mutation, ...] = (
       "ratio = ratios.get(k, ratio)", "ratio = ratios.get(k + '?', ratio)",
       "the drive rows' FE 3D column back to the case's own fringing model's ratio",
       ("tests/test_drive.py::test_drive_rows_fe_3d_under_the_checks_depth_model",)),
+    # ---------------------------------------------------------------- exchange formats
+    M("dxf-first-region-wins", "compare/outputs/drawing.py",
+      "                    owner[(i, j)] = k",
+      "                    owner.setdefault((i, j), k)",
+      "the DXF writer gives a cell to the first region covering it (the mesh gives the last)",
+      ("tests/test_dxf_write.py",)),
+    M("schema-undeclared-read", "compare/design/casekeys.py",
+      "    key = spec.keys.get(name, spec.extra)\n    where",
+      "    key = spec.keys.get(name, spec.extra) or Key(\"any\")\n    where",
+      "the reader reads a key its table does not declare (the schema would drift)",
+      ("tests/test_schema.py",)),
 )
 
 

@@ -12,6 +12,7 @@ import math
 from typing import Any
 
 from ..errors import CaseError
+from .casekeys import Key, check_read, child
 from .units import UnitError, parse_quantity
 
 __all__ = ["TableReader", "MISSING"]
@@ -34,9 +35,16 @@ class TableReader:
         The parsed table.
     path : str
         Its key path in the file ("" for the root, "core", "gaps[1]").
+    spec : compare.design.casekeys.Key, optional
+        The table's declared keys: a getter asking for an undeclared key, or
+        reading one as another kind, raises ``casekeys.UndeclaredKey`` (a
+        bug, so that the JSON Schema made from the declarations cannot drift
+        from what is read).  The tables a reader hands out (``table``,
+        ``tables``) take their part of it.
     """
 
-    def __init__(self, data: object, path: str, *, known: tuple[str, ...] = ()):
+    def __init__(self, data: object, path: str, *, known: tuple[str, ...] = (),
+                 spec: Key | None = None):
         if not isinstance(data, dict):
             raise CaseError(path or "<root>", data, "must be a table")
         self.data: dict[str, Any] = data
@@ -45,6 +53,7 @@ class TableReader:
         # keys this table may hold: a missing key is never taken for a
         # misspelling of one of them ([margins] given, [materials] missing)
         self._known = frozenset(known)
+        self.spec = spec
 
     # -- helpers -----------------------------------------------------------
     def key(self, name: str) -> str:
@@ -52,9 +61,11 @@ class TableReader:
         return f"{self.path}.{name}" if self.path else name
 
     def has(self, name: str) -> bool:
+        check_read(self.spec, self.path, name)
         return name in self.data
 
-    def _raw(self, name: str, default: Any) -> Any:
+    def _raw(self, name: str, default: Any, kind: str = "", dimension: str = "") -> Any:
+        check_read(self.spec, self.path, name, kind, dimension)
         self._used.add(name)
         if name in self.data:
             return self.data[name]
@@ -79,7 +90,7 @@ class TableReader:
         allow_zero: bool = False,
     ) -> float:
         """A finite SI quantity of the given dimension (see compare.design.units)."""
-        raw = self._raw(name, default)
+        raw = self._raw(name, default, "quantity", dimension)
         if raw is default and default is not MISSING:
             return default
         try:
@@ -95,7 +106,7 @@ class TableReader:
 
     def integer(self, name: str, default: Any = MISSING, *, minimum: int | None = None,
                 maximum: int | None = None, why: str = "") -> int:
-        raw = self._raw(name, default)
+        raw = self._raw(name, default, "integer")
         if raw is default and default is not MISSING:
             return default
         if isinstance(raw, bool) or not isinstance(raw, (int, float)):
@@ -128,7 +139,7 @@ class TableReader:
         return value
 
     def string(self, name: str, default: Any = MISSING, *, choices: tuple[str, ...] | None = None) -> str:
-        raw = self._raw(name, default)
+        raw = self._raw(name, default, "string")
         if raw is default and default is not MISSING:
             return default
         if not isinstance(raw, str):
@@ -138,17 +149,23 @@ class TableReader:
         return raw
 
     def table(self, name: str, default: Any = MISSING) -> "TableReader":
-        raw = self._raw(name, default)
+        raw = self._raw(name, default, "table")
         if raw is default and default is not MISSING:
             raw = {}
-        return TableReader(raw, self.key(name))
+        return TableReader(raw, self.key(name), spec=child(self.spec, name, "table"))
 
     def tables(self, name: str) -> list["TableReader"]:
         """An array of tables (``[[name]]``); absent means empty."""
-        raw = self._raw(name, [])
+        raw = self._raw(name, [], "tables")
         if not isinstance(raw, list):
             raise CaseError(self.key(name), raw, "must be an array of tables ([[...]])")
-        return [TableReader(item, f"{self.key(name)}[{i}]") for i, item in enumerate(raw)]
+        item = child(self.spec, name, "tables")
+        return [TableReader(v, f"{self.key(name)}[{i}]", spec=item) for i, v in enumerate(raw)]
+
+    def sub_spec(self, name: str, kind: str = "table") -> Key | None:
+        """The declared keys of the table ``name`` holds (for a reader made
+        by hand, e.g. one item of a table-or-array key)."""
+        return child(self.spec, name, kind)
 
     def raw(self, name: str, default: Any = MISSING) -> Any:
         """The unconverted value (for fields with several accepted forms)."""

@@ -26,6 +26,8 @@ from ..errors import CaseError, CaseWarning, RunError, format_value
 from ..design.families import Family, get_family
 from ..design.geometry import Gap, Limb, WindingSpec, coil_rects
 from ..design.keys import key_dimension, parse_key, parse_vary
+from ..design.casekeys import (AGREEMENT_KEYS, CORE_COMMON, DISTRIBUTIONS, INDUCTANCE_KINDS,
+                               ROOT, ROOT_KEYS, table)
 from ..design.reader import TableReader
 
 __all__ = ["load_case", "case_from_dict", "plausibility_issues", "referenced_files"]
@@ -111,15 +113,14 @@ def visible_text(text: str) -> str:
     return "".join(c for c in text if unicodedata.category(c) not in ("Cc", "Cf", "Zl", "Zp"))
 
 
-ROOT_TABLES = ("case", "core", "gaps", "winding", "windings", "materials", "hand", "fe",
-               "margins", "sweep", "tolerances")
+ROOT_TABLES = tuple(ROOT_KEYS)
 """The top-level tables of a case file (a family may read more: ``case_tables``)."""
 
 
 def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = "",
                    sha256: str = "") -> Case:
     """Validate an already parsed TOML document (see :func:`load_case`)."""
-    root = TableReader(data, "", known=ROOT_TABLES)
+    root = TableReader(data, "", known=ROOT_TABLES, spec=ROOT)
     meta = root.table("case")
     name = visible_text(meta.string("name", "unnamed"))
     family_name = meta.string("family")
@@ -128,9 +129,11 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     family = get_family(family_name)
 
     core_t = root.table("core")
+    core_t.spec = core_spec(family)
     stacking = core_t.number("stacking", 1.0, lo=0.3, hi=1.0)
     extra = getattr(family, "case_tables", ())
     root._known |= frozenset(extra)
+    root.spec = root_spec(family)
     if extra:  # a family that reads tables of its own (a drawn core: [shapes], [[regions]], ...)
         reader: Any = family.read_core  # read_core(t, *, tables, base_dir) for such a family
         core = reader(core_t, tables={n: root.raw(n, None) for n in extra}, base_dir=base_dir)
@@ -201,6 +204,24 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                         "voltage, frequency and residual_flux (a fraction of the peak flux "
                         "linkage, e.g. 0.8), or drop it")
     return case
+
+
+def core_spec(family: Family) -> Any:
+    """The declared keys of ``[core]`` for ``family`` (compare.design.casekeys):
+    the common ones and the family's ``core_spec``; None (not checked) for a
+    plug-in family that declares none of its own (one derived from a built-in
+    family that reads other keys inherits the built-in's)."""
+    own = type(family).__dict__.get("core_spec", getattr(family, "__dict__", {}).get("core_spec"))
+    return None if own is None else table({**CORE_COMMON, **own})
+
+
+def root_spec(family: Family) -> Any:
+    """The declared top-level tables: every case's and the family's own
+    (``table_specs``; a plug-in's ``case_tables`` without them: any keys)."""
+    own = dict(getattr(family, "table_specs", {}) or {})
+    for name in getattr(family, "case_tables", ()):
+        own.setdefault(name, table(None))
+    return table({**ROOT_KEYS, **own})
 
 
 def _resolved_drive(case: Case) -> Case:
@@ -588,7 +609,7 @@ def _read_material(t: TableReader, region: str, base_dir: Path | None) -> Materi
                 raise CaseError(key, raw, f"unknown built-in material; known: "
                                           f"{', '.join(builtin_names())}{hint}")
             return MaterialSpec(region, "builtin", f"built-in {raw}", builtin(raw))
-        mt = TableReader(raw, key)
+        mt = TableReader(raw, key, spec=t.sub_spec(region))
         if mt.has("mu_r"):
             mu_r = mt.number("mu_r", lo=1.0)
             mt.finish()
@@ -676,14 +697,6 @@ def _read_fe(t: TableReader) -> FESettings:
                       boundary=boundary)
 
 
-AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
-                  "incremental_inductance", "energy", "force", "force_pull", "B_peak",
-                  "magnetizing_current_peak", "magnetizing_current_rms",
-                  "magnetizing_inductance", "leakage_inductance", "inrush_current_peak",
-                  "B_limb_peak")
-
-
-INDUCTANCE_KINDS = ("secant", "incremental")
 
 
 def _read_margins(t: TableReader) -> Margins:
@@ -784,7 +797,8 @@ def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDec
 
     out = []
     for i, item in enumerate(items):
-        t = TableReader(item, name if isinstance(raw, dict) else f"{name}[{i}]")
+        t = TableReader(item, name if isinstance(raw, dict) else f"{name}[{i}]",
+                        spec=root.sub_spec(name))
         vary = t.raw("vary")
         if isinstance(vary, str):
             vary = [vary]
@@ -803,7 +817,6 @@ def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDec
     return tuple(out)
 
 
-DISTRIBUTIONS = ("uniform", "normal")
 
 
 def _written_nominal(data: dict, key: str, dim: str) -> tuple[object, float] | None:

@@ -56,6 +56,7 @@ from magcheck.fem2d.sources import Magnet
 
 from ..coremodel import CircuitGap, CircuitSegment, CoilModel, CoreModel, ForceSpec, HandCircuit
 from ...errors import CaseError
+from ..casekeys import boolean, listof, number, oneof, quantity, string, table, tables
 from ..reader import MISSING, TableReader
 from ..units import UnitError, parse_quantity
 
@@ -66,6 +67,52 @@ KINDS = ("core", "gap", "coil", "magnet")
 SIDES = ("go", "return")
 
 Point = tuple[float, float]
+
+_POINTS = listof(listof(number()), "points [[x, y], [x, y, bulge], ...] in the shapes' unit")
+_NAMES = oneof(string(), listof(string()))
+_ANGLE = oneof(number(), listof(number()), doc="degrees from +x, or a vector [x, y]")
+
+CORE_SPEC = {"symmetry": string("planar, or axisymmetric (r-z)", ("planar", "axisymmetric")),
+             "depth": quantity("length", "the stack depth of a planar core")}
+"""The drawn core's ``[core]`` keys (compare.design.casekeys)."""
+
+TABLE_SPECS = {
+    "shapes": table({"units": string("the points' length unit, e.g. \"mm\""),
+                     "dxf": string("a DXF drawing whose layers are the regions, relative to "
+                                   "the case file")}, "the drawing's unit and DXF file"),
+    "regions": tables({
+        "name": string("the region's name (a DXF layer's, when drawn there)"),
+        "kind": string("", KINDS), "points": _POINTS,
+        "holes": listof(_POINTS, "holes, each a point list"),
+        "material": string("a core part's [materials] entry (default core)"),
+        "winding": string("a coil side's winding"), "side": string("a coil side", SIDES),
+        "direction": _ANGLE, "grade": string("a built-in magnet grade"),
+        "remanence": quantity("flux density"), "mu_r": number("a magnet's recoil mu_r"),
+        "knee_H": quantity("field strength", "a magnet's knee field (negative)")},
+        "the drawn regions"),
+    "circuit": table({
+        "gap_B": string("the circuit gap whose B is measured in the region of its name"),
+        "path": _POINTS, "flux_line": _POINTS, "core_B": _NAMES,
+        "windings": table({}, "winding name = branch (\"-BRANCH\" against its sense)",
+                          extra=string()),
+        "segments": tables({"name": string(), "from": string(), "to": string(),
+                            "length": quantity("length"), "area": quantity("area"),
+                            "material": string(), "on_path": boolean()}),
+        "gaps": tables({"name": string(), "from": string(), "to": string(),
+                        "length": quantity("length"), "width": quantity("length"),
+                        "depth": quantity("length"), "free_height": quantity("length"),
+                        "fringing": string("", tuple(FRINGING_MODELS)),
+                        "r_outer": quantity("length"), "r_inner": quantity("length")}),
+        "magnets": tables({"name": string(), "from": string(), "to": string(),
+                           "length": quantity("length"), "area": quantity("area"),
+                           "remanence": quantity("flux density"), "mu_r": number()})},
+        "the hand model's magnetic circuit"),
+    "force": table({"body": _NAMES, "direction": _ANGLE, "gaps": _NAMES},
+                   "the moving part"),
+}
+"""The drawn family's own tables (``case_tables``) and their keys."""
+
+_REGION = table(TABLE_SPECS["regions"].keys)
 
 
 @dataclass(frozen=True)
@@ -130,6 +177,8 @@ class DrawnCore:
     in both models (the circuit's lengths are the user's own numbers)."""
     parts: tuple[str, ...] = ()
     case_tables: tuple[str, ...] = ("shapes", "regions", "circuit", "force")
+    core_spec = CORE_SPEC
+    table_specs = TABLE_SPECS
 
     # ------------------------------------------------------------ reading
     def read_core(self, t: TableReader, *, tables: dict[str, Any] | None = None,
@@ -143,7 +192,7 @@ class DrawnCore:
                 raise CaseError(t.key("depth"), t.data["depth"],
                                 "an axisymmetric core has no stack depth (the model is r-z)")
             depth = 1.0
-        shapes_t = TableReader(tables.get("shapes") or {}, "shapes")
+        shapes_t = TableReader(tables.get("shapes") or {}, "shapes", spec=TABLE_SPECS["shapes"])
         unit = _unit(shapes_t)
         dxf = shapes_t.string("dxf", None)
         shapes_t.finish()
@@ -173,7 +222,7 @@ class DrawnCore:
                 path = base_dir / path
             drawn = read_dxf_regions(path, regions=names, units=unit, key="shapes.dxf")
             source = dxf
-        regions = tuple(_read_region(TableReader(r, f"regions[{k}]"), unit, drawn)
+        regions = tuple(_read_region(TableReader(r, f"regions[{k}]", spec=_REGION), unit, drawn)
                         for k, r in enumerate(raw_regions))
         if symmetry == "axisymmetric":
             for k, reg in enumerate(regions):
@@ -184,12 +233,12 @@ class DrawnCore:
                                     "drawn in r >= 0 (x is the radius)")
         _check_overlaps(regions)
         circ = TableReader(tables.get("circuit") if tables.get("circuit") is not None else
-                           _missing("circuit"), "circuit")
+                           _missing("circuit"), "circuit", spec=TABLE_SPECS["circuit"])
         segs, gaps, cw, gap_B, path, flux_line, core_B, mags = _read_circuit(
             circ, symmetry, depth, regions, unit)
         force = None
         if tables.get("force") is not None:
-            force = _read_force(TableReader(tables["force"], "force"), symmetry, regions, gaps)
+            force = _read_force(TableReader(tables["force"], "force", spec=TABLE_SPECS["force"]), symmetry, regions, gaps)
         return DrawnCoreDims(symmetry, depth, regions, segs, gaps, cw, gap_B, path, flux_line,
                              core_B, mags, force, source=source)
 
@@ -922,7 +971,7 @@ def _read_circuit(t: TableReader, symmetry: str, depth: float,
         if n not in cores:
             raise CaseError(t.key("core_B"), n, "names no core region" + _hint(str(n), cores))
     windings = []
-    wt = TableReader(t.raw("windings", {}), t.key("windings"))
+    wt = TableReader(t.raw("windings", {}), t.key("windings"), spec=t.sub_spec("windings"))
     for wname in list(wt.data):
         spec = wt.string(wname)
         sign = -1 if spec.startswith("-") else 1

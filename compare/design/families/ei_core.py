@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from ..geometry import Limb, Rect
+from ..casekeys import Key, lengths
 from ..reader import TableReader
 from .base import INF, Segment, Window
 
@@ -45,6 +46,8 @@ class EICore:
     core_keys: tuple[str, ...] = ("centre_width", "outer_width", "yoke_width", "window_width",
                                   "window_height", "depth")
     parts: tuple[str, ...] = ("E", "I")
+    core_spec: dict[str, Key] = lengths(core_keys)
+    """The ``[core]`` keys (compare.design.casekeys): the dimensions."""
 
     def read_core(self, t: TableReader) -> EICoreDims:
         centre = t.quantity("centre_width", "length")

@@ -32,6 +32,7 @@ from typing import Any
 
 from magcheck.analytic.constants import mu_0
 from magcheck.analytic.fringing import GapFace, GapSides
+from magcheck.analytic.magnets import MAGNET_GRADES
 from magcheck.analytic.network import MagnetBranch
 from magcheck.fem2d.layout import Rect, Region
 from magcheck.fem2d.sources import Magnet
@@ -39,6 +40,7 @@ from magcheck.fem2d.sources import Magnet
 from ..coremodel import CircuitGap, CircuitSegment, CoilModel, CoreModel, ForceSpec, HandCircuit
 from ...errors import CaseError
 from ..geometry import Limb
+from ..casekeys import Key, lengths, string
 from ..reader import TableReader
 from .base import INF, Segment, Window, check_stroke_case, radial_run
 
@@ -77,6 +79,10 @@ class HoldingMagnet:
     core_keys: tuple[str, ...] = ("radius", "wall", "base", "height", "pole_radius",
                                   "magnet_height", "keeper_thickness", "keeper_radius", "stroke")
     parts: tuple[str, ...] = ("keeper",)
+    core_spec: dict[str, Key] = {
+        **lengths(core_keys),
+        "magnet": string("the magnet's built-in grade", tuple(MAGNET_GRADES))}
+    """The ``[core]`` keys (compare.design.casekeys): the dimensions and the grade."""
 
     def read_core(self, t: TableReader) -> HoldingMagnetDims:
         from magcheck.analytic.magnets import magnet_grade

@@ -72,6 +72,7 @@ from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel, Force
                          HandCircuit)
 from ...errors import CaseError
 from ..geometry import Limb
+from ..casekeys import Key, lengths
 from ..reader import TableReader
 from .base import INF, Segment, Window, check_stroke_case, coil_space_leakage, radial_run
 
@@ -121,6 +122,8 @@ class Plunger:
     core_keys: tuple[str, ...] = ("radius", "shell", "plate", "length", "plunger_radius",
                                   "sliding_gap", "stop_length", "plunger_length", "stroke")
     parts: tuple[str, ...] = ("plunger",)
+    core_spec: dict[str, Key] = lengths(core_keys)
+    """The ``[core]`` keys (compare.design.casekeys): the dimensions."""
 
     def read_core(self, t: TableReader) -> PlungerDims:
         R = t.quantity("radius", "length")

@@ -51,6 +51,7 @@ from magcheck.fem2d.layout import Rect, Region
 from ..coremodel import CircuitGap, CircuitSegment, CoilModel, CoreModel, GapLine, HandCircuit
 from ...errors import CaseError
 from ..geometry import Limb
+from ..casekeys import Key, lengths
 from ..reader import TableReader
 from .base import INF, Segment, Window, coil_space_leakage, radial_run
 
@@ -84,6 +85,8 @@ class PotCore:
     core_keys: tuple[str, ...] = ("radius", "wall", "post_radius", "hole_radius", "base",
                                   "height", "gap")
     parts: tuple[str, ...] = ()
+    core_spec: dict[str, Key] = lengths(core_keys)
+    """The ``[core]`` keys (compare.design.casekeys): the dimensions."""
 
     def read_core(self, t: TableReader) -> PotCoreDims:
         R = t.quantity("radius", "length")

@@ -33,6 +33,7 @@ from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel, Force
                          HandCircuit, coil_regions)
 from ...errors import CaseError
 from ..geometry import Limb, coil_rects, flux_direction
+from ..casekeys import Key, lengths
 from ..reader import TableReader
 from .base import INF, Segment, Window, check_stroke_case
 
@@ -71,6 +72,8 @@ class UArmature:
     core_keys: tuple[str, ...] = ("leg_width", "window_width", "window_height", "yoke_width",
                                   "armature_thickness", "depth", "stroke")
     parts: tuple[str, ...] = ("armature",)
+    core_spec: dict[str, Key] = lengths(core_keys)
+    """The ``[core]`` keys (compare.design.casekeys): the dimensions."""
 
     def read_core(self, t: TableReader) -> UArmatureDims:
         w = t.quantity("leg_width", "length")

@@ -6,6 +6,7 @@ from dataclasses import dataclass
 
 from ...errors import CaseError
 from ..geometry import Limb, Rect
+from ..casekeys import Key, lengths, oneof, quantity, table
 from ..reader import TableReader
 from .base import INF, Segment, Window
 
@@ -47,6 +48,11 @@ class WindowCore:
     core_keys: tuple[str, ...] = ("outer_width", "outer_height", "limb_width", "depth",
                                   "left", "right", "top", "bottom")
     parts: tuple[str, ...] = limb_names
+    core_spec: dict[str, Key] = {
+        **lengths(("outer_width", "outer_height", "depth")),
+        "limb_width": oneof(quantity("length"), table(lengths(limb_names)),
+                            doc="every limb's width, or one per limb {left, right, top, bottom}")}
+    """The ``[core]`` keys (compare.design.casekeys)."""
 
     def read_core(self, t: TableReader) -> WindowCoreDims:
         ow = t.quantity("outer_width", "length")
@@ -54,7 +60,7 @@ class WindowCore:
         depth = t.quantity("depth", "length")
         raw = t.raw("limb_width")
         if isinstance(raw, dict):
-            lt = TableReader(raw, t.key("limb_width"))
+            lt = TableReader(raw, t.key("limb_width"), spec=t.sub_spec("limb_width"))
             widths = {n: lt.quantity(n, "length") for n in self.limb_names}
             lt.finish()
         else:

@@ -12,7 +12,7 @@ from ...outputs.serialize import (TABLE_COLUMNS, check_csv, check_json, check_ma
                                   table_cells, verdict_lines)
 
 OUTPUTS = {"--json": "file", "--csv": "file", "--markdown": "file", "--report": "folder",
-           "--vtu": "file"}
+           "--vtu": "file", "--dxf": "file"}
 """Output options and what each writes (checked before the run)."""
 
 
@@ -30,6 +30,13 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--markdown", metavar="FILE", help=f"write the comparison as Markdown ({STDOUT_HELP})")
     p.add_argument("--report", metavar="DIR", help="write an HTML report with figures to DIR")
     p.add_argument("--vtu", metavar="FILE", help=f"write the FE fields as VTU ({STDOUT_HELP})")
+    p.add_argument("--dxf", metavar="FILE",
+                   help="write the built geometry as a DXF drawing before solving: every region "
+                        "of the FE model (core parts, gaps, coil sides, magnets) as closed "
+                        "outlines on a layer of its name, in mm, which a family = \"drawn\" "
+                        f"case reads back ({STDOUT_HELP})")
+    p.add_argument("--geometry-only", action="store_true",
+                   help="write the --dxf drawing and stop: no mesh, no solve, no table")
     p.add_argument("--all-fringing", action="store_true",
                    help="rank every fringing model by its difference to the FE")
     p.add_argument("--allow-large", action="store_true",
@@ -83,13 +90,15 @@ def print_check(res: CheckResult, out, agreement: str = "fatal") -> None:
 
 def run(args: argparse.Namespace) -> int:
     case = load_case(args.case)
+    if _write_geometry(args, case):
+        return 0
     if args.allow_large:
         from dataclasses import replace
 
         case = replace(case, fe=replace(case.fe, allow_large=True))
     res = run_check(case, all_fringing=args.all_fringing,
                     estimate_error=not args.no_error_estimate)
-    out = text_stream(args.json, args.csv, args.markdown, args.vtu)
+    out = text_stream(args.json, args.csv, args.markdown, args.vtu, args.dxf)
     print_check(res, out, args.agreement)
     if args.json:
         write_json(args.json, check_json(res, args.agreement))
@@ -110,3 +119,22 @@ def run(args: argparse.Namespace) -> int:
         path = write_report(res, args.report, args.agreement)
         out.write(f"report: {path}\n")
     return res.exit_code_for(args.agreement)
+
+
+def _write_geometry(args: argparse.Namespace, case) -> bool:
+    """``--dxf``: the built geometry, written before any solve (geometry only);
+    True when ``--geometry-only`` ends the command there."""
+    if args.geometry_only:
+        from ...errors import CaseError
+
+        if not args.dxf:
+            raise CaseError("--geometry-only", None, "writes the --dxf drawing: give --dxf FILE")
+        other = [o for o in OUTPUTS if o != "--dxf" and getattr(args, o[2:])]
+        if other:
+            raise CaseError("--geometry-only", None, f"solves nothing, so {other[0]} has "
+                                                     "nothing to write: drop one of them")
+    if args.dxf:
+        from ...outputs.drawing import write_dxf
+
+        write_dxf(case, args.dxf)
+    return bool(args.geometry_only)

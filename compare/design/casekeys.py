@@ -1,0 +1,268 @@
+"""The known keys of every case-file table, in one place.
+
+The reader (:class:`~compare.design.reader.TableReader`) and the JSON
+Schema generator (``tools/make_schema.py``, ``docs/case.schema.json``) both
+take the keys from here, so the schema cannot drift from what is read: a
+reader whose table has a spec refuses, as a programming error
+(:class:`UndeclaredKey`), to ask for a key that is not declared in it or to
+read it as another kind than declared.
+
+A :class:`Key` says what a key holds: a quantity of a dimension (a number
+in SI units or a string with a unit, ``"0.6 mm"``), a plain number, a whole
+number, a string (with its choices), true/false, a table (its own keys) or
+an array of tables, a list, or one of several forms.  The tables every
+case has are declared here (:data:`ROOT`); a family declares its ``[core]``
+keys (``core_spec``) and the tables of its own (``table_specs``, with its
+``case_tables``) in its module, with these helpers.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Mapping
+
+from magcheck.analytic.bh import B_UNITS, H_UNITS
+from magcheck.analytic.fringing import FRINGING_MODELS
+
+__all__ = ["Key", "Spec", "UndeclaredKey", "quantity", "number", "integer", "string", "boolean",
+           "table", "tables", "listof", "oneof", "lengths", "ROOT", "ROOT_KEYS", "CORE_COMMON",
+           "AGREEMENT_KEYS", "INDUCTANCE_KINDS", "DISTRIBUTIONS", "FE_BOUNDARIES",
+           "WINDING_KEYS", "MATERIAL", "child", "check_read"]
+
+
+class UndeclaredKey(LookupError):
+    """A reader asked for a key its table's spec does not declare, or read it
+    as another kind: a bug in magcheck (declare the key here), not bad input."""
+
+
+@dataclass(frozen=True)
+class Key:
+    """What one key holds.
+
+    kind : "quantity", "number", "integer", "string", "boolean", "table",
+        "tables" (an array of tables), "list" or "any" (one of ``forms``).
+    dimension : a quantity's (compare.design.units.DIMENSIONS; "" any: a
+        tolerance's deviation, in its key's unit).
+    choices : a string's allowed values (empty: any string).
+    keys : a table's keys (None: any keys, not declared).
+    extra : a table's freely named keys' value (a [materials] part).
+    items : a list's items (None: any).
+    forms : the accepted forms of an "any" key.
+    doc : one line for the schema's description.
+    """
+
+    kind: str
+    doc: str = ""
+    dimension: str = ""
+    choices: tuple[str, ...] = ()
+    keys: "Spec | None" = None
+    extra: "Key | None" = None
+    items: "Key | None" = None
+    forms: tuple["Key", ...] = field(default=())
+
+
+Spec = Mapping[str, Key]
+"""A table's keys: name -> :class:`Key`."""
+
+
+def quantity(dimension: str, doc: str = "") -> Key:
+    return Key("quantity", doc, dimension=dimension)
+
+
+def number(doc: str = "") -> Key:
+    """A plain number (a string holding one is read too)."""
+    return Key("number", doc)
+
+
+def integer(doc: str = "") -> Key:
+    return Key("integer", doc)
+
+
+def string(doc: str = "", choices: tuple[str, ...] | list[str] = ()) -> Key:
+    return Key("string", doc, choices=tuple(choices))
+
+
+def boolean(doc: str = "") -> Key:
+    return Key("boolean", doc)
+
+
+def table(keys: Spec | None, doc: str = "", extra: Key | None = None) -> Key:
+    return Key("table", doc, keys=keys, extra=extra)
+
+
+def tables(keys: Spec | None, doc: str = "") -> Key:
+    return Key("tables", doc, keys=keys)
+
+
+def listof(items: Key | None = None, doc: str = "") -> Key:
+    return Key("list", doc, items=items)
+
+
+def oneof(*forms: Key, doc: str = "") -> Key:
+    return Key("any", doc, forms=tuple(forms))
+
+
+def lengths(names: tuple[str, ...] | list[str]) -> dict[str, Key]:
+    """Keys that are lengths (a family's core dimensions)."""
+    return {n: quantity("length") for n in names}
+
+
+# ------------------------------------------------------------ choices
+AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductance",
+                  "incremental_inductance", "energy", "force", "force_pull", "B_peak",
+                  "magnetizing_current_peak", "magnetizing_current_rms",
+                  "magnetizing_inductance", "leakage_inductance", "inrush_current_peak",
+                  "B_limb_peak")
+"""The quantities a ``[margins.agreement]`` limit (percent) may name."""
+
+INDUCTANCE_KINDS = ("secant", "incremental")
+DISTRIBUTIONS = ("uniform", "normal")
+FE_BOUNDARIES = ("open", "closed")
+
+# ------------------------------------------------------------ the tables
+CASE = {"name": string("the case's name"),
+        "family": string("the core family (a built-in or a plug-in's name)"),
+        "description": string("what the case is, and what its hand model leaves out")}
+
+CORE_COMMON = {"stacking": number("the lamination stacking factor, 0.3 to 1 (default 1)")}
+"""The ``[core]`` keys every family has; the family adds its ``core_spec``."""
+
+GAP = {"limb": string("the limb the gap crosses"),
+       "length": quantity("length", "the gap's length along the flux"),
+       "position": quantity("length", "the gap centre along the limb's straight part "
+                                      "(default: its middle)")}
+
+WINDING_KEYS: dict[str, Key] = {
+    "name": string("the winding's name (default main, or w1, w2, ...)"),
+    "limb": string("the limb it is wound on"),
+    "turns": integer("number of turns"),
+    "current": quantity("current", "DC current (or the peak of a voltage drive, found)"),
+    "voltage": quantity("voltage", "rms voltage of a sinusoidal drive (first winding)"),
+    "frequency": quantity("frequency", "the voltage drive's frequency"),
+    "residual_flux": number("residual flux linkage for the inrush estimate, a fraction of "
+                            "the peak"),
+    "resistance": quantity("resistance", "series resistance damping the inrush estimate"),
+    "clearance": quantity("length", "space between the limb (or the winding inside) and "
+                                    "the coil"),
+    "fill": number("fraction of the free window width the coil takes (instead of "
+                   "thickness and length)"),
+    "thickness": quantity("length", "the coil's build across the window"),
+    "length": quantity("length", "the coil's length along the limb"),
+}
+
+MATERIAL_TABLE = {"mu_r": number("a linear material's relative permeability"),
+                  "csv": string("a B-H table file (H, B columns), relative to the case file"),
+                  "H": listof(number(), "inline B-H table: H values"),
+                  "B": listof(number(), "inline B-H table: B values"),
+                  "H_unit": string("the unit of H", tuple(H_UNITS)),
+                  "B_unit": string("the unit of B", tuple(B_UNITS))}
+
+MATERIAL = oneof(string("a built-in B-H curve's name (magcheck materials)"),
+                 table(MATERIAL_TABLE), doc="a built-in name, {csv = ...}, {H = [...], "
+                                                "B = [...]} or {mu_r = ...}")
+
+HAND = {"fringing": string("the gap fringing model", tuple(FRINGING_MODELS)),
+        "leakage": boolean("add the across-window leakage permeance"),
+        "stacking": boolean("apply the core's stacking factor"),
+        "effective_parameters": boolean("use IEC 60205 effective parameters"),
+        "rogowski": boolean("Rogowski-correct the leakage inductance of two concentric "
+                            "windings")}
+
+FE = {"order": integer("element order, 1 or 2"),
+      "gap_elements": integer("elements across a gap"),
+      "mesh_size": quantity("length", "element size in the core"),
+      "air_factor": number("air domain size over the core's, 1.5 to 100"),
+      "boundary": string("the outer boundary", FE_BOUNDARIES),
+      "tol": number("Newton tolerance"),
+      "allow_large": boolean("mesh even above the element-count guard")}
+
+MARGINS = {
+    "peak_B": quantity("flux density", "largest allowed peak |B| in the core"),
+    "agreement": table({k: number(f"agreement limit for {k}, percent") for k in AGREEMENT_KEYS},
+                       "hand-vs-FE agreement limits, percent"),
+    "current_density": quantity("current density", "largest allowed winding current density"),
+    "force_min": quantity("force", "smallest allowed force on the moving part"),
+    "B_peak": quantity("flux density", "voltage drive: largest allowed peak flux density"),
+    "magnetizing_current_peak": quantity("current", "voltage drive: largest peak "
+                                                    "magnetizing current"),
+    "magnetizing_current_rms": quantity("current", "voltage drive: largest rms magnetizing "
+                                                   "current"),
+    "inrush_current_peak": quantity("current", "largest inrush current estimate"),
+    "copper_fill": number("copper fraction of the coil area, for the current density"),
+    "inductance": tables({"at": quantity("current", "the current the limit holds at"),
+                          "min": quantity("inductance"), "max": quantity("inductance"),
+                          "kind": string("", INDUCTANCE_KINDS)}, "inductance limits"),
+    "saturation_current": tables({"drop_pct": number("inductance drop, percent"),
+                                  "min": quantity("current", "smallest allowed current at "
+                                                             "that drop"),
+                                  "kind": string("", INDUCTANCE_KINDS)},
+                                 "saturation current limits (judged along a sweep)"),
+    "force": tables({"stroke": quantity("length"), "min": quantity("force"),
+                     "max": quantity("force")}, "force limits along the stroke"),
+}
+
+SWEEP = {"vary": oneof(string(), listof(string()), doc='"KEY=SPEC" strings, e.g. '
+                                                       '"winding.current=0:20A:41"'),
+         "drops_pct": listof(number(), "inductance drops (percent) for the saturation currents"),
+         "inductance": string("which inductance the drops read", INDUCTANCE_KINDS)}
+
+_DEVIATION = quantity("", 'a deviation in the key\'s unit ("0.05 mm") or in percent ("5%")')
+TOLERANCE = {"key": string("the case key that varies, e.g. gaps[0].length"),
+             "distribution": string("", DISTRIBUTIONS),
+             "minus": _DEVIATION, "plus": _DEVIATION, "sigma": _DEVIATION, "limit": _DEVIATION}
+
+ROOT_KEYS: dict[str, Key] = {
+    "case": table(CASE, "name, family, description"),
+    "core": table(None, "the core's dimensions (keys per family)"),
+    "gaps": tables(GAP, "the gaps of a limb family"),
+    "winding": table(WINDING_KEYS, "one winding (or [[windings]])"),
+    "windings": tables(WINDING_KEYS, "one table per winding (or [winding])"),
+    "materials": table({"core": MATERIAL}, "core (and a part's own material)", extra=MATERIAL),
+    "hand": table(HAND, "the hand model's switches"),
+    "fe": table(FE, "the field model's settings"),
+    "margins": table(MARGINS, "design margins and agreement limits"),
+    "sweep": oneof(table(SWEEP), tables(SWEEP), doc="the sweeps magcheck verify runs"),
+    "tolerances": tables(TOLERANCE, "the tolerances of a Monte Carlo study"),
+}
+"""The top-level tables every case may have (a family adds its ``table_specs``)."""
+
+ROOT = table(ROOT_KEYS, "a case file")
+"""The case file's root table."""
+
+
+def child(spec: Key | None, name: str, kind: str) -> Key | None:
+    """The table (a :class:`Key` of kind "table") that ``name`` in the table
+    ``spec`` holds in its ``kind`` form ("table", or "tables" for each item);
+    None when nothing is declared."""
+    if spec is None:
+        return None
+    key = (spec.keys or {}).get(name, spec.extra)
+    if key is None:
+        return None
+    for k in (key, *key.forms):
+        if k.kind == kind:
+            return k if kind == "table" else Key("table", k.doc, keys=k.keys)
+    return None
+
+
+def check_read(spec: Key | None, path: str, name: str, kind: str = "",
+               dimension: str = "") -> None:
+    """Raise :class:`UndeclaredKey` when a table with declared keys is asked
+    for an undeclared key, or reads it as another kind (``kind`` "" for a
+    raw read, which takes any form)."""
+    if spec is None or spec.keys is None:
+        return
+    key = spec.keys.get(name, spec.extra)
+    where = f"{path}.{name}" if path else name
+    if key is None:
+        raise UndeclaredKey(f"{where} is read but not declared in compare.design.casekeys "
+                            "(or its family's core_spec / table_specs)")
+    if not kind:
+        return
+    for k in (key, *key.forms):
+        if k.kind == kind and (not dimension or k.dimension in ("", dimension)):
+            return
+        if kind == "quantity" and dimension == "dimensionless" and k.kind == "number":
+            return
+    raise UndeclaredKey(f"{where} is read as {kind} {dimension}".rstrip()
+                        + f" but declared as {key.kind} {key.dimension}".rstrip())
