@@ -356,7 +356,29 @@ class HandResult:
     ``force_pull`` by the Maxwell pull formula (:func:`hand_forces`)."""
 
     def values(self) -> dict[str, float]:
+        """The quantities of :data:`HAND_KEYS` (SI, units in :data:`UNITS`)."""
         return {k: getattr(self, k) for k in HAND_KEYS}
+
+    def keys(self) -> list[str]:
+        """The names ``hand[...]`` takes: :data:`HAND_KEYS`, the force keys
+        of a moving part, the per-winding keys (``flux_linkage:NAME``,
+        ``L:A,B``) and a magnet's ``magnet_B``/``magnet_H``."""
+        return [*HAND_KEYS, *self.force_values, *self.winding_values, *self.magnet_values]
+
+    def __getitem__(self, key: str) -> float:
+        """One quantity by name, SI (``hand["inductance"]`` in H; units in :data:`UNITS`).
+
+        Raises
+        ------
+        KeyError
+            Naming the key and listing the known ones.
+        """
+        if key in HAND_KEYS:
+            return float(getattr(self, key))
+        for d in (self.force_values, self.winding_values, self.magnet_values):
+            if key in d:
+                return float(d[key])
+        raise KeyError(f"{key!r} is not a hand quantity; known: {', '.join(self.keys())}")
 
     def flux_linkages(self) -> list[float]:
         """lambda_j (Wb), in winding order."""
