@@ -669,6 +669,26 @@ def _segment_solution(case: Case, fringing: str | None, planar: bool,
     return res, cmap
 
 
+def check_hand_options(case: Case, fringing: str | None = None, planar: bool = False, *,
+                       names: tuple[str, str] = ("fringing", "planar")) -> None:
+    """Bad input of :func:`run_hand`'s overrides as a CaseError naming the
+    option (``names``: the CLI's ``--fringing``/``--planar``, the API's
+    ``fringing``/``planar``): an unknown fringing model; ``planar`` on an
+    axisymmetric case, which has no planar form."""
+    if fringing is not None:
+        from magcheck.analytic.fringing import FRINGING_MODELS
+
+        from ..design.reader import _choice_text
+
+        if fringing not in FRINGING_MODELS:
+            raise CaseError(names[0], fringing, _choice_text(fringing, tuple(FRINGING_MODELS)))
+    if planar and core_model(case).axisymmetric:
+        raise CaseError(names[1], None, "this case's field model is axisymmetric (r-z), a "
+                                        "3D one whose gaps fringe all round: there is no "
+                                        "planar form to compare with; leave "
+                                        f"{names[1]} out")
+
+
 def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,
              flux0: Any = None, leakage: bool | None = None,
              stacking: bool | None = None, effective: bool | None = None) -> HandResult:

@@ -266,6 +266,24 @@ class ToleranceResult:
     def failures(self) -> tuple[SampleResult, ...]:
         return tuple(s for s in self.samples if not s.ok)
 
+    def keys(self) -> list[str]:
+        """The figures ``result[...]`` takes (``inductance``, ``peak_B``, ``saturation_current``)."""
+        return list(self.values)
+
+    def __getitem__(self, figure: str) -> np.ndarray:
+        """One figure over the samples, SI (inductance H, peak_B T,
+        saturation_current A): FE where it ran, corrected hand values elsewhere.
+
+        Raises
+        ------
+        KeyError
+            Naming the figure and listing the known ones.
+        """
+        if figure not in self.values:
+            raise KeyError(f"{figure!r} is not a figure of this study; known: "
+                           f"{', '.join(self.values)}")
+        return self.values[figure]
+
 
 def run_tolerance(src: CaseSource, *, samples: int, seed: int, fe_samples: int | None = None,
                   workers: int | None = None, scheduler: str | None = None,
