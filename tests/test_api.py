@@ -216,7 +216,7 @@ def test_check_named_access(cli_run):
     assert (res.design_passed, res.agreement_passed) == (doc["design_passed"],
                                                         doc["agreement_passed"])
     assert "gap_B" in res and res.keys() == [r.key for r in res.rows]
-    with pytest.raises(KeyError, match="'L' is not a row of this check; known: inductance, "):
+    with pytest.raises(KeyError, match="'L' is not a row of this check; known: gap_B, .*inductance"):
         res["L"]
 
 
