@@ -223,8 +223,10 @@ class CaseOrigin(Protocol):
     from, and the reader's own function that sets keys in a copy of them and
     validates the result (:meth:`Case.with_values`)."""
 
-    case: "Case"
-    """The case as the reader validated it (to tell a case changed since)."""
+    @property
+    def case(self) -> "Case":
+        """The case as the reader validated it (to tell a case changed since)."""
+        ...
 
     def derive(self, values: Mapping[str, Any]) -> "Case":
         """A new case: these keys set in a copy of the tables, validated."""

@@ -214,7 +214,8 @@ def verify(cases: CaseLike | Sequence[CaseLike], *, baseline: str | Path | None 
 
     if agreement not in AGREEMENT_MODES:
         raise CaseError("agreement", agreement, f"one of {', '.join(AGREEMENT_MODES)}")
-    items = list(cases) if isinstance(cases, (list, tuple)) else [cases]
+    items: list[CaseLike] = ([cases] if isinstance(cases, (str, Path, dict, Case))
+                             else list(cases))
     if not items:
         raise CaseError("cases", None, "give at least one case")
     if baseline is not None and not estimate_error:
