@@ -169,6 +169,13 @@ def test_tolerance_takes_a_case_and_names_its_figures():
     assert len(set(gaps)) == 8
     with pytest.raises(KeyError, match="known: inductance, peak_B, saturation_current"):
         res["L"]
+    # a case whose curve with_values scaled: the scale tolerance (sigma 5 %) is drawn
+    # round its own nominal 1.2, not round the file's 1
+    hard = magcheck.tolerance(case.with_values({"materials.core.scale_H": 1.2}), samples=8,
+                              seed=1, fe_samples=0)
+    drawn = [s.settings["materials.core.scale_H"] for s in hard.samples]
+    assert 1.1 < sum(drawn) / 8 < 1.3
+    assert (hard["inductance"] < res["inductance"]).mean() > 0.5  # harder core, less L mostly
 
 
 # ----------------------------------------------------------- one check, twice

@@ -206,8 +206,10 @@ def verify(cases: CaseLike | Sequence[CaseLike], *, baseline: str | Path | None 
     in this process.  ``res["demo-choke"]`` is one case's outcome and
     ``res["demo-choke"]["agreement:inductance"]`` one item; ``res.exit_code``
     the CLI's exit code, ``res.to_dict()`` the document of ``--json``.
-    A case changed with ``with_values`` is not the stored one: no stored
-    verdicts or drift apply to it.
+    The outcomes list the paths' cases first, then the others.  A case
+    changed with ``with_values`` is not the stored one: no stored verdict
+    applies to it, and with ``baseline`` its drift item fails as for an
+    edited case file.
     """
     from ..judge.check import AGREEMENT_MODES
     from ..studies.verify import VerifyResult, run_verify, verify_cases

@@ -7,10 +7,12 @@ exactly like case-file input.  Two keys scale the core's B-H curve instead
 of setting a value (factor, nominal 1; :func:`analytic.bh.scale_law`):
 ``materials.core.scale_H`` and ``materials.core.scale_B``.
 
-Every case this module returns carries its :class:`Origin` (the tables it
-was validated from, with :func:`with_values` to derive another):
+The cases :func:`case_source`, :func:`case_from_tables` and
+:func:`with_values` return carry their :class:`Origin` (the tables they were
+validated from, with :func:`with_values` to derive another):
 :meth:`compare.design.case.Case.with_values` calls it, since the case model
-may not import the reader.
+may not import the reader.  Sweep points and tolerance samples
+(:func:`make_case`) need none and carry none.
 """
 
 from __future__ import annotations

@@ -54,7 +54,8 @@ HAND_CHUNK = 8
 
 
 def nominal_value(src: CaseSource, key: str, where: str) -> float:
-    """The case file's value of ``key`` in SI (1 for the B-H scale factors).
+    """The case file's value of ``key`` in SI (for the B-H scale factors
+    the source's own, set by ``Case.with_values``, else 1).
 
     Raises
     ------
@@ -62,7 +63,7 @@ def nominal_value(src: CaseSource, key: str, where: str) -> float:
         When the key is not written in the case file.
     """
     if key in SCALE_KEYS:
-        return 1.0
+        return float(dict(src.scales).get(key, 1.0))
     node = src.data
     for part in winding_alias(src.data, parse_key(key)):
         try:

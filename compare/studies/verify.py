@@ -401,7 +401,8 @@ def verify_cases(sources: Sequence[tuple], *, baseline: str | Path | None = None
     ``sources`` pairs of (``CaseSource``, ``Case``).  A case's stored entry
     (``baseline``, else the ``baseline.json`` beside its file) counts only
     when its sha256 is the entry's: a case changed with ``with_values`` has
-    none, so it is judged afresh and drift is not checked ("n/a").
+    none, so its agreement rows are judged afresh, and with ``baseline`` its
+    drift item fails as for an edited case file (not the stored case).
 
     Raises
     ------
