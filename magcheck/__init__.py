@@ -11,6 +11,10 @@ One package, three parts (each its own folder in the repository):
 - :mod:`magcheck.compare`: case files, both models on one case, judgement,
   studies, outputs and the command line, in layers.
 
+The package itself is the Python API (``magcheck.load``, ``check``, ...;
+see :mod:`magcheck.compare.front.api` and docs/api.md), imported on first use
+so that ``import magcheck.fem2d`` stays the field engine alone.
+
 Results are design estimates, to be confirmed by measurement and by the
 applicable codes and licensed practice.
 """
@@ -40,3 +44,23 @@ def _version() -> str:
 
 
 __version__ = _version()
+
+
+_API = ("load", "hand", "fe", "check", "sweep", "tolerance", "verify", "report", "write_vtu",
+        "to_json", "Case", "CaseError", "RunError")
+__all__ = ["__version__", *_API]
+
+
+def __getattr__(name: str):
+    """The API's names (PEP 562): loaded from magcheck.compare.front.api on first use."""
+    if name in _API:
+        from .compare.front import api
+
+        value = getattr(api, name)
+        globals()[name] = value  # later look-ups skip this function
+        return value
+    raise AttributeError(f"module 'magcheck' has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_API))

@@ -1,16 +1,25 @@
-"""The Python API (compare.front.api): the README's example runs as written, and
-the API gives the same results as the command line."""
+"""The Python API (``import magcheck``, magcheck.compare.front.api): the README's
+script runs as written, every entry point takes a path, tables or a Case,
+``Case.with_values`` validates like a case file, results have named access,
+and the API gives the command line's own results."""
+import dataclasses
 import json
+import math
 import re
+import subprocess
+import sys
 import tomllib
 from pathlib import Path
 
 import pytest
 
+import magcheck
+from magcheck.compare.design.case import Case
 from magcheck.compare.front import api
 from magcheck.compare.front.cli import main
 
 ROOT = Path(__file__).resolve().parents[1]
+CHOKE = ROOT / "cases/demo_choke.toml"
 
 
 def _readme_example() -> str:
@@ -19,45 +28,234 @@ def _readme_example() -> str:
     return re.search(r"```python\n(.*?)```", section, re.S).group(1)
 
 
-@pytest.mark.slow
-def test_the_readme_example_runs(monkeypatch, capsys):
+def test_the_readme_script_runs(monkeypatch, capsys):
+    code = _readme_example()
+    assert len(code.strip().splitlines()) <= 16  # the short user script the README promises
     monkeypatch.chdir(ROOT)
-    exec(compile(_readme_example(), "README.md", "exec"), {})
-    out = capsys.readouterr().out
-    assert "hand: L = " in out and "gap B" in out
+    exec(compile(code, "README.md", "exec"), {})
+    out = capsys.readouterr().out.strip().splitlines()
+    gaps = [ln for ln in out if ln.startswith("gap ")]
+    assert [ln.split(":")[0] for ln in gaps] == ["gap 0.6 mm", "gap 0.8 mm"]
+    # a wider gap, a smaller inductance (both models)
+    hand = [float(re.search(r"hand ([\d.]+) mH", ln).group(1)) for ln in gaps]
+    fe = [float(re.search(r"FE ([\d.]+) mH", ln).group(1)) for ln in gaps]
+    assert hand[1] < hand[0] and fe[1] < fe[0]
     # the sweep line: four incremental inductances in mH, falling with current
-    values = json.loads(out.strip().splitlines()[-1])
+    values = json.loads(out[-1])
     assert len(values) == 4 and values == sorted(values, reverse=True)
 
 
-@pytest.mark.slow
-def test_the_api_check_is_the_cli_check(tmp_path):
-    out = tmp_path / "c.json"
-    assert main(["check", str(ROOT / "cases/demo_choke.toml"), "--json", str(out)]) == 0
-    cli = json.loads(out.read_text())
-    doc = api.to_json(api.check(api.load(ROOT / "cases/demo_choke.toml")))
-    for k in ("inductance", "gap_B", "incremental_inductance"):
-        assert doc["fe"][k] == pytest.approx(cli["fe"][k], rel=1e-9)
-        assert doc["hand"][k] == cli["hand"][k]
+def test_import_magcheck_is_lazy_and_lists_the_api():
+    code = ("import sys, magcheck; assert not [m for m in sys.modules if 'compare' in m]; "
+            "names = dir(magcheck); assert {'load', 'check', 'with_values'} - set(names) == "
+            "{'with_values'}; assert magcheck.check is magcheck.compare.front.api.check; "
+            "print(magcheck.__version__)")
+    out = subprocess.run([sys.executable, "-c", code], check=True, cwd=ROOT,
+                         capture_output=True, text=True).stdout
+    assert re.fullmatch(r"\d+\.\d+\.\d+\S*\n", out)
+    assert set(magcheck.__all__) == {"__version__", *api.__all__}
+    with pytest.raises(AttributeError, match="no attribute 'nonesuch'"):
+        magcheck.nonesuch  # noqa: B018
 
 
-def test_load_from_a_dict_equals_load_from_the_file_and_bad_input_raises():
-    data = tomllib.loads((ROOT / "cases/demo_choke.toml").read_text())
-    a, b = api.load(data), api.load(ROOT / "cases/demo_choke.toml")
-    assert api.hand(a).values() == api.hand(b).values()
-    data["winding"]["turns"] = 0
-    with pytest.raises(api.CaseError, match="winding.turns"):
-        api.load(data)
-    with pytest.raises(api.CaseError, match="vary"):
-        api.sweep(ROOT / "cases/demo_choke.toml")
+# ----------------------------------------------------------------- with_values
+def test_with_values_sets_keys_like_the_case_file_and_chains():
+    case = magcheck.load(CHOKE)
+    c2 = case.with_values({"gaps[0].length": "0.8 mm", "winding.current": 7})
+    assert c2.gaps[0].length == pytest.approx(0.8e-3) and c2.winding.current == 7.0
+    assert case.gaps[0].length == pytest.approx(0.6e-3)  # the original is unchanged
+    assert c2.sha256 == "" and c2.source == case.source  # not the file's content any more
+    # a case with_values made supports with_values: the earlier change is kept
+    c3 = c2.with_values({"winding.turns": 60, "hand.fringing": "flux-tube",
+                         "materials.core.scale_H": 1.2})
+    assert (c3.gaps[0].length, c3.winding.current, c3.winding.turns) == (c2.gaps[0].length, 7.0, 60)
+    assert c3.hand.fringing == "flux-tube" and "scaled" in c3.material("core").description
+    from magcheck.analytic.bh import scale_law
+
+    law0, law3 = case.material("core").law, c3.material("core").law  # scaled as sweeps scale it
+    assert law3.h_of_b(1.2) == pytest.approx(scale_law(law0, 1.2, 1.0).h_of_b(1.2), rel=1e-12)
+    assert law3.h_of_b(1.2) > law0.h_of_b(1.2)  # harder: more H for the same B
+    # a key whose table the file leaves out is created, then validated
+    assert case.with_values({"fe.mesh_size": "1.5 mm"}).fe.mesh_size == pytest.approx(1.5e-3)
+    # the same value given as a string with a unit or in SI gives the same case
+    assert case.with_values({"gaps[0].length": 8e-4}) == case.with_values(
+        {"gaps[0].length": "0.8 mm"})
+
+
+@pytest.mark.parametrize("values, key, shown", [
+    ({"gaps[0].length": "-1 mm"}, "gaps[0].length", "-1 mm"),
+    ({"gaps[0].length": "0.8 A"}, "gaps[0].length", "0.8 A"),
+    ({"gaps[4].length": "1 mm"}, "gaps[4].length", "1 mm"),
+    ({"winding.curent": 3}, "winding.curent", "3"),
+    ({"winding.turns": 2.5}, "winding.turns", "2.5"),
+    ({"fe.mesh_sise": "1 mm"}, "fe.mesh_sise", "1 mm"),
+    ({"materials.core.scale_B": -1}, "materials.core.scale_B", "-1"),
+    ({"gaps length": 1}, "gaps length", "1"),
+])
+def test_with_values_refuses_what_the_case_file_refuses(values, key, shown):
+    case = magcheck.load(CHOKE)
+    with pytest.raises(magcheck.CaseError) as err:
+        case.with_values(values)
+    assert err.value.key == key and shown in str(err.value)
+
+
+def test_with_values_needs_the_reader_s_tables():
+    case = magcheck.load(CHOKE)
+    with pytest.raises(magcheck.CaseError, match="changed .*dataclasses.replace"):
+        dataclasses.replace(case, name="other").with_values({"winding.current": 2})
+    bare = dataclasses.replace(case, origin=None)
+    with pytest.raises(magcheck.CaseError, match="not read from a case file"):
+        bare.with_values({"winding.current": 2})
+    with pytest.raises(magcheck.CaseError, match="needs a case read by magcheck.load"):
+        magcheck.sweep(bare, "winding.current=1A,2A", with_fe=False)
+
+
+# -------------------------------------------------------- path, tables or Case
+def test_every_entry_point_takes_a_path_tables_or_a_case():
+    data = tomllib.loads(CHOKE.read_text())
+    case = magcheck.load(CHOKE)
+    ref = magcheck.hand(CHOKE).values()
+    for source in (str(CHOKE), data, case, magcheck.load(data)):
+        assert magcheck.hand(source).values() == ref
+    assert magcheck.load(case) is case
+    a = magcheck.sweep(case, "winding.current=1A,4A", with_fe=False)
+    b = magcheck.sweep(CHOKE, "winding.current=1A,4A", with_fe=False)
+    c = magcheck.sweep(data, "winding.current=1A,4A", with_fe=False)
+    assert a["hand_inductance"] == b["hand_inductance"] == c["hand_inductance"]
+    assert a["winding.current"] == [1.0, 4.0]
+    # a varied case sweeps from its own tables
+    wide = magcheck.sweep(case.with_values({"gaps[0].length": "0.8 mm"}), "winding.current=1A,4A",
+                          with_fe=False)
+    assert wide["hand_inductance"][0] < a["hand_inductance"][0]
     with pytest.raises(TypeError):
-        api.to_json(42)
+        magcheck.load(42)
 
 
-def test_a_hand_only_sweep_from_a_dict():
-    data = tomllib.loads((ROOT / "cases/demo_choke.toml").read_text())
-    sw = api.sweep(data, "winding.current=1A,4A", with_fe=False)
-    assert [p.current for p in sw.points] == [1.0, 4.0]
-    one = api.hand(api.load(data))  # 6 A in the file
-    assert sw.points[1].hand["inductance"] != one.inductance
-    assert api.to_json(one)["inductance"] == one.inductance
+def test_bad_input_raises_case_error_naming_the_option():
+    data = tomllib.loads(CHOKE.read_text())
+    data["winding"]["turns"] = 0
+    with pytest.raises(magcheck.CaseError, match="winding.turns"):
+        magcheck.load(data)
+    with pytest.raises(magcheck.CaseError, match="^vary: "):
+        magcheck.sweep(CHOKE)  # no --vary and no [sweep] in the case
+    with pytest.raises(magcheck.CaseError, match="^fringing = 'flux_tube'.*flux-tube"):
+        magcheck.hand(CHOKE, fringing="flux_tube")
+    with pytest.raises(magcheck.CaseError, match="^planar: .*axisymmetric"):
+        magcheck.hand(ROOT / "cases/demo_pot_core_choke.toml", planar=True)
+    with pytest.raises(magcheck.CaseError, match="^samples = 0"):
+        magcheck.tolerance(CHOKE, samples=0)
+    with pytest.raises(TypeError):
+        magcheck.to_json(42)
+    with pytest.raises(TypeError, match="a hand result has no field"):
+        magcheck.write_vtu(magcheck.hand(CHOKE), "x.vtu")
+
+
+def test_hand_named_access():
+    h = magcheck.hand(CHOKE)
+    assert h["inductance"] == h.inductance and h["gap_B"] == h.gap_B
+    assert h["flux_linkage:main"] == h.flux_linkage  # the one winding's, by name
+    assert magcheck.to_json(h)["inductance"] == h.inductance
+    with pytest.raises(KeyError, match="'L' is not a hand quantity; known: gap_B, .*inductance"):
+        h["L"]
+
+
+def test_tolerance_takes_a_case_and_names_its_figures():
+    case = magcheck.load(ROOT / "cases/demo_choke_margins.toml")
+    res = magcheck.tolerance(case, samples=8, seed=1, fe_samples=0)
+    assert res.keys() == ["inductance", "peak_B", "saturation_current"]
+    assert res["inductance"].shape == (8,) and (res["inductance"] > 0).all()
+    # the gap's tolerance spreads the inductance: a wider gap, a smaller L
+    gaps = [s.settings["gaps[0].length"] for s in res.samples]
+    assert len(set(gaps)) == 8
+    with pytest.raises(KeyError, match="known: inductance, peak_B, saturation_current"):
+        res["L"]
+    # a case whose curve with_values scaled: the scale tolerance (sigma 5 %) is drawn
+    # round its own nominal 1.2, not round the file's 1
+    hard = magcheck.tolerance(case.with_values({"materials.core.scale_H": 1.2}), samples=8,
+                              seed=1, fe_samples=0)
+    drawn = [s.settings["materials.core.scale_H"] for s in hard.samples]
+    assert 1.1 < sum(drawn) / 8 < 1.3
+    assert (hard["inductance"] < res["inductance"]).mean() > 0.5  # harder core, less L mostly
+
+
+# ----------------------------------------------------------- one check, twice
+@pytest.fixture(scope="module")
+def cli_run(tmp_path_factory):
+    """One ``magcheck check --json --vtu`` run, and the CheckResult it printed."""
+    import magcheck.compare.front.commands.check as cmd
+
+    out = tmp_path_factory.mktemp("cli")
+    seen = []
+    real = cmd.run_check
+
+    def spy(*a, **k):
+        seen.append(real(*a, **k))
+        return seen[-1]
+
+    cmd.run_check = spy
+    try:
+        code = main(["check", str(CHOKE), "--no-error-estimate", "--json", str(out / "c.json"),
+                     "--vtu", str(out / "c.vtu")])
+    finally:
+        cmd.run_check = real
+    assert code == 0 and len(seen) == 1
+    return seen[0], out
+
+
+def test_to_dict_is_the_cli_json(cli_run):
+    res, out = cli_run
+    cli = json.loads((out / "c.json").read_text())
+    assert res.to_dict() == cli  # the same run: the whole document, key for key
+    assert magcheck.to_json(res) == cli
+
+
+def test_check_named_access(cli_run):
+    res, _ = cli_run
+    row = res["inductance"]
+    assert row is next(r for r in res.rows if r.key == "inductance")
+    doc = res.to_dict()
+    entry = next(e for e in doc["comparison"] if e["quantity"] == "inductance")
+    assert (row.hand, row.fe, row.diff_pct, row.verdict) == (
+        entry["hand"], entry["fe"], entry["difference_pct"], entry["verdict"])
+    assert row.fe_3d == entry["fe_depth_corrected"]
+    assert math.isnan(row.uncertainty) and entry["fe_uncertainty"] is None  # one mesh
+    assert row.diff_pct == pytest.approx(100 * (row.hand - row.fe) / abs(row.fe))
+    assert (res.design_passed, res.agreement_passed) == (doc["design_passed"],
+                                                        doc["agreement_passed"])
+    assert "gap_B" in res and res.keys() == [r.key for r in res.rows]
+    with pytest.raises(KeyError, match="'L' is not a row of this check; known: gap_B, .*inductance"):
+        res["L"]
+
+
+def test_to_dataframe_needs_pandas(cli_run, monkeypatch):
+    res, _ = cli_run
+    try:
+        import pandas  # noqa: F401
+    except ImportError:
+        pass
+    else:
+        df = res.to_dataframe()
+        assert df.loc["inductance", "fe"] == res["inductance"].fe
+    monkeypatch.setitem(sys.modules, "pandas", None)  # as if not installed
+    with pytest.raises(ImportError, match="pip install pandas"):
+        res.to_dataframe()
+
+
+def test_write_vtu_and_report_from_the_result(cli_run, tmp_path):
+    res, out = cli_run
+    assert magcheck.write_vtu(res, tmp_path / "a.vtu") == tmp_path / "a.vtu"
+    # the API writes the file the CLI wrote for the same result
+    assert (tmp_path / "a.vtu").read_bytes() == (out / "c.vtu").read_bytes()
+    page = magcheck.report(res, tmp_path / "rep")
+    assert page == tmp_path / "rep" / "index.html"
+    assert "demo-choke" in page.read_text() and (tmp_path / "rep" / "flux.png").is_file()
+
+
+def test_verify_takes_a_case(tmp_path):
+    case = magcheck.load(CHOKE).with_values({"fe.order": 1})
+    res = magcheck.verify(case, estimate_error=False)
+    out = res["demo-choke"]
+    assert out.status == "ok" and out["agreement:inductance"].unit == "%"
+    assert res.exit_code == 0 and magcheck.to_json(res)["cases"][0]["name"] == "demo-choke"
+    with pytest.raises(KeyError, match="known: demo-choke"):
+        res["other"]

@@ -191,14 +191,16 @@ def test_vtu_round_trip(tmp_path):
         m = meshio.read(path)
         ne = rm.nelements
         assert m.cells[0].type == ctype and m.cells[0].data.shape == (ne, nper)
-        assert m.points.shape == (sol.ndofs, 3)
-        assert m.point_data["A"].shape == (sol.ndofs,)
-        np.testing.assert_allclose(m.point_data["A"], sol.A)
-        assert m.cell_data["B"][0].shape == (ne, 3)
-        assert m.cell_data["H"][0].shape == (ne, 3)
-        assert m.cell_data["Bmag"][0].shape == (ne,)
+        assert m.points.shape == (sol.ndofs, 3)  # a closed box: every DOF is in a cell
+        assert m.point_data["A_z_Wb_per_m"].shape == (sol.ndofs,)
+        np.testing.assert_allclose(m.point_data["A_z_Wb_per_m"], sol.A)
+        assert m.cell_data["B_T"][0].shape == (ne, 3)
+        assert m.cell_data["H_A_per_m"][0].shape == (ne, 3)
+        assert m.cell_data["B_magnitude_T"][0].shape == (ne,)
         assert m.cell_data["mu_r"][0].shape == (ne,)
         assert set(np.unique(m.cell_data["region"][0])) == {0, 1, 2, 3}
+        assert {k: int(v[0]) for k, v in m.field_data.items()} == {
+            n: i for i, n in enumerate(rm.region_names)}
     assert sorted(os.listdir(tmp_path)) == ["f1.vtu", "f2.vtu"]  # no temp files left
 
 

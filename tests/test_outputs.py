@@ -118,7 +118,7 @@ def test_vtu_follows_the_umask(tmp_path):
     import meshio
 
     m = meshio.read(out)
-    assert {"A"} <= set(m.point_data) and "Bmag" in m.cell_data
+    assert {"A_z_Wb_per_m"} <= set(m.point_data) and "B_magnitude_T" in m.cell_data
 
 
 # --------------------------------------------------------------------- figures

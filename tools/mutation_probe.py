@@ -624,6 +624,16 @@ MUTATIONS: tuple[Mutation, ...] = (
       "    key = spec.keys.get(name, spec.extra) or Key(\"any\")\n    where",
       "the reader reads a key its table does not declare (the schema would drift)",
       ("tests/test_schema.py",)),
+    # ---------------------------------------------------------------- VTU export
+    M("vtu-aphi-times-r", "fem2d/export.py",
+      "a_phi = np.divide(u, r, out=np.zeros_like(u), where=r > 0)",
+      "a_phi = np.divide(u * r, 1.0, out=np.zeros_like(u), where=r > 0)",
+      "the r-z VTU's A_phi as (r A_phi) r instead of (r A_phi) / r",
+      ("tests/test_vtu.py::test_axisymmetric_vtu",)),
+    M("vtu-cells-not-renumbered", "fem2d/export.py",
+      "cells = new_index[cells]", "cells = cells",
+      "the VTU's cells keep the solver's node numbers after the unused points are dropped",
+      ("tests/test_vtu.py",)),
 )
 
 

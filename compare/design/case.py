@@ -23,12 +23,12 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, Mapping, Protocol
 
 from .families import FAMILIES, Family
 from .geometry import Gap, Limb, WindingSpec
 
-__all__ = ["Case", "with_current", "MaterialSpec", "HandSettings", "FESettings", "Margins",
+__all__ = ["Case", "CaseOrigin", "with_current", "MaterialSpec", "HandSettings", "FESettings", "Margins",
            "InductanceLimit", "SaturationLimit", "ForceLimit", "SweepDecl", "Tolerance"]
 
 
@@ -217,9 +217,29 @@ class Tolerance:
     relative: bool = False
 
 
+class CaseOrigin(Protocol):
+    """What the case reader attaches to a :class:`Case` it returns
+    (``compare.reading.variants``): the parsed tables the case was validated
+    from, and the reader's own function that sets keys in a copy of them and
+    validates the result (:meth:`Case.with_values`)."""
+
+    @property
+    def case(self) -> "Case":
+        """The case as the reader validated it (to tell a case changed since)."""
+        ...
+
+    def derive(self, values: Mapping[str, Any]) -> "Case":
+        """A new case: these keys set in a copy of the tables, validated."""
+        ...
+
+
 @dataclass(frozen=True)
 class Case:
-    """One validated design case. All values SI."""
+    """One validated design case. All values SI.
+
+    Read one with ``magcheck.load`` (a TOML file or its tables); derive
+    others with :meth:`with_values`, which validates like a case file.
+    """
 
     name: str
     family: str
@@ -244,6 +264,53 @@ class Case:
     cross-section.  The FE always uses the homogenised core (polarisation
     scaled by k_s, analytic.bh.scale_law); the hand model uses the net iron
     area k_s A when ``[hand] stacking = true``."""
+    origin: CaseOrigin | None = field(default=None, repr=False, compare=False)
+    """The tables this case was read from and the reader's validation
+    (attached by ``compare.reading.variants``; None for a case built here
+    directly). Not part of equality, hash or repr."""
+
+    def with_values(self, values: Mapping[str, Any]) -> "Case":
+        """A new case with some case-file keys set, validated exactly like a
+        case file.
+
+        ``values`` maps keys in the grammar of ``--vary``
+        (``"gaps[0].length"``, ``"winding.current"``, ``"core.limb_width"``,
+        ``"materials.core.scale_H"``; any other key of the file too, e.g.
+        ``"hand.fringing"``) to what the case file would hold: a string with a
+        unit (``"0.8 mm"``, ``"7 A"``) or a plain number in SI (m, A, T,
+        H/m; ``7`` is 7 A for a current).  The new case supports
+        ``with_values`` in turn.
+
+        Why through ``origin``: a value must be checked by the same reader as
+        the case file (units, ranges, the family's geometry, cross-table
+        checks), but the case model sits below the reader and does not import
+        it (``tests/test_layering.py``).  So the reader attaches to each case
+        it returns the parsed tables and its own function that sets keys in a
+        copy and validates it again; this method only hands the values over.
+
+        Raises
+        ------
+        CaseError
+            Naming the key and the value (an unknown key, a value the case
+            file would refuse), or ``with_values`` when this case was not made
+            by the reader (built directly, or changed with
+            ``dataclasses.replace`` since: its tables no longer describe it).
+        """
+        from ..errors import CaseError
+
+        if self.origin is None:
+            raise CaseError("with_values", None, "this Case was not read from a case file or "
+                                                 "its tables (magcheck.load): there are no "
+                                                 "tables to set the keys in")
+        if self.origin.case != self:
+            raise CaseError("with_values", None, "this Case was changed (dataclasses.replace) "
+                                                 "after it was read: its tables no longer "
+                                                 "describe it; make every change with "
+                                                 "with_values")
+        if not isinstance(values, Mapping):
+            raise CaseError("with_values", values, "give a dict of key -> value, e.g. "
+                                                   "{\"gaps[0].length\": \"0.8 mm\"}")
+        return self.origin.derive(values)
 
     @property
     def family_model(self) -> Family:

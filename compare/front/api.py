@@ -1,101 +1,287 @@
-"""magcheck's Python API: the same objects the command line prints and
-serialises, for scripts and notebooks.
+"""magcheck's Python API: the objects the command line prints and writes, for
+scripts and notebooks.  ``import magcheck`` gives every name here
+(``magcheck.load``, ``magcheck.check``, ...); this module is
+``magcheck.compare.front.api``.
 
->>> from compare import api
->>> case = api.load("cases/demo_choke.toml")            # or a dict of the TOML tables
->>> hand = api.hand(case)                                # the magnetic circuit (HandResult)
->>> res = api.check(case)                                # both models side by side (CheckResult)
->>> doc = api.to_json(res)                               # = magcheck check --json
->>> sw = api.sweep("cases/demo_choke.toml", "winding.current=1A:6A:6")  # SweepResult
+>>> import magcheck
+>>> case = magcheck.load("cases/demo_choke.toml")         # or a dict of the TOML tables
+>>> wider = case.with_values({"gaps[0].length": "0.8 mm"})  # validated like the file
+>>> hand = magcheck.hand(wider)                           # HandResult, SI
+>>> round(hand["inductance"] * 1e3, 2)                    # H -> mH
+2.44
 
-Every function validates its input like the CLI (a :class:`CaseError`
-naming the key and the value) and raises :class:`RunError` when a solve
-does not converge.  Results are design estimates, to be confirmed by
+Every entry point takes a case file's path, its parsed tables (a dict) or a
+:class:`Case`; the CLI's commands run the same functions.  Bad input raises
+:class:`CaseError` naming the key and the value; a solve that does not
+converge :class:`RunError`.  Values are SI (m, A, T, H, Wb, J, N); the unit
+of each quantity is in ``magcheck.compare.models.hand.UNITS`` and in each
+comparison row's ``unit``.  Results are design estimates, to be confirmed by
 measurement and by the applicable codes and licensed practice.
 """
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any, Sequence, Union
 
 from ..design.case import Case
 from ..errors import CaseError, RunError
 
-__all__ = ["load", "hand", "fe", "check", "sweep", "to_json", "Case", "CaseError", "RunError"]
+if TYPE_CHECKING:  # the result types, for annotations only (imported lazily below)
+    from ..judge.check import CheckResult
+    from ..models.fe import FEResult
+    from ..models.hand import HandResult
+    from ..reading.variants import CaseSource
+    from ..studies.sweep import SweepResult
+    from ..studies.tolerance import ToleranceResult
+    from ..studies.verify import VerifyResult
+
+__all__ = ["load", "hand", "fe", "check", "sweep", "tolerance", "verify", "report", "write_vtu",
+           "to_json", "Case", "CaseError", "RunError"]
+
+CaseLike = Union[str, Path, dict, Case]
+"""What every entry point takes: a case file's path, its parsed tables, or a Case."""
 
 
-def load(source: str | Path | dict, *, base_dir: str | Path | None = None) -> Case:
-    """A validated case from a TOML file's path or from the parsed tables
-    (a dict as ``tomllib`` gives it; ``base_dir`` resolves B-H CSV files)."""
-    from ..reading.casefile import case_from_dict, load_case
+def load(source: CaseLike, *, base_dir: str | Path | None = None) -> Case:
+    """A validated :class:`Case` (SI inside) from a TOML case file's path or
+    from its parsed tables (a dict as ``tomllib`` gives it; ``base_dir``
+    resolves relative B-H CSV and DXF files).  A Case is returned as it is.
 
+    The case supports ``case.with_values({"gaps[0].length": "0.8 mm",
+    "winding.current": 7})``: a new case with those keys set (strings with
+    units, or SI numbers: 7 is 7 A), validated like a case file.
+
+    Raises
+    ------
+    CaseError
+        For any problem of the file or the tables, naming the key and the value.
+    """
+    return _read(source, base_dir)[1]
+
+
+def _read(source: CaseLike, base_dir: str | Path | None = None,
+          ) -> tuple["CaseSource | None", Case]:
+    """(its tables, the case); tables None for a Case built without the reader."""
+    from ..reading.variants import Origin, case_from_tables, case_source
+
+    if isinstance(source, Case):
+        origin = source.origin
+        return (origin.source if isinstance(origin, Origin) else None), source
     if isinstance(source, dict):
-        return case_from_dict(source, base_dir=Path(base_dir) if base_dir else None)
-    return load_case(source)
+        return case_from_tables(source, base_dir)
+    if isinstance(source, (str, Path)):
+        return case_source(source)
+    raise TypeError(f"a case file's path, a dict of its tables or a Case, not "
+                    f"{type(source).__name__}")
 
 
-def hand(case: Case, **switches: Any):
-    """The hand calculation (:class:`compare.models.hand.HandResult`, SI): 3D by
-    default; ``planar=True`` for the planar-consistent form; ``fringing``,
-    ``leakage``, ``stacking``, ``effective`` override the case's ``[hand]``."""
-    from ..models.hand import run_hand
+def _tables(source: CaseLike, what: str) -> tuple["CaseSource", Case]:
+    """The tables and the case, for the studies that derive varied cases."""
+    src, case = _read(source)
+    if src is None:
+        raise CaseError(what, None, "needs a case read by magcheck.load (its tables give the "
+                                    "varied cases): this Case was built directly")
+    return src, case
 
-    return run_hand(case, **switches)
+
+def hand(case: CaseLike, *, fringing: str | None = None, planar: bool = False,
+         leakage: bool | None = None, stacking: bool | None = None,
+         effective: bool | None = None) -> "HandResult":
+    """The magnetic-circuit calculation (``magcheck hand``):
+    :class:`~magcheck.compare.models.hand.HandResult`, SI.
+
+    3D by default (every fringing side); ``planar=True`` gives the
+    planar-consistent form (in-plane fringing only, as a planar FE sees it;
+    refused for an axisymmetric case).  ``fringing`` (a model name),
+    ``leakage``, ``stacking``, ``effective`` override the case's ``[hand]``.
+    Named access: ``hand["inductance"]`` (H), ``hand["gap_B"]`` (T),
+    ``hand["flux_linkage"]`` (Wb), ``hand["energy"]`` (J), ...; ``hand.keys()``
+    lists them; ``hand.to_dict()`` is the ``hand`` block of ``magcheck hand --json``.
+    """
+    from ..models.hand import check_hand_options, run_hand
+
+    c = load(case)
+    check_hand_options(c, fringing, planar)
+    return run_hand(c, fringing=fringing, planar=planar, leakage=leakage, stacking=stacking,
+                    effective=effective)
 
 
-def fe(case: Case, *, estimate_error: bool = True):
-    """The field solution (:class:`compare.models.fe.FEResult`): values on the
-    finest of three meshes and their uncertainty (one mesh, no uncertainty,
-    with ``estimate_error=False``)."""
+def fe(case: CaseLike, *, estimate_error: bool = True) -> "FEResult":
+    """The field solution (:class:`~magcheck.compare.models.fe.FEResult`):
+    ``.values`` on the finest of three meshes (SI, the hand keys; planar:
+    per the case's stack depth), ``.uncertainty`` (same units) and the
+    fem2d ``.solution``; one mesh and no uncertainty with
+    ``estimate_error=False`` (as ``--no-error-estimate``, about 3x faster)."""
     from ..models.fe import run_fe_checked
 
-    return run_fe_checked(case, estimate_error=estimate_error)
+    return run_fe_checked(load(case), estimate_error=estimate_error)
 
 
-def check(case: Case, *, estimate_error: bool = True):
-    """Both models side by side (:class:`compare.judge.check.CheckResult`): rows
-    with hand, FE, difference, FE uncertainty and verdict; ``.design_passed``
-    (the design meets its margins), ``.agreement_passed`` (the hand
-    calculation agrees with the field solution), ``.passed`` (both)."""
+def check(case: CaseLike, *, estimate_error: bool = True,
+          all_fringing: bool = False) -> "CheckResult":
+    """Both models side by side (``magcheck check``):
+    :class:`~magcheck.compare.judge.check.CheckResult`.
+
+    ``res["inductance"]`` is a row: ``.hand``, ``.fe`` (H), ``.fe_3d`` (the
+    depth-corrected FE), ``.uncertainty`` (the FE's, H), ``.diff_pct`` (%),
+    ``.verdict``; ``res.keys()`` lists the rows.  ``res.design_passed`` (the
+    design meets its margins), ``res.agreement_passed`` (hand agrees with FE),
+    ``res.passed`` (both); ``res.to_dict()`` is the document of ``magcheck
+    check --json``, ``res.to_dataframe()`` the rows (pandas, if installed).
+    ``estimate_error=False`` as ``--no-error-estimate`` (one mesh, no FE
+    uncertainty, faster); ``all_fringing`` as ``--all-fringing``.  A mesh
+    above the size limit needs ``case.with_values({"fe.allow_large": True})``.
+    """
     from ..judge.check import run_check
 
-    return run_check(case, estimate_error=estimate_error)
+    return run_check(load(case), all_fringing=all_fringing, estimate_error=estimate_error)
 
 
-def sweep(source: str | Path | dict, *vary: str, with_fe: bool = True, workers: int = 1,
-          base_dir: str | Path | None = None):
-    """A sweep (:class:`compare.studies.sweep.SweepResult`) of the case over
-    ``KEY=SPEC`` strings as ``--vary`` takes them (several make a grid);
-    ``source`` a file path or the parsed tables.  Runs in this process by
-    default (``workers=1``); more workers run points in processes."""
-    from ..reading.casefile import case_from_dict
+def sweep(case: CaseLike, *vary: str, with_fe: bool = True, workers: int = 1,
+          predictor: str = "tangent", base_dir: str | Path | None = None) -> "SweepResult":
+    """A sweep (``magcheck sweep``):
+    :class:`~magcheck.compare.studies.sweep.SweepResult`, one point per value.
+
+    ``vary`` are ``KEY=SPEC`` strings as ``--vary`` takes them
+    (``"winding.current=0:20A:41"``, ``"gaps[0].length=0.5mm,0.8mm"``;
+    several make a grid); none: the case's own ``[sweep]``.  ``with_fe=False``
+    as ``--hand-only``.  Runs in this process (``workers=1``); more workers
+    run blocks of points in processes.  ``sw["fe_inductance"]`` is a column
+    over the points (SI; ``sw.columns()`` lists them), ``sw.margins(drops)``
+    the margins and saturation table ``magcheck sweep`` prints.
+    """
     from ..design.keys import parse_vary
-    from ..studies.sweep import CaseSource, case_source, run_sweep
+    from ..studies.sweep import run_sweep
 
-    if isinstance(source, dict):
-        import copy
-
-        bd = Path(base_dir) if base_dir else None
-        case = case_from_dict(source, base_dir=bd)
-        src = CaseSource(copy.deepcopy(source), bd, "", "")
+    if isinstance(case, dict):
+        src, c = _read(case, base_dir)
+        assert src is not None
     else:
-        src, case = case_source(source)
-    if not vary:
-        raise CaseError("vary", None, "give at least one KEY=SPEC, e.g. winding.current=0:20A:41")
-    specs = [parse_vary(v, where="vary", family=case.family_model) for v in vary]
-    return run_sweep(src, specs, with_fe=with_fe, workers=workers)
+        src, c = _tables(case, "sweep")
+    specs_text = list(vary) or (list(c.sweeps[0].vary) if c.sweeps else [])
+    if not specs_text:
+        raise CaseError("vary", None, "give at least one KEY=SPEC, e.g. winding.current=0:20A:41 "
+                                      "(the case declares no [sweep])")
+    if workers < 1:
+        raise CaseError("workers", workers, "must be at least 1")
+    specs = [parse_vary(v, where="vary", family=c.family_model) for v in specs_text]
+    if with_fe:
+        from ..models.fe import guard_mesh_size
+
+        guard_mesh_size(c)
+    return run_sweep(src, specs, with_fe=with_fe, predictor=predictor, workers=workers)
+
+
+def tolerance(case: CaseLike, *, samples: int = 50, seed: int = 0,
+              fe_samples: int | None = None, workers: int = 1) -> "ToleranceResult":
+    """The Monte Carlo study over the case's ``[[tolerances]]`` (``magcheck
+    tolerance``): :class:`~magcheck.compare.studies.tolerance.ToleranceResult`.
+
+    ``res["inductance"]`` (H), ``res["peak_B"]`` (T),
+    ``res["saturation_current"]`` (A) are arrays over the samples;
+    ``res.percentiles()`` their P5/P50/P95, ``res.yield_fraction`` the share
+    of samples meeting every design margin.  ``fe_samples`` runs the FE on
+    the first M samples only (the rest corrected through the fitted
+    hand-vs-FE relation).
+    """
+    from ..studies.tolerance import run_tolerance
+
+    if samples < 1:
+        raise CaseError("samples", samples, "must be at least 1")
+    if workers < 1:
+        raise CaseError("workers", workers, "must be at least 1")
+    src, _ = _tables(case, "tolerance")
+    return run_tolerance(src, samples=samples, seed=seed, fe_samples=fe_samples, workers=workers)
+
+
+def verify(cases: CaseLike | Sequence[CaseLike], *, baseline: str | Path | None = None,
+           estimate_error: bool = True, agreement: str = "fatal",
+           stored_verdicts: bool = True, workers: int = 1) -> "VerifyResult":
+    """Every case against its limits, margins, declared sweeps and stored
+    results (``magcheck verify``):
+    :class:`~magcheck.compare.studies.verify.VerifyResult`.
+
+    ``cases`` one or several case files, folders of them, dicts or Cases.
+    Paths run as the CLI runs them (``workers`` processes); dicts and Cases
+    in this process.  ``res["demo-choke"]`` is one case's outcome and
+    ``res["demo-choke"]["agreement:inductance"]`` one item; ``res.exit_code``
+    the CLI's exit code, ``res.to_dict()`` the document of ``--json``.
+    The outcomes list the paths' cases first, then the others.  A case
+    changed with ``with_values`` is not the stored one: no stored verdict
+    applies to it, and with ``baseline`` its drift item fails as for an
+    edited case file.
+    """
+    from ..judge.check import AGREEMENT_MODES
+    from ..studies.verify import VerifyResult, run_verify, verify_cases
+
+    if agreement not in AGREEMENT_MODES:
+        raise CaseError("agreement", agreement, f"one of {', '.join(AGREEMENT_MODES)}")
+    items: list[CaseLike] = ([cases] if isinstance(cases, (str, Path, dict, Case))
+                             else list(cases))
+    if not items:
+        raise CaseError("cases", None, "give at least one case")
+    if baseline is not None and not estimate_error:
+        raise CaseError("estimate_error", False, "the baseline stores values of the checked "
+                                                 "(three-mesh) FE; drop one of the options")
+    paths = [c for c in items if isinstance(c, (str, Path))]
+    loaded = [_tables(c, "verify") for c in items if not isinstance(c, (str, Path))]
+    outcomes: list = []
+    seconds = 0.0
+    if paths:
+        r = run_verify(paths, baseline=baseline, workers=workers, estimate_error=estimate_error,
+                       agreement=agreement, stored_verdicts=stored_verdicts)
+        outcomes += r.outcomes
+        seconds += r.seconds
+    if loaded:
+        r = verify_cases(loaded, baseline=baseline, estimate_error=estimate_error,
+                         agreement=agreement, stored_verdicts=stored_verdicts)
+        outcomes += r.outcomes
+        seconds += r.seconds
+    return VerifyResult(tuple(outcomes), seconds, str(baseline) if baseline else "", agreement)
+
+
+def report(result: "CheckResult | CaseLike", folder: str | Path,
+           agreement: str = "fatal") -> Path:
+    """Write the HTML report with its figures into ``folder`` (``magcheck
+    check --report``); ``result`` a check's result, or a case (checked
+    first, on three meshes).  Returns the path of ``index.html``."""
+    from ..judge.check import CheckResult
+    from ..outputs.report import write_report
+
+    res = result if isinstance(result, CheckResult) else check(result)
+    return Path(write_report(res, folder, agreement))
+
+
+def write_vtu(result: Any, path: str | Path) -> Path | None:
+    """Write the FE field as VTU (``magcheck check --vtu``) and return the path.
+
+    ``result`` a check's or an FE run's result (the finest mesh), or a case
+    (solved on its own mesh, one solve).  Arrays named with their units:
+    point data ``A_z_Wb_per_m`` (planar) or ``rA_phi_Wb_per_rad`` and
+    ``A_phi_Wb_per_m`` (r-z); cell data ``B_T``, ``B_magnitude_T``,
+    ``H_A_per_m``, ``mu_r``, ``region`` (the field data maps each region
+    name to ``[id, 2]``).  ``path`` ``-`` writes to standard output.
+    """
+    from ..outputs.vtu import write_vtu as _write
+
+    if isinstance(result, (str, Path, dict, Case)):
+        result = fe(result, estimate_error=False)
+    return _write(result, path)
 
 
 def to_json(result: Any) -> dict:
-    """The JSON form of a result, as the CLI writes it: a check's whole
-    document (``magcheck check --json``), or a hand result's block (the
-    ``hand`` entry of ``magcheck hand --json``)."""
+    """The JSON form of a result as the CLI writes it (standard JSON types, a
+    missing value None): a check's document (``magcheck check --json``,
+    ``CheckResult.to_dict``), a hand result's block (the ``hand`` entry of
+    ``magcheck hand --json``) or a verify run's document (``magcheck verify --json``)."""
     from ..judge.check import CheckResult
+    from ..judge.document import json_ready
     from ..models.hand import HandResult
-    from ..outputs.serialize import check_json
+    from ..studies.verify import VerifyResult
 
     if isinstance(result, CheckResult):
-        return check_json(result)
-    if isinstance(result, HandResult):
         return result.to_dict()
-    raise TypeError(f"to_json: a CheckResult or HandResult, not {type(result).__name__}")
+    if isinstance(result, (HandResult, VerifyResult)):
+        return json_ready(result.to_dict())
+    raise TypeError(f"to_json: a CheckResult, HandResult or VerifyResult, not "
+                    f"{type(result).__name__}")

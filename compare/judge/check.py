@@ -86,7 +86,18 @@ UNCERTAIN_PCT = 1.0  # FE uncertainty above this (percent) is flagged
 
 @dataclass(frozen=True)
 class Row:
-    """One line of the comparison table (SI values, percentages)."""
+    """One line of the comparison table (SI values in ``unit``, percentages).
+
+    hand : the hand calculation in the form the FE solves (planar-consistent
+        for a planar FE, the whole circuit for an r-z one).
+    fe : the field solution (planar FE: per the case's stack depth).
+    uncertainty : the FE's numerical uncertainty of ``fe`` (same unit; NaN
+        without the three-mesh estimate).
+    diff_pct : (hand - fe) / |fe| in percent.
+    limit_pct : the agreement limit (percent; None: not judged).
+    verdict : "pass", "within FE noise", "inconclusive", "FAIL", "info", "n/a".
+    hand_3d, fe_3d : the 3D hand calculation and the depth-corrected FE.
+    """
 
     key: str
     label: str
@@ -192,6 +203,53 @@ class CheckResult:
     @property
     def exit_code(self) -> int:
         return self.exit_code_for("fatal")
+
+    # ------------------------------------------------------------ named access
+    def keys(self) -> list[str]:
+        """The rows' quantity keys, in table order (``inductance``, ``gap_B``,
+        ``margin:peak_B``, ...)."""
+        return [r.key for r in self.rows]
+
+    def __getitem__(self, key: str) -> Row:
+        """The row of one quantity: ``res["inductance"].fe`` (H), ``.hand``,
+        ``.fe_3d``, ``.uncertainty``, ``.diff_pct`` (%), ``.verdict``.
+
+        Raises
+        ------
+        KeyError
+            Naming the key and listing the known ones.
+        """
+        for r in self.rows:
+            if r.key == key:
+                return r
+        raise KeyError(f"{key!r} is not a row of this check; known: {', '.join(self.keys())}")
+
+    def __contains__(self, key: object) -> bool:
+        return any(r.key == key for r in self.rows)
+
+    def to_dict(self, agreement: str = "fatal") -> dict:
+        """The document ``magcheck check --json`` writes (standard JSON types:
+        a missing value is None), equal to the CLI's file for the same run;
+        ``agreement`` as the CLI option (it sets ``exit_code``)."""
+        from .document import check_json, json_ready
+
+        return json_ready(check_json(self, agreement))
+
+    def to_dataframe(self) -> Any:
+        """The comparison rows as a pandas DataFrame indexed by quantity
+        (columns as the JSON's ``comparison`` entries, SI units and percent).
+
+        Raises
+        ------
+        ImportError
+            When pandas is not installed (it is not a dependency of magcheck).
+        """
+        try:
+            import pandas as pd
+        except ImportError:
+            raise ImportError("to_dataframe needs pandas, which magcheck does not install: "
+                              "pip install pandas (or use to_dict())") from None
+        return pd.DataFrame([r.to_dict() for r in self.rows]).set_index("quantity")
 
 
 NOISE = "within FE noise"

@@ -356,7 +356,29 @@ class HandResult:
     ``force_pull`` by the Maxwell pull formula (:func:`hand_forces`)."""
 
     def values(self) -> dict[str, float]:
+        """The quantities of :data:`HAND_KEYS` (SI, units in :data:`UNITS`)."""
         return {k: getattr(self, k) for k in HAND_KEYS}
+
+    def keys(self) -> list[str]:
+        """The names ``hand[...]`` takes: :data:`HAND_KEYS`, the force keys
+        of a moving part, the per-winding keys (``flux_linkage:NAME``,
+        ``L:A,B``) and a magnet's ``magnet_B``/``magnet_H``."""
+        return [*HAND_KEYS, *self.force_values, *self.winding_values, *self.magnet_values]
+
+    def __getitem__(self, key: str) -> float:
+        """One quantity by name, SI (``hand["inductance"]`` in H; units in :data:`UNITS`).
+
+        Raises
+        ------
+        KeyError
+            Naming the key and listing the known ones.
+        """
+        if key in HAND_KEYS:
+            return float(getattr(self, key))
+        for d in (self.force_values, self.winding_values, self.magnet_values):
+            if key in d:
+                return float(d[key])
+        raise KeyError(f"{key!r} is not a hand quantity; known: {', '.join(self.keys())}")
 
     def flux_linkages(self) -> list[float]:
         """lambda_j (Wb), in winding order."""
@@ -645,6 +667,26 @@ def _segment_solution(case: Case, fringing: str | None, planar: bool,
     if not res.converged:
         raise RunError(f"magnetic-circuit solve did not converge: {res.message}")
     return res, cmap
+
+
+def check_hand_options(case: Case, fringing: str | None = None, planar: bool = False, *,
+                       names: tuple[str, str] = ("fringing", "planar")) -> None:
+    """Bad input of :func:`run_hand`'s overrides as a CaseError naming the
+    option (``names``: the CLI's ``--fringing``/``--planar``, the API's
+    ``fringing``/``planar``): an unknown fringing model; ``planar`` on an
+    axisymmetric case, which has no planar form."""
+    if fringing is not None:
+        from magcheck.analytic.fringing import FRINGING_MODELS
+
+        from ..design.reader import _choice_text
+
+        if fringing not in FRINGING_MODELS:
+            raise CaseError(names[0], fringing, _choice_text(fringing, tuple(FRINGING_MODELS)))
+    if planar and core_model(case).axisymmetric:
+        raise CaseError(names[1], None, "this case's field model is axisymmetric (r-z), a "
+                                        "3D one whose gaps fringe all round: there is no "
+                                        "planar form to compare with; leave "
+                                        f"{names[1]} out")
 
 
 def run_hand(case: Case, *, fringing: str | None = None, planar: bool = False,

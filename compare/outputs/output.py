@@ -13,16 +13,13 @@ import tempfile
 from pathlib import Path
 from typing import Any, Callable, Sequence, TextIO
 
+# the caution and the JSON cleaning live with the check's document (the judge
+# layer), which CheckResult.to_dict gives without the outputs layer
+from ..judge.document import CAUTION, json_ready
+
 __all__ = ["CAUTION", "STDOUT", "STDOUT_HELP", "FIGURE_FORMATS", "write_output",
            "atomic_write_text", "write_produced", "figure_format", "save_figure", "write_json",
            "render_table", "check_outputs", "text_stream"]
-
-CAUTION = (
-    "Caution: magcheck's results are design estimates. Confirm them by measurement "
-    "on a prototype and against the applicable codes and licensed engineering practice; "
-    "magcheck checks neither insulation nor temperature rise."
-)
-
 
 STDOUT = "-"
 """The path that means standard output (``--json -``, ``--csv -``, ``--markdown -``)."""
@@ -302,17 +299,8 @@ def save_figure(fig: Any, path: str | Path, *, option: str = "--plot", dpi: int 
     return write_output(path, buf.getvalue())
 
 
-def _clean(obj: Any) -> Any:
-    """Replace non-finite floats by None so the JSON is standard."""
-    if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
-    if isinstance(obj, dict):
-        return {k: _clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_clean(v) for v in obj]
-    if hasattr(obj, "item") and callable(obj.item):  # numpy scalar
-        return _clean(obj.item())
-    return obj
+_clean = json_ready
+"""Non-finite floats as None, numpy scalars as numbers (the JSON writer's cleaning)."""
 
 
 def write_json(path: str | Path, data: dict) -> Path | None:

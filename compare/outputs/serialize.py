@@ -5,12 +5,11 @@ from __future__ import annotations
 import csv
 import io
 import math
-import platform
-from importlib import metadata
 from typing import TYPE_CHECKING, Any, Sequence
 
 from ..judge.check import CheckResult, Row
-from ..models.hand import HAND_KEYS, UNITS, winding_keys
+from ..judge.document import check_json, versions
+from ..models.hand import UNITS
 from .output import CAUTION
 from ..design.keys import CURRENT_KEY, key_dimension
 from ..design.units import SI_UNIT, format_si
@@ -24,17 +23,6 @@ __all__ = ["check_json", "check_csv", "check_markdown", "table_cells", "TABLE_CO
 
 TABLE_COLUMNS = ["quantity", "hand", "FE", "FE +/-", "diff %", "limit %", "verdict",
                  "hand 3D", "FE 3D"]
-
-
-def versions() -> dict[str, str]:
-    out = {"python": platform.python_version()}
-    for dist in ("magcheck", "numpy", "scipy", "scikit-fem", "gmsh", "meshio", "matplotlib",
-                 "pyamg"):
-        try:
-            out[dist] = metadata.version(dist)
-        except metadata.PackageNotFoundError:
-            out[dist] = "not installed"
-    return out
 
 
 RESIDUE_FLOOR = 1e-12
@@ -100,100 +88,6 @@ def verdict_lines(res: CheckResult, agreement: str = "fatal") -> list[str]:
         agree += f" where the mesh can tell ({inc} inconclusive: refine the mesh)"
     return [f"design:    {design} ({_counts_text(res.verdict_counts('design'))})",
             f"agreement: {agree} ({_counts_text(res.verdict_counts('agreement'))})"]
-
-
-def check_json(res: CheckResult, agreement: str = "fatal") -> dict:
-    """The JSON document of a check.
-
-    ``hand`` holds the hand calculation exactly as ``magcheck hand`` gives it
-    (3D, the case's fringing model); ``hand_planar`` its planar-consistent
-    form; ``fe`` the FE values under the same keys plus ``uncertainty``;
-    ``comparison`` one entry per table row.
-    """
-    fe = res.fe
-    fe_block: dict[str, Any] = {k: fe.values[k] for k in HAND_KEYS}
-    fe_block.update({
-        "uncertainty": {k: fe.uncertainty.get(k) for k in (*HAND_KEYS, "peak_B")},
-        "peak_B": fe.fine.peak_B,
-        "peak_B_definition": "|B| exceeded on 0.5 % of the core area",
-        "max_B": fe.fine.max_B,
-        "max_B_at": list(fe.fine.peak_B_at),
-        "depth_fringing_factor": res.depth_factor,
-        "depth_corrected": {r.key: r.fe_3d for r in res.rows if r.key in HAND_KEYS},
-        "depth_corrected_uncertainty": {r.key: r.fe_3d_uncertainty for r in res.rows
-                                        if r.key in HAND_KEYS},
-        "depth_correction_model": res.depth.model if res.depth is not None else None,
-        "newton_iterations": fe.fine.iterations,
-        "residual": fe.fine.residual,
-        "elements": fe.fine.nelements,
-        "dofs": fe.fine.ndofs,
-        "element_order": res.case.fe.order,
-        "units": dict(UNITS, peak_B="T"),
-    })
-    # per winding (H and Wb, planar FE per stack depth like every FE value;
-    # winding order as in the case): the flux linkages and the incremental
-    # inductance matrix, and their uncertainties
-    lam_keys, l_keys = winding_keys(res.case)
-    wv = fe.fine.winding_values
-    fe_block["windings"] = [w.name for w in res.case.windings]
-    fe_block["flux_linkages"] = [wv[k] for k in lam_keys]
-    fe_block["inductance_matrix"] = [[wv[k] for k in row] for row in l_keys]
-    fe_block["uncertainty"]["flux_linkages"] = [fe.uncertainty.get(k) for k in lam_keys]
-    fe_block["uncertainty"]["inductance_matrix"] = [[fe.uncertainty.get(k) for k in row]
-                                                    for row in l_keys]
-    # a moving part's force (N along its closing stroke; null without one):
-    # fe.force is the Maxwell stress's, fe.force_virtual_work the second method
-    fv = fe.fine.force_values
-    for k in ("force", "force_maxwell", "force_virtual_work"):
-        fe_block[k] = fv.get(k)
-    fe_block["uncertainty"]["force"] = fe.uncertainty.get("force")
-    mv = fe.fine.magnet_values
-    if mv:  # the first magnet's operating point along its magnetisation (T, A/m)
-        from ..design.coremodel import core_model
-
-        model = core_model(res.case)
-        knees = dict(model.magnet_knees)
-        first = model.magnets[0].region
-        fe_block["magnet"] = {"region": first, "B": mv["magnet_B"], "H": mv["magnet_H"],
-                              "H_min": mv["magnet_H_min"], "knee_H": knees.get(first),
-                              "uncertainty": {k[7:]: fe.uncertainty.get(k) for k in mv}}
-    case = res.case
-    hand_block, planar_block = res.hand_3d.to_dict(), res.hand_planar.to_dict()
-    if res.drive is not None:  # a voltage drive (compare.models.drive): per model, SI
-        hand_block.update(res.drive.to_dict("hand_3d"))
-        planar_block.update(res.drive.to_dict("hand"))
-        fe_block.update(res.drive.to_dict("fe"))
-        fe_block["uncertainty"].update({k: v for k, v in res.drive.uncertainty.items()})
-    from ..models.coupling import coupling_matrix
-
-    for block in (hand_block, planar_block, fe_block):  # k_jk = L_jk / sqrt(L_jj L_kk)
-        lm = [[math.nan if v is None else v for v in row] for row in block["inductance_matrix"]]
-        block["coupling"] = [[v if math.isfinite(v) else None for v in row]
-                             for row in coupling_matrix(lm)]
-    if res.leakage:  # two concentric windings: L_s referred to the first (H)
-        hand_block["leakage_inductance"] = res.leakage["hand"]
-        planar_block["leakage_inductance"] = res.leakage["hand"]
-        fe_block["leakage_inductance"] = res.leakage["fe"]
-    return {
-        "case": {"name": case.name, "family": case.family, "file": case.source,
-                 "sha256": case.sha256},
-        "hand": hand_block,
-        "hand_planar": planar_block,
-        "fe": fe_block,
-        "comparison": [r.to_dict() for r in res.rows],
-        "fringing_ranking": list(res.fringing_ranking),
-        "difference_breakdown": [st.to_dict() for st in res.breakdown],
-        "notes": list(res.notes),
-        "passed": res.passed,  # both verdicts: design_passed and agreement_passed
-        "design_passed": res.design_passed,
-        "agreement_passed": res.agreement_passed,
-        "verdict_counts": {"design": res.verdict_counts("design"),
-                           "agreement": res.verdict_counts("agreement")},
-        "exit_code": res.exit_code_for(agreement),
-        "timings_s": res.timings,
-        "versions": versions(),
-        "caution": CAUTION,
-    }
 
 
 CSV_DIGITS = 12

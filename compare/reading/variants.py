@@ -6,6 +6,13 @@ other values (:func:`make_case`); it is validated again through
 exactly like case-file input.  Two keys scale the core's B-H curve instead
 of setting a value (factor, nominal 1; :func:`analytic.bh.scale_law`):
 ``materials.core.scale_H`` and ``materials.core.scale_B``.
+
+The cases :func:`case_source`, :func:`case_from_tables` and
+:func:`with_values` return carry their :class:`Origin` (the tables they were
+validated from, with :func:`with_values` to derive another):
+:meth:`compare.design.case.Case.with_values` calls it, since the case model
+may not import the reader.  Sweep points and tolerance samples
+(:func:`make_case`) need none and carry none.
 """
 
 from __future__ import annotations
@@ -16,7 +23,7 @@ import hashlib
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import Any, Mapping
 
 from magcheck.analytic.bh import BHDataError, scale_law
 
@@ -25,7 +32,8 @@ from .casefile import case_from_dict
 from ..errors import CaseError
 from ..design.keys import SCALE_KEYS, parse_key, set_key
 
-__all__ = ["CaseSource", "case_source", "make_case", "scale_core_material"]
+__all__ = ["CaseSource", "Origin", "case_source", "case_from_tables", "make_case", "with_values",
+           "attach_origin", "scale_core_material"]
 
 
 @dataclass(frozen=True)
@@ -36,6 +44,40 @@ class CaseSource:
     base_dir: Path | None
     source: str
     sha256: str
+    scales: tuple[tuple[str, float], ...] = ()
+    """B-H scale factors (``SCALE_KEYS``, nominal 1) applied on top of the
+    tables: a case derived with ``materials.core.scale_H`` keeps its scaled
+    curve in the sweeps and samples made from it."""
+
+
+@dataclass(frozen=True)
+class Origin:
+    """What a case read here carries (``Case.origin``, the case model's
+    ``CaseOrigin``): its tables and the validation that derives new cases."""
+
+    source: CaseSource
+    case: Case = field(repr=False, compare=False)
+    """The case as validated, without its origin (Case.with_values refuses
+    a case that no longer equals it)."""
+
+    def derive(self, values: Mapping[str, Any]) -> Case:
+        return with_values(self.source, values)
+
+
+def attach_origin(case: Case, src: CaseSource) -> Case:
+    """``case`` carrying its tables ``src`` (so that ``case.with_values`` works)."""
+    bare = dataclasses.replace(case, origin=None)
+    return dataclasses.replace(bare, origin=Origin(src, bare))
+
+
+def case_from_tables(data: dict, base_dir: str | Path | None = None) -> tuple[CaseSource, Case]:
+    """A case from parsed TOML tables (a copy is kept; ``base_dir`` resolves
+    relative B-H files), validated like a case file, with its origin."""
+    data = copy.deepcopy(data)
+    bd = Path(base_dir) if base_dir is not None else None
+    case = case_from_dict(data, base_dir=bd)
+    src = CaseSource(data, bd, "", "")
+    return src, attach_origin(case, src)
 
 
 def case_source(path: str | Path, *, allow_large: bool = False) -> tuple[CaseSource, Case]:
@@ -56,7 +98,8 @@ def case_source(path: str | Path, *, allow_large: bool = False) -> tuple[CaseSou
         fe = data.get("fe")
         data["fe"] = {**(fe if isinstance(fe, dict) else {}), "allow_large": True}
         case = replace(case, fe=replace(case.fe, allow_large=True))
-    return CaseSource(data, path.parent, str(path), hashlib.sha256(raw).hexdigest()), case
+    src = CaseSource(data, path.parent, str(path), hashlib.sha256(raw).hexdigest())
+    return src, attach_origin(case, src)
 
 
 def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str, str] | None = None) -> Case:
@@ -69,7 +112,7 @@ def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str,
         the offending value.
     """
     data = copy.deepcopy(src.data)
-    scales = {k: v for k, v in settings.items() if k in SCALE_KEYS}
+    scales = {**dict(src.scales), **{k: v for k, v in settings.items() if k in SCALE_KEYS}}
     for key, value in settings.items():
         if key in SCALE_KEYS:
             continue
@@ -97,6 +140,97 @@ def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str,
         case = scale_core_material(case, scales.get(SCALE_KEYS[0], 1.0),
                                    scales.get(SCALE_KEYS[1], 1.0))
     return case
+
+
+def with_values(src: CaseSource, values: Mapping[str, Any]) -> Case:
+    """The case of ``src`` with case-file keys set to ``values`` (what the
+    file would hold: a string with a unit or an SI number), validated like
+    the case file; it carries its own origin, so it derives further cases.
+
+    The keys follow the ``--vary`` grammar (``gaps[0].length``,
+    ``winding.current``, ``materials.core.scale_H``); any key of the file may
+    be set, a missing table is created (``fe.mesh_size`` without ``[fe]``),
+    a missing list entry is not.  The derived case keeps the file's path
+    (relative B-H files) but not its sha256: it is not the file's content.
+
+    Raises
+    ------
+    CaseError
+        Naming the key and the value.
+    """
+    data = copy.deepcopy(src.data)
+    scales = dict(src.scales)
+    for key, value in values.items():
+        if not isinstance(key, str):
+            raise CaseError("with_values", key, "a key is a string such as 'gaps[0].length'")
+        value = _plain(value)
+        try:
+            path = parse_key(key)
+            if key in SCALE_KEYS:
+                scales[key] = _scale_factor(value)
+                continue
+            _check_drive_key(data, key)
+            _put(data, path, value, key)
+        except CaseError as exc:
+            raise CaseError(key, value, exc.reason) from None
+    case = case_from_dict(data, base_dir=src.base_dir, source=src.source, sha256="")
+    for k, v in scales.items():
+        if v <= 0:
+            raise CaseError(k, v, "a B-H scale factor must be positive")
+    if scales:
+        case = scale_core_material(case, scales.get(SCALE_KEYS[0], 1.0),
+                                   scales.get(SCALE_KEYS[1], 1.0))
+    new = CaseSource(data, src.base_dir, src.source, "", tuple(scales.items()))
+    return attach_origin(case, new)
+
+
+def _plain(value: Any) -> Any:
+    """A numpy scalar as the Python number TOML would give."""
+    if hasattr(value, "item") and callable(value.item) and not isinstance(value, (str, bytes)):
+        try:
+            return value.item()
+        except (TypeError, ValueError):
+            return value
+    return value
+
+
+def _scale_factor(value: Any) -> float:
+    from ..design.units import UnitError, parse_quantity
+
+    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+        raise CaseError("key", value, "a B-H scale factor is a number, e.g. 1.1")
+    try:
+        v = parse_quantity(value, "dimensionless") if isinstance(value, str) else float(value)
+    except (UnitError, ValueError) as exc:
+        raise CaseError("key", value, str(exc)) from None
+    if not v > 0 or v == float("inf"):
+        raise CaseError("key", value, "a B-H scale factor must be positive and finite")
+    return float(v)
+
+
+def _put(data: dict, path: tuple[str | int, ...], value: Any, key: str) -> None:
+    """Set a key in the tables, creating missing tables (not list entries)."""
+    from ..design.keys import key_text, winding_alias
+
+    path = winding_alias(data, path)
+    node: Any = data
+    for i, part in enumerate(path[:-1]):
+        if isinstance(node, dict) and isinstance(part, str) and part not in node:
+            if isinstance(path[i + 1], int):
+                raise CaseError("key", key, f"'{key_text(path[:i + 1])}' is not in the case file")
+            node[part] = {}
+        try:
+            node = node[part]
+        except (KeyError, IndexError, TypeError):
+            raise CaseError("key", key, f"'{key_text(path[:i + 1])}' is not in the "
+                                        "case file") from None
+    last = path[-1]
+    if isinstance(node, list):
+        if not isinstance(last, int) or last >= len(node):
+            raise CaseError("key", key, "index out of range in the case file")
+    elif not isinstance(node, dict) or isinstance(last, int):
+        raise CaseError("key", key, "its parent is not a table")
+    node[last] = value
 
 
 def _check_drive_key(data: dict, key: str) -> None:

@@ -123,7 +123,52 @@ class SweepResult:
 
     @property
     def keys(self) -> tuple[str, ...]:
+        """The swept keys, in ``--vary`` order."""
         return tuple(s.key for s in self.specs)
+
+    def columns(self) -> list[str]:
+        """The names ``sweep[...]`` takes: the columns of :func:`sweep_rows`
+        (the swept keys, ``winding.current``, ``hand_inductance``,
+        ``hand_planar_...``, ``fe_inductance``, ``fe_peak_B``, ...)."""
+        rows = sweep_rows(self)
+        return list(rows[0]) if rows else list(self.keys)
+
+    def __getitem__(self, name: str) -> list:
+        """One column over the points, in grid order, SI (H, T, A, m, N):
+        ``sweep["fe_incremental_inductance"]``, ``sweep["winding.current"]``.
+
+        Raises
+        ------
+        KeyError
+            Naming the column and listing the known ones.
+        """
+        rows = sweep_rows(self)
+        if not rows or name not in rows[0]:
+            raise KeyError(f"{name!r} is not a column of this sweep; known: "
+                           f"{', '.join(self.columns())}")
+        return [r[name] for r in rows]
+
+    def margins(self, drops: Sequence[float] = (0.10, 0.20, 0.30), kind: str = "incremental"
+                ) -> tuple[list[MarginResult], list[dict]]:
+        """The margins judged along the sweep and the saturation table at
+        ``drops`` (fractions of the low-current inductance), as ``magcheck
+        sweep`` prints them (:func:`sweep_margins`)."""
+        return sweep_margins(self, drops, kind)
+
+    def to_dataframe(self) -> Any:
+        """The points as a pandas DataFrame (the columns of :func:`sweep_rows`).
+
+        Raises
+        ------
+        ImportError
+            When pandas is not installed (it is not a dependency of magcheck).
+        """
+        try:
+            import pandas as pd
+        except ImportError:
+            raise ImportError("to_dataframe needs pandas, which magcheck does not install: "
+                              "pip install pandas") from None
+        return pd.DataFrame(sweep_rows(self))
 
 
 # --------------------------------------------------------------------------- work

@@ -54,7 +54,8 @@ HAND_CHUNK = 8
 
 
 def nominal_value(src: CaseSource, key: str, where: str) -> float:
-    """The case file's value of ``key`` in SI (1 for the B-H scale factors).
+    """The case file's value of ``key`` in SI (for the B-H scale factors
+    the source's own, set by ``Case.with_values``, else 1).
 
     Raises
     ------
@@ -62,7 +63,7 @@ def nominal_value(src: CaseSource, key: str, where: str) -> float:
         When the key is not written in the case file.
     """
     if key in SCALE_KEYS:
-        return 1.0
+        return float(dict(src.scales).get(key, 1.0))
     node = src.data
     for part in winding_alias(src.data, parse_key(key)):
         try:
@@ -265,6 +266,24 @@ class ToleranceResult:
     @property
     def failures(self) -> tuple[SampleResult, ...]:
         return tuple(s for s in self.samples if not s.ok)
+
+    def keys(self) -> list[str]:
+        """The figures ``result[...]`` takes (``inductance``, ``peak_B``, ``saturation_current``)."""
+        return list(self.values)
+
+    def __getitem__(self, figure: str) -> np.ndarray:
+        """One figure over the samples, SI (inductance H, peak_B T,
+        saturation_current A): FE where it ran, corrected hand values elsewhere.
+
+        Raises
+        ------
+        KeyError
+            Naming the figure and listing the known ones.
+        """
+        if figure not in self.values:
+            raise KeyError(f"{figure!r} is not a figure of this study; known: "
+                           f"{', '.join(self.values)}")
+        return self.values[figure]
 
 
 def run_tolerance(src: CaseSource, *, samples: int, seed: int, fe_samples: int | None = None,

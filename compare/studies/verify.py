@@ -31,7 +31,8 @@ from typing import Callable, Sequence
 
 from ..errors import CaseError, RunError
 
-__all__ = ["Item", "CaseOutcome", "VerifyResult", "find_cases", "verify_case", "run_verify",
+__all__ = ["Item", "CaseOutcome", "VerifyResult", "find_cases", "verify_case", "verify_source",
+           "run_verify", "verify_cases",
            "junit_xml", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_SOLVE", "EXIT_AGREEMENT",
            "KNOWN", "AGREEMENT_GROUPS"]
 
@@ -114,6 +115,27 @@ class CaseOutcome:
     def known_disagreements(self) -> int:
         return sum(i.verdict == KNOWN for i in self.items)
 
+    def keys(self) -> list[str]:
+        """The items' keys (``agreement:inductance``, ``peak_B``, ``sweep:...``)."""
+        return [i.key for i in self.items]
+
+    def __getitem__(self, key: str) -> Item:
+        """One item by key; KeyError lists the known keys."""
+        for i in self.items:
+            if i.key == key:
+                return i
+        raise KeyError(f"{key!r} is not an item of case {self.name!r}; known: "
+                       f"{', '.join(self.keys())}")
+
+    def to_dict(self) -> dict:
+        """The case's entry of ``magcheck verify --json``."""
+        return {"file": self.file, "name": self.name, "status": self.status, "error": self.error,
+                "seconds": self.seconds, "items": [i.to_dict() for i in self.items],
+                "saturation_current": list(self.saturation),
+                "design_passed": self.design_passed,
+                "agreement_passed": self.agreement_passed,
+                "known_disagreements": self.known_disagreements}
+
 
 @dataclass(frozen=True)
 class VerifyResult:
@@ -130,6 +152,26 @@ class VerifyResult:
     @property
     def agreement_passed(self) -> bool:
         return all(o.agreement_passed for o in self.outcomes)
+
+    def keys(self) -> list[str]:
+        """The cases' names, in order."""
+        return [o.name for o in self.outcomes]
+
+    def __getitem__(self, name: str) -> CaseOutcome:
+        """One case's outcome by its ``[case] name``; KeyError lists the known names."""
+        for o in self.outcomes:
+            if o.name == name:
+                return o
+        raise KeyError(f"{name!r} is not a verified case; known: {', '.join(self.keys())}")
+
+    def to_dict(self) -> dict:
+        """The document ``magcheck verify --json`` writes (before the JSON
+        writer turns non-finite floats into null)."""
+        from ..judge.document import CAUTION
+
+        return {"cases": [o.to_dict() for o in self.outcomes],
+                "design_passed": self.design_passed, "agreement_passed": self.agreement_passed,
+                "exit_code": self.exit_code, "caution": CAUTION}
 
     @property
     def exit_code(self) -> int:
@@ -218,17 +260,36 @@ def verify_case(path: str, stored: dict | None = None, *, use_baseline: bool = F
     ``stored`` the case's baseline entry: its agreement verdicts mark known
     disagreements (when made from the same case file); with ``use_baseline``
     its values are also checked for drift."""
-    from ..judge.baseline import drift, snapshot
-    from ..judge.check import run_check
-    from .sweep import case_source, parse_vary, run_sweep, sweep_margins
+    from .sweep import case_source
 
     t0 = time.perf_counter()
-    name = Path(path).stem
+    try:
+        src, case = case_source(path)
+    except CaseError as exc:
+        return CaseOutcome(str(path), Path(path).stem, (), "input", str(exc),
+                           time.perf_counter() - t0)
+    return verify_source(src, case, stored, use_baseline=use_baseline,
+                         estimate_error=estimate_error, file=str(path), t0=t0)
+
+
+def verify_source(src, case, stored: dict | None = None, *, use_baseline: bool = False,
+                  estimate_error: bool = True, file: str = "",
+                  t0: float | None = None) -> CaseOutcome:
+    """:func:`verify_case` on a case already read (``src`` its
+    ``compare.reading.variants.CaseSource``, for the declared sweeps): the
+    check, the sweeps, the stored verdicts and drift of ``stored`` (when the
+    case's sha256 is the entry's); never raises for bad input or failed
+    solves.  ``file`` names the case in the outcome (default its source)."""
+    from ..judge.baseline import drift, snapshot
+    from ..judge.check import run_check
+    from .sweep import parse_vary, run_sweep, sweep_margins
+
+    t0 = time.perf_counter() if t0 is None else t0
+    path = file or case.source or case.name
+    name = case.name
     items: list[Item] = []
     sat: list[dict] = []
     try:
-        src, case = case_source(path)
-        name = case.name
         specs_per_sweep = [[parse_vary(v, where="sweep.vary", family=case.family_model)
                             for v in decl.vary] for decl in case.sweeps]
         res = run_check(case, estimate_error=estimate_error)
@@ -309,16 +370,7 @@ def run_verify(paths: Sequence[str | Path], *, baseline: str | Path | None = Non
 
     t0 = time.perf_counter()
     files = find_cases(paths)
-    stored_all: dict = {}
-    if baseline is not None:
-        try:
-            stored_all = json.loads(Path(baseline).read_text())
-        except OSError as exc:
-            raise CaseError("--baseline", str(baseline), f"cannot read ({exc.strerror})") from None
-        except json.JSONDecodeError as exc:
-            raise CaseError("--baseline", str(baseline), f"not JSON ({exc})") from None
-        if not isinstance(stored_all, dict):
-            raise CaseError("--baseline", str(baseline), "must map case names to results")
+    stored_all: dict = _read_baseline(baseline) if baseline is not None else {}
     tasks = []
     beside: dict[Path, dict] = {}
     first_file: dict[str, Path] = {}
@@ -342,6 +394,38 @@ def run_verify(paths: Sequence[str | Path], *, baseline: str | Path | None = Non
                         str(baseline) if baseline else "", agreement)
 
 
+def verify_cases(sources: Sequence[tuple], *, baseline: str | Path | None = None,
+                 estimate_error: bool = True, agreement: str = "fatal",
+                 stored_verdicts: bool = True) -> VerifyResult:
+    """:func:`run_verify` on cases already read, in this process:
+    ``sources`` pairs of (``CaseSource``, ``Case``).  A case's stored entry
+    (``baseline``, else the ``baseline.json`` beside its file) counts only
+    when its sha256 is the entry's: a case changed with ``with_values`` has
+    none, so its agreement rows are judged afresh, and with ``baseline`` its
+    drift item fails as for an edited case file (not the stored case).
+
+    Raises
+    ------
+    CaseError
+        For an unreadable baseline file.
+    """
+    t0 = time.perf_counter()
+    stored_all = _read_baseline(baseline) if baseline is not None else {}
+    beside: dict[Path, dict] = {}
+    outcomes = []
+    for src, case in sources:
+        if baseline is not None:
+            entry = stored_all.get(case.name)
+        elif stored_verdicts and case.source:
+            entry = _beside(Path(case.source), beside).get(case.name)
+        else:
+            entry = None
+        outcomes.append(verify_source(src, case, entry, use_baseline=baseline is not None,
+                                      estimate_error=estimate_error))
+    return VerifyResult(tuple(outcomes), time.perf_counter() - t0,
+                        str(baseline) if baseline else "", agreement)
+
+
 def _beside(case_file: Path, cache: dict[Path, dict]) -> dict:
     """The ``baseline.json`` in a case file's folder ({} when there is none
     or it is not a JSON object of entries; read once per folder and run)."""
@@ -357,6 +441,19 @@ def _beside(case_file: Path, cache: dict[Path, dict]) -> dict:
             log.warning("%s: not read for stored verdicts (%s)", folder / "baseline.json", exc)
         cache[folder] = {k: v for k, v in data.items() if isinstance(v, dict)}
     return cache[folder]
+
+
+def _read_baseline(baseline: str | Path) -> dict:
+    """The stored results of a ``--baseline`` file (case name -> entry)."""
+    try:
+        stored_all = json.loads(Path(baseline).read_text())
+    except OSError as exc:
+        raise CaseError("--baseline", str(baseline), f"cannot read ({exc.strerror})") from None
+    except json.JSONDecodeError as exc:
+        raise CaseError("--baseline", str(baseline), f"not JSON ({exc})") from None
+    if not isinstance(stored_all, dict):
+        raise CaseError("--baseline", str(baseline), "must map case names to results")
+    return stored_all
 
 
 def _case_name(path: Path) -> str | None:

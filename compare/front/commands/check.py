@@ -7,7 +7,7 @@ import argparse
 from ...reading.casefile import load_case
 from ...judge.check import AGREEMENT_MODES, CheckResult, run_check
 from ...outputs.output import (CAUTION, STDOUT_HELP, atomic_write_text, render_table, text_stream,
-                               write_json, write_produced)
+                               write_json)
 from ...outputs.serialize import (TABLE_COLUMNS, check_csv, check_json, check_markdown,
                                   table_cells, verdict_lines)
 
@@ -107,12 +107,9 @@ def run(args: argparse.Namespace) -> int:
     if args.markdown:
         atomic_write_text(args.markdown, check_markdown(res, args.agreement))
     if args.vtu:
-        import meshio
+        from ...outputs.vtu import write_vtu
 
-        from magcheck.fem2d.export import vtu_mesh
-
-        mesh = vtu_mesh(res.fe.solution)
-        write_produced(args.vtu, lambda tmp: meshio.write(tmp, mesh, file_format="vtu"), ".vtu")
+        write_vtu(res, args.vtu)
     if args.report:
         from ...outputs.report import write_report
 

@@ -6,7 +6,7 @@ import argparse
 import math
 
 from ...reading.casefile import load_case
-from ...models.hand import UNITS, HandResult, cancelling_windings, run_hand
+from ...models.hand import UNITS, HandResult, cancelling_windings, check_hand_options, run_hand
 from ...outputs.output import CAUTION, STDOUT_HELP, render_table, text_stream, write_json
 from ...design.units import format_si
 
@@ -38,23 +38,7 @@ def hand_json(case, result: HandResult) -> dict:
 
 def run(args: argparse.Namespace) -> int:
     case = load_case(args.case)
-    if args.fringing:
-        from magcheck.analytic.fringing import FRINGING_MODELS
-
-        from ...errors import CaseError
-        from ...design.reader import _choice_text
-
-        if args.fringing not in FRINGING_MODELS:
-            raise CaseError("--fringing", args.fringing,
-                            _choice_text(args.fringing, tuple(FRINGING_MODELS)))
-    if args.planar:
-        from ...design.coremodel import core_model
-        from ...errors import CaseError
-
-        if core_model(case).axisymmetric:
-            raise CaseError("--planar", None, "this case's field model is axisymmetric (r-z), a "
-                                              "3D one whose gaps fringe all round: there is no "
-                                              "planar form to compare with; leave --planar out")
+    check_hand_options(case, args.fringing, args.planar, names=("--fringing", "--planar"))
     res = run_hand(case, fringing=args.fringing, planar=args.planar)
     print_hand(case, res, text_stream(args.json))
     if args.json:

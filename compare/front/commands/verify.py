@@ -130,13 +130,5 @@ def run(args: argparse.Namespace) -> int:
     if args.junit:
         atomic_write_text(args.junit, junit_xml(res))
     if args.json:
-        write_json(args.json, {
-            "cases": [{"file": o.file, "name": o.name, "status": o.status, "error": o.error,
-                       "seconds": o.seconds, "items": [i.to_dict() for i in o.items],
-                       "saturation_current": list(o.saturation),
-                       "design_passed": o.design_passed,
-                       "agreement_passed": o.agreement_passed,
-                       "known_disagreements": o.known_disagreements} for o in res.outcomes],
-            "design_passed": res.design_passed, "agreement_passed": res.agreement_passed,
-            "exit_code": res.exit_code, "caution": CAUTION})
+        write_json(args.json, res.to_dict())
     return res.exit_code
