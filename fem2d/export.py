@@ -15,7 +15,8 @@ from scipy.constants import mu_0
 
 from .post import b_elements
 
-__all__ = ["vtu_mesh", "write_vtu", "write_vtu_file", "POINT_ARRAYS", "CELL_ARRAYS"]
+__all__ = ["vtu_mesh", "write_vtu", "write_vtu_file", "POINT_ARRAYS", "CELL_ARRAYS",
+           "EARLIER_NAMES"]
 
 POINT_ARRAYS = {
     "planar": {"A_z_Wb_per_m": "the vector potential A_z (Wb/m): the unknown of the planar form"},
@@ -36,8 +37,15 @@ CELL_ARRAYS = {
 }
 """Cell arrays of the VTU: name -> what it holds (unit in the name)."""
 
+EARLIER_NAMES = {"A": ("A_z_Wb_per_m", "rA_phi_Wb_per_rad"), "B": "B_T",
+                 "Bmag": "B_magnitude_T", "H": "H_A_per_m"}
+"""The names earlier versions wrote, kept beside the new ones (the same
+values; ``A`` is A_z in a planar case and r A_phi in an r-z case, as it
+was) so that a script written for them keeps working: old name -> new name
+(planar, r-z for ``A``)."""
 
-def vtu_mesh(sol):
+
+def vtu_mesh(sol, *, earlier_names: bool = True):
     """The solution as a meshio Mesh (arrays named with their units:
     :data:`POINT_ARRAYS`, :data:`CELL_ARRAYS`).
 
@@ -53,6 +61,8 @@ def vtu_mesh(sol):
     nodes 0-1, 1-2, 2-0), P1 3-node triangles.  The open boundary's
     "exterior" ring (a mapped image of the far field, no physical field) is
     left out with its points: every point belongs to a cell (renumbered).
+    ``earlier_names`` adds the same arrays under the names earlier versions
+    wrote (:data:`EARLIER_NAMES`: ``A``, ``B``, ``Bmag``, ``H``).
     """
     import meshio
 
@@ -87,17 +97,22 @@ def vtu_mesh(sol):
     region = np.asarray(sol.mesh.element_region, dtype=np.int32)[keep]
     names = sol.mesh.region_names
     field_data = {str(names[i]): np.array([i, 2], dtype=np.int32) for i in np.unique(region)}
+    cell_data = {
+        "B_T": [np.column_stack([Be[0], Be[1], np.zeros(len(s))])],
+        "B_magnitude_T": [np.sqrt(s)],
+        "H_A_per_m": [np.column_stack([He[0], He[1], np.zeros(len(s))])],
+        "mu_r": [1.0 / (mu_0 * nu)],
+        "region": [region],
+    }
+    if earlier_names:  # the same arrays under the names of earlier versions
+        point_data["A"] = u
+        cell_data.update({old: cell_data[new] for old, new in EARLIER_NAMES.items()
+                          if isinstance(new, str)})
     return meshio.Mesh(
         points=np.column_stack([x, pts[1][used], np.zeros(len(used))]),
         cells=[(ctype, cells.astype(np.int64))],
         point_data=point_data,
-        cell_data={
-            "B_T": [np.column_stack([Be[0], Be[1], np.zeros(len(s))])],
-            "B_magnitude_T": [np.sqrt(s)],
-            "H_A_per_m": [np.column_stack([He[0], He[1], np.zeros(len(s))])],
-            "mu_r": [1.0 / (mu_0 * nu)],
-            "region": [region],
-        },
+        cell_data=cell_data,
         field_data=field_data,
     )
 

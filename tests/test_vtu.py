@@ -9,7 +9,7 @@ import pytest
 
 import magcheck
 from magcheck.fem2d import post
-from magcheck.fem2d.export import CELL_ARRAYS, POINT_ARRAYS
+from magcheck.fem2d.export import CELL_ARRAYS, EARLIER_NAMES, POINT_ARRAYS
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -23,10 +23,17 @@ def _solved_and_read(name: str, tmp_path):
 def _check_structure(sol, m, form: str) -> np.ndarray:
     """Names, units, legend and points; returns the kept elements' indices."""
     asm = sol.assembler
-    assert set(m.point_data) == set(POINT_ARRAYS[form])
-    assert set(m.cell_data) == set(CELL_ARRAYS)
+    earlier = set(EARLIER_NAMES)
+    assert set(m.point_data) == set(POINT_ARRAYS[form]) | {"A"}
+    assert set(m.cell_data) == set(CELL_ARRAYS) | (earlier - {"A"})
+    # the names of earlier versions hold the same values (A: the unknown, as it was)
+    unknown = "A_z_Wb_per_m" if form == "planar" else "rA_phi_Wb_per_rad"
+    np.testing.assert_array_equal(m.point_data["A"], m.point_data[unknown])
+    for old, new in EARLIER_NAMES.items():
+        if isinstance(new, str):
+            np.testing.assert_array_equal(m.cell_data[old][0], m.cell_data[new][0])
     # every array but the two dimensionless ones says its unit in its name
-    for name in (*m.point_data, *m.cell_data):
+    for name in (*(set(m.point_data) - earlier), *(set(m.cell_data) - earlier)):
         assert name in ("mu_r", "region") or name.rsplit("_", 1)[-1] in ("T", "m", "rad") \
             or name.endswith("_per_m") or name.endswith("_per_rad"), name
     # no orphan points: every point is a node of a cell, and no cell is in the exterior ring
