@@ -122,10 +122,17 @@ def key_text(path: Sequence[str | int]) -> str:
     return out
 
 
-def set_key(data: dict, path: tuple[str | int, ...], value: Any, key: str) -> None:
+def set_key(data: dict, path: tuple[str | int, ...], value: Any, key: str, *,
+            create_tables: bool = False) -> None:
+    """Set ``path`` in a case file's parsed tables to ``value``; a CaseError
+    naming ``key`` when the path is not in the file (``create_tables``:
+    missing tables are created, list entries never) or names a table."""
     path = winding_alias(data, path)
     node: Any = data
     for i, part in enumerate(path[:-1]):
+        if (create_tables and isinstance(node, dict) and isinstance(part, str)
+                and part not in node and not isinstance(path[i + 1], int)):
+            node[part] = {}
         try:
             node = node[part]
         except (KeyError, IndexError, TypeError):
@@ -137,7 +144,7 @@ def set_key(data: dict, path: tuple[str | int, ...], value: Any, key: str) -> No
             raise CaseError("key", key, "index out of range in the case file")
         node[last] = value
         return
-    if not isinstance(node, dict):
+    if not isinstance(node, dict) or isinstance(last, int):
         raise CaseError("key", key, "its parent is not a table")
     if isinstance(node.get(last), dict):
         raise CaseError("key", key, f"is a table; vary one of its keys "

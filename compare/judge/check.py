@@ -244,12 +244,7 @@ class CheckResult:
         ImportError
             When pandas is not installed (it is not a dependency of magcheck).
         """
-        try:
-            import pandas as pd
-        except ImportError:
-            raise ImportError("to_dataframe needs pandas, which magcheck does not install: "
-                              "pip install pandas (or use to_dict())") from None
-        return pd.DataFrame([r.to_dict() for r in self.rows]).set_index("quantity")
+        return dataframe([r.to_dict() for r in self.rows], "quantity")
 
 
 NOISE = "within FE noise"
@@ -1175,3 +1170,21 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
                                 "total": t3 - t0},
                        fringing_ranking=ranking, breakdown=breakdown, drive=drive,
                        leakage=leakage, depth=depth)
+
+
+def dataframe(records: list[dict], index: str | None = None) -> Any:
+    """``records`` as a pandas DataFrame (indexed by the column ``index``)
+    for the results' ``to_dataframe``.
+
+    Raises
+    ------
+    ImportError
+        When pandas is not installed (it is not a dependency of magcheck).
+    """
+    try:
+        import pandas as pd
+    except ImportError:
+        raise ImportError("to_dataframe needs pandas, which magcheck does not install: "
+                          "pip install pandas (or use to_dict())") from None
+    frame = pd.DataFrame(records)
+    return frame.set_index(index) if index is not None else frame

@@ -170,7 +170,7 @@ def with_values(src: CaseSource, values: Mapping[str, Any]) -> Case:
                 scales[key] = _scale_factor(value)
                 continue
             _check_drive_key(data, key)
-            _put(data, path, value, key)
+            set_key(data, path, value, key, create_tables=True)
         except CaseError as exc:
             raise CaseError(key, value, exc.reason) from None
     case = case_from_dict(data, base_dir=src.base_dir, source=src.source, sha256="")
@@ -206,31 +206,6 @@ def _scale_factor(value: Any) -> float:
     if not v > 0 or v == float("inf"):
         raise CaseError("key", value, "a B-H scale factor must be positive and finite")
     return float(v)
-
-
-def _put(data: dict, path: tuple[str | int, ...], value: Any, key: str) -> None:
-    """Set a key in the tables, creating missing tables (not list entries)."""
-    from ..design.keys import key_text, winding_alias
-
-    path = winding_alias(data, path)
-    node: Any = data
-    for i, part in enumerate(path[:-1]):
-        if isinstance(node, dict) and isinstance(part, str) and part not in node:
-            if isinstance(path[i + 1], int):
-                raise CaseError("key", key, f"'{key_text(path[:i + 1])}' is not in the case file")
-            node[part] = {}
-        try:
-            node = node[part]
-        except (KeyError, IndexError, TypeError):
-            raise CaseError("key", key, f"'{key_text(path[:i + 1])}' is not in the "
-                                        "case file") from None
-    last = path[-1]
-    if isinstance(node, list):
-        if not isinstance(last, int) or last >= len(node):
-            raise CaseError("key", key, "index out of range in the case file")
-    elif not isinstance(node, dict) or isinstance(last, int):
-        raise CaseError("key", key, "its parent is not a table")
-    node[last] = value
 
 
 def _check_drive_key(data: dict, key: str) -> None:

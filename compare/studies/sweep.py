@@ -163,12 +163,9 @@ class SweepResult:
         ImportError
             When pandas is not installed (it is not a dependency of magcheck).
         """
-        try:
-            import pandas as pd
-        except ImportError:
-            raise ImportError("to_dataframe needs pandas, which magcheck does not install: "
-                              "pip install pandas") from None
-        return pd.DataFrame(sweep_rows(self))
+        from ..judge.check import dataframe
+
+        return dataframe(sweep_rows(self))
 
 
 # --------------------------------------------------------------------------- work
