@@ -110,7 +110,7 @@ class Axisymmetric:
         """Factor m = 1/r in J_phi = sigma m (-j w u + e), u = r A_phi,
         e = V/(2 pi) the turn's voltage per radian (fem2d.harmonic):
         E_phi = -j w A_phi + V/(2 pi r)."""
-        return 1.0 / xy[0]
+        return np.reciprocal(xy[0])
 
     def b(self, g: np.ndarray, xy: np.ndarray) -> np.ndarray:
         """B = (-du/dz, du/dr) / r from grad u, shape (2, ...) (T)."""
