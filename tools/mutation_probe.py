@@ -641,7 +641,7 @@ MUTATIONS: tuple[Mutation, ...] = (
       "((a * a + b * b) * g1 - 4.0 * a * b * g2)",
       "((a * a + b * b) * g1 - 2.0 * a * b * g2)",
       "the face-field layer factor's cross term halved",
-      ("tests/test_harmonic.py::test_interleaved_foils_mmf_pattern",)),
+      ("tests/test_harmonic.py::test_foil_stack_dowell", "tests/test_winding_loss.py")),
 
 )
 
