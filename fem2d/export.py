@@ -14,7 +14,7 @@ from scipy.constants import mu_0
 
 from .post import b_elements
 
-__all__ = ["vtu_mesh", "write_vtu"]
+__all__ = ["vtu_mesh", "write_vtu", "write_mesh"]
 
 
 def vtu_mesh(sol):
@@ -60,9 +60,13 @@ def vtu_mesh(sol):
 def write_vtu(sol, path) -> str:
     """Write `vtu_mesh` of ``sol`` to ``path`` (a temporary file beside it, then a
     rename, mode per the umask). Returns the path written."""
+    return write_mesh(vtu_mesh(sol), path)
+
+
+def write_mesh(m, path) -> str:
+    """Write a meshio Mesh ``m`` as VTU to ``path`` atomically (see `write_vtu`)."""
     import meshio
 
-    m = vtu_mesh(sol)
     path = os.fspath(path)
     folder = os.path.dirname(os.path.abspath(path))
     fd, tmp = tempfile.mkstemp(suffix=".vtu", dir=folder)

@@ -382,3 +382,83 @@ def test_bad_input_names_the_key():
                           coils=(Coil("c", (("wire", 1),)),))
     with pytest.raises(ValueError, match="sign"):
         H.SolidWinding("w", (("wire", 2),))
+
+
+def test_vtu_export(tmp_path):
+    import meshio
+
+    f, hs = wire_solution(3.0)
+    path = H.write_vtu(hs, tmp_path / "wire.vtu")
+    m = meshio.read(path)
+    loss = m.cell_data["loss_density"][0]
+    assert m.point_data["u_re"].shape == (hs.ndofs,)
+    # the hottest cells are at the surface (skin effect): the exported density
+    # is the same field as region_loss integrates
+    asm = hs.problem.asm
+    total = hs.problem.form.total * np.sum(loss * np.sum(asm.wv, axis=1))
+    assert total == pytest.approx(H.region_loss(hs, "wire"), rel=1e-12)
+    assert np.all(m.cell_data["Jmag"][0] >= 0)
+
+
+# ------------------------------------------------------------- r-z foil stack (concentric cylinders)
+def rz_foil_exact(radii, t, height, f, sigma=SIGMA):
+    """Loss (W) per 1 A (peak) of concentric foil cylinders [r_k, r_k + t] in
+    series, full window height, ideal iron outside (H_z = 0 beyond the last
+    foil): the face fields are H_k = (number of foils outside) x I/height
+    (Ampere's law; no current in the gaps), and in each foil
+    H_z = a I0(kr) + b K0(kr), k^2 = j w mu0 sigma (the 1D diffusion equation in
+    r, derived), J_phi = -dH_z/dr; loss = 2 pi height int |J|^2/(2 sigma) r dr."""
+    from scipy.special import iv, kv
+
+    kap = np.sqrt(1j * 2 * math.pi * f * mu_0 * sigma)
+    m = len(radii)
+    total = 0.0
+    for i, r0 in enumerate(radii):
+        r1 = r0 + t
+        h_in, h_out = (m - i) / height, (m - i - 1) / height
+        M = np.array([[iv(0, kap * r0), kv(0, kap * r0)], [iv(0, kap * r1), kv(0, kap * r1)]])
+        a, b = np.linalg.solve(M, np.array([h_in, h_out], dtype=complex))
+        dens = lambda r: abs(kap * (a * iv(1, kap * r) - b * kv(1, kap * r))) ** 2 * r
+        total += 2 * math.pi * height * quad(dens, r0, r1, epsabs=0, epsrel=1e-12)[0] / (2 * sigma)
+    return total
+
+
+def rz_foil_stack(m: int, D: float, r_first: float):
+    t, g = FOIL_T, FOIL_G
+    radii = [r_first + k * (t + g) for k in range(m)]
+    R = radii[-1] + t + g
+    f = freq_for(t / D)
+    regs = [Region("window", (Rect(r_first - g, -R, R, R),), "air")]
+    regs += [Region(f"f{k}", (Rect(r, -R, r + t, R),), "copper") for k, r in enumerate(radii)]
+    lay = Layout(tuple(regs), air=AirBox("rz-box", size=2 * R),
+                 mesh=MeshSettings(size=min(t / 3, H.surface_mesh_size(f, SIGMA)),
+                                   air_size_factor=4.0))
+    wd = H.SolidWinding("w", tuple((f"f{k}", 1) for k in range(m)))
+    hs = H.harmonic_solve(build_mesh(lay), {"copper": AIR}, {f"f{k}": SIGMA for k in range(m)}, f,
+                          currents={"w": 1.0}, windings=(wd,), formulation=Axisymmetric(),
+                          natural_boundary=lambda r, z: r > 1e-12)
+    rdc = sum(2 * math.pi / (SIGMA * 2 * R * math.log((r + t) / r)) for r in radii)
+    return hs, f, radii, 2 * R, rdc
+
+
+@pytest.mark.parametrize("m", [1, 3])
+def test_rz_foil_cylinders(m):
+    """Concentric foil cylinders in a long window (r-z): FE loss against the exact
+    Bessel solution of the 1D radial problem (rz_foil_exact) to 1e-3; that
+    solution tends to Dowell's planar value as the radius grows (curvature:
+    O(t/r); m = 3: -7.6 % at r = 10 t, -0.9 % at 100 t, -0.3 % at 300 t)."""
+    D = 2.0
+    hs, f, radii, height, rdc = rz_foil_stack(m, D, 10 * FOIL_T)
+    z = H.winding_impedance(hs, "w")
+    ref = rz_foil_exact(radii, FOIL_T, height, f)
+    # Source: exact 1D Bessel solution (derived, rz_foil_exact); tolerance 1e-3
+    assert H.total_loss(hs) == pytest.approx(ref, rel=1e-3)
+    assert z.R == pytest.approx(2 * ref, rel=1e-3)
+    # Dowell's planar limit (Proc. IEE 113(8), 1966) of the exact r-z solution:
+    # within 0.5 % at r = 300 t, the FE-checked solution at 10 t further off
+    far = [300 * FOIL_T + k * (FOIL_T + FOIL_G) for k in range(m)]
+    rdc_far = sum(2 * math.pi / (SIGMA * math.log((r + FOIL_T) / r)) for r in far)
+    F_far = 2 * rz_foil_exact(far, FOIL_T, 1.0, f) / rdc_far
+    dowell = float(WL.dowell_factor(D, m))
+    assert F_far == pytest.approx(dowell, rel=5e-3)
+    assert abs(z.R / rdc / dowell - 1) > abs(F_far / dowell - 1)
