@@ -2,8 +2,8 @@
 
 Plain functions, SI units (m, ohm, S/m, Hz, K or degC differences).
 
-Sources
--------
+Sources (docs/references.md section 12)
+---------------------------------------
 - Copper: resistivity 1.724e-8 ohm m at 20 degC, temperature coefficient
   0.00393 /K (IEC 60028, annealed copper standard) [from memory];
   rho(T) = rho_20 (1 + alpha (T - 20)) (the linear law of the same standard).

@@ -6,7 +6,7 @@ rad/s); amplitudes are peak values, so time-average powers carry 1/2.
 Equations (the static forms of fem2d.formulation with the conductors'
 current added; Meunier (ed.), *The Finite Element Method for
 Electromagnetic Modeling*, Wiley/ISTE 2008, chapters on 2D magnetodynamics
-[from memory]; docs/references.md section 10):
+[from memory]; docs/references.md section 12):
 
 planar, unknown A = A_z (Wb/m):
     int nu grad A . grad v dx = int J v dx,
@@ -79,7 +79,7 @@ def skin_depth(frequency: float, conductivity: float, mu_r: float = 1.0) -> floa
     """Skin depth delta = sqrt(2 / (w mu sigma)) (m); w = 2 pi f, f in Hz, sigma
     in S/m (the 1D plane-wave decay length in a good conductor, e.g. Ramo,
     Whinnery, Van Duzer, *Fields and Waves*, from memory; also docs/references.md
-    section 10).  Infinite at f = 0."""
+    section 12).  Infinite at f = 0."""
     f = finite_number("frequency", frequency, SolverInputError)
     s = finite_number("conductivity", conductivity, SolverInputError)
     if f < 0 or s <= 0 or not mu_r > 0:

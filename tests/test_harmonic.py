@@ -301,7 +301,7 @@ def ring_case(law):
 def test_dc_bias_low_frequency_inductance_is_incremental():
     """Saturating ring (1.9 T at the bore) around a stranded wire at 600 A DC:
     the AC inductance at f -> 0 equals the static incremental inductance (same
-    tangent; Source: small-signal linearisation, docs/references.md section 10
+    tangent; Source: small-signal linearisation, docs/references.md section 12
     [derived]); tolerance: the static solve's tolerance (1e-8)."""
     mesh, mats = ring_case(BRAUER)
     sol = solve(mesh, mats, formulation=Planar(1.0), linear_solver="superlu", tol=1e-11)
@@ -356,7 +356,7 @@ def test_linear_core_no_conductors_reproduces_static():
 # ------------------------------------------------------------- helpers and input
 def test_skin_depth_and_mesh_hint():
     # Source: delta = sqrt(2/(w mu sigma)); copper at 100 kHz: 0.21 mm
-    # (docs/references.md section 10 [derived])
+    # (docs/references.md section 12 [derived])
     assert H.skin_depth(1e5, 1 / 1.724e-8) == pytest.approx(0.2089e-3, rel=1e-3)
     assert H.surface_mesh_size(1e5, 1 / 1.724e-8) == pytest.approx(0.2089e-3 / 2, rel=1e-3)
     assert H.skin_depth(0.0, 1e7) == math.inf

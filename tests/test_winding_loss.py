@@ -33,7 +33,7 @@ def test_dc_resistance():
 
 def test_skin_depth_copper():
     # Source: delta = sqrt(2 rho/(w mu0)); copper 20 degC at 50 Hz 9.3 mm, at
-    # 100 kHz 0.21 mm (docs/references.md section 10 [derived])
+    # 100 kHz 0.21 mm (docs/references.md section 12 [derived])
     rho = WL.resistivity(20.0)
     assert WL.skin_depth(50.0, rho) == pytest.approx(9.34e-3, rel=2e-3)
     assert WL.skin_depth(1e5, rho) == pytest.approx(0.2089e-3, rel=2e-3)
