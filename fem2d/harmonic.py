@@ -126,7 +126,8 @@ def mesh_settings_for(settings: MeshSettings, default_size: float, frequency: fl
 
 def size_over_skin_depth(rmesh: RegionMesh, conductivity: dict, frequency: float) -> float:
     """Largest element edge / delta over the conducting regions (0 if none or f = 0):
-    the mesh guard's measure (above ~1 the surface current is under-resolved)."""
+    the mesh guard's measure (above ~1 the surface current is under-resolved).
+    delta with mu_r = 1: a conducting iron part's own delta is sqrt(mu_r) smaller."""
     worst = 0.0
     p, t = rmesh.mesh.p, rmesh.mesh.t
     for name, s in conductivity.items():
@@ -543,7 +544,9 @@ class WindingImpedance:
     Attributes
     ----------
     Z : complex
-        V / I (ohm) from the winding's voltage (solid) or j w lambda (stranded).
+        V / I (ohm) from the winding's voltage (solid) or j w lambda (stranded;
+        a homogenised coil has no resistance of its own in the field model:
+        its R is the loss it induces in the conductors).
     R, L : float
         Re Z (ohm) and Im Z / w (H) (L: nan at f = 0).
     Z_power : complex

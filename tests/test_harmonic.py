@@ -462,3 +462,32 @@ def test_rz_foil_cylinders(m):
     dowell = float(WL.dowell_factor(D, m))
     assert F_far == pytest.approx(dowell, rel=5e-3)
     assert abs(z.R / rdc / dowell - 1) > abs(F_far / dowell - 1)
+
+
+def test_planar_open_pair_low_frequency_is_static_inductance():
+    """Go and return round wires (solid, in series) in open space (planar, the
+    exterior ring): as f -> 0 the current is uniform, so the AC inductance equals
+    the static inductance of the same pair as a stranded coil (identical discrete
+    problems; tolerance: round-off and the static solve's 1e-11); at a/delta = 2
+    proximity and skin effect raise R (exact: R_ac > R_dc) and lower L."""
+    a, d = 1e-3, 3e-3
+    lay = Layout((Region("go", (Disk(-d / 2, 0.0, a),), "copper"),
+                  Region("ret", (Disk(d / 2, 0.0, a),), "copper")),
+                 air=AirBox("disk", open=True, factor=3.0),
+                 mesh=MeshSettings(size=a / 4, air_size_factor=4.0))
+    mesh = build_mesh(lay)
+    coil = Coil("pair", (("go", 1), ("ret", -1)))
+    sol = solve(mesh, {"copper": AIR}, sources=Sources(coils=(coil,)), currents={"pair": 1.0},
+                linear_solver="superlu", tol=1e-11, formulation=Planar(1.0))
+    L_static = post.inductance_matrix(sol).incremental[0, 0]
+    wd = (H.SolidWinding("pair", (("go", 1), ("ret", -1))),)
+    cond = {"go": SIGMA, "ret": SIGMA}
+    z0 = H.winding_impedance(H.harmonic_solve(mesh, {"copper": AIR}, cond, 1e-3, windings=wd,
+                                              currents={"pair": 1.0}), "pair")
+    assert z0.L == pytest.approx(L_static, rel=1e-8)
+    rdc = 2 / (SIGMA * math.pi * a * a)
+    assert z0.R == pytest.approx(rdc, rel=1e-3)  # polygonal area of the P2 disks: ~1e-5
+    z1 = H.winding_impedance(H.harmonic_solve(mesh, {"copper": AIR}, cond, freq_for(a / 2),
+                                              windings=wd, currents={"pair": 1.0}), "pair")
+    assert z1.R > 1.2 * z0.R and z1.L < z0.L
+    assert abs(z1.Z_power / z1.Z - 1) < 1e-9  # the exterior ring's energy included
