@@ -360,8 +360,10 @@ def test_skin_depth_and_mesh_hint():
     assert H.skin_depth(1e5, 1 / 1.724e-8) == pytest.approx(0.2089e-3, rel=1e-3)
     assert H.surface_mesh_size(1e5, 1 / 1.724e-8) == pytest.approx(0.2089e-3 / 2, rel=1e-3)
     assert H.skin_depth(0.0, 1e7) == math.inf
-    ms = H.mesh_settings_for(MeshSettings(), 1e-3, 1e5, 1 / 1.724e-8)
-    assert ms.size == pytest.approx(0.2089e-3 / 2, rel=1e-3)
+    ms = H.mesh_settings_for(MeshSettings(), {"coil": 1 / 1.724e-8, "core": 0.0}, 1e5)
+    (name, size, band), = ms.surface_sizes
+    assert name == "coil" and size == pytest.approx(0.2089e-3 / 2, rel=1e-3)
+    assert band == pytest.approx(3 * 0.2089e-3, rel=1e-3)
     with pytest.raises(ValueError, match="frequency"):
         H.skin_depth(-1.0, 1e7)
 
@@ -491,3 +493,47 @@ def test_planar_open_pair_low_frequency_is_static_inductance():
                                               windings=wd, currents={"pair": 1.0}), "pair")
     assert z1.R > 1.2 * z0.R and z1.L < z0.L
     assert abs(z1.Z_power / z1.Z - 1) < 1e-9  # the exterior ring's energy included
+
+
+def test_surface_refinement_thin_skin():
+    """a/delta = 10 with a coarse wire (a/4) and the skin-depth band
+    (MeshSettings.surface_sizes from mesh_settings_for): within 1e-3 of the
+    Bessel solution (measured below), with fewer DOFs than a uniform delta/2."""
+    ad = 10.0
+    f = freq_for(A_W / ad)
+    ms = H.mesh_settings_for(MeshSettings(size=A_W / 4, air_size_factor=2.0), {"wire": SIGMA}, f)
+    lay = Layout((Region("wire", (Disk(0.0, 0.0, A_W),), "copper", kind="coil"),),
+                 air=AirBox("disk", size=2 * R_W), mesh=ms)
+    from magcheck.fem2d.mesher import estimate_triangles
+
+    mesh = build_mesh(lay)
+    # the mesh guard's estimate covers the band (within the guard's usual ratio)
+    assert 0.75 < mesh.nelements / estimate_triangles(lay) < 1.33
+    hs = H.harmonic_solve(mesh, {"copper": AIR}, {"wire": SIGMA}, f, currents={"w": 1.0},
+                          windings=(H.SolidWinding("w", (("wire", 1),)),), formulation=Planar(1.0))
+    z = H.winding_impedance(hs, "w")
+    zi = z.Z - 1j * 2 * math.pi * f * mu_0 / (2 * math.pi) * math.log(R_W / A_W)
+    ref = wire_internal_impedance(f)
+    # Source: exact Bessel solution; tolerance 1e-3 as for the uniform mesh
+    assert zi.real == pytest.approx(ref.real, rel=1e-3)
+    assert zi.imag == pytest.approx(ref.imag, rel=1e-3)
+    assert hs.ndofs < 12215  # the uniform delta/2 mesh's DOFs (wire_solution(10))
+
+
+def test_mesh_guard_warns_on_an_unresolved_skin(caplog):
+    """Elements a/4 at a/delta = 10 (2.5 skin depths; measure 1.5): the solve
+    logs the guard's warning; the refined band does not."""
+    f = freq_for(A_W / 10.0)
+    lay = Layout((Region("wire", (Disk(0.0, 0.0, A_W),), "copper"),),
+                 air=AirBox("disk", size=2 * R_W), mesh=MeshSettings(size=A_W / 4))
+    with caplog.at_level("WARNING", logger="magcheck.fem2d.harmonic"):
+        prob = H.HarmonicProblem(build_mesh(lay), {"copper": AIR}, {"wire": SIGMA}, f)
+    assert prob.size_over_delta > 1.2
+    assert "skin depths" in caplog.text
+    caplog.clear()
+    lay = Layout(lay.regions, air=lay.air,
+                 mesh=H.mesh_settings_for(lay.mesh, {"wire": SIGMA}, f))
+    with caplog.at_level("WARNING", logger="magcheck.fem2d.harmonic"):
+        prob = H.HarmonicProblem(build_mesh(lay), {"copper": AIR}, {"wire": SIGMA}, f)
+    assert prob.size_over_delta < H.MAX_SIZE_OVER_DELTA
+    assert "skin depths" not in caplog.text
