@@ -537,3 +537,32 @@ def test_mesh_guard_warns_on_an_unresolved_skin(caplog):
         prob = H.HarmonicProblem(build_mesh(lay), {"copper": AIR}, {"wire": SIGMA}, f)
     assert prob.size_over_delta < H.MAX_SIZE_OVER_DELTA
     assert "skin depths" not in caplog.text
+
+
+def test_planar_passive_plate_floats():
+    """A copper plate beside a stranded AC coil (planar, closed box): a passive
+    planar conductor is a bar whose current closes at its ends, so its net
+    current is 0 (its own E unknown) while eddy currents flow in it (loss > 0);
+    the coil's R is that loss: R = 2 P / |I|^2 (complex power, exact)."""
+    lay = Layout((Region("coil", (Rect(-1e-3, -1e-3, 1e-3, 1e-3),), "copper"),
+                  Region("plate", (Rect(2e-3, -3e-3, 3e-3, 3e-3),), "copper")),
+                 air=AirBox("box", factor=3.0), mesh=MeshSettings(size=0.25e-3))
+    coil = Coil("c", (("coil", 1),), 10.0)
+    f = freq_for(0.5e-3)
+    hs = H.harmonic_solve(build_mesh(lay), {"copper": AIR}, {"plate": SIGMA}, f, coils=(coil,),
+                          currents={"c": 1.0}, formulation=Planar(1.0))
+    J = H.current_density(hs)
+    idx = hs.problem.mesh.subdomains["plate"]
+    scale = float(np.sum(np.abs(J[idx]) * hs.problem.asm.dx[idx]))
+    assert abs(hs.conductor_current("plate")) < 1e-9 * scale
+    P = H.region_loss(hs, "plate")
+    assert P > 0
+    assert H.winding_impedance(hs, "c").R == pytest.approx(2 * P, rel=1e-9)
+
+
+def test_surface_sizes_bad_input():
+    with pytest.raises(ValueError, match="surface_sizes"):
+        MeshSettings(surface_sizes=(("wire", -1.0, 0.0),))
+    with pytest.raises(ValueError, match="'nowhere'"):
+        Layout((Region("wire", (Disk(0.0, 0.0, 1e-3),), "copper"),),
+               mesh=MeshSettings(surface_sizes=(("nowhere", 1e-4, 1e-4),)))

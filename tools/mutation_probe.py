@@ -642,7 +642,15 @@ MUTATIONS: tuple[Mutation, ...] = (
       "((a * a + b * b) * g1 - 2.0 * a * b * g2)",
       "the face-field layer factor's cross term halved",
       ("tests/test_harmonic.py::test_foil_stack_dowell", "tests/test_winding_loss.py")),
-
+    M("harmonic-passive-grounded", "fem2d/harmonic.py",
+      'if form.name == "planar":', 'if form.name == "never":',
+      "a passive planar conductor without its net-current constraint (current returns at infinity)",
+      ("tests/test_harmonic.py::test_planar_passive_plate_floats",)),
+    M("harmonic-series-sign", "fem2d/harmonic.py",
+      "return complex(sum(s * hs.conductor_voltage(r) for r, s in wd.conductors))",
+      "return complex(sum(hs.conductor_voltage(r) for r, s in wd.conductors))",
+      "a winding's voltage sums its conductors without their go/return signs",
+      ("tests/test_harmonic.py",)),
 )
 
 
