@@ -67,8 +67,8 @@ from .sources import Background, Coil
 
 __all__ = ["SolidWinding", "HarmonicProblem", "HarmonicSolution", "WindingImpedance",
            "ImpedanceMatrix", "harmonic_solve", "full_tangent", "current_density", "b_field",
-           "loss_density", "region_loss", "conductor_losses", "total_loss", "magnetic_energy",
-           "winding_impedance", "impedance_matrix", "skin_depth", "surface_mesh_size",
+           "loss_density", "region_loss", "winding_loss", "conductor_losses", "total_loss",
+           "magnetic_energy", "winding_impedance", "impedance_matrix", "skin_depth", "surface_mesh_size",
            "mesh_settings_for", "size_over_skin_depth", "vtu_mesh", "write_vtu"]
 
 logger = logging.getLogger(__name__)
@@ -283,8 +283,6 @@ class HarmonicProblem:
         f = finite_number("frequency", frequency, SolverInputError)
         if f < 0:
             raise SolverInputError(f"frequency = {frequency!r} Hz must be >= 0")
-        self.frequency = f
-        self.omega = w = 2.0 * math.pi * f
         if operating_point is not None:
             if not operating_point.converged:
                 raise SolverInputError("operating_point: the static solution did not converge")
@@ -342,7 +340,6 @@ class HarmonicProblem:
         Me = np.einsum("ieq,eq,jeq->eij", Phi, weight, Phi)
         M = _scatter(asm, Me)
         self.K, self.M = K, M
-        self.Z = (K + 1j * w * M).tocsr()
         # Dirichlet / free DOFs
         D = asm.D
         if natural_boundary is not None:
@@ -354,17 +351,24 @@ class HarmonicProblem:
         mask = np.ones(asm.ndofs, dtype=bool)
         mask[D] = False
         self.D, self.I = D, np.nonzero(mask)[0]
-        I = self.I
-        nc = len(conds)
+        self.timings = {"assemble": time.perf_counter() - t0}
+        self._factorise(f)
+
+    def _factorise(self, f: float) -> None:
+        """Form and factorise the bordered system at frequency f (Hz)."""
+        t1 = time.perf_counter()
+        self.frequency = f
+        self.omega = w = 2.0 * math.pi * f
+        self.Z = (self.K + 1j * w * self.M).tocsr()
+        I, conds = self.I, self.conductors
         ZII = self.Z[I][:, I]
-        if nc:
+        if conds:
             Bc = np.stack([c.b[I] for c in conds], axis=1)  # (nI, nc)
             top = sp.hstack([ZII, sp.csr_matrix(-Bc)])
             bot = sp.hstack([sp.csr_matrix(-1j * w * Bc.T), sp.diags([c.G for c in conds])])
             S = sp.vstack([top, bot]).tocsc()
         else:
             S = ZII.tocsc()
-        t1 = time.perf_counter()
         # one BLAS thread (as the static solve): threaded BLAS inside SuperLU
         # was 10-15x slower on 2 shared cores; minimum degree on S + S^T in
         # symmetric mode (S is structurally symmetric): 12k P2 DOFs 0.3 s
@@ -372,14 +376,27 @@ class HarmonicProblem:
         with threadpool_limits(limits=1):
             self.lu = splu(S.astype(complex), permc_spec="MMD_AT_PLUS_A",
                            options=dict(SymmetricMode=True))
-        t2 = time.perf_counter()
-        self.timings = {"assemble": t1 - t0, "factorise": t2 - t1}
+        self.timings = dict(self.timings, factorise=time.perf_counter() - t1)
         self.nunknowns = S.shape[0]
-        self.size_over_delta = size_over_skin_depth(mesh, conductivity, f)
+        self.size_over_delta = size_over_skin_depth(self.mesh, self.conductivity, f)
         if self.size_over_delta > MAX_SIZE_OVER_DELTA:
             logger.warning("harmonic: elements up to %.2f skin depths in the conductors at "
                            "%.4g Hz (resolve delta: fem2d.harmonic.surface_mesh_size)",
                            self.size_over_delta, f)
+
+    def at_frequency(self, frequency: float) -> "HarmonicProblem":
+        """The same problem at another frequency (Hz): the operators K and M, the
+        conductors and the boundary are reused, only the factorisation is new
+        (a frequency sweep on one mesh)."""
+        import copy
+
+        f = finite_number("frequency", frequency, SolverInputError)
+        if f < 0:
+            raise SolverInputError(f"frequency = {frequency!r} Hz must be >= 0")
+        other = copy.copy(self)
+        other.timings = {"assemble": 0.0}
+        other._factorise(f)
+        return other
 
     def _conductor(self, region: str, winding, sign: int, weight: np.ndarray) -> _Conductor:
         asm = self.asm
@@ -538,6 +555,14 @@ def loss_density(hs: HarmonicSolution) -> np.ndarray:
     with np.errstate(divide="ignore", invalid="ignore"):
         q = np.where(p.sigma[:, None] > 0, 0.5 * np.abs(J) ** 2 / p.sigma[:, None], 0.0)
     return q
+
+
+def winding_loss(hs: HarmonicSolution, name: str) -> float:
+    """Loss (W) in the conductors of solid winding ``name``."""
+    for wd in hs.problem.windings:
+        if wd.name == name:
+            return region_loss(hs, [r for r, _ in wd.conductors])
+    raise PostError(f"winding {name!r}: no such solid winding")
 
 
 def region_loss(hs: HarmonicSolution, regions) -> float:

@@ -566,3 +566,18 @@ def test_surface_sizes_bad_input():
     with pytest.raises(ValueError, match="'nowhere'"):
         Layout((Region("wire", (Disk(0.0, 0.0, 1e-3),), "copper"),),
                mesh=MeshSettings(surface_sizes=(("nowhere", 1e-4, 1e-4),)))
+
+
+def test_frequency_sweep_reuses_the_operators():
+    """at_frequency: the same answers as a fresh problem (K, M and the
+    conductors reused); winding_loss sums its conductors."""
+    m, D = 2, 1.0
+    hs1, rdc = foil_stack(m, D)
+    prob2 = hs1.problem.at_frequency(4 * hs1.problem.frequency)  # h/delta = 2
+    z2 = H.winding_impedance(prob2.solve({"w": 1.0}), "w")
+    # Source: Dowell, Proc. IEE 113(8), 1966 (exact for this 1D problem);
+    # the mesh is the h/delta = 1 one (t/3): tolerance 2e-3
+    assert z2.R / rdc == pytest.approx(float(WL.dowell_factor(2 * D, m)), rel=2e-3)
+    assert hs1.problem.frequency != prob2.frequency
+    assert H.winding_loss(hs1, "w") == pytest.approx(H.total_loss(hs1), rel=1e-12)
+    assert prob2.timings["assemble"] == 0.0
