@@ -610,7 +610,7 @@ MUTATIONS: tuple[Mutation, ...] = (
       "the eddy-current loss density without the 1/2 of peak phasors",
       ("tests/test_harmonic.py",)),
     M("harmonic-jw-sign", "fem2d/harmonic.py",
-      "self.Z = (K + 1j * w * M).tocsr()", "self.Z = (K - 1j * w * M).tocsr()",
+      "self.Z = (self.K + 1j * w * self.M).tocsr()", "self.Z = (self.K - 1j * w * self.M).tocsr()",
       "the eddy term -j w sigma A with the wrong sign (e^{-j w t} operator, e^{j w t} rest)",
       ("tests/test_harmonic.py",)),
     M("harmonic-constraint-sign", "fem2d/harmonic.py",
