@@ -246,7 +246,8 @@ class _Conductor:
     region: str
     winding: str | None  # None: passive (net current 0, planar)
     sign: int
-    b: np.ndarray  # int_c sigma m phi_i dx, full DOFs
+    dofs: np.ndarray  # the conductor's DOFs
+    b: np.ndarray  # int_c sigma m phi_i dx on those DOFs
     G: float  # int_c sigma m dx
 
 
@@ -334,6 +335,13 @@ class HarmonicProblem:
             for r in self.passive:
                 conds.append(self._conductor(r, None, 1, weight))
         self.conductors = tuple(conds)
+        # the conductors' columns b_c (ndofs x nc, sparse: each lives on its own DOFs)
+        self.B = sp.csr_matrix(
+            (np.concatenate([c.b for c in conds]) if conds else np.zeros(0),
+             (np.concatenate([c.dofs for c in conds]) if conds else np.zeros(0, dtype=np.int64),
+              np.concatenate([np.full(len(c.dofs), k) for k, c in enumerate(conds)])
+              if conds else np.zeros(0, dtype=np.int64))),
+            shape=(asm.ndofs, len(conds)))
         # operators on all DOFs
         K = full_tangent(asm, A0)
         Phi = asm.Phi  # (nloc, ne, nq)
@@ -363,9 +371,9 @@ class HarmonicProblem:
         I, conds = self.I, self.conductors
         ZII = self.Z[I][:, I]
         if conds:
-            Bc = np.stack([c.b[I] for c in conds], axis=1)  # (nI, nc)
-            top = sp.hstack([ZII, sp.csr_matrix(-Bc)])
-            bot = sp.hstack([sp.csr_matrix(-1j * w * Bc.T), sp.diags([c.G for c in conds])])
+            Bc = self.B[I]  # (nI, nc), sparse
+            top = sp.hstack([ZII, -Bc])
+            bot = sp.hstack([-1j * w * Bc.T, sp.diags([c.G for c in conds])])
             S = sp.vstack([top, bot]).tocsc()
         else:
             S = ZII.tocsc()
@@ -402,8 +410,9 @@ class HarmonicProblem:
         asm = self.asm
         idx = asm.rmesh.subdomains[region]
         loc = np.einsum("ieq,eq->ie", asm.Phi[:, idx], weight[idx])
-        b = np.bincount(asm.dofs[:, idx].ravel(), weights=loc.ravel(), minlength=asm.ndofs)
-        return _Conductor(region, winding, sign, b, float(weight[idx].sum()))
+        dofs, inv = np.unique(asm.dofs[:, idx].ravel(), return_inverse=True)
+        b = np.bincount(inv, weights=loc.ravel(), minlength=len(dofs))
+        return _Conductor(region, winding, sign, dofs, b, float(weight[idx].sum()))
 
     # ---------------------------------------------------------------- solve
     def solve(self, currents: dict | None = None, *, background: Background | None = None,
@@ -446,9 +455,9 @@ class HarmonicProblem:
                 load += cur[c.name] * asm.coil_load(c)
         I = self.I
         rhs_u = load[I] - self.Z[I][:, self.D] @ u[self.D]
-        rhs_c = np.array([(cur[c.winding] * c.sign if c.winding is not None else 0.0)
-                          + 1j * w * (c.b[self.D] @ u[self.D]) for c in self.conductors],
-                         dtype=complex)
+        rhs_c = (np.array([cur[c.winding] * c.sign if c.winding is not None else 0.0
+                           for c in self.conductors], dtype=complex)
+                 + 1j * w * (self.B[self.D].T @ u[self.D]))
         with threadpool_limits(limits=1):
             x = self.lu.solve(np.concatenate([rhs_u, rhs_c]))
         u[I] = x[:len(I)]
