@@ -15,8 +15,8 @@ from scipy.constants import mu_0
 
 from .post import b_elements
 
-__all__ = ["vtu_mesh", "write_vtu", "write_vtu_file", "POINT_ARRAYS", "CELL_ARRAYS",
-           "EARLIER_NAMES"]
+__all__ = ["vtu_mesh", "write_vtu", "write_vtu_file", "write_mesh", "POINT_ARRAYS",
+           "CELL_ARRAYS", "EARLIER_NAMES"]
 
 POINT_ARRAYS = {
     "planar": {"A_z_Wb_per_m": "the vector potential A_z (Wb/m): the unknown of the planar form"},
@@ -145,7 +145,13 @@ def write_vtu_file(mesh, path) -> None:
 def write_vtu(sol, path) -> str:
     """Write `vtu_mesh` of ``sol`` to ``path`` (a temporary file beside it, then a
     rename, mode per the umask). Returns the path written."""
-    m = vtu_mesh(sol)
+    return write_mesh(vtu_mesh(sol), path)
+
+
+def write_mesh(m, path) -> str:
+    """Write a meshio Mesh ``m`` as VTU (with its field data, :func:`write_vtu_file`)
+    to ``path`` atomically: a temporary file beside it, then a rename, mode per
+    the umask.  Returns the path written."""
     path = os.fspath(path)
     folder = os.path.dirname(os.path.abspath(path))
     fd, tmp = tempfile.mkstemp(suffix=".vtu", dir=folder)

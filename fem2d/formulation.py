@@ -61,6 +61,11 @@ class Planar:
         """Weight of dx in volume integrals (None: 1)."""
         return None
 
+    def eddy_weight(self, xy: np.ndarray) -> np.ndarray | None:
+        """Factor m(x) in the conductor's J = sigma m (-j w A + E) (None: 1):
+        E the voltage per metre of the conductor (V/m) (fem2d.harmonic)."""
+        return None
+
     def b(self, g: np.ndarray, xy: np.ndarray) -> np.ndarray:
         """B = (dA/dy, -dA/dx) from grad A, shape (2, ...) (T)."""
         return np.stack([g[1], -g[0]])
@@ -100,6 +105,12 @@ class Axisymmetric:
 
     def volume_weight(self, xy: np.ndarray) -> np.ndarray:
         return xy[0]
+
+    def eddy_weight(self, xy: np.ndarray) -> np.ndarray:
+        """Factor m = 1/r in J_phi = sigma m (-j w u + e), u = r A_phi,
+        e = V/(2 pi) the turn's voltage per radian (fem2d.harmonic):
+        E_phi = -j w A_phi + V/(2 pi r)."""
+        return np.reciprocal(xy[0])
 
     def b(self, g: np.ndarray, xy: np.ndarray) -> np.ndarray:
         """B = (-du/dz, du/dr) / r from grad u, shape (2, ...) (T)."""

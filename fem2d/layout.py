@@ -433,6 +433,11 @@ class MeshSettings:
         gmsh meshing threads (surfaces in parallel).  Default 1: gmsh's
         OpenMP thread pool is not fork-safe, so a process that meshed with
         threads > 1 must not later fork worker processes that mesh.
+    surface_sizes : tuple of (region name, size, band)
+        Finer elements along a region's boundary (m): ``size`` within
+        ``band`` of it on both sides, graded back to the region size by
+        ``grading`` beyond (a conductor's skin depth: fem2d.harmonic.
+        surface_mesh_size).  Sizes above the region size change nothing.
     """
 
     size: float | None = None
@@ -441,8 +446,24 @@ class MeshSettings:
     air_size_factor: float = 8.0
     order: int = 2
     threads: int = 1
+    surface_sizes: tuple = ()
 
     def __post_init__(self) -> None:
+        out = []
+        for item in tuple(self.surface_sizes):
+            try:
+                name, size, band = item
+            except (TypeError, ValueError):
+                raise LayoutError(f"mesh: surface_sizes entry {item!r} must be "
+                                  "(region name, size, band)") from None
+            if not isinstance(name, str) or not name:
+                raise LayoutError(f"mesh: surface_sizes region {name!r} must be a region name")
+            size = _positive("mesh", f"surface_sizes[{name!r}] size", size)
+            band = _finite("mesh", f"surface_sizes[{name!r}] band", band)
+            if band < 0:
+                raise LayoutError(f"mesh: surface_sizes[{name!r}] band = {band!r} must be >= 0")
+            out.append((name, size, band))
+        object.__setattr__(self, "surface_sizes", tuple(out))
         if not isinstance(self.threads, int) or self.threads < 1:
             raise LayoutError(f"mesh: threads = {self.threads!r} must be an int >= 1")
         if self.size is not None:
@@ -478,6 +499,10 @@ class Layout:
                 raise LayoutError(f"region {r.name!r}: duplicate name {r.name!r}")
             seen.add(r.name)
         _positive("layout", "depth", self.depth)
+        for name, _, _ in self.mesh.surface_sizes:
+            if name not in seen:
+                raise LayoutError(f"mesh: surface_sizes region {name!r} is not a region "
+                                  f"(have {sorted(seen)})")
         # every region must lie inside the air domain
         cx, cy, half = self.air_geometry()
         for r in regions:
