@@ -110,6 +110,20 @@ def test_with_values_needs_the_reader_s_tables():
         magcheck.sweep(bare, "winding.current=1A,2A", with_fe=False)
 
 
+def test_studies_refuse_a_case_changed_by_replace():
+    # the studies derive their cases from the tables the case was read from;
+    # a case changed with dataclasses.replace since is no longer described by
+    # them: sweeping it silently swept the file's 0.6 mm gap instead of 2 mm
+    case = magcheck.load(CHOKE)
+    gaps = (dataclasses.replace(case.gaps[0], length=2e-3),)
+    changed = dataclasses.replace(case, gaps=gaps)
+    for study in (lambda c: magcheck.sweep(c, "winding.current=1A,2A", with_fe=False),
+                  lambda c: magcheck.tolerance(c, samples=2, fe_samples=0),
+                  lambda c: magcheck.verify(c, estimate_error=False)):
+        with pytest.raises(magcheck.CaseError, match="changed with dataclasses.replace"):
+            study(changed)
+
+
 # -------------------------------------------------------- path, tables or Case
 def test_every_entry_point_takes_a_path_tables_or_a_case():
     data = tomllib.loads(CHOKE.read_text())

@@ -66,7 +66,11 @@ def _read(source: CaseLike, base_dir: str | Path | None = None,
 
     if isinstance(source, Case):
         origin = source.origin
-        return (origin.source if isinstance(origin, Origin) else None), source
+        if isinstance(origin, Origin) and origin.case == source:
+            return origin.source, source
+        # built directly, or changed with dataclasses.replace since it was read:
+        # its tables (if any) no longer describe it
+        return None, source
     if isinstance(source, dict):
         return case_from_tables(source, base_dir)
     if isinstance(source, (str, Path)):
@@ -79,8 +83,11 @@ def _tables(source: CaseLike, what: str) -> tuple["CaseSource", Case]:
     """The tables and the case, for the studies that derive varied cases."""
     src, case = _read(source)
     if src is None:
+        how = ("was changed with dataclasses.replace after it was read (its tables no longer "
+               "describe it; make every change with case.with_values)"
+               if case.origin is not None else "was built directly")
         raise CaseError(what, None, "needs a case read by magcheck.load (its tables give the "
-                                    "varied cases): this Case was built directly")
+                                    f"varied cases): this Case {how}")
     return src, case
 
 
