@@ -152,3 +152,26 @@ def test_pyproject_installs_every_package_folder():
         for part in PARTS for p in (ROOT / part).rglob("__init__.py")}
     assert set(conf["packages"]) == want
     assert conf["package-dir"] == {"magcheck": "magcheck", **{f"magcheck.{p}": p for p in PARTS}}
+
+
+def test_nothing_imports_the_parts_by_their_bare_folder_names():
+    """``import fem2d`` or ``from compare.design...`` works in a checkout (the
+    repository root is on sys.path) and nowhere else: installed, only
+    ``magcheck.*`` exists, and in a checkout it would load a second copy of
+    the module beside ``magcheck.*``'s.  The graph above ignores such names."""
+    bare = set(PARTS)
+    files = [p for folder in ("magcheck", *PARTS, "tests", "tools", "bench")
+             for p in (ROOT / folder).rglob("*.py")]
+    bad = []
+    for path in files:
+        for node in ast.walk(ast.parse(path.read_text(encoding="utf-8"))):
+            if isinstance(node, ast.ImportFrom) and not node.level:
+                names = [node.module or ""]
+            elif isinstance(node, ast.Import):
+                names = [a.name for a in node.names]
+            else:
+                continue
+            bad += [f"{path.relative_to(ROOT)}:{node.lineno} imports {n}"
+                    for n in names if n.split(".")[0] in bare]
+    assert len(files) > 100  # the walk saw the tree
+    assert bad == []
