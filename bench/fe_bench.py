@@ -21,7 +21,17 @@ import time
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 # the engine under test: this tree, or the worktree of --against
-sys.path.insert(0, os.environ.get("FE_BENCH_TREE") or os.path.dirname(HERE))
+TREE = os.path.abspath(os.environ.get("FE_BENCH_TREE") or os.path.dirname(HERE))
+sys.path.insert(0, TREE)
+if not os.path.isdir(os.path.join(TREE, "magcheck")):
+    # a revision from before the one package: its engine is the top-level
+    # folder fem2d/ (relative imports inside); load it as magcheck.fem2d from
+    # there, or an installed magcheck would be measured in its place
+    import types
+
+    _root = types.ModuleType("magcheck")
+    _root.__path__ = [TREE]
+    sys.modules["magcheck"] = _root
 
 # invented for the demo: a steel-like Brauer law (mu_r(0) ~ 2000, ~1.9 T at 20 kA/m)
 K1, K2, K3 = 3.8, 2.17, 396.2
@@ -83,6 +93,9 @@ def run_case(size, order, solver, NI_low, NI_high, geometry="planar"):
     from magcheck.fem2d.mesh import build_mesh
     from magcheck.fem2d.solver import solve
 
+    engine = os.path.abspath(post.__file__)
+    if not engine.startswith(os.path.join(TREE, "")):
+        raise SystemExit(f"fe_bench: the engine imported is {engine}, not the one under {TREE}")
     t0 = time.perf_counter()
     rz = geometry == "rz"
     rm = build_mesh(pot_core(size, order) if rz else window_core(size, order))
