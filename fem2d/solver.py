@@ -277,7 +277,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
     if sources is None:
         sources = Sources.from_layout(mesh.layout)
     elif not isinstance(sources, Sources):
-        raise SolverInputError(f"sources = {sources!r} must be a fem2d.sources.Sources")
+        raise SolverInputError(f"sources = {sources!r} must be a magcheck.fem2d.sources.Sources")
     cur = sources.currents(currents)
     asm = Assembler(mesh, materials, None, formulation, magnets=sources.magnets)
     asm.set_load(_load(asm, sources, cur))
