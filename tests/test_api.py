@@ -273,3 +273,23 @@ def test_verify_takes_a_case(tmp_path):
     assert res.exit_code == 0 and magcheck.to_json(res)["cases"][0]["name"] == "demo-choke"
     with pytest.raises(KeyError, match="known: demo-choke"):
         res["other"]
+
+
+def test_to_json_of_a_sweep_and_a_tolerance_study_is_the_cli_json(tmp_path):
+    # the documents of `magcheck sweep --json` and `magcheck tolerance --json`
+    # (run time and executor aside: they describe the run, not the result)
+    def same(doc):
+        return {k: v for k, v in doc.items() if k not in ("seconds", "executor", "workers")}
+
+    margins = ROOT / "cases/demo_choke_margins.toml"
+    assert main(["sweep", str(margins), "--hand-only", "--json", str(tmp_path / "s.json")]) in (0, 1)
+    cli = json.loads((tmp_path / "s.json").read_text())
+    sw = magcheck.sweep(str(margins), with_fe=False)   # the case's own [sweep] and its drops
+    assert same(magcheck.to_json(sw)) == same(cli)
+    assert cli["saturation_current"]  # the saturation table is in both
+    assert main(["tolerance", str(margins), "--samples", "4", "--seed", "3", "--fe-samples", "0",
+                 "--json", str(tmp_path / "t.json")]) == 0
+    cli = json.loads((tmp_path / "t.json").read_text())
+    tol = magcheck.tolerance(str(margins), samples=4, seed=3, fe_samples=0)
+    assert same(magcheck.to_json(tol)) == same(cli)
+    assert cli["samples"] == 4 and len(cli["passed"]) == 4

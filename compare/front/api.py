@@ -280,15 +280,33 @@ def to_json(result: Any) -> dict:
     """The JSON form of a result as the CLI writes it (standard JSON types, a
     missing value None): a check's document (``magcheck check --json``,
     ``CheckResult.to_dict``), a hand result's block (the ``hand`` entry of
-    ``magcheck hand --json``) or a verify run's document (``magcheck verify --json``)."""
+    ``magcheck hand --json``), a verify run's document (``magcheck verify --json``),
+    a sweep's (``magcheck sweep --json``: the margins and saturation currents
+    at the case's ``[sweep]`` drops when the sweep is the case's own, else at
+    10/20/30 % of the incremental inductance) or a tolerance study's
+    (``magcheck tolerance --json``)."""
     from ..judge.check import CheckResult
     from ..judge.document import json_ready
     from ..models.hand import HandResult
+    from ..studies.sweep import SweepResult
+    from ..studies.tolerance import ToleranceResult
     from ..studies.verify import VerifyResult
 
     if isinstance(result, CheckResult):
         return result.to_dict()
     if isinstance(result, (HandResult, VerifyResult)):
         return json_ready(result.to_dict())
-    raise TypeError(f"to_json: a CheckResult, HandResult or VerifyResult, not "
-                    f"{type(result).__name__}")
+    if isinstance(result, SweepResult):
+        from .commands.sweep import sweep_json
+
+        decl = result.case.sweeps[0] if result.case.sweeps else None
+        own = decl is not None and list(decl.vary) == [s.spec for s in result.specs]
+        drops, kind = ((decl.drops, decl.inductance) if own and decl is not None
+                       else ((0.10, 0.20, 0.30), "incremental"))
+        return json_ready(sweep_json(result, *result.margins(drops, kind)))
+    if isinstance(result, ToleranceResult):
+        from .commands.tolerance import tolerance_json
+
+        return json_ready(tolerance_json(result))
+    raise TypeError(f"to_json: a CheckResult, HandResult, VerifyResult, SweepResult or "
+                    f"ToleranceResult, not {type(result).__name__}")

@@ -1185,6 +1185,6 @@ def dataframe(records: list[dict], index: str | None = None) -> Any:
         import pandas as pd
     except ImportError:
         raise ImportError("to_dataframe needs pandas, which magcheck does not install: "
-                          "pip install pandas (or use to_dict())") from None
+                          "pip install pandas (or use magcheck.to_json(result))") from None
     frame = pd.DataFrame(records)
     return frame.set_index(index) if index is not None else frame
