@@ -293,3 +293,12 @@ def test_to_json_of_a_sweep_and_a_tolerance_study_is_the_cli_json(tmp_path):
     tol = magcheck.tolerance(str(margins), samples=4, seed=3, fe_samples=0)
     assert same(magcheck.to_json(tol)) == same(cli)
     assert cli["samples"] == 4 and len(cli["passed"]) == 4
+
+
+def test_python_m_magcheck_is_the_command():
+    run = subprocess.run([sys.executable, "-m", "magcheck", "hand", str(CHOKE)], cwd=ROOT,
+                         capture_output=True, text=True)
+    assert run.returncode == 0 and "demo-choke" in run.stdout
+    bad = subprocess.run([sys.executable, "-m", "magcheck", "hand", "nope.toml"], cwd=ROOT,
+                         capture_output=True, text=True)
+    assert bad.returncode == 2 and bad.stderr.count("\n") == 1 and "nope.toml" in bad.stderr
