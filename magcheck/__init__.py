@@ -47,7 +47,7 @@ __version__ = _version()
 
 
 _API = ("load", "hand", "fe", "check", "sweep", "tolerance", "verify", "report", "write_vtu",
-        "to_json", "Case", "CaseError", "RunError")
+        "to_json", "Case", "CaseError", "CaseWarning", "RunError")
 __all__ = ["__version__", *_API]
 
 

@@ -3,6 +3,7 @@ script runs as written, every entry point takes a path, tables or a Case,
 ``Case.with_values`` validates like a case file, results have named access,
 and the API gives the command line's own results."""
 import dataclasses
+import warnings
 import json
 import math
 import re
@@ -120,8 +121,22 @@ def test_studies_refuse_a_case_changed_by_replace():
     for study in (lambda c: magcheck.sweep(c, "winding.current=1A,2A", with_fe=False),
                   lambda c: magcheck.tolerance(c, samples=2, fe_samples=0),
                   lambda c: magcheck.verify(c, estimate_error=False)):
-        with pytest.raises(magcheck.CaseError, match="changed with dataclasses.replace"):
+        with pytest.raises(magcheck.CaseError, match="changed with dataclasses.replace"), \
+                pytest.warns(magcheck.CaseWarning):
             study(changed)
+
+
+def test_a_case_changed_by_replace_is_used_with_a_warning():
+    # hand, fe and check take the Case as it is, but say that nothing validated it
+    # (turns = -3 would otherwise give a result without a word)
+    case = magcheck.load(CHOKE)
+    changed = dataclasses.replace(case, winding=dataclasses.replace(case.winding, turns=-3))
+    with pytest.warns(magcheck.CaseWarning, match="no check validated its values"):
+        magcheck.hand(changed)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")  # a case as read, or from with_values: no warning
+        magcheck.hand(case)
+        magcheck.hand(case.with_values({"winding.turns": 40}))
 
 
 # -------------------------------------------------------- path, tables or Case

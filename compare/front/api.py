@@ -24,7 +24,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any, Sequence, Union
 
 from ..design.case import Case
-from ..errors import CaseError, RunError
+from ..errors import CaseError, CaseWarning, RunError
 
 if TYPE_CHECKING:  # the result types, for annotations only (imported lazily below)
     from ..judge.check import CheckResult
@@ -36,7 +36,7 @@ if TYPE_CHECKING:  # the result types, for annotations only (imported lazily bel
     from ..studies.verify import VerifyResult
 
 __all__ = ["load", "hand", "fe", "check", "sweep", "tolerance", "verify", "report", "write_vtu",
-           "to_json", "Case", "CaseError", "RunError"]
+           "to_json", "Case", "CaseError", "CaseWarning", "RunError"]
 
 CaseLike = Union[str, Path, dict, Case]
 """What every entry point takes: a case file's path, its parsed tables, or a Case."""
@@ -69,7 +69,15 @@ def _read(source: CaseLike, base_dir: str | Path | None = None,
         if isinstance(origin, Origin) and origin.case == source:
             return origin.source, source
         # built directly, or changed with dataclasses.replace since it was read:
-        # its tables (if any) no longer describe it
+        # its tables (if any) no longer describe it, and nothing validated it
+        import warnings
+
+        how = ("was changed with dataclasses.replace after it was read"
+               if origin is not None else "was built directly")
+        warnings.warn(CaseWarning("case", source.name, f"this Case {how}, so no check "
+                                  "validated its values: make changes with "
+                                  "case.with_values({...}), which validates them"),
+                      stacklevel=3)
         return None, source
     if isinstance(source, dict):
         return case_from_tables(source, base_dir)
