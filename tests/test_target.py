@@ -129,7 +129,7 @@ def test_hand_integer_key_checks_both_neighbours(tmp_path):
     assert q0 < L <= q1
     # each neighbour's L is the closed form's at that N (L proportional to N^2)
     assert q1 / q0 == pytest.approx((n1 / n0) ** 2, rel=1e-9)
-    assert ans.feasible == (n1, 120)
+    assert ans.feasible == (n1, 120) and ans.root == n1  # the answer: the neighbour that meets
 
 
 # --------------------------------------------------------------- FE
@@ -184,6 +184,7 @@ def test_fe_integer_key_reuses_one_mesh_and_checks_both_neighbours(tmp_path):
     assert made == [1.0]  # the turns change no dimension: one mesh for every solve
     (n0, q0, m0), (n1, q1, m1) = fe.neighbours
     assert n1 == n0 + 1 and q0 < 3.2e-3 <= q1 and (m0, m1) == (False, True)
+    assert fe.root == n1 and fe.feasible == (n1, 120)
     # linear core: the FE's L is proportional to N^2 on one mesh
     # Source: the field equation is linear in the current density N I / area
     assert q1 / q0 == pytest.approx((n1 / n0) ** 2, rel=1e-6)

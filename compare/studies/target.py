@@ -436,8 +436,9 @@ class ModelAnswer:
     """One model's answer for one target.
 
     root : the key's value where the quantity equals the target (SI; for an
-        integer key the crossing interpolated between its neighbours); NaN
-        when the target is met everywhere or nowhere in the bracket.
+        integer key the neighbour of the crossing that meets the target, for
+        ``=`` the nearer one); NaN when the target is met everywhere or
+        nowhere in the bracket.
     feasible : (lo, hi) of the bracket's part meeting the target (``=``:
         the root alone); None when no value meets it.
     value : the quantity at the root (the FE's three-mesh value at its answer).
@@ -521,13 +522,12 @@ class TargetResult:
 
 # --------------------------------------------------------------------------- solving
 def crossings(xs: Sequence[float], gs: Sequence[float]) -> list[int]:
-    """Indices i where g changes sign between samples i and i+1 (a zero
-    counts once, on its left interval)."""
-    out = []
+    """Indices i where g changes sign between samples i and i+1; a sample
+    where g is zero counts once, on the interval it starts (the last
+    sample's on the last interval)."""
+    out: list[int] = []
     for i in range(len(xs) - 1):
         a, b = gs[i], gs[i + 1]
-        if a == 0.0 and i > 0 and out and out[-1] == i - 1:
-            continue
         if (a < 0 < b) or (a > 0 > b) or (a == 0.0) or (b == 0.0 and i == len(xs) - 2):
             out.append(i)
     return out
@@ -612,8 +612,8 @@ def _solve_hand(src: CaseSource, case: Case, b: KeyBracket, t: Target, *, single
                 n1 = m
         q0, q1 = q(n0), q(n1)
         samples += [(n0, q0), (n1, q1)]
-        root = n0 + (t.value - q0) / (q1 - q0) if q1 != q0 else float(n0)
         nb = ((n0, q0, _meets(t, q0, q1, True)), (n1, q1, _meets(t, q0, q1, False)))
+        root = float(n1 if nb[1][2] else n0)  # the neighbour meeting the target (=: nearer)
         feas = _int_feasible(t, nb, rising, b)
         ans = ModelAnswer("hand", root, feas, value=q1 if nb[1][2] else q0, basis="hand 3D",
                           evaluations=count[0], seconds=time.perf_counter() - t0,
@@ -723,7 +723,7 @@ def _solve_fe(src: CaseSource, case: Case, b: KeyBracket, t: Target, hand: Model
                                  f"no value in the bracket reaches it (FE {ends})"))
     if b.integer:
         feas = _int_feasible(t, neighbours, rising, b)
-        at = neighbours[1][0] if neighbours[1][2] else neighbours[0][0]
+        at = root = float(neighbours[1][0] if neighbours[1][2] else neighbours[0][0])
     else:
         feas = _feasible_side(t, root, rising, b)
         at = root
