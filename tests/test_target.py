@@ -263,6 +263,10 @@ def test_cli_exit_codes_and_one_line_errors(tmp_path, capsys):
           "inductance>=3mH"], "low end must be below"),
         (["target", CHOKE, "--hand-only", "--key", "gaps[0].length=0.3mm:1mm"],
          "give at least one --target"),
+        (["target", CHOKE, "--key", "gaps[0].length=0.3mm:1mm", "--target", "inductance>=3mH",
+          "--plot", str(tmp_path / "t.txt")], "figure suffix .txt"),
+        (["target", CHOKE, "--key", "gaps[0].length=0.3mm:1mm", "--target", "force>=3N"],
+         "no moving part"),
     ]:
         assert main(argv) == 2, argv
         err = capsys.readouterr().err

@@ -9,7 +9,8 @@ import math
 
 from ...design.units import format_si
 from ...errors import CaseError
-from ...outputs.output import CAUTION, STDOUT_HELP, render_table, text_stream, write_json
+from ...outputs.output import (CAUTION, STDOUT_HELP, figure_format, render_table, text_stream,
+                               write_json)
 from ...studies.target import (QUANTITIES, TargetAnswer, TargetResult, format_key_value,
                                parse_bracket, parse_target, solve_targets)
 
@@ -143,6 +144,8 @@ def print_result(res: TargetResult, out) -> None:
 def run(args: argparse.Namespace) -> int:
     from ...reading.variants import case_source
 
+    if args.plot:
+        figure_format(args.plot, "--plot")  # bad input before the solves
     src, case = case_source(args.case, allow_large=args.allow_large)
     bracket = parse_bracket(args.key, family=case.family_model)
     if not args.target:
