@@ -299,3 +299,57 @@ def test_plot_is_written(tmp_path):
                           ["inductance>=3.2mH@6A", "peak_B<=1.4T"], with_fe=False)
     p = save_target_figure(res, tmp_path / "t.png")
     assert p.read_bytes()[:4] == b"\x89PNG"
+
+
+# --------------------------------------------------------------- verify: a stored target
+def test_verify_holds_the_fe_answer_of_a_stored_target(tmp_path):
+    from magcheck.compare.studies.verify import item_text
+
+    text = Path(_linear_choke(tmp_path)).read_text()
+    # the FE's gap for 2.5 mH is 1.138 mm on this case (test above): one entry
+    # stores it within 2 %, one a stale answer, one asks only for a range
+    text += """
+[[targets]]
+key = "gaps[0].length=0.3mm:1.2mm"
+target = "inductance=2.5mH@6A"
+fe = "1.14 mm"
+tolerance = "2%"
+
+[[targets]]
+key = "gaps[0].length=0.3mm:1.2mm"
+target = "inductance=2.5mH@6A"
+fe = "0.9 mm"
+tolerance = "0.01 mm"
+
+[[targets]]
+key = "winding.turns=60:120"
+target = ["inductance>=2mH@6A", "peak_B<=2T"]
+"""
+    p = tmp_path / "stored.toml"
+    p.write_text(text)
+    res = magcheck.verify(str(p), estimate_error=False)
+    items = [it for it in res.outcomes[0].items if it.group == "target"]
+    assert [it.verdict for it in items] == ["pass", "FAIL", "pass"]
+    assert items[0].value == pytest.approx(1.138e-3, rel=0.02)
+    assert "stored 0.9 mm" in item_text(items[1]) and items[1].judges == "design"
+    # the FE's peak B (0.5 % area, the corners' crowding) reaches 2 T near 92
+    # turns, where the hand's mean segment B stays below it up to 120
+    assert "meets every target" in items[2].message and items[2].message.startswith("60 .. ")
+    assert res.exit_code == 1  # a design item failed
+
+
+def test_a_stored_target_is_read_like_the_command_line(tmp_path):
+    base = Path(CHOKE).read_text()
+    for entry, words in [
+        ('key = "gaps[0].length=1mm:0.3mm"\ntarget = "inductance>=3mH"', "low end"),
+        ('key = "gaps[0].length=0.3mm:1mm"\ntarget = "inductanse>=3mH"', "unknown quantity"),
+        ('key = "gaps[0].length=0.3mm:1mm"\ntarget = "inductance>=3mH"\nfe = "1 mm"',
+         "needs a tolerance"),
+        ('key = "gaps[0].length=0.3mm:1mm"\ntarget = ["inductance>=3mH", "peak_B<=1T"]\n'
+         'fe = "1 mm"\ntolerance = "1%"', "holds one target's FE answer"),
+    ]:
+        p = tmp_path / "bad.toml"
+        p.write_text(base + "\n[[targets]]\n" + entry + "\n")
+        with pytest.raises(CaseError) as exc:
+            magcheck.load(str(p))
+        assert str(exc.value).startswith("targets[0].") and words in str(exc.value)
