@@ -18,6 +18,7 @@ The file's tables map onto these classes::
     [sweep]      vary = ["KEY=SPEC", ...], drops_pct, inductance; or [[sweep]] for several
     [[tolerances]] key, distribution (uniform: minus/plus; normal: sigma, limit)
     [[targets]]  key = "KEY=LO:HI", target = "QUANTITY OP VALUE[@AT]" (or a list), fe, tolerance
+    [[measured]] quantity, at + value or csv, uncertainty, current, frequency, source
 """
 
 from __future__ import annotations
@@ -282,6 +283,8 @@ class Case:
     """The windings after the first ([[windings]] entries 1, 2, ...)."""
     targets: tuple[TargetDecl, ...] = ()
     """Stored target solves ([[targets]]) that magcheck verify runs."""
+    measured: tuple[Any, ...] = ()
+    """Measurements of the built part ([[measured]]: compare.design.measured.Measured)."""
     stacking: float = 1.0
     """Lamination stacking factor k_s ([core] stacking): iron over gross
     cross-section.  The FE always uses the homogenised core (polarisation
