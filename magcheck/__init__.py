@@ -46,8 +46,8 @@ def _version() -> str:
 __version__ = _version()
 
 
-_API = ("load", "hand", "fe", "check", "sweep", "tolerance", "verify", "report", "write_vtu",
-        "to_json", "Case", "CaseError", "CaseWarning", "RunError")
+_API = ("load", "hand", "fe", "check", "sweep", "tolerance", "target", "verify", "report",
+        "write_vtu", "to_json", "Case", "CaseError", "CaseWarning", "RunError")
 __all__ = ["__version__", *_API]
 
 

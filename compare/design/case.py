@@ -17,6 +17,8 @@ The file's tables map onto these classes::
                  kind), [margins.agreement] (percent per quantity)
     [sweep]      vary = ["KEY=SPEC", ...], drops_pct, inductance; or [[sweep]] for several
     [[tolerances]] key, distribution (uniform: minus/plus; normal: sigma, limit)
+    [[targets]]  key = "KEY=LO:HI", target = "QUANTITY OP VALUE[@AT]" (or a list), fe, tolerance
+    [[measured]] quantity, at + value or csv, uncertainty, current, frequency, source
 """
 
 from __future__ import annotations
@@ -29,7 +31,8 @@ from .families import FAMILIES, Family
 from .geometry import Gap, Limb, WindingSpec
 
 __all__ = ["Case", "CaseOrigin", "with_current", "MaterialSpec", "HandSettings", "FESettings", "Margins",
-           "InductanceLimit", "SaturationLimit", "ForceLimit", "SweepDecl", "Tolerance"]
+           "InductanceLimit", "SaturationLimit", "ForceLimit", "SweepDecl", "Tolerance",
+           "TargetDecl"]
 
 
 @dataclass(frozen=True)
@@ -197,6 +200,25 @@ class SweepDecl:
 
 
 @dataclass(frozen=True)
+class TargetDecl:
+    """A stored target solve (``[[targets]]``) that ``magcheck verify`` runs.
+
+    key : ``"KEY=LO:HI"``, the key and its bracket (compare.design.targets.parse_bracket).
+    targets : ``"QUANTITY OP VALUE[@AT]"`` strings (compare.design.targets.parse_target).
+    fe : the FE answer stored (SI, the key's unit); None: verify only asks
+        that a value of the key meets every target by the FE.
+    tolerance : how far the FE answer may move from ``fe`` (SI, the key's
+        unit; or relative to ``fe`` when ``relative``).
+    """
+
+    key: str
+    targets: tuple[str, ...]
+    fe: float | None = None
+    tolerance: float | None = None
+    relative: bool = False
+
+
+@dataclass(frozen=True)
 class Tolerance:
     """A manufacturing tolerance on one case key (see compare.studies.tolerance).
 
@@ -259,6 +281,10 @@ class Case:
     sha256: str = ""
     extra_windings: tuple[WindingSpec, ...] = ()
     """The windings after the first ([[windings]] entries 1, 2, ...)."""
+    targets: tuple[TargetDecl, ...] = ()
+    """Stored target solves ([[targets]]) that magcheck verify runs."""
+    measured: tuple[Any, ...] = ()
+    """Measurements of the built part ([[measured]]: compare.design.measured.Measured)."""
     stacking: float = 1.0
     """Lamination stacking factor k_s ([core] stacking): iron over gross
     cross-section.  The FE always uses the homogenised core (polarisation

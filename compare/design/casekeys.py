@@ -211,6 +211,26 @@ TOLERANCE = {"key": string("the case key that varies, e.g. gaps[0].length"),
              "distribution": string("", DISTRIBUTIONS),
              "minus": _DEVIATION, "plus": _DEVIATION, "sigma": _DEVIATION, "limit": _DEVIATION}
 
+TARGETS = {"key": string('the design key and its bracket, "KEY=LO:HI", e.g. '
+                         '"gaps[0].length=0.3mm:1.2mm"'),
+           "target": oneof(string(), listof(string()),
+                           doc='"QUANTITY OP VALUE[@AT]" strings, e.g. "inductance>=3.2mH@6A"'),
+           "fe": quantity("", "the FE answer stored, in the key's unit"),
+           "tolerance": quantity("", 'how far the FE answer may move, in the key\'s unit '
+                                     '("0.02 mm") or in percent of fe ("3%")')}
+
+MEASURED = {"quantity": string("what was measured", ("inductance", "incremental_inductance",
+                                                     "force")),
+            "at": quantity("", "a single value's current (an inductance) or stroke (a force)"),
+            "value": quantity("", "the measured value"),
+            "uncertainty": quantity("", "the standard uncertainty, in the value's unit or in "
+                                        'percent of it ("2%")'),
+            "current": quantity("current", "a force's winding current (default the case's)"),
+            "frequency": quantity("frequency", "the measuring frequency, for the record"),
+            "source": string("free text: instrument, date, who"),
+            "csv": string("a measured curve: CSV file with 'I [A],L [mH]' or 'stroke [mm],F [N]' "
+                          "(and optionally 'u [unit]' or 'u [%]'), relative to the case file")}
+
 ROOT_KEYS: dict[str, Key] = {
     "case": table(CASE, "name, family, description"),
     "core": table(None, "the core's dimensions (keys per family)"),
@@ -223,6 +243,8 @@ ROOT_KEYS: dict[str, Key] = {
     "margins": table(MARGINS, "design margins and agreement limits"),
     "sweep": oneof(table(SWEEP), tables(SWEEP), doc="the sweeps magcheck verify runs"),
     "tolerances": tables(TOLERANCE, "the tolerances of a Monte Carlo study"),
+    "targets": tables(TARGETS, "stored target solves that magcheck verify runs"),
+    "measured": tables(MEASURED, "measurements of the built part (a value or a CSV curve)"),
 }
 """The top-level tables every case may have (a family adds its ``table_specs``)."""
 

@@ -32,11 +32,12 @@ if TYPE_CHECKING:  # the result types, for annotations only (imported lazily bel
     from ..models.hand import HandResult
     from ..reading.variants import CaseSource
     from ..studies.sweep import SweepResult
+    from ..studies.target import TargetResult
     from ..studies.tolerance import ToleranceResult
     from ..studies.verify import VerifyResult
 
-__all__ = ["load", "hand", "fe", "check", "sweep", "tolerance", "verify", "report", "write_vtu",
-           "to_json", "Case", "CaseError", "CaseWarning", "RunError"]
+__all__ = ["load", "hand", "fe", "check", "sweep", "tolerance", "target", "verify", "report",
+           "write_vtu", "to_json", "Case", "CaseError", "CaseWarning", "RunError"]
 
 CaseLike = Union[str, Path, dict, Case]
 """What every entry point takes: a case file's path, its parsed tables, or a Case."""
@@ -209,6 +210,44 @@ def tolerance(case: CaseLike, *, samples: int = 50, seed: int = 0,
     return run_tolerance(src, samples=samples, seed=seed, fe_samples=fe_samples, workers=workers)
 
 
+def target(case: CaseLike, key: str, bracket: Sequence[Any] | None = None,
+           targets: str | Sequence[str] = (), *, with_fe: bool = True,
+           uncertainty: bool = True) -> "TargetResult":
+    """The value of one design key meeting targets (``magcheck target``):
+    :class:`~magcheck.compare.studies.target.TargetResult`.
+
+    ``key`` in the ``--vary`` grammar (``"gaps[0].length"``,
+    ``"winding.turns"``); ``bracket`` its (low, high) ends as the case file
+    writes them (``("0.3 mm", "1.2 mm")``, SI numbers, integers for the
+    turns), or None with the bracket in ``key`` (``"gaps[0].length=0.3mm:1.2mm"``);
+    ``targets`` one or more ``QUANTITY OP VALUE[@AT]`` strings
+    (``"inductance>=3.2mH@6A"``, ``"saturation_current>=8A@20%"``).
+    ``res.answers[k].hand.root`` / ``.fe.root`` are each model's value of
+    the key (SI), ``res.feasible`` per model the range meeting every target
+    (None: none does).  ``with_fe=False`` as ``--hand-only``;
+    ``uncertainty=False`` skips the three-mesh check at the FE answer.
+    """
+    from ..studies.target import parse_bracket, parse_target, solve_targets
+
+    src, c = _tables(case, "target")
+    if bracket is None:
+        spec = key
+    else:
+        if isinstance(bracket, (str, bytes)) or len(bracket) != 2:
+            raise CaseError("bracket", bracket, "give (low, high), e.g. ('0.3 mm', '1.2 mm')")
+        spec = f"{key}=" + ":".join(str(v).replace(" ", "") for v in bracket)
+    b = parse_bracket(spec, family=c.family_model, where="key")
+    texts = [targets] if isinstance(targets, str) else list(targets)
+    ts = [parse_target(t, where="targets") for t in texts]
+    if not ts:
+        raise CaseError("targets", None, "give at least one, e.g. 'inductance>=3.2mH@6A'")
+    if with_fe:
+        from ..models.fe import guard_mesh_size
+
+        guard_mesh_size(c)
+    return solve_targets(src, b, ts, with_fe=with_fe, uncertainty=uncertainty)
+
+
 def verify(cases: CaseLike | Sequence[CaseLike], *, baseline: str | Path | None = None,
            estimate_error: bool = True, agreement: str = "fatal",
            stored_verdicts: bool = True, workers: int = 1) -> "VerifyResult":
@@ -291,18 +330,19 @@ def to_json(result: Any) -> dict:
     ``magcheck hand --json``), a verify run's document (``magcheck verify --json``),
     a sweep's (``magcheck sweep --json``: the margins and saturation currents
     at the case's ``[sweep]`` drops when the sweep is the case's own, else at
-    10/20/30 % of the incremental inductance) or a tolerance study's
-    (``magcheck tolerance --json``)."""
+    10/20/30 % of the incremental inductance), a tolerance study's
+    (``magcheck tolerance --json``) or a target solve's (``magcheck target --json``)."""
     from ..judge.check import CheckResult
     from ..judge.document import json_ready
     from ..models.hand import HandResult
     from ..studies.sweep import SweepResult
+    from ..studies.target import TargetResult
     from ..studies.tolerance import ToleranceResult
     from ..studies.verify import VerifyResult
 
     if isinstance(result, CheckResult):
         return result.to_dict()
-    if isinstance(result, (HandResult, VerifyResult)):
+    if isinstance(result, (HandResult, VerifyResult, TargetResult)):
         return json_ready(result.to_dict())
     if isinstance(result, SweepResult):
         from .commands.sweep import sweep_json
@@ -316,5 +356,5 @@ def to_json(result: Any) -> dict:
         from .commands.tolerance import tolerance_json
 
         return json_ready(tolerance_json(result))
-    raise TypeError(f"to_json: a CheckResult, HandResult, VerifyResult, SweepResult or "
-                    f"ToleranceResult, not {type(result).__name__}")
+    raise TypeError(f"to_json: a CheckResult, HandResult, VerifyResult, SweepResult, "
+                    f"ToleranceResult or TargetResult, not {type(result).__name__}")

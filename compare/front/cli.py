@@ -41,6 +41,8 @@ COMMANDS: dict[str, str] = {
               "and print a pass/fail table of every limit and margin",
     "tolerance": "Monte Carlo over the tolerances a case declares: percentiles of inductance, "
                  "peak core B and saturation current, and the yield (samples meeting every margin)",
+    "target": "find the value of one design key (a gap, the turns, a dimension) that meets "
+              "targets such as inductance>=3.2mH@6A, by the hand model and by the FE",
     "selftest": "run the field engine on exact-solution cases (planar and axisymmetric) and "
                 "print FE value, reference, relative error and tolerance for each",
 }

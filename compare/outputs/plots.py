@@ -616,3 +616,60 @@ def save_tolerance_figure(res, labels: dict[str, str], path: str | Path) -> Path
     finally:
         plt.close(fig)
     return written or Path(path)
+
+
+# --------------------------------------------------------------------------- target
+_TARGET_SCALE = {"H": (1e3, "mH"), "A": (1.0, "A"), "N": (1.0, "N"), "T": (1.0, "T")}
+
+
+def target_figure(res):
+    """One panel per target of a compare.studies.target.TargetResult: the
+    target quantity against the key, the hand curve (its samples), the FE's
+    evaluated points, the FE's three-mesh value at its answer with its
+    uncertainty, the target line and both answers."""
+    from ..design.keys import display_unit
+
+    key = res.bracket.key
+    kscale, kunit = display_unit(key)
+    n = len(res.answers)
+    fig, axes = plt.subplots(1, n, figsize=(5.2 * n, 3.8), squeeze=False)
+    for ax, a in zip(axes[0], res.answers):
+        t = a.target
+        qs, qu = _TARGET_SCALE.get(t.unit, (1.0, t.unit))
+        pts = sorted(p for p in a.hand.points if math.isfinite(p[1]))
+        ax.plot([x * kscale for x, _ in pts], [q * qs for _, q in pts], "-", color=HAND_COLOUR,
+                lw=1.5, label="hand")
+        if a.fe is not None and a.fe.points:
+            fp = sorted(a.fe.points)
+            ax.plot([x * kscale for x, _ in fp], [q * qs for _, q in fp], "o", color=FE_COLOUR,
+                    ms=5, label="FE (evaluated)")
+            if math.isfinite(a.fe.value):
+                at = a.fe.root if not a.fe.neighbours else next(
+                    (nb[0] for nb in reversed(a.fe.neighbours) if nb[2]), a.fe.root)
+                ax.errorbar([at * kscale], [a.fe.value * qs],
+                            yerr=[a.fe.uncertainty * qs if math.isfinite(a.fe.uncertainty)
+                                  else 0.0], fmt="s", color=FE_COLOUR, mfc="white", capsize=4,
+                            label="FE at its answer, 3 meshes")
+        ax.axhline(t.value * qs, color="0.3", ls="--", lw=1.0, label=f"target {t.op} "
+                   f"{t.value * qs:.4g} {qu}")
+        for m, colour in ((a.hand, HAND_COLOUR), (a.fe, FE_COLOUR)):
+            if m is not None and math.isfinite(m.root):
+                ax.axvline(m.root * kscale, color=colour, ls=":", lw=1.0)
+        ax.set_xlabel(f"{key} ({kunit})" if kunit else key, fontsize=8)
+        ax.set_ylabel(f"{t.quantity} ({qu})", fontsize=8)
+        ax.set_title(t.text, fontsize=9)
+        ax.grid(alpha=0.3)
+        ax.legend(fontsize=7)
+    fig.suptitle(f"{res.case.name}: {key} for the target" + ("s" if n > 1 else ""))
+    return fig
+
+
+def save_target_figure(res, path: str | Path) -> Path:
+    """Write `target_figure` (format from the suffix); the figure is closed."""
+    fig = target_figure(res)
+    try:
+        fig.tight_layout()
+        written = save_figure(fig, path, option="--plot")
+    finally:
+        plt.close(fig)
+    return written or Path(path)

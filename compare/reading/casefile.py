@@ -21,7 +21,7 @@ from magcheck.analytic.fringing import FRINGING_MODELS
 from magcheck.analytic.materials import bh_from_table, builtin, builtin_names, load_bh_csv
 
 from ..design.case import (Case, FESettings, HandSettings, InductanceLimit, Margins, MaterialSpec,
-                           SaturationLimit, SweepDecl, Tolerance, ForceLimit)
+                           SaturationLimit, SweepDecl, TargetDecl, Tolerance, ForceLimit)
 from ..errors import CaseError, CaseWarning, RunError, format_value
 from ..design.families import Family, get_family
 from ..design.geometry import Gap, Limb, WindingSpec, coil_rects
@@ -151,6 +151,8 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     margins = _read_margins(root.table("margins", {}))
     sweeps = _read_sweeps(root, "sweep", family)
     tolerances = tuple(_read_tolerance(t, family, data) for t in root.tables("tolerances"))
+    targets = tuple(_read_target(t, family) for t in root.tables("targets"))
+    measured = tuple(_read_measured(t, base_dir) for t in root.tables("measured"))
     root.finish()
     if len(windings) > 1 and hand.leakage:
         raise CaseError("hand.leakage", True, "window leakage is modelled for one winding; with "
@@ -158,7 +160,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     case = Case(name=name, family=family_name, core=core, gaps=gaps, winding=windings[0],
                 extra_windings=windings[1:],
                 materials=materials, hand=hand, fe=fe, margins=margins, sweeps=sweeps,
-                tolerances=tolerances, stacking=stacking,
+                tolerances=tolerances, stacking=stacking, targets=targets, measured=measured,
                 description=description, source=source, sha256=sha256)
     check = getattr(family, "check_case", None)
     if check is not None:  # what the family checks across tables (coils name windings, ...)
@@ -787,6 +789,102 @@ def _check_force_limit_stroke(key: str, stroke: float, spec: Any, data: dict, fa
     except CaseError as exc:
         raise CaseError(key, f"{stroke * 1e3:g} mm",
                         f"the core cannot take this stroke ({exc})") from None
+
+
+def _read_measured(t: TableReader, base_dir: Any) -> Any:
+    """One ``[[measured]]`` entry (compare.design.measured): a single value
+    (``at``, ``value``) or a CSV curve (``csv``), with its uncertainty."""
+    from ..design.measured import MEASURED_QUANTITIES, Measured, MeasuredPoint, parse_measured_csv
+
+    quantity = t.string("quantity", choices=tuple(MEASURED_QUANTITIES))
+    dim, adim, _, _ = MEASURED_QUANTITIES[quantity]
+    source = t.string("source", "")
+    frequency = t.quantity("frequency", "frequency", None) if "frequency" in t.data else None
+    current = None
+    if "current" in t.data:
+        if quantity != "force":
+            raise CaseError(t.key("current"), t.data["current"], "only a force takes a current "
+                                                                 "(an inductance's is its at)")
+        current = t.quantity("current", "current", positive=False)
+    u_raw = t.raw("uncertainty", None)
+    u, relative = None, False
+    if u_raw is not None:
+        if isinstance(u_raw, str) and u_raw.strip().endswith("%"):
+            try:
+                u = float(u_raw.strip()[:-1]) / 100.0
+            except ValueError:
+                raise CaseError(t.key("uncertainty"), u_raw, "cannot read the percentage") from None
+            relative = True
+        else:
+            u = t.quantity("uncertainty", dim, allow_zero=True)
+        if not (math.isfinite(u) and u >= 0.0):
+            raise CaseError(t.key("uncertainty"), u_raw, "must be finite and >= 0")
+    if "csv" in t.data:
+        for k in ("at", "value"):
+            if k in t.data:
+                raise CaseError(t.key(k), t.data[k], "give either csv (a curve) or at and value")
+        name = t.string("csv")
+        path = Path(name) if Path(name).is_absolute() else Path(base_dir or ".") / name
+        try:
+            text = path.read_bytes().decode("utf-8-sig")
+        except OSError as exc:
+            raise CaseError(t.key("csv"), name, f"cannot be read: {exc.strerror or exc}") from None
+        except UnicodeDecodeError:
+            raise CaseError(t.key("csv"), name, "is not UTF-8 text; save it as CSV in UTF-8") \
+                from None
+        points = parse_measured_csv(text, quantity, str(path), uncertainty=u, relative=relative)
+        t.finish()
+        return Measured(quantity, points, source, current, frequency, str(path))
+    if u is None:
+        raise CaseError(t.key("uncertainty"), None, "missing: state the measurement's "
+                                                    "uncertainty (in the value's unit or %)")
+    at = t.quantity("at", adim, positive=False)
+    value = t.quantity("value", dim, positive=False)
+    t.finish()
+    return Measured(quantity, (MeasuredPoint(at, value, u * (abs(value) if relative else 1.0)),),
+                    source, current, frequency)
+
+
+def _read_target(t: TableReader, family: Family) -> TargetDecl:
+    """One ``[[targets]]`` entry, its bracket and targets read by the grammar
+    of ``magcheck target`` (compare.design.targets)."""
+    from ..design.targets import parse_bracket, parse_target
+
+    spec = t.string("key")
+    bracket = parse_bracket(spec, family=family, where=t.key("key"))
+    raw = t.raw("target")
+    texts = [raw] if isinstance(raw, str) else raw
+    if not isinstance(texts, list) or not texts or not all(isinstance(x, str) for x in texts):
+        raise CaseError(t.key("target"), raw, 'must be a "QUANTITY OP VALUE[@AT]" string or a '
+                                              "list of them")
+    for x in texts:
+        parse_target(x, where=t.key("target"))
+    dim = "dimensionless" if bracket.integer else bracket.dimension
+    if "fe" in t.data and len(texts) > 1:
+        raise CaseError(t.key("fe"), t.data["fe"], "holds one target's FE answer; with several "
+                                                   "targets leave fe and tolerance out (verify "
+                                                   "then asks for a range meeting them all)")
+    fe = t.quantity("fe", dim, None, positive=False) if "fe" in t.data else None
+    tol_raw = t.raw("tolerance", None)
+    tol, relative = None, False
+    if tol_raw is not None:
+        if fe is None:
+            raise CaseError(t.key("tolerance"), tol_raw, "needs fe, the FE answer it holds")
+        if isinstance(tol_raw, str) and tol_raw.strip().endswith("%"):
+            try:
+                tol = float(tol_raw.strip()[:-1]) / 100.0
+            except ValueError:
+                raise CaseError(t.key("tolerance"), tol_raw, "cannot read the percentage") from None
+            relative = True
+        else:
+            tol = t.quantity("tolerance", dim, allow_zero=True)
+        if not (math.isfinite(tol) and tol >= 0.0):
+            raise CaseError(t.key("tolerance"), tol_raw, "must be a finite deviation >= 0")
+    elif fe is not None:
+        raise CaseError(t.key("fe"), t.data.get("fe"), "needs a tolerance (how far the FE "
+                                                       "answer may move)")
+    t.finish()
+    return TargetDecl(spec, tuple(texts), fe, tol, relative)
 
 
 def _read_sweeps(root: TableReader, name: str, family: Family) -> tuple[SweepDecl, ...]:

@@ -3,8 +3,10 @@
 For each case file under the given paths: the side-by-side check
 (:func:`compare.judge.check.run_check`: hand-vs-FE agreement limits and the design
 margins), the sweeps the case declares (``[sweep]``, saturation current and
-inductance margins read off the FE curves), and, with a baseline file, drift
-of the stored results beyond the tolerances of :mod:`compare.judge.baseline`.
+inductance margins read off the FE curves), the target solves it stores
+(``[[targets]]``: the FE's answer within a tolerance of the stored one,
+:func:`target_item`), and, with a baseline file, drift of the stored results
+beyond the tolerances of :mod:`compare.judge.baseline`.
 
 One :class:`Item` per limit, margin or baseline check; an item is one JUnit
 test case. Cases run in parallel processes (one case per task).
@@ -51,7 +53,8 @@ class Item:
     """One checked figure of one case.
 
     group : "limit" (hand vs FE agreement), "stored" (an agreement verdict
-        against the stored one), "margin", "sweep" or "baseline".
+        against the stored one), "margin", "sweep", "target" (a stored
+        target solve, compare.studies.verify.target_item) or "baseline".
     verdict : "pass", "FAIL", "n/a" (could not be judged), "within FE noise",
         "inconclusive" (beyond the limit, within the FE noise) or
         "known disagreement (stored)".
@@ -252,6 +255,41 @@ def _margin_item(group: str, m) -> Item:
                 m.kind, m.margin_pct, m.verdict, m.note)
 
 
+def target_item(src, case, decl, k: int) -> Item:
+    """A stored target solve (``[[targets]]``, compare.design.case.TargetDecl)
+    run by ``magcheck target`` (no three-mesh check: the answer's value is
+    not judged here) and judged: with ``fe``, the FE answer within
+    ``tolerance`` of it; without, a value of the key meeting every target by
+    the FE.  A design item (group "target")."""
+    from ..design.targets import parse_bracket, parse_target
+    from ..design.units import SI_UNIT
+    from .target import format_key_value, solve_targets
+
+    b = parse_bracket(decl.key, family=case.family_model, where=f"targets[{k}].key")
+    ts = [parse_target(t, where=f"targets[{k}].target") for t in decl.targets]
+    res = solve_targets(src, b, ts, uncertainty=False)
+    unit = "" if b.integer else SI_UNIT[b.dimension]
+    label = f"target: {b.key} for {' and '.join(decl.targets)} (FE)"
+    key = f"target:{decl.key}:{';'.join(decl.targets)}"
+    feasible = res.feasible.get("FE")
+    if decl.fe is None:
+        text = (f"{format_key_value(b.key, feasible[0])} .. {format_key_value(b.key, feasible[1])}"
+                " meets every target" if feasible else "no value of the key meets every target")
+        return Item("target", key, label, unit, math.nan, None, "", math.nan,
+                    "pass" if feasible else "FAIL", text)
+    fe = res.answers[0].fe
+    root = fe.root if fe is not None else math.nan
+    allowed = (decl.tolerance or 0.0) * (abs(decl.fe) if decl.relative else 1.0)
+    dev = abs(root - decl.fe)
+    ok = math.isfinite(root) and dev <= allowed
+    margin = 100.0 * (allowed - dev) / allowed if allowed > 0 and math.isfinite(dev) else math.nan
+    text = (f"FE {format_key_value(b.key, root)}, stored {format_key_value(b.key, decl.fe)} "
+            f"+- {format_key_value(b.key, allowed)}; hand {format_key_value(b.key, res.answers[0].hand.root)}"
+            if math.isfinite(root) else f"the FE finds no answer: {fe.note if fe else ''}")
+    return Item("target", key, label, unit, root, decl.fe, "abs", margin,
+                "pass" if ok else "FAIL", text)
+
+
 def verify_case(path: str, stored: dict | None = None, *, use_baseline: bool = False,
                 estimate_error: bool = True) -> CaseOutcome:
     """Check one case file (runs in a worker process; never raises for bad input
@@ -304,6 +342,8 @@ def verify_source(src, case, stored: dict | None = None, *, use_baseline: bool =
             margins, table = sweep_margins(sw, decl.drops, decl.inductance)
             items += [_margin_item("sweep", m) for m in margins]
             sat += [dict(row, sweep=" ".join(decl.vary)) for row in table]
+        for k, tdecl in enumerate(case.targets):
+            items.append(target_item(src, case, tdecl, k))
         if use_baseline:
             if stored is None:
                 items.append(Item("baseline", "baseline", "stored results", "", math.nan, None,
@@ -482,6 +522,8 @@ def item_text(it: Item) -> str:
                 f"+-{_num(it.limit, '%')}; {it.message}")
     if it.group == "baseline":
         return it.message
+    if it.group == "target":
+        return f"{it.label}: {it.message}"
     sign = "<=" if it.limit_kind == "max" else ">="
     text = (f"{it.label}: value {_num(it.value, it.unit)}, limit {sign} "
             f"{_num(it.limit, it.unit)}, margin {it.margin_pct:+.1f} % of the limit")
