@@ -283,6 +283,14 @@ def pretty_units(text: str) -> str:
     return text
 
 
+_ASCII = {"µ": "u", "²": "^2", "³": "^3", "≥": ">=", "≤": "<=", "±": "+/-", "→": "->", "─": "-"}
+
+
+def ascii_units(text: str) -> str:
+    """`pretty_units` undone, for a stream that cannot print Unicode."""
+    return "".join(_ASCII.get(ch, ch) for ch in text)
+
+
 def display_cells(row: Row) -> list[str]:
     """`table_cells` with Unicode units (terminal, Markdown cells, HTML)."""
     return [pretty_units(c) for c in table_cells(row)]
@@ -305,7 +313,7 @@ def row_topic(row: Row) -> str:
     if k.startswith(("magnetizing", "inrush", "B_peak", "B_limb_peak")) or k == "magnetizing_inductance":
         return "drive"
     if k in ("inductance", "incremental_inductance", "energy", "leakage_inductance") \
-            or k.startswith("coupling:"):
+            or k.startswith(("coupling:", "L:")):
         return "inductances"
     if k in ("gap_B", "core_B", "path_H", "flux") or k.startswith("flux_linkage"):
         return "field and flux"
@@ -482,7 +490,7 @@ def check_lines(res: CheckResult, agreement: str = "fatal", *, width: int = 100,
     c = res.case
     w = c.winding
     out: list[tuple[str, str]] = []
-    txt = pretty_units if unicode else (lambda s: s)
+    txt = pretty_units if unicode else (lambda s: ascii_units(pretty_units(s)))
     rule = "─" if unicode else "-"
 
     def para(text: str, kind: str = "", indent: str = "") -> None:
@@ -499,17 +507,17 @@ def check_lines(res: CheckResult, agreement: str = "fatal", *, width: int = 100,
     out.append(("", ""))
     with_3d = wide or shows_3d(res)
     cols = AGREEMENT_COLUMNS + (["hand 3D", "FE 3D"] if with_3d else [])
-    groups = [(t, [agreement_cells(r, with_3d) for r in rows])
+    groups = [(t, [[txt(c) for c in agreement_cells(r, with_3d)] for r in rows])
               for t, rows in grouped_rows(res, "agreement")]
     limit = 10 ** 6 if wide else width
     if groups:
         out += [(ln, "table") for ln in fit_table([txt(h) for h in cols], groups, limit, rule=rule)]
-    design = [margin_cells(r) for r in res.rows if r.judges == "design"]
+    design = [[txt(c) for c in margin_cells(r)] for r in res.rows if r.judges == "design"]
     if design:
         out.append(("", ""))
         out.append(("design margins (the FE value, depth-corrected where it has one, "
                     "against the case's limits)" if width >= 90 else "design margins", "title"))
-        out += [(ln if unicode else ln, "table")
+        out += [(ln, "table")
                 for ln in fit_table(MARGIN_COLUMNS, [("", design)], limit, rule=rule)]
     out.append(("", ""))
     fe = res.fe.fine
@@ -537,4 +545,6 @@ def check_lines(res: CheckResult, agreement: str = "fatal", *, width: int = 100,
             para(breakdown_note(res))
         else:
             para(breakdown_compact(res))
+    if not unicode:
+        out = [(ascii_units(t), k) for t, k in out]
     return out

@@ -71,10 +71,10 @@ def print_check(res: CheckResult, out, agreement: str = "fatal", *, wide: bool =
     lines = check_lines(res, agreement, width=width, wide=wide, breakdown=breakdown,
                         unicode=unicode)
     ok = res.design_passed and res.agreement_passed
-    lines.append(("verdict: " + ("PASS" if ok else "FAIL") + " (design "
-                  + ("PASS" if res.design_passed else "FAIL") + ", hand vs FE "
-                  + ("PASS" if res.agreement_passed else "FAIL") + "; details at the top)",
-                  "pass" if ok else "FAIL"))
+    last = ("verdict: " + ("PASS" if ok else "FAIL") + " (design "
+            + ("PASS" if res.design_passed else "FAIL") + ", hand vs FE "
+            + ("PASS" if res.agreement_passed else "FAIL") + "; details at the top)")
+    lines += [(ln, "pass" if ok else "FAIL") for ln in wrap_text(last, width)]
     lines += [(ln, "dim") for ln in wrap_text(CAUTION, width)]
     write_lines(lines, out, width)
 
