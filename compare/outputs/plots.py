@@ -30,18 +30,30 @@ REGION_COLOURS = {"core": "#5b6c80", "gap": "#e0a030", "coil+": "#2a9d8f", "coil
 HAND_COLOUR, FE_COLOUR = "#c8553d", "#264653"
 
 
-def _zoom(ax, res: CheckResult, pad: float = 0.25) -> None:
+def _mirrored(res: CheckResult) -> bool:
+    """An r-z solution: its figures show the section mirrored about the axis."""
+    return res.fe.solution.assembler.formulation.name == "axisymmetric"
+
+
+def _zoom(ax, res: CheckResult, pad: float = 0.25, mirror: bool = False) -> None:
+    """Limits round the parts (``mirror``: both halves of an r-z section,
+    the axis drawn as a dash-dot line), equal aspect, axis names."""
     x0, y0, x1, y1 = res.fe.solution.mesh.layout.bbox()
+    if mirror:
+        x0 = -x1
     dx, dy = (x1 - x0) * pad, (y1 - y0) * pad
     ax.set_xlim((x0 - dx) * 1e3, (x1 + dx) * 1e3)
     ax.set_ylim((y0 - dy) * 1e3, (y1 + dy) * 1e3)
     ax.set_aspect("equal")
     rz = res.fe.solution.assembler.formulation.name == "axisymmetric"
-    ax.set_xlabel("r (mm)" if rz else "x (mm)")
+    if mirror:
+        ax.axvline(0.0, color="0.2", lw=0.9, ls="-.", zorder=5)
+    ax.set_xlabel("r (mm), mirrored about the axis" if mirror else "r (mm)" if rz else "x (mm)")
     ax.set_ylabel("z (mm)" if rz else "y (mm)")
 
 
-def _outlines(ax, res: CheckResult, lw: float = 1.2) -> None:
+def _outlines(ax, res: CheckResult, lw: float = 1.2, sign: float = 1.0) -> None:
+    """Every region's outline in its colour (``sign`` -1: mirrored about x = 0)."""
     from matplotlib.patches import Circle
     from matplotlib.patches import Polygon as PolygonPatch
 
@@ -56,15 +68,16 @@ def _outlines(ax, res: CheckResult, lw: float = 1.2) -> None:
         for s in region.shapes:
             if hasattr(s, "points"):  # a polygon and its holes
                 for loop in (s.points, *s.holes):
-                    ax.add_patch(PolygonPatch([(x * 1e3, y * 1e3) for x, y in loop],
+                    ax.add_patch(PolygonPatch([(sign * x * 1e3, y * 1e3) for x, y in loop],
                                               closed=True, fill=False, ec=colour, lw=lw))
             elif hasattr(s, "r") and hasattr(s, "cx"):
-                ax.add_patch(Circle((s.cx * 1e3, s.cy * 1e3), s.r * 1e3, fill=False, ec=colour,
-                                    lw=lw))
+                ax.add_patch(Circle((sign * s.cx * 1e3, s.cy * 1e3), s.r * 1e3, fill=False,
+                                    ec=colour, lw=lw))
             else:
                 x0, y0, x1, y1 = s.bbox()
-                ax.add_patch(Rectangle((x0 * 1e3, y0 * 1e3), (x1 - x0) * 1e3, (y1 - y0) * 1e3,
-                                       fill=False, ec=colour, lw=lw))
+                ax.add_patch(PolygonPatch([(sign * x * 1e3, y * 1e3) for x, y in
+                                           ((x0, y0), (x1, y0), (x1, y1), (x0, y1))],
+                                          closed=True, fill=False, ec=colour, lw=lw))
 
 
 def _tri(res: CheckResult) -> Triangulation:
@@ -110,17 +123,20 @@ def flux_levels(res: CheckResult, lines: int = FLUX_LINES) -> tuple[np.ndarray, 
     is d (A2 - A1) (docs/references.md section 5), in the r-z model 2 pi (u2 - u1)
     with u = r A_phi the unknown, so equally spaced levels make
     the number of lines crossing any segment proportional to the flux through
-    it, in the window as in the limbs.  The step is a 1-2-5 number and A = 0
-    (the box boundary) is one of the levels.
+    it, in the window as in the limbs.  The flux per line (the step of A
+    times the depth, or times 2 pi) is a 1-2-5 number, chosen on the flux
+    itself, and A = 0 (the box boundary) is one of the levels.
     """
     sol = res.fe.solution
     a = sol.A[sol.basis.nodal_dofs[0]]
     lo, hi = float(a.min()), float(a.max())
     if not hi > lo:
         return np.array([]), 0.0
-    step = _nice_step((hi - lo) / lines)
+    total = sol.assembler.formulation.total  # depth, or 2 pi round the axis
+    per_line = _nice_step((hi - lo) * total / lines)  # a 1-2-5 flux, after the depth or 2 pi
+    step = per_line / total
     levels = np.arange(math.floor(lo / step) + 1, math.ceil(hi / step)) * step
-    return levels, step * sol.assembler.formulation.total  # depth, or 2 pi round the axis
+    return levels, per_line
 
 
 def _si(value: float, unit: str) -> str:
@@ -144,60 +160,178 @@ def _fine_levels(levels: np.ndarray) -> np.ndarray:
 
 
 def _iron_mask(res: CheckResult) -> np.ndarray:
-    """True for the elements of core regions (the dotted lines leave them out)."""
+    """True for the elements of core and magnet regions (the solid parts: the
+    linear |B| scale; the dotted air lines leave them out)."""
     rmesh = res.fe.solution.mesh
     mask = np.zeros(rmesh.nelements, dtype=bool)
     for region in rmesh.layout.regions:
-        if region.kind == "core":
+        if region.kind in ("core", "magnet"):
             mask[rmesh.elements_of(region.name)] = True
     return mask
+
+
+def iron_scale(res: CheckResult) -> float:
+    """Top of the linear |B| scale in the iron (T): the largest saturation
+    (``b_max``, the B-H data's end) of the case's core materials, rounded up
+    to 0.1 T, so cases of one material share a scale; 2 T when none has one."""
+    tops = [float(getattr(m.law, "b_max", math.nan)) for m in res.case.materials
+            if m.kind != "magnet"]
+    tops = [t for t in tops if math.isfinite(t) and t > 0]
+    return math.ceil(max(tops) * 10.0 - 1e-9) / 10.0 if tops else 2.0
+
+
+#: a flux line closer than this to its neighbour (points at the figure's
+#: resolution) is thinned: every second, then every fourth line kept there
+CROWD_PT = 2.2
+
+
+def _b_limit(res: CheckResult) -> tuple[float, str]:
+    """The |B| contour drawn over the iron: the case's peak-B margin, else
+    the core material's knee (where dB/dH has fallen to a tenth)."""
+    from ..judge.check import _knee
+
+    if res.case.margins.peak_B is not None:
+        return float(res.case.margins.peak_B), "peak-B limit"
+    try:
+        knee = _knee(res.case.material("core").law)
+    except Exception:  # a case without a core material
+        return math.nan, ""
+    return knee, "knee of the B-H curve"
 
 
 def flux_caption(res: CheckResult) -> str:
     """What the flux plot shows, with the flux per line."""
     _, per_line = flux_levels(res)
     sol = res.fe.solution
-    where = ("round the axis" if sol.assembler.formulation.name == "axisymmetric"
-             else f"through the {sol.mesh.layout.depth * 1e3:g} mm stack")
-    return (f"Flux lines (equally spaced contours of A: one solid line per {_si(per_line, 'Wb')} "
-            f"of flux {where}; in the "
-            f"air, dotted lines at one per {_si(per_line / AIR_LINE_FACTOR, 'Wb')} show the "
-            f"leakage and fringing flux) over |B| on a logarithmic scale spanning {B_DECADES} "
-            "decades.")
+    rz = sol.assembler.formulation.name == "axisymmetric"
+    where = "round the axis" if rz else f"through the {sol.mesh.layout.depth * 1e3:g} mm stack"
+    limit, what = _b_limit(res)
+    contour = (f" The dashed contour is the {what}, {limit:.3g} T."
+               if math.isfinite(limit) else "")
+    mirror = (" The r-z section is drawn mirrored about the axis (dash-dot)." if rz else "")
+    return (f"Flux lines (equally spaced contours of A, solid for both signs: one line per "
+            f"{_si(per_line, 'Wb')} of flux {where}; where lines crowd closer than the "
+            f"figure can show, only every second or fourth is drawn; in the air, dotted lines "
+            f"at one per {_si(per_line / AIR_LINE_FACTOR, 'Wb')} show the leakage and "
+            f"fringing flux). |B| in the iron on a linear scale from 0 to "
+            f"{iron_scale(res):g} T (the material's saturation, the same for every case of "
+            f"that material); |B| in the air on its own logarithmic scale over "
+            f"{B_DECADES} decades.{contour}{mirror}")
 
 
-# pale (weak field) to deep red (strong), stopping short of the darkest red so
-# that the dark flux lines stay visible over saturated iron
-_B_MAP = LinearSegmentedColormap.from_list(
-    "magcheck_b", plt.get_cmap("YlOrRd")(np.linspace(0.0, 0.8, 256)))
+def _truncated(name: str, lo: float, hi: float, strength: float = 1.0):
+    """Part ``lo``..``hi`` of a matplotlib map, blended toward white to
+    ``strength`` (1 keeps it; lightness stays monotone)."""
+    rgba = plt.get_cmap(name)(np.linspace(lo, hi, 256))
+    rgba[:, :3] = 1.0 - strength * (1.0 - rgba[:, :3])
+    return LinearSegmentedColormap.from_list(f"magcheck_{name}", rgba)
+
+
+# perceptually uniform maps whose lightness falls with |B| (also in grey
+# print): the iron pale to mid magenta (the black flux lines stay visible at
+# saturation), the air a pale cividis (cream to grey-blue), fainter than the iron
+_IRON_MAP = _truncated("magma_r", 0.0, 0.62)
+_AIR_MAP = _truncated("cividis_r", 0.0, 0.75, strength=0.45)
+
+
+def _vertex_values(tri: Triangulation, values: np.ndarray, mask: np.ndarray) -> np.ndarray:
+    """Element values averaged onto the vertices of the unmasked elements."""
+    t = tri.triangles[~mask]
+    v = np.repeat(values[~mask], 3)
+    total = np.bincount(t.ravel(), weights=v, minlength=tri.x.size)
+    count = np.bincount(t.ravel(), minlength=tri.x.size)
+    return np.where(count > 0, total / np.maximum(count, 1), 0.0)
+
+
+def _crowding(tri: Triangulation, a_vert: np.ndarray, step: float, mm_per_pt: float) -> np.ndarray:
+    """Per element, the distance between neighbouring flux lines in points
+    (step over |grad A| of the linear interpolation on the vertices)."""
+    t = tri.triangles
+    x, y = tri.x[t], tri.y[t]
+    a = a_vert[t]
+    det = (x[:, 1] - x[:, 0]) * (y[:, 2] - y[:, 0]) - (x[:, 2] - x[:, 0]) * (y[:, 1] - y[:, 0])
+    det = np.where(det == 0, np.inf, det)
+    gx = ((a[:, 1] - a[:, 0]) * (y[:, 2] - y[:, 0]) - (a[:, 2] - a[:, 0]) * (y[:, 1] - y[:, 0])) / det
+    gy = ((a[:, 2] - a[:, 0]) * (x[:, 1] - x[:, 0]) - (a[:, 1] - a[:, 0]) * (x[:, 2] - x[:, 0])) / det
+    g = np.hypot(gx, gy)
+    with np.errstate(divide="ignore"):
+        return np.where(g > 0, step / np.where(g > 0, g, 1.0) / mm_per_pt, np.inf)
 
 
 def fig_flux(res: CheckResult):
+    """Flux lines over |B|: the iron on a linear scale (0 to `iron_scale`)
+    with the `_b_limit` contour, the air on its own log scale; an r-z section
+    mirrored about its axis."""
     sol = res.fe.solution
-    fig, ax = plt.subplots(figsize=(6.5, 6))
+    mirror = _mirrored(res)
+    x0, y0, x1, y1 = sol.mesh.layout.bbox()
+    span_x = (2 * x1 if mirror else x1 - x0) * 1.5
+    span_y = (y1 - y0) * 1.5
+    width = 7.2
+    height = min(9.0, max(4.2, width * 0.78 * span_y / span_x + 0.9))
+    fig, ax = plt.subplots(figsize=(width, height))
     tri = _tri(res)
     bmag = np.linalg.norm(post.b_elements(sol), axis=0)
-    top = float(bmag.max()) if bmag.size and bmag.max() > 0 else 1.0
-    floor = top * 10.0 ** -B_DECADES
-    norm = LogNorm(vmin=floor, vmax=top, clip=True)
-    pc = ax.tripcolor(tri, facecolors=np.maximum(bmag, floor), cmap=_B_MAP, norm=norm,
-                      shading="flat")
+    iron = _iron_mask(res)
+    top = iron_scale(res)
+    air_b = bmag[~iron]
+    air_top = float(air_b.max()) if air_b.size and air_b.max() > 0 else 1.0
+    air_norm = LogNorm(vmin=air_top * 10.0 ** -B_DECADES, vmax=air_top, clip=True)
+    from matplotlib.colors import Normalize
+
+    iron_norm = Normalize(vmin=0.0, vmax=top, clip=True)
     levels, per_line = flux_levels(res)
     a_vert = sol.A[sol.basis.nodal_dofs[0]][: tri.x.size]
-    if levels.size:
-        ax.tricontour(tri, a_vert, levels=levels, colors="#102a43", linewidths=0.45)
-        # outside the iron, dotted lines at a tenth of the step show the
-        # leakage and fringing flux that is smaller than one solid line
-        fine = _fine_levels(levels)
-        air = Triangulation(tri.x, tri.y, tri.triangles, mask=_iron_mask(res))
-        if fine.size:
-            ax.tricontour(air, a_vert, levels=fine, colors="#1f5f8b", linewidths=0.35,
-                          linestyles=":")
-    _outlines(ax, res, lw=0.8)
-    _zoom(ax, res)
-    fig.colorbar(pc, ax=ax, label="|B| (T), logarithmic", shrink=0.85)
-    ax.set_title(f"Flux lines over |B|: solid one per {_si(per_line, 'Wb')}, dotted (air) one per "
-                 f"{_si(per_line / AIR_LINE_FACTOR, 'Wb')}", fontsize=9)
+    step = float(levels[1] - levels[0]) if levels.size > 1 else 0.0
+    # figure resolution: the axes' width in points over the span in mm
+    mm_per_pt = span_x * 1e3 / (width * 0.7 * 72.0)
+    spacing = (_crowding(tri, a_vert, step, mm_per_pt) if step > 0
+               else np.full(tri.triangles.shape[0], np.inf))
+    limit, limit_what = _b_limit(res)
+    b_vert = _vertex_values(tri, bmag, ~iron)
+    pc_iron = pc_air = None
+    for sgn in ((1.0, -1.0) if mirror else (1.0,)):
+        xs = tri.x * sgn
+        t_iron = Triangulation(xs, tri.y, tri.triangles, mask=~iron)
+        t_air = Triangulation(xs, tri.y, tri.triangles, mask=iron)
+        if air_b.size:
+            pc_air = ax.tripcolor(t_air, facecolors=np.maximum(bmag, air_norm.vmin),
+                                  cmap=_AIR_MAP, norm=air_norm, shading="flat")
+        if iron.any():
+            pc_iron = ax.tripcolor(t_iron, facecolors=bmag, cmap=_IRON_MAP, norm=iron_norm,
+                                   shading="flat")
+        if levels.size:
+            k = np.rint(levels / step).astype(int)
+            for keep, lo, hi in ((1, CROWD_PT, np.inf), (2, CROWD_PT / 2, CROWD_PT),
+                                 (4, 0.0, CROWD_PT / 2)):
+                sel = levels[k % keep == 0]
+                tier = Triangulation(xs, tri.y, tri.triangles,
+                                     mask=~((spacing >= lo) & (spacing < hi)))
+                if sel.size and not tier.mask.all():
+                    ax.tricontour(tier, a_vert, levels=sel, colors="#101820", linewidths=0.5,
+                                  linestyles="solid", negative_linestyles="solid")
+            # outside the iron, dotted lines at a tenth of the step show the
+            # leakage and fringing flux that is smaller than one solid line
+            fine = _fine_levels(levels)
+            if fine.size and air_b.size:
+                ax.tricontour(t_air, a_vert, levels=fine, colors="#1f4e79", linewidths=0.35,
+                              linestyles=":", negative_linestyles=":")
+        if math.isfinite(limit) and iron.any() and 0 < limit < float(bmag[iron].max()):
+            ax.tricontour(t_iron, b_vert, levels=[limit], colors="#00a6a6", linewidths=1.6,
+                          linestyles="--")
+        _outlines(ax, res, lw=0.8, sign=sgn)
+    _zoom(ax, res, mirror=mirror)
+    if pc_iron is not None:
+        cb = fig.colorbar(pc_iron, ax=ax, shrink=0.85, pad=0.02,
+                          label="|B| in iron and magnets (T), linear")
+        if math.isfinite(limit) and 0 < limit < top:
+            cb.ax.axhline(limit, color="#00a6a6", lw=2.0, ls="--")
+    if pc_air is not None:
+        fig.colorbar(pc_air, ax=ax, shrink=0.85, pad=0.02, label="|B| in the air (T), log")
+    ax.set_title(f"Flux lines: one per {_si(per_line, 'Wb')} (solid, both signs); "
+                 f"dotted in air one per {_si(per_line / AIR_LINE_FACTOR, 'Wb')}"
+                 + (f"\ndashed: {limit_what} {limit:.3g} T" if math.isfinite(limit) else ""),
+                 fontsize=8.5)
     return fig
 
 
