@@ -347,6 +347,10 @@ def fig_gap_line(res: CheckResult, n: int = 400):
     u = np.linspace(0.0, 1.0, n)
     pts = np.vstack([x0 + u * (x1 - x0), y0 + u * (y1 - y0)])
     t = line.offset + u * math.hypot(x1 - x0, y1 - y0)
+    if _mirrored(res):
+        # a point on the axis has B_z = (1/r) du/dr = 0/0 in the r-z form: sample
+        # a hair off it (1e-6 of the line), where the field is the axis's
+        pts[0] = np.maximum(pts[0], 1e-6 * math.hypot(x1 - x0, y1 - y0))
     b = post.sample_b(res.fe.solution, pts)[line.component]
     sign = np.sign(b[len(b) // 2]) or 1.0
     ax.plot(t * 1e3, sign * b, color=FE_COLOUR, label="FE, B along the gap's flux")
@@ -354,7 +358,10 @@ def fig_gap_line(res: CheckResult, n: int = 400):
                label=f"hand gap B ({res.hand_planar.fringing_model}, planar)")
     for c in line.faces:
         ax.axvline(c * 1e3, color="#888888", lw=0.8, ls=":")
-    ax.set_xlabel("position across the gap (mm); dotted: pole-face edges")
+    rz = _mirrored(res)
+    across = "r" if rz and abs(x1 - x0) >= abs(y1 - y0) else "z" if rz else (
+        "x" if abs(x1 - x0) >= abs(y1 - y0) else "y")
+    ax.set_xlabel(f"{across} across the gap (mm); dotted: pole-face edges")
     ax.set_ylabel("B (T)")
     ax.set_title(f"B across the middle of the gap in {line.label}: fringing beyond the faces",
                  fontsize=9)
@@ -384,20 +391,231 @@ def fig_path_h(res: CheckResult):
     return fig
 
 
+def _region_means(res: CheckResult) -> dict[str, float]:
+    """The FE's area-mean |B| (T) of every core region (the finest mesh)."""
+    sol = res.fe.solution
+    rmesh = sol.mesh
+    bmag = np.linalg.norm(post.b_elements(sol), axis=0)
+    tri = _tri(res)
+    t = tri.triangles
+    x, y = tri.x[t], tri.y[t]
+    area = 0.5 * np.abs((x[:, 1] - x[:, 0]) * (y[:, 2] - y[:, 0])
+                        - (x[:, 2] - x[:, 0]) * (y[:, 1] - y[:, 0]))
+    out = {}
+    for region in rmesh.layout.regions:
+        if region.kind == "core":
+            idx = rmesh.elements_of(region.name)
+            if len(idx) and area[idx].sum() > 0:
+                out[region.name] = float(np.average(bmag[idx], weights=area[idx]))
+    return out
+
+
+def _materials_present(res: CheckResult) -> list[tuple[str, Any, list[str]]]:
+    """(description, law, core regions and hand segments of it) for every
+    soft material of the case, in case order."""
+    case = res.case
+    names = [r.name for r in res.fe.solution.mesh.layout.regions if r.kind == "core"]
+    names += [seg["name"] for seg in res.hand_planar.segments if seg.get("kind") == "core"]
+    out: dict[str, tuple[str, Any, list[str]]] = {}
+    for n in dict.fromkeys(names):
+        try:
+            m = case.part_material(n)
+        except KeyError:
+            continue
+        if m.kind == "magnet" or not hasattr(m.law, "b_of_h"):
+            continue
+        out.setdefault(m.description, (m.description, m.law, []))[2].append(n)
+    return list(out.values())
+
+
 def fig_bh(res: CheckResult):
-    fig, ax = plt.subplots(figsize=(6.5, 4))
-    law = res.case.material("core").law
-    h_top = max(3 * res.fe.values["path_H"], 3 * res.hand_planar.path_H, 2000.0)
-    h = np.linspace(0, h_top, 400)
-    ax.plot(h, law.b_of_h(h), color="#5b6c80", label=res.case.material("core").description)
-    ax.plot(res.hand_planar.path_H, res.hand_planar.core_B, "o", color=HAND_COLOUR,
-            label="hand: path H, core B")
-    ax.plot(res.fe.values["path_H"], res.fe.values["core_B"], "s", color=FE_COLOUR,
-            label="FE: path-mean H, core-mean B")
-    ax.set_xlabel("H (A/m)")
-    ax.set_ylabel("B (T)")
-    ax.set_title("B-H curve and operating points")
-    ax.legend(fontsize=8)
+    """The B-H curve of every soft material present, with each model's
+    operating points on it: the hand network's per segment (its B and H),
+    the FE's per core region (area-mean |B|, and the H the curve gives it, so
+    on the curve by construction); the FE peak B (0.5 % area quantile) and
+    the peak-B limit as horizontal lines."""
+    mats = _materials_present(res)
+    if not mats:
+        return None
+    fig, axes = plt.subplots(1, len(mats), figsize=(6.5 * min(len(mats), 2), 4.2), squeeze=False)
+    fe_means = _region_means(res)
+    segs = {seg["name"]: seg for seg in res.hand_planar.segments if seg.get("kind") == "core"}
+    peak = res.fe.fine.peak_B
+    limit = res.case.margins.peak_B
+    for ax, (desc, law, parts) in zip(axes[0], mats):
+        h_pts = [abs(segs[p]["H"]) for p in parts if p in segs]
+        b_all = [abs(segs[p]["B"]) for p in parts if p in segs] + [
+            fe_means[p] for p in parts if p in fe_means] + [peak]
+        h_top = max([3.0 * max(h_pts, default=0.0), float(law.h_of_b(max(b_all) * 1.05))
+                     if b_all else 0.0, 1000.0])
+        h = np.linspace(0, h_top, 400)
+        ax.plot(h, law.b_of_h(h), color="#5b6c80", lw=1.6, label=desc)
+        first = True
+        for p in parts:
+            if p in segs:
+                ax.plot(abs(segs[p]["H"]), abs(segs[p]["B"]), "o", mfc="none", ms=7,
+                        color=HAND_COLOUR, label="hand, per segment" if first else None)
+                ax.annotate(p, (abs(segs[p]["H"]), abs(segs[p]["B"])), fontsize=6,
+                            xytext=(4, -9), textcoords="offset points", color=HAND_COLOUR)
+                first = False
+        first = True
+        for p in parts:
+            if p in fe_means:
+                b = fe_means[p]
+                ax.plot(float(law.h_of_b(b)), b, "s", ms=5, color=FE_COLOUR,
+                        label="FE, area-mean |B| per region" if first else None)
+                ax.annotate(p, (float(law.h_of_b(b)), b), fontsize=6, xytext=(4, 3),
+                            textcoords="offset points", color=FE_COLOUR)
+                first = False
+        if math.isfinite(peak):
+            ax.axhline(peak, color=FE_COLOUR, lw=0.9, ls=":",
+                       label=f"FE peak B (0.5 % of the core area) {peak:.3g} T")
+        if limit is not None:
+            ax.axhline(limit, color="#00a6a6", lw=1.4, ls="--", label=f"peak-B limit {limit:.3g} T")
+        ax.set_xlim(0, h_top)
+        ax.set_ylim(0, max(float(law.b_of_h(h_top)), limit or 0.0, peak if math.isfinite(peak)
+                           else 0.0) * 1.1)
+        ax.set_xlabel("H (A/m)")
+        ax.set_ylabel("B (T)")
+        ax.set_title(f"{desc}: {', '.join(parts)}", fontsize=9)
+        ax.grid(alpha=0.3)
+        ax.legend(fontsize=7, loc="lower right")
+    return fig
+
+
+def fig_magnet(res: CheckResult):
+    """The first magnet in the second quadrant: its recoil line from B_r to
+    H_c, the knee field, the load line through each model's operating point
+    (B/H of that point, through the origin), both operating points and the
+    FE's demagnetising extreme; None without a magnet."""
+    from ..design.coremodel import core_model
+
+    model = core_model(res.case)
+    mv = res.fe.fine.magnet_values
+    if not model.magnets or not mv:
+        return None
+    mag = model.magnets[0]
+    from scipy.constants import mu_0
+
+    br = float(np.hypot(*mag.remanence))
+    mu = mu_0 * mag.mu_r
+    hc = -br / mu
+    knee = dict(model.magnet_knees).get(mag.region)
+    fig, ax = plt.subplots(figsize=(6.5, 4.4))
+    h_lo = min(hc, knee if knee is not None else hc) * 1.1
+    h = np.linspace(h_lo, 0.0, 200)
+    ax.plot(h * 1e-3, np.maximum(br + mu * h, 0.0), color="#5b6c80", lw=1.6,
+            label=f"recoil line: B_r {br:.3g} T, µ_r {mag.mu_r:g}, H_c {hc * 1e-3:.4g} kA/m")
+    if knee is not None:
+        ax.axvline(knee * 1e-3, color=HAND_COLOUR, lw=1.2, ls="--",
+                   label=f"knee {knee * 1e-3:.4g} kA/m (demagnetisation below)")
+        ax.axvspan(h_lo * 1e-3, knee * 1e-3, color=HAND_COLOUR, alpha=0.08)
+    for who, vals, marker, colour in (("hand", res.hand_planar.magnet_values, "o", HAND_COLOUR),
+                                      ("FE", mv, "s", FE_COLOUR)):
+        b0, h0 = vals.get("magnet_B", math.nan), vals.get("magnet_H", math.nan)
+        if not (math.isfinite(b0) and math.isfinite(h0)):
+            continue
+        ax.plot(h0 * 1e-3, b0, marker, ms=7, mfc="none" if who == "hand" else colour,
+                color=colour, label=f"{who} operating point: {b0:.3g} T, {h0 * 1e-3:.4g} kA/m",
+                zorder=4)
+        if h0 < 0:
+            slope = b0 / h0  # the load line through the origin
+            hh = np.array([h_lo, 0.0])
+            ax.plot(hh * 1e-3, slope * hh, ls=":" if who == "hand" else "-.", color=colour,
+                    lw=1.0, label=f"{who} load line, B/µ0H = {slope / mu_0:.3g}")
+    hmin = mv.get("magnet_H_min", math.nan)
+    if math.isfinite(hmin):
+        ax.plot(hmin * 1e-3, max(br + mu * hmin, 0.0), "x", color=FE_COLOUR, ms=8,
+                label=f"FE demagnetising extreme (0.5 % area) {hmin * 1e-3:.4g} kA/m")
+    ax.set_xlim(h_lo * 1e-3, 0.0)
+    ax.set_ylim(0.0, br * 1.15)
+    ax.set_xlabel("H along the magnetisation (kA/m)")
+    ax.set_ylabel("B along the magnetisation (T)")
+    ax.set_title(f"Magnet {mag.region} in the second quadrant", fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7, loc="upper left")
+    return fig
+
+
+def force_strokes(res: CheckResult, n: int = 12) -> np.ndarray:
+    """The strokes (m) of the force-stroke figure: the case's [sweep] range of
+    the stroke key when it declares one, else 0.2 to 2 times the case's
+    stroke; the case's stroke and every force limit's stroke added."""
+    from ..design.coremodel import core_model
+
+    spec = core_model(res.case).force
+    s0 = spec.stroke
+    lims = [lim.stroke for lim in res.case.margins.force]
+    hi = max([2.0 * s0, *(1.1 * s for s in lims)])
+    pts = np.linspace(0.2 * s0, hi, n)
+    return np.unique(np.concatenate([pts, [s0], lims]))
+
+
+def fig_force_stroke(res: CheckResult):
+    """Force on the moving part against the stroke: the hand network's
+    virtual work and the pull formula (the engineer's 3D form, solved at each
+    stroke), both FE methods at the case's stroke (depth-corrected as the
+    table's FE 3D column), the force limits drawn at their strokes and the
+    minimum force at the case's stroke; None without a moving part."""
+    from ..design.coremodel import core_model
+    from ..errors import CaseError
+    from ..models.hand import run_hand
+
+    spec = core_model(res.case).force
+    if spec is None or spec.stroke_key is None or not res.hand_3d.force_values:
+        return None
+    import dataclasses
+
+    def at_stroke(st: float):
+        try:
+            return res.case.with_values({spec.stroke_key: st})
+        except CaseError:  # a case built in code, without its tables: the core's own field
+            table, _, name = spec.stroke_key.partition(".")
+            if table != "core" or not hasattr(res.case.core, name):
+                raise
+            return dataclasses.replace(res.case,
+                                       core=dataclasses.replace(res.case.core, **{name: st}))
+
+    strokes, vw, pull = [], [], []
+    for st in force_strokes(res):
+        try:
+            h = run_hand(at_stroke(float(st)))
+        except (CaseError, ValueError, ArithmeticError):
+            continue  # a stroke the geometry does not take
+        strokes.append(st * 1e3)
+        vw.append(h.force_values.get("force", math.nan))
+        pull.append(h.force_values.get("force_pull", math.nan))
+    fig, ax = plt.subplots(figsize=(6.5, 4.2))
+    ax.plot(strokes, vw, "o-", color=HAND_COLOUR, mfc="none", ms=4, lw=1.2,
+            label="hand, network virtual work")
+    ax.plot(strokes, pull, "s--", color=HAND_COLOUR, mfc="none", ms=4, lw=1.0,
+            label="hand, pull formula")
+    rows = {r.key: r for r in res.rows}
+    s0 = spec.stroke * 1e3
+    for key, marker, what in (("force", "D", "FE, Maxwell stress"),
+                              ("force_virtual_work", "X", "FE, virtual work")):
+        r = rows.get(key)
+        if r is not None and math.isfinite(r.fe_3d):
+            err = r.fe_3d_uncertainty if math.isfinite(r.fe_3d_uncertainty) else None
+            ax.errorbar([s0], [r.fe_3d], yerr=err, fmt=marker, color=FE_COLOUR, ms=7,
+                        capsize=3, label=f"{what} at {s0:g} mm: {r.fe_3d:.3g} N", zorder=4)
+    m = res.case.margins
+    if m.force_min is not None:
+        ax.plot([s0], [m.force_min], "^", color="#00a6a6", ms=10,
+                label=f"limit: at least {m.force_min:g} N at {s0:g} mm")
+    for lim in m.force:
+        for v, mk, word in ((lim.min, "^", "at least"), (lim.max, "v", "at most")):
+            if v is not None:
+                ax.plot([lim.stroke * 1e3], [v], mk, color="#00a6a6", ms=10,
+                        label=f"limit: {word} {v:g} N at {lim.stroke * 1e3:g} mm")
+                ax.hlines(v, lim.stroke * 1e3 - 0.15 * s0, lim.stroke * 1e3 + 0.15 * s0,
+                          color="#00a6a6", lw=2.0)
+    ax.set_xlabel(f"stroke ({spec.stroke_key}, mm)")
+    ax.set_ylabel("force on the moving part (N), closing")
+    ax.set_title(f"{res.case.name}: force along the stroke at {res.case.winding.current:g} A "
+                 "(hand 3D form; FE at the case's stroke)", fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7)
     return fig
 
 
@@ -497,6 +715,8 @@ FIGURES = {
     "gap_line.png": fig_gap_line,
     "path_h.png": fig_path_h,
     "bh.png": fig_bh,
+    "magnet.png": fig_magnet,
+    "force_stroke.png": fig_force_stroke,
     "breakdown.png": fig_breakdown,
     "magnetizing.png": fig_magnetizing,
     "inrush.png": fig_inrush,
@@ -507,7 +727,17 @@ _CAPTIONS = {
     "geometry.png": "Regions (core, gaps, coil sides) and the finer mesh.",
     "gap_line.png": "B along a line across the middle of the first gap, beyond both pole faces.",
     "path_h.png": "|H| along the core's mean path (gaps left out), with the hand value.",
-    "bh.png": "The core's B-H curve with the hand and FE operating points.",
+    "bh.png": "The B-H curve of every soft material present, with the hand network's operating "
+              "point per segment (open circles: its B and H) and the FE's per core region "
+              "(squares: area-mean |B| and the H the curve gives it); the FE peak B (0.5 % of "
+              "the core area) and the peak-B limit as horizontal lines.",
+    "magnet.png": "The first magnet in the second quadrant: its recoil line, the knee field "
+                  "(demagnetisation beyond it), each model's operating point and load line, and "
+                  "the FE's demagnetising extreme (the H exceeded on 0.5 % of the magnet's area).",
+    "force_stroke.png": "Force on the moving part along the stroke at the case's current: the "
+                        "hand network's virtual work and the pull formula solved at each stroke "
+                        "(3D form), both FE methods at the case's stroke (depth-corrected, with "
+                        "their uncertainty), and the force limits at their strokes.",
     "breakdown.png": "The hand-vs-FE difference of each quantity after each refinement of the "
                      "hand model (planar forms), in the order of the table above.",
     "magnetizing.png": "The magnetizing current of the voltage-driven winding over one period, "
