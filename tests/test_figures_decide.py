@@ -116,3 +116,26 @@ def test_force_stroke_hand_curve_and_limits(holding, tmp_path):
     _save(fig, tmp_path / "force.png")
     assert plots.fig_force_stroke(
         run_check(load_case(CASES / "demo_choke.toml"), estimate_error=False)) is None
+
+
+def test_geometry_legend_from_the_regions_present_and_dimensions(pot, holding, tmp_path):
+    def labels(res):
+        fig = plots.fig_geometry(res)
+        ax = fig.axes[0]
+        texts = [t.get_text() for t in ax.get_legend().get_texts()]
+        dims = [t.get_text() for t in ax.texts]
+        _save(fig, tmp_path / f"{res.case.name}.png")
+        return texts, dims
+
+    texts, dims = labels(holding)
+    assert any(t.startswith("magnet (B_r 0.4 T") for t in texts)
+    assert "keeper (built-in demo-softiron)" in texts and "air gaps" in texts
+    assert not any("return" in t for t in texts)  # an r-z coil has go sides only
+    assert "hand circuit's mean path" in texts
+    # the holding magnet's outer radius 20 mm: a 40 mm diameter, mirrored
+    assert "Ø 40 mm" in dims
+    texts, dims = labels(pot)
+    assert not any(t.startswith("magnet") for t in texts)
+    assert any(t.startswith("winding") for t in texts)
+    gap = pot.case.core.gap * 1e3
+    assert f"{gap:.3g} mm" in dims  # the centre post's gap length

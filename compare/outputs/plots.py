@@ -86,17 +86,159 @@ def _tri(res: CheckResult) -> Triangulation:
     return Triangulation(m.p[0, :nv] * 1e3, m.p[1, :nv] * 1e3, m.t[:3].T)
 
 
+#: one colour per winding, in case order (its go and return sides alike; the
+#: return side hatched)
+WINDING_COLOURS = ("#2a9d8f", "#7b3fa0", "#d68910", "#2471a3", "#a93226")
+#: core parts in shades of slate, in region order
+CORE_SHADES = ("#5b6c80", "#8796a8", "#3e4a59", "#a7b3c0")
+MAGNET_COLOUR = "#c2185b"
+
+
+def _loops(shape) -> list[list[tuple[float, float]]]:
+    """A layout shape as closed loops (m): outline first, then its holes."""
+    if hasattr(shape, "points"):
+        return [list(shape.points), *[list(h) for h in shape.holes]]
+    if hasattr(shape, "r") and hasattr(shape, "cx"):
+        t = np.linspace(0.0, 2.0 * math.pi, 73)[:-1]
+        return [list(zip(shape.cx + shape.r * np.cos(t), shape.cy + shape.r * np.sin(t)))]
+    x0, y0, x1, y1 = shape.bbox()
+    return [[(x0, y0), (x1, y0), (x1, y1), (x0, y1)]]
+
+
+def _region_patch(region, sign: float, **kw):
+    """One filled patch of a region's shapes (holes left open), mm."""
+    from matplotlib.patches import PathPatch
+    from matplotlib.path import Path as MplPath
+
+    verts, codes = [], []
+    for shape in region.shapes:
+        for i, loop in enumerate(_loops(shape)):
+            pts = np.array([(sign * x * 1e3, y * 1e3) for x, y in loop])
+            area = 0.5 * np.sum(pts[:, 0] * np.roll(pts[:, 1], -1)
+                                - np.roll(pts[:, 0], -1) * pts[:, 1])
+            if (area < 0) != (i > 0):  # outlines counter-clockwise, holes clockwise
+                pts = pts[::-1]
+            verts += [*pts, pts[0]]
+            codes += [MplPath.MOVETO] + [MplPath.LINETO] * (len(pts) - 1) + [MplPath.CLOSEPOLY]
+    return PathPatch(MplPath(np.array(verts), codes), **kw)
+
+
+def _dimension(ax, p0, p1, text: str, offset: tuple[float, float]) -> None:
+    """A dimension line from p0 to p1 (mm), moved by ``offset``, with its text."""
+    (x0, y0), (x1, y1) = p0, p1
+    dx, dy = offset
+    ax.annotate("", (x1 + dx, y1 + dy), (x0 + dx, y0 + dy),
+                arrowprops=dict(arrowstyle="<->", color="0.25", lw=0.8, shrinkA=0, shrinkB=0))
+    for x, y in (p0, p1):
+        ax.plot([x, x + dx * 1.15], [y, y + dy * 1.15], color="0.55", lw=0.5)
+    vertical = abs(x1 - x0) < abs(y1 - y0)
+    ax.text((x0 + x1) / 2 + dx * 1.25, (y0 + y1) / 2 + dy * 1.25, text, fontsize=7,
+            ha="center", va="center", rotation=90 if vertical else 0, color="0.15",
+            bbox=dict(fc="white", ec="none", pad=0.5, alpha=0.8))
+
+
 def fig_geometry(res: CheckResult):
-    fig, ax = plt.subplots(figsize=(6.5, 6))
+    """Regions and mesh: parts filled by kind, a legend of the regions
+    present (each core part, the gaps, every winding's go and return sides,
+    magnets with their direction), the overall dimensions and each gap's
+    length, and the hand circuit's mean path; r-z mirrored about the axis."""
+    from matplotlib.patches import Patch
+    from matplotlib.lines import Line2D
+
+    from ..design.coremodel import core_model
+
+    sol = res.fe.solution
+    layout = sol.mesh.layout
+    model = core_model(res.case)
+    mirror = _mirrored(res)
+    x0, y0, x1, y1 = layout.bbox()
+    span_x = (2 * x1 if mirror else x1 - x0) * 1.5
+    span_y = (y1 - y0) * 1.5
+    fig, ax = plt.subplots(figsize=(7.2, min(10.0, max(5.2, 5.6 * span_y / span_x + 2.2))))
     tri = _tri(res)
-    ax.triplot(tri, lw=0.2, color="#9aa5b1")
-    _outlines(ax, res, lw=1.6)
-    _zoom(ax, res)
-    m = res.fe.solution.mesh.mesh
-    ax.set_title(f"Regions and mesh ({m.t.shape[1]} elements, P{res.case.fe.order})")
-    handles = [Rectangle((0, 0), 1, 1, fill=False, ec=c, lw=2) for c in REGION_COLOURS.values()]
-    ax.legend(handles, ["core", "gap", "coil side +", "coil side -"], loc="upper right",
-              fontsize=8)
+    signs = (1.0, -1.0) if mirror else (1.0,)
+    for sgn in signs:
+        ax.triplot(Triangulation(tri.x * sgn, tri.y, tri.triangles), lw=0.15, color="#b8c1cc")
+    names = [w.name for w in res.case.windings]
+    coil_of = {}
+    for i, c in enumerate(model.coils):
+        for region, sgn in c.sides:
+            coil_of[region] = (i, sgn)
+    magnets = {m.region: m for m in model.magnets}
+    handles: dict[str, Any] = {}
+    core_i = 0
+    for region in layout.regions:
+        if region.name in coil_of:
+            i, sgn = coil_of[region.name]
+            colour = WINDING_COLOURS[i % len(WINDING_COLOURS)]
+            name = names[i] if i < len(names) else f"winding {i + 1}"
+            kw = dict(fc=colour, ec=colour, alpha=0.45, lw=1.2,
+                      hatch=None if sgn > 0 else "////")
+            side = ("go (+I, +φ)" if mirror else "go (+I out of the page)") if sgn > 0 else \
+                "return (−I, into the page)"
+            label = f"winding {name}: {side}"
+        elif region.name in magnets:
+            kw = dict(fc=MAGNET_COLOUR, ec=MAGNET_COLOUR, alpha=0.45, lw=1.2)
+            m = magnets[region.name]
+            label = ("magnet" if region.name == "magnet" else f"magnet {region.name}") + \
+                f" (B_r {float(np.hypot(*m.remanence)):.3g} T, arrow: magnetisation)"
+        elif region.kind == "gap":
+            kw = dict(fc=REGION_COLOURS["gap"], ec=REGION_COLOURS["gap"], alpha=0.8, lw=1.0)
+            label = "air gaps"
+        elif region.kind == "core":
+            shade = CORE_SHADES[core_i % len(CORE_SHADES)]
+            core_i += 1
+            kw = dict(fc=shade, ec=shade, alpha=0.3, lw=1.4)
+            try:
+                mat = res.case.part_material(region.name).description
+            except KeyError:
+                mat = ""
+            label = f"{region.name}" + (f" ({mat})" if mat else "")
+        else:
+            kw = dict(fc="none", ec="#444444", lw=1.0)
+            label = region.name
+        for sgn in signs:
+            ax.add_patch(_region_patch(region, sgn, **kw))
+        handles.setdefault(label, Patch(**kw))
+        if region.name in magnets:
+            m = magnets[region.name]
+            bx0, by0, bx1, by1 = region.shapes[0].bbox()
+            d = np.array(m.remanence, dtype=float)
+            d = d / (np.hypot(*d) or 1.0) * 0.35 * min(bx1 - bx0, by1 - by0) * 1e3
+            for sgn in signs:
+                cx, cy = sgn * (bx0 + bx1) / 2 * 1e3, (by0 + by1) / 2 * 1e3
+                ax.annotate("", (cx + sgn * d[0], cy + d[1]), (cx - sgn * d[0], cy - d[1]),
+                            arrowprops=dict(arrowstyle="-|>", color="black", lw=1.4))
+    # the hand circuit's mean path
+    if model.mean_path:
+        pts = np.array(model.mean_path) * 1e3
+        for sgn in signs:
+            ax.plot(sgn * pts[:, 0], pts[:, 1], ls="--", color="#1b2631", lw=1.0)
+        handles["hand circuit's mean path"] = Line2D([], [], ls="--", color="#1b2631", lw=1.0)
+    # dimensions: the parts' overall size, each gap's length
+    core = [r for r in layout.regions if r.kind in ("core", "magnet")]
+    if core:
+        bb = np.array([s.bbox() for r in core for s in r.shapes])
+        cx0, cy0 = bb[:, 0].min() * 1e3, bb[:, 1].min() * 1e3
+        cx1, cy1 = bb[:, 2].max() * 1e3, bb[:, 3].max() * 1e3
+        off = 0.08 * max(cx1 - cx0, cy1 - cy0)
+        left = -cx1 if mirror else cx0
+        _dimension(ax, (left, cy0), (cx1, cy0),
+                   f"{'Ø ' if mirror else ''}{(cx1 - left):.4g} mm", (0.0, -off))
+        _dimension(ax, (cx1, cy0), (cx1, cy1), f"{cy1 - cy0:.4g} mm", (off, 0.0))
+    for r in layout.regions:
+        if r.kind != "gap":
+            continue
+        gx0, gy0, gx1, gy1 = (v * 1e3 for v in r.shapes[0].bbox())
+        g = min(gx1 - gx0, gy1 - gy0)
+        ax.annotate(f"{g:.3g} mm", ((gx0 + gx1) / 2, (gy0 + gy1) / 2), xytext=(12, 10),
+                    textcoords="offset points", fontsize=7, color="#7a4f00",
+                    arrowprops=dict(arrowstyle="-", color="#7a4f00", lw=0.6))
+    _zoom(ax, res, mirror=mirror)
+    m = sol.mesh.mesh
+    ax.set_title(f"Regions and mesh ({m.t.shape[1]} elements, P{res.case.fe.order})", fontsize=9)
+    ax.legend(list(handles.values()), list(handles), loc="upper center", fontsize=7,
+              bbox_to_anchor=(0.5, -0.13), ncol=2, frameon=False)
     return fig
 
 
