@@ -961,6 +961,50 @@ def _saturation_marks(ax, sat_rows, tag: str, shade: float) -> None:
                        label=f"{who}: {row['inductance']} L -{label} at {current:.3g} A")
 
 
+MARGIN_COLOUR = "#00a6a6"
+"""The colour of every design limit drawn on a figure (and of the judged FE 3D curve)."""
+
+_DEPTH_CORRECTED = ("inductance", "incremental_inductance", "flux_linkage", "core_B")
+
+
+def _depth_factor(p, key: str) -> float:
+    """A sweep point's depth correction of ``key`` as the margins take it
+    (its ``depth_factors``; else the hand 3D over planar ratio)."""
+    factors = getattr(p, "depth_factors", None) or {}
+    if key in factors:
+        return factors[key]
+    h3, hp = p.hand.get(key, math.nan), p.hand_planar.get(key, math.nan)
+    return h3 / hp if hp and math.isfinite(hp) and math.isfinite(h3) else 1.0
+
+
+def _sweep_margin_marks(ax, case, panel: str, scale: float) -> None:
+    """The case's design limits on a sweep panel against the current: each
+    inductance window at its current (a bar from min to max, arrows for an
+    open side), the minimum saturation currents, the peak-B limit."""
+    m = case.margins
+    if panel == "sweep_inductance.png":
+        for lim in m.inductance:
+            lo = lim.min * scale if lim.min is not None else None
+            hi = lim.max * scale if lim.max is not None else None
+            text = " to ".join(f"{w} {v:.4g} mH" for w, v in (("min", lo), ("max", hi))
+                               if v is not None)
+            if lo is not None and hi is not None:
+                ax.plot([lim.at, lim.at], [lo, hi], color=MARGIN_COLOUR, lw=3.0,
+                        solid_capstyle="butt", label=f"{lim.kind} L window at {lim.at:g} A: {text}")
+            for v, mk in ((lo, "^"), (hi, "v")):
+                if v is not None:
+                    ax.plot([lim.at], [v], mk, color=MARGIN_COLOUR, ms=8,
+                            label=None if (lo is not None and hi is not None)
+                            else f"{lim.kind} L at {lim.at:g} A: {text}")
+        for sat in m.saturation:
+            ax.axvline(sat.min, color=MARGIN_COLOUR, lw=1.4, ls="--",
+                       label=f"saturation current ({sat.kind} L -{sat.drop * 100:g} %) "
+                             f"at least {sat.min:g} A")
+    if panel == "sweep_core_B.png" and m.peak_B is not None:
+        ax.axhline(m.peak_B * scale, color=MARGIN_COLOUR, lw=1.4, ls="--",
+                   label=f"peak-B limit {m.peak_B:.3g} T")
+
+
 def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]:
     """The figures of a sweep as (file name, figure): inductance (secant and
     incremental), flux linkage and core B (mean and peak) against the swept
@@ -1001,8 +1045,20 @@ def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]
                     style["color"] = _shade(style["color"], shade)
                     ax.plot(x, [v * scale for v in ys], _SERIES_LINE[s], lw=1.2,
                             label=" ".join(w for w in (model, what) if w) + suffix, **style)
+                if res.with_fe and key in _DEPTH_CORRECTED:
+                    # the value the margins are judged on: the FE, depth-corrected
+                    ys3 = [p.fe.get(key, math.nan) * _depth_factor(p, key) for p in pts]
+                    if not all(math.isclose(a, b, rel_tol=1e-9) for a, b in zip(
+                            ys3, [p.fe.get(key, math.nan) for p in pts]) if math.isfinite(a)):
+                        ax.plot(x, [v * scale for v in ys3], "-.", lw=1.6,
+                                color=_shade(MARGIN_COLOUR, shade), marker="s" if s == 0
+                                else "D", ms=3, zorder=2,
+                                label=f"FE 3D {what} (depth-corrected, judged){suffix}".replace(
+                                    "  ", " "))
             if name == "sweep_inductance.png" and x_key == CURRENT_KEY:
                 _saturation_marks(ax, saturation, tag, shade)
+        if x_key == CURRENT_KEY:
+            _sweep_margin_marks(ax, res.case, name, scale)
         ax.set_xlabel(x_label)
         ax.set_ylabel(ylabel)
         ax.grid(alpha=0.3)
@@ -1039,6 +1095,27 @@ def fig_sweep_force(res, groups, x_of, x_label):
             if face is not None:
                 kw["markerfacecolor"] = face
             ax.plot(x, ys, line, lw=1.2, label=what + suffix, **kw)
+    from ..design.coremodel import core_model
+
+    spec = core_model(res.case).force
+    if spec is not None and spec.stroke_key in res.keys and res.with_fe:
+        for fixed, pts in groups:  # the FE force as the margins judge it: depth-corrected
+            order = sorted(range(len(pts)), key=lambda i: x_of(pts[i]))
+            ys = [pts[i].fe.get("force_maxwell", math.nan) * _depth_factor(pts[i], "force")
+                  for i in order]
+            if any(math.isfinite(v) and not math.isclose(v, pts[i].fe.get("force_maxwell", v))
+                   for v, i in zip(ys, order)):
+                ax.plot([x_of(pts[i]) for i in order], ys, "-.", color=MARGIN_COLOUR, lw=1.4,
+                        label="FE 3D, Maxwell stress (depth-corrected, judged)")
+    if spec is not None and spec.stroke_key in res.keys:
+        from ..design.keys import display_unit
+
+        k = display_unit(spec.stroke_key)[0]
+        for lim in res.case.margins.force:
+            for v, mk, word in ((lim.min, "^", "at least"), (lim.max, "v", "at most")):
+                if v is not None:
+                    ax.plot([lim.stroke * k], [v], mk, color=MARGIN_COLOUR, ms=9,
+                            label=f"limit: {word} {v:g} N at {lim.stroke * 1e3:g} mm")
     ax.set_xlabel(x_label)
     ax.set_ylabel("force on the moving part (N), closing")
     ax.grid(alpha=0.3)
