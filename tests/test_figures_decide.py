@@ -51,6 +51,9 @@ def test_rz_report_draws_without_numpy_warnings(pot, tmp_path):
         warnings.simplefilter("error")
         page = write_report(pot, tmp_path / "r").read_text()
     assert "flux.png" in page and "bh.png" in page
+    # an r-z solution is 3D already: no hand 3D / FE 3D columns repeating the others
+    assert "<th>hand 3D</th>" not in page and "FE 3D (depth-corrected)" not in page
+    assert "A/mm²" in page  # the current density margin as the case states it
     ax = plots.fig_gap_line(pot).axes[0]
     assert ax.get_xlabel().startswith("r across the gap")
     assert np.all(np.isfinite(ax.lines[0].get_ydata()))

@@ -138,3 +138,17 @@ def test_report_captions_the_flux_plot_with_its_flux_per_line(report):
     page, _, _, _ = report
     assert "one line per" in page and "Wb" in page and "logarithmic" in page
     assert "linear scale from 0 to 2.1 T" in page
+
+
+def test_report_leads_with_the_verdicts_and_keeps_margins_apart(report):
+    # the two banners before the tables; the hand-vs-FE table grouped by
+    # topic with the planar case's 3D columns; the margins in their own table
+    # with the absolute limit; values never wrap inside a cell
+    page, _, _, res = report
+    design = page.index("DESIGN MARGINS: PASS")
+    assert design < page.index("HAND VS FE: PASS") < page.index("<table>")
+    assert "<tr class='topic'><td colspan='9'>field and flux</td></tr>" in page
+    assert "<th>FE 3D (depth-corrected)</th>" in page
+    assert "<h2>Design margins</h2>" in page and "<th>limit</th>" in page
+    assert "white-space: nowrap" in page
+    assert "µWb" in page and "uWb" not in page

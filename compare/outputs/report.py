@@ -123,15 +123,26 @@ def input_rows(res: CheckResult) -> list[list[str]]:
                                    f"centre {_mm(gap.position)} from the limb's start"])
     if not case.gaps and case.family_model.limb_names:  # a drawn core lists its own
         rows.append(["gaps", "none"])
-    w = case.winding
-    if w.limb:
-        rows += [["winding", f"on the {w.limb} limb, N = {w.turns}, I = {w.current:g} A, "
-                             f"NI = {w.mmf:g} A"],
-                 ["coil build", f"thickness {_mm(w.thickness)}, length {_mm(w.length)}, "
-                                f"clearance to the limb {_mm(w.clearance)}"]]
-    else:
-        rows += [["winding", f"drawn coil, N = {w.turns}, I = {w.current:g} A, "
-                             f"NI = {w.mmf:g} A"]]
+    from ..design.units import format_si
+
+    for w in case.windings:
+        label = "winding" if len(case.windings) == 1 else f"winding {w.name}"
+        where = f"on the {w.limb} limb" if w.limb else "drawn coil"
+        if w.driven:
+            drive = (f"driven at {w.voltage:g} V rms, {w.frequency:g} Hz; operating current "
+                     f"(the hand model's peak magnetizing current) {format_si(w.current, 'A')}")
+            if w.residual_flux is not None:
+                drive += f"; inrush: residual flux {w.residual_flux:g} of the peak"
+            if w.resistance is not None:
+                drive += f", series resistance {w.resistance:g} ohm"
+            rows.append([label, f"{where}, N = {w.turns}, {drive}"])
+        else:
+            rows.append([label, f"{where}, N = {w.turns}, I = {w.current:g} A, "
+                                f"NI = {w.mmf:g} A"])
+        if w.limb:
+            rows.append([f"coil build ({w.name})" if len(case.windings) > 1 else "coil build",
+                         f"thickness {_mm(w.thickness)}, length {_mm(w.length)}, "
+                         f"clearance to the limb {_mm(w.clearance)}"])
     for m in case.materials:
         rows.append([f"material of {m.region}", f"{m.description} ({m.kind})"])
     rows.append(["fringing model (hand)", case.hand.fringing])

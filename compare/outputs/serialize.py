@@ -498,7 +498,9 @@ def check_lines(res: CheckResult, agreement: str = "fatal", *, width: int = 100,
             out.append((indent + ln, kind))
 
     form = "axisymmetric" if core_model(c).axisymmetric else "planar"
-    para(f"{c.name}: hand calc vs {form} FE, N = {w.turns}, I = {w.current:g} A "
+    drive = (f"{w.voltage:g} V rms, {w.frequency:g} Hz (I = {format_si(w.current, 'A')} peak "
+             "magnetizing)" if w.driven else f"I = {w.current:g} A")
+    para(f"{c.name}: hand calc vs {form} FE, N = {w.turns}, {drive} "
          f"(fringing model '{res.hand_planar.fringing_model}')", "title")
     for line, banner in zip(verdict_lines(res, agreement), verdict_banners(res, agreement)):
         para(line, "pass" if banner.ok else "FAIL")
