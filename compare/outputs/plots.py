@@ -167,6 +167,7 @@ def fig_geometry(res: CheckResult):
     magnets = {m.region: m for m in model.magnets}
     handles: dict[str, Any] = {}
     core_i = 0
+    kw: dict[str, Any]
     for region in layout.regions:
         if region.name in coil_of:
             i, sgn = coil_of[region.name]
@@ -393,8 +394,9 @@ def _crowding(tri: Triangulation, a_vert: np.ndarray, step: float, mm_per_pt: fl
     a = a_vert[t]
     det = (x[:, 1] - x[:, 0]) * (y[:, 2] - y[:, 0]) - (x[:, 2] - x[:, 0]) * (y[:, 1] - y[:, 0])
     det = np.where(det == 0, np.inf, det)
-    gx = ((a[:, 1] - a[:, 0]) * (y[:, 2] - y[:, 0]) - (a[:, 2] - a[:, 0]) * (y[:, 1] - y[:, 0])) / det
-    gy = ((a[:, 2] - a[:, 0]) * (x[:, 1] - x[:, 0]) - (a[:, 1] - a[:, 0]) * (x[:, 2] - x[:, 0])) / det
+    da1, da2 = a[:, 1] - a[:, 0], a[:, 2] - a[:, 0]
+    gx = (da1 * (y[:, 2] - y[:, 0]) - da2 * (y[:, 1] - y[:, 0])) / det
+    gy = (da2 * (x[:, 1] - x[:, 0]) - da1 * (x[:, 2] - x[:, 0])) / det
     g = np.hypot(gx, gy)
     with np.errstate(divide="ignore"):
         return np.where(g > 0, step / np.where(g > 0, g, 1.0) / mm_per_pt, np.inf)
@@ -418,7 +420,8 @@ def fig_flux(res: CheckResult):
     top = iron_scale(res)
     air_b = bmag[~iron]
     air_top = float(air_b.max()) if air_b.size and air_b.max() > 0 else 1.0
-    air_norm = LogNorm(vmin=air_top * 10.0 ** -B_DECADES, vmax=air_top, clip=True)
+    air_floor = air_top * 10.0 ** -B_DECADES
+    air_norm = LogNorm(vmin=air_floor, vmax=air_top, clip=True)
     from matplotlib.colors import Normalize
 
     iron_norm = Normalize(vmin=0.0, vmax=top, clip=True)
@@ -437,7 +440,7 @@ def fig_flux(res: CheckResult):
         t_iron = Triangulation(xs, tri.y, tri.triangles, mask=~iron)
         t_air = Triangulation(xs, tri.y, tri.triangles, mask=iron)
         if air_b.size:
-            pc_air = ax.tripcolor(t_air, facecolors=np.maximum(bmag, air_norm.vmin),
+            pc_air = ax.tripcolor(t_air, facecolors=np.maximum(bmag, air_floor),
                                   cmap=_AIR_MAP, norm=air_norm, shading="flat")
         if iron.any():
             pc_iron = ax.tripcolor(t_iron, facecolors=bmag, cmap=_IRON_MAP, norm=iron_norm,
@@ -447,9 +450,9 @@ def fig_flux(res: CheckResult):
             for keep, lo, hi in ((1, CROWD_PT, np.inf), (2, CROWD_PT / 2, CROWD_PT),
                                  (4, 0.0, CROWD_PT / 2)):
                 sel = levels[k % keep == 0]
-                tier = Triangulation(xs, tri.y, tri.triangles,
-                                     mask=~((spacing >= lo) & (spacing < hi)))
-                if sel.size and not tier.mask.all():
+                hidden = ~((spacing >= lo) & (spacing < hi))
+                tier = Triangulation(xs, tri.y, tri.triangles, mask=hidden)
+                if sel.size and not hidden.all():
                     ax.tricontour(tier, a_vert, levels=sel, colors="#101820", linewidths=0.5,
                                   linestyles="solid", negative_linestyles="solid")
             # outside the iron, dotted lines at a tenth of the step show the
@@ -680,12 +683,14 @@ def fig_magnet(res: CheckResult):
 
 
 def force_strokes(res: CheckResult, n: int = 12) -> np.ndarray:
-    """The strokes (m) of the force-stroke figure: the case's [sweep] range of
-    the stroke key when it declares one, else 0.2 to 2 times the case's
-    stroke; the case's stroke and every force limit's stroke added."""
+    """The strokes (m) of the force-stroke figure, hand model only (cheap):
+    0.2 to 2 times the case's stroke (on to 1.1 times the farthest force
+    limit's stroke), the case's stroke and every limit's stroke added."""
     from ..design.coremodel import core_model
 
     spec = core_model(res.case).force
+    if spec is None:
+        return np.array([])
     s0 = spec.stroke
     lims = [lim.stroke for lim in res.case.margins.force]
     hi = max([2.0 * s0, *(1.1 * s for s in lims)])
@@ -708,11 +713,13 @@ def fig_force_stroke(res: CheckResult):
         return None
     import dataclasses
 
+    key: str = spec.stroke_key
+
     def at_stroke(st: float):
         try:
-            return res.case.with_values({spec.stroke_key: st})
+            return res.case.with_values({key: st})
         except CaseError:  # a case built in code, without its tables: the core's own field
-            table, _, name = spec.stroke_key.partition(".")
+            table, _, name = key.partition(".")
             if table != "core" or not hasattr(res.case.core, name):
                 raise
             return dataclasses.replace(res.case,

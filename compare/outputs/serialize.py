@@ -310,7 +310,7 @@ def row_topic(row: Row) -> str:
         return "force"
     if k.startswith("magnet_"):
         return "magnet"
-    if k.startswith(("magnetizing", "inrush", "B_peak", "B_limb_peak")) or k == "magnetizing_inductance":
+    if k.startswith(("magnetizing", "inrush", "B_peak", "B_limb_peak")):
         return "drive"
     if k in ("inductance", "incremental_inductance", "energy", "leakage_inductance") \
             or k.startswith(("coupling:", "L:")):
@@ -451,7 +451,8 @@ def margin_cells(row: Row) -> list[str]:
     if row.limit_value is None:
         limit = "-"
     else:
-        limit = f"{'>=' if row.limit_kind == 'min' else '<='} {format_si(row.limit_value, row.unit)}"
+        sign = ">=" if row.limit_kind == "min" else "<="
+        limit = f"{sign} {format_si(row.limit_value, row.unit)}"
     hand = row.hand_3d if math.isfinite(row.hand_3d) else row.hand
     return [pretty_units(c) for c in (row.label, _fmt(hand, row.unit, scale),
                                       _fmt(fe, row.unit, scale), limit, margin_left_text(row),
