@@ -125,7 +125,8 @@ def test_geometry_legend_from_the_regions_present_and_dimensions(pot, holding, t
     def labels(res):
         fig = plots.fig_geometry(res)
         ax = fig.axes[0]
-        texts = [t.get_text() for t in ax.get_legend().get_texts()]
+        texts = [t.get_text() for a in fig.axes if a.get_legend() is not None
+                 for t in a.get_legend().get_texts()]
         dims = [t.get_text() for t in ax.texts]
         _save(fig, tmp_path / f"{res.case.name}.png")
         return texts, dims

@@ -154,7 +154,10 @@ def fig_geometry(res: CheckResult):
     x0, y0, x1, y1 = layout.bbox()
     span_x = (2 * x1 if mirror else x1 - x0) * 1.5
     span_y = (y1 - y0) * 1.5
-    fig, ax = plt.subplots(figsize=(7.2, min(10.0, max(5.2, 5.6 * span_y / span_x + 2.2))))
+    fig, (ax, lax) = plt.subplots(
+        2, 1, figsize=(7.2, min(10.5, max(5.4, 5.6 * span_y / span_x + 2.0))),
+        height_ratios=[1.0, 0.16])
+    lax.axis("off")  # the legend's own row: below the drawing, never clipped
     tri = _tri(res)
     signs = (1.0, -1.0) if mirror else (1.0,)
     for sgn in signs:
@@ -238,8 +241,8 @@ def fig_geometry(res: CheckResult):
     _zoom(ax, res, mirror=mirror)
     m = sol.mesh.mesh
     ax.set_title(f"Regions and mesh ({m.t.shape[1]} elements, P{res.case.fe.order})", fontsize=9)
-    ax.legend(list(handles.values()), list(handles), loc="upper center", fontsize=7,
-              bbox_to_anchor=(0.5, -0.13), ncol=2, frameon=False)
+    lax.legend(list(handles.values()), list(handles), loc="center", fontsize=7, ncol=2,
+               frameon=False)
     return fig
 
 
