@@ -107,4 +107,6 @@ def test_tolerance_histograms_count_in_integers_and_draw_the_limits():
     # the inductance limit is stated at 6 A, the study's inductance at the
     # case's 7 A: no line, rather than a limit drawn against the wrong figure
     assert by_title["inductance"].get_lines() == []
+    assert any("L window stated at 6 A" in t.get_text() and "L at 7 A" in t.get_text()
+               for t in by_title["inductance"].texts)  # and the panel says why
     plt.close(fig)

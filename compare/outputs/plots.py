@@ -1191,6 +1191,14 @@ def tolerance_figure(res, labels: dict[str, str]):
             ax.axvline(value * scale, color=HAND_COLOUR, lw=1.5, ls="--", label=f"limit: {label}")
         if limits[k]:
             ax.legend(fontsize=7)
+        if k == "inductance":
+            at = res.case.winding.current
+            other = sorted({lim.at for lim in res.case.margins.inductance
+                            if not math.isclose(lim.at, at, rel_tol=1e-9, abs_tol=1e-12)})
+            if other:  # say why the window is not drawn, rather than draw it against L at I
+                ax.text(0.02, 0.97, f"L window stated at {', '.join(f'{a:g}' for a in other)} A;"
+                        f"\nthis histogram is L at {at:g} A: not drawn", transform=ax.transAxes,
+                        fontsize=7, va="top", color=MARGIN_COLOUR)
         ax.yaxis.set_major_locator(MaxNLocator(integer=True))
         ax.set_xlabel(f"{labels[k]} ({unit})", fontsize=8)
         ax.grid(alpha=0.3)
