@@ -143,3 +143,18 @@ def test_geometry_legend_from_the_regions_present_and_dimensions(pot, holding, t
     assert any(t.startswith("winding") for t in texts)
     gap = pot.case.core.gap * 1e3
     assert f"{gap:.3g} mm" in dims  # the centre post's gap length
+
+
+def test_holding_magnet_has_its_gap_figure(holding):
+    # B_z across the working gap over the pole: flat under the face, at the
+    # FE's gap B (the mean over the gap region over the pole; within 3 %: the
+    # field dips only toward the face's edge), falling off beyond the edge
+    fig = plots.fig_gap_line(holding)
+    ax = fig.axes[0]
+    r, b = ax.lines[0].get_xdata(), ax.lines[0].get_ydata()
+    pole = holding.case.core.pole_radius * 1e3
+    gap_b = holding.fe.values["gap_B"]
+    assert np.all(np.abs(b[r < 0.5 * pole] / gap_b - 1.0) < 0.03)
+    assert b[-1] < 0.2 * gap_b
+    assert ax.get_xlabel().startswith("r across the gap")
+    plt.close(fig)

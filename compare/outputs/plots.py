@@ -503,7 +503,8 @@ def fig_gap_line(res: CheckResult, n: int = 400):
     sign = np.sign(b[len(b) // 2]) or 1.0
     ax.plot(t * 1e3, sign * b, color=FE_COLOUR, label="FE, B along the gap's flux")
     ax.axhline(res.hand_planar.gap_B, color=HAND_COLOUR, ls="--",
-               label=f"hand gap B ({res.hand_planar.fringing_model}, planar)")
+               label=f"hand gap B ({res.hand_planar.fringing_model}, "
+                     f"{comparison_forms(res.case)[0]})")
     for c in line.faces:
         ax.axvline(c * 1e3, color="#888888", lw=0.8, ls=":")
     rz = _mirrored(res)
@@ -511,8 +512,10 @@ def fig_gap_line(res: CheckResult, n: int = 400):
         "x" if abs(x1 - x0) >= abs(y1 - y0) else "y")
     ax.set_xlabel(f"{across} across the gap (mm); dotted: pole-face edges")
     ax.set_ylabel("B (T)")
-    ax.set_title(f"B across the middle of the gap in {line.label}: fringing beyond the faces",
-                 fontsize=9)
+    import textwrap
+
+    ax.set_title("\n".join(textwrap.wrap(f"B across the middle of the gap in {line.label}: "
+                                         "fringing beyond the faces", 80)), fontsize=9)
     ax.legend(fontsize=8)
     return fig
 
