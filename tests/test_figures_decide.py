@@ -158,3 +158,26 @@ def test_holding_magnet_has_its_gap_figure(holding):
     assert b[-1] < 0.2 * gap_b
     assert ax.get_xlabel().startswith("r across the gap")
     plt.close(fig)
+
+
+def test_flux_lines_thinned_where_they_crowd_and_rz_mirrored(holding):
+    # the holding magnet's thin cup walls crowd the lines: there only every
+    # second or fourth level is drawn (each a subset of the full set, so a
+    # kept line runs on unbroken); the r-z section is drawn on both sides
+    from matplotlib.contour import ContourSet
+
+    levels, _ = plots.flux_levels(holding)
+    step = levels[1] - levels[0]
+    fig = plots.fig_flux(holding)
+    ax = fig.axes[0]
+    k = np.rint(levels / step).astype(int)
+    sets = [c for c in ax.collections if isinstance(c, ContourSet) and c.levels.size > 1]
+    keeps = set()
+    for c in sets:
+        ck = np.rint(c.levels / step).astype(int)
+        if set(ck) <= set(k):
+            keeps.add(max(q for q in (1, 2, 4) if np.all(ck % q == 0)))
+    assert {1, 2, 4} <= keeps  # every tier: full, every second, every fourth line
+    x0, x1 = ax.get_xlim()
+    assert x0 == pytest.approx(-x1)  # mirrored about the axis
+    plt.close(fig)
