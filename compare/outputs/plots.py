@@ -879,7 +879,11 @@ FIGURES = {
 
 
 _CAPTIONS = {
-    "geometry.png": "Regions (core, gaps, coil sides) and the finer mesh.",
+    "geometry.png": "Regions and the finer mesh: each core part with its material, the gaps "
+                    "with their lengths, every winding in its own colour (return sides "
+                    "hatched), magnets with their magnetisation, the parts' overall dimensions "
+                    "and the hand circuit's mean path (dashed); an r-z section mirrored about "
+                    "its axis.",
     "gap_line.png": "B along a line across the middle of the first gap, beyond both pole faces.",
     "path_h.png": "|H| along the core's mean path (gaps left out), with the hand value.",
     "bh.png": "The B-H curve of every soft material present, with the hand network's operating "
