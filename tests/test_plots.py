@@ -63,6 +63,32 @@ def test_sweep_inductance_panel_marks_the_saturation_currents(fe_sweep):
         plt.close(fig)
 
 
+def test_sweep_draws_the_judged_values_and_every_margin_at_its_value(fe_sweep):
+    # the margins are judged on the depth-corrected FE (the sweep rows'
+    # fe_3d_inductance): that curve is drawn, and every declared limit at its value
+    from magcheck.compare.studies.sweep import sweep_rows
+
+    res, sat = fe_sweep
+    figures = dict(sweep_figures(res, sat))
+    ax = figures["sweep_inductance.png"].axes[0]
+    lines = {ln.get_label(): ln for ln in ax.get_lines()}
+    judged = lines["FE 3D secant (depth-corrected, judged)"]
+    rows = sorted(sweep_rows(res), key=lambda r: abs(r["winding.current"]))
+    assert judged.get_ydata() == pytest.approx([r["fe_3d_inductance"] * 1e3 for r in rows])
+    m = res.case.margins
+    for lim in m.inductance:  # the L window at its own current (6 A), in mH
+        bar = next(ln for lbl, ln in lines.items() if lbl.startswith(f"{lim.kind} L window at"))
+        assert list(bar.get_xdata()) == [lim.at, lim.at]
+        assert list(bar.get_ydata()) == pytest.approx([lim.min * 1e3, lim.max * 1e3])
+    sat_lines = [ln for lbl, ln in lines.items() if lbl.startswith("saturation current")]
+    assert [ln.get_xdata()[0] for ln in sat_lines] == pytest.approx([s.min for s in m.saturation])
+    b_ax = figures["sweep_core_B.png"].axes[0]
+    assert any(ln.get_label().startswith("peak-B limit") and ln.get_ydata()[0] == m.peak_B
+               for ln in b_ax.get_lines())
+    for fig in figures.values():
+        plt.close(fig)
+
+
 def test_tolerance_histograms_count_in_integers_and_draw_the_limits():
     from magcheck.compare.front.commands.tolerance import _labels
     from magcheck.compare.studies.tolerance import run_tolerance
@@ -81,4 +107,6 @@ def test_tolerance_histograms_count_in_integers_and_draw_the_limits():
     # the inductance limit is stated at 6 A, the study's inductance at the
     # case's 7 A: no line, rather than a limit drawn against the wrong figure
     assert by_title["inductance"].get_lines() == []
+    assert any("L window stated at 6 A" in t.get_text() and "L at 7 A" in t.get_text()
+               for t in by_title["inductance"].texts)  # and the panel says why
     plt.close(fig)

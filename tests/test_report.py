@@ -96,13 +96,59 @@ def test_flux_lines_count_the_flux_between_them(report):
     crossing = np.count_nonzero((levels > a0) & (levels < a1))
     assert abs(crossing - flux / per_line) <= 1.0
     assert 20 <= crossing <= 80  # dense enough to read, sparse enough to see
+    # the flux per line is the 1-2-5 number, chosen on the flux (after the depth)
+    assert "one line per 5 µWb" in flux_caption(res)  # 20 mm stack, ~0.3 mWb over 60 lines
+
+
+def test_flux_figure_scales_and_line_styles(report):
+    # |B| in the iron on a linear scale from 0 to the material's saturation
+    # (demo-sisteel: its B-H data end at 2.04 T, rounded up to 2.1 T), the
+    # air on a log scale over 3 decades; every flux line solid, whatever its
+    # sign; the knee (no peak-B margin on the demo) drawn as a contour at its B.
+    import numpy as np
+    from matplotlib.colors import LogNorm, Normalize
+    from matplotlib.contour import ContourSet
+
+    from magcheck.compare.judge.check import _knee
+    from magcheck.compare.outputs.plots import fig_flux, flux_levels, iron_scale
+
+    _, _, _, res = report
+    assert iron_scale(res) == pytest.approx(2.1)
     fig = fig_flux(res)
-    mappable = fig.axes[0].collections[0]
-    assert isinstance(mappable.norm, LogNorm)
-    assert mappable.norm.vmax / mappable.norm.vmin == pytest.approx(1e3)
-    assert "one solid line per 10 µWb" in flux_caption(res)  # 20 mm stack, ~0.4 mWb
+    ax = fig.axes[0]
+    maps = [c for c in ax.collections if hasattr(c, "norm") and not isinstance(c, ContourSet)
+            and c.get_array() is not None]
+    logs = [m for m in maps if isinstance(m.norm, LogNorm)]
+    lins = [m for m in maps if not isinstance(m.norm, LogNorm)
+            and isinstance(m.norm, Normalize)]
+    assert logs and logs[0].norm.vmax / logs[0].norm.vmin == pytest.approx(1e3)
+    assert lins and (lins[0].norm.vmin, lins[0].norm.vmax) == (0.0, pytest.approx(2.1))
+    contours = [c for c in ax.collections if isinstance(c, ContourSet)]
+    levels, _ = flux_levels(res)
+    flux_sets = [c for c in contours if c.levels.size and np.isin(c.levels, levels).all()]
+    assert flux_sets and (levels < 0).any() and (levels > 0).any()
+    for c in flux_sets:  # solid for both signs: no dashed negative levels
+        for style in c.get_linestyles():
+            assert style[1] is None or len(style[1]) == 0, style
+    knee = _knee(res.case.material("core").law)
+    assert any(c.levels.size == 1 and c.levels[0] == pytest.approx(knee) for c in contours)
 
 
 def test_report_captions_the_flux_plot_with_its_flux_per_line(report):
     page, _, _, _ = report
-    assert "one solid line per" in page and "Wb" in page and "logarithmic" in page
+    assert "one line per" in page and "Wb" in page and "logarithmic" in page
+    assert "linear scale from 0 to 2.1 T" in page
+
+
+def test_report_leads_with_the_verdicts_and_keeps_margins_apart(report):
+    # the two banners before the tables; the hand-vs-FE table grouped by
+    # topic with the planar case's 3D columns; the margins in their own table
+    # with the absolute limit; values never wrap inside a cell
+    page, _, _, res = report
+    design = page.index("DESIGN MARGINS: PASS")
+    assert design < page.index("HAND VS FE: PASS") < page.index("<table>")
+    assert "<tr class='topic'><td colspan='9'>field and flux</td></tr>" in page
+    assert "<th>FE 3D (depth-corrected)</th>" in page
+    assert "<h2>Design margins</h2>" in page and "<th>limit</th>" in page
+    assert "white-space: nowrap" in page
+    assert "µWb" in page and "uWb" not in page

@@ -904,7 +904,8 @@ def explain(case: Case, rows: tuple[Row, ...], hand_p: HandResult, fe: FEResult,
     if rz:
         notes = ["The FE is an axisymmetric (r-z) field solution, a full 3D one for a part "
                  "round about its axis: the hand column is the whole magnetic circuit, its gap "
-                 "fringing included, and the '3D' columns repeat the others."]
+                 "fringing included, and the '3D' columns would repeat the others (the "
+                 "table and the report leave them out; --wide and the JSON keep them)."]
     else:
         notes = ["Like for like: the hand column is the magnetic circuit with in-plane fringing "
                  "only, the FE column the planar field solution for the stack depth; the "

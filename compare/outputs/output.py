@@ -346,3 +346,95 @@ def render_table(title: str, columns: Sequence[str], rows: Sequence[Sequence[str
         stream.write(line(r) + "\n")
     for n in notes:
         stream.write(n + "\n")
+
+
+DEFAULT_WIDTH = 100
+"""The terminal width the check's output fits by default (``--wide``: no limit)."""
+
+
+def terminal_width(stream: TextIO, wide: bool = False) -> int:
+    """The width to fit: the terminal's (or ``COLUMNS``), at most
+    `DEFAULT_WIDTH` unless ``wide``; `DEFAULT_WIDTH` when neither is known."""
+    import shutil
+
+    cols = 0
+    if os.environ.get("COLUMNS", "").isdigit():
+        cols = int(os.environ["COLUMNS"])
+    elif getattr(stream, "isatty", lambda: False)():
+        cols = shutil.get_terminal_size((DEFAULT_WIDTH, 24)).columns
+    cols = cols or DEFAULT_WIDTH
+    return max(cols, 40) if wide else max(40, min(cols, DEFAULT_WIDTH))
+
+
+def can_print(stream: TextIO, text: str = "µ≥≤²±─") -> bool:
+    """The stream's encoding can write ``text`` (Unicode units and rules)."""
+    enc = getattr(stream, "encoding", None) or "ascii"
+    try:
+        text.encode(enc)
+    except (UnicodeEncodeError, LookupError):
+        return False
+    return True
+
+
+def wrap_text(text: str, width: int, indent: str = "") -> list[str]:
+    """``text`` wrapped to ``width`` columns (continuation lines indented)."""
+    import textwrap
+
+    return textwrap.wrap(text, width=width, subsequent_indent=indent,
+                         break_long_words=False, break_on_hyphens=False) or [""]
+
+
+def fit_table(columns: Sequence[str], groups: Sequence[tuple[str, Sequence[Sequence[str]]]],
+              width: int, *, rule: str = "-") -> list[str]:
+    """A fixed-width table within ``width`` columns: first column left and
+    wrapped on words to what the others leave (at least 12), the others
+    right-aligned and never wrapped; ``groups`` are (heading, rows), a heading
+    printed as its own line above its rows ("" for none)."""
+    rows = [r for _, g in groups for r in g]
+    n = len(columns)
+    widths = [max([len(str(columns[i]))] + [len(str(r[i])) for r in rows]) for i in range(n)]
+    sep = 2 if sum(widths[1:]) + 2 * (n - 1) + 12 <= width else 1
+    first = max(12, min(widths[0], width - sum(widths[1:]) - sep * (n - 1)))
+    widths[0] = first
+
+    def lines_of(cells: Sequence[str]) -> list[str]:
+        label = wrap_text(str(cells[0]), first, "  ")
+        rest = (" " * sep).join(str(c).rjust(w) for c, w in zip(cells[1:], widths[1:]))
+        out = [(label[0].ljust(first) + " " * sep + rest).rstrip()]
+        out += [lab.rstrip() for lab in label[1:]]
+        return out
+
+    out = lines_of(list(columns))
+    out.append((" " * sep).join(rule * w for w in widths))
+    for heading, grows in groups:
+        if heading:
+            out.append(f"{rule * 2} {heading} {rule * 2}")
+        for r in grows:
+            out += lines_of(list(r))
+    return out
+
+
+STYLES = {"pass": "bold white on green", "FAIL": "bold white on red",
+          "title": "bold", "heading": "bold cyan", "dim": "dim"}
+"""Terminal styles (rich) of the line kinds `write_lines` colours."""
+
+
+def write_lines(lines: Sequence[tuple[str, str]], stream: TextIO, width: int) -> None:
+    """Print (text, kind) lines: coloured with rich on a terminal (kind a key
+    of `STYLES`, "" plain; the words pass, FAIL and inconclusive in a table
+    coloured), plain text otherwise."""
+    if not getattr(stream, "isatty", lambda: False)():
+        for text, _ in lines:
+            stream.write(text + "\n")
+        return
+    from rich.console import Console
+    from rich.text import Text
+
+    console = Console(file=stream, width=width, highlight=False, soft_wrap=True)
+    for text, kind in lines:
+        t = Text(text, style=STYLES.get(kind, ""))
+        if kind in ("", "table"):
+            t.highlight_regex(r"\bFAIL\b", "bold red")
+            t.highlight_regex(r"\bpass\b", "green")
+            t.highlight_regex(r"\binconclusive\b", "yellow")
+        console.print(t)

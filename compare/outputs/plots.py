@@ -30,18 +30,30 @@ REGION_COLOURS = {"core": "#5b6c80", "gap": "#e0a030", "coil+": "#2a9d8f", "coil
 HAND_COLOUR, FE_COLOUR = "#c8553d", "#264653"
 
 
-def _zoom(ax, res: CheckResult, pad: float = 0.25) -> None:
+def _mirrored(res: CheckResult) -> bool:
+    """An r-z solution: its figures show the section mirrored about the axis."""
+    return res.fe.solution.assembler.formulation.name == "axisymmetric"
+
+
+def _zoom(ax, res: CheckResult, pad: float = 0.25, mirror: bool = False) -> None:
+    """Limits round the parts (``mirror``: both halves of an r-z section,
+    the axis drawn as a dash-dot line), equal aspect, axis names."""
     x0, y0, x1, y1 = res.fe.solution.mesh.layout.bbox()
+    if mirror:
+        x0 = -x1
     dx, dy = (x1 - x0) * pad, (y1 - y0) * pad
     ax.set_xlim((x0 - dx) * 1e3, (x1 + dx) * 1e3)
     ax.set_ylim((y0 - dy) * 1e3, (y1 + dy) * 1e3)
     ax.set_aspect("equal")
     rz = res.fe.solution.assembler.formulation.name == "axisymmetric"
-    ax.set_xlabel("r (mm)" if rz else "x (mm)")
+    if mirror:
+        ax.axvline(0.0, color="0.2", lw=0.9, ls="-.", zorder=5)
+    ax.set_xlabel("r (mm), mirrored about the axis" if mirror else "r (mm)" if rz else "x (mm)")
     ax.set_ylabel("z (mm)" if rz else "y (mm)")
 
 
-def _outlines(ax, res: CheckResult, lw: float = 1.2) -> None:
+def _outlines(ax, res: CheckResult, lw: float = 1.2, sign: float = 1.0) -> None:
+    """Every region's outline in its colour (``sign`` -1: mirrored about x = 0)."""
     from matplotlib.patches import Circle
     from matplotlib.patches import Polygon as PolygonPatch
 
@@ -56,15 +68,16 @@ def _outlines(ax, res: CheckResult, lw: float = 1.2) -> None:
         for s in region.shapes:
             if hasattr(s, "points"):  # a polygon and its holes
                 for loop in (s.points, *s.holes):
-                    ax.add_patch(PolygonPatch([(x * 1e3, y * 1e3) for x, y in loop],
+                    ax.add_patch(PolygonPatch([(sign * x * 1e3, y * 1e3) for x, y in loop],
                                               closed=True, fill=False, ec=colour, lw=lw))
             elif hasattr(s, "r") and hasattr(s, "cx"):
-                ax.add_patch(Circle((s.cx * 1e3, s.cy * 1e3), s.r * 1e3, fill=False, ec=colour,
-                                    lw=lw))
+                ax.add_patch(Circle((sign * s.cx * 1e3, s.cy * 1e3), s.r * 1e3, fill=False,
+                                    ec=colour, lw=lw))
             else:
                 x0, y0, x1, y1 = s.bbox()
-                ax.add_patch(Rectangle((x0 * 1e3, y0 * 1e3), (x1 - x0) * 1e3, (y1 - y0) * 1e3,
-                                       fill=False, ec=colour, lw=lw))
+                ax.add_patch(PolygonPatch([(sign * x * 1e3, y * 1e3) for x, y in
+                                           ((x0, y0), (x1, y0), (x1, y1), (x0, y1))],
+                                          closed=True, fill=False, ec=colour, lw=lw))
 
 
 def _tri(res: CheckResult) -> Triangulation:
@@ -73,17 +86,163 @@ def _tri(res: CheckResult) -> Triangulation:
     return Triangulation(m.p[0, :nv] * 1e3, m.p[1, :nv] * 1e3, m.t[:3].T)
 
 
+#: one colour per winding, in case order (its go and return sides alike; the
+#: return side hatched)
+WINDING_COLOURS = ("#2a9d8f", "#7b3fa0", "#d68910", "#2471a3", "#a93226")
+#: core parts in shades of slate, in region order
+CORE_SHADES = ("#5b6c80", "#8796a8", "#3e4a59", "#a7b3c0")
+MAGNET_COLOUR = "#c2185b"
+
+
+def _loops(shape) -> list[list[tuple[float, float]]]:
+    """A layout shape as closed loops (m): outline first, then its holes."""
+    if hasattr(shape, "points"):
+        return [list(shape.points), *[list(h) for h in shape.holes]]
+    if hasattr(shape, "r") and hasattr(shape, "cx"):
+        t = np.linspace(0.0, 2.0 * math.pi, 73)[:-1]
+        return [list(zip(shape.cx + shape.r * np.cos(t), shape.cy + shape.r * np.sin(t)))]
+    x0, y0, x1, y1 = shape.bbox()
+    return [[(x0, y0), (x1, y0), (x1, y1), (x0, y1)]]
+
+
+def _region_patch(region, sign: float, **kw):
+    """One filled patch of a region's shapes (holes left open), mm."""
+    from matplotlib.patches import PathPatch
+    from matplotlib.path import Path as MplPath
+
+    verts, codes = [], []
+    for shape in region.shapes:
+        for i, loop in enumerate(_loops(shape)):
+            pts = np.array([(sign * x * 1e3, y * 1e3) for x, y in loop])
+            area = 0.5 * np.sum(pts[:, 0] * np.roll(pts[:, 1], -1)
+                                - np.roll(pts[:, 0], -1) * pts[:, 1])
+            if (area < 0) != (i > 0):  # outlines counter-clockwise, holes clockwise
+                pts = pts[::-1]
+            verts += [*pts, pts[0]]
+            codes += [MplPath.MOVETO] + [MplPath.LINETO] * (len(pts) - 1) + [MplPath.CLOSEPOLY]
+    return PathPatch(MplPath(np.array(verts), codes), **kw)
+
+
+def _dimension(ax, p0, p1, text: str, offset: tuple[float, float]) -> None:
+    """A dimension line from p0 to p1 (mm), moved by ``offset``, with its text."""
+    (x0, y0), (x1, y1) = p0, p1
+    dx, dy = offset
+    ax.annotate("", (x1 + dx, y1 + dy), (x0 + dx, y0 + dy),
+                arrowprops=dict(arrowstyle="<->", color="0.25", lw=0.8, shrinkA=0, shrinkB=0))
+    for x, y in (p0, p1):
+        ax.plot([x, x + dx * 1.15], [y, y + dy * 1.15], color="0.55", lw=0.5)
+    vertical = abs(x1 - x0) < abs(y1 - y0)
+    ax.text((x0 + x1) / 2 + dx * 1.25, (y0 + y1) / 2 + dy * 1.25, text, fontsize=7,
+            ha="center", va="center", rotation=90 if vertical else 0, color="0.15",
+            bbox=dict(fc="white", ec="none", pad=0.5, alpha=0.8))
+
+
 def fig_geometry(res: CheckResult):
-    fig, ax = plt.subplots(figsize=(6.5, 6))
+    """Regions and mesh: parts filled by kind, a legend of the regions
+    present (each core part, the gaps, every winding's go and return sides,
+    magnets with their direction), the overall dimensions and each gap's
+    length, and the hand circuit's mean path; r-z mirrored about the axis."""
+    from matplotlib.patches import Patch
+    from matplotlib.lines import Line2D
+
+    from ..design.coremodel import core_model
+
+    sol = res.fe.solution
+    layout = sol.mesh.layout
+    model = core_model(res.case)
+    mirror = _mirrored(res)
+    x0, y0, x1, y1 = layout.bbox()
+    span_x = (2 * x1 if mirror else x1 - x0) * 1.5
+    span_y = (y1 - y0) * 1.5
+    fig, (ax, lax) = plt.subplots(
+        2, 1, figsize=(7.2, min(10.5, max(5.4, 5.6 * span_y / span_x + 2.0))),
+        height_ratios=[1.0, 0.16])
+    lax.axis("off")  # the legend's own row: below the drawing, never clipped
     tri = _tri(res)
-    ax.triplot(tri, lw=0.2, color="#9aa5b1")
-    _outlines(ax, res, lw=1.6)
-    _zoom(ax, res)
-    m = res.fe.solution.mesh.mesh
-    ax.set_title(f"Regions and mesh ({m.t.shape[1]} elements, P{res.case.fe.order})")
-    handles = [Rectangle((0, 0), 1, 1, fill=False, ec=c, lw=2) for c in REGION_COLOURS.values()]
-    ax.legend(handles, ["core", "gap", "coil side +", "coil side -"], loc="upper right",
-              fontsize=8)
+    signs = (1.0, -1.0) if mirror else (1.0,)
+    for sgn in signs:
+        ax.triplot(Triangulation(tri.x * sgn, tri.y, tri.triangles), lw=0.15, color="#b8c1cc")
+    names = [w.name for w in res.case.windings]
+    coil_of = {}
+    for i, c in enumerate(model.coils):
+        for region, sgn in c.sides:
+            coil_of[region] = (i, sgn)
+    magnets = {m.region: m for m in model.magnets}
+    handles: dict[str, Any] = {}
+    core_i = 0
+    kw: dict[str, Any]
+    for region in layout.regions:
+        if region.name in coil_of:
+            i, sgn = coil_of[region.name]
+            colour = WINDING_COLOURS[i % len(WINDING_COLOURS)]
+            name = names[i] if i < len(names) else f"winding {i + 1}"
+            kw = dict(fc=colour, ec=colour, alpha=0.45, lw=1.2,
+                      hatch=None if sgn > 0 else "////")
+            side = ("go (+I, +φ)" if mirror else "go (+I out of the page)") if sgn > 0 else \
+                "return (−I, into the page)"
+            label = f"winding {name}: {side}"
+        elif region.name in magnets:
+            kw = dict(fc=MAGNET_COLOUR, ec=MAGNET_COLOUR, alpha=0.45, lw=1.2)
+            m = magnets[region.name]
+            label = ("magnet" if region.name == "magnet" else f"magnet {region.name}") + \
+                f" (B_r {float(np.hypot(*m.remanence)):.3g} T, arrow: magnetisation)"
+        elif region.kind == "gap":
+            kw = dict(fc=REGION_COLOURS["gap"], ec=REGION_COLOURS["gap"], alpha=0.8, lw=1.0)
+            label = "air gaps"
+        elif region.kind == "core":
+            shade = CORE_SHADES[core_i % len(CORE_SHADES)]
+            core_i += 1
+            kw = dict(fc=shade, ec=shade, alpha=0.3, lw=1.4)
+            try:
+                mat = res.case.part_material(region.name).description
+            except KeyError:
+                mat = ""
+            label = f"{region.name}" + (f" ({mat})" if mat else "")
+        else:
+            kw = dict(fc="none", ec="#444444", lw=1.0)
+            label = region.name
+        for sgn in signs:
+            ax.add_patch(_region_patch(region, sgn, **kw))
+        handles.setdefault(label, Patch(**kw))
+        if region.name in magnets:
+            m = magnets[region.name]
+            bx0, by0, bx1, by1 = region.shapes[0].bbox()
+            d = np.array(m.remanence, dtype=float)
+            d = d / (np.hypot(*d) or 1.0) * 0.35 * min(bx1 - bx0, by1 - by0) * 1e3
+            for sgn in signs:
+                cx, cy = sgn * (bx0 + bx1) / 2 * 1e3, (by0 + by1) / 2 * 1e3
+                ax.annotate("", (cx + sgn * d[0], cy + d[1]), (cx - sgn * d[0], cy - d[1]),
+                            arrowprops=dict(arrowstyle="-|>", color="black", lw=1.4))
+    # the hand circuit's mean path
+    if model.mean_path:
+        pts = np.array(model.mean_path) * 1e3
+        for sgn in signs:
+            ax.plot(sgn * pts[:, 0], pts[:, 1], ls="--", color="#1b2631", lw=1.0)
+        handles["hand circuit's mean path"] = Line2D([], [], ls="--", color="#1b2631", lw=1.0)
+    # dimensions: the parts' overall size, each gap's length
+    core = [r for r in layout.regions if r.kind in ("core", "magnet")]
+    if core:
+        bb = np.array([s.bbox() for r in core for s in r.shapes])
+        cx0, cy0 = bb[:, 0].min() * 1e3, bb[:, 1].min() * 1e3
+        cx1, cy1 = bb[:, 2].max() * 1e3, bb[:, 3].max() * 1e3
+        off = 0.08 * max(cx1 - cx0, cy1 - cy0)
+        left = -cx1 if mirror else cx0
+        _dimension(ax, (left, cy0), (cx1, cy0),
+                   f"{'Ø ' if mirror else ''}{(cx1 - left):.4g} mm", (0.0, -off))
+        _dimension(ax, (cx1, cy0), (cx1, cy1), f"{cy1 - cy0:.4g} mm", (off, 0.0))
+    for r in layout.regions:
+        if r.kind != "gap":
+            continue
+        gx0, gy0, gx1, gy1 = (v * 1e3 for v in r.shapes[0].bbox())
+        g = min(gx1 - gx0, gy1 - gy0)
+        ax.annotate(f"{g:.3g} mm", ((gx0 + gx1) / 2, (gy0 + gy1) / 2), xytext=(12, 10),
+                    textcoords="offset points", fontsize=7, color="#7a4f00",
+                    arrowprops=dict(arrowstyle="-", color="#7a4f00", lw=0.6))
+    _zoom(ax, res, mirror=mirror)
+    m = sol.mesh.mesh
+    ax.set_title(f"Regions and mesh ({m.t.shape[1]} elements, P{res.case.fe.order})", fontsize=9)
+    lax.legend(list(handles.values()), list(handles), loc="center", fontsize=7, ncol=2,
+               frameon=False)
     return fig
 
 
@@ -110,17 +269,20 @@ def flux_levels(res: CheckResult, lines: int = FLUX_LINES) -> tuple[np.ndarray, 
     is d (A2 - A1) (docs/references.md section 5), in the r-z model 2 pi (u2 - u1)
     with u = r A_phi the unknown, so equally spaced levels make
     the number of lines crossing any segment proportional to the flux through
-    it, in the window as in the limbs.  The step is a 1-2-5 number and A = 0
-    (the box boundary) is one of the levels.
+    it, in the window as in the limbs.  The flux per line (the step of A
+    times the depth, or times 2 pi) is a 1-2-5 number, chosen on the flux
+    itself, and A = 0 (the box boundary) is one of the levels.
     """
     sol = res.fe.solution
     a = sol.A[sol.basis.nodal_dofs[0]]
     lo, hi = float(a.min()), float(a.max())
     if not hi > lo:
         return np.array([]), 0.0
-    step = _nice_step((hi - lo) / lines)
+    total = sol.assembler.formulation.total  # depth, or 2 pi round the axis
+    per_line = _nice_step((hi - lo) * total / lines)  # a 1-2-5 flux, after the depth or 2 pi
+    step = per_line / total
     levels = np.arange(math.floor(lo / step) + 1, math.ceil(hi / step)) * step
-    return levels, step * sol.assembler.formulation.total  # depth, or 2 pi round the axis
+    return levels, per_line
 
 
 def _si(value: float, unit: str) -> str:
@@ -144,60 +306,180 @@ def _fine_levels(levels: np.ndarray) -> np.ndarray:
 
 
 def _iron_mask(res: CheckResult) -> np.ndarray:
-    """True for the elements of core regions (the dotted lines leave them out)."""
+    """True for the elements of core and magnet regions (the solid parts: the
+    linear |B| scale; the dotted air lines leave them out)."""
     rmesh = res.fe.solution.mesh
     mask = np.zeros(rmesh.nelements, dtype=bool)
     for region in rmesh.layout.regions:
-        if region.kind == "core":
+        if region.kind in ("core", "magnet"):
             mask[rmesh.elements_of(region.name)] = True
     return mask
+
+
+def iron_scale(res: CheckResult) -> float:
+    """Top of the linear |B| scale in the iron (T): the largest saturation
+    (``b_max``, the B-H data's end) of the case's core materials, rounded up
+    to 0.1 T, so cases of one material share a scale; 2 T when none has one."""
+    tops = [float(getattr(m.law, "b_max", math.nan)) for m in res.case.materials
+            if m.kind != "magnet"]
+    tops = [t for t in tops if math.isfinite(t) and t > 0]
+    return math.ceil(max(tops) * 10.0 - 1e-9) / 10.0 if tops else 2.0
+
+
+#: a flux line closer than this to its neighbour (points at the figure's
+#: resolution) is thinned: every second, then every fourth line kept there
+CROWD_PT = 2.2
+
+
+def _b_limit(res: CheckResult) -> tuple[float, str]:
+    """The |B| contour drawn over the iron: the case's peak-B margin, else
+    the core material's knee (where dB/dH has fallen to a tenth)."""
+    from ..judge.check import _knee
+
+    if res.case.margins.peak_B is not None:
+        return float(res.case.margins.peak_B), "peak-B limit"
+    try:
+        knee = _knee(res.case.material("core").law)
+    except Exception:  # a case without a core material
+        return math.nan, ""
+    return knee, "knee of the B-H curve"
 
 
 def flux_caption(res: CheckResult) -> str:
     """What the flux plot shows, with the flux per line."""
     _, per_line = flux_levels(res)
     sol = res.fe.solution
-    where = ("round the axis" if sol.assembler.formulation.name == "axisymmetric"
-             else f"through the {sol.mesh.layout.depth * 1e3:g} mm stack")
-    return (f"Flux lines (equally spaced contours of A: one solid line per {_si(per_line, 'Wb')} "
-            f"of flux {where}; in the "
-            f"air, dotted lines at one per {_si(per_line / AIR_LINE_FACTOR, 'Wb')} show the "
-            f"leakage and fringing flux) over |B| on a logarithmic scale spanning {B_DECADES} "
-            "decades.")
+    rz = sol.assembler.formulation.name == "axisymmetric"
+    where = "round the axis" if rz else f"through the {sol.mesh.layout.depth * 1e3:g} mm stack"
+    limit, what = _b_limit(res)
+    contour = (f" The dashed contour is the {what}, {limit:.3g} T."
+               if math.isfinite(limit) else "")
+    mirror = (" The r-z section is drawn mirrored about the axis (dash-dot)." if rz else "")
+    return (f"Flux lines (equally spaced contours of A, solid for both signs: one line per "
+            f"{_si(per_line, 'Wb')} of flux {where}; where lines crowd closer than the "
+            f"figure can show, only every second or fourth is drawn; in the air, dotted lines "
+            f"at one per {_si(per_line / AIR_LINE_FACTOR, 'Wb')} show the leakage and "
+            f"fringing flux). |B| in the iron on a linear scale from 0 to "
+            f"{iron_scale(res):g} T (the material's saturation, the same for every case of "
+            f"that material); |B| in the air on its own logarithmic scale over "
+            f"{B_DECADES} decades.{contour}{mirror}")
 
 
-# pale (weak field) to deep red (strong), stopping short of the darkest red so
-# that the dark flux lines stay visible over saturated iron
-_B_MAP = LinearSegmentedColormap.from_list(
-    "magcheck_b", plt.get_cmap("YlOrRd")(np.linspace(0.0, 0.8, 256)))
+def _truncated(name: str, lo: float, hi: float, strength: float = 1.0):
+    """Part ``lo``..``hi`` of a matplotlib map, blended toward white to
+    ``strength`` (1 keeps it; lightness stays monotone)."""
+    rgba = plt.get_cmap(name)(np.linspace(lo, hi, 256))
+    rgba[:, :3] = 1.0 - strength * (1.0 - rgba[:, :3])
+    return LinearSegmentedColormap.from_list(f"magcheck_{name}", rgba)
+
+
+# perceptually uniform maps whose lightness falls with |B| (also in grey
+# print): the iron pale to mid magenta (the black flux lines stay visible at
+# saturation), the air a pale cividis (cream to grey-blue), fainter than the iron
+_IRON_MAP = _truncated("magma_r", 0.0, 0.62)
+_AIR_MAP = _truncated("cividis_r", 0.0, 0.75, strength=0.45)
+
+
+def _vertex_values(tri: Triangulation, values: np.ndarray, mask: np.ndarray) -> np.ndarray:
+    """Element values averaged onto the vertices of the unmasked elements."""
+    t = tri.triangles[~mask]
+    v = np.repeat(values[~mask], 3)
+    total = np.bincount(t.ravel(), weights=v, minlength=tri.x.size)
+    count = np.bincount(t.ravel(), minlength=tri.x.size)
+    return np.where(count > 0, total / np.maximum(count, 1), 0.0)
+
+
+def _crowding(tri: Triangulation, a_vert: np.ndarray, step: float, mm_per_pt: float) -> np.ndarray:
+    """Per element, the distance between neighbouring flux lines in points
+    (step over |grad A| of the linear interpolation on the vertices)."""
+    t = tri.triangles
+    x, y = tri.x[t], tri.y[t]
+    a = a_vert[t]
+    det = (x[:, 1] - x[:, 0]) * (y[:, 2] - y[:, 0]) - (x[:, 2] - x[:, 0]) * (y[:, 1] - y[:, 0])
+    det = np.where(det == 0, np.inf, det)
+    da1, da2 = a[:, 1] - a[:, 0], a[:, 2] - a[:, 0]
+    gx = (da1 * (y[:, 2] - y[:, 0]) - da2 * (y[:, 1] - y[:, 0])) / det
+    gy = (da2 * (x[:, 1] - x[:, 0]) - da1 * (x[:, 2] - x[:, 0])) / det
+    g = np.hypot(gx, gy)
+    with np.errstate(divide="ignore"):
+        return np.where(g > 0, step / np.where(g > 0, g, 1.0) / mm_per_pt, np.inf)
 
 
 def fig_flux(res: CheckResult):
+    """Flux lines over |B|: the iron on a linear scale (0 to `iron_scale`)
+    with the `_b_limit` contour, the air on its own log scale; an r-z section
+    mirrored about its axis."""
     sol = res.fe.solution
-    fig, ax = plt.subplots(figsize=(6.5, 6))
+    mirror = _mirrored(res)
+    x0, y0, x1, y1 = sol.mesh.layout.bbox()
+    span_x = (2 * x1 if mirror else x1 - x0) * 1.5
+    span_y = (y1 - y0) * 1.5
+    width = 7.2
+    height = min(9.0, max(4.2, width * 0.78 * span_y / span_x + 0.9))
+    fig, ax = plt.subplots(figsize=(width, height))
     tri = _tri(res)
     bmag = np.linalg.norm(post.b_elements(sol), axis=0)
-    top = float(bmag.max()) if bmag.size and bmag.max() > 0 else 1.0
-    floor = top * 10.0 ** -B_DECADES
-    norm = LogNorm(vmin=floor, vmax=top, clip=True)
-    pc = ax.tripcolor(tri, facecolors=np.maximum(bmag, floor), cmap=_B_MAP, norm=norm,
-                      shading="flat")
+    iron = _iron_mask(res)
+    top = iron_scale(res)
+    air_b = bmag[~iron]
+    air_top = float(air_b.max()) if air_b.size and air_b.max() > 0 else 1.0
+    air_floor = air_top * 10.0 ** -B_DECADES
+    air_norm = LogNorm(vmin=air_floor, vmax=air_top, clip=True)
+    from matplotlib.colors import Normalize
+
+    iron_norm = Normalize(vmin=0.0, vmax=top, clip=True)
     levels, per_line = flux_levels(res)
     a_vert = sol.A[sol.basis.nodal_dofs[0]][: tri.x.size]
-    if levels.size:
-        ax.tricontour(tri, a_vert, levels=levels, colors="#102a43", linewidths=0.45)
-        # outside the iron, dotted lines at a tenth of the step show the
-        # leakage and fringing flux that is smaller than one solid line
-        fine = _fine_levels(levels)
-        air = Triangulation(tri.x, tri.y, tri.triangles, mask=_iron_mask(res))
-        if fine.size:
-            ax.tricontour(air, a_vert, levels=fine, colors="#1f5f8b", linewidths=0.35,
-                          linestyles=":")
-    _outlines(ax, res, lw=0.8)
-    _zoom(ax, res)
-    fig.colorbar(pc, ax=ax, label="|B| (T), logarithmic", shrink=0.85)
-    ax.set_title(f"Flux lines over |B|: solid one per {_si(per_line, 'Wb')}, dotted (air) one per "
-                 f"{_si(per_line / AIR_LINE_FACTOR, 'Wb')}", fontsize=9)
+    step = float(levels[1] - levels[0]) if levels.size > 1 else 0.0
+    # figure resolution: the axes' width in points over the span in mm
+    mm_per_pt = span_x * 1e3 / (width * 0.7 * 72.0)
+    spacing = (_crowding(tri, a_vert, step, mm_per_pt) if step > 0
+               else np.full(tri.triangles.shape[0], np.inf))
+    limit, limit_what = _b_limit(res)
+    b_vert = _vertex_values(tri, bmag, ~iron)
+    pc_iron = pc_air = None
+    for sgn in ((1.0, -1.0) if mirror else (1.0,)):
+        xs = tri.x * sgn
+        t_iron = Triangulation(xs, tri.y, tri.triangles, mask=~iron)
+        t_air = Triangulation(xs, tri.y, tri.triangles, mask=iron)
+        if air_b.size:
+            pc_air = ax.tripcolor(t_air, facecolors=np.maximum(bmag, air_floor),
+                                  cmap=_AIR_MAP, norm=air_norm, shading="flat")
+        if iron.any():
+            pc_iron = ax.tripcolor(t_iron, facecolors=bmag, cmap=_IRON_MAP, norm=iron_norm,
+                                   shading="flat")
+        if levels.size:
+            k = np.rint(levels / step).astype(int)
+            for keep, lo, hi in ((1, CROWD_PT, np.inf), (2, CROWD_PT / 2, CROWD_PT),
+                                 (4, 0.0, CROWD_PT / 2)):
+                sel = levels[k % keep == 0]
+                hidden = ~((spacing >= lo) & (spacing < hi))
+                tier = Triangulation(xs, tri.y, tri.triangles, mask=hidden)
+                if sel.size and not hidden.all():
+                    ax.tricontour(tier, a_vert, levels=sel, colors="#101820", linewidths=0.5,
+                                  linestyles="solid", negative_linestyles="solid")
+            # outside the iron, dotted lines at a tenth of the step show the
+            # leakage and fringing flux that is smaller than one solid line
+            fine = _fine_levels(levels)
+            if fine.size and air_b.size:
+                ax.tricontour(t_air, a_vert, levels=fine, colors="#1f4e79", linewidths=0.35,
+                              linestyles=":", negative_linestyles=":")
+        if math.isfinite(limit) and iron.any() and 0 < limit < float(bmag[iron].max()):
+            ax.tricontour(t_iron, b_vert, levels=[limit], colors="#00a6a6", linewidths=1.6,
+                          linestyles="--")
+        _outlines(ax, res, lw=0.8, sign=sgn)
+    _zoom(ax, res, mirror=mirror)
+    if pc_iron is not None:
+        cb = fig.colorbar(pc_iron, ax=ax, shrink=0.85, pad=0.02,
+                          label="|B| in iron and magnets (T), linear")
+        if math.isfinite(limit) and 0 < limit < top:
+            cb.ax.axhline(limit, color="#00a6a6", lw=2.0, ls="--")
+    if pc_air is not None:
+        fig.colorbar(pc_air, ax=ax, shrink=0.85, pad=0.02, label="|B| in the air (T), log")
+    ax.set_title(f"Flux lines: one per {_si(per_line, 'Wb')} (solid, both signs); "
+                 f"dotted in air one per {_si(per_line / AIR_LINE_FACTOR, 'Wb')}"
+                 + (f"\ndashed: {limit_what} {limit:.3g} T" if math.isfinite(limit) else ""),
+                 fontsize=8.5)
     return fig
 
 
@@ -213,17 +495,27 @@ def fig_gap_line(res: CheckResult, n: int = 400):
     u = np.linspace(0.0, 1.0, n)
     pts = np.vstack([x0 + u * (x1 - x0), y0 + u * (y1 - y0)])
     t = line.offset + u * math.hypot(x1 - x0, y1 - y0)
+    if _mirrored(res):
+        # a point on the axis has B_z = (1/r) du/dr = 0/0 in the r-z form: sample
+        # a hair off it (1e-6 of the line), where the field is the axis's
+        pts[0] = np.maximum(pts[0], 1e-6 * math.hypot(x1 - x0, y1 - y0))
     b = post.sample_b(res.fe.solution, pts)[line.component]
     sign = np.sign(b[len(b) // 2]) or 1.0
     ax.plot(t * 1e3, sign * b, color=FE_COLOUR, label="FE, B along the gap's flux")
     ax.axhline(res.hand_planar.gap_B, color=HAND_COLOUR, ls="--",
-               label=f"hand gap B ({res.hand_planar.fringing_model}, planar)")
+               label=f"hand gap B ({res.hand_planar.fringing_model}, "
+                     f"{comparison_forms(res.case)[0]})")
     for c in line.faces:
         ax.axvline(c * 1e3, color="#888888", lw=0.8, ls=":")
-    ax.set_xlabel("position across the gap (mm); dotted: pole-face edges")
+    rz = _mirrored(res)
+    across = "r" if rz and abs(x1 - x0) >= abs(y1 - y0) else "z" if rz else (
+        "x" if abs(x1 - x0) >= abs(y1 - y0) else "y")
+    ax.set_xlabel(f"{across} across the gap (mm); dotted: pole-face edges")
     ax.set_ylabel("B (T)")
-    ax.set_title(f"B across the middle of the gap in {line.label}: fringing beyond the faces",
-                 fontsize=9)
+    import textwrap
+
+    ax.set_title("\n".join(textwrap.wrap(f"B across the middle of the gap in {line.label}: "
+                                         "fringing beyond the faces", 80)), fontsize=9)
     ax.legend(fontsize=8)
     return fig
 
@@ -250,20 +542,235 @@ def fig_path_h(res: CheckResult):
     return fig
 
 
+def _region_means(res: CheckResult) -> dict[str, float]:
+    """The FE's area-mean |B| (T) of every core region (the finest mesh)."""
+    sol = res.fe.solution
+    rmesh = sol.mesh
+    bmag = np.linalg.norm(post.b_elements(sol), axis=0)
+    tri = _tri(res)
+    t = tri.triangles
+    x, y = tri.x[t], tri.y[t]
+    area = 0.5 * np.abs((x[:, 1] - x[:, 0]) * (y[:, 2] - y[:, 0])
+                        - (x[:, 2] - x[:, 0]) * (y[:, 1] - y[:, 0]))
+    out = {}
+    for region in rmesh.layout.regions:
+        if region.kind == "core":
+            idx = rmesh.elements_of(region.name)
+            if len(idx) and area[idx].sum() > 0:
+                out[region.name] = float(np.average(bmag[idx], weights=area[idx]))
+    return out
+
+
+def _materials_present(res: CheckResult) -> list[tuple[str, Any, list[str]]]:
+    """(description, law, core regions and hand segments of it) for every
+    soft material of the case, in case order."""
+    case = res.case
+    names = [r.name for r in res.fe.solution.mesh.layout.regions if r.kind == "core"]
+    names += [seg["name"] for seg in res.hand_planar.segments if seg.get("kind") == "core"]
+    out: dict[str, tuple[str, Any, list[str]]] = {}
+    for n in dict.fromkeys(names):
+        try:
+            m = case.part_material(n)
+        except KeyError:
+            continue
+        if m.kind == "magnet" or not hasattr(m.law, "b_of_h"):
+            continue
+        out.setdefault(m.description, (m.description, m.law, []))[2].append(n)
+    return list(out.values())
+
+
 def fig_bh(res: CheckResult):
-    fig, ax = plt.subplots(figsize=(6.5, 4))
-    law = res.case.material("core").law
-    h_top = max(3 * res.fe.values["path_H"], 3 * res.hand_planar.path_H, 2000.0)
-    h = np.linspace(0, h_top, 400)
-    ax.plot(h, law.b_of_h(h), color="#5b6c80", label=res.case.material("core").description)
-    ax.plot(res.hand_planar.path_H, res.hand_planar.core_B, "o", color=HAND_COLOUR,
-            label="hand: path H, core B")
-    ax.plot(res.fe.values["path_H"], res.fe.values["core_B"], "s", color=FE_COLOUR,
-            label="FE: path-mean H, core-mean B")
-    ax.set_xlabel("H (A/m)")
-    ax.set_ylabel("B (T)")
-    ax.set_title("B-H curve and operating points")
-    ax.legend(fontsize=8)
+    """The B-H curve of every soft material present, with each model's
+    operating points on it: the hand network's per segment (its B and H),
+    the FE's per core region (area-mean |B|, and the H the curve gives it, so
+    on the curve by construction); the FE peak B (0.5 % area quantile) and
+    the peak-B limit as horizontal lines."""
+    mats = _materials_present(res)
+    if not mats:
+        return None
+    fig, axes = plt.subplots(1, len(mats), figsize=(6.5 * min(len(mats), 2), 4.2), squeeze=False)
+    fe_means = _region_means(res)
+    segs = {seg["name"]: seg for seg in res.hand_planar.segments if seg.get("kind") == "core"}
+    peak = res.fe.fine.peak_B
+    limit = res.case.margins.peak_B
+    for ax, (desc, law, parts) in zip(axes[0], mats):
+        h_pts = [abs(segs[p]["H"]) for p in parts if p in segs]
+        b_all = [abs(segs[p]["B"]) for p in parts if p in segs] + [
+            fe_means[p] for p in parts if p in fe_means] + [peak]
+        h_top = max([3.0 * max(h_pts, default=0.0), float(law.h_of_b(max(b_all) * 1.05))
+                     if b_all else 0.0, 1000.0])
+        h = np.linspace(0, h_top, 400)
+        ax.plot(h, law.b_of_h(h), color="#5b6c80", lw=1.6, label=desc)
+        first = True
+        for p in parts:
+            if p in segs:
+                ax.plot(abs(segs[p]["H"]), abs(segs[p]["B"]), "o", mfc="none", ms=7,
+                        color=HAND_COLOUR, label="hand, per segment" if first else None)
+                ax.annotate(p, (abs(segs[p]["H"]), abs(segs[p]["B"])), fontsize=6,
+                            xytext=(4, -9), textcoords="offset points", color=HAND_COLOUR)
+                first = False
+        first = True
+        for p in parts:
+            if p in fe_means:
+                b = fe_means[p]
+                ax.plot(float(law.h_of_b(b)), b, "s", ms=5, color=FE_COLOUR,
+                        label="FE, area-mean |B| per region" if first else None)
+                ax.annotate(p, (float(law.h_of_b(b)), b), fontsize=6, xytext=(4, 3),
+                            textcoords="offset points", color=FE_COLOUR)
+                first = False
+        if math.isfinite(peak):
+            ax.axhline(peak, color=FE_COLOUR, lw=0.9, ls=":",
+                       label=f"FE peak B (0.5 % of the core area) {peak:.3g} T")
+        if limit is not None:
+            ax.axhline(limit, color="#00a6a6", lw=1.4, ls="--", label=f"peak-B limit {limit:.3g} T")
+        ax.set_xlim(0, h_top)
+        ax.set_ylim(0, max(float(law.b_of_h(h_top)), limit or 0.0, peak if math.isfinite(peak)
+                           else 0.0) * 1.1)
+        ax.set_xlabel("H (A/m)")
+        ax.set_ylabel("B (T)")
+        ax.set_title(f"{desc}: {', '.join(parts)}", fontsize=9)
+        ax.grid(alpha=0.3)
+        ax.legend(fontsize=7, loc="lower right")
+    return fig
+
+
+def fig_magnet(res: CheckResult):
+    """The first magnet in the second quadrant: its recoil line from B_r to
+    H_c, the knee field, the load line through each model's operating point
+    (B/H of that point, through the origin), both operating points and the
+    FE's demagnetising extreme; None without a magnet."""
+    from ..design.coremodel import core_model
+
+    model = core_model(res.case)
+    mv = res.fe.fine.magnet_values
+    if not model.magnets or not mv:
+        return None
+    mag = model.magnets[0]
+    from scipy.constants import mu_0
+
+    br = float(np.hypot(*mag.remanence))
+    mu = mu_0 * mag.mu_r
+    hc = -br / mu
+    knee = dict(model.magnet_knees).get(mag.region)
+    fig, ax = plt.subplots(figsize=(6.5, 4.4))
+    h_lo = min(hc, knee if knee is not None else hc) * 1.1
+    h = np.linspace(h_lo, 0.0, 200)
+    ax.plot(h * 1e-3, np.maximum(br + mu * h, 0.0), color="#5b6c80", lw=1.6,
+            label=f"recoil line: B_r {br:.3g} T, µ_r {mag.mu_r:g}, H_c {hc * 1e-3:.4g} kA/m")
+    if knee is not None:
+        ax.axvline(knee * 1e-3, color=HAND_COLOUR, lw=1.2, ls="--",
+                   label=f"knee {knee * 1e-3:.4g} kA/m (demagnetisation below)")
+        ax.axvspan(h_lo * 1e-3, knee * 1e-3, color=HAND_COLOUR, alpha=0.08)
+    for who, vals, marker, colour in (("hand", res.hand_planar.magnet_values, "o", HAND_COLOUR),
+                                      ("FE", mv, "s", FE_COLOUR)):
+        b0, h0 = vals.get("magnet_B", math.nan), vals.get("magnet_H", math.nan)
+        if not (math.isfinite(b0) and math.isfinite(h0)):
+            continue
+        ax.plot(h0 * 1e-3, b0, marker, ms=7, mfc="none" if who == "hand" else colour,
+                color=colour, label=f"{who} operating point: {b0:.3g} T, {h0 * 1e-3:.4g} kA/m",
+                zorder=4)
+        if h0 < 0:
+            slope = b0 / h0  # the load line through the origin
+            hh = np.array([h_lo, 0.0])
+            ax.plot(hh * 1e-3, slope * hh, ls=":" if who == "hand" else "-.", color=colour,
+                    lw=1.0, label=f"{who} load line, B/µ0H = {slope / mu_0:.3g}")
+    hmin = mv.get("magnet_H_min", math.nan)
+    if math.isfinite(hmin):
+        ax.plot(hmin * 1e-3, max(br + mu * hmin, 0.0), "x", color=FE_COLOUR, ms=8,
+                label=f"FE demagnetising extreme (0.5 % area) {hmin * 1e-3:.4g} kA/m")
+    ax.set_xlim(h_lo * 1e-3, 0.0)
+    ax.set_ylim(0.0, br * 1.15)
+    ax.set_xlabel("H along the magnetisation (kA/m)")
+    ax.set_ylabel("B along the magnetisation (T)")
+    ax.set_title(f"Magnet {mag.region} in the second quadrant", fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7, loc="upper left")
+    return fig
+
+
+def force_strokes(res: CheckResult, n: int = 12) -> np.ndarray:
+    """The strokes (m) of the force-stroke figure, hand model only (cheap):
+    0.2 to 2 times the case's stroke (on to 1.1 times the farthest force
+    limit's stroke), the case's stroke and every limit's stroke added."""
+    from ..design.coremodel import core_model
+
+    spec = core_model(res.case).force
+    if spec is None:
+        return np.array([])
+    s0 = spec.stroke
+    lims = [lim.stroke for lim in res.case.margins.force]
+    hi = max([2.0 * s0, *(1.1 * s for s in lims)])
+    pts = np.linspace(0.2 * s0, hi, n)
+    return np.unique(np.concatenate([pts, [s0], lims]))
+
+
+def fig_force_stroke(res: CheckResult):
+    """Force on the moving part against the stroke: the hand network's
+    virtual work and the pull formula (the engineer's 3D form, solved at each
+    stroke), both FE methods at the case's stroke (depth-corrected as the
+    table's FE 3D column), the force limits drawn at their strokes and the
+    minimum force at the case's stroke; None without a moving part."""
+    from ..design.coremodel import core_model
+    from ..errors import CaseError
+    from ..models.hand import run_hand
+
+    spec = core_model(res.case).force
+    if spec is None or spec.stroke_key is None or not res.hand_3d.force_values:
+        return None
+    import dataclasses
+
+    key: str = spec.stroke_key
+
+    def at_stroke(st: float):
+        try:
+            return res.case.with_values({key: st})
+        except CaseError:  # a case built in code, without its tables: the core's own field
+            table, _, name = key.partition(".")
+            if table != "core" or not hasattr(res.case.core, name):
+                raise
+            return dataclasses.replace(res.case,
+                                       core=dataclasses.replace(res.case.core, **{name: st}))
+
+    strokes, vw, pull = [], [], []
+    for st in force_strokes(res):
+        try:
+            h = run_hand(at_stroke(float(st)))
+        except (CaseError, ValueError, ArithmeticError):
+            continue  # a stroke the geometry does not take
+        strokes.append(st * 1e3)
+        vw.append(h.force_values.get("force", math.nan))
+        pull.append(h.force_values.get("force_pull", math.nan))
+    fig, ax = plt.subplots(figsize=(6.5, 4.2))
+    ax.plot(strokes, vw, "o-", color=HAND_COLOUR, mfc="none", ms=4, lw=1.2,
+            label="hand, network virtual work")
+    ax.plot(strokes, pull, "s--", color=HAND_COLOUR, mfc="none", ms=4, lw=1.0,
+            label="hand, pull formula")
+    rows = {r.key: r for r in res.rows}
+    s0 = spec.stroke * 1e3
+    for key, marker, what in (("force", "D", "FE, Maxwell stress"),
+                              ("force_virtual_work", "X", "FE, virtual work")):
+        r = rows.get(key)
+        if r is not None and math.isfinite(r.fe_3d):
+            err = r.fe_3d_uncertainty if math.isfinite(r.fe_3d_uncertainty) else None
+            ax.errorbar([s0], [r.fe_3d], yerr=err, fmt=marker, color=FE_COLOUR, ms=7,
+                        capsize=3, label=f"{what} at {s0:g} mm: {r.fe_3d:.3g} N", zorder=4)
+    m = res.case.margins
+    if m.force_min is not None:
+        ax.plot([s0], [m.force_min], "^", color="#00a6a6", ms=10,
+                label=f"limit: at least {m.force_min:g} N at {s0:g} mm")
+    for lim in m.force:
+        for v, mk, word in ((lim.min, "^", "at least"), (lim.max, "v", "at most")):
+            if v is not None:
+                ax.plot([lim.stroke * 1e3], [v], mk, color="#00a6a6", ms=10,
+                        label=f"limit: {word} {v:g} N at {lim.stroke * 1e3:g} mm")
+                ax.hlines(v, lim.stroke * 1e3 - 0.15 * s0, lim.stroke * 1e3 + 0.15 * s0,
+                          color="#00a6a6", lw=2.0)
+    ax.set_xlabel(f"stroke ({spec.stroke_key}, mm)")
+    ax.set_ylabel("force on the moving part (N), closing")
+    ax.set_title(f"{res.case.name}: force along the stroke at {res.case.winding.current:g} A "
+                 "(hand 3D form; FE at the case's stroke)", fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7)
     return fig
 
 
@@ -363,6 +870,8 @@ FIGURES = {
     "gap_line.png": fig_gap_line,
     "path_h.png": fig_path_h,
     "bh.png": fig_bh,
+    "magnet.png": fig_magnet,
+    "force_stroke.png": fig_force_stroke,
     "breakdown.png": fig_breakdown,
     "magnetizing.png": fig_magnetizing,
     "inrush.png": fig_inrush,
@@ -370,10 +879,24 @@ FIGURES = {
 
 
 _CAPTIONS = {
-    "geometry.png": "Regions (core, gaps, coil sides) and the finer mesh.",
+    "geometry.png": "Regions and the finer mesh: each core part with its material, the gaps "
+                    "with their lengths, every winding in its own colour (return sides "
+                    "hatched), magnets with their magnetisation, the parts' overall dimensions "
+                    "and the hand circuit's mean path (dashed); an r-z section mirrored about "
+                    "its axis.",
     "gap_line.png": "B along a line across the middle of the first gap, beyond both pole faces.",
     "path_h.png": "|H| along the core's mean path (gaps left out), with the hand value.",
-    "bh.png": "The core's B-H curve with the hand and FE operating points.",
+    "bh.png": "The B-H curve of every soft material present, with the hand network's operating "
+              "point per segment (open circles: its B and H) and the FE's per core region "
+              "(squares: area-mean |B| and the H the curve gives it); the FE peak B (0.5 % of "
+              "the core area) and the peak-B limit as horizontal lines.",
+    "magnet.png": "The first magnet in the second quadrant: its recoil line, the knee field "
+                  "(demagnetisation beyond it), each model's operating point and load line, and "
+                  "the FE's demagnetising extreme (the H exceeded on 0.5 % of the magnet's area).",
+    "force_stroke.png": "Force on the moving part along the stroke at the case's current: the "
+                        "hand network's virtual work and the pull formula solved at each stroke "
+                        "(3D form), both FE methods at the case's stroke (depth-corrected, with "
+                        "their uncertainty), and the force limits at their strokes.",
     "breakdown.png": "The hand-vs-FE difference of each quantity after each refinement of the "
                      "hand model (planar forms), in the order of the table above.",
     "magnetizing.png": "The magnetizing current of the voltage-driven winding over one period, "
@@ -455,6 +978,50 @@ def _saturation_marks(ax, sat_rows, tag: str, shade: float) -> None:
                        label=f"{who}: {row['inductance']} L -{label} at {current:.3g} A")
 
 
+MARGIN_COLOUR = "#00a6a6"
+"""The colour of every design limit drawn on a figure (and of the judged FE 3D curve)."""
+
+_DEPTH_CORRECTED = ("inductance", "incremental_inductance", "flux_linkage", "core_B")
+
+
+def _depth_factor(p, key: str) -> float:
+    """A sweep point's depth correction of ``key`` as the margins take it
+    (its ``depth_factors``; else the hand 3D over planar ratio)."""
+    factors = getattr(p, "depth_factors", None) or {}
+    if key in factors:
+        return factors[key]
+    h3, hp = p.hand.get(key, math.nan), p.hand_planar.get(key, math.nan)
+    return h3 / hp if hp and math.isfinite(hp) and math.isfinite(h3) else 1.0
+
+
+def _sweep_margin_marks(ax, case, panel: str, scale: float) -> None:
+    """The case's design limits on a sweep panel against the current: each
+    inductance window at its current (a bar from min to max, arrows for an
+    open side), the minimum saturation currents, the peak-B limit."""
+    m = case.margins
+    if panel == "sweep_inductance.png":
+        for lim in m.inductance:
+            lo = lim.min * scale if lim.min is not None else None
+            hi = lim.max * scale if lim.max is not None else None
+            text = " to ".join(f"{w} {v:.4g} mH" for w, v in (("min", lo), ("max", hi))
+                               if v is not None)
+            if lo is not None and hi is not None:
+                ax.plot([lim.at, lim.at], [lo, hi], color=MARGIN_COLOUR, lw=3.0,
+                        solid_capstyle="butt", label=f"{lim.kind} L window at {lim.at:g} A: {text}")
+            for v, mk in ((lo, "^"), (hi, "v")):
+                if v is not None:
+                    ax.plot([lim.at], [v], mk, color=MARGIN_COLOUR, ms=8,
+                            label=None if (lo is not None and hi is not None)
+                            else f"{lim.kind} L at {lim.at:g} A: {text}")
+        for sat in m.saturation:
+            ax.axvline(sat.min, color=MARGIN_COLOUR, lw=1.4, ls="--",
+                       label=f"saturation current ({sat.kind} L -{sat.drop * 100:g} %) "
+                             f"at least {sat.min:g} A")
+    if panel == "sweep_core_B.png" and m.peak_B is not None:
+        ax.axhline(m.peak_B * scale, color=MARGIN_COLOUR, lw=1.4, ls="--",
+                   label=f"peak-B limit {m.peak_B:.3g} T")
+
+
 def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]:
     """The figures of a sweep as (file name, figure): inductance (secant and
     incremental), flux linkage and core B (mean and peak) against the swept
@@ -495,8 +1062,20 @@ def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]
                     style["color"] = _shade(style["color"], shade)
                     ax.plot(x, [v * scale for v in ys], _SERIES_LINE[s], lw=1.2,
                             label=" ".join(w for w in (model, what) if w) + suffix, **style)
+                if res.with_fe and key in _DEPTH_CORRECTED:
+                    # the value the margins are judged on: the FE, depth-corrected
+                    ys3 = [p.fe.get(key, math.nan) * _depth_factor(p, key) for p in pts]
+                    if not all(math.isclose(a, b, rel_tol=1e-9) for a, b in zip(
+                            ys3, [p.fe.get(key, math.nan) for p in pts]) if math.isfinite(a)):
+                        ax.plot(x, [v * scale for v in ys3], "-.", lw=1.6,
+                                color=_shade(MARGIN_COLOUR, shade), marker="s" if s == 0
+                                else "D", ms=3, zorder=2,
+                                label=f"FE 3D {what} (depth-corrected, judged){suffix}".replace(
+                                    "  ", " "))
             if name == "sweep_inductance.png" and x_key == CURRENT_KEY:
                 _saturation_marks(ax, saturation, tag, shade)
+        if x_key == CURRENT_KEY:
+            _sweep_margin_marks(ax, res.case, name, scale)
         ax.set_xlabel(x_label)
         ax.set_ylabel(ylabel)
         ax.grid(alpha=0.3)
@@ -533,6 +1112,27 @@ def fig_sweep_force(res, groups, x_of, x_label):
             if face is not None:
                 kw["markerfacecolor"] = face
             ax.plot(x, ys, line, lw=1.2, label=what + suffix, **kw)
+    from ..design.coremodel import core_model
+
+    spec = core_model(res.case).force
+    if spec is not None and spec.stroke_key in res.keys and res.with_fe:
+        for fixed, pts in groups:  # the FE force as the margins judge it: depth-corrected
+            order = sorted(range(len(pts)), key=lambda i: x_of(pts[i]))
+            ys = [pts[i].fe.get("force_maxwell", math.nan) * _depth_factor(pts[i], "force")
+                  for i in order]
+            if any(math.isfinite(v) and not math.isclose(v, pts[i].fe.get("force_maxwell", v))
+                   for v, i in zip(ys, order)):
+                ax.plot([x_of(pts[i]) for i in order], ys, "-.", color=MARGIN_COLOUR, lw=1.4,
+                        label="FE 3D, Maxwell stress (depth-corrected, judged)")
+    if spec is not None and spec.stroke_key in res.keys:
+        from ..design.keys import display_unit
+
+        k = display_unit(spec.stroke_key)[0]
+        for lim in res.case.margins.force:
+            for v, mk, word in ((lim.min, "^", "at least"), (lim.max, "v", "at most")):
+                if v is not None:
+                    ax.plot([lim.stroke * k], [v], mk, color=MARGIN_COLOUR, ms=9,
+                            label=f"limit: {word} {v:g} N at {lim.stroke * 1e3:g} mm")
     ax.set_xlabel(x_label)
     ax.set_ylabel("force on the moving part (N), closing")
     ax.grid(alpha=0.3)
@@ -598,6 +1198,14 @@ def tolerance_figure(res, labels: dict[str, str]):
             ax.axvline(value * scale, color=HAND_COLOUR, lw=1.5, ls="--", label=f"limit: {label}")
         if limits[k]:
             ax.legend(fontsize=7)
+        if k == "inductance":
+            at = res.case.winding.current
+            other = sorted({lim.at for lim in res.case.margins.inductance
+                            if not math.isclose(lim.at, at, rel_tol=1e-9, abs_tol=1e-12)})
+            if other:  # say why the window is not drawn, rather than draw it against L at I
+                ax.text(0.02, 0.97, f"L window stated at {', '.join(f'{a:g}' for a in other)} A;"
+                        f"\nthis histogram is L at {at:g} A: not drawn", transform=ax.transAxes,
+                        fontsize=7, va="top", color=MARGIN_COLOUR)
         ax.yaxis.set_major_locator(MaxNLocator(integer=True))
         ax.set_xlabel(f"{labels[k]} ({unit})", fontsize=8)
         ax.grid(alpha=0.3)

@@ -8,16 +8,24 @@ from pathlib import Path
 from ..judge.check import CheckResult
 from ..design.coremodel import comparison_forms
 from .output import CAUTION, atomic_write_text
-from .serialize import TABLE_COLUMNS, table_cells, verdict_lines, versions
+from .serialize import (AGREEMENT_COLUMNS, MARGIN_COLUMNS, agreement_cells, grouped_rows,
+                        margin_cells, pretty_units, shows_3d, verdict_banners, verdict_lines,
+                        versions)
 
 __all__ = ["write_report"]
 
 _STYLE = """
-body { font-family: system-ui, sans-serif; max-width: 980px; margin: 2em auto; color: #1d2733; }
+body { font-family: system-ui, sans-serif; max-width: 1100px; margin: 2em auto; padding: 0 1em;
+       color: #1d2733; }
 h1 { font-size: 1.5em; } h2 { font-size: 1.15em; margin-top: 1.6em; }
 table { border-collapse: collapse; font-size: 0.9em; }
 td, th { padding: 3px 9px; border-bottom: 1px solid #d5dbe1; text-align: right; }
-td:first-child, th:first-child { text-align: left; }
+td:first-child, th:first-child { text-align: left; white-space: normal; }
+td, th { white-space: nowrap; } tr.topic td { font-weight: bold; background: #eef2f6; }
+.banner { padding: 0.5em 1em; margin: 0.6em 0; border-left: 6px solid; }
+.banner b { font-size: 1.1em; } .banner ul { margin: 0.3em 0 0 0; }
+.banner.pass { border-color: #1f7a4d; background: #e8f5ee; }
+.banner.FAIL { border-color: #b3261e; background: #fbe9e7; }
 .FAIL { color: #b3261e; font-weight: bold; } .pass { color: #1f7a4d; }
 .inconclusive { color: #8a5a00; }
 .caution { background: #fff4e0; border-left: 4px solid #e0a030; padding: 0.6em 1em; }
@@ -27,8 +35,32 @@ img { max-width: 100%; }
 
 
 
-def _table(headers, rows) -> str:
-    out = ["<table><tr>" + "".join(f"<th>{html.escape(h)}</th>" for h in headers) + "</tr>"]
+def _table(headers, rows, groups=None) -> str:
+    """An HTML table; ``groups`` (heading, rows) pairs put a heading row
+    above each group instead of ``rows``."""
+    out = ["<table><tr>" + "".join(f"<th>{html.escape(pretty_units(h))}</th>" for h in headers)
+           + "</tr>"]
+    for heading, grows in (groups if groups is not None else [("", rows)]):
+        if heading:
+            out.append(f"<tr class='topic'><td colspan='{len(headers)}'>{html.escape(heading)}"
+                       "</td></tr>")
+        out += _table_rows(grows)
+    out.append("</table>")
+    return "\n".join(out)
+
+
+def _banners(res: CheckResult, agreement: str) -> str:
+    """The two verdicts as banners: what failed, the tightest margin left."""
+    out = []
+    for b in verdict_banners(res, agreement):
+        items = "".join(f"<li>{html.escape(pretty_units(d))}</li>" for d in b.details)
+        out.append(f"<div class='banner {'pass' if b.ok else 'FAIL'}'><b>"
+                   f"{html.escape(b.line())}</b><ul>{items}</ul></div>")
+    return "\n".join(out)
+
+
+def _table_rows(rows) -> list[str]:
+    out = []
     for r in rows:
         cells = []
         for c in r:
@@ -36,8 +68,25 @@ def _table(headers, rows) -> str:
             cls = f' class="{word}"' if word in ("FAIL", "pass", "inconclusive") else ""
             cells.append(f"<td{cls}>{html.escape(str(c))}</td>")
         out.append("<tr>" + "".join(cells) + "</tr>")
-    out.append("</table>")
-    return "\n".join(out)
+    return out
+
+
+def _agreement_table(res: CheckResult) -> str:
+    """Hand vs FE by topic; the hand 3D and FE 3D columns only where they
+    differ from the like-for-like ones (not in an r-z case)."""
+    with_3d = shows_3d(res)
+    cols = AGREEMENT_COLUMNS + (["hand 3D", "FE 3D (depth-corrected)"] if with_3d else [])
+    groups = [(t, [agreement_cells(r, with_3d) for r in rows])
+              for t, rows in grouped_rows(res, "agreement")]
+    return _table(cols, None, groups) if groups else ""
+
+
+def _margin_table(res: CheckResult) -> str:
+    """The design margins in a table of their own, with absolute limits."""
+    rows = [margin_cells(r) for r in res.rows if r.judges == "design"]
+    if not rows:
+        return ""
+    return "<h2>Design margins</h2>\n" + _table(MARGIN_COLUMNS, rows)
 
 
 def _mm(v: float) -> str:
@@ -74,15 +123,26 @@ def input_rows(res: CheckResult) -> list[list[str]]:
                                    f"centre {_mm(gap.position)} from the limb's start"])
     if not case.gaps and case.family_model.limb_names:  # a drawn core lists its own
         rows.append(["gaps", "none"])
-    w = case.winding
-    if w.limb:
-        rows += [["winding", f"on the {w.limb} limb, N = {w.turns}, I = {w.current:g} A, "
-                             f"NI = {w.mmf:g} A"],
-                 ["coil build", f"thickness {_mm(w.thickness)}, length {_mm(w.length)}, "
-                                f"clearance to the limb {_mm(w.clearance)}"]]
-    else:
-        rows += [["winding", f"drawn coil, N = {w.turns}, I = {w.current:g} A, "
-                             f"NI = {w.mmf:g} A"]]
+    from ..design.units import format_si
+
+    for w in case.windings:
+        label = "winding" if len(case.windings) == 1 else f"winding {w.name}"
+        where = f"on the {w.limb} limb" if w.limb else "drawn coil"
+        if w.driven:
+            drive = (f"driven at {w.voltage:g} V rms, {w.frequency:g} Hz; operating current "
+                     f"(the hand model's peak magnetizing current) {format_si(w.current, 'A')}")
+            if w.residual_flux is not None:
+                drive += f"; inrush: residual flux {w.residual_flux:g} of the peak"
+            if w.resistance is not None:
+                drive += f", series resistance {w.resistance:g} ohm"
+            rows.append([label, f"{where}, N = {w.turns}, {drive}"])
+        else:
+            rows.append([label, f"{where}, N = {w.turns}, I = {w.current:g} A, "
+                                f"NI = {w.mmf:g} A"])
+        if w.limb:
+            rows.append([f"coil build ({w.name})" if len(case.windings) > 1 else "coil build",
+                         f"thickness {_mm(w.thickness)}, length {_mm(w.length)}, "
+                         f"clearance to the limb {_mm(w.clearance)}"])
     for m in case.materials:
         rows.append([f"material of {m.region}", f"{m.description} ({m.kind})"])
     rows.append(["fringing model (hand)", case.hand.fringing])
@@ -116,16 +176,17 @@ def write_report(res: CheckResult, folder: str | Path, agreement: str = "fatal")
         "<!doctype html><html><head><meta charset='utf-8'>",
         f"<title>magcheck: {html.escape(case.name)}</title><style>{_STYLE}</style></head><body>",
         f"<h1>magcheck: {html.escape(case.name)}</h1>",
+        _banners(res, agreement),
         f"<p>{html.escape(case.description)}</p>",
         f"<p class='caution'>{html.escape(CAUTION)}</p>",
-        f"<h2>Hand calculation vs {comparison_forms(case)[1]} — "
-        f"{'PASS' if res.passed else 'FAIL'}</h2>",
+        f"<h2>Hand calculation vs {comparison_forms(case)[1]}</h2>",
         "<ul class='verdicts'>" + "".join(
             f"<li class='{'pass' if ok else 'FAIL'}'>{html.escape(line)}</li>"
             for ok, line in zip((res.design_passed, res.agreement_passed),
                                 verdict_lines(res, agreement))) + "</ul>",
-        _table(TABLE_COLUMNS, [table_cells(r) for r in res.rows]),
-        "<ul>" + "".join(f"<li>{html.escape(n)}</li>" for n in res.notes) + "</ul>",
+        _agreement_table(res),
+        _margin_table(res),
+        "<ul>" + "".join(f"<li>{html.escape(pretty_units(n))}</li>" for n in res.notes) + "</ul>",
         "<h2>Inputs</h2>",
         _table(["input", "value"], input_rows(res)),
     ]

@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import io
 import math
+from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Sequence
 
 from ..judge.check import CheckResult, Row
@@ -61,7 +62,7 @@ def table_cells(row: Row) -> list[str]:
         f"{row.uncertainty_pct:.2g} %")
     verdict = row.verdict
     if row.limit_value is not None and math.isfinite(row.margin_pct):
-        verdict = f"{row.verdict}, {row.margin_pct:.0f} % left"  # margin left, % of the limit
+        verdict = f"{row.verdict}, {margin_left_text(row)}"  # room left (or over), % of the limit
     scale = _row_scale(row)
     return [row.label, _fmt(row.hand, row.unit, scale), _fmt(row.fe, row.unit, scale), unc,
             _pct(row.diff_pct), limit, verdict, _fmt(row.hand_3d, row.unit, scale),
@@ -223,13 +224,24 @@ def markdown_text(text: str) -> str:
 def check_markdown(res: CheckResult, agreement: str = "fatal") -> str:
     lines = [f"# magcheck: {markdown_text(res.case.name)}", "",
              f"Case file `{res.case.source}` (sha256 `{res.case.sha256[:12]}`), family "
-             f"`{res.case.family}`, fringing model `{res.hand_planar.fringing_model}`.", "",
-             "| " + " | ".join(TABLE_COLUMNS) + " |",
-             "|" + "---|" * len(TABLE_COLUMNS)]
+             f"`{res.case.family}`, fringing model `{res.hand_planar.fringing_model}`.", ""]
+    for b in verdict_banners(res, agreement):  # the verdicts first
+        lines.append(f"> **{b.line()}**" + "".join(
+            f"  \n> {markdown_text(d)}" for d in b.details))
+        lines.append("")
+    lines += ["| " + " | ".join(TABLE_COLUMNS) + " |",
+              "|" + "---|" * len(TABLE_COLUMNS)]
     for r in res.rows:
-        lines.append("| " + " | ".join(table_cells(r)) + " |")
+        lines.append("| " + " | ".join(display_cells(r)) + " |")
     lines.append("")
-    lines += [f"- {markdown_text(n)}" for n in res.notes]
+    design = [r for r in res.rows if r.judges == "design"]
+    if design:
+        lines += ["Design margins (absolute limits):", "",
+                  "| " + " | ".join(MARGIN_COLUMNS) + " |", "|" + "---|" * len(MARGIN_COLUMNS)]
+        lines += ["| " + " | ".join(markdown_text(c) for c in margin_cells(r)) + " |"
+                  for r in design]
+        lines.append("")
+    lines += [f"- {markdown_text(pretty_units(n))}" for n in res.notes]
     if res.fringing_ranking:
         lines += ["", "Fringing models against the FE (planar form), best first:", "",
                   "| model | gap B diff % | flux diff % | inductance diff % | RMS % |",
@@ -249,3 +261,293 @@ def check_markdown(res: CheckResult, agreement: str = "fatal") -> str:
     lines += [f"- {v}" for v in verdict_lines(res, agreement)]
     lines += ["", f"*{CAUTION}*", ""]
     return "\n".join(lines)
+
+
+# --- the engineer's view: Unicode units, verdict banners, rows by topic -------------------
+
+_UNICODE_SUBS = (
+    (r"(?<=[\d\s(])u(?=(Wb|H|T|m|A|J|N|s|V|F)\b)", "µ"),  # the micro prefix of format_si
+    (r"\^2\b", "²"), (r"\^3\b", "³"), (r">=", "≥"), (r"<=", "≤"), (r"\+/-", "±"),
+    (r" -> ", " → "),
+)
+
+
+def pretty_units(text: str) -> str:
+    """Display text with Unicode units: ``uWb`` -> ``µWb``, ``A/mm^2`` ->
+    ``A/mm²``, ``>=`` -> ``≥``, ``<=`` -> ``≤``, ``+/-`` -> ``±``. Presentation
+    only: the JSON and CSV keep their ASCII units and keys."""
+    import re
+
+    for pat, rep in _UNICODE_SUBS:
+        text = re.sub(pat, rep, text)
+    return text
+
+
+_ASCII = {"µ": "u", "²": "^2", "³": "^3", "≥": ">=", "≤": "<=", "±": "+/-", "→": "->", "─": "-"}
+
+
+def ascii_units(text: str) -> str:
+    """`pretty_units` undone, for a stream that cannot print Unicode."""
+    return "".join(_ASCII.get(ch, ch) for ch in text)
+
+
+def display_cells(row: Row) -> list[str]:
+    """`table_cells` with Unicode units (terminal, Markdown cells, HTML)."""
+    return [pretty_units(c) for c in table_cells(row)]
+
+
+TOPICS = ("field and flux", "inductances", "force", "magnet", "drive", "margins", "other")
+"""The groups of the terminal table, in order (`row_topic`)."""
+
+
+def row_topic(row: Row) -> str:
+    """The topic a row belongs to (one of `TOPICS`): a design row (peak B,
+    ``margin:``) under margins, the rest by its quantity."""
+    k = row.key
+    if row.judges == "design":
+        return "margins"
+    if k.startswith("force"):
+        return "force"
+    if k.startswith("magnet_"):
+        return "magnet"
+    if k.startswith(("magnetizing", "inrush", "B_peak", "B_limb_peak")):
+        return "drive"
+    if k in ("inductance", "incremental_inductance", "energy", "leakage_inductance") \
+            or k.startswith(("coupling:", "L:")):
+        return "inductances"
+    if k in ("gap_B", "core_B", "path_H", "flux") or k.startswith("flux_linkage"):
+        return "field and flux"
+    return "other"
+
+
+def _value_limit(row: Row, value: float) -> str:
+    sign = ">=" if row.limit_kind == "min" else "<="
+    return (f"{format_si(value, row.unit)} {'' if _met(row) else 'not '}{sign} "
+            f"{format_si(row.limit_value, row.unit)}")  # type: ignore[arg-type]
+
+
+def _met(row: Row) -> bool:
+    return row.verdict != "FAIL"
+
+
+def _judged_value(row: Row) -> float:
+    """The value a design row is judged on: the FE (depth-corrected where it
+    has one), else the hand's."""
+    for v in (row.fe_3d, row.fe, row.hand_3d, row.hand):
+        if math.isfinite(v):
+            return v
+    return math.nan
+
+
+def margin_left_text(row: Row) -> str:
+    """A design margin's room in words: ``12 % left`` or ``20 % over``."""
+    if not math.isfinite(row.margin_pct):
+        return "-"
+    if row.margin_pct < 0:
+        return f"{-row.margin_pct:.0f} % over"
+    return f"{row.margin_pct:.0f} % left"
+
+
+@dataclass(frozen=True)
+class Banner:
+    """One verdict as a banner: ``title`` ("design margins" or "hand vs FE"),
+    ``status`` ("PASS", "FAIL", or "FAIL (reported only)"), ``ok`` (the
+    verdict passed), ``details`` (what failed, the tightest margin left)."""
+
+    title: str
+    status: str
+    ok: bool
+    details: tuple[str, ...]
+
+    def line(self) -> str:
+        return f"{self.title.upper()}: {self.status}"
+
+
+def _agreement_use(row: Row) -> float:
+    """How much of its agreement limit a row uses (|diff| / limit)."""
+    if row.limit_pct is None or not row.limit_pct or not math.isfinite(row.diff_pct):
+        return math.nan
+    return abs(row.diff_pct) / row.limit_pct
+
+
+def verdict_banners(res: CheckResult, agreement: str = "fatal") -> list[Banner]:
+    """The two verdicts as banners, design margins first: what failed and
+    the tightest margin left (design: the least room, % of its limit;
+    agreement: the row that uses most of its limit)."""
+    design_rows = [r for r in res.rows if r.judges == "design"]
+    judged = [r for r in design_rows if r.limit_value is not None and math.isfinite(r.margin_pct)]
+    details: list[str] = []
+    for r in design_rows:
+        if r.verdict == "FAIL" and r.limit_value is not None:
+            details.append(f"failed: {r.label}: {_value_limit(r, _judged_value(r))}, "
+                           f"{margin_left_text(r)}")
+    passed = [r for r in judged if r.verdict != "FAIL"]
+    if passed:
+        t = min(passed, key=lambda r: r.margin_pct)
+        details.append(f"tightest margin: {t.label}: {_value_limit(t, _judged_value(t))}, "
+                       f"{margin_left_text(t)}")
+    inc = [r for r in design_rows if r.verdict == "inconclusive"]
+    if inc:
+        details.append(f"{len(inc)} met by less than the FE's uncertainty (inconclusive)")
+    if not judged:
+        peak = next((r for r in design_rows if r.key == "peak_B"), None)
+        extra = (f"; peak core B {format_si(peak.fe, 'T')} reported"
+                 if peak is not None and math.isfinite(peak.fe) else "")
+        details.append(f"no margin declared (a [margins] section states them){extra}")
+    design = Banner("design margins", "PASS" if res.design_passed else "FAIL",
+                    res.design_passed, tuple(details))
+
+    agree_rows = [r for r in res.rows if r.judges == "agreement" and r.limit_pct is not None]
+    details = []
+    for r in agree_rows:
+        if r.verdict == "FAIL":
+            details.append(f"failed: {r.label}: hand {_pct(r.diff_pct)} % against the FE "
+                           f"(limit ±{r.limit_pct:g} %)")
+    ok_rows = [r for r in agree_rows if r.verdict != "FAIL" and math.isfinite(_agreement_use(r))]
+    if ok_rows:
+        t = max(ok_rows, key=_agreement_use)
+        details.append(f"closest to its limit: {t.label}: {_pct(t.diff_pct)} % "
+                       f"(limit ±{t.limit_pct:g} %)")
+    inc_n = res.verdict_counts("agreement").get("inconclusive", 0)
+    if inc_n:
+        details.append(f"{inc_n} inconclusive: the FE's uncertainty is wider than the "
+                       "difference (refine the mesh)")
+    status = "PASS" if res.agreement_passed else (
+        "FAIL (reported only)" if agreement == "report" else "FAIL")
+    return [design, Banner("hand vs FE", status, res.agreement_passed, tuple(details))]
+
+
+def _same(a: float, b: float) -> bool:
+    return (not math.isfinite(a) and not math.isfinite(b)) or a == b or (
+        math.isfinite(a) and math.isfinite(b) and abs(a - b) <= 1e-12 * max(abs(a), abs(b)))
+
+
+def shows_3d(res: CheckResult) -> bool:
+    """The hand 3D and FE 3D columns say something new: some row's 3D value
+    differs from its like-for-like one (an r-z case has none: its solution
+    is the whole circuit already)."""
+    return any(not (_same(r.hand, r.hand_3d) and _same(r.fe, r.fe_3d))
+               for r in res.rows if r.judges == "agreement")
+
+
+def grouped_rows(res: CheckResult, judges: str = "agreement") -> list[tuple[str, list[Row]]]:
+    """The rows that judge ``judges`` grouped by `row_topic`, in `TOPICS` order."""
+    groups: dict[str, list[Row]] = {}
+    for r in res.rows:
+        if r.judges == judges:
+            groups.setdefault(row_topic(r), []).append(r)
+    return [(t, groups[t]) for t in TOPICS if t in groups]
+
+
+MARGIN_COLUMNS = ["margin", "hand", "FE (judged)", "limit", "room", "verdict"]
+"""Columns of the design margins table (terminal, Markdown, HTML)."""
+
+
+def margin_cells(row: Row) -> list[str]:
+    """A design row as display strings, in `MARGIN_COLUMNS` order: the
+    absolute limit (with its sign) and the room left or over in words."""
+    scale = _row_scale(row)
+    fe = row.fe_3d if math.isfinite(row.fe_3d) else row.fe
+    if row.limit_value is None:
+        limit = "-"
+    else:
+        sign = ">=" if row.limit_kind == "min" else "<="
+        limit = f"{sign} {format_si(row.limit_value, row.unit)}"
+    hand = row.hand_3d if math.isfinite(row.hand_3d) else row.hand
+    return [pretty_units(c) for c in (row.label, _fmt(hand, row.unit, scale),
+                                      _fmt(fe, row.unit, scale), limit, margin_left_text(row),
+                                      row.verdict)]
+
+
+AGREEMENT_COLUMNS = ["quantity", "hand", "FE", "FE +/-", "diff %", "limit %", "verdict"]
+"""The like-for-like columns of the terminal's agreement table."""
+
+
+def agreement_cells(row: Row, with_3d: bool) -> list[str]:
+    cells = display_cells(row)
+    return cells[:7] + (cells[7:] if with_3d else [])
+
+
+def breakdown_compact(res: CheckResult) -> str:
+    """The difference breakdown in one line: the inductance difference after
+    each hand refinement (the full table: ``--breakdown`` or ``--wide``)."""
+    key = "inductance"
+    steps = [f"{st.name} {_pct(st.diff_pct.get(key))}" for st in res.breakdown]
+    return ("where the L difference (%) comes from, hand refinements one at a time: "
+            + " -> ".join(steps) + " (the full table: --breakdown)")
+
+
+def check_lines(res: CheckResult, agreement: str = "fatal", *, width: int = 100,
+                wide: bool = False, breakdown: bool = False,
+                unicode: bool = True) -> list[tuple[str, str]]:
+    """The check's terminal output as (text, kind) lines (kinds: see
+    compare.outputs.output.STYLES): the title, the two verdicts first, the
+    hand-vs-FE table grouped by topic, the design margins in a table of their
+    own, the notes wrapped to ``width``, the breakdown compact unless
+    ``breakdown`` or ``wide``. ``wide``: every column, however wide."""
+    from .output import fit_table, wrap_text
+    from ..design.coremodel import core_model
+
+    c = res.case
+    w = c.winding
+    out: list[tuple[str, str]] = []
+    txt = pretty_units if unicode else (lambda s: ascii_units(pretty_units(s)))
+    rule = "─" if unicode else "-"
+
+    def para(text: str, kind: str = "", indent: str = "") -> None:
+        for ln in wrap_text(txt(text), width - len(indent), "  "):
+            out.append((indent + ln, kind))
+
+    form = "axisymmetric" if core_model(c).axisymmetric else "planar"
+    drive = (f"{w.voltage:g} V rms, {w.frequency:g} Hz (I = {format_si(w.current, 'A')} peak "
+             "magnetizing)" if w.driven else f"I = {w.current:g} A")
+    para(f"{c.name}: hand calc vs {form} FE, N = {w.turns}, {drive} "
+         f"(fringing model '{res.hand_planar.fringing_model}')", "title")
+    for line, banner in zip(verdict_lines(res, agreement), verdict_banners(res, agreement)):
+        para(line, "pass" if banner.ok else "FAIL")
+        for d in banner.details:
+            para(d, "", " " * 11)
+    out.append(("", ""))
+    with_3d = wide or shows_3d(res)
+    cols = AGREEMENT_COLUMNS + (["hand 3D", "FE 3D"] if with_3d else [])
+    groups = [(t, [[txt(c) for c in agreement_cells(r, with_3d)] for r in rows])
+              for t, rows in grouped_rows(res, "agreement")]
+    limit = 10 ** 6 if wide else width
+    if groups:
+        out += [(ln, "table") for ln in fit_table([txt(h) for h in cols], groups, limit, rule=rule)]
+    design = [[txt(c) for c in margin_cells(r)] for r in res.rows if r.judges == "design"]
+    if design:
+        out.append(("", ""))
+        out.append(("design margins (the FE value, depth-corrected where it has one, "
+                    "against the case's limits)" if width >= 90 else "design margins", "title"))
+        out += [(ln, "table")
+                for ln in fit_table(MARGIN_COLUMNS, [("", design)], limit, rule=rule)]
+    out.append(("", ""))
+    fe = res.fe.fine
+    notes = list(res.notes) + [
+        f"FE: {fe.nelements} elements, P{c.fe.order}, {fe.ndofs} DOFs, {fe.iterations} Newton "
+        f"steps to residual {fe.residual:.1e}; run time {res.timings['total']:.1f} s."]
+    for n in notes:
+        para("- " + n)
+    if res.fringing_ranking:
+        out.append(("", ""))
+        out.append(("fringing models vs FE (planar form), best first", "title"))
+        rk = [[d["model"], f"{d['gap_B_difference_pct']:+.1f}", f"{d['flux_difference_pct']:+.1f}",
+               f"{d['inductance_difference_pct']:+.1f}", f"{d['rms_difference_pct']:.1f}"]
+              for d in res.fringing_ranking]
+        out += [(ln, "table") for ln in fit_table(
+            ["model", "gap B diff %", "flux diff %", "inductance diff %", "RMS %"],
+            [("", rk)], limit, rule=rule)]
+    if res.breakdown:
+        out.append(("", ""))
+        if breakdown or wide:
+            columns, brows = breakdown_rows(res)
+            out.append(("where the difference comes from: hand refinements one at a time",
+                        "title"))
+            out += [(ln, "table") for ln in fit_table(columns, [("", brows)], limit, rule=rule)]
+            para(breakdown_note(res))
+        else:
+            para(breakdown_compact(res))
+    if not unicode:
+        out = [(ascii_units(t), k) for t, k in out]
+    return out

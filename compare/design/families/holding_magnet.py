@@ -37,7 +37,8 @@ from magcheck.analytic.network import MagnetBranch
 from magcheck.fem2d.layout import Rect, Region
 from magcheck.fem2d.sources import Magnet
 
-from ..coremodel import CircuitGap, CircuitSegment, CoilModel, CoreModel, ForceSpec, HandCircuit
+from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel, ForceSpec, GapLine,
+                         HandCircuit)
 from ...errors import CaseError
 from ..geometry import Limb
 from ..casekeys import Key, lengths, string
@@ -251,6 +252,11 @@ class HoldingMagnet:
                        (c.pole_radius, c.base + c.magnet_height
                         + 0.5 * (c.height - c.magnet_height))),
             circuit=circuit,
+            # for the figure: B_z across the working gap over the pole, from the
+            # axis out past the pole's edge (its midpoint under the pole)
+            gap_line=GapLine((0.0, f + 0.5 * s), (1.5 * c.pole_radius, f + 0.5 * s), 1,
+                             (c.pole_radius,),
+                             f"the working gap over the pole ({s * 1e3:g} mm)"),
             magnets=(Magnet("magnet", (0.0, c.remanence), c.mu_r),),
             force=ForceSpec(("keeper",), (0.0, -1.0), ("gap-pole", "gap-wall"),
                             stroke_key="core.stroke", stroke=c.stroke),

@@ -6,10 +6,9 @@ import argparse
 
 from ...reading.casefile import load_case
 from ...judge.check import AGREEMENT_MODES, CheckResult, run_check
-from ...outputs.output import (CAUTION, STDOUT_HELP, atomic_write_text, render_table, text_stream,
-                               write_json)
-from ...outputs.serialize import (TABLE_COLUMNS, check_csv, check_json, check_markdown,
-                                  table_cells, verdict_lines)
+from ...outputs.output import (CAUTION, STDOUT_HELP, atomic_write_text, can_print, terminal_width,
+                               text_stream, wrap_text, write_json, write_lines)
+from ...outputs.serialize import check_csv, check_json, check_lines, check_markdown
 
 OUTPUTS = {"--json": "file", "--csv": "file", "--markdown": "file", "--report": "folder",
            "--vtu": "file", "--dxf": "file"}
@@ -45,6 +44,12 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--no-error-estimate", action="store_true",
                    help="solve on the case's mesh only, not on the three meshes of the FE "
                         "error estimate (no FE uncertainty; faster)")
+    p.add_argument("--wide", action="store_true",
+                   help="print every column (hand 3D and FE 3D too) and the full breakdown, "
+                        "however wide; by default the output fits the terminal, at most 100 "
+                        "columns")
+    p.add_argument("--breakdown", action="store_true",
+                   help="print the difference breakdown as a full table (by default one line)")
     add_agreement_arg(p)
 
 
@@ -56,36 +61,22 @@ def add_agreement_arg(p: argparse.ArgumentParser) -> None:
                         "(a failed design margin exits 1 either way)")
 
 
-def print_check(res: CheckResult, out, agreement: str = "fatal") -> None:
-    c = res.case
-    w = c.winding
-    rows = [table_cells(r) for r in res.rows]
-    fe = res.fe.fine
-    notes = list(res.notes)
-    notes.append(f"FE: {fe.nelements} elements, P{c.fe.order}, {fe.ndofs} DOFs, "
-                 f"{fe.iterations} Newton steps to residual {fe.residual:.1e}; "
-                 f"run time {res.timings['total']:.1f} s.")
-    from ...design.coremodel import core_model
-
-    form = "axisymmetric" if core_model(c).axisymmetric else "planar"
-    render_table(f"{c.name}: hand calc vs {form} FE, N = {w.turns}, I = {w.current:g} A "
-                 f"(fringing model '{res.hand_planar.fringing_model}')", TABLE_COLUMNS, rows, out,
-                 notes=notes)
-    if res.fringing_ranking:
-        rk = [[d["model"], f"{d['gap_B_difference_pct']:+.1f}", f"{d['flux_difference_pct']:+.1f}",
-               f"{d['inductance_difference_pct']:+.1f}", f"{d['rms_difference_pct']:.1f}"]
-              for d in res.fringing_ranking]
-        render_table("fringing models vs FE (planar form), best first",
-                     ["model", "gap B diff %", "flux diff %", "inductance diff %", "RMS %"], rk, out)
-    if res.breakdown:
-        from ...outputs.serialize import breakdown_note, breakdown_rows
-
-        columns, brows = breakdown_rows(res)
-        render_table("where the difference comes from: hand refinements one at a time",
-                     columns, brows, out, notes=[breakdown_note(res)])
-    for line in verdict_lines(res, agreement):
-        out.write(line + "\n")
-    out.write(CAUTION + "\n")
+def print_check(res: CheckResult, out, agreement: str = "fatal", *, wide: bool = False,
+                breakdown: bool = False) -> None:
+    """The check on the terminal: the verdicts first, the table by topic within
+    the terminal's width (at most 100 columns unless ``wide``), the notes
+    wrapped; coloured on a terminal, plain text otherwise."""
+    width = terminal_width(out, wide)
+    unicode = can_print(out)
+    lines = check_lines(res, agreement, width=width, wide=wide, breakdown=breakdown,
+                        unicode=unicode)
+    ok = res.design_passed and res.agreement_passed
+    last = ("verdict: " + ("PASS" if ok else "FAIL") + " (design "
+            + ("PASS" if res.design_passed else "FAIL") + ", hand vs FE "
+            + ("PASS" if res.agreement_passed else "FAIL") + "; details at the top)")
+    lines += [(ln, "pass" if ok else "FAIL") for ln in wrap_text(last, width)]
+    lines += [(ln, "dim") for ln in wrap_text(CAUTION, width)]
+    write_lines(lines, out, width)
 
 
 def run(args: argparse.Namespace) -> int:
@@ -99,7 +90,7 @@ def run(args: argparse.Namespace) -> int:
     res = run_check(case, all_fringing=args.all_fringing,
                     estimate_error=not args.no_error_estimate)
     out = text_stream(args.json, args.csv, args.markdown, args.vtu, args.dxf)
-    print_check(res, out, args.agreement)
+    print_check(res, out, args.agreement, wide=args.wide, breakdown=args.breakdown)
     if args.json:
         write_json(args.json, check_json(res, args.agreement))
     if args.csv:
