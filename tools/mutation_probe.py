@@ -3,8 +3,10 @@
 Each mutation is a one-line change of the physics or the comparison (a wrong
 area, a swapped fit, an inflated uncertainty...). The probe applies each one in
 a scratch copy of the committed tree (``git worktree add --detach``), runs the
-tests that should catch it there, and prints a table: killed (a test failed) or
-survived (every test passed: the suite would not notice that bug).
+tests that should catch it there, and prints a table: killed (a test failed),
+survived (every test passed: the suite would not notice that bug) or broken
+(pytest could not run the tests: a collection error, a missing test file or
+node id; no evidence either way, and the probe exits 1).
 
     python tools/mutation_probe.py              # every mutation
     python tools/mutation_probe.py --list       # names and descriptions
@@ -736,9 +738,13 @@ def _run_one(m: Mutation, scratch: Path, timeout: float) -> tuple[str, str, floa
         seconds = time.perf_counter() - t0
         if proc.returncode == 0:
             return "survived", "", seconds
-        failed = [ln.split(" ")[1] for ln in proc.stdout.splitlines() if ln.startswith("FAILED ")
-                  or ln.startswith("ERROR ")]
-        return "killed", failed[0] if failed else f"pytest exit {proc.returncode}", seconds
+        failed = [ln.split(" ")[1] for ln in proc.stdout.splitlines() if ln.startswith("FAILED ")]
+        if proc.returncode == 1 and failed:
+            return "killed", failed[0], seconds
+        # pytest could not run the tests (a collection error, a test file or
+        # node id that does not exist, nothing collected): no evidence either way
+        errors = [ln for ln in proc.stdout.splitlines() if ln.startswith("ERROR ")]
+        return "broken", (errors[0] if errors else f"pytest exit {proc.returncode}"), seconds
     except subprocess.TimeoutExpired:
         return "killed", f"timeout {timeout:.0f} s", time.perf_counter() - t0
     finally:
@@ -777,11 +783,13 @@ def main(argv: list[str] | None = None) -> int:
             subprocess.run(["git", "worktree", "remove", "--force", str(scratch)], cwd=ROOT,
                            check=False)
     killed = sum(1 for _, v, _, _ in rows if v == "killed")
-    print(f"\n{len(rows)} mutations: {killed} killed, {len(rows) - killed} survived")
-    for m, v, _, _ in rows:
-        if v == "survived":
-            print(f"  survived: {m.name} ({m.file}): {m.description}")
-    return 0
+    broken = sum(1 for _, v, _, _ in rows if v == "broken")
+    print(f"\n{len(rows)} mutations: {killed} killed, {len(rows) - killed - broken} survived, "
+          f"{broken} broken (the tests could not run)")
+    for m, v, by, _ in rows:
+        if v != "killed":
+            print(f"  {v}: {m.name} ({m.file}): {m.description}" + (f" [{by}]" if by else ""))
+    return 1 if broken else 0
 
 
 if __name__ == "__main__":
