@@ -252,7 +252,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
         Warm start on the same mesh (Dirichlet values are overwritten).
     linear_solver : str or callable, optional
         Registry name in :data:`fem2d.linsolve.SOLVERS` or a factory
-        ``K_csr -> solve(rhs)``; default "amg-cg".
+        ``K_csr -> solve(rhs)``; default "auto" (fem2d.linsolve.Auto).
     boundary_potential : callable (x, y) -> A, optional
         Dirichlet data on "outer" (Wb/m); default A = 0.
     check : bool

@@ -1,0 +1,104 @@
+"""fem2d.linsolve: the default solver's factorisation reuse gives the same
+solution as a fresh direct solve, to the requested tolerance."""
+from __future__ import annotations
+
+import numpy as np
+import pytest
+import scipy.sparse as sp
+
+from magcheck.fem2d import linsolve
+from magcheck.fem2d.linsolve import DirectReuse, IterativeSolve, get_linear_solver
+
+
+def laplacian(n: int, coef: np.ndarray) -> sp.csr_matrix:
+    """2D five-point operator on an n x n grid with edge coefficients from
+    ``coef`` (a cell field, positive): symmetric positive definite."""
+    N = n * n
+    idx = np.arange(N).reshape(n, n)
+    rows, cols, vals = [], [], []
+    diag = np.full(N, 1e-3)
+    for a, b in ((idx[:, :-1], idx[:, 1:]), (idx[:-1, :], idx[1:, :])):
+        a, b = a.ravel(), b.ravel()
+        c = 0.5 * (coef.ravel()[a] + coef.ravel()[b])
+        rows += [a, b]
+        cols += [b, a]
+        vals += [-c, -c]
+        np.add.at(diag, a, c)
+        np.add.at(diag, b, c)
+    rows.append(np.arange(N))
+    cols.append(np.arange(N))
+    vals.append(diag)
+    return sp.csr_matrix((np.concatenate(vals), (np.concatenate(rows), np.concatenate(cols))),
+                         shape=(N, N))
+
+
+@pytest.fixture
+def mats():
+    rng = np.random.default_rng(3)
+    n = 40
+    base = 1.0 + rng.random((n, n))
+    near = base * (1.0 + 0.05 * rng.random((n, n)))  # a tangent close to the factorised one
+    far = base * np.exp(6.0 * rng.random((n, n)))  # one far from it (saturation)
+    return laplacian(n, base), laplacian(n, near), laplacian(n, far), rng.random(n * n)
+
+
+def rel_err(x, ref):
+    return float(np.linalg.norm(x - ref) / np.linalg.norm(ref))
+
+
+def test_reuse_solves_each_operator_to_its_tolerance(mats):
+    K0, K1, K2, b = mats
+    f = DirectReuse()
+    x0 = f(K0)(b)
+    assert f.factorisations == 1
+    # Source: exact solution by a fresh dense-accurate direct solve (scipy spsolve)
+    assert rel_err(x0, sp.linalg.spsolve(K0.tocsc(), b)) < 1e-10  # round-off of a direct solve
+    s1 = f(K1)
+    assert isinstance(s1, IterativeSolve)
+    x1 = s1(b, rtol=1e-10)
+    assert f.factorisations == 1, "a nearby tangent is solved by CG on the old factorisation"
+    assert 0 < s1.iterations <= 10
+    # relative residual <= rtol, so the error <= cond * rtol; this operator's condition ~1e4
+    assert rel_err(x1, sp.linalg.spsolve(K1.tocsc(), b)) < 1e-5
+    assert np.linalg.norm(K1 @ x1 - b) <= 1.01e-10 * np.linalg.norm(b)
+
+
+def test_reuse_refactorises_when_cg_stalls(mats):
+    K0, _, K2, b = mats
+    f = DirectReuse()
+    f(K0)(b)
+    f.t_factor, f.t_iter = 1.0, 0.2  # a budget of 5 CG iterations
+    x2 = f(K2)(b, rtol=1e-12)
+    assert f.factorisations == 2
+    assert f.log[-1][0] == "factor" and f.log[-2][0] == "cg-failed"
+    # Source: exact solution by a fresh direct solve (scipy spsolve)
+    assert rel_err(x2, sp.linalg.spsolve(K2.tocsc(), b)) < 1e-10
+    assert not f.stale
+
+
+def test_reuse_refactorises_on_a_new_size(mats):
+    K0, _, _, b = mats
+    f = DirectReuse()
+    f(K0)(b)
+    small = K0[:100, :100].tocsr()
+    x = f(small)(b[:100])
+    assert f.factorisations == 2
+    # Source: exact solution by a fresh direct solve (scipy spsolve)
+    assert rel_err(x, sp.linalg.spsolve(small.tocsc(), b[:100])) < 1e-10
+
+
+def test_auto_switches_to_amg_above_the_bound(mats, monkeypatch):
+    K0, _, _, b = mats
+    auto = get_linear_solver("auto")
+    assert isinstance(auto(K0), linsolve._FactorSolve)
+    monkeypatch.setattr(linsolve, "AUTO_DIRECT_MAX", K0.shape[0] - 1)
+    s = auto(K0)
+    assert not isinstance(s, linsolve._FactorSolve) and isinstance(s, IterativeSolve)
+    # Source: exact solution by a fresh direct solve (scipy spsolve); AMG-CG to rtol 1e-12
+    assert rel_err(s(b), sp.linalg.spsolve(K0.tocsc(), b)) < 1e-7
+
+
+def test_default_is_auto_and_each_call_is_fresh():
+    assert linsolve.DEFAULT_SOLVER == "auto"
+    a, b = get_linear_solver(None), get_linear_solver(None)
+    assert a is not b
