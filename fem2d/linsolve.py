@@ -172,8 +172,10 @@ class _FactorSolve(IterativeSolve):
         own.log.append(("cg" if info == 0 and np.all(np.isfinite(x)) else "cg-failed",
                         count[0], self.maxiter))
         if info != 0 or not np.all(np.isfinite(x)):
-            own.stale = True  # the old factorisation no longer fits: a new one
+            # the old factorisation no longer fits: a new one, and the next
+            # tangent (still changing fast) factorised without trying CG first
             own.factorise(self.K)
+            own.stale = True
             return own.lu_solve(rhs)
         # worth keeping only while CG stays well under the cost of a new factorisation
         own.stale = count[0] > self.maxiter // 2
@@ -253,11 +255,16 @@ def _default_factor(K: sp.csr_matrix):
     return superlu(K)
 
 
-AUTO_DIRECT_MAX = 300_000
+AUTO_DIRECT_MAX = 30_000
 """DOFs up to which "auto" solves directly (:class:`DirectReuse`); above it
-AMG-CG.  SuperLU was faster than AMG-CG at every size measured (24k, 197k,
-477k DOFs: 0.10/0.29, 2.5/5.5, 9.7/32 s per solve), so the bound is set by
-memory: the factor of a 477k-DOF P2 tangent holds ~10^8 entries (~1.2 GB)."""
+AMG-CG.  A SuperLU factorisation grows faster than linearly with the DOFs
+(P2 tangents, 2 cores, one BLAS thread, loaded machine: 14k DOFs 0.08-0.17 s,
+24k 0.09 s, 43k 0.46-0.68 s, 48k r-z 0.6-0.9 s), an inexact AMG-CG Newton
+step about linearly (0.16, -, 0.26, 0.33 s); a cold Newton solve of the
+bench's window core at 43k DOFs took 2.6 s CPU reusing factorisations, 2.1 s
+with AMG-CG, at 48k r-z 4.3 / 2.4 s; at 14k 1.15 / 1.93 s (bench/fe_bench.py).
+A sequence of solves on one mesh (a lambda-i curve) shares one
+:class:`DirectReuse` and gains more (compare.models.drive)."""
 
 
 class Auto:

@@ -73,7 +73,7 @@ def test_reuse_refactorises_when_cg_stalls(mats):
     assert f.log[-1][0] == "factor" and f.log[-2][0] == "cg-failed"
     # Source: exact solution by a fresh direct solve (scipy spsolve)
     assert rel_err(x2, sp.linalg.spsolve(K2.tocsc(), b)) < 1e-10
-    assert not f.stale
+    assert f.stale, "after a failed CG the next tangent is factorised at once"
 
 
 def test_reuse_refactorises_on_a_new_size(mats):
