@@ -255,16 +255,19 @@ def _default_factor(K: sp.csr_matrix):
     return superlu(K)
 
 
-AUTO_DIRECT_MAX = 30_000
+AUTO_DIRECT_MAX = 100_000
 """DOFs up to which "auto" solves directly (:class:`DirectReuse`); above it
 AMG-CG.  A SuperLU factorisation grows faster than linearly with the DOFs
 (P2 tangents, 2 cores, one BLAS thread, loaded machine: 14k DOFs 0.08-0.17 s,
-24k 0.09 s, 43k 0.46-0.68 s, 48k r-z 0.6-0.9 s), an inexact AMG-CG Newton
-step about linearly (0.16, -, 0.26, 0.33 s); a cold Newton solve of the
-bench's window core at 43k DOFs took 2.6 s CPU reusing factorisations, 2.1 s
-with AMG-CG, at 48k r-z 4.3 / 2.4 s; at 14k 1.15 / 1.93 s (bench/fe_bench.py).
-A sequence of solves on one mesh (a lambda-i curve) shares one
-:class:`DirectReuse` and gains more (compare.models.drive)."""
+24k 0.09 s, 43k 0.46-0.68 s, 48k r-z 0.6-0.9 s, 78k 0.77 s), an inexact
+AMG-CG Newton step about linearly (0.16, -, 0.26, 0.33 s).  A cold Newton
+solve alone favours AMG-CG from ~30k DOFs (bench window core at 43k: 2.6 s
+CPU reusing factorisations, 2.1 s AMG-CG; r-z 48k: 4.3 / 2.4 s; 14k: 1.15 /
+1.93 s), but a check's solve is warm-started and followed by tangent solves
+to 1e-9..1e-11 (dA/dI, the inductance matrix), which the factorisation turns
+into a few CG steps: the demo transformer's finest mesh (45k DOFs, solve and
+measurement) took 1.8-2.1 s CPU direct against 3.7-3.9 s AMG-CG.  The bound
+keeps the factor's memory to a few hundred MB."""
 
 
 class Auto:

@@ -42,6 +42,7 @@ currents, a stiff source.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 import warnings
 from dataclasses import dataclass, field
@@ -76,11 +77,21 @@ DRIVE_KEYS = ("B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
 
 
 def _lambda(case: Any, current: float, planar: bool, fringing: str | None = None) -> float:
-    from .hand import run_hand
     from ..design.case import with_current
 
-    return abs(run_hand(with_current(case, current), planar=planar,
-                        fringing=fringing).flux_linkage)
+    return _lambda_of(with_current(case, current), planar, fringing)
+
+
+@functools.lru_cache(maxsize=4096)
+def _lambda_of(case: Any, planar: bool, fringing: str | None) -> float:
+    """The hand network's flux linkage magnitude (Wb-turns) of a case (a
+    frozen value, so equal cases share the answer): a check asks for the
+    same points several times (the peak current when the case is read and
+    again in the drive; the depth ratios' curves under the case's own
+    fringing model), about 20 ms each."""
+    from .hand import run_hand
+
+    return abs(run_hand(case, planar=planar, fringing=fringing).flux_linkage)
 
 
 def hand_peak_current(case: Any, planar: bool = False, fringing: str | None = None) -> float:
