@@ -274,13 +274,14 @@ class Auto:
     """The default: :class:`DirectReuse` up to :data:`AUTO_DIRECT_MAX` DOFs,
     AMG-CG above.  One instance per nonlinear solve (state is per mesh)."""
 
-    def __init__(self):
+    def __init__(self, large: Factory | None = None):
         self.direct = DirectReuse()
+        self.large = large or amg_cg  # above the bound (a sequence of solves: AmgCgReuse())
 
     def __call__(self, K: sp.csr_matrix):
         if K.shape[0] <= AUTO_DIRECT_MAX:
             return self.direct(K)
-        return amg_cg(K)
+        return self.large(K)
 
 
 def _cholmod(K: sp.csr_matrix):
