@@ -603,6 +603,16 @@ MUTATIONS: tuple[Mutation, ...] = (
       "ratio = ratios.get(k, ratio)", "ratio = ratios.get(k + '?', ratio)",
       "the drive rows' FE 3D column back to the case's own fringing model's ratio",
       ("tests/test_drive.py::test_drive_rows_fe_3d_under_the_checks_depth_model",)),
+    M("reuse-keeps-unconverged", "fem2d/linsolve.py",
+      "            own.stale = True\n            return own.lu_solve(rhs)",
+      "            own.stale = True\n            return x",
+      "a tangent solve whose CG on an old factorisation stalled returns the unconverged iterate",
+      ("tests/test_linsolve.py",)),
+    M("drive-hand-memo-drops-current", "compare/models/drive.py",
+      "return _lambda_of(with_current(case, current), planar, fringing)",
+      "return _lambda_of(case, planar, fringing)",
+      "the memoised hand lambda(I) keyed without the current",
+      ("tests/test_drive.py",)),
 )
 
 
