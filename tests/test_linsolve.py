@@ -67,7 +67,7 @@ def test_reuse_refactorises_when_cg_stalls(mats):
     K0, _, K2, b = mats
     f = DirectReuse()
     f(K0)(b)
-    f.t_factor, f.t_iter = 1.0, 0.2  # a budget of 5 CG iterations
+    f.cg_budget = 5
     x2 = f(K2)(b, rtol=1e-12)
     assert f.factorisations == 2
     assert f.log[-1][0] == "factor" and f.log[-2][0] == "cg-failed"
