@@ -14,6 +14,7 @@ from __future__ import annotations
 import logging
 import math
 import time
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -460,10 +461,14 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
                                                         *q.force_values, *q.magnet_values)},
                         sol, samples)
     guard_mesh_size(case, refine=REFINE)  # the finest mesh checked before any is made
-    coarsest, sol0, _ = run_fe(case, refine=1.0 / REFINE)
-    mid_mesh = mesh_case(case)
+    coarsest_mesh = mesh_case(case, refine=1.0 / REFINE)
+    # the two finer meshes are made on the second core while the coarsest is
+    # solved (gmsh runs outside the GIL; the meshes do not depend on the solve)
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        later = pool.submit(lambda: (mesh_case(case), mesh_case(case, refine=REFINE)))
+        coarsest, sol0, _ = solve_case(case, coarsest_mesh)
+        mid_mesh, fine_mesh = later.result()
     coarse, coarse_sol, _ = solve_case(case, mid_mesh, A0=post.transfer(sol0, mid_mesh))
-    fine_mesh = mesh_case(case, refine=REFINE)
     fine, sol, samples = solve_case(case, fine_mesh, A0=post.transfer(coarse_sol, fine_mesh))
     unc = {k: uncertainty_rule(coarsest.values[k], coarse.values[k], fine.values[k])
            for k in HAND_KEYS}
