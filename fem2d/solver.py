@@ -342,8 +342,10 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
             try:
                 lin_solve = factory(K)
                 if isinstance(lin_solve, IterativeSolve):
-                    # inexact Newton: forcing term ~ current residual, floor at the solver's rtol
-                    eta = min(1e-2, 0.1 * rel) if not asm.linear else None
+                    # inexact Newton: forcing term ~ current residual, floor at the solver's rtol;
+                    # no tighter than needed to land under tol: the step leaves a linear
+                    # residual of at most eta * rel = 0.3 tol (plus the quadratic remainder)
+                    eta = min(1e-2, max(0.1 * rel, 0.3 * tol / rel)) if not asm.linear else None
                     dA = -lin_solve(r, rtol=eta)
                 else:
                     dA = -np.asarray(lin_solve(r))
