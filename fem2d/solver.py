@@ -252,7 +252,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
         Warm start on the same mesh (Dirichlet values are overwritten).
     linear_solver : str or callable, optional
         Registry name in :data:`fem2d.linsolve.SOLVERS` or a factory
-        ``K_csr -> solve(rhs)``; default "amg-cg".
+        ``K_csr -> solve(rhs)``; default "auto" (fem2d.linsolve.Auto).
     boundary_potential : callable (x, y) -> A, optional
         Dirichlet data on "outer" (Wb/m); default A = 0.
     check : bool
@@ -342,8 +342,10 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
             try:
                 lin_solve = factory(K)
                 if isinstance(lin_solve, IterativeSolve):
-                    # inexact Newton: forcing term ~ current residual, floor at the solver's rtol
-                    eta = min(1e-2, 0.1 * rel) if not asm.linear else None
+                    # inexact Newton: forcing term ~ current residual, floor at the solver's rtol;
+                    # no tighter than needed to land under tol: the step leaves a linear
+                    # residual of at most eta * rel = 0.3 tol (plus the quadratic remainder)
+                    eta = min(1e-2, max(0.1 * rel, 0.3 * tol / rel)) if not asm.linear else None
                     dA = -lin_solve(r, rtol=eta)
                 else:
                     dA = -np.asarray(lin_solve(r))

@@ -713,6 +713,16 @@ MUTATIONS: tuple[Mutation, ...] = (
       "return complex(sum(hs.conductor_voltage(r) for r, s in wd.conductors))",
       "a winding's voltage sums its conductors without their go/return signs",
       ("tests/test_harmonic.py",)),
+    M("reuse-keeps-unconverged", "fem2d/linsolve.py",
+      "            own.stale = True\n            return own.lu_solve(rhs)",
+      "            own.stale = True\n            return x",
+      "a tangent solve whose CG on an old factorisation stalled returns the unconverged iterate",
+      ("tests/test_linsolve.py",)),
+    M("drive-hand-memo-drops-current", "compare/models/drive.py",
+      "return _lambda_of(with_current(case, current), planar, fringing)",
+      "return _lambda_of(case, planar, fringing)",
+      "the memoised hand lambda(I) keyed without the current",
+      ("tests/test_drive.py",)),
 )
 
 

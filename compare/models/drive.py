@@ -42,6 +42,7 @@ currents, a stiff source.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 import warnings
 from dataclasses import dataclass, field
@@ -76,11 +77,21 @@ DRIVE_KEYS = ("B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
 
 
 def _lambda(case: Any, current: float, planar: bool, fringing: str | None = None) -> float:
-    from .hand import run_hand
     from ..design.case import with_current
 
-    return abs(run_hand(with_current(case, current), planar=planar,
-                        fringing=fringing).flux_linkage)
+    return _lambda_of(with_current(case, current), planar, fringing)
+
+
+@functools.lru_cache(maxsize=4096)
+def _lambda_of(case: Any, planar: bool, fringing: str | None) -> float:
+    """The hand network's flux linkage magnitude (Wb-turns) of a case (a
+    frozen value, so equal cases share the answer): a check asks for the
+    same points several times (the peak current when the case is read and
+    again in the drive; the depth ratios' curves under the case's own
+    fringing model), about 20 ms each."""
+    from .hand import run_hand
+
+    return abs(run_hand(case, planar=planar, fringing=fringing).flux_linkage)
 
 
 def hand_peak_current(case: Any, planar: bool = False, fringing: str | None = None) -> float:
@@ -260,6 +271,13 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
     inv = PchipInterpolator(curves["hand"][1], curves["hand"][0])
     targets = [float(inv(lam_pk * k / FE_POINTS)) for k in range(1, FE_POINTS)] + [ip, 1.05 * ip]
     mesh = fe_result.solution.mesh  # the finest, whose values the check reports
+    # one direct factorisation shared along the curve: each point's Newton steps
+    # and its dA/dI are CG solves preconditioned by an earlier point's tangent
+    # (the curve is warm-started, so the tangents are close), refactorised
+    # only when CG slows down; every solve to its own tolerance as before
+    from magcheck.fem2d.linsolve import DirectReuse
+
+    linear = DirectReuse()
     A_prev: Any = None
     slope: Any = None
     i_fe, lam_fe, peak_fe, l_fe, flux_fe = [0.0], [0.0], [0.0], [math.nan], [0.0]
@@ -268,7 +286,9 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
         # the tangent predictor: the previous point plus dA/dI times the step
         nonlocal A_prev, slope
         A0 = None if A_prev is None else A_prev + slope * (current - i_fe[-1])
-        fs = solve_case_full(with_current(case, current), mesh, A0=A0)
+        # the curve needs the driven winding's linkage and slope only: no inductance matrix
+        fs = solve_case_full(with_current(case, current), mesh, A0=A0, linear_solver=linear,
+                             windings=False)
         q, A_prev, slope = fs.quantities, fs.solution.A, fs.dA_dI
         i_fe.append(current)
         lam_fe.append(abs(q.values["flux_linkage"]))

@@ -14,6 +14,7 @@ from __future__ import annotations
 import logging
 import math
 import time
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -158,7 +159,8 @@ def path_mean_core_b(samples: Any, cores: Any) -> float:
     return float(np.mean(samples.b[keep])) if np.any(keep) else math.nan
 
 
-def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantities, Any, np.ndarray]:
+def measure(case: Case, sol: FieldSolution, seconds: float,
+            windings: bool = True) -> tuple[FEQuantities, Any, np.ndarray]:
     """Reduce a field solution to the hand quantities.
 
     Signs follow :func:`compare.models.hand.signed` (flux, flux linkage and gap B
@@ -168,6 +170,9 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
 
     Returns the quantities, the mean-path samples and dA/dI (the tangent
     solve of the incremental inductance, reused as a sweep predictor).
+    ``windings=False`` skips the per-winding values of several windings (the
+    inductance matrix: a tangent solve per winding); ``winding_values`` is
+    then empty.
     """
     model = core_model(case)
     w = case.winding
@@ -208,7 +213,7 @@ def measure(case: Case, sol: FieldSolution, seconds: float) -> tuple[FEQuantitie
     if w.current == 0:
         vals["inductance"] = vals["incremental_inductance"]
     vals["energy"] = post.energy(sol)
-    wv = _winding_values(case, sol, vals)
+    wv = _winding_values(case, sol, vals) if windings else {}
     mv = _magnet_values(sol, model)
     fv = {}
     if model.force is not None:
@@ -374,10 +379,13 @@ class FESolve:
 
 
 def solve_case_full(case: Case, mesh: RegionMesh, *, A0: np.ndarray | None = None,
-                    linear_solver: Any = None) -> FESolve:
+                    linear_solver: Any = None, windings: bool = True) -> FESolve:
     """Solve a case on a ready mesh and measure it.
 
     The coil currents are taken from the case, not from the mesh's layout.
+    ``linear_solver``: a fem2d.linsolve name or factory (a stateful one, such
+    as fem2d.linsolve.DirectReuse, shared by solves on one mesh reuses its
+    factorisation); ``windings``: see :func:`measure`.
 
     Raises
     ------
@@ -391,7 +399,7 @@ def solve_case_full(case: Case, mesh: RegionMesh, *, A0: np.ndarray | None = Non
                     linear_solver=linear_solver)
     except ConvergenceError as exc:
         raise RunError(f"field solve did not converge: {exc}") from None
-    q, samples, dA_dI = measure(case, sol, 0.0)
+    q, samples, dA_dI = measure(case, sol, 0.0, windings=windings)
     q = replace(q, seconds=time.perf_counter() - t0 + mesh.timings.get("mesh", 0.0))
     log.info("FE solve: %d elements, %d DOFs, %d Newton steps, %.2f s",
              q.nelements, q.ndofs, q.iterations, q.seconds)
@@ -453,10 +461,14 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
                                                         *q.force_values, *q.magnet_values)},
                         sol, samples)
     guard_mesh_size(case, refine=REFINE)  # the finest mesh checked before any is made
-    coarsest, sol0, _ = run_fe(case, refine=1.0 / REFINE)
-    mid_mesh = mesh_case(case)
+    coarsest_mesh = mesh_case(case, refine=1.0 / REFINE)
+    # the two finer meshes are made on the second core while the coarsest is
+    # solved (gmsh runs outside the GIL; the meshes do not depend on the solve)
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        later = pool.submit(lambda: (mesh_case(case), mesh_case(case, refine=REFINE)))
+        coarsest, sol0, _ = solve_case(case, coarsest_mesh)
+        mid_mesh, fine_mesh = later.result()
     coarse, coarse_sol, _ = solve_case(case, mid_mesh, A0=post.transfer(sol0, mid_mesh))
-    fine_mesh = mesh_case(case, refine=REFINE)
     fine, sol, samples = solve_case(case, fine_mesh, A0=post.transfer(coarse_sol, fine_mesh))
     unc = {k: uncertainty_rule(coarsest.values[k], coarse.values[k], fine.values[k])
            for k in HAND_KEYS}

@@ -181,12 +181,14 @@ class BlockTask:
 
 
 def _block_linear_solver() -> Any:
-    """A preconditioner-reusing AMG-CG factory from fem2d, or None (its default)."""
+    """A factory from fem2d that reuses its work across a block's points:
+    one direct factorisation as CG preconditioner up to its size bound (the
+    AMG hierarchy above it), or None (fem2d's default)."""
     try:
-        from magcheck.fem2d.linsolve import AmgCgReuse
+        from magcheck.fem2d.linsolve import AmgCgReuse, Auto
     except ImportError:  # an fem2d without it: each solve builds its own
         return None
-    return AmgCgReuse()
+    return Auto(large=AmgCgReuse())
 
 
 def _hand_peak(hand_res) -> float:
@@ -214,10 +216,10 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
     from ..models.fe import _with_virtual_work, mesh_case, solve_case_full
 
     mesh = None
-    # One AMG-CG factory for the whole block: the preconditioner built for
-    # one tangent serves the next points too (same mesh, same sparsity) until
-    # CG slows down; the CG operator is always the current tangent, so the
-    # accuracy of every solve is unchanged.
+    # One linear-solver factory for the whole block: the factorisation (or
+    # AMG hierarchy) built for one tangent preconditions the next points' too
+    # (same mesh, same sparsity) until CG slows down; the CG operator is
+    # always the current tangent, so the accuracy of every solve is unchanged.
     linear = _block_linear_solver() if task.with_fe else None
     history: list[tuple[dict, float, np.ndarray]] = []  # (settings, I, A) of solved points
     slope: np.ndarray | None = None
