@@ -390,6 +390,9 @@ def _depth_issues(case: Case) -> list[CaseWarning]:
 
 
 def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
+    refused = getattr(family, "no_gaps", "")
+    if refused:  # the family's own reason (the schema refuses gaps by it too)
+        raise CaseError(t.key("limb"), t.raw("limb", None), refused)
     if not family.limb_names:
         raise CaseError(t.key("limb"), t.raw("limb", None),
                         f"a {family.name} core has no limbs: draw its gaps as regions "
