@@ -389,6 +389,15 @@ def _depth_issues(case: Case) -> list[CaseWarning]:
                         "columns are outside their range")]
 
 
+def metres_hint(raw: object) -> str:
+    """A message's ending for a length given as a bare number (taken as
+    metres): `` (a bare number is metres: write "0.8 mm" for 0.8 mm)``;
+    "" for anything else."""
+    if isinstance(raw, (int, float)) and not isinstance(raw, bool) and raw > 0:
+        return f' (a bare number is metres: write "{raw:g} mm" for {raw:g} mm)'
+    return ""
+
+
 def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
     refused = getattr(family, "no_gaps", "")
     if refused:  # the family's own reason (the schema refuses gaps by it too)
@@ -403,11 +412,12 @@ def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
     if length >= limb.span:
         raise CaseError(t.key("length"), t.data["length"],
                         f"gap not shorter than its limb ({limb_name} limb straight part is "
-                        f"{limb.span * 1e3:g} mm)")
+                        f"{limb.span * 1e3:g} mm){metres_hint(t.data['length'])}")
     if length >= limb.width:
         raise CaseError(t.key("length"), t.data["length"],
                         f"gap not shorter than the width of the face it crosses ({limb_name} limb is "
-                        f"{limb.width * 1e3:g} mm wide); the fringing models do not hold")
+                        f"{limb.width * 1e3:g} mm wide); the fringing models do not hold"
+                        + metres_hint(t.data["length"]))
     mid = 0.5 * (limb.lo + limb.hi)
     # Position of the gap centre, measured along the limb from the start of
     # its straight part (bottom end of a vertical limb, left end of a
@@ -417,7 +427,7 @@ def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
     if pos - 0.5 * length < limb.lo - 1e-12 or pos + 0.5 * length > limb.hi + 1e-12:
         raise CaseError(t.key("position"), t.data.get("position"),
                         f"gap does not lie within the {limb_name} limb's straight part "
-                        f"(0 to {limb.span * 1e3:g} mm)")
+                        f"(0 to {limb.span * 1e3:g} mm)" + metres_hint(t.data.get("position")))
     t.finish()
     return Gap(limb_name, length, pos)
 
