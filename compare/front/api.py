@@ -70,14 +70,13 @@ def _read(source: CaseLike, base_dir: str | Path | None = None,
             return origin.source, source
         # built directly, or changed with dataclasses.replace since it was read:
         # its tables (if any) no longer describe it, and nothing validated it
-        import warnings
+        from ..errors import warn
 
         how = ("was changed with dataclasses.replace after it was read"
                if origin is not None else "was built directly")
-        warnings.warn(CaseWarning("case", source.name, f"this Case {how}, so no check "
-                                  "validated its values: make changes with "
-                                  "case.with_values({...}), which validates them"),
-                      stacklevel=3)
+        warn(CaseWarning("case", source.name, f"this Case {how}, so no check "
+                         "validated its values: make changes with "
+                         "case.with_values({...}), which validates them"))
         return None, source
     if isinstance(source, dict):
         return case_from_tables(source, base_dir)

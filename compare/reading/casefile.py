@@ -12,7 +12,6 @@ import dataclasses
 import hashlib
 import math
 import tomllib
-import warnings
 from pathlib import Path
 from typing import Any
 
@@ -22,7 +21,7 @@ from magcheck.analytic.materials import bh_from_table, builtin, builtin_names, l
 
 from ..design.case import (Case, FESettings, HandSettings, InductanceLimit, Margins, MaterialSpec,
                            SaturationLimit, SweepDecl, Tolerance, ForceLimit)
-from ..errors import CaseError, CaseWarning, RunError, format_value
+from ..errors import CaseError, CaseWarning, RunError, format_value, warn
 from ..design.families import Family, get_family
 from ..design.geometry import Gap, Limb, WindingSpec, coil_rects
 from ..design.keys import key_dimension, parse_key, parse_vary
@@ -187,7 +186,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
             raise CaseError("hand.rogowski", True, "corrects the leakage inductance of two "
                             "concentric windings: give two [[windings]] on one limb, or drop it")
     for w in plausibility_issues(case, data):
-        warnings.warn(w, stacklevel=2)
+        warn(w)  # at the user's line that loaded or derived the case
     if case.winding.driven:
         case = _resolved_drive(case)
     else:
