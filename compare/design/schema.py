@@ -91,8 +91,8 @@ def quantity_defs() -> dict[str, Any]:
         elif dim == "dimensionless":
             what = "a plain number (a string holding one is read too)"
         else:
-            what = (f"a {dim}: a number in {SI_UNIT[dim]}, or a string with a unit of "
-                    "that dimension")
+            unit = SI_UNIT.get(dim) or "SI units"
+            what = f"a {dim}: a number in {unit}, or a string with a unit of that dimension"
         out[_quantity_def(dim)] = {"type": ["number", "string"],
                                    "pattern": quantity_pattern(dim), "description": what}
     return out
