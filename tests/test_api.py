@@ -217,6 +217,12 @@ def test_with_values_on_a_built_in_material_says_what_to_write(capsys):
     # what it says to do works: the table form takes mu_r, and then it varies
     linear = case.with_values({"materials.core": {"mu_r": 2000}})
     assert linear.with_values({"materials.core.mu_r": 1000}).material("core").kind == "mu_r"
+    # a curve given as a table (H, B) has no mu_r either: same advice, not "unknown key H"
+    data = tomllib.loads(CHOKE.read_text())
+    data["materials"]["core"] = {"H": [0, 100, 1000, 5000], "B": [0, 1.0, 1.5, 1.7]}
+    with pytest.raises(magcheck.CaseError, match=r"materials.core is a B-H curve \(H, B\), which "
+                                                 r"has no mu_r: give materials.core = \{mu_r"):
+        magcheck.load(data, base_dir=CHOKE.parent).with_values({"materials.core.mu_r": 2000})
     assert main(["sweep", str(CHOKE), "--vary", "materials.core.mu_r=1000,2000",
                  "--hand-only"]) == 2
     err_line = capsys.readouterr().err
