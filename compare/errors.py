@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-__all__ = ["CaseError", "RunError", "CaseWarning", "format_value", "printable"]
+__all__ = ["CaseError", "RunError", "CaseWarning", "format_value", "printable", "warn"]
 
 
 def printable(text: str) -> str:
@@ -67,3 +67,24 @@ class CaseWarning(UserWarning):
         self.value = value
         self.reason = reason
         super().__init__(f"{printable(str(key))} = {format_value(value)}: {reason}")
+
+
+def warn(w: Warning) -> None:
+    """Issue ``w`` (``warnings.warn``) attributed to the first caller outside
+    magcheck: the user's line that called ``magcheck.load``, ``with_values``
+    or ``check``, not the line inside magcheck that found the problem (a
+    fixed ``stacklevel`` cannot say which, the call depth differs per entry
+    point).  A run with no frame outside magcheck (the command line) names
+    the outermost one."""
+    import sys
+    import warnings
+
+    level, f = 2, sys._getframe(1)
+    while f.f_back is not None and _ours(f):
+        f, level = f.f_back, level + 1
+    warnings.warn(w, stacklevel=level)
+
+
+def _ours(frame: object) -> bool:
+    name = getattr(frame, "f_globals", {}).get("__name__", "")
+    return name == "magcheck" or name.startswith("magcheck.")

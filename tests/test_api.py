@@ -179,6 +179,122 @@ def test_bad_input_raises_case_error_naming_the_option():
         magcheck.write_vtu(magcheck.hand(CHOKE), "x.vtu")
 
 
+def test_study_errors_name_the_parameters_as_the_api_calls_them():
+    # the API's messages name its own parameters, not the command line's options
+    case = magcheck.load(CHOKE)
+    with pytest.raises(magcheck.CaseError, match="^predictor = 'bogus': must be one of") as err:
+        magcheck.sweep(case, "winding.current=1A,2A", with_fe=False, predictor="bogus")
+    assert "--" not in str(err.value)
+    with pytest.raises(magcheck.CaseError, match="^vary = .*a key is varied twice"):
+        magcheck.sweep(case, "winding.current=1A,2A", "winding.current=3A", with_fe=False)
+    with pytest.raises(magcheck.CaseError,
+                       match=r"^vary gaps\[9\].length=1mm,2mm: 'gaps\[9\]' is not in the case"):
+        magcheck.sweep(case, "gaps[9].length=1mm,2mm", with_fe=False)
+    with pytest.raises(magcheck.CaseError, match=r"^fe_samples = 5: must lie in \[0, 2\]"):
+        magcheck.tolerance(ROOT / "cases/demo_choke_margins.toml", samples=2, fe_samples=5)
+
+
+def test_study_errors_name_the_options_on_the_command_line(capsys):
+    assert main(["sweep", str(CHOKE), "--vary", "winding.current=1A,2A", "--vary",
+                 "winding.current=3A", "--hand-only"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("magcheck: bad input: --vary = ") and "varied twice" in err
+    assert main(["sweep", str(CHOKE), "--vary", "winding.current=1A,2A", "--block", "0",
+                 "--hand-only"]) == 2
+    assert capsys.readouterr().err.startswith("magcheck: bad input: --block = 0: ")
+
+
+def test_with_values_on_a_built_in_material_says_what_to_write(capsys):
+    # demo_choke's core is the built-in curve 'demo-sisteel': it has no mu_r to set
+    case = magcheck.load(CHOKE)
+    with pytest.raises(magcheck.CaseError) as err:
+        case.with_values({"materials.core.mu_r": 2000})
+    text = str(err.value)
+    assert err.value.key == "materials.core.mu_r"
+    assert "materials.core is the built-in 'demo-sisteel'" in text
+    assert "materials.core = {mu_r = ...}" in text and "scale_H" in text
+    assert "parent is not a table" not in text
+    # what it says to do works: the table form takes mu_r, and then it varies
+    linear = case.with_values({"materials.core": {"mu_r": 2000}})
+    assert linear.with_values({"materials.core.mu_r": 1000}).material("core").kind == "mu_r"
+    # a curve given as a table (H, B) has no mu_r either: same advice, not "unknown key H"
+    data = tomllib.loads(CHOKE.read_text())
+    data["materials"]["core"] = {"H": [0, 100, 1000, 5000], "B": [0, 1.0, 1.5, 1.7]}
+    with pytest.raises(magcheck.CaseError, match=r"materials.core is a B-H curve \(H, B\), which "
+                                                 r"has no mu_r: give materials.core = \{mu_r"):
+        magcheck.load(data, base_dir=CHOKE.parent).with_values({"materials.core.mu_r": 2000})
+    assert main(["sweep", str(CHOKE), "--vary", "materials.core.mu_r=1000,2000",
+                 "--hand-only"]) == 2
+    err_line = capsys.readouterr().err
+    assert err_line.count("\n") == 1 and "materials.core is the built-in 'demo-sisteel'" in err_line
+
+
+@pytest.mark.parametrize("values, key", [
+    ({"gaps[0].length": 0.8}, "gaps[0].length"),      # 0.8 m: longer than the 46 mm limb
+    ({"gaps[0].position": 2}, "gaps[0].position"),    # 2 m along a 46 mm limb
+    ({"winding.thickness": 12}, "winding.thickness"),  # a 12 m coil build
+])
+def test_a_bare_length_that_fails_says_a_bare_number_is_metres(values, key):
+    case = magcheck.load(CHOKE)
+    with pytest.raises(magcheck.CaseError) as err:
+        case.with_values(values)
+    assert err.value.key == key
+    v = next(iter(values.values()))
+    assert f'a bare number is metres: write "{v:g} mm"' in str(err.value)
+    # with a unit, the same error has no such hint
+    with pytest.raises(magcheck.CaseError) as err:
+        case.with_values({key: f"{v} m"})
+    assert "bare number" not in str(err.value)
+
+
+def test_a_sweep_spec_with_units_gets_no_bare_number_hint(capsys):
+    assert main(["sweep", str(CHOKE), "--vary", "gaps[0].length=500mm,800mm",
+                 "--hand-only"]) == 2
+    err = capsys.readouterr().err
+    assert "gap not shorter than its limb" in err and "bare number" not in err
+    assert main(["sweep", str(CHOKE), "--vary", "gaps[0].length=0.5,0.8", "--hand-only"]) == 2
+    assert 'a bare number is metres: write "0.5 mm"' in capsys.readouterr().err
+
+
+def test_api_warnings_point_at_the_user_s_line():
+    # a warning is attributed to the line that called magcheck, not to one inside it
+    data = tomllib.loads(CHOKE.read_text())
+    data["core"]["depth"] = 20  # a bare number: 20 m, implausible
+    case = magcheck.load(CHOKE)
+    changed = dataclasses.replace(case, name="other")
+    with warnings.catch_warnings(record=True) as rec:
+        warnings.simplefilter("always")
+        magcheck.load(data, base_dir=CHOKE.parent)
+        case.with_values({"core.depth": 20})
+        magcheck.hand(changed)
+    assert len(rec) == 3, [str(w.message) for w in rec]
+    assert {Path(w.filename).resolve() for w in rec} == {Path(__file__).resolve()}
+    assert "core.depth" in str(rec[0].message) and "dataclasses.replace" in str(rec[2].message)
+
+
+def test_write_vtu_and_report_refuse_an_unwritable_path_before_solving(tmp_path, monkeypatch):
+    blocker = tmp_path / "file.txt"
+    blocker.write_text("a file, not a folder")
+
+    def no_solve(*a, **k):
+        raise AssertionError("solved before the output path was checked")
+
+    monkeypatch.setattr(api, "fe", no_solve)
+    monkeypatch.setattr(api, "check", no_solve)
+    with pytest.raises(magcheck.CaseError) as err:
+        magcheck.write_vtu(CHOKE, blocker / "x.vtu")
+    assert str(err.value).startswith(f"path {blocker / 'x.vtu'}: ")
+    assert "is a file, not a folder" in str(err.value) and "\n" not in str(err.value)
+    with pytest.raises(magcheck.CaseError, match=f"^folder {re.escape(str(blocker))}: "
+                                                 "is a file, not a folder"):
+        magcheck.report(CHOKE, blocker)
+    if Path("/proc/self").is_dir():  # a folder no file can be made in (even as root)
+        with pytest.raises(magcheck.CaseError, match="^path /proc/x.vtu: cannot be written"):
+            magcheck.write_vtu(CHOKE, "/proc/x.vtu")
+        with pytest.raises(magcheck.CaseError, match="^folder /proc/r: cannot be written"):
+            magcheck.report(CHOKE, "/proc/r")
+
+
 def test_hand_named_access():
     h = magcheck.hand(CHOKE)
     assert h["inductance"] == h.inductance and h["gap_B"] == h.gap_B

@@ -99,6 +99,26 @@ BAD = {
                               lambda d: _set(d, ("gaps",), [{"limb": "left", "length": 1e-3}])),
     "a coil build on a drawn core": ("demo_drawn_core.toml",
                                      lambda d: _set(d, ("windings", 0, "thickness"), "10 mm")),
+    "a gap on a pot core": ("demo_pot_core_choke.toml",
+                            lambda d: _set(d, ("gaps",), [{"limb": "post", "length": 1e-4}])),
+    "a gap on a plunger": ("demo_plunger_solenoid.toml",
+                           lambda d: _set(d, ("gaps",), [{"limb": "plunger", "length": 1e-4}])),
+    "a gap on a holding magnet": ("demo_holding_magnet.toml",
+                                  lambda d: _set(d, ("gaps",), [{"limb": "pole",
+                                                                 "length": 1e-4}])),
+    "a gap on a u-armature": ("demo_clapper_relay.toml",
+                              lambda d: _set(d, ("gaps",), [{"limb": "left", "length": 1e-4}])),
+    "a current in tesla": (CHOKE, lambda d: _set(d, ("winding", "current"), "6 T")),
+    "a current as a current density": (CHOKE,
+                                       lambda d: _set(d, ("winding", "current"), "3 A/mm2")),
+    "a current in ampere-turns": (CHOKE, lambda d: _set(d, ("winding", "current"), "480 At")),
+    "a length in a quoted number": (CHOKE, lambda d: _set(d, ("gaps", 0, "length"), "0.0006")),
+    "a flux density limit in A/m": ("demo_choke_margins.toml",
+                                    lambda d: _set(d, ("margins", "peak_B"), "1.2 kA/m")),
+    "stacking in percent": (CHOKE, lambda d: _set(d, ("core", "stacking"), "95 %")),
+    "an agreement limit in percent": (
+        "demo_choke_margins.toml",
+        lambda d: _set(d, ("margins", "agreement"), {"inductance": "8 %"})),
     "unknown region key": ("demo_drawn_core.toml",
                            lambda d: _set(d, ("regions", 0, "colour"), "red")),
     "a region kind that is none": ("demo_drawn_core.toml",
@@ -119,11 +139,51 @@ def test_bad_cases_are_refused_by_the_schema_and_the_reader(what):
 def test_quantities_are_numbers_or_strings_with_units():
     v = _validator()
     doc = _doc(CHOKE)
-    for value in ("0.6 mm", 0.0006, "0.0006"):
+    for value in ("0.6 mm", 0.0006, " 6e-4 m ", "0.024 in", "24 mil"):
         assert not list(v.iter_errors(_set(doc, ("gaps", 0, "length"), value))), value
+    for value in ("12 A", "12000 mA", 12, "1.2e1 A"):
+        assert not list(v.iter_errors(_set(doc, ("winding", "current"), value))), value
+    for value in ("0.95", 0.95):
+        assert not list(v.iter_errors(_set(doc, ("core", "stacking"), value))), value
     assert not list(v.iter_errors(_set(doc, ("core", "limb_width"),
                                        {"left": "12 mm", "right": "12 mm", "top": 0.012,
                                         "bottom": "12 mm"})))
+
+
+# every unit string of each dimension the reader takes, written as designers do
+UNITS_READ = {"length": ("0.8 mm", "1 in", "40 mil", "2.5 cm", "1e-3 m", "0.5mm"),
+              "area": ("20 mm^2", "0.2 cm**2", "1e-5 m^2", "4 mm*mm"),
+              "current": ("6 A", "600 mA", "1.5 kA"),
+              "current density": ("4 A/mm^2", "4e6 A/m^2", "400 A/cm^2"),
+              "flux density": ("1.45 T", "15 kG", "800 mT"),
+              "field strength": ("350 Oe", "800 A/m", "1.2 kA/m", "800 At/m"),
+              "inductance": ("1.2 mH", "40 uH", "40 µH"),
+              "force": ("12 N", "0.5 kN"),
+              "frequency": ("50 Hz", "2 kHz"),
+              "voltage": ("230 V",),
+              "resistance": ("2 ohm", "2 Ω", "0.5 mohm"),
+              "dimensionless": ("0.95", "1e-3")}
+
+
+@pytest.mark.parametrize("dimension", list(UNITS_READ))
+def test_the_quantity_pattern_takes_what_the_reader_takes(dimension):
+    """Each dimension's pattern (built from the reader's units table) takes
+    the strings the reader reads as that dimension and none that it refuses
+    as that dimension (each other dimension's strings)."""
+    import re
+
+    from magcheck.compare.design.units import UnitError, parse_quantity, quantity_pattern
+
+    pattern = re.compile(quantity_pattern(dimension))
+    for other, values in UNITS_READ.items():
+        for value in values:
+            try:
+                parse_quantity(value, dimension)
+                read = True
+            except UnitError:
+                read = False
+            assert bool(pattern.match(value)) == read, (value, dimension)
+            assert read == (other == dimension), (value, dimension)  # the table is right
 
 
 def test_the_reader_refuses_an_undeclared_key_or_kind():

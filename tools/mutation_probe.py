@@ -655,6 +655,17 @@ MUTATIONS: tuple[Mutation, ...] = (
       "    key = spec.keys.get(name, spec.extra) or Key(\"any\")\n    where",
       "the reader reads a key its table does not declare (the schema would drift)",
       ("tests/test_schema.py",)),
+    M("gaps-on-a-gapless-family", "compare/reading/casefile.py",
+      "    if refused:  # the family's own reason (the schema refuses gaps by it too)",
+      "    if False:  # the family's own reason (the schema refuses gaps by it too)",
+      "the reader takes [[gaps]] on a pot core, plunger, holding magnet or u-armature "
+      "(the schema refuses them: the two would disagree)",
+      ("tests/test_schema.py",)),
+    M("schema-unit-any-dimension", "compare/design/units.py",
+      "            if times(d1, p1) == want:",
+      "            if times(d1, p1) != DIMENSIONS[\"dimensionless\"]:",
+      "a quantity's schema pattern takes a single unit of any dimension (\"6 T\" for a current)",
+      ("tests/test_schema.py",)),
     # ---------------------------------------------------------------- VTU export
     M("vtu-aphi-times-r", "fem2d/export.py",
       "a_phi = np.divide(u, r, out=np.zeros_like(u), where=r > 0)",

@@ -145,7 +145,23 @@ def set_key(data: dict, path: tuple[str | int, ...], value: Any, key: str, *,
         node[last] = value
         return
     if not isinstance(node, dict) or isinstance(last, int):
-        raise CaseError("key", key, "its parent is not a table")
+        parent = key_text(path[:-1])
+        if path[0] == "materials" and len(path) == 3 and isinstance(node, str):
+            # a part's material given by a built-in curve's name: no keys to set
+            scale = (" (or set materials.core.scale_H / scale_B, which scale that curve)"
+                     if parent == "materials.core" else "")
+            raise CaseError("key", key, f"{parent} is the built-in '{node}', which has no "
+                                        f"{last}: give {parent} = {{{last} = ...}} in the "
+                                        f"case file, then set {key}{scale}")
+        raise CaseError("key", key, f"{parent} is {node!r} in the case file, not a table")
+    curve = [k for k in ("csv", "H", "B") if k in node]
+    if path[0] == "materials" and len(path) == 3 and last == "mu_r" and curve:
+        parent = key_text(path[:-1])  # a B-H curve given as a table: a linear mu_r replaces it
+        scale = (" (or set materials.core.scale_H / scale_B, which scale that curve)"
+                 if parent == "materials.core" else "")
+        raise CaseError("key", key, f"{parent} is a B-H curve ({', '.join(curve)}), which has "
+                                    f"no mu_r: give {parent} = {{mu_r = ...}} in the case "
+                                    f"file, then set {key}{scale}")
     if isinstance(node.get(last), dict):
         raise CaseError("key", key, f"is a table; vary one of its keys "
                                     f"({', '.join(sorted(node[last]))})")

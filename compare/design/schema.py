@@ -10,12 +10,15 @@ bundled case to the schema.
 
 What it states: the tables and keys (an unknown key or a misspelt table
 is refused), each value's type (a quantity is a number in SI units or a
-string with a unit, ``"0.6 mm"``; a plain number may be written as a
-string too, as the reader takes it), the choices of a string, and each
-built-in family's ``[core]`` keys (and the drawn family's own tables).
-What it leaves to the reader: which keys are required, ranges, units'
-dimensions, and checks across keys; a plug-in family's ``[core]`` is any
-table.
+string with a unit of the key's dimension, ``"0.6 mm"``, matched by a
+pattern made from the reader's units table,
+:func:`compare.design.units.quantity_pattern`, kept once per dimension in
+``$defs``; a plain number may be written as a string too, as the reader
+takes it), the choices of a string, each built-in family's ``[core]``
+keys (and the drawn family's own tables), and which families take no
+``[[gaps]]`` (a family's ``no_gaps``, which the reader refuses them by).
+What it leaves to the reader: which keys are required, ranges, and checks
+across keys; a plug-in family's ``[core]`` is any table.
 """
 
 from __future__ import annotations
@@ -24,9 +27,10 @@ from typing import Any
 
 from .casekeys import ROOT_KEYS, Key, table
 from .families import BUILTIN
-from .units import SI_UNIT
+from .units import DIMENSIONS, SI_UNIT, quantity_pattern
 
-__all__ = ["SCHEMA_DIALECT", "SCHEMA_PATH", "DRAWN_COIL_KEYS", "case_schema", "key_schema"]
+__all__ = ["SCHEMA_DIALECT", "SCHEMA_PATH", "DRAWN_COIL_KEYS", "case_schema", "key_schema",
+           "quantity_defs"]
 
 SCHEMA_DIALECT = "https://json-schema.org/draft/2020-12/schema"
 SCHEMA_PATH = "docs/case.schema.json"
@@ -37,7 +41,7 @@ def key_schema(k: Key) -> dict[str, Any]:
     """The JSON Schema of one declared key."""
     out: dict[str, Any]
     if k.kind == "quantity":
-        out = {"type": ["number", "string"]}
+        out = {"$ref": f"#/$defs/{_quantity_def(k.dimension)}"}
         if k.dimension:
             unit = SI_UNIT[k.dimension] or "1"
             note = f"{k.dimension}: a number in {unit}, or a string with a unit"
@@ -46,7 +50,7 @@ def key_schema(k: Key) -> dict[str, Any]:
         out["description"] = f"{k.doc} ({note})" if k.doc else note
         return out
     if k.kind == "number":
-        out = {"type": ["number", "string"]}
+        out = {"$ref": f"#/$defs/{_quantity_def('dimensionless')}"}
     elif k.kind == "integer":
         out = {"type": "integer"}
     elif k.kind == "string":
@@ -72,6 +76,28 @@ def key_schema(k: Key) -> dict[str, Any]:
     return out
 
 
+def _quantity_def(dimension: str) -> str:
+    """The name in ``$defs`` of the quantities of a dimension ("" any unit or percent)."""
+    return f"quantity-{dimension or 'any'}".replace(" ", "-")
+
+
+def quantity_defs() -> dict[str, Any]:
+    """The ``$defs`` entries a quantity's ``$ref`` names: per dimension, a number
+    (SI) or a string matching the reader's units of that dimension."""
+    out: dict[str, Any] = {}
+    for dim in ("", *DIMENSIONS):
+        if not dim:
+            what = "a number, or a string with a unit or in percent (\"5 %\")"
+        elif dim == "dimensionless":
+            what = "a plain number (a string holding one is read too)"
+        else:
+            unit = SI_UNIT.get(dim) or "SI units"
+            what = f"a {dim}: a number in {unit}, or a string with a unit of that dimension"
+        out[_quantity_def(dim)] = {"type": ["number", "string"],
+                                   "pattern": quantity_pattern(dim), "description": what}
+    return out
+
+
 def _table(k: Key) -> dict[str, Any]:
     out: dict[str, Any] = {"type": "object"}
     if k.keys is None:
@@ -90,7 +116,7 @@ def _family_rules(fam: Any) -> dict[str, Any]:
     [materials] parts (when they do not depend on the case)."""
     out: dict[str, Any] = {}
     out["gaps"] = ({"items": {"properties": {"limb": {"enum": list(fam.limb_names)}}}}
-                   if fam.limb_names else False)
+                   if fam.limb_names and not getattr(fam, "no_gaps", "") else False)
     winding: dict[str, Any]
     if fam.winding_limbs:
         winding = {"properties": {"limb": {"enum": list(fam.winding_limbs)}}}
@@ -117,7 +143,7 @@ def case_schema() -> dict[str, Any]:
     root["properties"]["case"]["properties"]["family"]["examples"] = [f.name for f in BUILTIN]
     root["properties"]["case"]["required"] = ["family"]
     root["required"] = ["case", "core", "materials"]
-    defs: dict[str, Any] = {}
+    defs: dict[str, Any] = quantity_defs()
     rules = []
     for fam in BUILTIN:
         spec = getattr(fam, "core_spec", None)
@@ -138,5 +164,5 @@ def case_schema() -> dict[str, Any]:
             "description": "A magcheck case (TOML), as its reader takes it: generated from "
                            "compare/design/casekeys.py and the families' key declarations by "
                            "tools/make_schema.py; do not edit. Values with units are numbers "
-                           "in SI units or strings with a unit (\"0.6 mm\").",
+                           "in SI units or strings with a unit of their dimension (\"0.6 mm\").",
             **root, "allOf": rules, "$defs": defs}

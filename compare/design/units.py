@@ -17,7 +17,8 @@ from __future__ import annotations
 import math
 import re
 
-__all__ = ["UnitError", "Dimension", "DIMENSIONS", "SI_UNIT", "parse_quantity", "format_si"]
+__all__ = ["UnitError", "Dimension", "DIMENSIONS", "SI_UNIT", "parse_quantity", "format_si",
+           "quantity_pattern"]
 
 
 class UnitError(ValueError):
@@ -174,6 +175,64 @@ def parse_quantity(value: object, dimension: str) -> float:
                               "for SI")
         raise UnitError(f"'{value}' is not a {dimension}")
     return number * scale
+
+
+_POWERS = (1, 2, 3)
+"""The powers :func:`quantity_pattern` writes out (``mm^2``, ``m**3``)."""
+
+
+def _power_re(p: int) -> str:
+    """A factor's power as the reader takes it: ``^2``, ``**2`` (power 1: none, ``^1``)."""
+    pw = rf" *(?:\^|\*\*) *\+?{p}"
+    return f"(?:{pw})?" if p == 1 else pw
+
+
+def _factor_re(symbols: list[str], p: int) -> str:
+    prefix = "[" + "".join(_PREFIXES) + "]?"
+    alt = "|".join(sorted((re.escape(s) for s in symbols), key=lambda s: (-len(s), s)))
+    return f"{prefix}(?:{alt}){_power_re(p)}"
+
+
+def quantity_pattern(dimension: str) -> str:
+    """A regular expression (for a JSON Schema ``pattern``; Python's and
+    ECMAScript's syntax alike) of the quantity strings of ``dimension``
+    that :func:`parse_quantity` reads: a number and a unit made of one
+    prefixed unit of this module's table or two joined by ``*`` or ``/``,
+    each to a power 1 to 3 (``"0.8 mm"``, ``"4 A/mm^2"``, ``"800 At/m"``).
+    A dimensionless quantity is a number alone (a quoted number: ``"0.95"``).
+    ``dimension`` "" takes any unit, or a percentage (``"5 %"``).
+
+    The reader takes longer unit products too, and a ratio of like units
+    for a plain number (``"5 m/m"``), which the pattern refuses: it serves
+    an editor, where ``"6 T"`` for a current should be flagged."""
+    number = rf"^\s*{_NUMBER}\s*"
+    if not dimension:
+        factor = r"[A-Za-zµμΩ]+(?: *(?:\^|\*\*) *[-+]?\d+)?"
+        return rf"{number}(?:%|{factor}(?: *[*/] *{factor})*)?\s*$"
+    want = DIMENSIONS[dimension]
+    if want == DIMENSIONS["dimensionless"]:
+        return rf"{number}$"
+    by_dim: dict[Dimension, list[str]] = {}
+    for sym, (_, dim) in _UNITS.items():
+        by_dim.setdefault(dim, []).append(sym)
+
+    def times(d: Dimension, p: int) -> Dimension:
+        return tuple(x * p for x in d)  # type: ignore[return-value]
+
+    alts: list[str] = []
+    for d1, syms1 in by_dim.items():
+        for p1 in _POWERS:
+            if times(d1, p1) == want:
+                s1 = [s for s in syms1 if not (dimension == "current" and s == "At")]
+                if s1:
+                    alts.append(_factor_re(s1, p1))
+            for op, sign in (("\\*", 1), ("/", -1)):
+                for d2, syms2 in by_dim.items():
+                    for p2 in _POWERS:
+                        got = tuple(a + sign * b for a, b in zip(times(d1, p1), times(d2, p2)))
+                        if got == want:
+                            alts.append(f"{_factor_re(syms1, p1)} *{op} *{_factor_re(syms2, p2)}")
+    return rf"{number}(?:{'|'.join(alts)})\s*$"
 
 
 def format_si(value: float, unit: str, digits: int = 4) -> str:

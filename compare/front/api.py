@@ -20,8 +20,10 @@ measurement and by the applicable codes and licensed practice.
 """
 from __future__ import annotations
 
+import contextlib
+import os
 from pathlib import Path
-from typing import TYPE_CHECKING, Any, Sequence, Union
+from typing import TYPE_CHECKING, Any, Iterator, Sequence, Union
 
 from ..design.case import Case
 from ..errors import CaseError, CaseWarning, RunError
@@ -71,14 +73,13 @@ def _read(source: CaseLike, base_dir: str | Path | None = None,
             return origin.source, source
         # built directly, or changed with dataclasses.replace since it was read:
         # its tables (if any) no longer describe it, and nothing validated it
-        import warnings
+        from ..errors import warn
 
         how = ("was changed with dataclasses.replace after it was read"
                if origin is not None else "was built directly")
-        warnings.warn(CaseWarning("case", source.name, f"this Case {how}, so no check "
-                                  "validated its values: make changes with "
-                                  "case.with_values({...}), which validates them"),
-                      stacklevel=3)
+        warn(CaseWarning("case", source.name, f"this Case {how}, so no check "
+                         "validated its values: make changes with "
+                         "case.with_values({...}), which validates them"))
         return None, source
     if isinstance(source, dict):
         return case_from_tables(source, base_dir)
@@ -302,8 +303,10 @@ def report(result: "CheckResult | CaseLike", folder: str | Path,
     from ..judge.check import CheckResult
     from ..outputs.report import write_report
 
+    _writable("folder", folder, "folder")  # before the check's three solves
     res = result if isinstance(result, CheckResult) else check(result)
-    return Path(write_report(res, folder, agreement))
+    with _write_error("folder", folder):
+        return Path(write_report(res, folder, agreement))
 
 
 def write_vtu(result: Any, path: str | Path) -> Path | None:
@@ -318,9 +321,31 @@ def write_vtu(result: Any, path: str | Path) -> Path | None:
     """
     from ..outputs.vtu import write_vtu as _write
 
+    _writable("path", path, "file")  # before a case's solve
     if isinstance(result, (str, Path, dict, Case)):
         result = fe(result, estimate_error=False)
-    return _write(result, path)
+    with _write_error("path", path):
+        return _write(result, path)
+
+
+def _writable(name: str, path: str | Path, kind: str) -> None:
+    """A CaseError (one line naming the parameter and the path) for an output
+    path that cannot be written, before any work (as the command line's
+    options are checked: compare.outputs.output.check_outputs)."""
+    from ..outputs.output import check_outputs
+
+    check_outputs([(name, os.fspath(path), kind)])
+
+
+@contextlib.contextmanager
+def _write_error(name: str, path: str | Path) -> Iterator[None]:
+    """An OSError while writing as a CaseError naming the parameter and the path."""
+    try:
+        yield
+    except OSError as exc:
+        where = exc.filename if exc.filename is not None else path
+        raise CaseError(f"{name} {os.fspath(path)}", None,
+                        f"cannot be written ({where}: {exc.strerror or exc})") from None
 
 
 def to_json(result: Any) -> dict:

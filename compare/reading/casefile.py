@@ -12,7 +12,6 @@ import dataclasses
 import hashlib
 import math
 import tomllib
-import warnings
 from pathlib import Path
 from typing import Any
 
@@ -22,7 +21,7 @@ from magcheck.analytic.materials import bh_from_table, builtin, builtin_names, l
 
 from ..design.case import (Case, FESettings, HandSettings, InductanceLimit, Margins, MaterialSpec,
                            SaturationLimit, SweepDecl, TargetDecl, Tolerance, ForceLimit)
-from ..errors import CaseError, CaseWarning, RunError, format_value
+from ..errors import CaseError, CaseWarning, RunError, format_value, warn
 from ..design.families import Family, get_family
 from ..design.geometry import Gap, Limb, WindingSpec, coil_rects
 from ..design.keys import key_dimension, parse_key, parse_vary
@@ -189,7 +188,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
             raise CaseError("hand.rogowski", True, "corrects the leakage inductance of two "
                             "concentric windings: give two [[windings]] on one limb, or drop it")
     for w in plausibility_issues(case, data):
-        warnings.warn(w, stacklevel=2)
+        warn(w)  # at the user's line that loaded or derived the case
     if case.winding.driven:
         case = _resolved_drive(case)
     else:
@@ -391,7 +390,19 @@ def _depth_issues(case: Case) -> list[CaseWarning]:
                         "columns are outside their range")]
 
 
+def metres_hint(raw: object) -> str:
+    """A message's ending for a length given as a bare number (taken as
+    metres): `` (a bare number is metres: write "0.8 mm" for 0.8 mm)``;
+    "" for anything else."""
+    if isinstance(raw, (int, float)) and not isinstance(raw, bool) and raw > 0:
+        return f' (a bare number is metres: write "{raw:g} mm" for {raw:g} mm)'
+    return ""
+
+
 def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
+    refused = getattr(family, "no_gaps", "")
+    if refused:  # the family's own reason (the schema refuses gaps by it too)
+        raise CaseError(t.key("limb"), t.raw("limb", None), refused)
     if not family.limb_names:
         raise CaseError(t.key("limb"), t.raw("limb", None),
                         f"a {family.name} core has no limbs: draw its gaps as regions "
@@ -402,11 +413,12 @@ def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
     if length >= limb.span:
         raise CaseError(t.key("length"), t.data["length"],
                         f"gap not shorter than its limb ({limb_name} limb straight part is "
-                        f"{limb.span * 1e3:g} mm)")
+                        f"{limb.span * 1e3:g} mm){metres_hint(t.data['length'])}")
     if length >= limb.width:
         raise CaseError(t.key("length"), t.data["length"],
                         f"gap not shorter than the width of the face it crosses ({limb_name} limb is "
-                        f"{limb.width * 1e3:g} mm wide); the fringing models do not hold")
+                        f"{limb.width * 1e3:g} mm wide); the fringing models do not hold"
+                        + metres_hint(t.data["length"]))
     mid = 0.5 * (limb.lo + limb.hi)
     # Position of the gap centre, measured along the limb from the start of
     # its straight part (bottom end of a vertical limb, left end of a
@@ -416,7 +428,7 @@ def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
     if pos - 0.5 * length < limb.lo - 1e-12 or pos + 0.5 * length > limb.hi + 1e-12:
         raise CaseError(t.key("position"), t.data.get("position"),
                         f"gap does not lie within the {limb_name} limb's straight part "
-                        f"(0 to {limb.span * 1e3:g} mm)")
+                        f"(0 to {limb.span * 1e3:g} mm)" + metres_hint(t.data.get("position")))
     t.finish()
     return Gap(limb_name, length, pos)
 

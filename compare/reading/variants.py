@@ -20,6 +20,7 @@ from __future__ import annotations
 import copy
 import dataclasses
 import hashlib
+import re
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -28,7 +29,7 @@ from typing import Any, Mapping
 from magcheck.analytic.bh import BHDataError, scale_law
 
 from ..design.case import Case, MaterialSpec
-from .casefile import case_from_dict
+from .casefile import case_from_dict, metres_hint
 from ..errors import CaseError
 from ..design.keys import SCALE_KEYS, parse_key, set_key
 
@@ -130,7 +131,10 @@ def make_case(src: CaseSource, settings: dict[str, float], *, spec_of: dict[str,
             shown: object = exc.value
             if exc.key in settings and isinstance(exc.value, float):  # the swept value
                 shown = _shown(exc.key, exc.value)
-            raise CaseError(exc.key, shown, f"{exc.reason} (at the point {point})") from None
+            reason = exc.reason
+            if exc.key in settings and not _bare_spec(spec_of.get(exc.key, "")):
+                reason = reason.replace(metres_hint(exc.value), "")  # the spec has units
+            raise CaseError(exc.key, shown, f"{reason} (at the point {point})") from None
         raise
     for k, v in scales.items():
         if v <= 0:
@@ -173,7 +177,13 @@ def with_values(src: CaseSource, values: Mapping[str, Any]) -> Case:
             set_key(data, path, value, key, create_tables=True)
         except CaseError as exc:
             raise CaseError(key, value, exc.reason) from None
-    case = case_from_dict(data, base_dir=src.base_dir, source=src.source, sha256="")
+    try:
+        case = case_from_dict(data, base_dir=src.base_dir, source=src.source, sha256="")
+    except CaseError as exc:
+        hinted = _bare_length_hint(exc, values, _family_of(data))
+        if hinted is None:
+            raise
+        raise hinted from None
     for k, v in scales.items():
         if v <= 0:
             raise CaseError(k, v, "a B-H scale factor must be positive")
@@ -182,6 +192,39 @@ def with_values(src: CaseSource, values: Mapping[str, Any]) -> Case:
                                    scales.get(SCALE_KEYS[1], 1.0))
     new = CaseSource(data, src.base_dir, src.source, "", tuple(scales.items()))
     return attach_origin(case, new)
+
+
+def _bare_length_hint(exc: CaseError, values: Mapping[str, Any],
+                      family: Any) -> CaseError | None:
+    """``exc`` with the bare-number-is-metres hint when it names a length key
+    that ``values`` set to a bare number (None: nothing to add)."""
+    from ..design.keys import key_dimension
+
+    raw = _plain(values.get(exc.key))
+    if not metres_hint(raw) or "a bare number is metres" in exc.reason:
+        return None
+    try:
+        if key_dimension(exc.key, family) != "length":
+            return None
+    except CaseError:
+        return None
+    return CaseError(exc.key, exc.value, exc.reason + metres_hint(raw))
+
+
+def _bare_spec(spec: str) -> bool:
+    """Whether a ``KEY=SPEC`` writes its values as bare numbers (SI), no unit."""
+    rhs = spec.partition("=")[2]
+    return not re.search(r"[^\d\s.,:+eE-]", rhs)
+
+
+def _family_of(data: dict) -> Any:
+    """The core family a case document names (None when it names none known)."""
+    from ..design.families import get_family
+
+    try:
+        return get_family(str(data.get("case", {}).get("family")))
+    except (CaseError, AttributeError):
+        return None
 
 
 def _plain(value: Any) -> Any:

@@ -144,12 +144,12 @@ class _WithWarnings:
 
 def _reemit(category: type[Warning], text: str, attrs: dict) -> None:
     """Warn in this process with a worker's warning (see `_WithWarnings`)."""
-    import warnings
-
     w = Warning.__new__(category)
     Warning.__init__(w, text)
     w.__dict__.update(attrs)
-    warnings.warn(w, stacklevel=2)
+    from ..errors import warn
+
+    warn(w)  # at the caller's line outside magcheck
 
 
 def _terminate(pool: Any) -> None:

@@ -29,7 +29,7 @@ import logging
 import math
 import time
 from dataclasses import dataclass, field
-from typing import Any, Callable, Sequence
+from typing import Any, Callable, Mapping, Sequence
 
 import numpy as np
 
@@ -44,7 +44,7 @@ from ..judge.margins import MarginResult, curve_margins, curve_saturation  # noq
 
 __all__ = ["VarySpec", "parse_vary", "parse_key", "key_dimension", "resolve_vary",
            "scale_law", "CaseSource", "case_source", "make_case", "PointResult", "SweepResult",
-           "plan_sweep", "run_sweep", "run_block", "BlockTask", "PREDICTORS",
+           "plan_sweep", "run_sweep", "CLI_OPTIONS", "run_block", "BlockTask", "PREDICTORS",
            "DEFAULT_BLOCK", "CURRENT_KEY"]
 
 log = logging.getLogger(__name__)
@@ -302,23 +302,32 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
     return tuple(out)
 
 
+CLI_OPTIONS: dict[str, str] = {"vary": "--vary", "predictor": "--predictor", "block": "--block"}
+"""How ``magcheck sweep`` names the parameters of :func:`run_sweep` in its
+messages (``names``); the Python API's messages use the parameters' names."""
+
+
 def plan_sweep(src: CaseSource, specs: Sequence[VarySpec], *, with_fe: bool = True,
-               predictor: str = "tangent", block: int = DEFAULT_BLOCK) -> list[BlockTask]:
+               predictor: str = "tangent", block: int = DEFAULT_BLOCK,
+               names: Mapping[str, str] | None = None) -> list[BlockTask]:
     """Validate every point and cut the grid into blocks (see module doc).
+    ``names``: how the caller calls ``vary``, ``predictor`` and ``block`` in a
+    message (:data:`CLI_OPTIONS` for the command line; default those names).
 
     Raises
     ------
     CaseError
         For a bad spec or a swept value the case file would reject.
     """
+    name = {"vary": "vary", "predictor": "predictor", "block": "block", **(names or {})}
     if predictor not in PREDICTORS:
-        raise CaseError("--predictor", predictor, f"must be one of {', '.join(PREDICTORS)}")
+        raise CaseError(name["predictor"], predictor, f"must be one of {', '.join(PREDICTORS)}")
     if block < 1:
-        raise CaseError("--block", block, "must be at least 1")
+        raise CaseError(name["block"], block, "must be at least 1")
     keys = [s.key for s in specs]
     if len(set(keys)) != len(keys):
-        raise CaseError("--vary", ", ".join(keys), "a key is varied twice")
-    spec_of = {s.key: f"--vary {s.spec}" for s in specs}
+        raise CaseError(name["vary"], ", ".join(keys), "a key is varied twice")
+    spec_of = {s.key: f"{name['vary']} {s.spec}" for s in specs}
     points = []
     for idx, combo in enumerate(itertools.product(*(s.values for s in specs))):
         settings = dict(zip(keys, combo))
@@ -343,11 +352,15 @@ def plan_sweep(src: CaseSource, specs: Sequence[VarySpec], *, with_fe: bool = Tr
 def run_sweep(src: CaseSource, specs: Sequence[VarySpec], *, with_fe: bool = True,
               predictor: str = "tangent", block: int = DEFAULT_BLOCK,
               workers: int | None = None, scheduler: str | None = None,
-              on_done: Callable[[int, int], None] | None = None) -> SweepResult:
+              on_done: Callable[[int, int], None] | None = None,
+              names: Mapping[str, str] | None = None) -> SweepResult:
     """Run a sweep (see module doc); points come back in grid order.
 
     Parameters
     ----------
+    names : mapping, optional
+        How the caller's messages name ``vary``, ``predictor`` and ``block``
+        (:data:`CLI_OPTIONS` for the command line; default those names).
     workers : int, optional
         Worker processes (default: one per core; 1 = in this process).
     scheduler : str, optional
@@ -358,7 +371,8 @@ def run_sweep(src: CaseSource, specs: Sequence[VarySpec], *, with_fe: bool = Tru
     from .executor import run_tasks
 
     t0 = time.perf_counter()
-    tasks = plan_sweep(src, specs, with_fe=with_fe, predictor=predictor, block=block)
+    tasks = plan_sweep(src, specs, with_fe=with_fe, predictor=predictor, block=block,
+                       names=names)
     base = make_case(src, {})
     if not with_fe and scheduler is None and workers is None:
         workers = 1  # the hand model is ms per point: processes would only cost

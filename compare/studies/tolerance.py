@@ -32,7 +32,7 @@ import logging
 import math
 import time
 from dataclasses import dataclass, field
-from typing import Callable, Sequence
+from typing import Callable, Mapping, Sequence
 
 import numpy as np
 
@@ -44,7 +44,7 @@ from ..reading.variants import CaseSource, make_case
 from ..design.units import UnitError, parse_quantity
 
 __all__ = ["nominal_value", "draw_samples", "SampleResult", "ToleranceResult", "run_tolerance",
-           "run_samples", "PERCENTILES"]
+           "CLI_OPTIONS", "run_samples", "PERCENTILES"]
 
 log = logging.getLogger(__name__)
 
@@ -78,11 +78,15 @@ def nominal_value(src: CaseSource, key: str, where: str) -> float:
         raise CaseError(where, node, str(exc)) from None
 
 
+CLI_OPTIONS: dict[str, str] = {"samples": "--samples", "fe_samples": "--fe-samples"}
+"""How ``magcheck tolerance`` names :func:`run_tolerance`'s parameters in messages."""
+
+
 def draw_samples(src: CaseSource, tolerances: Sequence[Tolerance], n: int, seed: int
                  ) -> list[dict[str, float]]:
     """``n`` settings dicts (key -> SI value), reproducible for a seed (see module doc)."""
     if n < 1:
-        raise CaseError("--samples", n, "must be at least 1")
+        raise CaseError("samples", n, "must be at least 1")
     if not tolerances:
         raise CaseError("tolerances", None, "the case declares no [[tolerances]]")
     from scipy.stats import truncnorm  # here: scipy.stats costs ~1 s to import
@@ -288,8 +292,11 @@ class ToleranceResult:
 
 def run_tolerance(src: CaseSource, *, samples: int, seed: int, fe_samples: int | None = None,
                   workers: int | None = None, scheduler: str | None = None,
-                  on_done: Callable[[int, int], None] | None = None) -> ToleranceResult:
-    """Run the Monte Carlo study of a case (see module doc).
+                  on_done: Callable[[int, int], None] | None = None,
+                  names: Mapping[str, str] | None = None) -> ToleranceResult:
+    """Run the Monte Carlo study of a case (see module doc).  ``names``: how
+    the caller's messages name ``fe_samples`` (:data:`CLI_OPTIONS` for the
+    command line; default that name).
 
     Raises
     ------
@@ -305,7 +312,8 @@ def run_tolerance(src: CaseSource, *, samples: int, seed: int, fe_samples: int |
     if fe_samples is None:
         fe_samples = samples
     if not 0 <= fe_samples <= samples:
-        raise CaseError("--fe-samples", fe_samples, f"must lie in [0, {samples}]")
+        raise CaseError((names or {}).get("fe_samples", "fe_samples"), fe_samples,
+                        f"must lie in [0, {samples}]")
     settings = draw_samples(src, base.tolerances, samples, seed)
     spec_of = {t.key: f"tolerances[{j}]" for j, t in enumerate(base.tolerances)}
     cases = [make_case(src, s, spec_of=spec_of) for s in settings]

@@ -334,7 +334,7 @@ def verify_source(src, case, stored: dict | None = None, *, use_baseline: bool =
         same = stored is not None and stored.get("case_sha256") in (None, "", case.sha256)
         items += _check_items(res, stored.get("agreement") if same and stored else None)
         for decl, specs in zip(case.sweeps, specs_per_sweep):
-            sw = run_sweep(src, specs, workers=1)
+            sw = run_sweep(src, specs, workers=1, names={"vary": "sweep.vary"})
             if not sw.converged:
                 bad = [p for p in sw.points if not p.converged]
                 raise RunError(f"sweep {', '.join(decl.vary)}: {len(bad)} point(s) failed; "

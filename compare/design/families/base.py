@@ -90,6 +90,10 @@ class Family(Protocol):
       depend on the case; ``required_parts(core)``: {part: why} that must.
     - ``check_case(case)``: checks across tables once the case is read
       (raises CaseError).
+    - ``no_gaps``: a family that takes no ``[[gaps]]`` (its working gaps are
+      ``[core]`` keys) says why in this string; the reader refuses a gap
+      with it and the JSON Schema refuses ``gaps`` (absent or "": gaps
+      are taken on ``limb_names``).
     - ``describe(core) -> [(key, text)]``: the report's input rows.
 
     A family with no ``winding_limbs`` draws its coils itself: a winding
@@ -125,16 +129,13 @@ class Family(Protocol):
 
 
 def check_stroke_case(case: Any, what: str) -> None:
-    """The checks of a family whose working gaps are its stroke: no
-    ``[[gaps]]``, and no hand refinement that needs a window core's limbs.
+    """The checks of a family whose working gaps are its stroke: no hand
+    refinement that needs a window core's limbs (its ``no_gaps`` refuses
+    ``[[gaps]]`` as they are read).
 
     Raises CaseError naming the key."""
     from ...errors import CaseError
 
-    if case.gaps:
-        raise CaseError("gaps[0].limb", case.gaps[0].limb,
-                        f"a {what}'s working gaps are its stroke ([core] stroke); it takes "
-                        "no [[gaps]]")
     for key, on in (("hand.leakage", case.hand.leakage),
                     ("hand.effective_parameters", case.hand.effective_parameters)):
         if on:

@@ -77,6 +77,10 @@ class HoldingMagnet:
     name: str = "holding-magnet"
     limb_names: tuple[str, ...] = ("pole",)
     winding_limbs: tuple[str, ...] = ("pole",)
+    no_gaps: str = ("a holding magnet's working gaps are its stroke ([core] stroke); "
+                    "it takes no [[gaps]]")
+    """Why the family takes no ``[[gaps]]`` (the reader refuses them with it; the
+    schema too)."""
     core_keys: tuple[str, ...] = ("radius", "wall", "base", "height", "pole_radius",
                                   "magnet_height", "keeper_thickness", "keeper_radius", "stroke")
     parts: tuple[str, ...] = ("keeper",)

@@ -119,6 +119,10 @@ class Plunger:
     name: str = "plunger"
     limb_names: tuple[str, ...] = ("plunger",)
     winding_limbs: tuple[str, ...] = ("plunger",)
+    no_gaps: str = ("a plunger solenoid's working gaps are its stroke ([core] stroke); "
+                    "it takes no [[gaps]]")
+    """Why the family takes no ``[[gaps]]`` (the reader refuses them with it; the
+    schema too)."""
     core_keys: tuple[str, ...] = ("radius", "shell", "plate", "length", "plunger_radius",
                                   "sliding_gap", "stop_length", "plunger_length", "stroke")
     parts: tuple[str, ...] = ("plunger",)

@@ -82,6 +82,10 @@ class PotCore:
     name: str = "pot-core"
     limb_names: tuple[str, ...] = ("post",)
     winding_limbs: tuple[str, ...] = ("post",)
+    no_gaps: str = ("a pot core's gap is [core] gap (in the centre post); "
+                    "it takes no [[gaps]]")
+    """Why the family takes no ``[[gaps]]`` (the reader refuses them with it; the
+    schema too)."""
     core_keys: tuple[str, ...] = ("radius", "wall", "post_radius", "hole_radius", "base",
                                   "height", "gap")
     parts: tuple[str, ...] = ()
@@ -116,10 +120,6 @@ class PotCore:
         return PotCoreDims(R, wall, r1, r0, base, height, gap)
 
     def check_case(self, case: Any) -> None:
-        if case.gaps:
-            raise CaseError("gaps[0].limb", case.gaps[0].limb,
-                            "a pot core's gap is [core] gap (in the centre post); it takes no "
-                            "[[gaps]]")
         for key, on in (("hand.leakage", case.hand.leakage),
                         ("hand.effective_parameters", case.hand.effective_parameters)):
             if on:

@@ -69,6 +69,10 @@ class UArmature:
     name: str = "u-armature"
     limb_names: tuple[str, ...] = ("left", "right")
     winding_limbs: tuple[str, ...] = ("left", "right")
+    no_gaps: str = ("a u-armature core's working gaps are its stroke ([core] stroke); "
+                    "it takes no [[gaps]]")
+    """Why the family takes no ``[[gaps]]`` (the reader refuses them with it; the
+    schema too)."""
     core_keys: tuple[str, ...] = ("leg_width", "window_width", "window_height", "yoke_width",
                                   "armature_thickness", "depth", "stroke")
     parts: tuple[str, ...] = ("armature",)

@@ -12,8 +12,8 @@ from ...models.hand import UNITS
 from ...outputs.output import (CAUTION, STDOUT_HELP, atomic_write_text, render_table, text_stream,
                                write_json)
 from ...outputs.serialize import sweep_csv
-from ...studies.sweep import (CURRENT_KEY, DEFAULT_BLOCK, PREDICTORS, SweepResult, case_source,
-                              parse_vary, run_sweep, sweep_margins, sweep_rows)
+from ...studies.sweep import (CLI_OPTIONS, CURRENT_KEY, DEFAULT_BLOCK, PREDICTORS, SweepResult,
+                              case_source, parse_vary, run_sweep, sweep_margins, sweep_rows)
 from ...design.units import format_si
 
 OUTPUTS = {"--csv": "file", "--json": "file", "--plots": "folder"}
@@ -168,7 +168,8 @@ def run(args: argparse.Namespace) -> int:
     with Progress("sweep") as bar:
         res = run_sweep(src, specs, with_fe=not args.hand_only, predictor=args.predictor,
                         block=args.block, workers=args.workers, scheduler=args.scheduler,
-                        on_done=bar)
+                        on_done=bar,
+                        names=CLI_OPTIONS if args.vary else {**CLI_OPTIONS, "vary": "sweep.vary"})
     margins, sat_table = sweep_margins(res, drops, kind)
     out = text_stream(args.csv, args.json)
     print_sweep(res, margins, sat_table, out)

@@ -88,12 +88,13 @@ def run(args: argparse.Namespace) -> int:
     if args.workers is not None and args.workers < 1:
         raise CaseError("--workers", args.workers, "must be at least 1")
     from ...studies.sweep import case_source
-    from ...studies.tolerance import run_tolerance
+    from ...studies.tolerance import CLI_OPTIONS, run_tolerance
 
     src, case = case_source(args.case, allow_large=args.allow_large)
     with Progress("tolerance") as bar:
         res = run_tolerance(src, samples=args.samples, seed=args.seed, fe_samples=args.fe_samples,
-                            workers=args.workers, scheduler=args.scheduler, on_done=bar)
+                            workers=args.workers, scheduler=args.scheduler, on_done=bar,
+                            names=CLI_OPTIONS)
     out = text_stream(args.json)
     print_tolerance(res, out)
     if args.json:
