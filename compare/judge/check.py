@@ -702,6 +702,8 @@ def ac_notes(case: Case, ac: Any) -> tuple[str, ...]:
     if ac is None:
         return ()
     c = case.winding.conductor
+    if c is None:
+        return ()
     notes = [f"AC winding: {c.layers} layers of {c.kind} at {ac.frequency / 1e3:.4g} kHz, skin "
              f"depth {ac.skin_depth * 1e3:.3g} mm at {c.temperature:g} degC, h/delta "
              f"{ac.delta_ratio:.3g} with porosity {ac.porosity:.3g}; the hand R_ac is Dowell's "

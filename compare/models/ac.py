@@ -51,6 +51,7 @@ from magcheck.analytic import winding_loss as wl
 
 from ..design.case import Case
 from ..design.coremodel import core_model
+from .acmesh import default_mesh_size, has_ac, surface_sizes
 
 __all__ = ["AC_KEYS", "ACResult", "has_ac", "hand_ac", "fe_ac", "run_ac", "surface_sizes",
            "default_mesh_size"]
@@ -61,42 +62,19 @@ AC_KEYS = ("R_dc", "R_ac", "R_ac_ratio", "winding_loss", "L_ac")
 UNITS = {"R_dc": "ohm", "R_ac": "ohm", "R_ac_ratio": "", "winding_loss": "W", "L_ac": "H"}
 
 
-def has_ac(case: Case) -> bool:
-    """True when the case's first winding carries an AC current."""
-    return case.winding.ac is not None and case.winding.conductor is not None
-
-
-def surface_sizes(case: Case, refine: float = 1.0) -> tuple:
-    """MeshSettings.surface_sizes for the case's AC turns: delta / 2 within
-    3 delta of every turn's boundary at the case's frequency (copper at its
-    temperature), the size divided by ``refine``; () without AC."""
-    if not has_ac(case):
-        return ()
-    from magcheck.fem2d.harmonic import mesh_settings_for
-    from magcheck.fem2d.layout import MeshSettings
-
-    c = case.winding.conductor
-    sigma = c.conductivity
-    turns = {r: sigma for r, _ in core_model(case).coils[0].sides}
-    ms = mesh_settings_for(MeshSettings(), turns, case.winding.ac.frequency)
-    return tuple((n, s / refine, b) for n, s, b in ms.surface_sizes)
-
-
-def default_mesh_size(case: Case) -> float | None:
-    """The element size in the regions when ``[fe] mesh_size`` is not given
-    and the turns are drawn: a quarter of the smallest side of the core's
-    parts (the turns, far thinner, take the skin-depth band instead)."""
-    if case.fe.mesh_size is not None or not any(c.turn_regions for c in core_model(case).coils):
-        return case.fe.mesh_size
-    feats = [r.feature() for r in core_model(case).regions if r.kind not in ("gap", "coil")]
-    return min(feats) / 4.0 if feats else None
+def _parts(case: Case) -> tuple[Any, Any]:
+    """(conductor, ac) of the case's AC winding."""
+    w = case.winding
+    if w.conductor is None or w.ac is None:
+        raise ValueError(f"winding {w.name!r}: no [winding.conductor] and [winding.ac]")
+    return w.conductor, w.ac
 
 
 # ------------------------------------------------------------------ hand
 def _layer_offsets(case: Case) -> list[float]:
     """Distance of each layer's centre line from the limb face (m)."""
     w = case.winding
-    c = w.conductor
+    c, _ = _parts(case)
     base = w.inner + w.clearance
     return [base + k * (c.layer_build + c.layer_gap) + 0.5 * c.layer_build
             for k in range(c.layers)]
@@ -108,7 +86,7 @@ def hand_ac(case: Case, L_planar: float = math.nan, L_3d: float = math.nan) -> d
     "delta_ratio", "porosity"}.  ``L_planar``, ``L_3d``: the hand model's
     incremental inductance at the DC current (H), the L_ac of each form."""
     w = case.winding
-    c, ac = w.conductor, w.ac
+    c, ac = _parts(case)
     limb = case.limbs[w.limb]
     rho = c.resistivity
     f = ac.frequency
@@ -148,7 +126,7 @@ def fe_ac(case: Case, sol: Any) -> dict[str, Any]:
     from magcheck.fem2d.harmonic import HarmonicProblem, SolidWinding, region_loss, winding_impedance
 
     w = case.winding
-    c, ac = w.conductor, w.ac
+    c, ac = _parts(case)
     coil = core_model(case).coils[0]
     sigma = c.conductivity
     t0 = time.perf_counter()
@@ -243,9 +221,10 @@ def run_ac(case: Case, fe: Any, hand_p: Any = None, hand_3d: Any = None) -> ACRe
     fv = fine["values"]
     fe3 = {k: fv[k] * ratio[k] for k in AC_KEYS}
     # the loss's 3D column from the 3D resistances (not one ratio of the total)
+    _, ac = _parts(case)
     fe3["winding_loss"] = (case.winding.current ** 2 * fe3["R_dc"]
-                           + 0.5 * case.winding.ac.current ** 2 * fe3["R_ac"])
-    return ACResult(case.winding.ac.frequency, case.winding.ac.current, case.winding.current,
+                           + 0.5 * ac.current ** 2 * fe3["R_ac"])
+    return ACResult(ac.frequency, ac.current, case.winding.current,
                     hand=hp, hand_3d=h3, fe=dict(fv), fe_3d=fe3, uncertainty=unc,
                     hand_layers=h["layer_loss"], fe_layers=fine["layer_loss"],
                     fe_layers_uncertainty=lunc, side_loss=fine["side_loss"],

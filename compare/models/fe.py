@@ -54,7 +54,7 @@ def case_layout(case: Case, *, refine: float = 1.0) -> Layout:
     kind = "rz-disk" if model.axisymmetric else "disk"
     air = (AirBox(kind, factor=fe.air_extent, open=True) if fe.boundary == "open"
            else AirBox("rz-box" if model.axisymmetric else "box", factor=fe.air_extent))
-    from .ac import default_mesh_size, surface_sizes
+    from .acmesh import default_mesh_size, surface_sizes
 
     layout = Layout(model.regions, air=air,
                     mesh=MeshSettings(size=default_mesh_size(case),
@@ -476,7 +476,7 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
                 for k, v in fine.magnet_values.items()})
     fine = _with_virtual_work(case, fine, sol)
     unc["force_virtual_work"] = unc.get("force", math.nan)
-    from .ac import has_ac
+    from .acmesh import has_ac
 
     return FEResult(fine, coarse, unc, sol, samples,
                     solutions=(sol0, coarse_sol, sol) if has_ac(case) else ())

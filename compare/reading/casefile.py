@@ -147,10 +147,10 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     _check_gap_overlap(gaps)
     windings = _read_windings(root, family, limbs)
     if len(windings) > 1:
-        for k, w in enumerate(windings):
-            if w.conductor is not None or w.ac is not None:
-                raise CaseError(f"windings[{k}].{'conductor' if w.conductor else 'ac'}",
-                                w.name, "turns drawn one by one and an AC current are "
+        for k, wd in enumerate(windings):
+            if wd.conductor is not None or wd.ac is not None:
+                raise CaseError(f"windings[{k}].{'conductor' if wd.conductor else 'ac'}",
+                                wd.name, "turns drawn one by one and an AC current are "
                                 "supported on a case of one winding for now")
     materials = _read_materials(root.table("materials"), base_dir, family, core)
     hand = _read_hand(root.table("hand", {}))

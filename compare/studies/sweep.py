@@ -37,7 +37,7 @@ from magcheck.analytic.bh import scale_law  # noqa: F401 (re-exported)
 
 from ..design.case import Case
 from ..errors import CaseError, RunError
-from ..models.ac import has_ac
+from ..models.acmesh import has_ac
 from ..models.hand import FORCE_KEYS, HAND_KEYS, run_hand
 from ..design.keys import CURRENT_KEY, VarySpec, key_dimension, parse_key, parse_vary, resolve_vary
 from ..reading.variants import CaseSource, case_source, make_case
