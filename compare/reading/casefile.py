@@ -96,6 +96,10 @@ def load_case(path: str | Path) -> Case:
 
 
 MAX_TURNS = 1_000_000
+MIN_COIL_SIZE = 1e-6
+"""Smallest coil thickness and length (m): a 1 um coil is already no coil
+(the plausibility warning starts at 0.1 mm), and a far smaller one gives
+coil rectangles of zero width once added to the core's coordinates."""
 TURNS_WHY = " (a winding of more turns is no wound component; common practice, no source)"
 
 MIN_FE_TOL = 1e-10
@@ -547,6 +551,11 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
                             f"winding does not fit the window: coil length {length * 1e3:g} mm "
                             f"is more than the {limb.span * 1e3:g} mm window height along the "
                             f"{limb_name} limb (the coil would overlap the core)")
+    for key, v in (("thickness", thickness), ("length", length)):
+        if v < MIN_COIL_SIZE:  # a coil side thinner has no area in double precision
+            k = key if t.has(key) or not t.has("fill") else "fill"
+            raise CaseError(t.key(k), t.raw(k), f"gives a coil {key} of {v:.4g} m: it must be at "
+                            f"least {MIN_COIL_SIZE * 1e6:g} um")
     conductor = ac = None
     if t.has("conductor"):
         if not getattr(family, "turn_by_turn", False):
