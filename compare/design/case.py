@@ -185,6 +185,10 @@ class Margins:
     inrush_current_peak: float | None = None
     """Maximum first peak of the inrush current estimate (A; the driven
     winding's ``residual_flux`` given)."""
+    winding_loss: float | None = None
+    """Maximum winding loss of an AC winding, DC + AC (W; judged on the FE)."""
+    resistance_ratio: float | None = None
+    """Maximum R_ac/R_dc of an AC winding (judged on the FE)."""
 
     def agreement_limit(self, key: str, default: float | None) -> float | None:
         return dict(self.agreement).get(key, default)

@@ -27,7 +27,8 @@ from magcheck.analytic.fringing import FRINGING_MODELS
 __all__ = ["Key", "Spec", "UndeclaredKey", "quantity", "number", "integer", "string", "boolean",
            "table", "tables", "listof", "oneof", "lengths", "ROOT", "ROOT_KEYS", "CORE_COMMON",
            "AGREEMENT_KEYS", "INDUCTANCE_KINDS", "DISTRIBUTIONS", "FE_BOUNDARIES",
-           "WINDING_KEYS", "MATERIAL", "child", "check_read"]
+           "WINDING_KEYS", "CONDUCTOR_KEYS", "AC_KEYS", "CONDUCTOR_KINDS", "CONDUCTOR_MATERIALS",
+           "MATERIAL", "child", "check_read"]
 
 
 class UndeclaredKey(LookupError):
@@ -112,7 +113,7 @@ AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductan
                   "incremental_inductance", "energy", "force", "force_pull", "B_peak",
                   "magnetizing_current_peak", "magnetizing_current_rms",
                   "magnetizing_inductance", "leakage_inductance", "inrush_current_peak",
-                  "B_limb_peak")
+                  "B_limb_peak", "R_dc", "R_ac", "R_ac_ratio", "winding_loss", "L_ac")
 """The quantities a ``[margins.agreement]`` limit (percent) may name."""
 
 INDUCTANCE_KINDS = ("secant", "incremental")
@@ -132,6 +133,36 @@ GAP = {"limb": string("the limb the gap crosses"),
        "position": quantity("length", "the gap centre along the limb's straight part "
                                       "(default: its middle)")}
 
+CONDUCTOR_KINDS = ("foil", "round")
+CONDUCTOR_MATERIALS = ("copper", "aluminium")
+
+CONDUCTOR_KEYS: dict[str, Key] = {
+    "kind": string("foil (one turn per layer) or round wire", CONDUCTOR_KINDS),
+    "thickness": quantity("length", "foil: its thickness across the coil build"),
+    "width": quantity("length", "foil: its width along the limb"),
+    "diameter": quantity("length", "round wire: the bare copper diameter"),
+    "insulation": quantity("length", "round wire: the enamel build per side (default 0)"),
+    "layers": integer("layers across the coil build, the first on the limb side"),
+    "turns_per_layer": integer("round wire: turns side by side along the limb (foil: 1)"),
+    "layer_gap": quantity("length", "insulation between layers (foil: required)"),
+    "material": string("copper (default) or aluminium: the resistivity and its temperature "
+                       "coefficient at 20 degC", CONDUCTOR_MATERIALS),
+    "resistivity": quantity("resistivity", "resistivity at reference_temperature (ohm*m), "
+                                           "instead of the material's"),
+    "temperature_coefficient": number("of the resistivity at reference_temperature, 1/K"),
+    "reference_temperature": number("where resistivity and temperature_coefficient hold, "
+                                    "degC (default 20)"),
+    "temperature": number("the conductor's operating temperature, degC (default 20)"),
+}
+"""``[winding.conductor]``: the winding drawn turn by turn (window-core family)."""
+
+AC_KEYS: dict[str, Key] = {
+    "frequency": quantity("frequency", "of the sinusoidal current"),
+    "current": quantity("current", "the sinusoidal current's amplitude, peak (on top of the "
+                                   "winding's DC current)"),
+}
+"""``[winding.ac]``: a sinusoidal current on top of the winding's DC ``current``."""
+
 WINDING_KEYS: dict[str, Key] = {
     "name": string("the winding's name (default main, or w1, w2, ...)"),
     "limb": string("the limb it is wound on"),
@@ -148,6 +179,10 @@ WINDING_KEYS: dict[str, Key] = {
                    "thickness and length)"),
     "thickness": quantity("length", "the coil's build across the window"),
     "length": quantity("length", "the coil's length along the limb"),
+    "conductor": table(CONDUCTOR_KEYS, "the conductor drawn turn by turn (foil or round "
+                                       "wire) in the coil space"),
+    "ac": table(AC_KEYS, "a sinusoidal current on top of the DC current: AC resistance, "
+                         "winding loss, AC inductance"),
 }
 
 MATERIAL_TABLE = {"mu_r": number("a linear material's relative permeability"),
@@ -189,6 +224,8 @@ MARGINS = {
                                                    "current"),
     "inrush_current_peak": quantity("current", "largest inrush current estimate"),
     "copper_fill": number("copper fraction of the coil area, for the current density"),
+    "winding_loss": quantity("power", "AC winding: largest allowed winding loss (DC + AC)"),
+    "resistance_ratio": number("AC winding: largest allowed R_ac/R_dc"),
     "inductance": tables({"at": quantity("current", "the current the limit holds at"),
                           "min": quantity("inductance"), "max": quantity("inductance"),
                           "kind": string("", INDUCTANCE_KINDS)}, "inductance limits"),

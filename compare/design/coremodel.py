@@ -27,7 +27,7 @@ from magcheck.analytic.network import MagnetBranch
 from magcheck.fem2d.layout import Region
 from magcheck.fem2d.sources import Magnet
 
-from .geometry import Limb, coil_rects, gap_rect
+from .geometry import Limb, coil_rects, gap_rect, turn_rects
 
 
 __all__ = ["CoreModel", "CoilModel", "GapLine", "HandCircuit", "CircuitSegment", "CircuitGap",
@@ -64,6 +64,12 @@ class CoilModel:
 
     sides: tuple[tuple[str, int], ...]
     area: float
+    turn_regions: bool = False
+    """True when each side region is one turn (a winding drawn turn by turn,
+    ``[winding.conductor]``): each carries the current once, not N times;
+    ``area`` is then the copper of the go turns."""
+    layers: tuple[tuple[str, int], ...] = ()
+    """With ``turn_regions``: (region, layer number, 1 next to the limb)."""
 
     @property
     def go(self) -> tuple[str, ...]:
@@ -291,8 +297,20 @@ def _limb_model(case: Any) -> CoreModel:
         gap_names.append(f"gap{i}")
     coils = []
     for k, w in enumerate(case.windings):
-        plus, minus = coil_rects(limbs[w.limb], w)
         p_name, m_name = coil_regions(k)
+        if w.conductor is not None:  # the turns one by one: solid conductors in series
+            sides, layers = [], []
+            for side_name, sign, turns in zip((p_name, m_name), (1, -1),
+                                              turn_rects(limbs[w.limb], w)):
+                for layer, turn, rect in turns:
+                    name = f"{side_name}L{layer}T{turn}"
+                    regions.append(Region(name, (rect,), material="air", kind="coil"))
+                    sides.append((name, sign))
+                    layers.append((name, layer))
+            coils.append(CoilModel(tuple(sides), w.turns * w.conductor.area, turn_regions=True,
+                                   layers=tuple(layers)))
+            continue
+        plus, minus = coil_rects(limbs[w.limb], w)
         regions.append(Region(p_name, (plus,), material="air", kind="coil"))
         regions.append(Region(m_name, (minus,), material="air", kind="coil"))
         coils.append(CoilModel(((p_name, 1), (m_name, -1)), w.thickness * w.length))

@@ -12,9 +12,12 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+import math
+
 from magcheck.fem2d.layout import Rect
 
-__all__ = ["Limb", "Gap", "WindingSpec", "Rect", "gap_rect", "coil_rects", "flux_direction"]
+__all__ = ["Limb", "Gap", "WindingSpec", "ConductorSpec", "ACSpec", "Rect", "gap_rect",
+           "coil_rects", "flux_direction", "turn_rects"]
 
 
 @dataclass(frozen=True)
@@ -106,6 +109,95 @@ class Gap:
 
 
 @dataclass(frozen=True)
+class ConductorSpec:
+    """The conductor of a winding drawn turn by turn (``[winding.conductor]``).
+
+    kind : "foil" (one turn per layer, a strip ``thickness`` thick across the
+        build and ``width`` along the limb) or "round" (wire of bare
+        ``diameter``, enamel ``insulation`` build per side, ``turns_per_layer``
+        along the limb).
+    layers : layers across the coil build, the first on the limb side.
+    layer_gap : insulation between successive layers (m).
+    rho_ref, alpha, t_ref : resistivity (ohm m) and its temperature
+        coefficient (1/K) at the reference temperature t_ref (degC);
+        temperature : the operating temperature (degC).
+    """
+
+    kind: str
+    layers: int
+    turns_per_layer: int
+    thickness: float = 0.0
+    width: float = 0.0
+    diameter: float = 0.0
+    insulation: float = 0.0
+    layer_gap: float = 0.0
+    material: str = "copper"
+    rho_ref: float = 1.724e-8
+    alpha: float = 0.00393
+    t_ref: float = 20.0
+    temperature: float = 20.0
+
+    @property
+    def turns(self) -> int:
+        return self.layers * self.turns_per_layer
+
+    @property
+    def side(self) -> float:
+        """Side of the drawn square of one round turn (m): the equal-area square
+        sqrt(pi)/2 d (Dowell's equivalent conductor); a foil's thickness."""
+        return self.thickness if self.kind == "foil" else math.sqrt(math.pi) / 2.0 * self.diameter
+
+    @property
+    def area(self) -> float:
+        """Copper cross-section of one turn (m^2)."""
+        if self.kind == "foil":
+            return self.thickness * self.width
+        return math.pi / 4.0 * self.diameter ** 2
+
+    @property
+    def layer_build(self) -> float:
+        """One layer's build across the coil (m): the foil, or the insulated wire."""
+        return self.thickness if self.kind == "foil" else self.diameter + 2.0 * self.insulation
+
+    @property
+    def pitch(self) -> float:
+        """Turn pitch along the limb (m): the insulated wire's diameter (foil: its width)."""
+        return self.width if self.kind == "foil" else self.diameter + 2.0 * self.insulation
+
+    @property
+    def build(self) -> float:
+        """The layers' total build across the coil space (m)."""
+        return self.layers * self.layer_build + (self.layers - 1) * self.layer_gap
+
+    @property
+    def height(self) -> float:
+        """The layers' extent along the limb (m)."""
+        return self.width if self.kind == "foil" else self.turns_per_layer * self.pitch
+
+    @property
+    def resistivity(self) -> float:
+        """rho(T) = rho_ref (1 + alpha (T - t_ref)) (ohm m; the linear law of
+        IEC 60028 for copper, from memory)."""
+        return self.rho_ref * (1.0 + self.alpha * (self.temperature - self.t_ref))
+
+    @property
+    def conductivity(self) -> float:
+        return 1.0 / self.resistivity
+
+
+@dataclass(frozen=True)
+class ACSpec:
+    """A sinusoidal current on a winding (``[winding.ac]``), on top of its DC
+    ``current`` (the operating point).
+
+    frequency : Hz.  current : the sinusoid's amplitude, peak (A).
+    """
+
+    frequency: float
+    current: float
+
+
+@dataclass(frozen=True)
 class WindingSpec:
     """A winding around one limb, as the case gives it (the network's MMF
     source is :class:`analytic.network.Winding`, the field model's
@@ -155,6 +247,10 @@ class WindingSpec:
     """Series resistance of the driven winding and its source (ohm): damps the
     inrush estimate (None: undamped, an upper bound).  The magnetizing
     current neglects it."""
+    conductor: ConductorSpec | None = None
+    """The conductor drawn turn by turn (None: the coil is a uniform block)."""
+    ac: ACSpec | None = None
+    """A sinusoidal current on top of ``current`` (None: DC only)."""
 
     @property
     def driven(self) -> bool:
@@ -195,3 +291,40 @@ def coil_rects(limb: Limb, winding: WindingSpec) -> tuple[Rect, Rect]:
     plus = limb.rect(a0, a1, limb.c1 + c, limb.c1 + c + t)
     minus = limb.rect(a0, a1, limb.c0 - c - t, limb.c0 - c)
     return plus, minus
+
+
+def turn_rects(limb: Limb, winding: WindingSpec) -> tuple[tuple[tuple[int, int, Rect], ...],
+                                                          tuple[tuple[int, int, Rect], ...]]:
+    """The turns of a winding with a :class:`ConductorSpec`, on both coil
+    sides: (plus side, minus side), each a tuple of (layer, turn, rect), layer
+    1 next to the limb, turn 1 at the limb's ``lo`` end.
+
+    Layers stack outward from ``inner + clearance`` off the limb's face,
+    ``layer_gap`` apart; along the limb the layer is centred on the limb's
+    straight part (as the coil of :func:`coil_rects`).  A foil layer is one
+    rect ``thickness`` x ``width``; a round wire is drawn as its equal-area
+    square (side sqrt(pi)/2 d, Dowell's equivalent conductor) centred in its
+    insulated pitch: the field solution then tests the hand model's field
+    assumptions (the gap's fringing field, the 2D ends) on the conductor
+    the hand model itself uses, and straight edges mesh a skin-depth band
+    far more cheaply than circles.
+    """
+    c = winding.conductor
+    if c is None:
+        raise ValueError("turn_rects: the winding has no conductor")
+    mid = 0.5 * (limb.lo + limb.hi)
+    start = mid - 0.5 * c.height
+    base = winding.inner + winding.clearance
+    plus, minus = [], []
+    for i in range(c.layers):
+        t0 = base + i * (c.layer_build + c.layer_gap) + 0.5 * (c.layer_build - c.side)
+        t1 = t0 + c.side
+        for j in range(c.turns_per_layer):
+            if c.kind == "foil":
+                a0, a1 = start, start + c.width
+            else:
+                centre = start + (j + 0.5) * c.pitch
+                a0, a1 = centre - 0.5 * c.side, centre + 0.5 * c.side
+            plus.append((i + 1, j + 1, limb.rect(a0, a1, limb.c1 + t0, limb.c1 + t1)))
+            minus.append((i + 1, j + 1, limb.rect(a0, a1, limb.c0 - t1, limb.c0 - t0)))
+    return tuple(plus), tuple(minus)

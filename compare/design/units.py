@@ -44,13 +44,15 @@ DIMENSIONS: dict[str, Dimension] = {
     "voltage": (2, 1, -3, -1),
     "frequency": (0, 0, -1, 0),
     "resistance": (2, 1, -3, -2),
+    "resistivity": (3, 1, -3, -2),
+    "power": (2, 1, -3, 0),
 }
 
 SI_UNIT: dict[str, str] = {
     "dimensionless": "", "length": "m", "area": "m^2", "current": "A", "flux density": "T",
     "field strength": "A/m", "inductance": "H", "flux": "Wb", "current density": "A/m^2",
     "energy": "J", "force": "N", "time": "s", "voltage": "V", "frequency": "Hz",
-    "resistance": "ohm",
+    "resistance": "ohm", "resistivity": "ohm m", "power": "W",
 }
 """The SI unit each dimension is printed in (with an engineering prefix, format_si)."""
 
@@ -74,6 +76,7 @@ _UNITS: dict[str, tuple[float, Dimension]] = {
     "Hz": (1.0, DIMENSIONS["frequency"]),
     "ohm": (1.0, DIMENSIONS["resistance"]),
     "Ω": (1.0, DIMENSIONS["resistance"]),
+    "W": (1.0, DIMENSIONS["power"]),
 }
 
 _PREFIXES: dict[str, float] = {

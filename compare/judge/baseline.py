@@ -62,7 +62,11 @@ def snapshot(res: CheckResult) -> dict:
     # with a moving part, its forces (N): hand force and force_pull, FE force,
     # force_maxwell and force_virtual_work
     fv = res.fe.fine.force_values
-    return {
+    ac = getattr(res, "ac", None)
+    # an AC winding (compare.models.ac): its hand (planar form) and FE values
+    extra = ({"ac": {"hand_planar": dict(ac.hand), "hand": dict(ac.hand_3d), "fe": dict(ac.fe),
+                     "fe_uncertainty": dict(ac.uncertainty)}} if ac is not None else {})
+    return extra | {
         "hand": {k: res.hand_3d.values()[k] for k in HAND_KEYS} | hw | res.hand_3d.force_values,
         "hand_planar": ({k: res.hand_planar.values()[k] for k in HAND_KEYS} | hpw
                         | res.hand_planar.force_values),
@@ -157,6 +161,21 @@ def drift(current: dict, stored: dict) -> list[Drift]:
             tol = fe_tol(k if block != "margins" else "", s)
             if not _close(c, s, tol):
                 out.append(Drift(block, k, s, c, tol))
+    sac, cac = stored.get("ac"), current.get("ac") or {}
+    if sac is not None:  # an AC winding: hand as the hand blocks, FE within its uncertainty
+        for block in ("hand_planar", "hand"):
+            for k, s in sac[block].items():
+                c = cac.get(block, {}).get(k)
+                if not _close(c, s, HAND_RTOL * abs(s) if s is not None else 0.0):
+                    out.append(Drift(f"ac.{block}", k, s, c, HAND_RTOL))
+        for k, s in sac["fe"].items():
+            u = sac.get("fe_uncertainty", {}).get(k)
+            u = u if u is not None and math.isfinite(u) else 0.0
+            mag = abs(s or 0.0)
+            tol = max(FE_RTOL_FLOOR * mag, min(2.0 * u, FE_UNC_CAP * mag))
+            c = cac.get("fe", {}).get(k)
+            if not _close(c, s, tol):
+                out.append(Drift("ac.fe", k, s, c, tol))
     ref = stored.get("fe", {})
     for k, s in unc.items():
         c = current.get("fe_uncertainty", {}).get(k)

@@ -57,6 +57,11 @@ DEFAULT_LIMITS: dict[str, float] = {
     # a magnet's operating point: B on its recoil line moves little with the
     # load, H much more (common practice, no source)
     "magnet_B": 10.0, "magnet_H": 30.0,
+    # an AC winding (compare.models.ac).  R_dc: the same formula on the same
+    # drawn turns, so only the mesh's area error may part them; Dowell's 1D
+    # layer formula is held to 15 % on R_ac, R_ac/R_dc and the loss, L_ac as
+    # the incremental inductance it stands for (common practice, no source)
+    "R_dc": 1.0, "R_ac": 15.0, "R_ac_ratio": 15.0, "winding_loss": 15.0, "L_ac": 20.0,
 }
 
 LABELS = {
@@ -75,6 +80,8 @@ LABELS = {
     "magnetizing_inductance": "magnetizing inductance (fundamental)",
     "leakage_inductance": "leakage inductance",
     "inrush_current_peak": "inrush current, first peak (estimate)",
+    "R_dc": "winding R_dc", "R_ac": "winding R_ac", "R_ac_ratio": "R_ac/R_dc",
+    "winding_loss": "winding loss (DC + AC)", "L_ac": "AC inductance",
 }
 
 # Quantities that scale with the gap permeance, and so take the depth-fringing factor.
@@ -159,6 +166,8 @@ class CheckResult:
     """compare.judge.breakdown.Step per refinement, in order (the difference breakdown)."""
     drive: Any = None
     """compare.models.drive.DriveResult of a voltage-driven case (None otherwise)."""
+    ac: Any = None
+    """compare.models.ac.ACResult of a case with an AC winding (None otherwise)."""
     leakage: dict = field(default_factory=dict)
     """Two concentric windings: {"hand": L_s, "fe": L_s} referred to the first (H)."""
     depth: Any = None
@@ -649,6 +658,72 @@ def drive_rows(case: Case, drive: Any, depth: DepthCorrection | None = None) -> 
                        math.nan, math.nan, None, "pass" if value <= limit else "FAIL",
                        limit_value=limit, margin_pct=margin, limit_kind="max"))
     return out
+
+
+def ac_rows(case: Case, ac: Any) -> list[Row]:
+    """An AC winding (compare.models.ac): R_dc, R_ac, R_ac/R_dc, winding loss
+    (DC + AC) and L_ac, hand (planar form: the turns' sides in the stack
+    depth) against the planar FE with its three-mesh uncertainty; the 3D
+    columns with the mean turn lengths (hand) and the FE times the hand's
+    3D / planar ratio; the AC loss per layer (info); and the margins
+    winding_loss and resistance_ratio (maxima, judged on the FE 3D value;
+    R_ac/R_dc on the FE's)."""
+    from ..models.ac import AC_KEYS, UNITS as AC_UNITS
+    from .margins import ac_margins
+
+    out = []
+    f_khz = ac.frequency / 1e3
+    for k in AC_KEYS:
+        h, f, u = ac.hand[k], ac.fe[k], ac.uncertainty.get(k, math.nan)
+        d = _diff_pct(h, f)
+        lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
+        scale = ac.fe_3d[k] / f if f else math.nan
+        label = LABELS[k] + ("" if k in ("R_dc",) else f" at {f_khz:.4g} kHz")
+        out.append(Row(k, label, AC_UNITS[k], h, f, u, d, lim, _verdict(d, h, f, u, lim),
+                       hand_3d=ac.hand_3d[k], fe_3d=ac.fe_3d[k],
+                       fe_3d_uncertainty=u * abs(scale) if math.isfinite(scale) else math.nan))
+    for j, (h, f) in enumerate(zip(ac.hand_layers, ac.fe_layers), start=1):
+        u = ac.fe_layers_uncertainty[j - 1]
+        d = _diff_pct(h, f)
+        where = " (next to the limb)" if j == 1 else ""
+        out.append(Row(f"layer_loss:{j}", f"AC loss, layer {j}{where}", "W", h, f,
+                       u, d, None, _verdict(d, h, f, u, None)))
+    fe3 = {**ac.fe_3d, "R_ac_ratio": ac.fe["R_ac_ratio"]}
+    h3 = {**ac.hand_3d, "R_ac_ratio": ac.hand["R_ac_ratio"]}
+    for r in ac_margins(case, fe3, h3):
+        out.append(Row(f"margin:{r.key}", f"{r.label}, max", r.unit, r.hand, r.value, math.nan,
+                       math.nan, None, r.verdict, limit_value=r.limit,
+                       margin_pct=r.margin_pct, limit_kind=r.kind))
+    return out
+
+
+def ac_notes(case: Case, ac: Any) -> tuple[str, ...]:
+    """What the hand AC model cannot see, and how far the FE's loss lies above it."""
+    if ac is None:
+        return ()
+    c = case.winding.conductor
+    if c is None:
+        return ()
+    notes = [f"AC winding: {c.layers} layers of {c.kind} at {ac.frequency / 1e3:.4g} kHz, skin "
+             f"depth {ac.skin_depth * 1e3:.3g} mm at {c.temperature:g} degC, h/delta "
+             f"{ac.delta_ratio:.3g} with porosity {ac.porosity:.3g}; the hand R_ac is Dowell's "
+             "1D layer formula (zero MMF at the limb face), which cannot see the gap's fringing "
+             "field crossing the winding, the 2D ends of layers short of the window height, or "
+             "the coil side outside the window (no iron beyond it); the FE solves the turns one "
+             "by one about the DC operating point (small ripple, no hysteresis). Hand and FE "
+             "are per stack depth; the 3D columns add the end turns at the mean turn length "
+             "with the same R_ac/R_dc."]
+    dl = [f - h for h, f in zip(ac.hand_layers, ac.fe_layers)]
+    if dl and ac.fe["R_ac"] > 1.15 * ac.hand["R_ac"]:
+        j = max(range(len(dl)), key=dl.__getitem__)
+        extra = 0.5 * ac.current_ac ** 2 * (ac.fe["R_ac"] - ac.hand["R_ac"])
+        notes.append(f"The FE's AC loss is {ac.fe['R_ac'] / ac.hand['R_ac']:.3g} x Dowell's: "
+                     f"{extra:.3g} W (planar) the hand model misses, most in layer {j + 1} "
+                     f"({ac.fe_layers[j]:.3g} W against {ac.hand_layers[j]:.3g} W by hand)"
+                     + (": the gap's fringing field crosses the winding beside it."
+                        if case.gaps and any(g.limb == case.winding.limb for g in case.gaps)
+                        else "."))
+    return tuple(notes)
 
 
 def depth_factor(case: Case) -> float:
@@ -1157,7 +1232,15 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
     leakage = leakage_values(case, fe)
     if leakage:
         rows = rows + (leakage_row(case, leakage),)
-    notes = explain(case, rows, hand_p, fe, depth)
+    ac = None
+    from ..models.ac import has_ac
+
+    if has_ac(case):
+        from ..models.ac import run_ac
+
+        ac = run_ac(case, fe, hand_p, hand_3d)
+        rows = rows + tuple(ac_rows(case, ac))
+    notes = explain(case, rows, hand_p, fe, depth) + ac_notes(case, ac)
     ranking = full_ranking if all_fringing else ()
     from .breakdown import difference_breakdown
 
@@ -1170,7 +1253,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
                        timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
                                 "total": t3 - t0},
                        fringing_ranking=ranking, breakdown=breakdown, drive=drive,
-                       leakage=leakage, depth=depth)
+                       leakage=leakage, depth=depth, ac=ac)
 
 
 def dataframe(records: list[dict], index: str | None = None) -> Any:

@@ -117,6 +117,10 @@ def check_json(res: Any, agreement: str = "fatal") -> dict:
         planar_block.update(res.drive.to_dict("hand"))
         fe_block.update(res.drive.to_dict("fe"))
         fe_block["uncertainty"].update({k: v for k, v in res.drive.uncertainty.items()})
+    if getattr(res, "ac", None) is not None:  # an AC winding (compare.models.ac): hand.ac, fe.ac
+        hand_block.update(res.ac.to_dict("hand"))
+        planar_block.update(res.ac.to_dict("hand_planar"))
+        fe_block.update(res.ac.to_dict("fe"))
     for block in (hand_block, planar_block, fe_block):  # k_jk = L_jk / sqrt(L_jj L_kk)
         lm = [[math.nan if v is None else v for v in row] for row in block["inductance_matrix"]]
         block["coupling"] = [[v if math.isfinite(v) else None for v in row]

@@ -33,7 +33,7 @@ import numpy as np
 from ..design.case import Case, with_current
 from ..models.hand import HandResult, run_hand
 
-__all__ = ["MarginResult", "current_density", "inductance_of",
+__all__ = ["MarginResult", "current_density", "inductance_of", "ac_margins",
            "saturation_from_curve", "hand_saturation_current", "DEFAULT_DROPS",
            "curve_saturation", "curve_margins", "stroke_margins", "sweep_demagnetisation"]
 
@@ -540,3 +540,21 @@ def curve_margins(case: Case, cs: Sequence[tuple[dict, list[Any]]], with_fe: boo
                 "max", m.peak_B, value, hand=h, basis="FE",
                 note="" if math.isfinite(value) else "case current outside the swept range"))
     return margins, table
+
+
+def ac_margins(case: Case, fe_values: dict, hand_values: dict) -> list[MarginResult]:
+    """The AC winding's margins (``[margins] winding_loss``, W, DC + AC; and
+    ``resistance_ratio``, R_ac/R_dc), maxima judged on the FE's values
+    (compare.models.ac: the depth-corrected ones for the loss), the hand
+    model's beside them."""
+    m = case.margins
+    out = []
+    if m.winding_loss is not None:
+        out.append(MarginResult("winding_loss", "winding loss (DC + AC)", "W", "max",
+                                m.winding_loss, fe_values.get("winding_loss", math.nan),
+                                hand=hand_values.get("winding_loss", math.nan)))
+    if m.resistance_ratio is not None:
+        out.append(MarginResult("R_ac_ratio", "R_ac/R_dc", "", "max", m.resistance_ratio,
+                                fe_values.get("R_ac_ratio", math.nan),
+                                hand=hand_values.get("R_ac_ratio", math.nan)))
+    return out

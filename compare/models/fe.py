@@ -55,8 +55,11 @@ def case_layout(case: Case, *, refine: float = 1.0) -> Layout:
     kind = "rz-disk" if model.axisymmetric else "disk"
     air = (AirBox(kind, factor=fe.air_extent, open=True) if fe.boundary == "open"
            else AirBox("rz-box" if model.axisymmetric else "box", factor=fe.air_extent))
+    from .acmesh import default_mesh_size, surface_sizes
+
     layout = Layout(model.regions, air=air,
-                    mesh=MeshSettings(size=case.fe.mesh_size,
+                    mesh=MeshSettings(size=default_mesh_size(case),
+                                      surface_sizes=surface_sizes(case, refine),
                                       gap_elements=math.ceil(case.fe.gap_elements * refine - 1e-9),
                                       order=case.fe.order),
                     depth=model.depth)
@@ -102,6 +105,9 @@ class FEResult:
     uncertainty: dict[str, float]
     solution: FieldSolution = field(repr=False, compare=False)
     path: Any = field(repr=False, compare=False, default=None)
+    solutions: tuple = field(repr=False, compare=False, default=())
+    """An AC case (compare.models.ac): the static solutions of the three
+    meshes, coarsest first (the operating points of its harmonic solves)."""
 
     @property
     def values(self) -> dict[str, float]:
@@ -358,7 +364,8 @@ def winding_sources(case: Case) -> Sources:
     """The case's windings as fem2d coils (CoreModel.coils, in winding order),
     and its permanent magnets."""
     model = core_model(case)
-    return Sources(coils=tuple(Coil(coil_name(k), c.sides, turns=w.turns)
+    # a winding drawn turn by turn: each region is one turn (turns=1 per region)
+    return Sources(coils=tuple(Coil(coil_name(k), c.sides, turns=1 if c.turn_regions else w.turns)
                                for k, (w, c) in enumerate(zip(case.windings, model.coils))),
                    magnets=model.magnets)
 
@@ -481,7 +488,10 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
                 for k, v in fine.magnet_values.items()})
     fine = _with_virtual_work(case, fine, sol)
     unc["force_virtual_work"] = unc.get("force", math.nan)
-    return FEResult(fine, coarse, unc, sol, samples)
+    from .acmesh import has_ac
+
+    return FEResult(fine, coarse, unc, sol, samples,
+                    solutions=(sol0, coarse_sol, sol) if has_ac(case) else ())
 
 
 def _with_virtual_work(case: Case, q: FEQuantities, sol: FieldSolution) -> FEQuantities:

@@ -23,9 +23,10 @@ from ..design.case import (Case, FESettings, HandSettings, InductanceLimit, Marg
                            SaturationLimit, SweepDecl, TargetDecl, Tolerance, ForceLimit)
 from ..errors import CaseError, CaseWarning, RunError, format_value, warn
 from ..design.families import Family, get_family
-from ..design.geometry import Gap, Limb, WindingSpec, coil_rects
+from ..design.geometry import ACSpec, ConductorSpec, Gap, Limb, WindingSpec, coil_rects
 from ..design.keys import key_dimension, parse_key, parse_vary
-from ..design.casekeys import (AGREEMENT_KEYS, CORE_COMMON, DISTRIBUTIONS, INDUCTANCE_KINDS,
+from ..design.casekeys import (CONDUCTOR_KINDS, CONDUCTOR_MATERIALS,  # noqa: E501
+                               AGREEMENT_KEYS, CORE_COMMON, DISTRIBUTIONS, INDUCTANCE_KINDS,
                                ROOT, ROOT_KEYS, table)
 from ..design.reader import TableReader
 
@@ -94,6 +95,10 @@ def load_case(path: str | Path) -> Case:
 
 
 MAX_TURNS = 1_000_000
+MIN_COIL_SIZE = 1e-6
+"""Smallest coil thickness and length (m): a 1 um coil is already no coil
+(the plausibility warning starts at 0.1 mm), and a far smaller one gives
+coil rectangles of zero width once added to the core's coordinates."""
 TURNS_WHY = " (a winding of more turns is no wound component; common practice, no source)"
 
 MIN_FE_TOL = 1e-10
@@ -144,6 +149,12 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     gaps = tuple(_read_gap(t, family, limbs) for t in root.tables("gaps"))
     _check_gap_overlap(gaps)
     windings = _read_windings(root, family, limbs)
+    if len(windings) > 1:
+        for k, wd in enumerate(windings):
+            if wd.conductor is not None or wd.ac is not None:
+                raise CaseError(f"windings[{k}].{'conductor' if wd.conductor else 'ac'}",
+                                wd.name, "turns drawn one by one and an AC current are "
+                                "supported on a case of one winding for now")
     materials = _read_materials(root.table("materials"), base_dir, family, core)
     hand = _read_hand(root.table("hand", {}))
     fe = _read_fe(root.table("fe", {}))
@@ -199,6 +210,11 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
             if mval is not None:
                 raise CaseError(f"margins.{mkey}", mval, "a voltage-drive margin: give the first "
                                 "winding a voltage and frequency, or drop it")
+    for mkey in ("winding_loss", "resistance_ratio"):
+        if getattr(case.margins, mkey) is not None and case.winding.ac is None:
+            raise CaseError(f"margins.{mkey}", getattr(case.margins, mkey),
+                            "an AC-winding margin: give the winding [winding.conductor] and "
+                            "[winding.ac], or drop it")
     if case.margins.inrush_current_peak is not None and case.winding.residual_flux is None:
         raise CaseError("margins.inrush_current_peak", case.margins.inrush_current_peak,
                         "judges the inrush estimate of a voltage drive: give the first winding "
@@ -549,9 +565,98 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
                             f"winding does not fit the window: coil length {length * 1e3:g} mm "
                             f"is more than the {limb.span * 1e3:g} mm window height along the "
                             f"{limb_name} limb (the coil would overlap the core)")
+    for key, v in (("thickness", thickness), ("length", length)):
+        if v < MIN_COIL_SIZE:  # a coil side thinner has no area in double precision
+            k = key if t.has(key) or not t.has("fill") else "fill"
+            raise CaseError(t.key(k), t.raw(k), f"gives a coil {key} of {v:.4g} m: it must be at "
+                            f"least {MIN_COIL_SIZE * 1e6:g} um")
+    conductor = ac = None
+    if t.has("conductor"):
+        if not getattr(family, "turn_by_turn", False):
+            raise CaseError(t.key("conductor"), t.raw("conductor"),
+                            f"the {family.name} family does not draw turns yet (the "
+                            "window-core family does): drop it")
+        conductor = _read_conductor(t.table("conductor"), turns, thickness, length, limb,
+                                    t.key("turns"))
+    if t.has("ac"):
+        if voltage is not None:
+            raise CaseError(t.key("ac"), t.raw("ac"), "a voltage-driven winding has its own "
+                            "sinusoid: give current (the DC bias) with [ac], or drop it")
+        if conductor is None:
+            raise CaseError(t.key("ac"), t.raw("ac"), "the AC resistance needs the conductor: "
+                            "give [winding.conductor] (foil or round wire) with it")
+        at = t.table("ac")
+        ac = ACSpec(at.quantity("frequency", "frequency"),
+                    at.quantity("current", "current"))
+        at.finish()
     t.finish()
     return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner,
-                       voltage, frequency, residual, resistance)
+                       voltage, frequency, residual, resistance, conductor, ac)
+
+
+MATERIAL_RESISTIVITY = {"copper": (1.724e-8, 0.00393), "aluminium": (2.826e-8, 0.00403)}
+"""Resistivity (ohm m) and its temperature coefficient (1/K) at 20 degC
+(IEC 60028 annealed copper; aluminium; from memory; analytic.winding_loss)."""
+
+
+def _read_conductor(t: TableReader, turns: int, thickness: float, length: float, limb: Limb,
+                    turns_key: str) -> ConductorSpec:
+    """``[winding.conductor]``: the turns must fit the coil space (thickness x
+    length) and number the winding's turns."""
+    kind = t.string("kind", choices=CONDUCTOR_KINDS)
+    layers = t.integer("layers", minimum=1, maximum=1000)
+    material = t.string("material", "copper", choices=CONDUCTOR_MATERIALS)
+    rho20, alpha20 = MATERIAL_RESISTIVITY[material]
+    rho = t.quantity("resistivity", "resistivity", rho20)
+    alpha = t.number("temperature_coefficient", alpha20, lo=0.0, hi=0.1)
+    t_ref = t.number("reference_temperature", 20.0, lo=-273.15, hi=1000.0)
+    temp = t.number("temperature", 20.0, lo=-273.15, hi=1000.0)
+    if 1.0 + alpha * (temp - t_ref) <= 0:
+        raise CaseError(t.key("temperature"), t.raw("temperature"),
+                        "gives a resistivity <= 0 with the temperature coefficient")
+    if kind == "foil":
+        for key in ("diameter", "insulation"):
+            if t.has(key):
+                raise CaseError(t.key(key), t.raw(key), "a round wire's key: a foil has "
+                                                        "thickness and width")
+        tpl = t.integer("turns_per_layer", 1, minimum=1, maximum=1)
+        if not t.has("layer_gap"):
+            raise CaseError(t.key("layer_gap"), None, "missing: foil layers need the "
+                                                      "insulation between them, e.g. \"0.05 mm\"")
+        c = ConductorSpec("foil", layers, tpl, thickness=t.quantity("thickness", "length"),
+                          width=t.quantity("width", "length"),
+                          layer_gap=t.quantity("layer_gap", "length"), material=material,
+                          rho_ref=rho, alpha=alpha, t_ref=t_ref, temperature=temp)
+    else:
+        for key in ("thickness", "width"):
+            if t.has(key):
+                raise CaseError(t.key(key), t.raw(key), "a foil's key: a round wire has "
+                                                        "diameter and insulation")
+        c = ConductorSpec("round", layers, t.integer("turns_per_layer", minimum=1,
+                                                     maximum=100000),
+                          diameter=t.quantity("diameter", "length"),
+                          insulation=t.quantity("insulation", "length", 0.0, allow_zero=True),
+                          layer_gap=t.quantity("layer_gap", "length", 0.0, allow_zero=True),
+                          material=material, rho_ref=rho, alpha=alpha, t_ref=t_ref,
+                          temperature=temp)
+    t.finish()
+    if c.turns != turns:
+        raise CaseError(turns_key, turns, f"the conductor has {c.layers} layers x "
+                        f"{c.turns_per_layer} turns = {c.turns} turns: make them equal")
+    if c.build > thickness * (1 + 1e-9):
+        raise CaseError(t.key("layers"), c.layers,
+                        f"the layers do not fit the coil space: {c.layers} layers build "
+                        f"{c.build * 1e3:g} mm across, more than the coil thickness "
+                        f"{thickness * 1e3:g} mm")
+    if c.height > length * (1 + 1e-9):
+        what = ("foil width" if c.kind == "foil"
+                else f"{c.turns_per_layer} turns x {c.pitch * 1e3:g} mm pitch")
+        raise CaseError(t.key("width" if c.kind == "foil" else "turns_per_layer"),
+                        c.width if c.kind == "foil" else c.turns_per_layer,
+                        f"the turns do not fit the coil space: the {what} = "
+                        f"{c.height * 1e3:g} mm along the limb is more than the coil length "
+                        f"{length * 1e3:g} mm")
+    return c
 
 
 def _read_drive(t: TableReader) -> tuple[float, float | None, float | None, float | None,
@@ -728,6 +833,8 @@ def _read_margins(t: TableReader) -> Margins:
     im_peak = t.quantity("magnetizing_current_peak", "current", None)
     im_rms = t.quantity("magnetizing_current_rms", "current", None)
     inrush = t.quantity("inrush_current_peak", "current", None)
+    loss_max = t.quantity("winding_loss", "power", None)
+    ratio_max = t.number("resistance_ratio", None, lo=1.0, hi=1e6)
     fill = t.number("copper_fill", 1.0, lo=0.0, hi=1.0)
     if fill <= 0.0:
         raise CaseError(t.key("copper_fill"), t.data["copper_fill"], "must be positive")
@@ -767,7 +874,8 @@ def _read_margins(t: TableReader) -> Margins:
                    copper_fill=fill, inductance=tuple(inductance), saturation=tuple(saturation),
                    force_min=force_min, force=tuple(forces), B_peak=b_peak,
                    magnetizing_current_peak=im_peak, magnetizing_current_rms=im_rms,
-                   inrush_current_peak=inrush)
+                   inrush_current_peak=inrush, winding_loss=loss_max,
+                   resistance_ratio=ratio_max)
 
 
 def _check_force_limit_stroke(key: str, stroke: float, spec: Any, data: dict, family: Family,

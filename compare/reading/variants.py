@@ -258,6 +258,8 @@ def _check_drive_key(data: dict, key: str) -> None:
     path = winding_alias(data, parse_key(key))
     if path[-1] not in ("voltage", "frequency") or path[0] not in ("winding", "windings"):
         return
+    if "ac" in path[:-1]:  # an AC winding's frequency ([winding.ac]): a key of its own
+        return
     node: Any = data
     for part in path[:-1]:
         try:

@@ -37,6 +37,7 @@ from magcheck.analytic.bh import scale_law  # noqa: F401 (re-exported)
 
 from ..design.case import Case
 from ..errors import CaseError, RunError
+from ..models.acmesh import has_ac
 from ..models.hand import FORCE_KEYS, HAND_KEYS, run_hand
 from ..design.keys import CURRENT_KEY, VarySpec, key_dimension, parse_key, parse_vary, resolve_vary
 from ..reading.variants import CaseSource, case_source, make_case
@@ -239,9 +240,17 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
             history, slope, hand_start = [], None, (None, None)
             continue
         hand_start = tuple({b.name: b.flux for b in h.network.branches} for h in (h3, hp))
+        ac_h: dict[str, dict] = {"planar": {}, "3d": {}}
+        if has_ac(case):  # Dowell's R_ac at this point (compare.models.ac)
+            from ..models.ac import hand_ac
+
+            hh = hand_ac(case, hp.values()["incremental_inductance"],
+                         h3.values()["incremental_inductance"])
+            ac_h = {form: {f"ac_{k}": v for k, v in hh[form].items()} for form in ac_h}
         base: dict[str, Any] = dict(index=idx, settings=settings, current=current,
-                    hand=h3.values() | h3.force_values,
-                    hand_planar=hp.values() | hp.force_values, hand_peak_B=_hand_peak(hp),
+                    hand=h3.values() | h3.force_values | ac_h["3d"],
+                    hand_planar=hp.values() | hp.force_values | ac_h["planar"],
+                    hand_peak_B=_hand_peak(hp),
                     **_depth(choose_depth_model(case, own=(hp, h3))))
         if not task.with_fe:
             out.append(PointResult(**base))
@@ -294,6 +303,11 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
             base.update(_depth(choose_depth_model(case, q.values, own=(hp, h3))))
         except RunError as exc:  # another model's hand solve failed: the case's model stays
             log.info("point %d: depth-model ranking failed (%s); case's model kept", idx, exc)
+        if has_ac(case):  # an AC winding: its harmonic solve on this point's mesh and DC state
+            from ..models.ac import fe_ac
+
+            q = dataclasses.replace(q, values={**q.values, **{
+                f"ac_{k}": v for k, v in fe_ac(case, sol)["values"].items()}})
         out.append(PointResult(**base, fe=dict(q.values) | q.force_values | q.magnet_values,
                                fe_peak_B=q.peak_B,
                                iterations=q.iterations, seconds=time.perf_counter() - t0,
@@ -405,9 +419,10 @@ def sweep_rows(res: SweepResult) -> list[dict]:
         if CURRENT_KEY not in p.settings:
             r[CURRENT_KEY] = p.current
         forces = [k for k in FORCE_KEYS if k in p.hand]  # a moving part's (N)
-        r.update({f"hand_{k}": p.hand.get(k, math.nan) for k in (*HAND_KEYS, *forces)})
+        ac = [k for k in p.hand_planar if k.startswith("ac_")]  # an AC winding's (ohm, W, H)
+        r.update({f"hand_{k}": p.hand.get(k, math.nan) for k in (*HAND_KEYS, *forces, *ac)})
         r.update({f"hand_planar_{k}": p.hand_planar.get(k, math.nan)
-                  for k in (*HAND_KEYS, *forces)})
+                  for k in (*HAND_KEYS, *forces, *ac)})
         r["hand_planar_peak_B"] = p.hand_peak_B
         # the FE 3D column's depth model (compare.judge.check.choose_depth_model):
         # basis "FE" = ranked against this point's planar FE, "case" = the
@@ -415,7 +430,7 @@ def sweep_rows(res: SweepResult) -> list[dict]:
         r["depth_model"] = p.depth_model
         r["depth_basis"] = p.depth_basis
         if res.with_fe:
-            r.update({f"fe_{k}": p.fe.get(k, math.nan) for k in HAND_KEYS})
+            r.update({f"fe_{k}": p.fe.get(k, math.nan) for k in (*HAND_KEYS, *ac)})
             r["fe_3d_inductance"] = p.fe.get("inductance", math.nan) * _fe_3d(p, "inductance")
             r.update({f"fe_{k}": p.fe.get(k, math.nan)
                       for k in ("force_maxwell", "force_virtual_work") if forces})

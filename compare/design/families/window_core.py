@@ -48,6 +48,9 @@ class WindowCore:
     core_keys: tuple[str, ...] = ("outer_width", "outer_height", "limb_width", "depth",
                                   "left", "right", "top", "bottom")
     parts: tuple[str, ...] = limb_names
+    turn_by_turn: bool = True
+    """A winding may give ``[winding.conductor]``: its turns are drawn one by
+    one (compare.design.geometry.turn_rects) as solid conductors."""
     core_spec: dict[str, Key] = {
         **lengths(("outer_width", "outer_height", "depth")),
         "limb_width": oneof(quantity("length"), table(lengths(limb_names)),

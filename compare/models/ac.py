@@ -1,0 +1,233 @@
+"""The AC winding of a case: its resistance and loss by hand and in the field.
+
+A case whose winding gives ``[winding.conductor]`` (drawn turn by turn,
+compare.design.geometry.turn_rects) and ``[winding.ac]`` (a sinusoid of peak
+amplitude ``ac.current`` at ``ac.frequency`` on top of the DC ``current``)
+gets, side by side:
+
+hand (analytic.winding_loss)
+    R_dc = rho(T) sum(turn lengths) / a; Dowell's F_R per layer and for the
+    winding (one section from zero MMF at the limb's face: the layer MMFs 0, 1,
+    ..., m), h/delta with the porosity eta = (copper height of a layer) /
+    (window height along the limb) (Dowell 1966's convention; for round wire
+    the equal-area square, side sqrt(pi)/2 d); R_ac = sum F_k R_dc,k; winding
+    loss I_dc^2 R_dc + (1/2) I_ac^2 R_ac (I_ac peak); L_ac = the incremental
+    inductance of the magnetic circuit at the DC current (the small-signal
+    inductance; the winding's eddy currents, which lower it a little, are
+    not in it).
+    Planar form (the hand column): each turn is its two sides in the stack
+    depth, 2 x depth long, as the planar field solution sees it; the 3D
+    column takes the mean turn length of each layer, 2 (limb width + depth)
+    + 2 pi s, s the layer's distance from the limb face (a rectangular turn
+    with rounded corners; common practice, no source).
+field (fem2d.harmonic)
+    The time-harmonic solve on the check's meshes, about the static solution
+    of the same mesh (the DC operating point: the tangent reluctivity there),
+    each turn side a solid conductor of conductivity 1/rho(T), all in series
+    carrying I_ac; R_ac = Re Z, L_ac = Im Z / w (per stack depth), the loss
+    per layer from (1/2) int |J|^2 / sigma; R_dc from the drawn turns' areas.
+    Elements in a band of SURFACE_BAND_DEPTHS skin depths round every turn are
+    delta / SURFACE_ELEMENTS_PER_DEPTH (fem2d.harmonic.mesh_settings_for),
+    divided by the refine factor on the check's finer meshes; the FE
+    uncertainty is the three-mesh rule of compare.models.fe.
+
+What the hand model cannot see: the air gap's fringing field crossing the
+winding (its proximity loss near a gap), the 2D ends of layers that do not
+fill the window height, the field outside the window (the coil side outside
+the core has no iron beyond it), and unequal current sharing between
+parallel conductors (not modelled: one conductor per turn).
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from magcheck.analytic import winding_loss as wl
+
+from ..design.case import Case
+from ..design.coremodel import core_model
+from .acmesh import default_mesh_size, has_ac, surface_sizes
+
+__all__ = ["AC_KEYS", "ACResult", "has_ac", "hand_ac", "fe_ac", "run_ac", "surface_sizes",
+           "default_mesh_size"]
+
+AC_KEYS = ("R_dc", "R_ac", "R_ac_ratio", "winding_loss", "L_ac")
+"""The AC quantities, keyed alike by hand and FE (SI: ohm, ohm, -, W, H)."""
+
+UNITS = {"R_dc": "ohm", "R_ac": "ohm", "R_ac_ratio": "", "winding_loss": "W", "L_ac": "H"}
+
+
+def _parts(case: Case) -> tuple[Any, Any]:
+    """(conductor, ac) of the case's AC winding."""
+    w = case.winding
+    if w.conductor is None or w.ac is None:
+        raise ValueError(f"winding {w.name!r}: no [winding.conductor] and [winding.ac]")
+    return w.conductor, w.ac
+
+
+# ------------------------------------------------------------------ hand
+def _layer_offsets(case: Case) -> list[float]:
+    """Distance of each layer's centre line from the limb face (m)."""
+    w = case.winding
+    c, _ = _parts(case)
+    base = w.inner + w.clearance
+    return [base + k * (c.layer_build + c.layer_gap) + 0.5 * c.layer_build
+            for k in range(c.layers)]
+
+
+def hand_ac(case: Case, L_planar: float = math.nan, L_3d: float = math.nan) -> dict[str, Any]:
+    """The hand AC figures: {"planar": {...}, "3d": {...}, "layer_factors": F_k,
+    "layer_loss": W per layer (planar, AC part), "layer_loss_3d", "delta",
+    "delta_ratio", "porosity"}.  ``L_planar``, ``L_3d``: the hand model's
+    incremental inductance at the DC current (H), the L_ac of each form."""
+    w = case.winding
+    c, ac = _parts(case)
+    limb = case.limbs[w.limb]
+    rho = c.resistivity
+    f = ac.frequency
+    delta = wl.skin_depth(f, rho)
+    b = limb.span  # the window height along the limb: the breadth of Dowell's field
+    eta = min(1.0, c.turns_per_layer * (c.width if c.kind == "foil" else c.side) / b)
+    D = math.sqrt(eta) * c.side / delta
+    m = c.layers
+    F = np.asarray(wl.dowell_layer_factors(D, m), dtype=float)
+    depth = case.depth
+    a = c.area
+    r_turn_p = rho * 2.0 * depth / a  # a turn's two sides in the stack depth
+    r_layer_p = np.full(m, c.turns_per_layer * r_turn_p)
+    mlt = np.array([2.0 * (limb.width + depth) + 2.0 * math.pi * s for s in _layer_offsets(case)])
+    r_layer_3 = c.turns_per_layer * rho * mlt / a
+    i_dc, i_ac = w.current, ac.current
+    out: dict[str, Any] = {}
+    for form, r_layer, L in (("planar", r_layer_p, L_planar), ("3d", r_layer_3, L_3d)):
+        r_dc = float(np.sum(r_layer))
+        r_ac = float(np.sum(F * r_layer))
+        out[form] = {"R_dc": r_dc, "R_ac": r_ac, "R_ac_ratio": r_ac / r_dc,
+                     "winding_loss": i_dc ** 2 * r_dc + 0.5 * i_ac ** 2 * r_ac, "L_ac": L}
+    out["layer_factors"] = tuple(float(x) for x in F)
+    out["layer_loss"] = tuple(float(x) for x in 0.5 * i_ac ** 2 * F * r_layer_p)
+    out["layer_loss_3d"] = tuple(float(x) for x in 0.5 * i_ac ** 2 * F * r_layer_3)
+    out["delta"], out["delta_ratio"], out["porosity"] = delta, D, eta
+    out["mean_turn_length"] = float(np.mean(mlt))
+    return out
+
+
+# ------------------------------------------------------------------ field
+def fe_ac(case: Case, sol: Any) -> dict[str, Any]:
+    """The FE AC figures on one static solution ``sol`` (the DC operating
+    point, on its mesh): {"values": {...AC_KEYS}, "layer_loss": W per layer
+    (AC part, planar), "side_loss": {"window": W, "outside": W} (the go and
+    return coil sides), "ndofs", "seconds", "size_over_delta"}."""
+    from magcheck.fem2d.harmonic import HarmonicProblem, SolidWinding, region_loss, winding_impedance
+
+    w = case.winding
+    c, ac = _parts(case)
+    coil = core_model(case).coils[0]
+    sigma = c.conductivity
+    t0 = time.perf_counter()
+    prob = HarmonicProblem(sol.mesh, {}, {r: sigma for r, _ in coil.sides}, ac.frequency,
+                           windings=(SolidWinding("winding", coil.sides),), operating_point=sol)
+    hs = prob.solve({"winding": ac.current})
+    z = winding_impedance(hs, "winding")
+    areas = prob.asm.areas
+    r_dc = float(sum(c.resistivity * case.depth / areas[r] for r, _ in coil.sides))
+    layer_loss = []
+    for k in range(1, c.layers + 1):
+        regs = [r for r, lay in coil.layers if lay == k]
+        layer_loss.append(region_loss(hs, regs))
+    side = {"window": region_loss(hs, list(coil.go)), "outside": region_loss(hs, list(coil.back))}
+    secs = time.perf_counter() - t0
+    vals = {"R_dc": r_dc, "R_ac": z.R, "R_ac_ratio": z.R / r_dc,
+            "winding_loss": w.current ** 2 * r_dc + 0.5 * ac.current ** 2 * z.R, "L_ac": z.L}
+    return {"values": vals, "layer_loss": tuple(layer_loss), "side_loss": side,
+            "ndofs": int(prob.nunknowns), "seconds": secs,
+            "size_over_delta": float(prob.size_over_delta)}
+
+
+@dataclass(frozen=True)
+class ACResult:
+    """Hand and FE AC figures of a case (SI; planar per stack depth, and 3D).
+
+    hand, hand_3d : the hand model's planar form and 3D (mean turn lengths).
+    fe, fe_3d : the finest mesh's values and the FE scaled by the hand's
+        3D / planar ratio per key.
+    uncertainty : the three-mesh FE uncertainty per key (NaN without it).
+    hand_layers, fe_layers : AC loss per layer (W, planar), layer 1 at the limb.
+    """
+
+    frequency: float
+    current_ac: float
+    current_dc: float
+    hand: dict
+    hand_3d: dict
+    fe: dict
+    fe_3d: dict
+    uncertainty: dict
+    hand_layers: tuple
+    fe_layers: tuple
+    fe_layers_uncertainty: tuple
+    side_loss: dict
+    skin_depth: float
+    delta_ratio: float
+    porosity: float
+    ndofs: int
+    seconds: float
+    size_over_delta: float
+    layer_factors: tuple = field(default=())
+
+    def to_dict(self, which: str) -> dict:
+        """The JSON block of one column: "hand" (3D), "hand_planar", "fe"."""
+        if which == "hand":
+            return {"ac": {**self.hand_3d, "frequency": self.frequency,
+                           "current_ac_peak": self.current_ac, "skin_depth": self.skin_depth,
+                           "delta_ratio": self.delta_ratio, "porosity": self.porosity,
+                           "layer_factors": list(self.layer_factors)}}
+        if which == "hand_planar":
+            return {"ac": {**self.hand, "layer_loss": list(self.hand_layers)}}
+        return {"ac": {**self.fe, "layer_loss": list(self.fe_layers),
+                       "layer_loss_uncertainty": list(self.fe_layers_uncertainty),
+                       "side_loss": dict(self.side_loss), "depth_corrected": dict(self.fe_3d),
+                       "uncertainty": dict(self.uncertainty), "ndofs": self.ndofs,
+                       "seconds": self.seconds, "size_over_delta": self.size_over_delta}}
+
+
+def run_ac(case: Case, fe: Any, hand_p: Any = None, hand_3d: Any = None) -> ACResult:
+    """Hand and FE AC figures; ``fe`` a compare.models.fe.FEResult (its
+    ``solutions``: the three meshes' static solutions, coarsest first, for
+    the uncertainty; else its one solution, no uncertainty)."""
+    from .fe import uncertainty_rule
+
+    Lp = hand_p.values()["incremental_inductance"] if hand_p is not None else math.nan
+    L3 = hand_3d.values()["incremental_inductance"] if hand_3d is not None else math.nan
+    h = hand_ac(case, Lp, L3)
+    sols = tuple(fe.solutions) or (fe.solution,)
+    runs = [fe_ac(case, s) for s in sols]
+    fine = runs[-1]
+    if len(runs) == 3:
+        unc = {k: uncertainty_rule(*(r["values"][k] for r in runs)) for k in AC_KEYS}
+        lunc = tuple(uncertainty_rule(*(r["layer_loss"][j] for r in runs))
+                     for j in range(len(fine["layer_loss"])))
+    else:
+        unc = {k: math.nan for k in AC_KEYS}
+        lunc = tuple(math.nan for _ in fine["layer_loss"])
+    hp, h3 = h["planar"], h["3d"]
+    ratio = {k: (h3[k] / hp[k] if hp[k] and math.isfinite(h3[k] / hp[k]) else 1.0)
+             for k in AC_KEYS}
+    fv = fine["values"]
+    fe3 = {k: fv[k] * ratio[k] for k in AC_KEYS}
+    # the loss's 3D column from the 3D resistances (not one ratio of the total)
+    _, ac = _parts(case)
+    fe3["winding_loss"] = (case.winding.current ** 2 * fe3["R_dc"]
+                           + 0.5 * ac.current ** 2 * fe3["R_ac"])
+    return ACResult(ac.frequency, ac.current, case.winding.current,
+                    hand=hp, hand_3d=h3, fe=dict(fv), fe_3d=fe3, uncertainty=unc,
+                    hand_layers=h["layer_loss"], fe_layers=fine["layer_loss"],
+                    fe_layers_uncertainty=lunc, side_loss=fine["side_loss"],
+                    skin_depth=h["delta"], delta_ratio=h["delta_ratio"], porosity=h["porosity"],
+                    ndofs=fine["ndofs"], seconds=fine["seconds"],
+                    size_over_delta=fine["size_over_delta"], layer_factors=h["layer_factors"])
