@@ -266,6 +266,13 @@ def test_straight_line_branch_recovers_intercept_and_slope(tmp_path, affine_fe):
     assert vals[:4] == pytest.approx(A_P + B_P * hand_p[:4], rel=1e-12)
     # Pass/fail of peak B (limit 1.7 T) follows the corrected values.
     assert np.all(res.passed <= (A_P + B_P * hand_p <= 1.7))
+    # The inductance window's own figure (at 6 A, where it is judged): the
+    # stand-in's FE 3D value on the FE samples, the fitted line on the rest;
+    # a linear core's hand L is the closed form at any current.
+    gaps = np.array([s.settings["gaps[0].length"] for s in res.samples])
+    want = A_L + B_L * np.array([closed_form_inductance(g) for g in gaps])
+    assert res["inductance_secant@6A"] == pytest.approx(want, rel=1e-9)
+    assert res.fits["inductance_secant@6A"].startswith("FE = a + b hand, fitted on 4")
 
 
 def _printed(res) -> str:

@@ -366,10 +366,14 @@ def run_tolerance(src: CaseSource, *, samples: int, seed: int, fe_samples: int |
         val = np.array([r.margins[j].value for r in res])
         hv = np.array([r.margins[j].hand for r in res])
         m0 = res[0].margins[j]
+        fit_text = ""
         if m0.basis == "FE" and fe_mask.any() and not fe_mask.all():
-            val = np.where(fe_mask, val, _fit(hv[fe_mask], val[fe_mask])[0](hv))
-        if key.startswith("inductance_"):  # the L a window is judged on, at its own current
-            judged.setdefault(inductance_figure(key), val)
+            fit, fit_text = _fit(hv[fe_mask], val[fe_mask])
+            val = np.where(fe_mask, val, fit(hv))
+        if key.startswith("inductance_") and inductance_figure(key) not in judged:
+            judged[inductance_figure(key)] = val  # the L a window is judged on, at its current
+            if fit_text:
+                fits[inductance_figure(key)] = fit_text
         with np.errstate(invalid="ignore"):
             ok = val <= m0.limit if m0.kind == "max" else val >= m0.limit
         passed &= ok | ~np.isfinite(val)
