@@ -240,3 +240,21 @@ def test_force_curve_option_is_bad_input_without_report_or_moving_part(tmp_path,
     assert main(["check", str(CASES / "demo_choke.toml"), "--force-curve",
                  "--report", str(tmp_path / "r")]) == 2
     assert "no moving part" in capsys.readouterr().err
+
+
+def test_force_curve_point_is_depth_corrected_as_the_check(tmp_path):
+    """A planar case (the clapper relay): the curve's point at the case's
+    stroke carries the check's depth correction of the force (the model
+    ranked against the planar FE there), so it is the check's FE 3D force."""
+    from magcheck.compare.studies.sweep import case_source, run_force_curve
+
+    text = (CASES / "demo_clapper_relay.toml").read_text()
+    p = tmp_path / "r.toml"
+    p.write_text(text.replace('vary = ["core.stroke=0.1mm:0.8mm:8"]', 'vary = ["core.stroke=0.1mm,0.8mm"]'))
+    relay = run_check(load_case(p), estimate_error=False)
+    curve = run_force_curve(case_source(p)[0])
+    row = next(r for r in relay.rows if r.key == "force")
+    # a depth correction to tell apart (0.7 % here, against the 1e-5 match below)
+    assert abs(row.fe_3d / row.fe - 1) > 1e-3
+    # same mesh, same Newton tolerance, same depth rule: equal to the residual
+    assert curve.maxwell_3d[1] == pytest.approx(row.fe_3d, rel=1e-5)
