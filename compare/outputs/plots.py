@@ -760,11 +760,10 @@ def fig_force_stroke(res: CheckResult):
     curve = getattr(res, "force_curve", None)
     if curve is not None and curve.strokes:  # FE along the stroke (check --force-curve)
         xs = np.asarray(curve.strokes) * 1e3
-        where = ("the case's sweep strokes" if curve.source == "declared"
-                 else f"{len(xs)} strokes")
+        where = "sweep strokes" if curve.source == "declared" else f"{len(xs)} strokes"
         ax.plot(xs, curve.maxwell_3d, "D-", color=FE_COLOUR, ms=5, lw=1.2, gid="fe_curve_maxwell",
-                label=f"FE, Maxwell stress along the stroke ({where}, the check's middle "
-                      f"mesh, {curve.seconds:.0f} s)")
+                label=f"FE, Maxwell stress along the stroke ({where}, middle mesh, "
+                      f"{curve.seconds:.0f} s)")
         ax.plot(xs, curve.virtual_work_3d, "x:", color=FE_COLOUR, ms=6, lw=1.0,
                 gid="fe_curve_virtual_work", label="FE, virtual work along the stroke")
     m = res.case.margins
