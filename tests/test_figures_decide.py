@@ -181,3 +181,80 @@ def test_flux_lines_thinned_where_they_crowd_and_rz_mirrored(holding):
     x0, x1 = ax.get_xlim()
     assert x0 == pytest.approx(-x1)  # mirrored about the axis
     plt.close(fig)
+
+
+def test_force_curve_strokes_declared_sweep_else_the_figure_range():
+    import dataclasses
+
+    from magcheck.compare.studies.sweep import FORCE_CURVE_POINTS, force_curve_strokes
+
+    case = load_case(CASES / "demo_holding_magnet.toml")
+    spec, source = force_curve_strokes(case)  # its [sweep] vary = core.stroke=0.1mm:1.3mm:5
+    assert source == "declared" and spec.key == "core.stroke"
+    assert spec.values == pytest.approx([1e-4, 4e-4, 7e-4, 1e-3, 1.3e-3])
+    spec, source = force_curve_strokes(dataclasses.replace(case, sweeps=()))
+    # 0.2 x the 0.3 mm stroke to 1.1 x the 1 mm force limit's stroke (beyond 2 x 0.3 mm)
+    assert source == "range" and len(spec.values) == FORCE_CURVE_POINTS
+    assert spec.values[0] == pytest.approx(0.06e-3) and spec.values[-1] == pytest.approx(1.1e-3)
+
+
+def test_force_curve_on_the_figure_meets_the_check_at_its_stroke(holding, tmp_path):
+    """The FE points along the stroke (check --force-curve) are sweep points
+    on the case's own mesh: at the case's stroke the curve's Maxwell force is
+    the check's own FE 3D force (estimate_error=False: the same mesh), and the
+    figure draws the curve at the points' strokes and values."""
+    import dataclasses
+
+    from magcheck.compare.studies.sweep import case_source, run_force_curve
+
+    text = (CASES / "demo_holding_magnet.toml").read_text()
+    p = tmp_path / "h.toml"
+    p.write_text(text.replace('vary = ["core.stroke=0.1mm:1.3mm:5"]',
+                              'vary = ["core.stroke=0.3mm,1mm"]'))
+    curve = run_force_curve(case_source(p)[0])
+    assert curve.source == "declared" and curve.strokes == pytest.approx([3e-4, 1e-3])
+    row = next(r for r in holding.rows if r.key == "force")
+    # same mesh, same Newton tolerance: the two solves agree to its residual
+    assert curve.maxwell_3d[0] == pytest.approx(row.fe_3d, rel=1e-5)
+    vw = next(r for r in holding.rows if r.key == "force_virtual_work")
+    assert curve.virtual_work_3d[0] == pytest.approx(vw.fe_3d, rel=1e-5)
+    assert curve.maxwell_3d[1] < curve.maxwell_3d[0]  # the pull falls as the film opens
+    fig = plots.fig_force_stroke(dataclasses.replace(holding, force_curve=curve))
+    ax = fig.axes[0]
+    (line,) = [ln for ln in ax.lines if ln.get_gid() == "fe_curve_maxwell"]
+    assert line.get_xdata() == pytest.approx([0.3, 1.0])  # mm
+    assert line.get_ydata() == pytest.approx(curve.maxwell_3d)
+    assert "FE along the stroke" in ax.get_title()
+    _save(fig, tmp_path / "force_curve.png")
+    # without the curve: no FE line along the stroke
+    fig = plots.fig_force_stroke(holding)
+    assert not [ln for ln in fig.axes[0].lines if ln.get_gid() == "fe_curve_maxwell"]
+    plt.close(fig)
+
+
+def test_force_curve_option_is_bad_input_without_report_or_moving_part(tmp_path, capsys):
+    from magcheck.compare.front.cli import main
+
+    assert main(["check", str(CASES / "demo_holding_magnet.toml"), "--force-curve"]) == 2
+    assert "--force-curve" in capsys.readouterr().err
+    assert main(["check", str(CASES / "demo_choke.toml"), "--force-curve",
+                 "--report", str(tmp_path / "r")]) == 2
+    assert "no moving part" in capsys.readouterr().err
+
+
+def test_force_curve_point_is_depth_corrected_as_the_check(tmp_path):
+    """A planar case (the clapper relay): the curve's point at the case's
+    stroke carries the check's depth correction of the force (the model
+    ranked against the planar FE there), so it is the check's FE 3D force."""
+    from magcheck.compare.studies.sweep import case_source, run_force_curve
+
+    text = (CASES / "demo_clapper_relay.toml").read_text()
+    p = tmp_path / "r.toml"
+    p.write_text(text.replace('vary = ["core.stroke=0.1mm:0.8mm:8"]', 'vary = ["core.stroke=0.1mm,0.8mm"]'))
+    relay = run_check(load_case(p), estimate_error=False)
+    curve = run_force_curve(case_source(p)[0])
+    row = next(r for r in relay.rows if r.key == "force")
+    # a depth correction to tell apart (0.7 % here, against the 1e-5 match below)
+    assert abs(row.fe_3d / row.fe - 1) > 1e-3
+    # same mesh, same Newton tolerance, same depth rule: equal to the residual
+    assert curve.maxwell_3d[1] == pytest.approx(row.fe_3d, rel=1e-5)

@@ -90,23 +90,44 @@ def test_sweep_draws_the_judged_values_and_every_margin_at_its_value(fe_sweep):
 
 
 def test_tolerance_histograms_count_in_integers_and_draw_the_limits():
-    from magcheck.compare.front.commands.tolerance import _labels
+    from magcheck.compare.front.commands.tolerance import _labels, print_tolerance
     from magcheck.compare.studies.tolerance import run_tolerance
 
     src, case = case_source(MARGINS)
     res = run_tolerance(src, samples=25, seed=3, fe_samples=0)
     fig = tolerance_figure(res, _labels(res))
-    by_title = dict(zip(res.values, fig.axes))
+    by_key = {ax.get_gid(): ax for ax in fig.axes}
+    assert list(by_key) == ["inductance_secant@6A", "peak_B", "saturation_current"]
     for ax in fig.axes:
         ticks = ax.get_yticks()
         assert np.allclose(ticks, np.round(ticks))
-    lim_peak = [ln.get_xdata()[0] for ln in by_title["peak_B"].get_lines()]
+    lim_peak = [ln.get_xdata()[0] for ln in by_key["peak_B"].get_lines()]
     assert lim_peak == pytest.approx([case.margins.peak_B])  # 1.7 T
-    lim_sat = [ln.get_xdata()[0] for ln in by_title["saturation_current"].get_lines()]
+    lim_sat = [ln.get_xdata()[0] for ln in by_key["saturation_current"].get_lines()]
     assert lim_sat == pytest.approx([case.margins.saturation[0].min])  # 5 A
-    # the inductance limit is stated at 6 A, the study's inductance at the
-    # case's 7 A: no line, rather than a limit drawn against the wrong figure
-    assert by_title["inductance"].get_lines() == []
-    assert any("L window stated at 6 A" in t.get_text() and "L at 7 A" in t.get_text()
-               for t in by_title["inductance"].texts)  # and the panel says why
+    # The inductance window is stated at 6 A (the case runs at 7 A): the
+    # histogram is the L each sample's window is judged on, at 6 A, and the
+    # window is drawn on it at its limits (mH).
+    (ind,) = case.margins.inductance
+    ax = by_key["inductance_secant@6A"]
+    assert sorted(ln.get_xdata()[0] for ln in ax.get_lines()) == pytest.approx(
+        [ind.min * 1e3, ind.max * 1e3])  # 2.5 and 4.5 mH
+    assert "at 6 A" in ax.get_xlabel()
+    judged = np.array([next(m.value for m in s.margins if m.key == "inductance_secant@6A:min")
+                       for s in res.samples])
+    assert np.array_equal(res["inductance_secant@6A"], judged)
+    counts = sum(p.get_height() for p in ax.patches)
+    assert counts == len(res.samples)
+    # drawn from the 6 A values: the bars span their range, not the 7 A one
+    # (the L at 7 A lies below the L at 6 A in every sample: saturation)
+    lo = min(p.get_x() for p in ax.patches)
+    hi = max(p.get_x() + p.get_width() for p in ax.patches)
+    assert lo == pytest.approx(judged.min() * 1e3) and hi == pytest.approx(judged.max() * 1e3)
+    assert (res["inductance"] < judged).all()
     plt.close(fig)
+    # the printed table names it too, in H
+    import io
+
+    buf = io.StringIO()
+    print_tolerance(res, buf)
+    assert "L (secant) at 6 A, as judged" in buf.getvalue()

@@ -266,6 +266,13 @@ def test_straight_line_branch_recovers_intercept_and_slope(tmp_path, affine_fe):
     assert vals[:4] == pytest.approx(A_P + B_P * hand_p[:4], rel=1e-12)
     # Pass/fail of peak B (limit 1.7 T) follows the corrected values.
     assert np.all(res.passed <= (A_P + B_P * hand_p <= 1.7))
+    # The inductance window's own figure (at 6 A, where it is judged): the
+    # stand-in's FE 3D value on the FE samples, the fitted line on the rest;
+    # a linear core's hand L is the closed form at any current.
+    gaps = np.array([s.settings["gaps[0].length"] for s in res.samples])
+    want = A_L + B_L * np.array([closed_form_inductance(g) for g in gaps])
+    assert res["inductance_secant@6A"] == pytest.approx(want, rel=1e-9)
+    assert res.fits["inductance_secant@6A"].startswith("FE = a + b hand, fitted on 4")
 
 
 def _printed(res) -> str:
@@ -356,5 +363,9 @@ def test_fe_sample_margin_at_another_current_ranks_the_depth_model_there(tmp_pat
     assert depth.model == "flux-tube"
     # the same hand solves as the sample's: to Newton's tolerance
     assert m.value == pytest.approx(fe_l * depth.factor("inductance"), rel=1e-9)
+    # the study's figure for that window is this judged value, at 3 A (its
+    # histogram's data), not the L at the case's 7 A
+    assert res["inductance_secant@3A"][0] == m.value
+    assert res["inductance"][0] != pytest.approx(m.value, rel=1e-3)
     own = run_hand(at).inductance / run_hand(at, planar=True).inductance
     assert abs(depth.factor("inductance") / own - 1) > 1e-3  # what the test tells apart

@@ -195,7 +195,9 @@ def tolerance(case: CaseLike, *, samples: int = 50, seed: int = 0,
     tolerance``): :class:`~magcheck.compare.studies.tolerance.ToleranceResult`.
 
     ``res["inductance"]`` (H), ``res["peak_B"]`` (T),
-    ``res["saturation_current"]`` (A) are arrays over the samples;
+    ``res["saturation_current"]`` (A) are arrays over the samples, and
+    per inductance window ``res["inductance_secant@6A"]`` (H; its kind and
+    current) the value that window is judged on, at its own current;
     ``res.percentiles()`` their P5/P50/P95, ``res.yield_fraction`` the share
     of samples meeting every design margin.  ``fe_samples`` runs the FE on
     the first M samples only (the rest corrected through the fitted

@@ -172,6 +172,9 @@ class CheckResult:
     """Two concentric windings: {"hand": L_s, "fe": L_s} referred to the first (H)."""
     depth: Any = None
     """The :class:`DepthCorrection` behind the FE 3D column (None: not computed)."""
+    force_curve: Any = None
+    """compare.studies.sweep.ForceCurve: FE force points along the stroke for
+    the force-stroke figure (``magcheck check --force-curve``; None: not run)."""
 
     @property
     def design_passed(self) -> bool:

@@ -23,7 +23,7 @@ from ..design.coremodel import comparison_forms  # noqa: E402
 from .output import save_figure  # noqa: E402
 
 __all__ = ["save_figures", "FIGURES", "caption", "flux_levels", "sweep_figures",
-           "save_sweep_figures", "tolerance_figure", "save_tolerance_figure"]
+           "save_sweep_figures", "tolerance_figure", "tolerance_panels", "save_tolerance_figure"]
 
 # magcheck's own palette: slate core, amber gaps, teal/rose coil sides.
 REGION_COLOURS = {"core": "#5b6c80", "gap": "#e0a030", "coil+": "#2a9d8f", "coil-": "#c8553d"}
@@ -708,8 +708,11 @@ def fig_force_stroke(res: CheckResult):
     """Force on the moving part against the stroke: the hand network's
     virtual work and the pull formula (the engineer's 3D form, solved at each
     stroke), both FE methods at the case's stroke (depth-corrected as the
-    table's FE 3D column), the force limits drawn at their strokes and the
-    minimum force at the case's stroke; None without a moving part."""
+    table's FE 3D column) and, when ``res.force_curve`` holds them
+    (``magcheck check --force-curve``), along the stroke (each point
+    depth-corrected by its own factor), the force limits drawn at their
+    strokes and the minimum force at the case's stroke; None without a
+    moving part."""
     from ..design.coremodel import core_model
     from ..errors import CaseError
     from ..models.hand import run_hand
@@ -754,6 +757,15 @@ def fig_force_stroke(res: CheckResult):
             err = r.fe_3d_uncertainty if math.isfinite(r.fe_3d_uncertainty) else None
             ax.errorbar([s0], [r.fe_3d], yerr=err, fmt=marker, color=FE_COLOUR, ms=7,
                         capsize=3, label=f"{what} at {s0:g} mm: {r.fe_3d:.3g} N", zorder=4)
+    curve = getattr(res, "force_curve", None)
+    if curve is not None and curve.strokes:  # FE along the stroke (check --force-curve)
+        xs = np.asarray(curve.strokes) * 1e3
+        where = "sweep strokes" if curve.source == "declared" else f"{len(xs)} strokes"
+        ax.plot(xs, curve.maxwell_3d, "D-", color=FE_COLOUR, ms=5, lw=1.2, gid="fe_curve_maxwell",
+                label=f"FE, Maxwell stress along the stroke ({where}, middle mesh, "
+                      f"{curve.seconds:.0f} s)")
+        ax.plot(xs, curve.virtual_work_3d, "x:", color=FE_COLOUR, ms=6, lw=1.0,
+                gid="fe_curve_virtual_work", label="FE, virtual work along the stroke")
     m = res.case.margins
     if m.force_min is not None:
         ax.plot([s0], [m.force_min], "^", color="#00a6a6", ms=10,
@@ -767,8 +779,10 @@ def fig_force_stroke(res: CheckResult):
                           color="#00a6a6", lw=2.0)
     ax.set_xlabel(f"stroke ({spec.stroke_key}, mm)")
     ax.set_ylabel("force on the moving part (N), closing")
+    fe_where = ("FE along the stroke" if curve is not None and curve.strokes
+                else "FE at the case's stroke")
     ax.set_title(f"{res.case.name}: force along the stroke at {res.case.winding.current:g} A "
-                 "(hand 3D form; FE at the case's stroke)", fontsize=9)
+                 f"(hand 3D form; {fe_where})", fontsize=9)
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7)
     return fig
@@ -896,7 +910,8 @@ _CAPTIONS = {
     "force_stroke.png": "Force on the moving part along the stroke at the case's current: the "
                         "hand network's virtual work and the pull formula solved at each stroke "
                         "(3D form), both FE methods at the case's stroke (depth-corrected, with "
-                        "their uncertainty), and the force limits at their strokes.",
+                        "their uncertainty; along the stroke too with magcheck check "
+                        "--force-curve), and the force limits at their strokes.",
     "breakdown.png": "The hand-vs-FE difference of each quantity after each refinement of the "
                      "hand model (planar forms), in the order of the table above.",
     "magnetizing.png": "The magnetizing current of the voltage-driven winding over one period, "
@@ -1161,16 +1176,21 @@ def save_sweep_figures(res, folder: str | Path, saturation: Sequence[dict] = ())
 # ----------------------------------------------------------------- tolerance
 def _tolerance_limits(res) -> dict[str, list[tuple[str, float]]]:
     """The design's limits on each histogram's figure, as (label, value (SI)):
-    secant-inductance limits at the case's own current, the peak-B maximum,
-    and the minimum saturation current at the study's drop (incremental L)."""
+    an inductance window on its own figure (``inductance_<kind>@<I>A``, the
+    L it is judged on at its current; a secant window at the case's own
+    current also on ``inductance``), the peak-B maximum, and the minimum
+    saturation current at the study's drop (incremental L)."""
     m = res.case.margins
     at = res.case.winding.current
-    out: dict[str, list[tuple[str, float]]] = {"inductance": [], "peak_B": [],
-                                               "saturation_current": []}
+    out: dict[str, list[tuple[str, float]]] = {k: [] for k in res.values}
+    for k in ("inductance", "peak_B", "saturation_current"):
+        out.setdefault(k, [])
     for ind in m.inductance:
+        window = [(f"{k} {v * 1e3:.4g} mH", v) for k, v in (("min", ind.min), ("max", ind.max))
+                  if v is not None]
+        out.setdefault(f"inductance_{ind.kind}@{ind.at:g}A", []).extend(window)
         if ind.kind == "secant" and math.isclose(ind.at, at, rel_tol=1e-9, abs_tol=1e-12):
-            out["inductance"] += [(f"{k} {v * 1e3:.4g} mH", v) for k, v in
-                                  (("min", ind.min), ("max", ind.max)) if v is not None]
+            out["inductance"] += window
     if m.peak_B is not None:
         out["peak_B"].append((f"max {m.peak_B:.4g} T", m.peak_B))
     for lim in m.saturation:
@@ -1183,33 +1203,40 @@ _TOLERANCE_UNITS = {"inductance": (1e3, "mH"), "peak_B": (1.0, "T"),
                     "saturation_current": (1.0, "A")}
 
 
+def tolerance_panels(res) -> list[str]:
+    """The figures the tolerance figure draws, one panel each: the
+    inductance as each window judges it (``inductance_<kind>@<I>A``, at the
+    window's own current) or, with no window, the L at the case's current;
+    then peak B and the saturation current."""
+    windows = [k for k in res.values if k.startswith("inductance_")]
+    return (windows or ["inductance"]) + [k for k in ("peak_B", "saturation_current")
+                                          if k in res.values]
+
+
 def tolerance_figure(res, labels: dict[str, str]):
-    """Histograms of the tolerance study's figures, counts on an integer
-    axis, the design's limits drawn as vertical lines (`_tolerance_limits`)."""
+    """Histograms of the tolerance study's figures (`tolerance_panels`, each
+    axes' gid its figure's key), counts on an integer axis, the design's
+    limits drawn as vertical lines (`_tolerance_limits`): each inductance
+    window on the L it is judged on, at its own current."""
     from matplotlib.ticker import MaxNLocator
 
     limits = _tolerance_limits(res)
-    fig, axes = plt.subplots(1, 3, figsize=(12, 3.8))
-    for ax, (k, v) in zip(axes, res.values.items()):
-        scale, unit = _TOLERANCE_UNITS[k]
+    panels = tolerance_panels(res)
+    fig, axes = plt.subplots(1, len(panels), figsize=(4 * len(panels), 3.8), squeeze=False)
+    for ax, k in zip(axes[0], panels):
+        v = res.values[k]
+        scale, unit = _TOLERANCE_UNITS["inductance" if k.startswith("inductance") else k]
         x = v[np.isfinite(v)] * scale
+        ax.set_gid(k)
         ax.hist(x, bins=max(5, min(30, int(len(x) ** 0.5) + 1)), color=FE_COLOUR, alpha=0.85)
-        for label, value in limits[k]:
+        for label, value in limits.get(k, []):
             ax.axvline(value * scale, color=HAND_COLOUR, lw=1.5, ls="--", label=f"limit: {label}")
-        if limits[k]:
+        if limits.get(k):
             ax.legend(fontsize=7)
-        if k == "inductance":
-            at = res.case.winding.current
-            other = sorted({lim.at for lim in res.case.margins.inductance
-                            if not math.isclose(lim.at, at, rel_tol=1e-9, abs_tol=1e-12)})
-            if other:  # say why the window is not drawn, rather than draw it against L at I
-                ax.text(0.02, 0.97, f"L window stated at {', '.join(f'{a:g}' for a in other)} A;"
-                        f"\nthis histogram is L at {at:g} A: not drawn", transform=ax.transAxes,
-                        fontsize=7, va="top", color=MARGIN_COLOUR)
         ax.yaxis.set_major_locator(MaxNLocator(integer=True))
         ax.set_xlabel(f"{labels[k]} ({unit})", fontsize=8)
         ax.grid(alpha=0.3)
-    axes[0].set_ylabel("samples")
+    axes[0][0].set_ylabel("samples")
     fig.suptitle(f"{res.case.name}: {len(res.samples)} samples, seed {res.seed}, "
                  f"yield {100 * res.yield_fraction:.1f} %")
     return fig

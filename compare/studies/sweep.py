@@ -46,7 +46,8 @@ from ..judge.margins import MarginResult, curve_margins, curve_saturation  # noq
 __all__ = ["VarySpec", "parse_vary", "parse_key", "key_dimension", "resolve_vary",
            "scale_law", "CaseSource", "case_source", "make_case", "PointResult", "SweepResult",
            "plan_sweep", "run_sweep", "CLI_OPTIONS", "run_block", "BlockTask", "PREDICTORS",
-           "DEFAULT_BLOCK", "CURRENT_KEY"]
+           "DEFAULT_BLOCK", "CURRENT_KEY", "ForceCurve", "run_force_curve", "force_curve_strokes",
+           "FORCE_CURVE_POINTS"]
 
 log = logging.getLogger(__name__)
 
@@ -472,3 +473,71 @@ def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "in
     margins, table = curve_margins(res.case, curves(res), res.with_fe, drops, kind, fe_3d=_fe_3d)
     return (margins + stroke_margins(res.case, res.points, res.with_fe)
             + sweep_demagnetisation(res.case, res.points, res.with_fe)), table
+
+
+# --------------------------------------------------------------------------- force curve
+FORCE_CURVE_POINTS = 4
+"""FE strokes of the check's force-stroke figure when the case declares no
+stroke sweep (``magcheck check --report DIR --force-curve``)."""
+
+
+@dataclass(frozen=True)
+class ForceCurve:
+    """FE force points along the stroke for the force-stroke figure.
+
+    strokes : m.  maxwell_3d, virtual_work_3d : N, the FE's Maxwell-stress and
+    virtual-work force times each point's depth correction of the force (its
+    ``depth_factors["force"]``, chosen as magcheck check chooses it), so they
+    sit on the check's FE 3D column.  source : "declared" (the case's own
+    stroke sweep's strokes) or "range" (:data:`FORCE_CURVE_POINTS` over the
+    figure's range).  seconds : wall time of the solves."""
+
+    strokes: tuple[float, ...]
+    maxwell_3d: tuple[float, ...]
+    virtual_work_3d: tuple[float, ...]
+    source: str
+    seconds: float
+
+    def to_dict(self) -> dict:
+        return dataclasses.asdict(self)
+
+
+def force_curve_strokes(case: Case, points: int = FORCE_CURVE_POINTS) -> tuple[VarySpec, str]:
+    """The strokes the force curve solves: the case's declared stroke sweep
+    (the first ``[sweep]`` vary on its stroke key) when it has one, else
+    ``points`` strokes evenly over the force-stroke figure's range (0.2 to 2
+    times the case's stroke, on to 1.1 times the farthest force limit's)."""
+    from ..design.coremodel import core_model
+
+    spec = core_model(case).force
+    if spec is None or spec.stroke_key is None:
+        raise CaseError("--force-curve", None, "the case has no moving part (no stroke)")
+    for decl in case.sweeps:
+        for text in decl.vary:
+            v = parse_vary(text, where="sweep.vary", family=case.family_model)
+            if v.key == spec.stroke_key:
+                return v, "declared"
+    s0 = spec.stroke
+    hi = max([2.0 * s0, *(1.1 * lim.stroke for lim in case.margins.force)])
+    values = tuple(float(x) for x in np.linspace(0.2 * s0, hi, points))
+    return VarySpec(f"{spec.stroke_key}=" + ",".join(f"{x:.6g}" for x in values),
+                    spec.stroke_key, values), "range"
+
+
+def run_force_curve(src: CaseSource, *, points: int = FORCE_CURVE_POINTS,
+                    workers: int | None = 1) -> ForceCurve:
+    """FE force along the stroke, one sweep point per stroke
+    (:func:`force_curve_strokes`; each a nonlinear solve on the case's own
+    mesh, as ``magcheck sweep``): the force-stroke figure's FE points beside
+    the check's own stroke.  Points that did not converge give NaN."""
+    t0 = time.perf_counter()
+    base = make_case(src, {})
+    spec, source = force_curve_strokes(base, points)
+    res = run_sweep(src, [spec], workers=workers)
+    mx, vw = [], []
+    for p in res.points:
+        k = _fe_3d(p, "force") if p.converged else math.nan
+        mx.append(p.fe.get("force_maxwell", p.fe.get("force", math.nan)) * k)
+        vw.append(p.fe.get("force_virtual_work", math.nan) * k)
+    return ForceCurve(tuple(float(p.settings[spec.key]) for p in res.points), tuple(mx),
+                      tuple(vw), source, time.perf_counter() - t0)

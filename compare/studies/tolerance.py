@@ -44,7 +44,7 @@ from ..reading.variants import CaseSource, make_case
 from ..design.units import UnitError, parse_quantity
 
 __all__ = ["nominal_value", "draw_samples", "SampleResult", "ToleranceResult", "run_tolerance",
-           "CLI_OPTIONS", "run_samples", "PERCENTILES"]
+           "CLI_OPTIONS", "run_samples", "PERCENTILES", "inductance_figure"]
 
 log = logging.getLogger(__name__)
 
@@ -215,6 +215,13 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
     return tuple(out)
 
 
+def inductance_figure(margin_key: str) -> str:
+    """The figure an inductance margin is judged on, named from its key:
+    ``"inductance_secant@6A:min"`` -> ``"inductance_secant@6A"`` (the min
+    and max of one window share it)."""
+    return margin_key.rsplit(":", 1)[0]
+
+
 def _fit(hand: np.ndarray, fe: np.ndarray) -> tuple[Callable[[np.ndarray], np.ndarray], str]:
     """FE ~ a + b hand by least squares (mean ratio with < 3 points or no spread).
 
@@ -246,6 +253,13 @@ class ToleranceResult:
     values : per figure ("inductance", "peak_B", "saturation_current") an
         array of shape (n,) over the samples: FE where it ran, corrected
         hand values elsewhere (saturation current: hand model).
+        "inductance" is the secant L at the case's current; each inductance
+        window of ``[[margins.inductance]]`` adds its own figure,
+        ``"inductance_<secant|incremental>@<I>A"`` (e.g.
+        ``"inductance_secant@6A"``): the value that window is judged on, at
+        its own current, FE x the depth factor chosen there
+        (compare.judge.check.choose_depth_model), corrected as the margin is
+        on the hand-only samples.
     passed : shape (n,) bool, every margin met (n/a counts as met).
     """
 
@@ -272,12 +286,14 @@ class ToleranceResult:
         return tuple(s for s in self.samples if not s.ok)
 
     def keys(self) -> list[str]:
-        """The figures ``result[...]`` takes (``inductance``, ``peak_B``, ``saturation_current``)."""
+        """The figures ``result[...]`` takes (``inductance``, one
+        ``inductance_<kind>@<I>A`` per inductance window, ``peak_B``,
+        ``saturation_current``)."""
         return list(self.values)
 
     def __getitem__(self, figure: str) -> np.ndarray:
-        """One figure over the samples, SI (inductance H, peak_B T,
-        saturation_current A): FE where it ran, corrected hand values elsewhere.
+        """One figure over the samples, SI (inductance and inductance_... H,
+        peak_B T, saturation_current A): FE where it ran, corrected hand values elsewhere.
 
         Raises
         ------
@@ -353,16 +369,23 @@ def run_tolerance(src: CaseSource, *, samples: int, seed: int, fe_samples: int |
     # Margins: FE samples as evaluated; others corrected per margin key.
     keys = [m.key for m in res[0].margins]
     passed = np.ones(len(res), dtype=bool)
+    judged: dict[str, np.ndarray] = {}
     for j, key in enumerate(keys):
         val = np.array([r.margins[j].value for r in res])
         hv = np.array([r.margins[j].hand for r in res])
         m0 = res[0].margins[j]
+        fit_text = ""
         if m0.basis == "FE" and fe_mask.any() and not fe_mask.all():
-            val = np.where(fe_mask, val, _fit(hv[fe_mask], val[fe_mask])[0](hv))
+            fit, fit_text = _fit(hv[fe_mask], val[fe_mask])
+            val = np.where(fe_mask, val, fit(hv))
+        if key.startswith("inductance_") and inductance_figure(key) not in judged:
+            judged[inductance_figure(key)] = val  # the L a window is judged on, at its current
+            if fit_text:
+                fits[inductance_figure(key)] = fit_text
         with np.errstate(invalid="ignore"):
             ok = val <= m0.limit if m0.kind == "max" else val >= m0.limit
         passed &= ok | ~np.isfinite(val)
-    values = {"inductance": ind, "peak_B": peak,
+    values = {"inductance": ind, **judged, "peak_B": peak,
               "saturation_current": np.array([r.hand_saturation for r in res])}
     return ToleranceResult(base, tuple(res), values, passed, fe_samples, seed, drop,
                            time.perf_counter() - t0, fits)

@@ -50,6 +50,11 @@ def add_args(p: argparse.ArgumentParser) -> None:
                         "columns")
     p.add_argument("--breakdown", action="store_true",
                    help="print the difference breakdown as a full table (by default one line)")
+    p.add_argument("--force-curve", action="store_true",
+                   help="with --report, a case with a moving part: FE force points along the "
+                        "stroke on the force-stroke figure (the case's declared stroke sweep, "
+                        "else 4 strokes over the figure's range; one nonlinear solve on the "
+                        "case's mesh per stroke, ~1-2 s each)")
     add_agreement_arg(p)
 
 
@@ -87,8 +92,22 @@ def run(args: argparse.Namespace) -> int:
         from dataclasses import replace
 
         case = replace(case, fe=replace(case.fe, allow_large=True))
+    if args.force_curve and not args.report:
+        from ...errors import CaseError
+
+        raise CaseError("--force-curve", None, "draws on the --report figure: give --report DIR")
+    curve = None
+    if args.force_curve:  # before the check: a case without a moving part is bad input
+        from ...studies.sweep import case_source, force_curve_strokes, run_force_curve
+
+        force_curve_strokes(case)
+        curve = run_force_curve(case_source(args.case, allow_large=args.allow_large)[0])
     res = run_check(case, all_fringing=args.all_fringing,
                     estimate_error=not args.no_error_estimate)
+    if curve is not None:
+        from dataclasses import replace as _replace
+
+        res = _replace(res, force_curve=curve)
     out = text_stream(args.json, args.csv, args.markdown, args.vtu, args.dxf)
     print_check(res, out, args.agreement, wide=args.wide, breakdown=args.breakdown)
     if args.json:

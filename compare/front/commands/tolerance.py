@@ -46,15 +46,26 @@ def add_args(p: argparse.ArgumentParser) -> None:
 
 
 def _labels(res) -> dict[str, str]:
-    return {"inductance": f"inductance (secant) at {res.case.winding.current:g} A",
-            "peak_B": "peak core B",
-            "saturation_current": f"saturation current (hand, L -{100 * res.drop:g} %)"}
+    """A label per figure of ``res.values``; an inductance window's figure
+    (``inductance_<kind>@<I>A``) reads "L (<kind>) at <I> A, as judged"."""
+    out = {"inductance": f"inductance (secant) at {res.case.winding.current:g} A",
+           "peak_B": "peak core B",
+           "saturation_current": f"saturation current (hand, L -{100 * res.drop:g} %)"}
+    for k in res.values:
+        if k.startswith("inductance_"):
+            kind, at = k[len("inductance_"):].split("@", 1)
+            out[k] = f"L ({kind}) at {at[:-1]} A, as judged"
+    return out
+
+
+def _unit(figure: str) -> str:
+    return "H" if figure.startswith("inductance") else _UNITS[figure]
 
 
 def print_tolerance(res, out) -> None:
     pct = res.percentiles(PERCENTILES)
     labels = _labels(res)
-    rows = [[labels[k]] + [format_si(v, _UNITS[k]) if math.isfinite(v) else "-" for v in vals]
+    rows = [[labels[k]] + [format_si(v, _unit(k)) if math.isfinite(v) else "-" for v in vals]
             for k, vals in pct.items()]
     notes = [f"{len(res.samples)} samples, seed {res.seed}; FE on {res.fe_samples}. "
              + "; ".join(f"{k}: {v}" for k, v in res.fits.items()),
