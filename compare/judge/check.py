@@ -163,6 +163,9 @@ class CheckResult:
     """Two concentric windings: {"hand": L_s, "fe": L_s} referred to the first (H)."""
     depth: Any = None
     """The :class:`DepthCorrection` behind the FE 3D column (None: not computed)."""
+    measured: tuple = ()
+    """compare.judge.measurement.MeasuredRow per ``[[measured]]`` entry at the
+    case's operating point (the measured column; empty without measurements)."""
 
     @property
     def design_passed(self) -> bool:
@@ -1158,6 +1161,12 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
     if leakage:
         rows = rows + (leakage_row(case, leakage),)
     notes = explain(case, rows, hand_p, fe, depth)
+    measured: tuple = ()
+    if case.measured:
+        from .measurement import measured_note, measured_rows
+
+        measured, left = measured_rows(case, rows)
+        notes = notes + (measured_note(measured, left),)
     ranking = full_ranking if all_fringing else ()
     from .breakdown import difference_breakdown
 
@@ -1170,7 +1179,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
                        timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
                                 "total": t3 - t0},
                        fringing_ranking=ranking, breakdown=breakdown, drive=drive,
-                       leakage=leakage, depth=depth)
+                       leakage=leakage, depth=depth, measured=measured)
 
 
 def dataframe(records: list[dict], index: str | None = None) -> Any:
