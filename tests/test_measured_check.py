@@ -231,3 +231,23 @@ def test_the_demo_passes_verify_and_a_tighter_limit_fails(tmp_path):
     out = verify_case(str(tight), estimate_error=True)
     assert out["measured:0:inductance:fe"].verdict == "FAIL" and not out.design_passed
     assert out.agreement_passed  # a measurement is the design's verdict, not hand vs FE
+
+
+def test_a_force_is_read_at_the_case_stroke_and_current(tmp_path):
+    clapper = ROOT / "cases" / "demo_clapper_relay.toml"
+    p = tmp_path / "c.toml"
+    (tmp_path / "F.csv").write_text("stroke [mm],F [N],u [N]\n0.4,9,0.3\n1.2,3,0.1\n")
+    p.write_text(clapper.read_text() + '\n[[measured]]\nquantity = "force"\ncsv = "F.csv"\n'
+                 '\n[[measured]]\nquantity = "force"\nat = "0.8 mm"\nvalue = "5 N"\n'
+                 'uncertainty = "0.2 N"\ncurrent = "0.3 A"\n')
+    case = magcheck.load(p)
+    row = Row("force", "force", "N", 5.5, 5.8, 0.01, -5.2, 15.0, "pass", hand_3d=6.0, fe_3d=6.2,
+              fe_3d_uncertainty=0.2)
+    (m,), left = measured_rows(case, (row,))
+    # the case's stroke 0.8 mm is half way along 0.4..1.2 mm: 6 N +- 0.2 N
+    assert (m.at, m.at_unit) == (pytest.approx(0.8e-3), "m")
+    assert (m.measured, m.u_measured) == (pytest.approx(6.0), pytest.approx(0.2))
+    # Source: GUM eq. 10, combined sqrt(0.2^2 + 0.2^2) N
+    assert m.fe_sigma == pytest.approx(0.2 / math.hypot(0.2, 0.2), rel=1e-9)
+    assert m.hand_sigma == pytest.approx(0.0, abs=1e-9)
+    assert "measured at 0.3 A, the case runs at 0.15 A" in left[0]
