@@ -255,6 +255,18 @@ def block_choke_check() -> str:
     return "\n```\n" + text + "\n```\n"
 
 
+def block_measured_demo() -> str:
+    """The measured column of cases/demo_choke_measured.toml (FE run)."""
+    from magcheck.compare.judge.check import run_check
+    from magcheck.compare.reading.casefile import load_case
+
+    (m,) = run_check(load_case(ROOT / "cases" / "demo_choke_measured.toml")).measured
+    mh = 1e3
+    return (f"at {m.at:g} A measured {m.measured * mh:.3g} ± {m.u_measured * mh:.2g} mH, "
+            f"hand 3D {m.hand * mh:.4g} mH (Δ/u {m.hand_sigma:+.1f}), FE 3D {m.fe * mh:.4g} ± "
+            f"{m.u_fe * mh:.3g} mH (Δ/u {m.fe_sigma:+.1f})").replace("-", "\u2212")
+
+
 @lru_cache(maxsize=None)
 def _force_sweep(case: str, strokes: tuple[str, ...]) -> dict[str, dict]:
     """stroke -> {hand, hand_pull, fe, fe_vw, fe_peak_B}: a sweep of the
@@ -531,6 +543,7 @@ SLOW: dict[str, Callable[[], str]] = {
     "leakage-windows": block_leakage_windows,
     "leakage-hw-table": block_leakage_hw_table,
     "leakage-hw-3mm": block_leakage_hw_3mm,
+    "measured-demo": block_measured_demo,
 }
 
 

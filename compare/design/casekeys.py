@@ -266,7 +266,12 @@ MEASURED = {"quantity": string("what was measured", ("inductance", "incremental_
             "frequency": quantity("frequency", "the measuring frequency, for the record"),
             "source": string("free text: instrument, date, who"),
             "csv": string("a measured curve: CSV file with 'I [A],L [mH]' or 'stroke [mm],F [N]' "
-                          "(and optionally 'u [unit]' or 'u [%]'), relative to the case file")}
+                          "(and optionally 'u [unit]' or 'u [%]'), relative to the case file"),
+            "hold": string("the model magcheck verify holds to this measurement at the case's "
+                           "operating point (default fe when within is given)",
+                           ("fe", "hand", "both")),
+            "within": number("verify's limit: the largest |model - measured| in combined "
+                             "standard uncertainties sqrt(u_meas^2 + u_model^2), e.g. 2")}
 
 ROOT_KEYS: dict[str, Key] = {
     "case": table(CASE, "name, family, description"),

@@ -65,6 +65,8 @@ class Measured:
     frequency : the measuring frequency (Hz; None = not stated): the models
         are magnetostatic, so a value taken at a frequency where eddy
         currents matter is not theirs to match.
+    hold, within : the verify limit (``hold`` the model, ``within`` the
+        number of combined standard uncertainties).
     source : free text (instrument, date, who).
     file : the CSV the points came from ("" for a single value).
     """
@@ -75,6 +77,12 @@ class Measured:
     current: float | None = None
     frequency: float | None = None
     file: str = ""
+    hold: str = ""
+    """Which model ``magcheck verify`` holds to this measurement: "fe",
+    "hand" or "both" ("" = none: shown, not judged)."""
+    within: float = math.nan
+    """The largest |model - measured| verify accepts, in combined standard
+    uncertainties (:func:`normalised_difference`); NaN without ``hold``."""
 
     @property
     def unit(self) -> str:

@@ -175,6 +175,9 @@ class CheckResult:
     force_curve: Any = None
     """compare.studies.sweep.ForceCurve: FE force points along the stroke for
     the force-stroke figure (``magcheck check --force-curve``; None: not run)."""
+    measured: tuple = ()
+    """compare.judge.measurement.MeasuredRow per ``[[measured]]`` entry at the
+    case's operating point (the measured column; empty without measurements)."""
 
     @property
     def design_passed(self) -> bool:
@@ -1244,6 +1247,12 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
         ac = run_ac(case, fe, hand_p, hand_3d)
         rows = rows + tuple(ac_rows(case, ac))
     notes = explain(case, rows, hand_p, fe, depth) + ac_notes(case, ac)
+    measured: tuple = ()
+    if case.measured:
+        from .measurement import measured_note, measured_rows
+
+        measured, left = measured_rows(case, rows)
+        notes = notes + (measured_note(measured, left),)
     ranking = full_ranking if all_fringing else ()
     from .breakdown import difference_breakdown
 
@@ -1256,7 +1265,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
                        timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
                                 "total": t3 - t0},
                        fringing_ranking=ranking, breakdown=breakdown, drive=drive,
-                       leakage=leakage, depth=depth, ac=ac)
+                       leakage=leakage, depth=depth, ac=ac, measured=measured)
 
 
 def dataframe(records: list[dict], index: str | None = None) -> Any:

@@ -145,6 +145,7 @@ def check_json(res: Any, agreement: str = "fatal") -> dict:
         "verdict_counts": {"design": res.verdict_counts("design"),
                            "agreement": res.verdict_counts("agreement")},
         "exit_code": res.exit_code_for(agreement),
+        **({"measured": [m.to_dict() for m in res.measured]} if res.measured else {}),
         "timings_s": res.timings,
         "versions": versions(),
         "caution": CAUTION,

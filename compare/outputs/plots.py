@@ -1037,6 +1037,30 @@ def _sweep_margin_marks(ax, case, panel: str, scale: float) -> None:
                    label=f"peak-B limit {m.peak_B:.3g} T")
 
 
+MEASURED_COLOUR = "#222222"
+"""The colour of measured points (compare.design.measured) on a figure."""
+
+
+def measured_marks(ax, case, quantities: Sequence[str], x_scale: float, y_scale: float) -> int:
+    """The case's measurements of ``quantities`` (``[[measured]]``) as points
+    with error bars of one standard uncertainty (k = 1) over the model
+    curves: x = the measurement's current or stroke (SI) times ``x_scale``, y
+    = its value times ``y_scale``. Returns the number of points drawn."""
+    n = 0
+    for i, m in enumerate(case.measured):
+        if m.quantity not in quantities or not m.points:
+            continue
+        what = m.quantity.replace("_", " ")
+        at = f" at {m.current:g} A" if m.current is not None else ""
+        src = f" ({m.source[:40]}{'...' if len(m.source) > 40 else ''})" if m.source else ""
+        ax.errorbar([p.at * x_scale for p in m.points], [p.value * y_scale for p in m.points],
+                    yerr=[p.uncertainty * y_scale for p in m.points], fmt="o" if i % 2 == 0
+                    else "D", ms=4, color=MEASURED_COLOUR, mfc="white", capsize=3, lw=1.0,
+                    zorder=4, label=f"measured {what}{at} ± u{src}")
+        n += len(m.points)
+    return n
+
+
 def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]:
     """The figures of a sweep as (file name, figure): inductance (secant and
     incremental), flux linkage and core B (mean and peak) against the swept
@@ -1091,6 +1115,8 @@ def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]
                 _saturation_marks(ax, saturation, tag, shade)
         if x_key == CURRENT_KEY:
             _sweep_margin_marks(ax, res.case, name, scale)
+            if name == "sweep_inductance.png":
+                measured_marks(ax, res.case, [k for k, _ in series], 1.0, scale)
         ax.set_xlabel(x_label)
         ax.set_ylabel(ylabel)
         ax.grid(alpha=0.3)
@@ -1148,6 +1174,7 @@ def fig_sweep_force(res, groups, x_of, x_label):
                 if v is not None:
                     ax.plot([lim.stroke * k], [v], mk, color=MARGIN_COLOUR, ms=9,
                             label=f"limit: {word} {v:g} N at {lim.stroke * 1e3:g} mm")
+        measured_marks(ax, res.case, ("force",), k, 1.0)
     ax.set_xlabel(x_label)
     ax.set_ylabel("force on the moving part (N), closing")
     ax.grid(alpha=0.3)

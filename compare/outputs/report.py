@@ -89,6 +89,16 @@ def _margin_table(res: CheckResult) -> str:
     return "<h2>Design margins</h2>\n" + _table(MARGIN_COLUMNS, rows)
 
 
+def _measured_table(res: CheckResult) -> str:
+    """The measured column (compare.judge.measurement) in a table of its own."""
+    from .serialize import MEASURED_COLUMNS, MEASURED_TITLE, measured_cells
+
+    if not res.measured:
+        return ""
+    return (f"<h2>{html.escape(pretty_units(MEASURED_TITLE[0].upper() + MEASURED_TITLE[1:]))}"
+            "</h2>\n" + _table(MEASURED_COLUMNS, [measured_cells(m) for m in res.measured]))
+
+
 def _mm(v: float) -> str:
     return f"{v * 1e3:.4g} mm"
 
@@ -186,6 +196,7 @@ def write_report(res: CheckResult, folder: str | Path, agreement: str = "fatal")
                                 verdict_lines(res, agreement))) + "</ul>",
         _agreement_table(res),
         _margin_table(res),
+        _measured_table(res),
         "<ul>" + "".join(f"<li>{html.escape(pretty_units(n))}</li>" for n in res.notes) + "</ul>",
         "<h2>Inputs</h2>",
         _table(["input", "value"], input_rows(res)),

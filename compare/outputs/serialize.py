@@ -241,6 +241,12 @@ def check_markdown(res: CheckResult, agreement: str = "fatal") -> str:
         lines += ["| " + " | ".join(markdown_text(c) for c in margin_cells(r)) + " |"
                   for r in design]
         lines.append("")
+    if res.measured:
+        lines += [markdown_text(MEASURED_TITLE[0].upper() + MEASURED_TITLE[1:]) + ":", "",
+                  "| " + " | ".join(MEASURED_COLUMNS) + " |", "|" + "---|" * len(MEASURED_COLUMNS)]
+        lines += ["| " + " | ".join(markdown_text(pretty_units(c)) for c in measured_cells(m))
+                  + " |" for m in res.measured]
+        lines.append("")
     lines += [f"- {markdown_text(pretty_units(n))}" for n in res.notes]
     if res.fringing_ranking:
         lines += ["", "Fringing models against the FE (planar form), best first:", "",
@@ -463,6 +469,29 @@ AGREEMENT_COLUMNS = ["quantity", "hand", "FE", "FE +/-", "diff %", "limit %", "v
 """The like-for-like columns of the terminal's agreement table."""
 
 
+MEASURED_COLUMNS = ["measured", "at", "measured ± u", "hand", "FE (judged) ± u", "hand Δ/u",
+                    "FE Δ/u"]
+"""The measured section's columns: Δ/u is (model - measured) over the
+combined standard uncertainty (compare.judge.measurement)."""
+MEASURED_TITLE = ("measured (the built part; Δ/u = model - measured in combined standard "
+                  "uncertainties, k = 1)")
+
+
+def _sigma(v: float) -> str:
+    return "-" if not math.isfinite(v) else f"{v:+.2f}"
+
+
+def measured_cells(m: Any) -> list[str]:
+    """A compare.judge.measurement.MeasuredRow as display strings, in
+    `MEASURED_COLUMNS` order."""
+    at = f"{m.at * 1e3:g} mm" if m.at_unit == "m" else f"{m.at:g} A"
+    label = m.label + (", curve" if m.curve else "")
+    fe_u = f" ± {_fmt(m.u_fe, m.unit)}" if math.isfinite(m.u_fe) else ""
+    return [label, at, f"{_fmt(m.measured, m.unit)} ± {_fmt(m.u_measured, m.unit)}",
+            _fmt(m.hand, m.unit), _fmt(m.fe, m.unit) + fe_u, _sigma(m.hand_sigma),
+            _sigma(m.fe_sigma)]
+
+
 def agreement_cells(row: Row, with_3d: bool) -> list[str]:
     cells = display_cells(row)
     return cells[:7] + (cells[7:] if with_3d else [])
@@ -522,6 +551,12 @@ def check_lines(res: CheckResult, agreement: str = "fatal", *, width: int = 100,
                     "against the case's limits)" if width >= 90 else "design margins", "title"))
         out += [(ln, "table")
                 for ln in fit_table(MARGIN_COLUMNS, [("", design)], limit, rule=rule)]
+    if res.measured:
+        out.append(("", ""))
+        out.append((txt(MEASURED_TITLE) if width >= 90 else "measured", "title"))
+        out += [(ln, "table") for ln in fit_table(
+            [txt(h) for h in MEASURED_COLUMNS],
+            [("", [[txt(c) for c in measured_cells(m)] for m in res.measured])], limit, rule=rule)]
     out.append(("", ""))
     fe = res.fe.fine
     notes = list(res.notes) + [

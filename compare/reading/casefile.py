@@ -926,6 +926,16 @@ def _read_measured(t: TableReader, base_dir: Any) -> Any:
             raise CaseError(t.key("current"), t.data["current"], "only a force takes a current "
                                                                  "(an inductance's is its at)")
         current = t.quantity("current", "current", positive=False)
+    hold = t.string("hold", "fe" if "within" in t.data else "", choices=("fe", "hand", "both"))
+    within = math.nan
+    if hold:
+        if "within" not in t.data:
+            raise CaseError(t.key("within"), None, "missing: how many combined standard "
+                                                   "uncertainties the model may be off (e.g. 2)")
+        within = t.number("within")
+        if not (math.isfinite(within) and within > 0):
+            raise CaseError(t.key("within"), t.data["within"], "must be a number > 0 (combined "
+                                                               "standard uncertainties)")
     u_raw = t.raw("uncertainty", None)
     u, relative = None, False
     if u_raw is not None:
@@ -954,7 +964,7 @@ def _read_measured(t: TableReader, base_dir: Any) -> Any:
                 from None
         points = parse_measured_csv(text, quantity, str(path), uncertainty=u, relative=relative)
         t.finish()
-        return Measured(quantity, points, source, current, frequency, str(path))
+        return Measured(quantity, points, source, current, frequency, str(path), hold, within)
     if u is None:
         raise CaseError(t.key("uncertainty"), None, "missing: state the measurement's "
                                                     "uncertainty (in the value's unit or %)")
@@ -962,7 +972,7 @@ def _read_measured(t: TableReader, base_dir: Any) -> Any:
     value = t.quantity("value", dim, positive=False)
     t.finish()
     return Measured(quantity, (MeasuredPoint(at, value, u * (abs(value) if relative else 1.0)),),
-                    source, current, frequency)
+                    source, current, frequency, "", hold, within)
 
 
 def _read_target(t: TableReader, family: Family) -> TargetDecl:

@@ -54,7 +54,8 @@ class Item:
 
     group : "limit" (hand vs FE agreement), "stored" (an agreement verdict
         against the stored one), "margin", "sweep", "target" (a stored
-        target solve, compare.studies.verify.target_item) or "baseline".
+        target solve, compare.studies.verify.target_item), "measured" (a
+        model held to a measurement, :func:`measured_items`) or "baseline".
     verdict : "pass", "FAIL", "n/a" (could not be judged), "within FE noise",
         "inconclusive" (beyond the limit, within the FE noise) or
         "known disagreement (stored)".
@@ -249,6 +250,51 @@ def _check_items(res, stored: dict[str, str] | None = None) -> list[Item]:
     return items
 
 
+def measured_items(res) -> list[Item]:
+    """The measurements a case holds a model to (``[[measured]]`` ``hold`` and
+    ``within``): |model - measured| within ``within`` combined standard
+    uncertainties at the case's operating point (compare.judge.measurement).
+
+    A design item (group "measured"): it ties the stored design to the part
+    that was built, so a case edited away from the hardware, or a model
+    change that moves the answer off the bench, fails the design as a drift
+    of the stored results does; hand against FE is the agreement verdict's
+    business. An entry that holds a model but has no value at the case's
+    point (another current or stroke, a curve that does not reach it) fails:
+    the stated check cannot be made."""
+    from ..judge.measurement import measured_rows
+
+    rows = {m.entry: m for m in res.measured}
+    items = []
+    for i, m in enumerate(res.case.measured):
+        if not m.hold:
+            continue
+        what = m.quantity.replace("_", " ")
+        for model in (("fe", "hand") if m.hold == "both" else (m.hold,)):
+            who = "FE" if model == "fe" else "hand"
+            key = f"measured:{i}:{m.quantity}:{model}"
+            label = f"measured: {who} against the measured {what}"
+            r = rows.get(i)
+            if r is None:
+                left = measured_rows(res.case, res.rows)[1]
+                why = next((t for t in left if t.startswith(f"measured[{i}]")), "")
+                items.append(Item("measured", key, label, "u", math.nan, m.within, "abs",
+                                  math.nan, "FAIL", f"no measured value at the case's point ({why})"))
+                continue
+            d = r.sigma(model)
+            ok = math.isfinite(d) and abs(d) <= m.within
+            value = r.fe if model == "fe" else r.hand
+            u_model = f" ± {r.u_fe:.4g}" if model == "fe" and math.isfinite(r.u_fe) else ""
+            items.append(Item(
+                "measured", key, label, "u", d, m.within, "abs",
+                100.0 * (m.within - abs(d)) / m.within if math.isfinite(d) else math.nan,
+                "pass" if ok else "FAIL",
+                f"{who} {value:.4g}{u_model} {r.unit}, measured {r.measured:.4g} ± "
+                f"{r.u_measured:.4g} {r.unit} at {r.at:g} {r.at_unit}: "
+                f"{d:+.2f} combined standard uncertainties, limit ±{m.within:g}"))
+    return items
+
+
 def _margin_item(group: str, m) -> Item:
     """A sweep margin: key and label say "sweep" (check has items of the same name)."""
     return Item(group, f"{group}:{m.key}", f"{group}: {m.label}", m.unit, m.value, m.limit,
@@ -333,6 +379,7 @@ def verify_source(src, case, stored: dict | None = None, *, use_baseline: bool =
         res = run_check(case, estimate_error=estimate_error)
         same = stored is not None and stored.get("case_sha256") in (None, "", case.sha256)
         items += _check_items(res, stored.get("agreement") if same and stored else None)
+        items += measured_items(res)
         for decl, specs in zip(case.sweeps, specs_per_sweep):
             sw = run_sweep(src, specs, workers=1, names={"vary": "sweep.vary"})
             if not sw.converged:
@@ -522,7 +569,7 @@ def item_text(it: Item) -> str:
                 f"+-{_num(it.limit, '%')}; {it.message}")
     if it.group == "baseline":
         return it.message
-    if it.group == "target":
+    if it.group in ("target", "measured"):
         return f"{it.label}: {it.message}"
     sign = "<=" if it.limit_kind == "max" else ">="
     text = (f"{it.label}: value {_num(it.value, it.unit)}, limit {sign} "
