@@ -307,12 +307,14 @@ def test_hand_named_access():
 def test_tolerance_takes_a_case_and_names_its_figures():
     case = magcheck.load(ROOT / "cases/demo_choke_margins.toml")
     res = magcheck.tolerance(case, samples=8, seed=1, fe_samples=0)
-    assert res.keys() == ["inductance", "peak_B", "saturation_current"]
+    # the case's own figures, then one per inductance window at its own current
+    assert res.keys() == ["inductance", "inductance_secant@6A", "peak_B", "saturation_current"]
     assert res["inductance"].shape == (8,) and (res["inductance"] > 0).all()
     # the gap's tolerance spreads the inductance: a wider gap, a smaller L
     gaps = [s.settings["gaps[0].length"] for s in res.samples]
     assert len(set(gaps)) == 8
-    with pytest.raises(KeyError, match="known: inductance, peak_B, saturation_current"):
+    with pytest.raises(KeyError, match="known: inductance, inductance_secant@6A, peak_B, "
+                                      "saturation_current"):
         res["L"]
     # a case whose curve with_values scaled: the scale tolerance (sigma 5 %) is drawn
     # round its own nominal 1.2, not round the file's 1
