@@ -936,19 +936,8 @@ def _read_measured(t: TableReader, base_dir: Any) -> Any:
         if not (math.isfinite(within) and within > 0):
             raise CaseError(t.key("within"), t.data["within"], "must be a number > 0 (combined "
                                                                "standard uncertainties)")
-    u_raw = t.raw("uncertainty", None)
-    u, relative = None, False
-    if u_raw is not None:
-        if isinstance(u_raw, str) and u_raw.strip().endswith("%"):
-            try:
-                u = float(u_raw.strip()[:-1]) / 100.0
-            except ValueError:
-                raise CaseError(t.key("uncertainty"), u_raw, "cannot read the percentage") from None
-            relative = True
-        else:
-            u = t.quantity("uncertainty", dim, allow_zero=True)
-        if not (math.isfinite(u) and u >= 0.0):
-            raise CaseError(t.key("uncertainty"), u_raw, "must be finite and >= 0")
+    u, relative = (_deviation(t, "uncertainty", dim) if t.raw("uncertainty", None) is not None
+                   else (None, False))
     if "csv" in t.data:
         for k in ("at", "value"):
             if k in t.data:
@@ -975,6 +964,22 @@ def _read_measured(t: TableReader, base_dir: Any) -> Any:
                     source, current, frequency, "", hold, within)
 
 
+
+def _deviation(t: TableReader, name: str, dim: str) -> tuple[float, bool]:
+    """A deviation written in the value's unit or as a percentage ("2 %"):
+    (the value, True when it is a fraction of the value)."""
+    raw = t.raw(name)
+    if isinstance(raw, str) and raw.strip().endswith("%"):
+        try:
+            v, relative = float(raw.strip()[:-1]) / 100.0, True
+        except ValueError:
+            raise CaseError(t.key(name), raw, "cannot read the percentage") from None
+    else:
+        v, relative = t.quantity(name, dim, allow_zero=True), False
+    if not (math.isfinite(v) and v >= 0.0):
+        raise CaseError(t.key(name), raw, "must be a finite deviation >= 0")
+    return v, relative
+
 def _read_target(t: TableReader, family: Family) -> TargetDecl:
     """One ``[[targets]]`` entry, its bracket and targets read by the grammar
     of ``magcheck target`` (compare.design.targets)."""
@@ -996,20 +1001,12 @@ def _read_target(t: TableReader, family: Family) -> TargetDecl:
                                                    "then asks for a range meeting them all)")
     fe = t.quantity("fe", dim, None, positive=False) if "fe" in t.data else None
     tol_raw = t.raw("tolerance", None)
-    tol, relative = None, False
+    tol: float | None = None
+    relative = False
     if tol_raw is not None:
         if fe is None:
             raise CaseError(t.key("tolerance"), tol_raw, "needs fe, the FE answer it holds")
-        if isinstance(tol_raw, str) and tol_raw.strip().endswith("%"):
-            try:
-                tol = float(tol_raw.strip()[:-1]) / 100.0
-            except ValueError:
-                raise CaseError(t.key("tolerance"), tol_raw, "cannot read the percentage") from None
-            relative = True
-        else:
-            tol = t.quantity("tolerance", dim, allow_zero=True)
-        if not (math.isfinite(tol) and tol >= 0.0):
-            raise CaseError(t.key("tolerance"), tol_raw, "must be a finite deviation >= 0")
+        tol, relative = _deviation(t, "tolerance", dim)
     elif fe is not None:
         raise CaseError(t.key("fe"), t.data.get("fe"), "needs a tolerance (how far the FE "
                                                        "answer may move)")
