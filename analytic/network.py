@@ -363,19 +363,26 @@ class _FluxLaw:
 
     @classmethod
     def of(cls, net: Network) -> "_FluxLaw":
-        lin, perm, off = [], [], []
-        groups: dict[int, tuple[Any, list[int]]] = {}
+        lin: list[int] = []
+        perm: list[float] = []
+        off: list[float] = []
+        groups: dict[int, tuple[Any, list[CoreBranch], list[int]]] = {}
         for k, br in enumerate(net.branches):
             if isinstance(br, GapBranch):
-                lin.append(k), perm.append(br.permeance), off.append(0.0)
+                lin.append(k)
+                perm.append(br.permeance)
+                off.append(0.0)
             elif isinstance(br, MagnetBranch):
-                lin.append(k), perm.append(br.permeance), off.append(br.coercive_mmf)
+                lin.append(k)
+                perm.append(br.permeance)
+                off.append(br.coercive_mmf)
             else:
-                groups.setdefault(id(br.material), (br.material, []))[1].append(k)
-        cores = tuple((mat, np.array(idx, dtype=np.int64),
-                       np.array([net.branches[k].length for k in idx]),
-                       np.array([net.branches[k].area for k in idx]))
-                      for mat, idx in groups.values())
+                group = groups.setdefault(id(br.material), (br.material, [], []))
+                group[1].append(br)
+                group[2].append(k)
+        cores = tuple((mat, np.array(idx, dtype=np.int64), np.array([b.length for b in brs]),
+                       np.array([b.area for b in brs]))
+                      for mat, brs, idx in groups.values())
         return cls(np.array(lin, dtype=np.int64), np.array(perm), np.array(off), cores)
 
     def __call__(self, f: NDArray) -> tuple[NDArray, NDArray]:

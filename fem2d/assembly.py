@@ -35,7 +35,7 @@ __all__ = ["Assembler"]
 _INTORDER = {1: 1, 2: 4}
 
 #: id(mesh) -> (weak reference to the mesh, {formulation: geometry}) (Assembler._geometry)
-_GEOMETRY: dict = {}
+_GEOMETRY: dict[int, tuple[weakref.ref, dict]] = {}
 
 
 class Assembler:
@@ -62,14 +62,14 @@ class Assembler:
         self.formulation = form = formulation if formulation is not None \
             else formulation_for(rmesh.layout)
         form.check(rmesh.layout)
-        cached = _GEOMETRY.get(id(rmesh))
-        geom = None if cached is None or cached[0]() is not rmesh else cached[1].get(form)
+        mesh_key = id(rmesh)
+        cached = _GEOMETRY.get(mesh_key)
+        if cached is None or cached[0]() is not rmesh:  # a new mesh (or a reused id)
+            cached = (weakref.ref(rmesh, lambda _r: _GEOMETRY.pop(mesh_key, None)), {})
+            _GEOMETRY[mesh_key] = cached
+        geom = cached[1].get(form)
         if geom is None:
-            geom = self._geometry(rmesh, form)
-            if cached is None or cached[0]() is not rmesh:
-                cached = (weakref.ref(rmesh, lambda _r, k=id(rmesh): _GEOMETRY.pop(k, None)), {})
-                _GEOMETRY[id(rmesh)] = cached
-            cached[1][form] = geom
+            geom = cached[1][form] = self._geometry(rmesh, form)
         self.__dict__.update(geom)
         G, nloc, ne, nq = self.G, self.nloc, self.ne, self.nq
         lay = rmesh.layout
