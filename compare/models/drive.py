@@ -72,6 +72,14 @@ INRUSH_REACH = 1e5
 """How far past the hand's peak magnetizing current the FE curve may climb
 toward the inrush estimate's flux linkage (a factor) before giving up."""
 
+JUMP_PREDICTOR = 0.3
+"""Fraction of the tangent step that predicts an inrush continuation point
+(continue_curve's steps of up to 3x in current past saturation, where the
+curve is concave and the full tangent step overshoots the field in the iron).
+On the demo transformer the six continuation solves took 34 Newton steps
+with the full step, 32 with none, 30 with 0.15, 28 with 0.5, 26 with 0.3;
+the converged points are the same to the Newton tolerance either way."""
+
 DRIVE_KEYS = ("B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
               "magnetizing_inductance", "B_limb_peak")
 
@@ -290,6 +298,8 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
             near = min(states, key=lambda st: abs(st[0] - current))
             i0, A_near, slope = near
             A0 = A_near + slope * (current - i0)
+            if jump:  # past the knee the curve is concave: the full tangent step overshoots
+                A0 = A_near + JUMP_PREDICTOR * slope * (current - i0)
             if jump or near is not states[-1]:
                 # a jump (the inrush continuation's steps of up to 3x, or back
                 # down the curve): the last factorisation preconditions this
