@@ -346,9 +346,62 @@ def _branch_flux(br: CoreBranch | GapBranch | MagnetBranch, f: float) -> tuple[f
     return br.area * b, br.area * dbdh / br.length
 
 
+@dataclass(frozen=True, eq=False)
+class _FluxLaw:
+    """Every branch's flux and d phi/dF at once: :func:`_branch_flux` over
+    the branches, with one ``b_of_h`` call per material on the drops of all
+    its core branches (the B-H inversion is a vectorised Newton iteration,
+    so a call costs about the same for one value as for many).
+
+    ``f`` has the branches on its last axis (shape (..., n_branches)), so a
+    line search evaluates its quadrature points in one call."""
+
+    linear: NDArray[np.int64]
+    permeance: NDArray[np.float64]
+    offset: NDArray[np.float64]
+    cores: tuple[tuple[Any, NDArray[np.int64], NDArray[np.float64], NDArray[np.float64]], ...]
+
+    @classmethod
+    def of(cls, net: Network) -> "_FluxLaw":
+        lin: list[int] = []
+        perm: list[float] = []
+        off: list[float] = []
+        groups: dict[int, tuple[Any, list[CoreBranch], list[int]]] = {}
+        for k, br in enumerate(net.branches):
+            if isinstance(br, GapBranch):
+                lin.append(k)
+                perm.append(br.permeance)
+                off.append(0.0)
+            elif isinstance(br, MagnetBranch):
+                lin.append(k)
+                perm.append(br.permeance)
+                off.append(br.coercive_mmf)
+            else:
+                group = groups.setdefault(id(br.material), (br.material, [], []))
+                group[1].append(br)
+                group[2].append(k)
+        cores = tuple((mat, np.array(idx, dtype=np.int64), np.array([b.length for b in brs]),
+                       np.array([b.area for b in brs]))
+                      for mat, brs, idx in groups.values())
+        return cls(np.array(lin, dtype=np.int64), np.array(perm), np.array(off), cores)
+
+    def __call__(self, f: NDArray) -> tuple[NDArray, NDArray]:
+        f = np.asarray(f, dtype=float)
+        phi = np.empty_like(f)
+        g = np.empty_like(f)
+        if self.linear.size:
+            phi[..., self.linear] = self.permeance * (f[..., self.linear] + self.offset)
+            g[..., self.linear] = np.broadcast_to(self.permeance, f[..., self.linear].shape)
+        for mat, idx, length, area in self.cores:
+            b = np.asarray(mat.b_of_h(f[..., idx] / length), dtype=float)
+            phi[..., idx] = area * b
+            g[..., idx] = area * (1.0 / np.asarray(mat.dh_db(b), dtype=float)) / length
+        return phi, g
+
+
 def _fluxes(net: Network, f: NDArray) -> tuple[NDArray, NDArray]:
-    out = np.array([_branch_flux(br, fk) for br, fk in zip(net.branches, f)])
-    return out[:, 0], out[:, 1]
+    """Branch fluxes phi (Wb) and d phi/dF (Wb/A) at the drops f (A)."""
+    return _FluxLaw.of(net)(f)
 
 
 # --------------------------------------------------------------------------- results
@@ -568,7 +621,7 @@ def _relative_residual(r: NDArray, phi: NDArray) -> float:
     return float(np.linalg.norm(r) / scale) if scale > 0 else float(np.linalg.norm(r))
 
 
-def _line_search(net: Network, coords: _TreeCoordinates, s: NDArray, x: NDArray, dx: NDArray,
+def _line_search(law: _FluxLaw, coords: _TreeCoordinates, s: NDArray, x: NDArray, dx: NDArray,
                  slope0: float) -> float | None:
     """Armijo backtracking on Pi (3); returns the step t or None if none is found."""
     f0 = coords.drops(x, s)
@@ -576,8 +629,8 @@ def _line_search(net: Network, coords: _TreeCoordinates, s: NDArray, x: NDArray,
     t = 1.0
     for _ in range(_MAX_HALVINGS):
         taus = 0.5 * t * (_GAUSS_X + 1.0)
-        dderiv = [float(_fluxes(net, f0 + tau * df)[0] @ df) for tau in taus]
-        decrease = 0.5 * t * float(_GAUSS_W @ np.array(dderiv))  # Pi(x + t dx) - Pi(x)
+        dderiv = law(f0[None, :] + taus[:, None] * df[None, :])[0] @ df  # the quadrature points at once
+        decrease = 0.5 * t * float(_GAUSS_W @ dderiv)  # Pi(x + t dx) - Pi(x)
         if decrease <= _ARMIJO_C1 * t * slope0:
             return t
         t *= 0.5
@@ -618,12 +671,13 @@ def solve_network(
     coords = _tree_coordinates(net)
     s = net.source_mmf()
     x = _initial_drops(net, coords, s, flux0)
+    law = _FluxLaw.of(net)
     history: list[float] = []
     converged = False
     failure = ""
     it = 0
     while True:
-        phi, g = _fluxes(net, coords.drops(x, s))
+        phi, g = law(coords.drops(x, s))
         res = _relative_residual(d_full.T @ phi, phi)
         history.append(res)
         if not math.isfinite(res):
@@ -637,7 +691,7 @@ def solve_network(
         r = coords.m.T @ phi  # gradient of Pi in tree coordinates
         jac = coords.m.T @ (g[:, None] * coords.m)  # SPD reduced weighted Laplacian
         dx = np.linalg.solve(jac, -r)
-        t = _line_search(net, coords, s, x, dx, float(r @ dx))
+        t = _line_search(law, coords, s, x, dx, float(r @ dx))
         if t is None:
             failure = "the line search found no decrease of the co-energy"
             break
@@ -653,7 +707,7 @@ def solve_network(
             f"after {it} iterations"
         )
         logger.warning(message)
-    return _assemble_result(net, coords, s, x, converged, it, tuple(history), message)
+    return _assemble_result(net, coords, s, x, converged, it, tuple(history), message, law)
 
 
 def _branch_results(net: Network, f: NDArray, phi: NDArray) -> tuple[BranchResult, ...]:
@@ -705,9 +759,9 @@ def _inductance_matrix(net: Network, coords: _TreeCoordinates, g: NDArray) -> ND
     return turns[:, None] * dphi_di[idx, :]
 
 
-def _assemble_result(net, coords, s, x, converged, it, history, message) -> NetworkResult:
+def _assemble_result(net, coords, s, x, converged, it, history, message, law=None) -> NetworkResult:
     f = coords.drops(x, s)
-    phi, g = _fluxes(net, f)
+    phi, g = (law or _FluxLaw.of(net))(f)
     branches = _branch_results(net, f, phi)
     if converged:
         for br, res in zip(net.branches, branches):

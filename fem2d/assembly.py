@@ -19,6 +19,8 @@ on the ring's elements: its residual K A, its energy (1/2) A.K A.
 """
 from __future__ import annotations
 
+import weakref
+
 import numpy as np
 import scipy.sparse as sp
 from skfem import Basis, ElementTriP1, ElementTriP2
@@ -31,6 +33,9 @@ __all__ = ["Assembler"]
 
 #: quadrature degree per element order (see Assembler)
 _INTORDER = {1: 1, 2: 4}
+
+#: id(mesh) -> (weak reference to the mesh, {formulation: geometry}) (Assembler._geometry)
+_GEOMETRY: dict[int, tuple[weakref.ref, dict]] = {}
 
 
 class Assembler:
@@ -57,45 +62,16 @@ class Assembler:
         self.formulation = form = formulation if formulation is not None \
             else formulation_for(rmesh.layout)
         form.check(rmesh.layout)
-        elem = ElementTriP2() if rmesh.order == 2 else ElementTriP1()
-        # quadrature: P1 gradients are constant per element, so one point is
-        # exact for nu(|B|^2) grad.grad; P2 uses degree 4 (6 points): degree 2
-        # keeps the O(h^2) rate too, but its errors vary less regularly under
-        # refinement on curved cells (mesh-convergence estimates suffered)
-        self.basis = basis = Basis(rmesh.mesh, elem, intorder=_INTORDER[rmesh.order])
-        self.nloc = nloc = elem.refdom.nnodes if rmesh.order == 1 else 6
-        self.ndofs = basis.N
-        self.dofs = np.asarray(basis.element_dofs, dtype=np.int64)  # (nloc, ne)
-        self.dx = np.asarray(basis.dx)  # (ne, nq), weights * |det J|, m^2
-        ne, nq = self.dx.shape
-        self.ne, self.nq = ne, nq
-        # G[e, i, a*nq + q] = d phi_i / d x_a at quadrature point q of element e
-        G = np.empty((ne, nloc, 2, nq))
-        Phi = np.empty((nloc, ne, nq))
-        for i in range(nloc):
-            f = basis.basis[i][0]
-            G[:, i, 0, :] = f.grad[0]
-            G[:, i, 1, :] = f.grad[1]
-            Phi[i] = np.asarray(f)
-        self.G = G
-        self.Gflat = G.reshape(ne, nloc, 2 * nq)
-        self.phi_int = np.einsum("ieq,eq->ie", Phi, self.dx)  # (nloc, ne), m^2
-        # the formulation's weights at the quadrature points (module
-        # formulation): field scale f (|B| = f |grad u|), volume weight v,
-        # stiffness weight f^2 v; None where they are 1 (planar)
-        self.xq = np.asarray(basis.global_coordinates())  # (2, ne, nq)
-        f = form.field_scale(self.xq)
-        v = form.volume_weight(self.xq)
-        self.f2 = None if f is None else f * f
-        self.wv = self.dx if v is None else self.dx * v  # volume integrals
-        self.wk = self.dx if self.f2 is None else self.dx * self.f2 * v  # stiffness
-        self.Phi = Phi
-        # region areas and material laws per element
-        self.region_names = rmesh.region_names
-        areas = {}
-        for name, idx in rmesh.subdomains.items():
-            areas[name] = float(self.dx[idx].sum())
-        self.areas = areas
+        mesh_key = id(rmesh)
+        cached = _GEOMETRY.get(mesh_key)
+        if cached is None or cached[0]() is not rmesh:  # a new mesh (or a reused id)
+            cached = (weakref.ref(rmesh, lambda _r: _GEOMETRY.pop(mesh_key, None)), {})
+            _GEOMETRY[mesh_key] = cached
+        geom = cached[1].get(form)
+        if geom is None:
+            geom = cached[1][form] = self._geometry(rmesh, form)
+        self.__dict__.update(geom)
+        G, nloc, ne, nq = self.G, self.nloc, self.ne, self.nq
         lay = rmesh.layout
         mat_of_region = {"air": "air"}
         if "exterior" in rmesh.subdomains:
@@ -140,6 +116,54 @@ class Assembler:
             b_mag += np.bincount(self.dofs[:, idx].ravel(), weights=loc.ravel(),
                                  minlength=self.ndofs)
         self.b_magnets = b_mag
+        self.set_load(self.region_load(currents or {}))
+
+    def _geometry(self, rmesh: RegionMesh, form) -> dict:
+        """Everything that depends on the mesh and the formulation only (basis,
+        quadrature, sparsity pattern, the exterior's matrices): computed once per
+        mesh and formulation and shared, read-only, by every Assembler of that
+        mesh (a curve of solves on one mesh set this up once per point before)."""
+        keys0 = set(self.__dict__)
+        lay = rmesh.layout
+        elem = ElementTriP2() if rmesh.order == 2 else ElementTriP1()
+        # quadrature: P1 gradients are constant per element, so one point is
+        # exact for nu(|B|^2) grad.grad; P2 uses degree 4 (6 points): degree 2
+        # keeps the O(h^2) rate too, but its errors vary less regularly under
+        # refinement on curved cells (mesh-convergence estimates suffered)
+        self.basis = basis = Basis(rmesh.mesh, elem, intorder=_INTORDER[rmesh.order])
+        self.nloc = nloc = elem.refdom.nnodes if rmesh.order == 1 else 6
+        self.ndofs = basis.N
+        self.dofs = np.asarray(basis.element_dofs, dtype=np.int64)  # (nloc, ne)
+        self.dx = np.asarray(basis.dx)  # (ne, nq), weights * |det J|, m^2
+        ne, nq = self.dx.shape
+        self.ne, self.nq = ne, nq
+        # G[e, i, a*nq + q] = d phi_i / d x_a at quadrature point q of element e
+        G = np.empty((ne, nloc, 2, nq))
+        Phi = np.empty((nloc, ne, nq))
+        for i in range(nloc):
+            f = basis.basis[i][0]
+            G[:, i, 0, :] = f.grad[0]
+            G[:, i, 1, :] = f.grad[1]
+            Phi[i] = np.asarray(f)
+        self.G = G
+        self.Gflat = G.reshape(ne, nloc, 2 * nq)
+        self.phi_int = np.einsum("ieq,eq->ie", Phi, self.dx)  # (nloc, ne), m^2
+        # the formulation's weights at the quadrature points (module
+        # formulation): field scale f (|B| = f |grad u|), volume weight v,
+        # stiffness weight f^2 v; None where they are 1 (planar)
+        self.xq = np.asarray(basis.global_coordinates())  # (2, ne, nq)
+        f = form.field_scale(self.xq)
+        v = form.volume_weight(self.xq)
+        self.f2 = None if f is None else f * f
+        self.wv = self.dx if v is None else self.dx * v  # volume integrals
+        self.wk = self.dx if self.f2 is None else self.dx * self.f2 * v  # stiffness
+        self.Phi = Phi
+        # region areas and material laws per element
+        self.region_names = rmesh.region_names
+        areas = {}
+        for name, idx in rmesh.subdomains.items():
+            areas[name] = float(self.dx[idx].sum())
+        self.areas = areas
         # the open exterior's constant element matrices (fem2d.exterior)
         self.ext = None
         self.wv_geometric = self.wv  # volume weights including the exterior ring's
@@ -158,7 +182,6 @@ class Assembler:
             self.wv = self.wv.copy()
             self.wk[idx] = 0.0
             self.wv[idx] = 0.0
-        self.set_load(self.region_load(currents or {}))
         # Dirichlet ("outer") and interior DOFs; reduced numbering
         self.D = basis.get_dofs(rmesh.boundaries["outer"]).all()
         mask = np.ones(self.ndofs, dtype=bool)
@@ -182,6 +205,12 @@ class Assembler:
         self.indices = (ukeys % nI).astype(np.int32)
         self.indptr = np.searchsorted(urows, np.arange(nI + 1)).astype(np.int32)
         self.nI = nI
+
+        geom = {k: v for k, v in self.__dict__.items() if k not in keys0}
+        for v in geom.values():
+            if isinstance(v, np.ndarray):
+                v.setflags(write=False)
+        return geom
 
     # -------------------------------------------------------------- loads
     def region_load(self, ampere_turns: dict) -> np.ndarray:

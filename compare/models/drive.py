@@ -72,6 +72,14 @@ INRUSH_REACH = 1e5
 """How far past the hand's peak magnetizing current the FE curve may climb
 toward the inrush estimate's flux linkage (a factor) before giving up."""
 
+JUMP_PREDICTOR = 0.3
+"""Fraction of the tangent step that predicts an inrush continuation point
+(continue_curve's steps of up to 3x in current past saturation, where the
+curve is concave and the full tangent step overshoots the field in the iron).
+On the demo transformer the six continuation solves took 34 Newton steps
+with the full step, 32 with none, 30 with 0.15, 28 with 0.5, 26 with 0.3;
+the converged points are the same to the Newton tolerance either way."""
+
 DRIVE_KEYS = ("B_peak", "magnetizing_current_peak", "magnetizing_current_rms",
               "magnetizing_inductance", "B_limb_peak")
 
@@ -278,18 +286,30 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
     from magcheck.fem2d.linsolve import DirectReuse
 
     linear = DirectReuse()
-    A_prev: Any = None
-    slope: Any = None
+    states: list[tuple[float, Any, Any]] = []  # (current, A, dA/dI) of every solved point
     i_fe, lam_fe, peak_fe, l_fe, flux_fe = [0.0], [0.0], [0.0], [math.nan], [0.0]
 
-    def solve(current: float) -> None:
-        # the tangent predictor: the previous point plus dA/dI times the step
-        nonlocal A_prev, slope
-        A0 = None if A_prev is None else A_prev + slope * (current - i_fe[-1])
+    def solve(current: float, jump: bool = False) -> None:
+        # the tangent predictor from the solved point nearest in current (the
+        # previous one along the curve; for the damped inrush peak, solved
+        # last, the neighbour it falls beside, not the curve's far top)
+        A0 = None
+        if states:
+            near = min(states, key=lambda st: abs(st[0] - current))
+            i0, A_near, slope = near
+            A0 = A_near + slope * (current - i0)
+            if jump:  # past the knee the curve is concave: the full tangent step overshoots
+                A0 = A_near + JUMP_PREDICTOR * slope * (current - i0)
+            if jump or near is not states[-1]:
+                # a jump (the inrush continuation's steps of up to 3x, or back
+                # down the curve): the last factorisation preconditions this
+                # tangent poorly (CG ran into its budget), so factorise it at once
+                linear.stale = True
         # the curve needs the driven winding's linkage and slope only: no inductance matrix
         fs = solve_case_full(with_current(case, current), mesh, A0=A0, linear_solver=linear,
                              windings=False)
-        q, A_prev, slope = fs.quantities, fs.solution.A, fs.dA_dI
+        q = fs.quantities
+        states.append((current, fs.solution.A, fs.dA_dI))
         i_fe.append(current)
         lam_fe.append(abs(q.values["flux_linkage"]))
         peak_fe.append(q.peak_B)
@@ -349,7 +369,7 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
                     np.concatenate([curves[key][0], more]),
                     np.concatenate([curves[key][1], [_lambda(case, x, planar) for x in more]]))
             # on up the FE curve past saturation by tangent steps
-            continue_curve(solve, i_fe, lam_fe, l_fe, lam_in, INRUSH_REACH * ip, INRUSH_SOLVES)
+            continue_curve(lambda x: solve(x, jump=True), i_fe, lam_fe, l_fe, lam_in, INRUSH_REACH * ip, INRUSH_SOLVES)
             try:
                 if w.resistance:
                     # one more solve at the damped first peak, which falls between
