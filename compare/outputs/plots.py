@@ -682,7 +682,8 @@ def fig_magnet(res: CheckResult):
     ax.set_ylim(0.0, br * 1.15)
     ax.set_xlabel("H along the magnetisation (kA/m)")
     ax.set_ylabel("B along the magnetisation (T)")
-    ax.set_title(f"Magnet {mag.region} in the second quadrant", fontsize=9)
+    name = "the magnet" if mag.region == "magnet" else f"magnet '{mag.region}'"
+    ax.set_title(f"{name[0].upper()}{name[1:]} in the second quadrant", fontsize=9)
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7, loc="upper left")
     return fig
