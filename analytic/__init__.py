@@ -4,6 +4,8 @@ Modules (``magcheck.analytic.<name>``):
 
 - ``bh``: single-valued B-H curves and linear materials (T, A/m).
 - ``constants``: physical constants (SI).
+- ``core_loss``: core loss density: Steinmetz, the iGSE for any flux waveform, laminated steel's
+  loss separation, a Steinmetz fit to a loss table (W/m^3, W/kg).
 - ``effective``: a core's effective magnetic parameters (IEC 60205).
 - ``force``: the Maxwell pull of a gap face and the virtual-work force (N).
 - ``fringing``: air-gap fringing (gap permeance) models.
