@@ -784,6 +784,17 @@ MUTATIONS: tuple[Mutation, ...] = (
       "return _lambda_of(case, planar, fringing)",
       "the memoised hand lambda(I) keyed without the current",
       ("tests/test_drive.py",)),
+    # ---------------------------------------------------------------- analytic: core loss
+    M("classical-eddy-twelfth", "analytic/core_loss.py",
+      "return sigma * thickness ** 2 * (math.pi * f * b_pk) ** 2 / 6.0",
+      "return sigma * thickness ** 2 * (math.pi * f * b_pk) ** 2 / 12.0",
+      "the classical eddy loss of a lamination with 1/12 (the peak-rate form) for 1/6",
+      ("tests/test_core_loss.py",)),
+    M("igse-ki-no-two-power", "analytic/core_loss.py",
+      "cos_power_integral(a) * 2.0 ** (b - a))",
+      "cos_power_integral(a))",
+      "the iGSE's k_i without its 2^(beta - alpha) factor (a sinusoid no longer gives Steinmetz)",
+      ("tests/test_core_loss.py",)),
 )
 
 
