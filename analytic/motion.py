@@ -311,8 +311,10 @@ class Motion:
     dt, ``e_copper`` = int R i^2 dt, ``w_mech`` = int F ds; ``closed_time`` /
     ``open_time`` (s) the first arrival at the closed / open stop (None if
     not reached), ``impact_speed`` (m/s) there; ``i_motion_start`` and
-    ``i_motion_min`` (A) the current when the armature starts and its least
-    value while moving (the dip)."""
+    ``i_motion_peak``, ``i_motion_min`` (A): the current when the armature
+    starts, its peak while moving and its least value after that peak (the
+    dip, the back-EMF signature; sampled at the integrator's steps: pass
+    ``max_step`` for a finer trace)."""
 
     t: np.ndarray = field(repr=False)
     i: np.ndarray = field(repr=False)
@@ -326,6 +328,7 @@ class Motion:
     open_time: Optional[float]
     impact_speed: Optional[float]
     i_motion_start: Optional[float]
+    i_motion_peak: Optional[float]
     i_motion_min: Optional[float]
 
 
@@ -492,10 +495,14 @@ def simulate(linkage: Surface, force: Surface, load: Load, mass: float, resistan
     i_a = np.array([cur(a, b) for a, b in zip(lam_a, s_a)])
     if diode is not None:
         i_a = np.maximum(i_a, 0.0)
-    moving = np.abs(yy[2]) > 0.0
-    i_min = float(np.min(i_a[moving])) if np.any(moving) else None
+    moving = np.flatnonzero(np.abs(yy[2]) > 0.0)
+    i_peak = i_min = None
+    if moving.size:
+        seg = i_a[moving[0]:moving[-1] + 1]
+        k = int(np.argmax(seg))
+        i_peak, i_min = float(seg[k]), float(np.min(seg[k:]))
     return Motion(t, i_a, lam_a, s_a, yy[2], float(y[3]), float(y[4]), float(y[5]),
-                  closed_t, open_t, speed, i_start, i_min)
+                  closed_t, open_t, speed, i_start, i_peak, i_min)
 
 
 def operate(linkage: Surface, force: Surface, load: Load, mass: float, resistance: float,
