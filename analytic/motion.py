@@ -47,7 +47,7 @@ from scipy.optimize import brentq, minimize_scalar
 from .winding_loss import COPPER
 
 __all__ = ["MotionError", "Spring", "series_springs", "Load", "ForceMap", "GapActuator",
-           "coil_resistance", "StaticLimit", "pull_in_current", "drop_out_current",
+           "coil_resistance", "StaticLimit", "Margin", "load_margin", "pull_in_current", "drop_out_current",
            "limit_voltage", "Motion", "simulate", "operate", "release"]
 
 Surface = Callable[[float, float], float]  # f(i in A, s in m)
@@ -269,6 +269,24 @@ def _min_margin(force: Surface, load: Load, i: float, samples: int) -> tuple[flo
         if r.fun < best_m:
             best_s, best_m = float(r.x), float(r.fun)
     return best_m, best_s
+
+
+@dataclass(frozen=True)
+class Margin:
+    """The tightest point of the margin between the force curve at one
+    current and the load line: ``margin`` = min_s [F(i, s) - F_load(s)] (N),
+    at ``stroke`` (m); negative where the load wins."""
+
+    margin: float
+    stroke: float
+
+
+def load_margin(force: Surface, load: Load, current: float, samples: int = 201) -> Margin:
+    """The force-load margin at ``current`` (A) over the travel, its tightest
+    stroke named (a grid of ``samples`` strokes with the load's breakpoints,
+    refined by a bounded search)."""
+    m, s = _min_margin(force, load, _finite("current", current), samples)
+    return Margin(m, s)
 
 
 def _bracket_root(fun: Callable[[float], float], i_max: float, what: str) -> float:

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from magcheck.analytic.motion import (ForceMap, GapActuator, Load, MotionError, Spring,
-                                      coil_resistance, drop_out_current, limit_voltage,
+                                      coil_resistance, drop_out_current, limit_voltage, load_margin,
                                       operate, pull_in_current, release, series_springs,
                                       simulate)
 
@@ -193,3 +193,23 @@ def test_restitution_reverses_the_impact_speed():
     # tolerance 1e-9 of the travel (rtol 1e-10)
     exact = s_e + (T - s_e) * np.cos(omega * tau[back]) + v0 / omega * np.sin(omega * tau[back])
     assert np.max(np.abs(mo.s[back] - exact)) < 1e-9 * T
+
+
+def test_margin_at_a_current_names_the_tightest_stroke():
+    p, k, i = 0.05, 400.0, 0.4
+    mg = load_margin(ACT.force, Load(T, (Spring(k, p),)), i)
+    # Source: derived, m'(s) = 0 at z^3 = i^2 K / k (convex margin), m = i^2 K/(2 z^2) - P - k s;
+    # tolerance 1e-9 N (bounded search to 1e-12 of the travel on a flat minimum)
+    z = (i * i * K / k) ** (1.0 / 3.0)
+    assert mg.stroke == pytest.approx(GC + T - z, rel=1e-5)
+    assert mg.margin == pytest.approx(i * i * K / (2 * z * z) - p - k * (GC + T - z), abs=1e-9)
+
+
+def test_motion_by_the_monotone_inversion_matches_the_closed_form_current():
+    load = Load(T, (Spring(400.0, 0.05),))
+    exact = operate(ACT.linkage, ACT.force, load, 0.005, 20.0, 24.0, 1.0, current=ACT.current)
+    inv = operate(ACT.linkage, ACT.force, load, 0.005, 20.0, 24.0, 1.0, i_max=10.0)
+    # Source: exact, i = lambda / L(s) for the ideal gap against the bracketed inversion of
+    # lambda(i, s); tolerance 1e-6 relative (the inversion's 1e-14 and rtol 1e-10)
+    assert inv.closed_time == pytest.approx(exact.closed_time, rel=1e-6)
+    assert inv.impact_speed == pytest.approx(exact.impact_speed, rel=1e-6)
