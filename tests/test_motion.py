@@ -213,3 +213,22 @@ def test_motion_by_the_monotone_inversion_matches_the_closed_form_current():
     # lambda(i, s); tolerance 1e-6 relative (the inversion's 1e-14 and rtol 1e-10)
     assert inv.closed_time == pytest.approx(exact.closed_time, rel=1e-6)
     assert inv.impact_speed == pytest.approx(exact.impact_speed, rel=1e-6)
+
+
+def test_voltage_table_and_bad_settings():
+    load = Load(T, (Spring(100.0, 1.0),))
+    L, r = ACT.inductance(0.0), 30.0
+    # a ramp v = a t on the held armature; Source: exact solution of L di/dt + R i = a t,
+    # i = (a/R)(t - tau (1 - e^{-t/tau})), tau = L/R; tolerance 1e-7 of the final current
+    a, t_end = 1000.0, 0.002
+    mo = simulate(ACT.linkage, ACT.force, load, 1.0, r, ((0.0, 1.0), (0.0, a)), t_end,
+                  held=True, current=ACT.current)
+    tau = L / r
+    exact = a / r * (mo.t - tau * (1.0 - np.exp(-mo.t / tau)))
+    assert np.max(np.abs(mo.i - exact)) < 1e-7 * exact[-1]
+    with pytest.raises(MotionError, match="restitution"):
+        simulate(ACT.linkage, ACT.force, load, 1.0, r, 1.0, 1.0, restitution=1.0)
+    with pytest.raises(MotionError, match="mass"):
+        simulate(ACT.linkage, ACT.force, load, 0.0, r, 1.0, 1.0)
+    with pytest.raises(MotionError, match="pull-in"):
+        pull_in_current(ACT.force, Load(T, (Spring(1e6, 1e3),)), 1.0)
