@@ -13,6 +13,7 @@ Modules (``magcheck.analytic.<name>``):
 - ``magnetizing``: sinusoidal voltage drive: peak flux linkage, magnetizing current.
 - ``magnets``: permanent-magnet materials on their recoil line, built-in grades.
 - ``materials``: B-H tables from CSV files and inline data, built-in demo materials.
+- ``motion``: a moving armature: load line, pull-in and drop-out, the coupled motion.
 - ``network``: the nonlinear reluctance-network solver.
 - ``plotting``: a B-H curve's plot (the only module importing matplotlib).
 - ``winding_loss``: winding resistance: DC at temperature, Dowell's AC factor.

@@ -795,6 +795,18 @@ MUTATIONS: tuple[Mutation, ...] = (
       "cos_power_integral(a))",
       "the iGSE's k_i without its 2^(beta - alpha) factor (a sinusoid no longer gives Steinmetz)",
       ("tests/test_core_loss.py",)),
+    M("motion-rl-sign", "analytic/motion.py",
+      "dlam = vc - r * i", "dlam = vc + r * i",
+      "the coil's resistive drop added to the applied voltage in d lambda/dt",
+      ("tests/test_motion.py",)),
+    M("motion-gap-force-half", "analytic/motion.py",
+      "return 0.5 * i * i * self.k / self.gap(s) ** 2", "return i * i * self.k / self.gap(s) ** 2",
+      "the ideal-gap actuator's force without the 1/2 of (i^2/2) dL/ds",
+      ("tests/test_motion.py",)),
+    M("motion-pull-in-open-stop-only", "analytic/motion.py",
+      "j = int(np.argmin(m))", "j = 0",
+      "the pull-in margin taken at the open stop only, not its minimum over the travel",
+      ("tests/test_motion.py",)),
 )
 
 
