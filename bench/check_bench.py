@@ -32,20 +32,9 @@ TRANSFORMER = "demo_ei_transformer"
 
 def _worktree(ref: str) -> str:
     """A temporary git worktree of ``ref`` (removed at exit)."""
-    import atexit
-    import shutil
+    from worktree import temporary_worktree  # bench/worktree.py, beside this script
 
-    path = tempfile.mkdtemp(prefix="check-bench-")
-    os.rmdir(path)
-    subprocess.run(["git", "-C", ROOT, "worktree", "add", "--detach", "-q", path, ref], check=True)
-
-    def cleanup():
-        subprocess.run(["git", "-C", ROOT, "worktree", "remove", "--force", path],
-                       capture_output=True)
-        shutil.rmtree(path, ignore_errors=True)
-
-    atexit.register(cleanup)
-    return path
+    return temporary_worktree(ref, prefix="check-bench-")
 
 
 def run_once(tree: str, args: list[str], json_out: str | None) -> tuple[float, float, dict]:

@@ -153,22 +153,9 @@ def run_case(size, order, solver, NI_low, NI_high, geometry="planar"):
 
 def _worktree(ref: str) -> str:
     """A temporary git worktree of ``ref`` (removed at exit)."""
-    import atexit
-    import shutil
-    import tempfile
+    from worktree import temporary_worktree  # bench/worktree.py, beside this script
 
-    root = os.path.dirname(HERE)
-    path = tempfile.mkdtemp(prefix="fe-bench-")
-    os.rmdir(path)
-    subprocess.run(["git", "-C", root, "worktree", "add", "--detach", "-q", path, ref], check=True)
-
-    def cleanup():
-        subprocess.run(["git", "-C", root, "worktree", "remove", "--force", path],
-                       capture_output=True)
-        shutil.rmtree(path, ignore_errors=True)
-
-    atexit.register(cleanup)
-    return path
+    return temporary_worktree(ref, prefix="fe-bench-")
 
 
 def main(argv=None):
