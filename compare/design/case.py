@@ -35,6 +35,10 @@ __all__ = ["Case", "CaseOrigin", "with_current", "MaterialSpec", "HandSettings",
            "TargetDecl"]
 
 
+DEFAULT_DROPS = (0.10, 0.20, 0.30)
+"""Saturation drop levels (fractions of the low-current inductance) where
+neither the case's ``[sweep]`` nor the command gives them."""
+
 @dataclass(frozen=True)
 class MaterialSpec:
     """A region's material: where it came from and the loaded law.
@@ -199,7 +203,7 @@ class SweepDecl:
     """A sweep the case declares: ``--vary`` specs and saturation drop levels."""
 
     vary: tuple[str, ...]
-    drops: tuple[float, ...] = (0.10, 0.20, 0.30)
+    drops: tuple[float, ...] = DEFAULT_DROPS
     inductance: str = "incremental"
 
 

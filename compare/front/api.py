@@ -361,6 +361,7 @@ def to_json(result: Any) -> dict:
     (``magcheck tolerance --json``) or a target solve's (``magcheck target --json``)."""
     from ..judge.check import CheckResult
     from ..judge.document import json_ready
+    from ..outputs.serialize import sweep_json, tolerance_json
     from ..models.hand import HandResult
     from ..studies.sweep import SweepResult
     from ..studies.target import TargetResult
@@ -372,16 +373,8 @@ def to_json(result: Any) -> dict:
     if isinstance(result, (HandResult, VerifyResult, TargetResult)):
         return json_ready(result.to_dict())
     if isinstance(result, SweepResult):
-        from .commands.sweep import sweep_json
-
-        decl = result.case.sweeps[0] if result.case.sweeps else None
-        own = decl is not None and list(decl.vary) == [s.spec for s in result.specs]
-        drops, kind = ((decl.drops, decl.inductance) if own and decl is not None
-                       else ((0.10, 0.20, 0.30), "incremental"))
-        return json_ready(sweep_json(result, *result.margins(drops, kind)))
+        return json_ready(sweep_json(result))
     if isinstance(result, ToleranceResult):
-        from .commands.tolerance import tolerance_json
-
         return json_ready(tolerance_json(result))
     raise TypeError(f"to_json: a CheckResult, HandResult, VerifyResult, SweepResult, "
                     f"ToleranceResult or TargetResult, not {type(result).__name__}")

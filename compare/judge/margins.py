@@ -30,7 +30,7 @@ from typing import Any, Callable, Sequence
 
 import numpy as np
 
-from ..design.case import Case, with_current
+from ..design.case import DEFAULT_DROPS, Case, with_current
 from ..models.hand import HandResult, run_hand
 
 __all__ = ["MarginResult", "current_density", "inductance_of", "ac_margins",
@@ -39,7 +39,6 @@ __all__ = ["MarginResult", "current_density", "inductance_of", "ac_margins",
 
 log = logging.getLogger(__name__)
 
-DEFAULT_DROPS = (0.10, 0.20, 0.30)
 """Inductance drops at which the saturation current is reported (fractions)."""
 
 

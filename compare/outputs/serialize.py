@@ -20,7 +20,8 @@ if TYPE_CHECKING:
     from ..studies.sweep import SweepResult
 
 __all__ = ["check_json", "check_csv", "check_markdown", "table_cells", "TABLE_COLUMNS",
-           "versions", "verdict_lines", "sweep_csv", "sweep_column_unit", "csv_cell", "CSV_DIGITS"]
+           "versions", "verdict_lines", "sweep_csv", "sweep_json", "tolerance_json",
+           "sweep_column_unit", "csv_cell", "CSV_DIGITS"]
 
 TABLE_COLUMNS = ["quantity", "hand", "FE", "FE +/-", "diff %", "limit %", "verdict",
                  "hand 3D", "FE 3D"]
@@ -586,3 +587,37 @@ def check_lines(res: CheckResult, agreement: str = "fatal", *, width: int = 100,
     if not unicode:
         out = [(ascii_units(t), k) for t, k in out]
     return out
+
+
+def sweep_json(res: "SweepResult", margins: Any = None, sat_table: Any = None) -> dict:
+    """The document of ``magcheck sweep --json`` (and ``magcheck.to_json``):
+    the points, and the margins and saturation table given (by default
+    :meth:`SweepResult.margins` with the case's own drops)."""
+    if margins is None or sat_table is None:
+        margins, sat_table = res.margins()
+    from ..studies.sweep import sweep_rows
+
+    c = res.case
+    return {"case": {"name": c.name, "file": c.source, "sha256": c.sha256},
+            "vary": [{"spec": s.spec, "key": s.key, "values": list(s.values)} for s in res.specs],
+            "units": dict(UNITS, peak_B="T"),
+            "points": sweep_rows(res),
+            "saturation_current": sat_table,
+            "margins": [m.to_dict() for m in margins],
+            "predictor": res.predictor, "executor": res.executor, "workers": res.workers,
+            "seconds": res.seconds, "converged": res.converged, "caution": CAUTION}
+
+
+def tolerance_json(res: Any) -> dict:
+    """The document of ``magcheck tolerance --json`` (and ``magcheck.to_json``)."""
+    from ..studies.tolerance import PERCENTILES
+
+    case = res.case
+    return {"case": {"name": case.name, "file": case.source, "sha256": case.sha256},
+            "samples": len(res.samples), "seed": res.seed, "fe_samples": res.fe_samples,
+            "percentiles": {"q": list(PERCENTILES), **res.percentiles()},
+            "yield": res.yield_fraction, "fits": res.fits,
+            "values": {k: v.tolist() for k, v in res.values.items()},
+            "passed": res.passed.tolist(),
+            "settings": [s.settings for s in res.samples], "caution": CAUTION}
+

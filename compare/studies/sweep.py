@@ -35,7 +35,7 @@ import numpy as np
 
 from magcheck.analytic.bh import scale_law  # noqa: F401 (re-exported)
 
-from ..design.case import Case
+from ..design.case import DEFAULT_DROPS, Case
 from ..errors import CaseError, RunError
 from ..models.acmesh import has_ac
 from ..models.hand import FORCE_KEYS, HAND_KEYS, run_hand
@@ -150,11 +150,20 @@ class SweepResult:
                            f"{', '.join(self.columns())}")
         return [r[name] for r in rows]
 
-    def margins(self, drops: Sequence[float] = (0.10, 0.20, 0.30), kind: str = "incremental"
+    def margins(self, drops: Sequence[float] | None = None, kind: str | None = None
                 ) -> tuple[list[MarginResult], list[dict]]:
         """The margins judged along the sweep and the saturation table at
-        ``drops`` (fractions of the low-current inductance), as ``magcheck
-        sweep`` prints them (:func:`sweep_margins`)."""
+        ``drops`` (fractions of the low-current inductance) of the ``kind``
+        of inductance, as ``magcheck sweep`` prints them
+        (:func:`sweep_margins`).  Left out, they are the case's ``[sweep]``
+        ones when this is the case's own declared sweep, else
+        :data:`DEFAULT_DROPS` of the incremental inductance."""
+        decl = self.case.sweeps[0] if self.case.sweeps else None
+        own = decl is not None and list(decl.vary) == [s.spec for s in self.specs]
+        if drops is None:
+            drops = decl.drops if own and decl is not None else DEFAULT_DROPS
+        if kind is None:
+            kind = decl.inductance if own and decl is not None else "incremental"
         return sweep_margins(self, drops, kind)
 
     def to_dataframe(self) -> Any:

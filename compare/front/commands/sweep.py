@@ -8,12 +8,12 @@ import sys
 
 from ...studies.executor import Progress
 from ...errors import CaseError
-from ...models.hand import UNITS
 from ...outputs.output import (CAUTION, STDOUT_HELP, atomic_write_text, render_table, text_stream,
                                write_json)
-from ...outputs.serialize import sweep_csv
+from ...outputs.serialize import sweep_csv, sweep_json
 from ...studies.sweep import (CLI_OPTIONS, CURRENT_KEY, DEFAULT_BLOCK, PREDICTORS, SweepResult,
-                              case_source, parse_vary, run_sweep, sweep_margins, sweep_rows)
+                              case_source, parse_vary, run_sweep, sweep_margins)
+from ...design.case import DEFAULT_DROPS
 from ...design.units import format_si
 
 OUTPUTS = {"--csv": "file", "--json": "file", "--plots": "folder"}
@@ -137,18 +137,6 @@ def print_sweep(res: SweepResult, margins, sat_table, out) -> None:
     out.write(CAUTION + "\n")
 
 
-def sweep_json(res: SweepResult, margins, sat_table) -> dict:
-    c = res.case
-    return {"case": {"name": c.name, "file": c.source, "sha256": c.sha256},
-            "vary": [{"spec": s.spec, "key": s.key, "values": list(s.values)} for s in res.specs],
-            "units": dict(UNITS, peak_B="T"),
-            "points": sweep_rows(res),
-            "saturation_current": sat_table,
-            "margins": [m.to_dict() for m in margins],
-            "predictor": res.predictor, "executor": res.executor, "workers": res.workers,
-            "seconds": res.seconds, "converged": res.converged, "caution": CAUTION}
-
-
 def run(args: argparse.Namespace) -> int:
     src, case = case_source(args.case, allow_large=args.allow_large)
     specs_text = args.vary or (list(case.sweeps[0].vary) if case.sweeps else [])
@@ -157,7 +145,7 @@ def run(args: argparse.Namespace) -> int:
                                         "no [sweep])")
     specs = [parse_vary(s, family=case.family_model) for s in specs_text]
     decl = case.sweeps[0] if (case.sweeps and not args.vary) else None
-    drops = _drops(args.drops, decl.drops if decl else (0.10, 0.20, 0.30))
+    drops = _drops(args.drops, decl.drops if decl else DEFAULT_DROPS)
     kind = args.inductance or (decl.inductance if decl else "incremental")
     if args.workers is not None and args.workers < 1:
         raise CaseError("--workers", args.workers, "must be at least 1")

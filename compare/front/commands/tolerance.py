@@ -77,18 +77,6 @@ def print_tolerance(res, out) -> None:
     out.write(CAUTION + "\n")
 
 
-def tolerance_json(res) -> dict:
-    """The document of ``magcheck tolerance --json`` (and ``magcheck.to_json``)."""
-    case = res.case
-    return {"case": {"name": case.name, "file": case.source, "sha256": case.sha256},
-            "samples": len(res.samples), "seed": res.seed, "fe_samples": res.fe_samples,
-            "percentiles": {"q": list(PERCENTILES), **res.percentiles()},
-            "yield": res.yield_fraction, "fits": res.fits,
-            "values": {k: v.tolist() for k, v in res.values.items()},
-            "passed": res.passed.tolist(),
-            "settings": [s.settings for s in res.samples], "caution": CAUTION}
-
-
 def run(args: argparse.Namespace) -> int:
     if args.min_yield is not None and not 0.0 <= args.min_yield <= 100.0:
         raise CaseError("--min-yield", args.min_yield, "must lie in [0, 100]")
@@ -109,6 +97,8 @@ def run(args: argparse.Namespace) -> int:
     out = text_stream(args.json)
     print_tolerance(res, out)
     if args.json:
+        from ...outputs.serialize import tolerance_json
+
         write_json(args.json, tolerance_json(res))
     if args.plot:
         from ...outputs.plots import save_tolerance_figure
