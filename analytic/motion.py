@@ -46,7 +46,7 @@ from scipy.optimize import brentq, minimize_scalar
 
 from .winding_loss import COPPER
 
-__all__ = ["MotionError", "Spring", "series_springs", "Load", "ForceMap", "GapActuator",
+__all__ = ["MotionError", "Spring", "series_springs", "Load", "ForceMap", "GridMap", "pchip_slopes", "GapActuator",
            "coil_resistance", "StaticLimit", "Margin", "load_margin", "pull_in_current", "drop_out_current",
            "limit_voltage", "Motion", "simulate", "operate", "release"]
 
@@ -198,6 +198,141 @@ class ForceMap:
     def linkage(self, i: float, s: float) -> float:
         """lambda(i, s) in Wb-turns."""
         return self._eval(self.linkages, i, s)
+
+
+def pchip_slopes(x: np.ndarray, y: np.ndarray) -> np.ndarray:
+    """The node slopes of the monotone piecewise cubic Hermite interpolant of
+    ``y`` (last axis) on the rising ``x``: Fritsch and Carlson's weighted
+    harmonic mean inside (0 where the secants change sign), the one-sided
+    three-point formula at the ends limited to keep the shape (F. N. Fritsch,
+    R. E. Carlson, SIAM J. Numer. Anal. 17(2), 1980; the rule scipy's
+    ``PchipInterpolator`` uses, docs/references.md section 14)."""
+    x = np.asarray(x, dtype=float)
+    y = np.asarray(y, dtype=float)
+    h = np.diff(x)
+    m = np.diff(y, axis=-1) / h
+    d = np.zeros_like(y)
+    if x.size == 2:
+        d[..., 0] = d[..., 1] = m[..., 0]
+        return d
+    w1 = 2.0 * h[1:] + h[:-1]
+    w2 = h[1:] + 2.0 * h[:-1]
+    same = (m[..., :-1] * m[..., 1:]) > 0.0
+    with np.errstate(divide="ignore", invalid="ignore"):
+        hm = (w1 + w2) / (w1 / m[..., :-1] + w2 / m[..., 1:])
+    d[..., 1:-1] = np.where(same, hm, 0.0)
+
+    def end(h0, h1, m0, m1):
+        e = ((2.0 * h0 + h1) * m0 - h0 * m1) / (h0 + h1)
+        e = np.where(np.sign(e) != np.sign(m0), 0.0, e)
+        return np.where((np.sign(m0) != np.sign(m1)) & (np.abs(e) > np.abs(3.0 * m0)),
+                        3.0 * m0, e)
+
+    d[..., 0] = end(h[0], h[1], m[..., 0], m[..., 1])
+    d[..., -1] = end(h[-1], h[-2], m[..., -1], m[..., -2])
+    return d
+
+
+class GridMap:
+    """F(i, s) (N) and lambda(i, s) (Wb-turns) on a grid of ``currents`` (A,
+    rising) x ``strokes`` (m, rising), interpolated monotonically: in s first
+    (scipy's ``PchipInterpolator`` along each current's row), then in i by
+    the monotone cubic Hermite (:func:`pchip_slopes`) through the values at
+    that stroke; beyond the currents, linear with the end slope. The current
+    from lambda, :meth:`current`, inverts the same cubic exactly (its piece
+    found by bisection and Newton steps), so lambda(current(lam, s), s) = lam.
+    Refused (MotionError) where lambda does not rise with i at a grid stroke.
+    With ``gap_open`` (m, the working gap at s = 0, closing as g = gap_open -
+    s) the force is interpolated in s as F g^2, the ideal gap's law divided
+    out (docs/references.md section 14), a far smoother function of s where
+    the force grows steeply as the gap closes.  Faster than :class:`ForceMap` (no interpolant built per call): the motion
+    integrates with it."""
+
+    def __init__(self, currents: Sequence[float], strokes: Sequence[float], forces, linkages,
+                 gap_open: Optional[float] = None):
+        i = np.asarray(currents, dtype=float)
+        s = np.asarray(strokes, dtype=float)
+        for name, a in (("currents", i), ("strokes", s)):
+            if a.ndim != 1 or a.size < 2 or not np.all(np.isfinite(a)) or np.any(np.diff(a) <= 0):
+                raise MotionError(f"map {name} = {a.tolist()!r} must be >= 2 finite rising values")
+        f = np.asarray(forces, dtype=float)
+        lam = np.asarray(linkages, dtype=float)
+        for name, a in (("forces", f), ("linkages", lam)):
+            if a.shape != (i.size, s.size) or not np.all(np.isfinite(a)):
+                raise MotionError(f"map {name}: shape {a.shape} must be currents x strokes "
+                                  f"{(i.size, s.size)}, all finite")
+        if np.any(np.diff(lam, axis=0) <= 0):
+            raise MotionError("map linkages do not rise with the current at every stroke")
+        self.currents, self.strokes, self.forces, self.linkages = i, s, f, lam
+        self.gap_open = gap_open
+        if gap_open is not None:
+            if not np.all(gap_open - s > 0.0):
+                raise MotionError(f"map gap at the open stop = {gap_open!r} m must exceed "
+                                  "every stroke")
+            f = f * (gap_open - s) ** 2  # the ideal gap's 1/g^2 divided out
+        both = np.concatenate([f, lam], axis=0)  # (2 n_i) x n_s
+        self._in_s = PchipInterpolator(s, both, axis=1, extrapolate=True)
+        self._n = i.size
+
+    def _columns(self, s: float) -> tuple[np.ndarray, np.ndarray]:
+        s = min(max(float(s), self.strokes[0]), self.strokes[-1])
+        v = self._in_s(s)
+        f = v[:self._n]
+        if self.gap_open is not None:
+            f = f / (self.gap_open - s) ** 2
+        return f, v[self._n:]
+
+    def _hermite(self, y: np.ndarray, d: np.ndarray, c: float) -> tuple[float, float]:
+        """The cubic through (currents, y) with slopes d at ``c``: (value, slope)."""
+        x = self.currents
+        if c <= x[0]:
+            return float(y[0] + d[0] * (c - x[0])), float(d[0])
+        if c >= x[-1]:
+            return float(y[-1] + d[-1] * (c - x[-1])), float(d[-1])
+        k = int(np.searchsorted(x, c)) - 1
+        h = x[k + 1] - x[k]
+        t = (c - x[k]) / h
+        t2, t3 = t * t, t * t * t
+        val = ((2 * t3 - 3 * t2 + 1) * y[k] + (t3 - 2 * t2 + t) * h * d[k]
+               + (-2 * t3 + 3 * t2) * y[k + 1] + (t3 - t2) * h * d[k + 1])
+        der = ((6 * t2 - 6 * t) * y[k] / h + (3 * t2 - 4 * t + 1) * d[k]
+               + (-6 * t2 + 6 * t) * y[k + 1] / h + (3 * t2 - 2 * t) * d[k + 1])
+        return float(val), float(der)
+
+    def force(self, i: float, s: float) -> float:
+        """F(i, s) in N."""
+        f, _ = self._columns(s)
+        return self._hermite(f, pchip_slopes(self.currents, f), float(i))[0]
+
+    def linkage(self, i: float, s: float) -> float:
+        """lambda(i, s) in Wb-turns."""
+        _, lam = self._columns(s)
+        return self._hermite(lam, pchip_slopes(self.currents, lam), float(i))[0]
+
+    def current(self, lam: float, s: float) -> float:
+        """i (A) with lambda(i, s) = ``lam``: the monotone cubic inverted."""
+        _, col = self._columns(s)
+        d = pchip_slopes(self.currents, col)
+        x = self.currents
+        lam = float(lam)
+        if lam <= col[0]:
+            return float(x[0] + (lam - col[0]) / d[0]) if d[0] > 0 else float(x[0])
+        if lam >= col[-1]:
+            return float(x[-1] + (lam - col[-1]) / d[-1]) if d[-1] > 0 else float(x[-1])
+        k = int(np.searchsorted(col, lam)) - 1
+        lo, hi = float(x[k]), float(x[k + 1])
+        c = lo + (hi - lo) * (lam - col[k]) / (col[k + 1] - col[k])
+        for _ in range(60):
+            v, dv = self._hermite(col, d, c)
+            if abs(v - lam) <= 1e-14 * max(abs(lam), abs(col[-1])) or hi - lo <= 1e-15 * x[-1]:
+                break
+            if v > lam:
+                hi = c
+            else:
+                lo = c
+            nxt = c - (v - lam) / dv if dv > 0 else math.inf
+            c = nxt if lo < nxt < hi else 0.5 * (lo + hi)
+        return float(c)
 
 
 @dataclass(frozen=True)

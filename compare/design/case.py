@@ -193,6 +193,9 @@ class Margins:
     """Maximum winding loss of an AC winding, DC + AC (W; judged on the FE)."""
     resistance_ratio: float | None = None
     """Maximum R_ac/R_dc of an AC winding (judged on the FE)."""
+    motion: tuple[tuple[str, float], ...] = ()
+    """A moving part's limits (compare.design.casekeys.MOTION_MARGINS: pull-in
+    voltage, operate and release time maxima, drop-out voltage minimum), SI."""
 
     def agreement_limit(self, key: str, default: float | None) -> float | None:
         return dict(self.agreement).get(key, default)
@@ -298,6 +301,9 @@ class Case:
     cross-section.  The FE always uses the homogenised core (polarisation
     scaled by k_s, analytic.bh.scale_law); the hand model uses the net iron
     area k_s A when ``[hand] stacking = true``."""
+    motion: Any = None
+    """The moving part's mechanics and drive ([motion]:
+    compare.design.actuator.ActuatorSpec; None without one)."""
     origin: CaseOrigin | None = field(default=None, repr=False, compare=False)
     """The tables this case was read from and the reader's validation
     (attached by ``compare.reading.variants``; None for a case built here

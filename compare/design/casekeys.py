@@ -28,7 +28,8 @@ __all__ = ["Key", "Spec", "UndeclaredKey", "quantity", "number", "integer", "str
            "table", "tables", "listof", "oneof", "lengths", "ROOT", "ROOT_KEYS", "CORE_COMMON",
            "AGREEMENT_KEYS", "INDUCTANCE_KINDS", "DISTRIBUTIONS", "FE_BOUNDARIES",
            "WINDING_KEYS", "CONDUCTOR_KEYS", "AC_KEYS", "CONDUCTOR_KINDS", "CONDUCTOR_MATERIALS",
-           "MATERIAL", "child", "check_read"]
+           "MATERIAL", "child", "check_read", "MOTION_KEYS", "SPRING_KEYS", "GRAVITY_SENSES",
+           "SUPPRESSIONS", "MOTION_MARGINS"]
 
 
 class UndeclaredKey(LookupError):
@@ -113,7 +114,8 @@ AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductan
                   "incremental_inductance", "energy", "force", "force_pull", "B_peak",
                   "magnetizing_current_peak", "magnetizing_current_rms",
                   "magnetizing_inductance", "leakage_inductance", "inrush_current_peak",
-                  "B_limb_peak", "R_dc", "R_ac", "R_ac_ratio", "winding_loss", "L_ac")
+                  "B_limb_peak", "R_dc", "R_ac", "R_ac_ratio", "winding_loss", "L_ac",
+                  "pull_in_current", "drop_out_current", "operate_time", "release_time")
 """The quantities a ``[margins.agreement]`` limit (percent) may name."""
 
 INDUCTANCE_KINDS = ("secant", "incremental")
@@ -211,6 +213,54 @@ FE = {"order": integer("element order, 1 or 2"),
       "tol": number("Newton tolerance"),
       "allow_large": boolean("mesh even above the element-count guard")}
 
+GRAVITY_SENSES = ("none", "opening", "closing")
+SUPPRESSIONS = ("none", "diode", "resistor")
+
+SPRING_KEYS: dict[str, Key] = {
+    "rate": quantity("stiffness", "the spring's rate, e.g. \"0.5 N/mm\""),
+    "series": listof(quantity("stiffness"), "rates of springs in series, one force through "
+                                            "each (instead of rate)"),
+    "preload": quantity("force", "its force where it engages (default 0)"),
+    "engage": quantity("length", "the stroke from the open stop where it starts to push "
+                                 "(default 0: over the whole travel; a contact spring later)"),
+    "solid": quantity("length", "the stroke from the open stop where it goes solid (refused "
+                                "inside the travel)"),
+}
+"""``[[motion.springs]]``: one spring of the load (in parallel with the others)."""
+
+MOTION_KEYS: dict[str, Key] = {
+    "open_gap": quantity("length", "the stroke key's value at the open stop (default the "
+                                   "case's)"),
+    "closed_gap": quantity("length", "the stroke key's value at the closed stop"),
+    "mass": quantity("mass", "the moving mass (armature, plunger, contacts)"),
+    "springs": tables(SPRING_KEYS, "the springs of the load, in parallel"),
+    "constant_load": quantity("force", "a constant opening load (a keeper's, a contact "
+                                       "pressure), default 0"),
+    "gravity": string("gravity along the stroke: its weight pulls opening, closing, or none "
+                      "(default)", GRAVITY_SENSES),
+    "restitution": number("the stops' coefficient of restitution, 0 (inelastic, default) "
+                          "to below 1"),
+    "resistance": quantity("resistance", "the coil's resistance at resistance_temperature"),
+    "resistance_temperature": number("where resistance holds, degC (default 20)"),
+    "temperature": number("the coil's temperature for the limits and the motion, degC "
+                          "(default 20)"),
+    "voltage": quantity("voltage", "the rated coil voltage, a step at switch-on"),
+    "voltage_table": table({"time": listof(number(), "times, s, rising from 0"),
+                            "voltage": listof(number(), "the coil voltage, V, one per time")},
+                           "a coil voltage v(t) at switch-on instead of the step"),
+    "suppression": string("across the coil at switch-off: none (the current stops at once, "
+                          "default), a diode or a resistor", SUPPRESSIONS),
+    "suppression_resistance": quantity("resistance", "the suppression resistor"),
+    "diode_drop": quantity("voltage", "the suppression diode's forward drop (default 0.7 V)"),
+    "map_strokes": integer("strokes of the force and flux-linkage map, 3 to 15 (default 5)"),
+    "map_currents": integer("currents of the map above zero, 3 to 15 (default 5)"),
+}
+"""``[motion]``: the moving part's mechanics and the coil's drive (compare.models.motion)."""
+
+MOTION_MARGINS = ("pull_in_voltage", "drop_out_voltage", "operate_time", "release_time")
+"""The ``[margins]`` keys judged on the motion: pull-in voltage and operate and release
+time maxima, the drop-out voltage a minimum."""
+
 MARGINS = {
     "peak_B": quantity("flux density", "largest allowed peak |B| in the core"),
     "agreement": table({k: number(f"agreement limit for {k}, percent") for k in AGREEMENT_KEYS},
@@ -226,6 +276,11 @@ MARGINS = {
     "copper_fill": number("copper fraction of the coil area, for the current density"),
     "winding_loss": quantity("power", "AC winding: largest allowed winding loss (DC + AC)"),
     "resistance_ratio": number("AC winding: largest allowed R_ac/R_dc"),
+    "pull_in_voltage": quantity("voltage", "[motion]: largest allowed pull-in voltage"),
+    "drop_out_voltage": quantity("voltage", "[motion]: smallest allowed drop-out voltage"),
+    "operate_time": quantity("time", "[motion]: largest allowed operate time at rated "
+                                     "voltage"),
+    "release_time": quantity("time", "[motion]: largest allowed release time"),
     "inductance": tables({"at": quantity("current", "the current the limit holds at"),
                           "min": quantity("inductance"), "max": quantity("inductance"),
                           "kind": string("", INDUCTANCE_KINDS)}, "inductance limits"),
@@ -287,6 +342,8 @@ ROOT_KEYS: dict[str, Key] = {
     "tolerances": tables(TOLERANCE, "the tolerances of a Monte Carlo study"),
     "targets": tables(TARGETS, "stored target solves that magcheck verify runs"),
     "measured": tables(MEASURED, "measurements of the built part (a value or a CSV curve)"),
+    "motion": table(MOTION_KEYS, "a moving part's load, mass and coil drive: pull-in, "
+                                 "drop-out, operate and release"),
 }
 """The top-level tables every case may have (a family adds its ``table_specs``)."""
 

@@ -46,6 +46,8 @@ DIMENSIONS: dict[str, Dimension] = {
     "resistance": (2, 1, -3, -2),
     "resistivity": (3, 1, -3, -2),
     "power": (2, 1, -3, 0),
+    "mass": (0, 1, 0, 0),
+    "stiffness": (0, 1, -2, 0),
 }
 
 SI_UNIT: dict[str, str] = {
@@ -53,11 +55,12 @@ SI_UNIT: dict[str, str] = {
     "field strength": "A/m", "inductance": "H", "flux": "Wb", "current density": "A/m^2",
     "energy": "J", "force": "N", "time": "s", "voltage": "V", "frequency": "Hz",
     "resistance": "ohm", "resistivity": "ohm m", "power": "W",
+    "mass": "kg", "stiffness": "N/m",
 }
 """The SI unit each dimension is printed in (with an engineering prefix, format_si)."""
 
 # Unit symbol -> (factor to SI, dimension). All factors are definitions:
-# 1 Oe = 1000/(4 pi) A/m, 1 G = 1e-4 T, 1 in = 25.4 mm, 1 mil = 25.4 um.
+# 1 Oe = 1000/(4 pi) A/m, 1 G = 1e-4 T, 1 in = 25.4 mm, 1 mil = 25.4 um, 1 g = 1e-3 kg.
 _UNITS: dict[str, tuple[float, Dimension]] = {
     "m": (1.0, DIMENSIONS["length"]),
     "in": (0.0254, DIMENSIONS["length"]),
@@ -77,6 +80,7 @@ _UNITS: dict[str, tuple[float, Dimension]] = {
     "ohm": (1.0, DIMENSIONS["resistance"]),
     "Ω": (1.0, DIMENSIONS["resistance"]),
     "W": (1.0, DIMENSIONS["power"]),
+    "g": (1e-3, DIMENSIONS["mass"]),
 }
 
 _PREFIXES: dict[str, float] = {

@@ -66,6 +66,9 @@ def snapshot(res: CheckResult) -> dict:
     # an AC winding (compare.models.ac): its hand (planar form) and FE values
     extra = ({"ac": {"hand_planar": dict(ac.hand), "hand": dict(ac.hand_3d), "fe": dict(ac.fe),
                      "fe_uncertainty": dict(ac.uncertainty)}} if ac is not None else {})
+    mo = getattr(res, "motion", None)
+    if mo is not None:  # a moving armature (compare.models.motion): each model's figures
+        extra["motion"] = {name: dict(m.values) for name, m in mo.models.items()}
     return extra | {
         "hand": {k: res.hand_3d.values()[k] for k in HAND_KEYS} | hw | res.hand_3d.force_values,
         "hand_planar": ({k: res.hand_planar.values()[k] for k in HAND_KEYS} | hpw
@@ -176,6 +179,14 @@ def drift(current: dict, stored: dict) -> list[Drift]:
             c = cac.get("fe", {}).get(k)
             if not _close(c, s, tol):
                 out.append(Drift("ac.fe", k, s, c, tol))
+    smo, cmo = stored.get("motion"), current.get("motion") or {}
+    if smo is not None:  # a moving armature: the hand's to 1e-6, the FE's maps' to 0.2 %
+        for name, vals in smo.items():
+            rt = HAND_RTOL if name.startswith("hand") else FE_RTOL_FLOOR
+            for k, s in vals.items():
+                c = cmo.get(name, {}).get(k)
+                if not _close(c, s, rt * abs(s) if s is not None else 0.0):
+                    out.append(Drift(f"motion.{name}", k, s, c, rt))
     ref = stored.get("fe", {})
     for k, s in unc.items():
         c = current.get("fe_uncertainty", {}).get(k)

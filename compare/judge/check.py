@@ -178,6 +178,8 @@ class CheckResult:
     measured: tuple = ()
     """compare.judge.measurement.MeasuredRow per ``[[measured]]`` entry at the
     case's operating point (the measured column; empty without measurements)."""
+    motion: Any = None
+    """compare.models.motion.MotionResult of a case with ``[motion]`` (None otherwise)."""
 
     @property
     def design_passed(self) -> bool:
@@ -1247,6 +1249,15 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
         ac = run_ac(case, fe, hand_p, hand_3d)
         rows = rows + tuple(ac_rows(case, ac))
     notes = explain(case, rows, hand_p, fe, depth) + ac_notes(case, ac)
+    motion = None
+    if case.motion is not None:  # a moving armature: compare.models.motion
+        from ..design.coremodel import core_model
+        from ..models.motion import run_motion
+        from .motionrows import motion_notes, motion_rows
+
+        motion = run_motion(case, core_model(case).axisymmetric)
+        rows = rows + tuple(motion_rows(case, motion))
+        notes = notes + motion_notes(case, motion)
     measured: tuple = ()
     if case.measured:
         from .measurement import measured_note, measured_rows
@@ -1265,7 +1276,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
                        timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
                                 "total": t3 - t0},
                        fringing_ranking=ranking, breakdown=breakdown, drive=drive,
-                       leakage=leakage, depth=depth, ac=ac, measured=measured)
+                       leakage=leakage, depth=depth, ac=ac, measured=measured, motion=motion)
 
 
 def dataframe(records: list[dict], index: str | None = None) -> Any:

@@ -146,6 +146,7 @@ def check_json(res: Any, agreement: str = "fatal") -> dict:
                            "agreement": res.verdict_counts("agreement")},
         "exit_code": res.exit_code_for(agreement),
         **({"measured": [m.to_dict() for m in res.measured]} if res.measured else {}),
+        **({"motion": res.motion.to_dict()} if getattr(res, "motion", None) is not None else {}),
         "timings_s": res.timings,
         "versions": versions(),
         "caution": CAUTION,

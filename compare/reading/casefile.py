@@ -163,6 +163,9 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     tolerances = tuple(_read_tolerance(t, family, data) for t in root.tables("tolerances"))
     targets = tuple(_read_target(t, family) for t in root.tables("targets"))
     measured = tuple(_read_measured(t, base_dir) for t in root.tables("measured"))
+    from .motion import motion_of, read_motion
+
+    motion_t = motion_of(root)
     root.finish()
     if len(windings) > 1 and hand.leakage:
         raise CaseError("hand.leakage", True, "window leakage is modelled for one winding; with "
@@ -175,6 +178,11 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     check = getattr(family, "check_case", None)
     if check is not None:  # what the family checks across tables (coils name windings, ...)
         check(case)
+    if motion_t is not None:
+        case = dataclasses.replace(case, motion=read_motion(motion_t, case))
+    elif case.margins.motion:
+        raise CaseError(f"margins.{case.margins.motion[0][0]}", case.margins.motion[0][1],
+                        "a motion limit: give the case a [motion] table, or drop it")
     if case.margins.force_min is not None or case.margins.force:
         from ..design.coremodel import core_model
 
@@ -819,6 +827,9 @@ def _read_fe(t: TableReader) -> FESettings:
 
 
 def _read_margins(t: TableReader) -> Margins:
+    from .motion import read_motion_margins
+
+    motion = read_motion_margins(t)
     peak = t.quantity("peak_B", "flux density", None)
     at = t.table("agreement", {})
     agreement = []
@@ -875,7 +886,7 @@ def _read_margins(t: TableReader) -> Margins:
                    force_min=force_min, force=tuple(forces), B_peak=b_peak,
                    magnetizing_current_peak=im_peak, magnetizing_current_rms=im_rms,
                    inrush_current_peak=inrush, winding_loss=loss_max,
-                   resistance_ratio=ratio_max)
+                   resistance_ratio=ratio_max, motion=motion)
 
 
 def _check_force_limit_stroke(key: str, stroke: float, spec: Any, data: dict, family: Family,

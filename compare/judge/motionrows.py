@@ -1,0 +1,93 @@
+"""A moving armature's rows, margins and notes in the check
+(compare.models.motion): pull-in and drop-out, the operate and release
+times, hand (planar form) against the FE, each on its own maps; the margins
+[margins] pull_in_voltage, drop_out_voltage, operate_time, release_time
+judged on the FE 3D column (the FE for an axisymmetric case)."""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from ..design.case import Case
+from .check import Row, _diff_pct, _verdict
+from .margins import MarginResult
+
+__all__ = ["MOTION_LIMITS", "MOTION_LABELS", "motion_rows", "motion_notes"]
+
+MOTION_LIMITS: dict[str, float] = {
+    # the pull-in and drop-out currents go as the square root of the force
+    # at the tightest stroke (F ~ i^2 below saturation), so the force's 20 %
+    # is 10 % on the current; the operate time adds the coil's time constant
+    # (the flux linkage's 15 %) to the force's, the release time the
+    # linkage's at the holding current (common practice, no source)
+    "pull_in_current": 10.0, "drop_out_current": 10.0, "operate_time": 20.0,
+    "release_time": 20.0,
+}
+"""Default agreement limits (percent), beside compare.judge.check.DEFAULT_LIMITS."""
+
+MOTION_LABELS = {
+    "pull_in_current": "pull-in current", "pull_in_voltage": "pull-in voltage",
+    "drop_out_current": "drop-out current", "drop_out_voltage": "drop-out voltage",
+    "load_margin": "force over the load at rated current, tightest",
+    "operate_time": "operate time at rated voltage", "current_dip": "current dip while moving",
+    "impact_speed": "impact speed at closing", "release_time": "release time",
+}
+
+_MARGINS = {"pull_in_voltage": ("max", "pull-in voltage"),
+            "drop_out_voltage": ("min", "drop-out voltage"),
+            "operate_time": ("max", "operate time"), "release_time": ("max", "release time")}
+
+
+def motion_rows(case: Case, motion: Any) -> list[Row]:
+    """Rows hand vs FE (judged: the currents and times with a limit; info:
+    the voltages, I R of the same currents, the margin, dip and speed), then
+    the motion's design margins."""
+    from ..models.motion import UNITS
+
+    third = "fe_3d" if "fe_3d" in motion.models else "fe"
+    out = []
+    for k in ("pull_in_current", "pull_in_voltage", "drop_out_current", "drop_out_voltage",
+              "load_margin", "operate_time", "current_dip", "impact_speed", "release_time"):
+        h, f = motion.value("hand", k), motion.value("fe", k)
+        if not (math.isfinite(h) or math.isfinite(f)):
+            continue
+        d = _diff_pct(h, f)
+        lim = case.margins.agreement_limit(k, MOTION_LIMITS.get(k))
+        label = MOTION_LABELS[k]
+        if k == "load_margin":
+            s = motion.models["fe"].margin_stroke
+            label += f" (FE at {case.motion.gap(s) * 1e3:.3g} mm)"
+        verdict = (_verdict(d, h, f, math.nan, lim) if math.isfinite(h) and math.isfinite(f)
+                   else ("FAIL" if lim is not None else "info"))
+        out.append(Row(f"motion:{k}", label, UNITS[k], h, f, math.nan, d, lim, verdict,
+                       hand_3d=motion.value("hand_3d", k), fe_3d=motion.value(third, k)))
+    for key, limit in case.margins.motion:
+        kind, label = _MARGINS[key]
+        r = MarginResult(key, label, UNITS[key], kind, limit, motion.value(third, key),
+                         hand=motion.value("hand_3d", key))
+        out.append(Row(f"margin:{key}", f"{label}, {kind}", r.unit, r.hand, r.value, math.nan,
+                       math.nan, None, r.verdict, limit_value=r.limit,
+                       margin_pct=r.margin_pct, limit_kind=r.kind))
+    return out
+
+
+def motion_notes(case: Case, motion: Any) -> tuple[str, ...]:
+    """The motion's notes: the FE map's grid, solves, wall time and
+    interpolation error; what the models leave out; why a value is missing."""
+    maps, err = motion.maps, motion.interpolation
+    spec = case.motion
+    lines = [
+        f"Motion: both models on their own F(i, s) and lambda(i, s) maps, {maps.strokes.size} "
+        f"strokes ({spec.open_gap * 1e3:.3g} to {spec.closed_gap * 1e3:.3g} mm) x "
+        f"{maps.currents.size - 1} currents to {maps.currents[-1]:.4g} A; the FE map "
+        f"{maps.fe_solves} solves on the coarsest mesh in {maps.fe_seconds:.1f} s. Its "
+        f"interpolation error (leaving out each inner grid line, an upper estimate): force "
+        f"{100 * err['force']:.2g} %, flux linkage {100 * err['linkage']:.2g} %. Coil "
+        f"{motion.resistance:.4g} ohm at {spec.temperature:g} degC, rated "
+        f"{motion.rated_current:.4g} A. Eddy currents in solid iron (which slow a real "
+        "actuator), friction and the switching arc are left out."]
+    for name in ("hand", "fe"):
+        for n in motion.models[name].notes:
+            lines.append(f"Motion ({'hand' if name == 'hand' else 'FE'}): {n}.")
+    return tuple(lines)

@@ -1,0 +1,364 @@
+"""A moving armature by both models: the force and flux-linkage maps F(i, s)
+and lambda(i, s), the static limits (pull-in, drop-out, the load margin at
+rated current) and the motion (operate and release), each model on its own
+maps (physics: magcheck.analytic.motion, docs/references.md section 14).
+
+The maps. The strokes ``s`` run from the open stop (0) to the closed stop
+(``travel``); the case's stroke key (the working gap) is ``open_gap - s``.
+The grid's gaps are spaced geometrically between the open and the closed
+gap (the force grows as the gap closes, about as 1/gap^2, so the points
+crowd where it is steep); the currents evenly from 0 to ``CURRENT_TOP`` times
+the rated current.
+
+- Hand: the magnetic circuit (compare.models.hand.run_hand) at every grid
+  point: its flux linkage and its virtual-work force, in the planar form the
+  FE solves (the "hand" column) and as the whole 3D circuit ("hand 3D").
+- FE: each stroke meshed once on the check's coarsest mesh (the case's
+  element size times REFINE), its currents solved in rising order, each
+  Newton solve started from the last point's solution plus the current step
+  times its dA/dI (the tangent predictor of the sweep and the drive), one
+  direct factorisation shared along the stroke (fem2d.linsolve.DirectReuse);
+  the next stroke is meshed on a helper thread meanwhile (gmsh runs outside
+  the GIL). Force: the weighted Maxwell stress along the closing stroke;
+  flux linkage: the winding's.  A planar case's "FE 3D" map is the FE map
+  times the hand 3D / planar ratio at each grid point (the depth correction
+  of the other rows, point by point).
+- Interpolation (analytic.motion.GridMap): monotone piecewise cubic in s,
+  then in i.  Its error is estimated by leaving out each inner grid line in
+  turn (a current, a stroke) and comparing the map without it with the
+  solved values there: at twice the grid spacing, so an upper estimate of
+  the map's own error (a cubic's error falls as h^3 to h^4).
+
+Left out (the notes say so): eddy currents in solid iron, which slow a real
+actuator (they delay the flux behind the coil current); friction; the
+switching arc.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass, field
+from typing import Any, Optional
+
+import numpy as np
+
+from magcheck.analytic.motion import (GridMap, Motion, MotionError, drop_out_current,
+                                      load_margin, operate, pull_in_current, release)
+
+from ..design.case import Case, with_current
+from ..errors import CaseError, RunError
+
+__all__ = ["CURRENT_TOP", "MODELS", "MotionMaps", "ModelMotion", "MotionResult", "map_strokes",
+           "map_currents", "hand_maps", "fe_maps", "leave_one_out_error", "model_motion",
+           "run_motion", "case_at", "KEYS", "UNITS"]
+
+CURRENT_TOP = 1.5
+"""The map's top current over the rated current: room for the pull-in of a
+design that needs more than rated, and for the release's holding current."""
+
+MODELS = ("hand", "hand_3d", "fe", "fe_3d")
+
+KEYS = ("pull_in_current", "pull_in_voltage", "drop_out_current", "drop_out_voltage",
+        "load_margin", "operate_time", "current_dip", "impact_speed", "release_time")
+"""The figures each model gives (ModelMotion.values)."""
+
+UNITS = {"pull_in_current": "A", "pull_in_voltage": "V", "drop_out_current": "A",
+         "drop_out_voltage": "V", "load_margin": "N", "operate_time": "s", "current_dip": "A",
+         "impact_speed": "m/s", "release_time": "s"}
+
+RTOL = 1e-8
+"""The motion integrator's relative tolerance: far below the maps' own error."""
+
+
+def map_strokes(spec: Any) -> np.ndarray:
+    """The grid's strokes (m from the open stop), rising: gaps spaced
+    geometrically from the open to the closed gap."""
+    n = spec.map_strokes
+    gaps = spec.open_gap * (spec.closed_gap / spec.open_gap) ** (np.arange(n) / (n - 1))
+    s = spec.open_gap - gaps
+    s[0], s[-1] = 0.0, spec.travel
+    return s
+
+
+def map_currents(spec: Any) -> np.ndarray:
+    """The grid's currents (A): 0 and ``map_currents`` evenly to CURRENT_TOP x rated."""
+    top = CURRENT_TOP * spec.rated_current
+    return top * np.arange(spec.map_currents + 1) / spec.map_currents
+
+
+def case_at(case: Case, gap: float) -> Case:
+    """The case with its stroke key at ``gap`` (m), validated like the file;
+    a gap the geometry refuses names the motion's key."""
+    spec = case.motion
+    if case.origin is None and spec.stroke_key.startswith("core."):  # a Case built directly
+        import dataclasses
+
+        name = spec.stroke_key.split(".", 1)[1]
+        return dataclasses.replace(case, core=dataclasses.replace(case.core, **{name: gap}))
+    try:
+        # the open gap written out: its default is the case's stroke, which this changes
+        return case.with_values({spec.stroke_key: gap, "motion.open_gap": spec.open_gap})
+    except CaseError as exc:
+        key = "motion.closed_gap" if gap < spec.open_gap else "motion.open_gap"
+        raise CaseError(key, f"{gap * 1e3:g} mm", f"the geometry refuses {spec.stroke_key} "
+                        f"there: {exc.reason}") from None
+
+
+@dataclass(frozen=True)
+class MotionMaps:
+    """F (N) and lambda (Wb-turns) of each model on the grid: ``tables[model]``
+    = (forces, linkages), each currents x strokes."""
+
+    strokes: np.ndarray
+    currents: np.ndarray
+    tables: dict[str, tuple[np.ndarray, np.ndarray]]
+    fe_solves: int = 0
+    fe_seconds: float = 0.0
+    hand_seconds: float = 0.0
+    gap_open: Optional[float] = None
+    """The working gap at the open stop (m): the force is interpolated in s as F g^2."""
+
+    def grid_map(self, model: str) -> GridMap:
+        f, lam = self.tables[model]
+        return GridMap(self.currents, self.strokes, f, lam, gap_open=self.gap_open)
+
+
+def hand_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
+              cases: Optional[list[Case]] = None) -> dict[str, tuple[np.ndarray, np.ndarray]]:
+    """The hand model's maps, planar form ("hand") and 3D ("hand_3d")."""
+    from .hand import run_hand
+
+    spec = case.motion
+    cases = cases or [case_at(case, spec.gap(s)) for s in strokes]
+    out = {}
+    for name, planar in (("hand", True), ("hand_3d", False)):
+        f = np.empty((currents.size, strokes.size))
+        lam = np.empty_like(f)
+        for j, cs in enumerate(cases):
+            for k, i in enumerate(currents):
+                h = run_hand(with_current(cs, float(i)), planar=planar)
+                f[k, j] = h.force_values["force"]
+                lam[k, j] = h.values()["flux_linkage"]
+        out[name] = (f, lam)
+    return out
+
+
+def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
+            cases: Optional[list[Case]] = None) -> tuple[np.ndarray, np.ndarray, int, float]:
+    """The FE's maps (forces, linkages), the number of solves and the wall time (s)."""
+    from magcheck.fem2d.linsolve import DirectReuse
+
+    from .fe import REFINE, mesh_case, solve_case_full
+
+    t0 = time.perf_counter()
+    spec = case.motion
+    cases = cases or [case_at(case, spec.gap(s)) for s in strokes]
+    f = np.empty((currents.size, strokes.size))
+    lam = np.empty_like(f)
+    solves = 0
+    from ..design.coremodel import core_model
+
+    magnets = bool(core_model(case).magnets)
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        meshes = [pool.submit(mesh_case, cs, refine=1.0 / REFINE) for cs in cases]
+        for j, cs in enumerate(cases):
+            mesh = meshes[j].result()
+            linear = DirectReuse()
+            A = dA = None
+            prev = 0.0
+            for k, i in enumerate(currents):
+                if i == 0.0 and not magnets:  # no source: A = 0, F = 0, lambda = 0 exactly
+                    f[k, j] = lam[k, j] = 0.0
+                    continue
+                A0 = None if A is None else A + dA * (float(i) - prev)
+                try:
+                    fs = solve_case_full(with_current(cs, float(i)), mesh, A0=A0,
+                                         linear_solver=linear, windings=False)
+                except RunError as exc:
+                    raise RunError(f"motion map at {spec.stroke_key} = {spec.gap(strokes[j]):.6g} "
+                                   f"m, {float(i):.6g} A: {exc}") from None
+                solves += 1
+                A, dA, prev = fs.solution.A, fs.dA_dI, float(i)
+                f[k, j] = fs.quantities.force_values.get("force", math.nan)
+                lam[k, j] = fs.quantities.values["flux_linkage"]
+    return f, lam, solves, time.perf_counter() - t0
+
+
+def leave_one_out_error(strokes: np.ndarray, currents: np.ndarray, f: np.ndarray,
+                        lam: np.ndarray, gap_open: Optional[float] = None) -> dict[str, float]:
+    """The map's interpolation error estimated by leaving out each inner grid
+    line (a current, then a stroke) and interpolating the rest there: the
+    largest |error| relative to the solved value's scale (the force over its
+    row's largest, the linkage over its own), as fractions, under
+    ``force_current``, ``force_stroke``, ``linkage_current``, ``linkage_stroke``
+    and ``force``/``linkage`` (the larger of the two directions)."""
+    out: dict[str, float] = {}
+    for what, table in (("force", f), ("linkage", lam)):
+        worst_i = worst_s = 0.0
+        for k in range(1, currents.size - 1):
+            keep = np.arange(currents.size) != k
+            g = GridMap(currents[keep], strokes, f[keep], lam[keep], gap_open)
+            for j, s in enumerate(strokes):
+                got = (g.force if what == "force" else g.linkage)(currents[k], s)
+                scale = abs(table[:, j]).max() if what == "force" else abs(table[k, j])
+                if scale > 0:
+                    worst_i = max(worst_i, abs(got - table[k, j]) / scale)
+        for j in range(1, strokes.size - 1):
+            keep = np.arange(strokes.size) != j
+            g = GridMap(currents, strokes[keep], f[:, keep], lam[:, keep], gap_open)
+            for k, i in enumerate(currents):
+                if i == 0.0:
+                    continue
+                got = (g.force if what == "force" else g.linkage)(i, strokes[j])
+                scale = abs(table[k, j])
+                if scale > 0:
+                    worst_s = max(worst_s, abs(got - table[k, j]) / scale)
+        out[f"{what}_current"], out[f"{what}_stroke"] = worst_i, worst_s
+        out[what] = max(worst_i, worst_s)
+    return out
+
+
+@dataclass(frozen=True)
+class ModelMotion:
+    """One model's limits and motion (SI; NaN where not reached).
+
+    values : KEYS -> value; pull_in_stroke, margin_stroke, drop_out_stroke (m
+    from the open stop): the tightest strokes; operate, release: the motions
+    (analytic.motion.Motion: t, i, lam, s) or None; notes: why a value is NaN.
+    """
+
+    model: str
+    values: dict[str, float]
+    pull_in_stroke: float = math.nan
+    margin_stroke: float = math.nan
+    operate: Optional[Motion] = field(default=None, repr=False)
+    release: Optional[Motion] = field(default=None, repr=False)
+    notes: tuple[str, ...] = ()
+
+
+def _time_scales(gm: GridMap, spec: Any) -> float:
+    """A generous end time (s): 50 electrical time constants at the open stop
+    and 20 mechanical ones (the time to cross the travel under the open
+    load's force), so a motion that closes has closed."""
+    i_r = spec.rated_current
+    tau = gm.linkage(i_r, 0.0) / max(i_r, 1e-30) / spec.coil_resistance
+    f0 = max(abs(float(spec.load.force(0.0))), 1e-9)
+    t_m = math.sqrt(2.0 * spec.mass * spec.travel / f0)
+    return 50.0 * abs(tau) + 20.0 * t_m
+
+
+def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL) -> ModelMotion:
+    """Pull-in, drop-out, the load margin at rated current, the operate and
+    release motions of one model's map ``gm`` under ``spec`` (ActuatorSpec)."""
+    load, r = spec.load, spec.coil_resistance
+    i_top = float(gm.currents[-1])
+    v: dict[str, float] = {k: math.nan for k in KEYS}
+    notes = []
+    pull_s = margin_s = math.nan
+    try:
+        p = pull_in_current(gm.force, load, i_top, samples=81)
+        v["pull_in_current"], v["pull_in_voltage"], pull_s = p.current, p.current * r, p.stroke
+    except MotionError:
+        notes.append(f"no pull-in below {i_top:.4g} A ({CURRENT_TOP:g} x rated)")
+    try:
+        d = drop_out_current(gm.force, load, i_top)
+        v["drop_out_current"], v["drop_out_voltage"] = d.current, d.current * r
+    except MotionError:
+        notes.append("the closed armature does not hold below the map's top current")
+    m = load_margin(gm.force, load, spec.rated_current, samples=81)
+    v["load_margin"], margin_s = m.margin, m.stroke
+    t_end = _time_scales(gm, spec)
+    volt = spec.voltage_table if spec.voltage_table is not None else spec.voltage
+    kw = dict(current=gm.current, restitution=spec.restitution, rtol=rtol, atol=1e-12)
+    op = operate(gm.linkage, gm.force, load, spec.mass, r, volt, t_end, **kw)
+    if op.closed_time is not None:
+        v["operate_time"] = op.closed_time
+        v["impact_speed"] = abs(op.impact_speed) if op.impact_speed is not None else math.nan
+        if op.i_motion_peak is not None and op.i_motion_min is not None:
+            v["current_dip"] = op.i_motion_peak - op.i_motion_min
+    else:
+        notes.append(f"does not close within {t_end * 1e3:.3g} ms at the drive")
+    i_hold = spec.rated_current
+    rel_kw: dict[str, Any] = {}
+    if spec.suppression == "resistor":
+        rel_kw["suppression"] = spec.suppression_resistance
+    elif spec.suppression == "diode":
+        rel_kw["diode_drop"] = spec.diode_drop
+    rl = None
+    if math.isnan(v["drop_out_current"]) or v["drop_out_current"] > 0.0:
+        rl = release(gm.linkage, gm.force, load, spec.mass, r, i_hold, t_end, **rel_kw, **kw)
+        if rl.open_time is not None:
+            v["release_time"] = rl.open_time
+        else:
+            notes.append(f"does not open within {t_end * 1e3:.3g} ms of switch-off")
+    else:
+        notes.append("held closed at zero current (the load does not open it)")
+    return ModelMotion(name, v, pull_s, margin_s, op, rl, tuple(notes))
+
+
+@dataclass(frozen=True)
+class MotionResult:
+    """Both models' limits and motions on their maps, and the FE map's cost
+    and interpolation error (``interpolation``: leave_one_out_error's
+    fractions)."""
+
+    maps: MotionMaps
+    models: dict[str, ModelMotion]
+    interpolation: dict[str, float]
+    rated_current: float
+    resistance: float
+    seconds: float
+
+    def value(self, model: str, key: str) -> float:
+        m = self.models.get(model)
+        return m.values[key] if m is not None else math.nan
+
+    def to_dict(self) -> dict:
+        """The JSON block (SI): per model its values and tightest strokes; the
+        map's grid, solves, wall time and interpolation error."""
+        return {
+            "rated_current": self.rated_current, "coil_resistance": self.resistance,
+            "models": {n: {**m.values, "pull_in_stroke": m.pull_in_stroke,
+                           "margin_stroke": m.margin_stroke, "notes": list(m.notes)}
+                       for n, m in self.models.items()},
+            "map": {"strokes": self.maps.strokes.tolist(), "currents": self.maps.currents.tolist(),
+                    "fe_solves": self.maps.fe_solves, "fe_seconds": self.maps.fe_seconds,
+                    "hand_seconds": self.maps.hand_seconds,
+                    "interpolation_error": dict(self.interpolation)},
+            "seconds": self.seconds,
+        }
+
+
+def run_motion(case: Case, axisymmetric: bool) -> MotionResult:
+    """Both models' maps, limits and motions for a case with ``[motion]``.
+
+    Raises RunError when an FE solve of the map does not converge, CaseError
+    when the geometry refuses a stroke of the travel."""
+    t0 = time.perf_counter()
+    spec = case.motion
+    strokes, currents = map_strokes(spec), map_currents(spec)
+    cases = [case_at(case, spec.gap(s)) for s in strokes]
+    th = time.perf_counter()
+    tables = hand_maps(case, strokes, currents, cases)
+    th = time.perf_counter() - th
+    f, lam, solves, secs = fe_maps(case, strokes, currents, cases)
+    tables["fe"] = (f, lam)
+    if not axisymmetric:
+        hf, hl = tables["hand"]
+        h3f, h3l = tables["hand_3d"]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            kf = np.where(hf != 0, h3f / hf, 1.0)
+            kl = np.where(hl != 0, h3l / hl, 1.0)
+        tables["fe_3d"] = (f * kf, lam * kl)
+    maps = MotionMaps(strokes, currents, tables, solves, secs, th, spec.open_gap)
+    models = {}
+    for name in tables:
+        try:
+            models[name] = model_motion(name, maps.grid_map(name), spec)
+        except MotionError as exc:
+            raise RunError(f"motion ({name} map): {exc}") from None
+    err = leave_one_out_error(strokes, currents, f, lam, spec.open_gap)
+    return MotionResult(maps, models, err, spec.rated_current, spec.coil_resistance,
+                        time.perf_counter() - t0)
