@@ -303,7 +303,7 @@ def display_cells(row: Row) -> list[str]:
     return [pretty_units(c) for c in table_cells(row)]
 
 
-TOPICS = ("field and flux", "inductances", "force", "magnet", "drive", "margins", "other")
+TOPICS = ("field and flux", "inductances", "force", "magnet", "drive", "motion", "margins", "other")
 """The groups of the terminal table, in order (`row_topic`)."""
 
 
@@ -317,6 +317,8 @@ def row_topic(row: Row) -> str:
         return "force"
     if k.startswith("magnet_"):
         return "magnet"
+    if k.startswith("motion:"):
+        return "motion"
     if k.startswith(("magnetizing", "inrush", "B_peak", "B_limb_peak")):
         return "drive"
     if k in ("inductance", "incremental_inductance", "energy", "leakage_inductance") \
