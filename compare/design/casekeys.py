@@ -229,8 +229,7 @@ SPRING_KEYS: dict[str, Key] = {
 """``[[motion.springs]]``: one spring of the load (in parallel with the others)."""
 
 MOTION_KEYS: dict[str, Key] = {
-    "open_gap": quantity("length", "the stroke key's value at the open stop (default the "
-                                   "case's)"),
+    "open_gap": quantity("length", "the stroke key's value at the open stop"),
     "closed_gap": quantity("length", "the stroke key's value at the closed stop"),
     "mass": quantity("mass", "the moving mass (armature, plunger, contacts)"),
     "springs": tables(SPRING_KEYS, "the springs of the load, in parallel"),

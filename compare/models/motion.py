@@ -98,7 +98,6 @@ def case_at(case: Case, gap: float) -> Case:
         name = spec.stroke_key.split(".", 1)[1]
         return dataclasses.replace(case, core=dataclasses.replace(case.core, **{name: gap}))
     try:
-        # the open gap written out: its default is the case's stroke, which this changes
         return case.with_values({spec.stroke_key: gap, "motion.open_gap": spec.open_gap})
     except CaseError as exc:
         key = "motion.closed_gap" if gap < spec.open_gap else "motion.open_gap"

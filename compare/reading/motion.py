@@ -79,7 +79,7 @@ def read_motion(t: TableReader, case: Case) -> ActuatorSpec:
     if force is None or force.stroke_key is None:
         raise CaseError("motion", "[motion]", "the case has no moving part with a stroke key "
                         "(a u-armature, plunger or holding-magnet core)")
-    open_gap = t.quantity("open_gap", "length", force.stroke)
+    open_gap = t.quantity("open_gap", "length")
     closed_gap = t.quantity("closed_gap", "length")
     if closed_gap >= open_gap:
         raise CaseError(t.key("closed_gap"), t.raw("closed_gap"),

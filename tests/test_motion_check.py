@@ -1,0 +1,233 @@
+"""A moving armature in the check: the [motion] case keys, the maps'
+interpolation (analytic.motion.GridMap), the motion against independent
+solutions, and (slow) the FE map's pull-in against single FE solves
+(docs/references.md section 14)."""
+
+from __future__ import annotations
+
+import copy
+import math
+import subprocess
+import sys
+import tomllib
+from pathlib import Path
+
+import numpy as np
+import pytest
+from scipy.integrate import solve_ivp
+from scipy.interpolate import PchipInterpolator
+
+from magcheck.analytic.motion import (GapActuator, GridMap, Load, Spring, operate,
+                                      pchip_slopes, simulate)
+from magcheck.compare.errors import CaseError
+from magcheck.compare.reading.casefile import case_from_dict
+
+ROOT = Path(__file__).resolve().parents[1]
+RELAY = ROOT / "cases" / "demo_clapper_relay.toml"
+
+# an invented ideal-gap actuator: K = N^2 mu0 A (H m), closed gap 0.2 mm, travel 2 mm
+K, GC, T = 2.0e-5, 0.2e-3, 2.0e-3
+ACT = GapActuator(K, GC, T)
+
+
+def _relay_tables() -> dict:
+    return tomllib.loads(RELAY.read_text())
+
+
+# ---------------------------------------------------------------- the case keys
+def test_motion_table_reads_the_load_line_and_the_coil():
+    case = case_from_dict(_relay_tables())
+    spec = case.motion
+    assert spec.stroke_key == "core.stroke"
+    assert spec.open_gap == pytest.approx(0.8e-3) and spec.travel == pytest.approx(0.7e-3)
+    # Source: exact (Hooke's law; two 10 N/mm springs in series carry one force: 5 N/mm)
+    assert spec.load.force(0.7e-3) == pytest.approx(0.8 + 400 * 0.7e-3 + 2.0 + 5000 * 0.2e-3,
+                                                    rel=1e-12)
+    # Source: R(T) = R20 (1 + 0.00393 (T - 20)), copper (from memory, docs/references.md s14)
+    assert spec.coil_resistance == pytest.approx(150.0 * (1 + 0.00393 * 20.0), rel=1e-12)
+    assert spec.rated_current == pytest.approx(24.0 / spec.coil_resistance, rel=1e-12)
+
+
+def test_gravity_and_keeper_load_add_to_the_load_line():
+    data = _relay_tables()
+    data["motion"]["gravity"] = "opening"
+    data["motion"]["constant_load"] = "0.25 N"
+    spec = case_from_dict(data).motion
+    # Source: exact, the weight m g (g = 9.80665 m/s^2, a definition) opens the armature
+    assert spec.load.force(0.0) == pytest.approx(0.8 + 0.25 + 3e-3 * 9.80665, rel=1e-12)
+    data["motion"]["gravity"] = "closing"
+    spec = case_from_dict(data).motion
+    assert spec.load.force(0.0) == pytest.approx(0.8 + 0.25 - 3e-3 * 9.80665, rel=1e-12)
+
+
+@pytest.mark.parametrize("edit, key", [
+    (lambda m: m["springs"][1].update(engage="0.75 mm"), "motion.springs[1].engage"),
+    (lambda m: m["springs"][0].update(solid="0.5 mm"), "motion.springs[0].solid"),
+    (lambda m: m["springs"][0].update(series=["1 N/mm"]), "motion.springs[0].rate"),
+    (lambda m: m.update(closed_gap="0.9 mm"), "motion.closed_gap"),
+    (lambda m: m.update(mass="-3 g"), "motion.mass"),
+    (lambda m: m.update(mass="3 N"), "motion.mass"),
+    (lambda m: m.update(suppression="resistor"), "motion.suppression_resistance"),
+    (lambda m: m.update(diode_drop="1 V", suppression="none"), "motion.diode_drop"),
+    (lambda m: m.update(springs=[]), "motion.springs"),
+    (lambda m: m.update(voltage_table={"time": [0.0, 0.0], "voltage": [1.0, 2.0]}),
+     "motion.voltage_table.time"),
+    (lambda m: m.update(map_strokes=2), "motion.map_strokes"),
+])
+def test_bad_motion_values_are_refused_naming_the_key(edit, key):
+    data = _relay_tables()
+    edit(data["motion"])
+    with pytest.raises(CaseError) as err:
+        case_from_dict(data)
+    assert err.value.key == key
+
+
+def test_motion_margin_without_a_motion_table_is_refused():
+    data = _relay_tables()
+    del data["motion"]
+    with pytest.raises(CaseError) as err:
+        case_from_dict(data)
+    assert err.value.key == "margins.pull_in_voltage"
+
+
+def test_bad_motion_key_exits_2_in_one_line(tmp_path):
+    text = RELAY.read_text().replace('closed_gap = "0.1 mm"', 'closed_gap = "1.1 mm"')
+    path = tmp_path / "relay.toml"
+    path.write_text(text)
+    run = subprocess.run([sys.executable, "-m", "magcheck", "check", str(path)],
+                         capture_output=True, text=True, cwd=ROOT)
+    assert run.returncode == 2
+    assert "motion.closed_gap" in run.stderr and "Traceback" not in run.stderr
+    assert len(run.stderr.strip().splitlines()) == 1
+
+
+# ---------------------------------------------------------------- the map
+def test_pchip_slopes_are_the_reference_librarys():
+    x = np.array([0.0, 1.0, 2.5, 3.0, 5.0, 5.5])
+    y = np.array([[0.0, 1.0, 1.5, 4.0, 4.1, 7.0], [0.0, 2.0, 1.0, 3.0, 9.0, 8.0]])
+    # Source: reference library, scipy.interpolate.PchipInterpolator (Fritsch-Carlson);
+    # tolerance: rounding
+    ref = PchipInterpolator(x, y, axis=1).derivative()(x)
+    assert np.max(np.abs(pchip_slopes(x, y) - ref)) < 1e-13
+
+
+def _gap_grid(n_i=6, n_s=5):
+    currents = np.linspace(0.0, 2.0, n_i)
+    g = (GC + T) * (GC / (GC + T)) ** (np.arange(n_s) / (n_s - 1))
+    strokes = GC + T - g
+    strokes[0], strokes[-1] = 0.0, T
+    f = np.array([[ACT.force(i, s) for s in strokes] for i in currents])
+    lam = np.array([[ACT.linkage(i, s) for s in strokes] for i in currents])
+    return currents, strokes, f, lam
+
+
+def test_ideal_gap_force_is_exact_between_strokes_with_the_gap_law():
+    currents, strokes, f, lam = _gap_grid()
+    gm = GridMap(currents, strokes, f, lam, gap_open=GC + T)
+    for s in (0.3e-3, 1.234e-3, 1.9e-3):
+        # Source: exact, F g^2 = i^2 K / 2 is constant in s for the ideal gap, so its
+        # interpolant in s is exact; tolerance: rounding
+        assert gm.force(currents[3], s) == pytest.approx(ACT.force(currents[3], s), rel=1e-12)
+        # the current from lambda inverts the same cubic (exact: tolerance rounding)
+        assert gm.current(gm.linkage(0.77, s), s) == pytest.approx(0.77, rel=1e-12)
+    for s in strokes:
+        # Source: exact, lambda = i K / g is linear in i, which the monotone cubic keeps
+        assert gm.current(ACT.linkage(0.77, s), s) == pytest.approx(0.77, rel=1e-12)
+    plain = GridMap(currents, strokes, f, lam)
+    assert abs(plain.force(currents[3], 1.234e-3) / ACT.force(currents[3], 1.234e-3) - 1) > 1e-3
+
+
+def test_fixed_armature_on_a_map_rises_as_the_rl_circuit():
+    currents, strokes, f, lam = _gap_grid()
+    gm = GridMap(currents, strokes, f, lam, gap_open=GC + T)
+    v, r, s0 = 12.0, 30.0, strokes[2]  # at a grid stroke lambda(i) is the exact K i / g
+    L = ACT.inductance(s0)
+    load = Load(T, (Spring(100.0, 1.0),))
+    mo = simulate(gm.linkage, gm.force, load, 1.0, r, v, 5 * L / r, s0=s0, held=True,
+                  current=gm.current)
+    # Source: exact solution of the RL circuit i = V/R (1 - exp(-t R / L)), L = K/g from the
+    # same linear lambda(i); tolerance 1e-7 of V/R: the integrator's rtol 1e-10
+    assert np.max(np.abs(mo.i - v / r * (1.0 - np.exp(-mo.t * r / L)))) < 1e-7 * v / r
+
+
+def test_ideal_gap_operate_time_against_an_independent_ode():
+    p, k, m, r, v = 1.0, 300.0, 5e-3, 30.0, 24.0
+    load = Load(T, (Spring(k, p),))
+    mo = operate(ACT.linkage, ACT.force, load, m, r, v, 0.5, current=ACT.current)
+
+    # Source: exact closed forms of the ideal gap, written out again here: i = lambda g / K,
+    # F = lambda^2 / (2 K); the armature waits at the open stop until F exceeds P, then
+    # m s'' = F - P - k s; integrated independently (LSODA, its own events)
+    def rhs(t, y, moving):
+        lam, s, u = y
+        i = lam * (GC + T - s) / K
+        acc = (lam * lam / (2 * K) - p - k * s) / m if moving else 0.0
+        return [v - r * i, u if moving else 0.0, acc]
+
+    def starts(t, y, moving):
+        return y[0] * y[0] / (2 * K) - p
+    starts.terminal = True
+
+    def closes(t, y, moving):
+        return y[1] - T
+    closes.terminal = True
+    a = solve_ivp(rhs, (0, 0.5), [0.0, 0.0, 0.0], args=(False,), events=starts, method="LSODA",
+                  rtol=1e-12, atol=1e-15)
+    b = solve_ivp(rhs, (a.t[-1], 0.5), a.y[:, -1], args=(True,), events=closes,
+                  method="LSODA", rtol=1e-12, atol=1e-15)
+    # tolerance 1e-6 relative: both integrators' tolerances and the event roots
+    assert mo.closed_time == pytest.approx(b.t_events[0][0], rel=1e-6)
+    assert mo.impact_speed == pytest.approx(b.y_events[0][0][2], rel=1e-6)
+
+
+def test_leave_one_out_error_of_the_ideal_gap_map():
+    from magcheck.compare.models.motion import leave_one_out_error
+
+    currents, strokes, f, lam = _gap_grid()
+    err = leave_one_out_error(strokes, currents, f, lam, GC + T)
+    # Source: exact, F g^2 is constant in s and lambda linear in i (above); tolerance: rounding
+    assert err["force_stroke"] < 1e-12 and err["linkage_current"] < 1e-12
+    # lambda = K i / g in s is not a cubic: at twice the spacing, a few percent to tens
+    assert 1e-3 < err["linkage_stroke"] == err["linkage"] < 0.5
+    # a quadratic by the monotone cubic at twice the spacing is not exact
+    # (common practice, no source): a few percent of the row's largest force
+    assert 1e-3 < err["force_current"] < 0.1
+
+
+# ---------------------------------------------------------------- the check (FE, slow)
+@pytest.mark.slow
+def test_fe_map_pull_in_against_single_fe_solves():
+    """The pull-in current found on the FE map, against a direct search with
+    single FE solves at the tightest stroke (a bracketing secant on the
+    margin F(i) - F_load), within the map's stated interpolation error."""
+
+    from magcheck.compare.design.case import with_current
+    from magcheck.compare.models.fe import REFINE, mesh_case, solve_case
+    from magcheck.compare.models.motion import case_at, run_motion
+    from magcheck.compare.reading.variants import case_source
+
+    case = case_source(RELAY)[1]
+    res = run_motion(case, axisymmetric=False)
+    fe = res.models["fe"]
+    i_map, s_star = fe.values["pull_in_current"], fe.pull_in_stroke
+    spec = case.motion
+    at = case_at(case, spec.gap(s_star))
+    mesh = mesh_case(at, refine=1.0 / REFINE)  # the map's own mesh size
+    load = float(spec.load.force(s_star))
+
+    def margin(i):
+        q, _, _ = solve_case(with_current(at, i), mesh)
+        return q.force_values["force"] - load
+
+    a, b = 0.8 * i_map, 1.2 * i_map
+    fa, fb = margin(a), margin(b)
+    assert fa < 0 < fb
+    for _ in range(4):  # regula falsi on a smooth rising margin
+        c = b - fb * (b - a) / (fb - fa)
+        fc = margin(c)
+        a, fa, b, fb = (c, fc, b, fb) if fc < 0 else (a, fa, c, fc)
+    i_direct = c
+    # Source: the map's own leave-one-out error (an upper estimate): F ~ i^2 below
+    # saturation, so a relative force error e moves the current by about e / 2
+    assert abs(i_map / i_direct - 1) <= 0.5 * res.interpolation["force"]
+    assert res.maps.fe_solves == spec.map_strokes * spec.map_currents
