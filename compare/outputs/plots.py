@@ -22,7 +22,7 @@ from ..judge.check import CheckResult  # noqa: E402
 from ..design.coremodel import comparison_forms  # noqa: E402
 from .output import save_figure  # noqa: E402
 
-__all__ = ["save_figures", "FIGURES", "caption", "flux_levels", "sweep_figures",
+__all__ = ["save_figures", "FIGURES", "caption", "fig_motion", "flux_levels", "sweep_figures",
            "save_sweep_figures", "tolerance_figure", "tolerance_panels", "save_tolerance_figure"]
 
 # magcheck's own palette: slate core, amber gaps, teal/rose coil sides.
@@ -879,6 +879,58 @@ def fig_inrush(res: CheckResult):
     return fig
 
 
+def fig_motion(res: CheckResult):
+    """A moving armature (compare.models.motion): the coil current i(t) and
+    the stroke x(t) from switch-on at rated voltage to closed, the release's
+    stroke from switch-off, and the operate's trajectory on the
+    flux-linkage-current plane over each model's lambda(i) at the open and
+    closed stops; hand (planar form) and FE, each on its own maps.  None
+    without ``[motion]``."""
+    mo = getattr(res, "motion", None)
+    if mo is None:
+        return None
+    spec = res.case.motion
+    fig, (ax1, ax2, ax3) = plt.subplots(1, 3, figsize=(11.5, 3.8))
+    models = (("hand", "hand", HAND_COLOUR, "--"), ("fe", "FE", FE_COLOUR, "-"))
+    for key, label, colour, line in models:
+        m = mo.models[key]
+        op, rl = m.operate, m.release
+        if op is not None:
+            t_op = m.values["operate_time"]
+            ax1.plot(op.t * 1e3, op.i, line, color=colour, lw=1.3,
+                     label=f"{label}: operate {t_op * 1e3:.3g} ms" if t_op == t_op
+                     else f"{label}: does not close")
+            ax2.plot(op.t * 1e3, op.s * 1e3, line, color=colour, lw=1.3,
+                     label=f"{label}, switch-on")
+            ax3.plot(op.i, op.lam, line, color=colour, lw=1.3, label=f"{label}, operate")
+        if rl is not None:
+            t_rl = m.values["release_time"]
+            ax2.plot(rl.t * 1e3, rl.s * 1e3, ":", color=colour, lw=1.3,
+                     label=f"{label}, switch-off: release {t_rl * 1e3:.3g} ms"
+                     if t_rl == t_rl else f"{label}, switch-off")
+        gm = mo.maps.grid_map(key)
+        ii = np.linspace(0.0, float(mo.maps.currents[-1]), 60)
+        for s, dash in ((0.0, (1, 2)), (spec.travel, (4, 2))):
+            ax3.plot(ii, [gm.linkage(c, s) for c in ii], color=colour, lw=0.7, alpha=0.6,
+                     dashes=dash)
+    ax1.axhline(mo.rated_current, color="0.4", lw=0.8, ls=":",
+                label=f"rated {mo.rated_current:.4g} A")
+    ax1.set_xlabel("time from switch-on (ms)")
+    ax1.set_ylabel("coil current (A)")
+    ax1.set_title("i(t): the dip is the armature moving", fontsize=9)
+    ax2.set_xlabel("time from switch-on / switch-off (ms)")
+    ax2.set_ylabel("stroke from the open stop (mm)")
+    ax2.axhline(spec.travel * 1e3, color="0.4", lw=0.8, ls=":")
+    ax2.set_title("x(t): operate and release", fontsize=9)
+    ax3.set_xlabel("coil current (A)")
+    ax3.set_ylabel("flux linkage (Wb-turns)")
+    ax3.set_title("lambda-i trajectory; thin: open (dotted) and closed stops", fontsize=9)
+    for ax in (ax1, ax2, ax3):
+        ax.grid(alpha=0.3)
+        ax.legend(fontsize=7)
+    return fig
+
+
 FIGURES = {
     "geometry.png": fig_geometry,
     "flux.png": fig_flux,
@@ -890,6 +942,7 @@ FIGURES = {
     "breakdown.png": fig_breakdown,
     "magnetizing.png": fig_magnetizing,
     "inrush.png": fig_inrush,
+    "motion.png": fig_motion,
 }
 
 
@@ -923,6 +976,11 @@ _CAPTIONS = {
                   "residual flux, and each model's first current peak (with the winding's "
                   "resistance, d lambda/dt = v - R i; without it an upper bound); the hand "
                   "network has no air flux beside the saturated core.",
+    "motion.png": "The moving armature at rated voltage, each model on its own force and "
+                  "flux-linkage maps: the coil current and the stroke from switch-on to "
+                  "closed, the stroke from switch-off to open (dotted), and the operate's path "
+                  "on the flux-linkage-current plane between the open and closed stops' "
+                  "curves; eddy currents in solid iron and friction left out.",
 }
 
 
