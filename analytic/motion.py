@@ -245,11 +245,14 @@ class GridMap:
     With ``gap_open`` (m, the working gap at s = 0, closing as g = gap_open -
     s) the force is interpolated in s as F g^2, the ideal gap's law divided
     out (docs/references.md section 14), a far smoother function of s where
-    the force grows steeply as the gap closes.  Faster than :class:`ForceMap` (no interpolant built per call): the motion
-    integrates with it."""
+    the force grows steeply as the gap closes.  With ``square`` (no magnet:
+    F even in i) the force is interpolated in i^2, in which it is linear
+    below saturation (F = (i^2/2) dL/ds), where a cubic in i bends the
+    parabola near zero current.  Faster than :class:`ForceMap` (no
+    interpolant built per call): the motion integrates with it."""
 
     def __init__(self, currents: Sequence[float], strokes: Sequence[float], forces, linkages,
-                 gap_open: Optional[float] = None):
+                 gap_open: Optional[float] = None, square: bool = False):
         i = np.asarray(currents, dtype=float)
         s = np.asarray(strokes, dtype=float)
         for name, a in (("currents", i), ("strokes", s)):
@@ -265,6 +268,10 @@ class GridMap:
             raise MotionError("map linkages do not rise with the current at every stroke")
         self.currents, self.strokes, self.forces, self.linkages = i, s, f, lam
         self.gap_open = gap_open
+        self.square = bool(square)
+        if square and i[0] < 0.0:
+            raise MotionError("map: the force in i^2 needs currents >= 0")
+        self._fx = i * i if square else i  # the force's abscissa
         if gap_open is not None:
             if not np.all(gap_open - s > 0.0):
                 raise MotionError(f"map gap at the open stop = {gap_open!r} m must exceed "
@@ -282,9 +289,11 @@ class GridMap:
             f = f / (self.gap_open - s) ** 2
         return f, v[self._n:]
 
-    def _hermite(self, y: np.ndarray, d: np.ndarray, c: float) -> tuple[float, float]:
-        """The cubic through (currents, y) with slopes d at ``c``: (value, slope)."""
-        x = self.currents
+    def _hermite(self, y: np.ndarray, d: np.ndarray, c: float,
+                 x: Optional[np.ndarray] = None) -> tuple[float, float]:
+        """The cubic through (x, y) (x the currents by default) with slopes d
+        at ``c``: (value, slope)."""
+        x = self.currents if x is None else x
         if c <= x[0]:
             return float(y[0] + d[0] * (c - x[0])), float(d[0])
         if c >= x[-1]:
@@ -302,7 +311,8 @@ class GridMap:
     def force(self, i: float, s: float) -> float:
         """F(i, s) in N."""
         f, _ = self._columns(s)
-        return self._hermite(f, pchip_slopes(self.currents, f), float(i))[0]
+        c = float(i) * float(i) if self.square else float(i)
+        return self._hermite(f, pchip_slopes(self._fx, f), c, self._fx)[0]
 
     def linkage(self, i: float, s: float) -> float:
         """lambda(i, s) in Wb-turns."""

@@ -192,6 +192,8 @@ def test_leave_one_out_error_of_the_ideal_gap_map():
     # a quadratic by the monotone cubic at twice the spacing is not exact
     # (common practice, no source): a few percent of the row's largest force
     assert 1e-3 < err["force_current"] < 0.1
+    # Source: exact, F = i^2 K / (2 g^2) is linear in i^2, which the cubic keeps; rounding
+    assert leave_one_out_error(strokes, currents, f, lam, GC + T, True)["force"] < 1e-12
 
 
 # ---------------------------------------------------------------- the check (FE, slow)
@@ -231,3 +233,52 @@ def test_fe_map_pull_in_against_single_fe_solves():
     # saturation, so a relative force error e moves the current by about e / 2
     assert abs(i_map / i_direct - 1) <= 0.5 * res.interpolation["force"]
     assert res.maps.fe_solves == spec.map_strokes * spec.map_currents
+
+
+def _ideal_gap_result():
+    """A MotionResult from ideal-gap maps (hand and "FE" the same closed forms)."""
+    from magcheck.compare.design.actuator import ActuatorSpec
+    from magcheck.compare.models.motion import MotionMaps, MotionResult, model_motion
+
+    spec = ActuatorSpec("core.stroke", GC + T, GC, 5e-3, (Spring(300.0, 1.0),),
+                        resistance=30.0, voltage=24.0, suppression="diode")
+    currents, strokes, f, lam = _gap_grid(n_i=8)
+    currents = currents * 1.2 / currents[-1]  # 1.5 x rated, as the check's map
+    f = np.array([[ACT.force(i, s) for s in strokes] for i in currents])
+    lam = np.array([[ACT.linkage(i, s) for s in strokes] for i in currents])
+    maps = MotionMaps(strokes, currents, {"hand": (f, lam), "fe": (f, lam)}, gap_open=GC + T,
+                      square=True)
+    models = {k: model_motion(k, maps.grid_map(k), spec) for k in ("hand", "fe")}
+    return spec, MotionResult(maps, models, {}, spec.rated_current, spec.coil_resistance, 0.0)
+
+
+def test_ideal_gap_limits_on_the_map_against_the_closed_forms():
+    spec, res = _ideal_gap_result()
+    m = res.models["fe"].values
+    p, k = 1.0, 300.0
+    # Source: exact closed forms (tests/test_motion.py, docs/references.md s14): the margin's
+    # minimum is at the open stop when 2 P > k (GC + T): i = (GC + T) sqrt(2 P / K); the
+    # drop-out i = GC sqrt(2 (P + k T) / K); tolerance 1e-9: the map is exact for the ideal
+    # gap (F linear in i^2, F g^2 constant in s), brentq's tolerance
+    assert m["pull_in_current"] == pytest.approx((GC + T) * math.sqrt(2 * p / K), rel=1e-9)
+    assert m["drop_out_current"] == pytest.approx(GC * math.sqrt(2 * (p + k * T) / K), rel=1e-9)
+    assert m["pull_in_voltage"] == pytest.approx(m["pull_in_current"] * 30.0, rel=1e-12)
+    assert m["operate_time"] > 0 and m["release_time"] > 0 and m["current_dip"] > 0
+
+
+def test_motion_figure_draws_both_models():
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from types import SimpleNamespace
+
+    from magcheck.compare.outputs.plots import FIGURES, fig_motion
+
+    spec, res = _ideal_gap_result()
+    fig = fig_motion(SimpleNamespace(motion=res, case=SimpleNamespace(motion=spec)))
+    assert FIGURES["motion.png"] is fig_motion
+    axes = fig.get_axes()
+    assert len(axes) == 3
+    # each panel holds both models' curves (hand, FE)
+    assert all(len(ax.get_lines()) >= 2 for ax in axes)
+    assert fig_motion(SimpleNamespace(motion=None)) is None

@@ -23,8 +23,9 @@ the rated current.
   flux linkage: the winding's.  A planar case's "FE 3D" map is the FE map
   times the hand 3D / planar ratio at each grid point (the depth correction
   of the other rows, point by point).
-- Interpolation (analytic.motion.GridMap): monotone piecewise cubic in s,
-  then in i.  Its error is estimated by leaving out each inner grid line in
+- Interpolation (analytic.motion.GridMap): monotone piecewise cubic in s
+  (the force as F g^2, the ideal gap's law divided out), then in i (the
+  force in i^2 without a magnet: linear below saturation).  Its error is estimated by leaving out each inner grid line in
   turn (a current, a stroke) and comparing the map without it with the
   solved values there: at twice the grid spacing, so an upper estimate of
   the map's own error (a cubic's error falls as h^3 to h^4).
@@ -118,10 +119,13 @@ class MotionMaps:
     hand_seconds: float = 0.0
     gap_open: Optional[float] = None
     """The working gap at the open stop (m): the force is interpolated in s as F g^2."""
+    square: bool = False
+    """No magnet: the force is interpolated in i^2 (GridMap)."""
 
     def grid_map(self, model: str) -> GridMap:
         f, lam = self.tables[model]
-        return GridMap(self.currents, self.strokes, f, lam, gap_open=self.gap_open)
+        return GridMap(self.currents, self.strokes, f, lam, gap_open=self.gap_open,
+                       square=self.square)
 
 
 def hand_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
@@ -186,7 +190,8 @@ def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
 
 
 def leave_one_out_error(strokes: np.ndarray, currents: np.ndarray, f: np.ndarray,
-                        lam: np.ndarray, gap_open: Optional[float] = None) -> dict[str, float]:
+                        lam: np.ndarray, gap_open: Optional[float] = None,
+                        square: bool = False) -> dict[str, float]:
     """The map's interpolation error estimated by leaving out each inner grid
     line (a current, then a stroke) and interpolating the rest there: the
     largest |error| relative to the solved value's scale (the force over its
@@ -198,7 +203,7 @@ def leave_one_out_error(strokes: np.ndarray, currents: np.ndarray, f: np.ndarray
         worst_i = worst_s = 0.0
         for k in range(1, currents.size - 1):
             keep = np.arange(currents.size) != k
-            g = GridMap(currents[keep], strokes, f[keep], lam[keep], gap_open)
+            g = GridMap(currents[keep], strokes, f[keep], lam[keep], gap_open, square)
             for j, s in enumerate(strokes):
                 got = (g.force if what == "force" else g.linkage)(currents[k], s)
                 scale = abs(table[:, j]).max() if what == "force" else abs(table[k, j])
@@ -206,7 +211,7 @@ def leave_one_out_error(strokes: np.ndarray, currents: np.ndarray, f: np.ndarray
                     worst_i = max(worst_i, abs(got - table[k, j]) / scale)
         for j in range(1, strokes.size - 1):
             keep = np.arange(strokes.size) != j
-            g = GridMap(currents, strokes[keep], f[:, keep], lam[:, keep], gap_open)
+            g = GridMap(currents, strokes[keep], f[:, keep], lam[:, keep], gap_open, square)
             for k, i in enumerate(currents):
                 if i == 0.0:
                     continue
@@ -351,13 +356,16 @@ def run_motion(case: Case, axisymmetric: bool) -> MotionResult:
             kf = np.where(hf != 0, h3f / hf, 1.0)
             kl = np.where(hl != 0, h3l / hl, 1.0)
         tables["fe_3d"] = (f * kf, lam * kl)
-    maps = MotionMaps(strokes, currents, tables, solves, secs, th, spec.open_gap)
+    from ..design.coremodel import core_model
+
+    square = not core_model(case).magnets
+    maps = MotionMaps(strokes, currents, tables, solves, secs, th, spec.open_gap, square)
     models = {}
     for name in tables:
         try:
             models[name] = model_motion(name, maps.grid_map(name), spec)
         except MotionError as exc:
             raise RunError(f"motion ({name} map): {exc}") from None
-    err = leave_one_out_error(strokes, currents, f, lam, spec.open_gap)
+    err = leave_one_out_error(strokes, currents, f, lam, spec.open_gap, square)
     return MotionResult(maps, models, err, spec.rated_current, spec.coil_resistance,
                         time.perf_counter() - t0)
