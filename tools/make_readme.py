@@ -200,6 +200,25 @@ def block_ei_leakage() -> str:
     return f"{_signed(off)} % to {_signed(on)} %"
 
 
+def block_motion_demos() -> str:
+    """The moving-armature demos' limits and times, hand (planar form) and FE,
+    from the stored results (cases/baseline.json, block ``motion``)."""
+    b = _baseline()
+    rows = ["| case | model | pull-in | drop-out | operate | release | current dip |",
+            "|---|---|---|---|---|---|---|"]
+    for name, label in (("demo-clapper-relay", "clapper relay, 24 V"),
+                        ("demo-plunger-solenoid", "plunger solenoid, 12 V")):
+        mo = b[name]["motion"]
+        for key, model in (("hand", "hand"), ("fe", "FE")):
+            v = mo[key]
+            rows.append(f"| {label} | {model} | {_sig(v['pull_in_voltage'], 3)} V | "
+                        f"{_sig(v['drop_out_voltage'], 3)} V | "
+                        f"{_sig(v['operate_time'] * 1e3, 3)} ms | "
+                        f"{_sig(v['release_time'] * 1e3, 3)} ms | "
+                        f"{_sig(v['current_dip'] * 1e3, 3)} mA |")
+    return "\n".join(rows) + "\n"
+
+
 def block_agreement_limits() -> str:
     """The default agreement limits of the main rows (compare.judge.check.DEFAULT_LIMITS)."""
     from magcheck.compare.judge.check import DEFAULT_LIMITS
@@ -511,6 +530,7 @@ def block_leakage_hw_3mm() -> str:
 
 QUICK: dict[str, Callable[[], str]] = {
     "commands": block_commands,
+    "motion-demos": block_motion_demos,
     "choke-gap-B": block_choke_gap_B,
     "choke-L": block_choke_L,
     "choke-breakdown": block_choke_breakdown,
