@@ -251,7 +251,8 @@ class GridMap:
     parabola near zero current.  Faster than :class:`ForceMap` (no
     interpolant built per call): the motion integrates with it."""
 
-    def __init__(self, currents: Sequence[float], strokes: Sequence[float], forces, linkages,
+    def __init__(self, currents: "Sequence[float] | np.ndarray",
+                 strokes: "Sequence[float] | np.ndarray", forces, linkages,
                  gap_open: Optional[float] = None, square: bool = False):
         i = np.asarray(currents, dtype=float)
         s = np.asarray(strokes, dtype=float)

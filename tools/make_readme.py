@@ -216,7 +216,7 @@ def block_motion_demos() -> str:
                         f"{_sig(v['operate_time'] * 1e3, 3)} ms | "
                         f"{_sig(v['release_time'] * 1e3, 3)} ms | "
                         f"{_sig(v['current_dip'] * 1e3, 3)} mA |")
-    return "\n".join(rows) + "\n"
+    return "\n" + "\n".join(rows) + "\n\n"
 
 
 def block_agreement_limits() -> str:

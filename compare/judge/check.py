@@ -705,6 +705,28 @@ def ac_rows(case: Case, ac: Any) -> list[Row]:
     return out
 
 
+def motion_rows(case: Case, motion: Any) -> list[Row]:
+    """A moving armature (compare.models.motion, compare.judge.motionrows):
+    pull-in, drop-out, operate and release hand (planar form) against FE,
+    each on its own maps (no uncertainty column: the map's interpolation
+    error is in the notes); a value one model lacks fails a judged row; then
+    the motion's margins."""
+    from .motionrows import motion_items, motion_margins
+
+    out = []
+    for key, label, unit, h, f, h3, f3, lim in motion_items(case, motion):
+        d = _diff_pct(h, f)
+        both = math.isfinite(h) and math.isfinite(f)
+        verdict = (_verdict(d, h, f, math.nan, lim) if both
+                   else ("FAIL" if lim is not None else "info"))
+        out.append(Row(key, label, unit, h, f, math.nan, d, lim, verdict, hand_3d=h3, fe_3d=f3))
+    for r in motion_margins(case, motion):
+        out.append(Row(f"margin:{r.key}", f"{r.label}, {r.kind}", r.unit, r.hand, r.value,
+                       math.nan, math.nan, None, r.verdict, limit_value=r.limit,
+                       margin_pct=r.margin_pct, limit_kind=r.kind))
+    return out
+
+
 def ac_notes(case: Case, ac: Any) -> tuple[str, ...]:
     """What the hand AC model cannot see, and how far the FE's loss lies above it."""
     if ac is None:
@@ -1253,7 +1275,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
     if case.motion is not None:  # a moving armature: compare.models.motion
         from ..design.coremodel import core_model
         from ..models.motion import run_motion
-        from .motionrows import motion_notes, motion_rows
+        from .motionrows import motion_notes
 
         motion = run_motion(case, core_model(case).axisymmetric)
         rows = rows + tuple(motion_rows(case, motion))

@@ -10,10 +10,9 @@ import math
 from typing import Any
 
 from ..design.case import Case
-from .check import Row, _diff_pct, _verdict
 from .margins import MarginResult
 
-__all__ = ["MOTION_LIMITS", "MOTION_LABELS", "motion_rows", "motion_notes"]
+__all__ = ["MOTION_LIMITS", "MOTION_LABELS", "motion_items", "motion_margins", "motion_notes"]
 
 MOTION_LIMITS: dict[str, float] = {
     # the pull-in and drop-out currents go as the square root of the force
@@ -39,10 +38,11 @@ _MARGINS = {"pull_in_voltage": ("max", "pull-in voltage"),
             "operate_time": ("max", "operate time"), "release_time": ("max", "release time")}
 
 
-def motion_rows(case: Case, motion: Any) -> list[Row]:
-    """Rows hand vs FE (judged: the currents and times with a limit; info:
-    the voltages, I R of the same currents, the margin, dip and speed), then
-    the motion's design margins."""
+def motion_items(case: Case, motion: Any) -> list[tuple]:
+    """The rows' contents, hand vs FE, as (key, label, unit, hand, fe,
+    hand_3d, fe_3d, limit_pct or None): judged the currents and times with a
+    limit; info the voltages (I R of the same currents), the margin, dip and
+    speed.  compare.judge.check.motion_rows makes them Rows."""
     from ..models.motion import UNITS
 
     third = "fe_3d" if "fe_3d" in motion.models else "fe"
@@ -52,23 +52,26 @@ def motion_rows(case: Case, motion: Any) -> list[Row]:
         h, f = motion.value("hand", k), motion.value("fe", k)
         if not (math.isfinite(h) or math.isfinite(f)):
             continue
-        d = _diff_pct(h, f)
-        lim = case.margins.agreement_limit(k, MOTION_LIMITS.get(k))
         label = MOTION_LABELS[k]
         if k == "load_margin":
             s = motion.models["fe"].margin_stroke
             label += f" (FE at {case.motion.gap(s) * 1e3:.3g} mm)"
-        verdict = (_verdict(d, h, f, math.nan, lim) if math.isfinite(h) and math.isfinite(f)
-                   else ("FAIL" if lim is not None else "info"))
-        out.append(Row(f"motion:{k}", label, UNITS[k], h, f, math.nan, d, lim, verdict,
-                       hand_3d=motion.value("hand_3d", k), fe_3d=motion.value(third, k)))
+        out.append((f"motion:{k}", label, UNITS[k], h, f, motion.value("hand_3d", k),
+                    motion.value(third, k), case.margins.agreement_limit(k, MOTION_LIMITS.get(k))))
+    return out
+
+
+def motion_margins(case: Case, motion: Any) -> list[MarginResult]:
+    """The motion's design margins, judged on the FE 3D column (the FE's for
+    an axisymmetric case), the hand model's 3D value beside."""
+    from ..models.motion import UNITS
+
+    third = "fe_3d" if "fe_3d" in motion.models else "fe"
+    out = []
     for key, limit in case.margins.motion:
         kind, label = _MARGINS[key]
-        r = MarginResult(key, label, UNITS[key], kind, limit, motion.value(third, key),
-                         hand=motion.value("hand_3d", key))
-        out.append(Row(f"margin:{key}", f"{label}, {kind}", r.unit, r.hand, r.value, math.nan,
-                       math.nan, None, r.verdict, limit_value=r.limit,
-                       margin_pct=r.margin_pct, limit_kind=r.kind))
+        out.append(MarginResult(key, label, UNITS[key], kind, limit, motion.value(third, key),
+                                hand=motion.value("hand_3d", key)))
     return out
 
 

@@ -169,13 +169,14 @@ def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
         for j, cs in enumerate(cases):
             mesh = meshes[j].result()
             linear = DirectReuse()
-            A = dA = None
+            A: Any = None
+            dA: Any = None
             prev = 0.0
             for k, i in enumerate(currents):
                 if i == 0.0 and not magnets:  # no source: A = 0, F = 0, lambda = 0 exactly
                     f[k, j] = lam[k, j] = 0.0
                     continue
-                A0 = None if A is None else A + dA * (float(i) - prev)
+                A0: Any = None if A is None else A + dA * (float(i) - prev)
                 try:
                     fs = solve_case_full(with_current(cs, float(i)), mesh, A0=A0,
                                          linear_solver=linear, windings=False)
@@ -275,7 +276,9 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL) -> Mo
     v["load_margin"], margin_s = m.margin, m.stroke
     t_end = _time_scales(gm, spec)
     volt = spec.voltage_table if spec.voltage_table is not None else spec.voltage
-    kw = dict(current=gm.current, restitution=spec.restitution, rtol=rtol, atol=1e-12)
+    # max_step: the traces (and the current dip read off them) sampled finely enough
+    kw = dict(current=gm.current, restitution=spec.restitution, rtol=rtol, atol=1e-12,
+              max_step=t_end / 1000.0)
     op = operate(gm.linkage, gm.force, load, spec.mass, r, volt, t_end, **kw)
     if op.closed_time is not None:
         v["operate_time"] = op.closed_time

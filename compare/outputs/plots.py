@@ -924,7 +924,7 @@ def fig_motion(res: CheckResult):
     ax2.set_title("x(t): operate and release", fontsize=9)
     ax3.set_xlabel("coil current (A)")
     ax3.set_ylabel("flux linkage (Wb-turns)")
-    ax3.set_title("lambda-i trajectory; thin: open (dotted) and closed stops", fontsize=9)
+    ax3.set_title("lambda-i path; thin: open (dotted), closed stop", fontsize=9)
     for ax in (ax1, ax2, ax3):
         ax.grid(alpha=0.3)
         ax.legend(fontsize=7)
