@@ -52,7 +52,7 @@ from ..design.case import Case, with_current
 from ..errors import CaseError, RunError
 
 __all__ = ["CURRENT_TOP", "MODELS", "MotionMaps", "ModelMotion", "MotionResult", "map_strokes",
-           "map_currents", "hand_maps", "fe_maps", "leave_one_out_error", "model_motion",
+           "map_currents", "hand_maps", "fe_point", "fe_maps", "leave_one_out_error", "model_motion",
            "run_motion", "case_at", "KEYS", "UNITS"]
 
 CURRENT_TOP = 1.5
@@ -148,12 +148,43 @@ def hand_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
     return out
 
 
+def fe_point(case: Case, mesh: Any, A0: Any, linear: Any) -> tuple[float, float, Any, Any]:
+    """One map point: the field solved (the check's solver, materials and
+    sources: compare.models.fe) and only what the map needs measured, the
+    closing force by the weighted Maxwell stress (N) and the winding's flux
+    linkage (Wb-turns, signed as the check's), with the solution and dA/dI
+    (the next point's predictor).  Raises RunError when it does not converge."""
+    from magcheck.fem2d import post
+    from magcheck.fem2d.force import maxwell_force
+    from magcheck.fem2d.solver import ConvergenceError, solve
+
+    from ..design.coremodel import core_model
+    from .fe import _materials, winding_currents, winding_sources
+    from .hand import sign_reference, signed
+
+    try:
+        sol = solve(mesh, _materials(case), sources=winding_sources(case),
+                    currents=winding_currents(case), tol=case.fe.tol, A0=A0,
+                    linear_solver=linear)
+    except ConvergenceError as exc:
+        raise RunError(f"field solve did not converge: {exc}") from None
+    model = core_model(case)
+    w, coil = case.winding, model.coils[0]
+    lam = post.flux_linkage(sol, w.turns, coil.go, coil.back)
+    spec = model.force
+    assert spec is not None  # a [motion] case has a moving part (compare.reading.motion)
+    fx, fy = maxwell_force(sol, spec.body).force
+    dx, dy = spec.direction
+    dA = post.incremental_potential(sol, w.turns, coil.go, coil.back)
+    return fx * dx + fy * dy, signed(lam, sign_reference(case, lam)), sol, dA
+
+
 def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
             cases: Optional[list[Case]] = None) -> tuple[np.ndarray, np.ndarray, int, float]:
     """The FE's maps (forces, linkages), the number of solves and the wall time (s)."""
     from magcheck.fem2d.linsolve import DirectReuse
 
-    from .fe import REFINE, mesh_case, solve_case_full
+    from .fe import REFINE, mesh_case
 
     t0 = time.perf_counter()
     spec = case.motion
@@ -178,15 +209,13 @@ def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
                     continue
                 A0: Any = None if A is None else A + dA * (float(i) - prev)
                 try:
-                    fs = solve_case_full(with_current(cs, float(i)), mesh, A0=A0,
-                                         linear_solver=linear, windings=False)
+                    f[k, j], lam[k, j], sol, dA = fe_point(with_current(cs, float(i)), mesh, A0,
+                                                           linear)
                 except RunError as exc:
                     raise RunError(f"motion map at {spec.stroke_key} = {spec.gap(strokes[j]):.6g} "
                                    f"m, {float(i):.6g} A: {exc}") from None
                 solves += 1
-                A, dA, prev = fs.solution.A, fs.dA_dI, float(i)
-                f[k, j] = fs.quantities.force_values.get("force", math.nan)
-                lam[k, j] = fs.quantities.values["flux_linkage"]
+                A, prev = sol.A, float(i)
     return f, lam, solves, time.perf_counter() - t0
 
 
