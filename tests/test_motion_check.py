@@ -282,3 +282,28 @@ def test_motion_figure_draws_both_models():
     # each panel holds both models' curves (hand, FE)
     assert all(len(ax.get_lines()) >= 2 for ax in axes)
     assert fig_motion(SimpleNamespace(motion=None)) is None
+
+
+def test_energy_bookkeeping_of_the_operate_on_a_map():
+    """An actuator whose map is exact: L(s) = a + b s, lambda = L i, F = (i^2/2) dL/ds = b i^2/2
+    (linear in s and i, the force linear in i^2 and constant in s)."""
+    from magcheck.compare.design.actuator import ActuatorSpec
+    from magcheck.compare.models.motion import MotionMaps, model_motion
+
+    a, b = 0.02, 20.0
+    spec = ActuatorSpec("core.stroke", 2 * T, T, 5e-3, (Spring(300.0, 1.0),),
+                        resistance=30.0, voltage=24.0)
+    currents = np.linspace(0.0, 1.2, 5)
+    strokes = np.linspace(0.0, T, 4)
+    f = np.array([[0.5 * b * i * i for _ in strokes] for i in currents])
+    lam = np.array([[(a + b * s) * i for s in strokes] for i in currents])
+    maps = MotionMaps(strokes, currents, {"fe": (f, lam)}, square=True)
+    op = model_motion("fe", maps.grid_map("fe"), spec).operate
+    assert op is not None and op.closed_time is not None
+    lam_end, s_end = op.lam[-1], op.s[-1]
+    w_field = lam_end ** 2 / (2 * (a + b * s_end))
+    # Source: exact, conservation of energy: int v i dt = int R i^2 dt + W_field + int F ds,
+    # W_field = lambda^2 / (2 L) of a linear circuit (virtual work, docs/references.md s14);
+    # tolerance 1e-6 of the energy in: the integrator's rtol 1e-8 over the motion
+    assert op.e_in == pytest.approx(op.e_copper + w_field + op.w_mech, rel=1e-6)
+    assert op.w_mech > 0.01 * op.e_in

@@ -1296,7 +1296,8 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
     return CheckResult(case=case, hand_3d=hand_3d, hand_planar=hand_p, fe=fe, rows=rows,
                        depth_factor=k_depth, notes=notes,
                        timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
-                                "total": t3 - t0},
+                                "total": t3 - t0,
+                                **({"motion": motion.seconds} if motion is not None else {})},
                        fringing_ranking=ranking, breakdown=breakdown, drive=drive,
                        leakage=leakage, depth=depth, ac=ac, measured=measured, motion=motion)
 
