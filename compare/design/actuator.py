@@ -10,10 +10,11 @@ is ``open_gap - s``.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Optional
+from typing import TYPE_CHECKING, Optional
 
-from magcheck.analytic.motion import Load, Spring, coil_resistance
-from magcheck.analytic.winding_loss import COPPER
+if TYPE_CHECKING:  # analytic.motion (scipy's integrators) and winding_loss (scipy.constants)
+    # load slowly: imported where used, so a case without [motion] reads fast
+    from magcheck.analytic.motion import Load, Spring
 
 __all__ = ["ActuatorSpec", "STANDARD_GRAVITY", "DEFAULT_DIODE_DROP"]
 
@@ -49,7 +50,7 @@ class ActuatorSpec:
     open_gap: float
     closed_gap: float
     mass: float
-    springs: tuple[Spring, ...] = ()
+    springs: "tuple[Spring, ...]" = ()
     constant_load: float = 0.0
     gravity: str = "none"
     restitution: float = 0.0
@@ -77,14 +78,19 @@ class ActuatorSpec:
         return self.constant_load + g * self.mass * STANDARD_GRAVITY
 
     @property
-    def load(self) -> Load:
+    def load(self) -> "Load":
         """The load line over the travel (analytic.motion.Load)."""
+        from magcheck.analytic.motion import Load
+
         return Load(self.travel, self.springs, weight=self.weight)
 
     @property
     def coil_resistance(self) -> float:
         """The coil's resistance at ``temperature`` (ohm): R(T) = R_T0 (1 + alpha (T - T0)),
         copper alpha (analytic.motion.coil_resistance, docs/references.md section 14)."""
+        from magcheck.analytic.motion import coil_resistance
+        from magcheck.analytic.winding_loss import COPPER
+
         r20 = self.resistance / (1.0 + COPPER.alpha * (self.resistance_temperature - 20.0))
         return coil_resistance(r20, self.temperature)
 

@@ -6,8 +6,6 @@ from __future__ import annotations
 import math
 from typing import Any
 
-from magcheck.analytic.motion import MotionError, Spring, series_springs
-
 from ..design.actuator import DEFAULT_DIODE_DROP, ActuatorSpec
 from ..design.case import Case
 from ..design.casekeys import GRAVITY_SENSES, MOTION_MARGINS, SUPPRESSIONS
@@ -30,7 +28,10 @@ def read_motion_margins(t: TableReader) -> tuple[tuple[str, float], ...]:
     return tuple(out)
 
 
-def _spring(t: TableReader, travel: float) -> Spring:
+def _spring(t: TableReader, travel: float) -> Any:
+    # scipy's integrators load with analytic.motion: only for a case with [motion]
+    from magcheck.analytic.motion import MotionError, Spring, series_springs
+
     engage = t.quantity("engage", "length", 0.0, allow_zero=True)
     preload = t.quantity("preload", "force", 0.0, allow_zero=True)
     solid = t.quantity("solid", "length", None)
@@ -73,6 +74,8 @@ def read_motion(t: TableReader, case: Case) -> ActuatorSpec:
     """``[motion]`` of ``case``: the moving part must have a stroke key; the
     open and closed gaps bracket a positive travel; the springs' load line
     defined over all of it; the coil's resistance and rated voltage positive."""
+    from magcheck.analytic.motion import MotionError
+
     from ..design.coremodel import core_model
 
     force = core_model(case).force
