@@ -233,6 +233,36 @@ def pchip_slopes(x: np.ndarray, y: np.ndarray) -> np.ndarray:
     return d
 
 
+def _slopes_1d(x: Sequence[float], y: Sequence[float]) -> list[float]:
+    """:func:`pchip_slopes` of one row, in plain Python (a map's handful of
+    points: numpy's per-call cost would dominate the motion's integration)."""
+    n = len(x)
+    h = [x[k + 1] - x[k] for k in range(n - 1)]
+    m = [(y[k + 1] - y[k]) / h[k] for k in range(n - 1)]
+    if n == 2:
+        return [m[0], m[0]]
+    d = [0.0] * n
+    for k in range(1, n - 1):
+        if m[k - 1] * m[k] > 0.0:
+            w1, w2 = 2.0 * h[k] + h[k - 1], h[k] + 2.0 * h[k - 1]
+            d[k] = (w1 + w2) / (w1 / m[k - 1] + w2 / m[k])
+
+    def sign(v: float) -> float:
+        return (v > 0.0) - (v < 0.0)
+
+    def end(h0: float, h1: float, m0: float, m1: float) -> float:
+        e = ((2.0 * h0 + h1) * m0 - h0 * m1) / (h0 + h1)
+        if sign(e) != sign(m0):
+            return 0.0
+        if sign(m0) != sign(m1) and abs(e) > abs(3.0 * m0):
+            return 3.0 * m0
+        return e
+
+    d[0] = end(h[0], h[1], m[0], m[1])
+    d[-1] = end(h[-1], h[-2], m[-1], m[-2])
+    return d
+
+
 class GridMap:
     """F(i, s) (N) and lambda(i, s) (Wb-turns) on a grid of ``currents`` (A,
     rising) x ``strokes`` (m, rising), interpolated monotonically: in s first
@@ -281,6 +311,21 @@ class GridMap:
         both = np.concatenate([f, lam], axis=0)  # (2 n_i) x n_s
         self._in_s = PchipInterpolator(s, both, axis=1, extrapolate=True)
         self._n = i.size
+        self._last: Optional[tuple[float, tuple]] = None
+        self._fxl, self._il = self._fx.tolist(), i.tolist()
+
+    def _at(self, s: float) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """(F, dF/dx, lambda, dlambda/di) at the grid's currents at stroke s:
+        the columns and their monotone-cubic slopes, kept for the last s (the
+        motion asks for the current and then the force at one stroke)."""
+        key = float(s)
+        if self._last is not None and self._last[0] == key:
+            return self._last[1]
+        f, lam = self._columns(key)
+        out = (f, np.array(_slopes_1d(self._fxl, f.tolist())), lam,
+               np.array(_slopes_1d(self._il, lam.tolist())))
+        self._last = (key, out)
+        return out
 
     def _columns(self, s: float) -> tuple[np.ndarray, np.ndarray]:
         s = min(max(float(s), self.strokes[0]), self.strokes[-1])
@@ -311,19 +356,18 @@ class GridMap:
 
     def force(self, i: float, s: float) -> float:
         """F(i, s) in N."""
-        f, _ = self._columns(s)
+        f, df, _, _ = self._at(s)
         c = float(i) * float(i) if self.square else float(i)
-        return self._hermite(f, pchip_slopes(self._fx, f), c, self._fx)[0]
+        return self._hermite(f, df, c, self._fx)[0]
 
     def linkage(self, i: float, s: float) -> float:
         """lambda(i, s) in Wb-turns."""
-        _, lam = self._columns(s)
-        return self._hermite(lam, pchip_slopes(self.currents, lam), float(i))[0]
+        _, _, lam, dl = self._at(s)
+        return self._hermite(lam, dl, float(i))[0]
 
     def current(self, lam: float, s: float) -> float:
         """i (A) with lambda(i, s) = ``lam``: the monotone cubic inverted."""
-        _, col = self._columns(s)
-        d = pchip_slopes(self.currents, col)
+        _, _, col, d = self._at(s)
         x = self.currents
         lam = float(lam)
         if lam <= col[0]:

@@ -109,6 +109,10 @@ def test_pchip_slopes_are_the_reference_librarys():
     # tolerance: rounding
     ref = PchipInterpolator(x, y, axis=1).derivative()(x)
     assert np.max(np.abs(pchip_slopes(x, y) - ref)) < 1e-13
+    from magcheck.analytic.motion import _slopes_1d
+
+    for row, r in zip(y, ref):  # the map's plain-Python row form, the same rule
+        assert np.max(np.abs(np.array(_slopes_1d(x.tolist(), row.tolist())) - r)) < 1e-13
 
 
 def _gap_grid(n_i=6, n_s=5):
