@@ -15,9 +15,10 @@ the rated current.
   FE solves (the "hand" column) and as the whole 3D circuit ("hand 3D").
 - FE: each stroke meshed once on the check's coarsest mesh (the case's
   element size times REFINE), its currents solved in rising order, each
-  Newton solve started from the last point's solution plus the current step
-  times its dA/dI (the tangent predictor of the sweep and the drive), one
-  direct factorisation shared along the stroke (fem2d.linsolve.DirectReuse);
+  Newton solve started from the last point's solution scaled by the current
+  ratio (exact for a linear circuit, A ~ i; no tangent solve for a
+  predictor), one direct factorisation shared along the stroke
+  (fem2d.linsolve.DirectReuse);
   the next stroke is meshed on a helper thread meanwhile (gmsh runs outside
   the GIL). Force: the weighted Maxwell stress along the closing stroke;
   flux linkage: the winding's.  A planar case's "FE 3D" map is the FE map
@@ -37,6 +38,7 @@ switching arc.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import time
 from concurrent.futures import ThreadPoolExecutor
@@ -53,7 +55,7 @@ from ..errors import CaseError, RunError
 
 __all__ = ["CURRENT_TOP", "MODELS", "MotionMaps", "ModelMotion", "MotionResult", "map_strokes",
            "map_currents", "hand_maps", "fe_point", "fe_maps", "leave_one_out_error", "model_motion",
-           "run_motion", "case_at", "KEYS", "UNITS"]
+           "run_motion", "case_at", "KEYS", "UNITS", "MAP_TOL"]
 
 CURRENT_TOP = 1.5
 """The map's top current over the rated current: room for the pull-in of a
@@ -68,6 +70,12 @@ KEYS = ("pull_in_current", "pull_in_voltage", "drop_out_current", "drop_out_volt
 UNITS = {"pull_in_current": "A", "pull_in_voltage": "V", "drop_out_current": "A",
          "drop_out_voltage": "V", "load_margin": "N", "operate_time": "s", "current_dip": "A",
          "impact_speed": "m/s", "release_time": "s"}
+
+MAP_TOL = 1e-6
+"""The FE map's Newton tolerance (relative residual; the case's when tighter):
+it moves the map's F and lambda by about 1e-8 relative on the clapper demo
+(measured against 1e-8), far below the map's interpolation error (~1e-2),
+for one Newton step less per point."""
 
 RTOL = 1e-8
 """The motion integrator's relative tolerance: far below the maps' own error."""
@@ -94,8 +102,6 @@ def case_at(case: Case, gap: float) -> Case:
     a gap the geometry refuses names the motion's key."""
     spec = case.motion
     if case.origin is None and spec.stroke_key.startswith("core."):  # a Case built directly
-        import dataclasses
-
         name = spec.stroke_key.split(".", 1)[1]
         return dataclasses.replace(case, core=dataclasses.replace(case.core, **{name: gap}))
     try:
@@ -148,12 +154,12 @@ def hand_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
     return out
 
 
-def fe_point(case: Case, mesh: Any, A0: Any, linear: Any) -> tuple[float, float, Any, Any]:
+def fe_point(case: Case, mesh: Any, A0: Any, linear: Any) -> tuple[float, float, Any]:
     """One map point: the field solved (the check's solver, materials and
     sources: compare.models.fe) and only what the map needs measured, the
     closing force by the weighted Maxwell stress (N) and the winding's flux
-    linkage (Wb-turns, signed as the check's), with the solution and dA/dI
-    (the next point's predictor).  Raises RunError when it does not converge."""
+    linkage (Wb-turns, signed as the check's), with the solution.  Raises
+    RunError when it does not converge."""
     from magcheck.fem2d import post
     from magcheck.fem2d.force import maxwell_force
     from magcheck.fem2d.solver import ConvergenceError, solve
@@ -175,8 +181,7 @@ def fe_point(case: Case, mesh: Any, A0: Any, linear: Any) -> tuple[float, float,
     assert spec is not None  # a [motion] case has a moving part (compare.reading.motion)
     fx, fy = maxwell_force(sol, spec.body).force
     dx, dy = spec.direction
-    dA = post.incremental_potential(sol, w.turns, coil.go, coil.back)
-    return fx * dx + fy * dy, signed(lam, sign_reference(case, lam)), sol, dA
+    return fx * dx + fy * dy, signed(lam, sign_reference(case, lam)), sol
 
 
 def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
@@ -199,18 +204,21 @@ def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
         meshes = [pool.submit(mesh_case, cs, refine=1.0 / REFINE) for cs in cases]
         for j, cs in enumerate(cases):
             mesh = meshes[j].result()
+            cs = dataclasses.replace(cs, fe=dataclasses.replace(cs.fe,
+                                                                tol=max(cs.fe.tol, MAP_TOL)))
             linear = DirectReuse()
             A: Any = None
-            dA: Any = None
             prev = 0.0
             for k, i in enumerate(currents):
                 if i == 0.0 and not magnets:  # no source: A = 0, F = 0, lambda = 0 exactly
                     f[k, j] = lam[k, j] = 0.0
                     continue
-                A0: Any = None if A is None else A + dA * (float(i) - prev)
+                # the last solution scaled by the current: exact for a linear
+                # circuit (A ~ i), close below saturation; costs no tangent solve
+                A0: Any = None if A is None else A * (float(i) / prev)
                 try:
-                    f[k, j], lam[k, j], sol, dA = fe_point(with_current(cs, float(i)), mesh, A0,
-                                                           linear)
+                    f[k, j], lam[k, j], sol = fe_point(with_current(cs, float(i)), mesh, A0,
+                                                       linear)
                 except RunError as exc:
                     raise RunError(f"motion map at {spec.stroke_key} = {spec.gap(strokes[j]):.6g} "
                                    f"m, {float(i):.6g} A: {exc}") from None
