@@ -113,7 +113,9 @@ AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductan
                   "incremental_inductance", "energy", "force", "force_pull", "B_peak",
                   "magnetizing_current_peak", "magnetizing_current_rms",
                   "magnetizing_inductance", "leakage_inductance", "inrush_current_peak",
-                  "B_limb_peak", "R_dc", "R_ac", "R_ac_ratio", "winding_loss", "L_ac")
+                  "B_limb_peak", "R_dc", "R_ac", "R_ac_ratio", "winding_loss", "L_ac",
+                  "core_loss", "copper_loss", "winding_loss_ac", "total_loss", "efficiency",
+                  "efficiency_part", "regulation", "temperature_rise")
 """The quantities a ``[margins.agreement]`` limit (percent) may name."""
 
 INDUCTANCE_KINDS = ("secant", "incremental")

@@ -178,6 +178,8 @@ class CheckResult:
     measured: tuple = ()
     """compare.judge.measurement.MeasuredRow per ``[[measured]]`` entry at the
     case's operating point (the measured column; empty without measurements)."""
+    loss: Any = None
+    """compare.models.loss.LossBudget of a case with ``[loss]`` (None otherwise)."""
 
     @property
     def design_passed(self) -> bool:
@@ -1247,6 +1249,16 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
         ac = run_ac(case, fe, hand_p, hand_3d)
         rows = rows + tuple(ac_rows(case, ac))
     notes = explain(case, rows, hand_p, fe, depth) + ac_notes(case, ac)
+    loss = None
+    from ..models.loss import has_loss
+
+    if has_loss(case):  # the loss budget (compare.models.loss, compare.judge.lossbudget)
+        from ..models.loss import run_budget
+        from .lossbudget import budget_notes, budget_rows
+
+        loss = run_budget(case, fe, ac, leakage)
+        rows = rows + tuple(budget_rows(case, loss))
+        notes = notes + budget_notes(case, loss)
     measured: tuple = ()
     if case.measured:
         from .measurement import measured_note, measured_rows
@@ -1265,7 +1277,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
                        timings={"hand": t1 - t0, "fe": t2 - t1, "compare": t3 - t2,
                                 "total": t3 - t0},
                        fringing_ranking=ranking, breakdown=breakdown, drive=drive,
-                       leakage=leakage, depth=depth, ac=ac, measured=measured)
+                       leakage=leakage, depth=depth, ac=ac, measured=measured, loss=loss)
 
 
 def dataframe(records: list[dict], index: str | None = None) -> Any:
