@@ -66,6 +66,12 @@ def snapshot(res: CheckResult) -> dict:
     # an AC winding (compare.models.ac): its hand (planar form) and FE values
     extra = ({"ac": {"hand_planar": dict(ac.hand), "hand": dict(ac.hand_3d), "fe": dict(ac.fe),
                      "fe_uncertainty": dict(ac.uncertainty)}} if ac is not None else {})
+    loss = getattr(res, "loss", None)
+    if loss is not None:  # the loss budget (compare.models.loss): hand planar, hand 3D, FE
+        extra["loss"] = {"hand_planar": {k: v["hand"] for k, v in loss.entries.items()},
+                         "hand": {k: v["hand_3d"] for k, v in loss.entries.items()},
+                         "fe": {k: v["fe"] for k, v in loss.entries.items()},
+                         "fe_uncertainty": {k: v["uncertainty"] for k, v in loss.entries.items()}}
     return extra | {
         "hand": {k: res.hand_3d.values()[k] for k in HAND_KEYS} | hw | res.hand_3d.force_values,
         "hand_planar": ({k: res.hand_planar.values()[k] for k in HAND_KEYS} | hpw
@@ -176,6 +182,7 @@ def drift(current: dict, stored: dict) -> list[Drift]:
             c = cac.get("fe", {}).get(k)
             if not _close(c, s, tol):
                 out.append(Drift("ac.fe", k, s, c, tol))
+    out += _block_drift("loss", stored, current)
     ref = stored.get("fe", {})
     for k, s in unc.items():
         c = current.get("fe_uncertainty", {}).get(k)
@@ -184,6 +191,29 @@ def drift(current: dict, stored: dict) -> list[Drift]:
         floor = UNC_FLOOR * abs(ref.get(k) or 0.0)
         if max(c, floor) > UNC_FACTOR * max(s, floor) or max(s, floor) > UNC_FACTOR * max(c, floor):
             out.append(Drift("fe_uncertainty", k, s, c, UNC_FACTOR))
+    return out
+
+
+def _block_drift(name: str, stored: dict, current: dict) -> list[Drift]:
+    """A block of hand_planar / hand / fe / fe_uncertainty values (the loss budget): hand as the
+    hand blocks, FE within its uncertainty, as the AC block."""
+    sb, cb = stored.get(name), current.get(name) or {}
+    out: list[Drift] = []
+    if sb is None:
+        return out
+    for block in ("hand_planar", "hand"):
+        for k, s in sb[block].items():
+            c = cb.get(block, {}).get(k)
+            if not _close(c, s, HAND_RTOL * abs(s) if s is not None else 0.0):
+                out.append(Drift(f"{name}.{block}", k, s, c, HAND_RTOL))
+    for k, s in sb["fe"].items():
+        u = sb.get("fe_uncertainty", {}).get(k)
+        u = u if u is not None and math.isfinite(u) else 0.0
+        mag = abs(s or 0.0)
+        tol = max(FE_RTOL_FLOOR * mag, min(2.0 * u, FE_UNC_CAP * mag))
+        c = cb.get("fe", {}).get(k)
+        if not _close(c, s, tol):
+            out.append(Drift(f"{name}.fe", k, s, c, tol))
     return out
 
 
