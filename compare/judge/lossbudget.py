@@ -73,6 +73,8 @@ def budget_rows(case: Case, budget: Any) -> list[Row]:
         limit = getattr(m, attr)
         if limit is None or key not in budget.entries:
             continue
+        if key in ("efficiency", "regulation"):
+            limit = 100.0 * limit  # the case model's fraction, the rows' percent
         v = budget.entries[key]
         value = v["fe_3d"]
         ok = value <= limit if kind == "max" else value >= limit
@@ -91,10 +93,18 @@ def budget_notes(case: Case, budget: Any) -> tuple[str, ...]:
         return ()
     c = budget.core
     share = c.crowding_share
-    share_txt = (f"; flux crowding explains {100 * share:.3g} % of the hand-FE difference "
-                 f"({c.fe:.4g} W against {c.hand:.4g} W by hand), the rest is the flux the two "
-                 "models put in each leg" if math.isfinite(share) else
-                 "; hand and FE agree within 1 %, so no share is quoted")
+    if not math.isfinite(share):
+        share_txt = "; hand and FE agree within 1 %, so no share is quoted"
+    elif share >= 0.0:
+        share_txt = (f"; flux crowding explains {100 * share:.3g} % of the hand-FE difference "
+                     f"({c.fe:.4g} W against {c.hand:.4g} W by hand), the rest is the flux the "
+                     "two models put in each leg")
+    else:
+        share_txt = (f"; the FE's loss is below the hand's ({c.fe:.4g} W against {c.hand:.4g} W) "
+                     "although crowding raises it: the difference is the flux the two models "
+                     "put in each leg (in the FE some of the winding's flux linkage is leakage "
+                     "outside the core), and crowding explains none of it "
+                     f"(share {100 * share:.3g} %)")
     notes = [f"Core loss: {c.source}; the hand takes one flux swing per segment of the magnetic "
              f"circuit, the FE the swing in every element; at each leg's mean FE swing the loss "
              f"would be {c.uniform:.4g} W, so the crowding within the legs adds "

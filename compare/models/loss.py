@@ -182,7 +182,12 @@ def _legs(case: Case) -> list[tuple[str, Any]]:
                 names[prs[0]] = part
     except Exception:
         pass
-    return [(names.get(r, f"rect {j + 1}"), r) for j, r in enumerate(rects)]
+    def auto(r: Any) -> str:
+        kind = "limb" if r.y1 - r.y0 >= r.x1 - r.x0 else "yoke"
+        where = (0.5 * (r.x0 + r.x1)) if kind == "limb" else (0.5 * (r.y0 + r.y1))
+        return f"{kind} at {'x' if kind == 'limb' else 'y'} = {1e3 * where:.4g} mm"
+
+    return [(names.get(r) or auto(r), r) for r in rects]
 
 
 def fe_swing(case: Case, sol: Any) -> tuple[np.ndarray, np.ndarray]:
@@ -351,7 +356,7 @@ def surface_area(case: Case, sol: Any) -> float:
 
 # ------------------------------------------------------------------ the budget
 BUDGET_UNITS = {"core_loss": "W", "copper_loss": "W", "winding_loss_ac": "W", "total_loss": "W",
-                "efficiency": "", "efficiency_part": "", "regulation": "",
+                "efficiency": "%", "efficiency_part": "%", "regulation": "%",
                 "temperature_rise": "K"}
 
 
@@ -360,8 +365,8 @@ class LossBudget:
     """A case's loss budget, hand and FE (compare.judge.lossbudget makes the rows).
 
     core : the :class:`CoreLoss`.
-    entries : key -> {"hand", "fe", "uncertainty", "hand_3d", "fe_3d"} (SI: W, K; efficiency
-        and regulation as fractions), keys of :data:`BUDGET_UNITS` the case has.
+    entries : key -> {"hand", "fe", "uncertainty", "hand_3d", "fe_3d"} (W, K; efficiency
+        and regulation in percent), keys of :data:`BUDGET_UNITS` the case has.
     area : the outside surface the temperature rise takes (m^2).
     transformer : {"v_nl", "load_current", "fraction", "power_factor", "r", "x_hand", "x_fe"}
         of a transformer's load (secondary side), or {}.
@@ -432,11 +437,12 @@ def run_budget(case: Case, fe: Any, ac: Any = None, leakage: dict | None = None)
         for key, j in (("efficiency", 0), ("efficiency_part", 1)):
             fe_pt = pts["fe"][j]
             loss_fe = fe_pt.output * (1.0 / fe_pt.efficiency - 1.0)
-            e[key] = _entry(pts["hand"][j].efficiency, fe_pt.efficiency,
-                            u * fe_pt.output / (fe_pt.output + loss_fe) ** 2,
-                            pts["hand"][j + 2].efficiency, pts["fe"][j + 2].efficiency)
-        e["regulation"] = _entry(pts["hand"][0].regulation, pts["fe"][0].regulation, math.nan,
-                                 pts["hand"][0].regulation, pts["fe"][0].regulation)
+            e[key] = _entry(100 * pts["hand"][j].efficiency, 100 * fe_pt.efficiency,
+                            100 * u * fe_pt.output / (fe_pt.output + loss_fe) ** 2,
+                            100 * pts["hand"][j + 2].efficiency, 100 * pts["fe"][j + 2].efficiency)
+        e["regulation"] = _entry(100 * pts["hand"][0].regulation, 100 * pts["fe"][0].regulation,
+                                 math.nan, 100 * pts["hand"][0].regulation,
+                                 100 * pts["fe"][0].regulation)
     elif ac is not None:
         i_dc = w.current
         e["copper_loss"] = _entry(i_dc ** 2 * ac.hand["R_dc"], i_dc ** 2 * ac.fe["R_dc"],

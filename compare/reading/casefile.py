@@ -32,7 +32,7 @@ from ..design.reader import TableReader
 
 __all__ = ["load_case", "case_from_dict", "plausibility_issues", "referenced_files"]
 
-FILE_KEYS = ("csv", "dxf")
+FILE_KEYS = ("csv", "dxf", "table")
 """Case keys whose value names a file the case reads (a B-H table, a drawing)."""
 
 MATERIAL_REGIONS = ("core",)
