@@ -209,6 +209,19 @@ def fe_swing(case: Case, sol: Any) -> tuple[np.ndarray, np.ndarray]:
     return 2.0 * ripple(case) * np.hypot(dB[0], dB[1]), idx
 
 
+def loss_integral(sol: Any, idx: np.ndarray, delta_b: np.ndarray, law: Any) -> tuple[float, float]:
+    """(integral of p(Delta B) dV in W, the volume in m^3) over the elements ``idx`` of a
+    solution's mesh: ``delta_b`` the swing (T) at their quadrature points (shape (len(idx),
+    n_qp)), ``law`` the loss density (W/m^3) of a swing; the formulation's weights (planar:
+    times the stack depth; r-z: 2 pi r dr dz)."""
+    from magcheck.fem2d import post
+
+    asm = post._asm(sol)
+    w = asm.wv[idx]
+    total = asm.formulation.total
+    return float(total * np.sum(law(delta_b) * w)), float(total * np.sum(w))
+
+
 def fe_core_loss(case: Case, sol: Any) -> dict[str, Any]:
     """The FE core loss on one static solution: {"total": W, "uniform": W (the loss at each
     leg's mean swing), "legs": [{name, volume, delta_b mean, loss, uniform}], "map": (triangles
@@ -221,7 +234,7 @@ def fe_core_loss(case: Case, sol: Any) -> dict[str, Any]:
     w = asm.wv[idx]  # (n, nq) volume weights per unit of ``total``
     total = asm.formulation.total
     p = law(dB)
-    loss = float(total * np.sum(p * w))
+    loss, _ = loss_integral(sol, idx, dB, law)
     xq = asm.xq[:, idx]  # (2, n, nq)
     cx, cy = xq[0].mean(axis=1), xq[1].mean(axis=1)
     rects = _legs(case)
