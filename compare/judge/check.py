@@ -1257,7 +1257,12 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
         from .lossbudget import budget_notes, budget_rows
 
         loss = run_budget(case, fe, ac, leakage)
-        rows = rows + tuple(budget_rows(case, loss))
+        for spec in budget_rows(case, loss):  # Row fields; the agreement verdicts made here
+            if "verdict" not in spec:
+                spec["diff_pct"] = _diff_pct(spec["hand"], spec["fe"])
+                spec["verdict"] = _verdict(spec["diff_pct"], spec["hand"], spec["fe"],
+                                           spec["uncertainty"], spec["limit_pct"])
+            rows = rows + (Row(**spec),)
         notes = notes + budget_notes(case, loss)
     measured: tuple = ()
     if case.measured:

@@ -9,7 +9,6 @@ import math
 from typing import Any
 
 from ..design.case import Case
-from .check import Row, _diff_pct, _verdict
 
 # Default agreement limits, percent of the FE value (common practice, no source). Core loss
 # goes as B^beta with beta 2 to 3, so a flux 5 to 8 % apart (the core_B band) is a loss 10 to
@@ -49,25 +48,25 @@ def _label(case: Case, key: str, budget: Any) -> str:
     return LABELS[key]
 
 
-def budget_rows(case: Case, budget: Any) -> list[Row]:
-    """The budget's rows (hand: planar form; FE: the planar FE with its three-mesh uncertainty;
-    the 3D columns beside) and the margins total_loss, core_loss, efficiency (min),
-    regulation and temperature_rise (judged on the FE's 3D value)."""
+def budget_rows(case: Case, budget: Any) -> list[dict]:
+    """The budget's rows as compare.judge.check.Row fields (hand: planar form; FE: the planar
+    FE with its three-mesh uncertainty; the 3D columns beside; an agreement row without
+    "verdict" and "diff_pct", which the check gives it) and the margins total_loss, core_loss,
+    efficiency (min), regulation and temperature_rise (judged on the FE's 3D value)."""
     from ..models.loss import BUDGET_UNITS
 
     out = []
     for k, v in budget.entries.items():
         h, f, u = v["hand"], v["fe"], v["uncertainty"]
-        d = _diff_pct(h, f)
         lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
-        if k == "copper_loss" and budget.transformer:
-            lim, verdict = None, "info"  # the same resistances in both columns
-        else:
-            verdict = _verdict(d, h, f, u, lim)
         s = v["fe_3d"] / f if f else math.nan
-        out.append(Row(k, _label(case, k, budget), BUDGET_UNITS[k], h, f, u, d, lim, verdict,
-                       hand_3d=v["hand_3d"], fe_3d=v["fe_3d"],
-                       fe_3d_uncertainty=u * abs(s) if math.isfinite(s) else math.nan))
+        row = dict(key=k, label=_label(case, k, budget), unit=BUDGET_UNITS[k], hand=h, fe=f,
+                   uncertainty=u, limit_pct=lim, hand_3d=v["hand_3d"], fe_3d=v["fe_3d"],
+                   fe_3d_uncertainty=u * abs(s) if math.isfinite(s) else math.nan)
+        if k == "copper_loss" and budget.transformer:  # the same resistances in both columns
+            row.update(limit_pct=None, verdict="info",
+                       diff_pct=100.0 * (h - f) / abs(f) if f else math.nan)
+        out.append(row)
     m = case.margins
     for key, attr, kind in _MARGINS:
         limit = getattr(m, attr)
@@ -79,10 +78,11 @@ def budget_rows(case: Case, budget: Any) -> list[Row]:
         value = v["fe_3d"]
         ok = value <= limit if kind == "max" else value >= limit
         margin = 100.0 * ((limit - value) if kind == "max" else (value - limit)) / limit
-        out.append(Row(f"margin:{key}", f"{_label(case, key, budget)}, {kind}",
-                       BUDGET_UNITS[key], v["hand_3d"], value, math.nan, math.nan, None,
-                       "pass" if ok else "FAIL", limit_value=limit, margin_pct=margin,
-                       limit_kind=kind))
+        out.append(dict(key=f"margin:{key}", label=f"{_label(case, key, budget)}, {kind}",
+                        unit=BUDGET_UNITS[key], hand=v["hand_3d"], fe=value,
+                        uncertainty=math.nan, diff_pct=math.nan, limit_pct=None,
+                        verdict="pass" if ok else "FAIL", limit_value=limit, margin_pct=margin,
+                        limit_kind=kind))
     return out
 
 

@@ -489,10 +489,11 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
     fine = _with_virtual_work(case, fine, sol)
     unc["force_virtual_work"] = unc.get("force", math.nan)
     from .acmesh import has_ac
-    from .loss import has_loss
 
+    # an AC winding or a loss budget (compare.models.loss) reads all three solutions
+    keep = has_ac(case) or (case.loss is not None and case.core_loss is not None)
     return FEResult(fine, coarse, unc, sol, samples,
-                    solutions=(sol0, coarse_sol, sol) if has_ac(case) or has_loss(case) else ())
+                    solutions=(sol0, coarse_sol, sol) if keep else ())
 
 
 def _with_virtual_work(case: Case, q: FEQuantities, sol: FieldSolution) -> FEQuantities:
