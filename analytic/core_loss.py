@@ -36,7 +36,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Sequence
+from typing import Any, Sequence
 
 import numpy as np
 
@@ -315,7 +315,7 @@ class MaterialLoss:
 
 
 #: units a loss table's columns may carry: factor to Hz, T and W/kg or W/m^3
-LOSS_TABLE_UNITS = {
+LOSS_TABLE_UNITS: dict[str, dict[str, Any]] = {
     "f": {"Hz": 1.0, "kHz": 1e3, "MHz": 1e6},
     "B": {"T": 1.0, "mT": 1e-3, "G": 1e-4, "kG": 0.1},
     "P": {"W/kg": (1.0, "W/kg"), "mW/g": (1.0, "W/kg"), "W/m^3": (1.0, "W/m^3"),
@@ -333,7 +333,7 @@ def parse_loss_table(text: str, label: str) -> tuple[np.ndarray, np.ndarray, np.
     import re
 
     text = text.removeprefix("\ufeff")
-    cols: list[tuple[str, object]] | None = None
+    cols: list[tuple[str, Any]] | None = None
     sep = ","
     rows: list[list[float]] = []
     for lineno, line in enumerate(text.splitlines(), start=1):
@@ -350,7 +350,7 @@ def parse_loss_table(text: str, label: str) -> tuple[np.ndarray, np.ndarray, np.
                     raise ValueError(f"{where}: header cell {cell!r} is not 'f [Hz]', 'B [T]' "
                                      "or 'P [W/kg]'")
                 q, unit = m.group(1).upper() if m.group(1) in "bBpP" else "f", m.group(2)
-                table = LOSS_TABLE_UNITS[q]
+                table: dict[str, Any] = LOSS_TABLE_UNITS[q]
                 if unit not in table:
                     raise ValueError(f"{where}: unknown {q} unit {unit!r}; choose one of "
                                      f"{', '.join(table)}")
@@ -372,8 +372,8 @@ def parse_loss_table(text: str, label: str) -> tuple[np.ndarray, np.ndarray, np.
     unit = "W/kg"
     for j, (q, fac) in enumerate(cols):
         if q == "P":
-            factor, unit = fac  # type: ignore[misc]
+            factor, unit = fac
             out[q] = data[:, j] * factor
         else:
-            out[q] = data[:, j] * float(fac)  # type: ignore[arg-type]
+            out[q] = data[:, j] * float(fac)
     return out["f"], out["B"], out["P"], unit

@@ -48,7 +48,7 @@ import numpy as np
 
 from magcheck.analytic import core_loss as cl
 
-from ..design.case import Case, with_current
+from ..design.case import Case, LossSpec, with_current
 from ..design.coremodel import core_model
 
 __all__ = ["has_loss", "flux_frequency", "target_linkage", "density_law", "hand_core_loss",
@@ -60,6 +60,13 @@ def has_loss(case: Case) -> bool:
     return getattr(case, "loss", None) is not None and case.core_loss is not None
 
 
+def _spec(case: Case) -> LossSpec:
+    """The case's ``[loss]`` (the callers run only on a case that has one)."""
+    if case.loss is None:
+        raise ValueError(f"case {case.name!r} has no [loss] table")
+    return case.loss
+
+
 def flux_frequency(case: Case) -> float:
     """The flux's frequency (Hz): ``[loss] frequency``, else [winding.ac]'s, else the drive's."""
     spec = case.loss
@@ -68,7 +75,7 @@ def flux_frequency(case: Case) -> float:
         return float(spec.frequency)
     if w.ac is not None:
         return float(w.ac.frequency)
-    return float(w.frequency)
+    return float(w.frequency or math.nan)
 
 
 def ripple(case: Case) -> float:
@@ -76,7 +83,8 @@ def ripple(case: Case) -> float:
     spec = case.loss
     if spec is not None and spec.ripple:
         return float(spec.ripple)
-    return float(case.winding.ac.current)
+    ac = case.winding.ac
+    return float(ac.current) if ac is not None else 0.0
 
 
 def target_linkage(case: Case) -> float:
@@ -84,7 +92,7 @@ def target_linkage(case: Case) -> float:
     sine sqrt(2) V / (2 pi f) (the EMF equation), square V sqrt(D) / (4 f), V rms, D the duty
     [derived: the volt-seconds of half a period]."""
     w = case.winding
-    v, f = float(w.voltage), flux_frequency(case)
+    v, f = float(w.voltage or 0.0), flux_frequency(case)
     if case.loss is not None and case.loss.waveform == "square":
         return v * math.sqrt(case.loss.duty) / (4.0 * f)
     return math.sqrt(2.0) * v / (2.0 * math.pi * f)
@@ -94,7 +102,7 @@ def density_law(case: Case) -> Any:
     """p(delta_b) -> W/m^3 for the case's waveform and frequency (vectorised over Delta B, T,
     peak to peak)."""
     c = case.core_loss.per_volume()
-    spec = case.loss
+    spec = _spec(case)
     f = flux_frequency(case)
     ki = cl.igse_ki(c)
     if spec.waveform == "triangle":
@@ -153,7 +161,7 @@ def hand_core_loss(case: Case, planar: bool = True) -> dict[str, Any]:
                 continue
             notes.append(msg)
     split = None
-    if m.lamination is not None and case.loss.waveform == "sine":
+    if m.lamination is not None and _spec(case).waveform == "sine":
         parts = [cl.lamination_loss(m.lamination, f, 0.5 * s["delta_b"]) for s in segs]
         split = {k: float(sum(getattr(p, k) * s["volume"] for p, s in zip(parts, segs)))
                  for k in ("hysteresis", "classical", "excess")}
@@ -335,7 +343,8 @@ def run_core_loss(case: Case, fe: Any) -> CoreLoss:
 
     for msg in dict.fromkeys(hp["out_of_range"] + h3["out_of_range"]):
         warn(CaseWarning("materials.core_loss", case.core_loss.source, msg))
-    return CoreLoss(flux_frequency(case), case.loss.waveform, case.loss.duty, hp["total"],
+    spec = _spec(case)
+    return CoreLoss(flux_frequency(case), spec.waveform, spec.duty, hp["total"],
                     h3["total"], fine["total"], fine["total"] * ratio, unc, fine["uniform"],
                     tuple(hp["segments"]), tuple(fine["legs"]), h3["split"],
                     tuple(dict.fromkeys(hp["out_of_range"] + h3["out_of_range"])),
@@ -419,7 +428,7 @@ def run_budget(case: Case, fe: Any, ac: Any = None, leakage: dict | None = None)
     from magcheck.analytic import loss_budget as lb
 
     core = run_core_loss(case, fe)
-    spec = case.loss
+    spec = _spec(case)
     e: dict[str, dict] = {"core_loss": _entry(core.hand, core.fe, core.uncertainty,
                                               core.hand_3d, core.fe_3d)}
     w = case.winding
@@ -428,7 +437,7 @@ def run_budget(case: Case, fe: Any, ac: Any = None, leakage: dict | None = None)
         w2 = case.extra_windings[0]
         n = w2.turns / w.turns
         r = spec.resistances[1] + spec.resistances[0] * n * n
-        v_nl = float(w.voltage) * n
+        v_nl = float(w.voltage or 0.0) * n
         i2 = float(spec.load_current)
         omega = 2.0 * math.pi * flux_frequency(case)
         leak = leakage or {}

@@ -895,7 +895,7 @@ def fig_loss_density(res: CheckResult):
     fig, ax = plt.subplots(figsize=(6.4, 5.0))
     if pos.size:
         norm = LogNorm(vmin=max(float(pos.min()), float(pos.max()) * 1e-3), vmax=float(pos.max()))
-        coll = PolyCollection(tri, array=np.clip(dens, norm.vmin, None), cmap="inferno",
+        coll = PolyCollection(list(tri), array=np.clip(dens, norm.vmin, None), cmap="inferno",
                               norm=norm, edgecolors="none")
         ax.add_collection(coll)
         fig.colorbar(coll, ax=ax, label="core-loss density (W/m³)")

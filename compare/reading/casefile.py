@@ -750,10 +750,11 @@ def _read_core_loss(t: TableReader, base_dir: Path | None) -> Any:
             raise CaseError(ct.key("table"), rel, str(exc)) from None
         c0 = fit.coefficients
         source = f"loss table {rel}, fitted"
-        for k in ("k", "alpha", "beta", "unit"):
-            if ct.has(k):
-                raise CaseError(ct.key(k), ct.raw(k), "the loss table gives k, alpha and beta: "
-                                                      "give the table or the coefficients")
+        for given in ("k", "alpha", "beta", "unit"):
+            if ct.has(given):
+                raise CaseError(ct.key(given), ct.raw(given), "the loss table gives k, alpha and "
+                                                              "beta: give the table or the "
+                                                              "coefficients")
     k = ct.number("k", c0.k if c0 else None, lo=0.0)
     alpha = ct.number("alpha", c0.alpha if c0 else None, lo=0.5, hi=3.0)
     beta = ct.number("beta", c0.beta if c0 else None, lo=1.0, hi=4.0)
