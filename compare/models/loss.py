@@ -322,7 +322,8 @@ class CoreLoss:
                 "hand_segments": [dict(s) for s in self.hand_segments],
                 "fe_legs": [dict(s) for s in self.fe_legs],
                 "lamination_split": self.split, "out_of_range": list(self.out_of_range),
-                "material": self.source, "fe_core_volume": self.volume}
+                "material": self.source, "fe_core_volume": self.volume,
+                "seconds": self.seconds}
 
 
 def run_core_loss(case: Case, fe: Any) -> CoreLoss:
