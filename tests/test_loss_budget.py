@@ -239,14 +239,17 @@ def test_square_drive_peak_linkage_is_the_half_period_volt_seconds():
 
 # ------------------------------------------------------------------ loss data input
 def test_builtin_loss_data_and_the_fitted_table():
-    case = load_case(CASES / "demo_ei_transformer.toml")
+    case = load_case(CASES / "demo_ferrite_transformer.toml")
     m = case.core_loss
-    assert m.fit is not None and m.fit.n_points == 20
-    # the table is the built-in's Bertotti split rounded to 3 figures: a power law fits it to
-    # a few percent, never exactly (Bertotti's terms have three exponents)
-    assert 0.005 < m.fit.rms_log_error < 0.1
-    assert m.steinmetz.f_min == 50.0 and m.steinmetz.b_max == pytest.approx(1.6)
-    assert m.lamination is not None and m.density == 7650.0  # kept from the built-in
+    assert m.fit is not None and m.fit.n_points == 25
+    # the table is a power law with an invented curvature in ln f and ln B: the fit's residual
+    # is a few percent, never zero (rounding to three figures alone would give ~0.2 %)
+    assert 0.01 < m.fit.rms_log_error < 0.1
+    assert m.steinmetz.f_min == 25e3 and m.steinmetz.b_max == pytest.approx(0.25)
+    assert m.steinmetz.unit == "W/m^3" and m.density == 4800.0  # the built-in's density kept
+    assert "fitted over 25 points" in m.source
+    steel = load_case(CASES / "demo_ei_transformer.toml").core_loss
+    assert steel.lamination is not None and steel.density == 7650.0 and steel.fit is None
     assert load_case(CASES / "demo_foil_choke.toml").core_loss.steinmetz.unit == "W/kg"
 
 

@@ -176,7 +176,6 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                 tolerances=tolerances, stacking=stacking, targets=targets, measured=measured,
                 description=description, source=source, sha256=sha256, core_loss=core_loss,
                 loss=loss)
-    _check_loss(case)
     check = getattr(family, "check_case", None)
     if check is not None:  # what the family checks across tables (coils name windings, ...)
         check(case)
@@ -225,6 +224,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                         "judges the inrush estimate of a voltage drive: give the first winding "
                         "voltage, frequency and residual_flux (a fraction of the peak flux "
                         "linkage, e.g. 0.8), or drop it")
+    _check_loss(case)
     return case
 
 
@@ -749,7 +749,8 @@ def _read_core_loss(t: TableReader, base_dir: Path | None) -> Any:
         except (ValueError, OSError) as exc:
             raise CaseError(ct.key("table"), rel, str(exc)) from None
         c0 = fit.coefficients
-        source = f"loss table {rel}, fitted"
+        source = (f"loss table {rel}, fitted over {fit.n_points} points (rms error "
+                  f"{100 * fit.rms_log_error:.2g} %, worst {100 * fit.max_relative_error:.2g} %)")
         for given in ("k", "alpha", "beta", "unit"):
             if ct.has(given):
                 raise CaseError(ct.key(given), ct.raw(given), "the loss table gives k, alpha and "
