@@ -328,3 +328,33 @@ def test_ferrite_transformer_budget_rows_json_and_figures():
         fig = make(res)
         assert fig is not None
         plots.plt.close(fig)
+
+
+def test_fe_swing_of_a_linear_core_is_the_field_scaled():
+    # Source: exact for a linear core: B is proportional to the current, so the tangent's
+    # dB/dI is B/I at every point (choke: Delta B = 2 I_r |B| / I), and a transformer's tangent
+    # step to lambda_pk is the exact scaling B lambda_pk / lambda.
+    import tomllib
+
+    from magcheck.compare.models.fe import run_fe
+
+    case = _case(base=_CHOKE + '[fe]\nmesh_size = "4 mm"\n')
+    _, sol, _ = run_fe(case)
+    swing, idx = ml.fe_swing(case, sol)
+    B = post.b_field(sol)[:, idx]
+    np.testing.assert_allclose(swing, 2 * 0.2 * np.hypot(B[0], B[1]) / 1.0, rtol=1e-6,
+                               atol=1e-9 * float(np.max(swing)))  # the tangent solve's 1e-10
+
+    d = tomllib.loads((CASES / "demo_ferrite_transformer.toml").read_text())
+    d["materials"] = {"core": {"mu_r": 2000},
+                      "core_loss": {"k": 3.0, "alpha": 1.4, "beta": 2.5, "unit": "W/m^3",
+                                    "density": 4800}}
+    d["fe"] = {"mesh_size": "2 mm"}
+    tr = case_from_dict(d, base_dir=CASES)
+    _, sol, _ = run_fe(tr)
+    swing, idx = ml.fe_swing(tr, sol)
+    coil = ml.winding_sources_of(tr)
+    lam = post.coil_flux_linkage(sol, coil)
+    B = post.b_field(sol)[:, idx]
+    np.testing.assert_allclose(swing, 2 * np.hypot(B[0], B[1]) * ml.target_linkage(tr) / lam,
+                               rtol=1e-6, atol=1e-9 * float(np.max(swing)))

@@ -198,14 +198,19 @@ def _legs(case: Case) -> list[tuple[str, Any]]:
     return [(names.get(r) or auto(r), r) for r in rects]
 
 
+def winding_sources_of(case: Case) -> Any:
+    """The first winding's fem2d coil (compare.models.fe.winding_sources)."""
+    from .fe import winding_sources
+
+    return winding_sources(case).coils[0]
+
+
 def fe_swing(case: Case, sol: Any) -> tuple[np.ndarray, np.ndarray]:
     """(Delta B at the core's quadrature points (T, shape (n_core_elem, n_qp)), the core
     element indices) on one static solution."""
     from magcheck.fem2d import post
 
-    from .fe import winding_sources
-
-    coil = winding_sources(case).coils[0]
+    coil = winding_sources_of(case)
     dA, L = post.coil_incremental_potential(sol, coil)
     idx = _core_elements(case, sol)
     if case.winding.driven:
