@@ -140,6 +140,24 @@ def _segment_swing(case: Case, planar: bool) -> list[dict]:
             for a, b in zip(lo, hi) if a["kind"] == "core"]
 
 
+def range_notes(case: Case, segments: list[dict]) -> tuple[str, ...]:
+    """One line per quantity outside the loss data's valid ranges: the frequency, and the
+    segments' peak flux densities (Delta B / 2; their span and how many; the planar and 3D
+    networks' segments together when both are given)."""
+    c = case.core_loss.steinmetz
+    f = flux_frequency(case)
+    out = ([] if c.f_min <= f <= c.f_max
+           else [cl.OutOfRange("frequency", f, c.f_min, c.f_max).message])
+    bs = [0.5 * s["delta_b"] for s in segments]
+    bad = [b for b in bs if not c.b_min <= b <= c.b_max]
+    if bad:
+        span = (f"{min(bad):.3g} T" if f"{min(bad):.3g}" == f"{max(bad):.3g}"
+                else f"{min(bad):.3g}-{max(bad):.3g} T")
+        out.append(f"flux density {span} (peak, {len(bad)} of {len(bs)} segment values) outside the "
+                   f"Steinmetz coefficients' valid range {c.b_min:.6g}-{c.b_max:.6g} T")
+    return tuple(out)
+
+
 def hand_core_loss(case: Case, planar: bool = True) -> dict[str, Any]:
     """The hand core loss: {"total": W, "segments": [{name, volume m^3, delta_b T, density
     W/m^3, loss W}], "split": Bertotti's terms in W (sine, laminated steel given) or None,
@@ -152,14 +170,7 @@ def hand_core_loss(case: Case, planar: bool = True) -> dict[str, Any]:
     total = float(sum(s["loss"] for s in segs))
     f = flux_frequency(case)
     m = case.core_loss
-    notes: list[str] = []
-    for s in segs:
-        for o in m.steinmetz.outside(f, 0.5 * s["delta_b"]):
-            msg = f"{o.message} (segment {s['name']})"
-            if o.quantity == "frequency" and any(o.quantity == "frequency" and "frequency" in n
-                                                 for n in notes):
-                continue
-            notes.append(msg)
+    notes = range_notes(case, segs)
     split = None
     if m.lamination is not None and _spec(case).waveform == "sine":
         parts = [cl.lamination_loss(m.lamination, f, 0.5 * s["delta_b"]) for s in segs]
@@ -347,13 +358,13 @@ def run_core_loss(case: Case, fe: Any) -> CoreLoss:
     tri, dens = fine["map"]
     from ..errors import CaseWarning, warn
 
-    for msg in dict.fromkeys(hp["out_of_range"] + h3["out_of_range"]):
+    for msg in range_notes(case, hp["segments"] + h3["segments"]):
         warn(CaseWarning("materials.core_loss", case.core_loss.source, msg))
     spec = _spec(case)
     return CoreLoss(flux_frequency(case), spec.waveform, spec.duty, hp["total"],
                     h3["total"], fine["total"], fine["total"] * ratio, unc, fine["uniform"],
                     tuple(hp["segments"]), tuple(fine["legs"]), h3["split"],
-                    tuple(dict.fromkeys(hp["out_of_range"] + h3["out_of_range"])),
+                    range_notes(case, hp["segments"] + h3["segments"]),
                     tri, dens, case.core_loss.source, fine["volume"],
                     time.perf_counter() - t0)
 
