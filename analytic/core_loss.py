@@ -36,7 +36,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Sequence
+from typing import Any, Sequence
 
 import numpy as np
 
@@ -290,3 +290,90 @@ def fit_steinmetz(f: Sequence[float] | np.ndarray, b_pk: Sequence[float] | np.nd
                                    float(ba.max()))
     return SteinmetzFit(coeffs, float(np.sqrt(np.mean(log_err ** 2))),
                         float(np.max(np.abs(np.expm1(log_err)))), int(fa.size))
+
+
+# ------------------------------------------------------------------- a material's loss data
+@dataclass(frozen=True)
+class MaterialLoss:
+    """A core material's loss data: Steinmetz coefficients (with their valid ranges), the
+    density (kg/m^3, for W/kg), and for a laminated steel the lamination thickness (m), the
+    resistivity (ohm m) and Bertotti's coefficients (``lamination``, None when not all given).
+    ``fit`` is the Steinmetz fit when the coefficients came from a loss table; ``source`` says
+    where the data came from (a built-in invented for the demo, the case, a table file)."""
+
+    steinmetz: SteinmetzCoefficients
+    density: float
+    thickness: float | None = None
+    resistivity: float | None = None
+    lamination: LaminationLoss | None = None
+    fit: SteinmetzFit | None = None
+    source: str = ""
+
+    def per_volume(self) -> SteinmetzCoefficients:
+        """The Steinmetz coefficients in W/m^3."""
+        return self.steinmetz.per_volume(self.density)
+
+
+#: units a loss table's columns may carry: factor to Hz, T and W/kg or W/m^3
+LOSS_TABLE_UNITS: dict[str, dict[str, Any]] = {
+    "f": {"Hz": 1.0, "kHz": 1e3, "MHz": 1e6},
+    "B": {"T": 1.0, "mT": 1e-3, "G": 1e-4, "kG": 0.1},
+    "P": {"W/kg": (1.0, "W/kg"), "mW/g": (1.0, "W/kg"), "W/m^3": (1.0, "W/m^3"),
+          "W/m3": (1.0, "W/m^3"), "kW/m^3": (1e3, "W/m^3"), "kW/m3": (1e3, "W/m^3"),
+          "mW/cm^3": (1e3, "W/m^3"), "mW/cm3": (1e3, "W/m^3")},
+}
+
+
+def parse_loss_table(text: str, label: str) -> tuple[np.ndarray, np.ndarray, np.ndarray, str]:
+    """A loss table (CSV text): comment lines ``#``, a header naming the columns ``f [unit]``,
+    ``B [unit]`` (the peak flux density of a sinusoid) and ``P [unit]`` (units in
+    :data:`LOSS_TABLE_UNITS`; a comma, semicolon or tab between them), then one row per point.
+    Returns f (Hz), B_pk (T), P (in the returned unit, W/kg or W/m^3). Raises ValueError with
+    ``label`` and the line on a bad header, unit, cell or column count."""
+    import re
+
+    text = text.removeprefix("\ufeff")
+    cols: list[tuple[str, Any]] | None = None
+    sep = ","
+    rows: list[list[float]] = []
+    for lineno, line in enumerate(text.splitlines(), start=1):
+        s = line.strip()
+        if not s or s.startswith("#"):
+            continue
+        where = f"{label}, line {lineno}"
+        if cols is None:
+            sep = next((c for c in (",", ";", "\t") if c in s), ",")
+            cols = []
+            for cell in (c.strip() for c in s.split(sep)):
+                m = re.fullmatch(r"([fFbBpP])\s*[\[(]\s*([^\])]*?)\s*[\])]", cell)
+                if not m:
+                    raise ValueError(f"{where}: header cell {cell!r} is not 'f [Hz]', 'B [T]' "
+                                     "or 'P [W/kg]'")
+                q, unit = m.group(1).upper() if m.group(1) in "bBpP" else "f", m.group(2)
+                table: dict[str, Any] = LOSS_TABLE_UNITS[q]
+                if unit not in table:
+                    raise ValueError(f"{where}: unknown {q} unit {unit!r}; choose one of "
+                                     f"{', '.join(table)}")
+                cols.append((q, table[unit]))
+            if sorted(q for q, _ in cols) != ["B", "P", "f"]:
+                raise ValueError(f"{where}: the header must name the columns f, B and P once each")
+            continue
+        cells = [c.strip() for c in s.split(sep)]
+        if len(cells) != 3:
+            raise ValueError(f"{where}: expected 3 columns (f, B, P), got {len(cells)}")
+        try:
+            rows.append([float(c) for c in cells])
+        except ValueError:
+            raise ValueError(f"{where}: {s!r} holds a cell that is not a number") from None
+    if cols is None or not rows:
+        raise ValueError(f"{label}: no header row and data (expected e.g. 'f [Hz],B [T],P [W/kg]')")
+    data = np.array(rows)
+    out: dict[str, np.ndarray] = {}
+    unit = "W/kg"
+    for j, (q, fac) in enumerate(cols):
+        if q == "P":
+            factor, unit = fac
+            out[q] = data[:, j] * factor
+        else:
+            out[q] = data[:, j] * float(fac)
+    return out["f"], out["B"], out["P"], unit

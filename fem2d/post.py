@@ -595,3 +595,23 @@ def inductance_matrix(sol, coils=None) -> InductanceMatrix:
     kc = L / np.outer(d, d)
     return InductanceMatrix(tuple(c.name for c in coils), lam, L, sec, kc, energy(sol),
                             coenergy(sol))
+
+
+def coil_incremental_potential(sol, coil) -> tuple[np.ndarray, float]:
+    """(dA/dI, d lambda/dI) of one coil (a fem2d.sources.Coil or its name) at the converged
+    state: one solve with the consistent tangent K(A*) dA/dI = db/dI (the coil's load at 1 A),
+    and the coil's own incremental inductance (H) from it. dA/dI in Wb/(m A) (r-z: the
+    unknown's unit per ampere), zero on the Dirichlet DOFs."""
+    if isinstance(coil, str):
+        coil = sol.sources.coil(coil)
+    if not sol.converged:
+        raise PostError("coil_incremental_potential needs a converged solution")
+    dA = _tangent_solver(sol)(_asm(sol).coil_load(coil), 1e-10)
+    return dA, _coil_linkage(sol, coil, dA)
+
+
+def b_of_potential(sol, vec: np.ndarray) -> np.ndarray:
+    """B (T) of any potential vector ``vec`` on the solution's mesh (e.g. dA/dI: dB/dI), at
+    the quadrature points, shape (2, n_elem, n_qp)."""
+    asm = _asm(sol)
+    return asm.b_at_qp(asm.grad(vec))

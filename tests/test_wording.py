@@ -94,7 +94,9 @@ ALL_AGREEMENT = ("gap_B, core_B, path_H, flux, flux_linkage, inductance, "
                  "magnetizing_current_peak, magnetizing_current_rms, "
                  "magnetizing_inductance, leakage_inductance, inrush_current_peak, B_limb_peak, "
                  "R_dc, R_ac, R_ac_ratio, winding_loss, L_ac, pull_in_current, drop_out_current, "
-                 "operate_time, release_time")
+                 "operate_time, release_time, core_loss, copper_loss, "
+                 "winding_loss_ac, total_loss, efficiency, efficiency_part, regulation, "
+                 "temperature_rise")
 
 
 def test_agreement_typo_lists_every_key_with_a_suggestion() -> None:

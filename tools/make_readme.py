@@ -528,7 +528,31 @@ def block_leakage_hw_3mm() -> str:
             + ", ".join(f"{h:g}" for h, *_ in rows) + " mm")
 
 
+def block_loss_budget() -> str:
+    """The three loss-budget demos' stored results (cases/baseline.json's loss blocks): hand
+    (planar form) against FE with its uncertainty."""
+    base = _baseline()
+    lines = ["| case | core loss, hand / FE | total loss, hand / FE | efficiency (rated), hand / FE "
+             "| regulation, hand / FE | temperature rise, hand / FE |",
+             "|---|---|---|---|---|---|"]
+    for name in ("demo-foil-choke", "demo-ei-transformer", "demo-ferrite-transformer"):
+        lb = base[name]["loss"]
+        h, f, u = lb["hand_planar"], lb["fe"], lb["fe_uncertainty"]
+
+        def w(k: str) -> str:
+            return f"{_sig(h[k], 3)} / {_sig(f[k], 3)} ± {u[k]:.1g} W"
+
+        def pct(k: str) -> str:
+            return f"{h[k]:.2f} / {f[k]:.2f} %" if k in h else "-"
+
+        lines.append(f"| `{name}` | {w('core_loss')} | {w('total_loss')} | {pct('efficiency')} | "
+                     f"{pct('regulation')} | {h['temperature_rise']:.1f} / "
+                     f"{f['temperature_rise']:.1f} K |")
+    return "\n" + "\n".join(lines) + "\n"
+
+
 QUICK: dict[str, Callable[[], str]] = {
+    "loss-budget": block_loss_budget,
     "commands": block_commands,
     "motion-demos": block_motion_demos,
     "choke-gap-B": block_choke_gap_B,

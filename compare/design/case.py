@@ -31,7 +31,7 @@ from .families import FAMILIES, Family
 from .geometry import Gap, Limb, WindingSpec
 
 __all__ = ["Case", "CaseOrigin", "with_current", "MaterialSpec", "HandSettings", "FESettings", "Margins",
-           "InductanceLimit", "SaturationLimit", "ForceLimit", "SweepDecl", "Tolerance",
+           "InductanceLimit", "SaturationLimit", "LossSpec", "LOSS_WAVEFORMS", "ForceLimit", "SweepDecl", "Tolerance",
            "TargetDecl"]
 
 
@@ -196,9 +196,52 @@ class Margins:
     motion: tuple[tuple[str, float], ...] = ()
     """A moving part's limits (compare.design.casekeys.MOTION_MARGINS: pull-in
     voltage, operate and release time maxima, drop-out voltage minimum), SI."""
+    total_loss: float | None = None
+    """Maximum total loss of the loss budget (W; ``[loss]``; judged on the FE)."""
+    core_loss: float | None = None
+    """Maximum core loss (W; ``[loss]``; judged on the FE)."""
+    efficiency: float | None = None
+    """Minimum efficiency of a transformer at rated load (a fraction; written in percent)."""
+    regulation: float | None = None
+    """Maximum voltage regulation of a transformer at rated load (a fraction; written in percent)."""
+    temperature_rise: float | None = None
+    """Maximum temperature rise estimate (K), from the loss per surface area."""
 
     def agreement_limit(self, key: str, default: float | None) -> float | None:
         return dict(self.agreement).get(key, default)
+
+
+LOSS_WAVEFORMS = ("sine", "triangle", "square")
+"""The flux waveforms of ``[loss] waveform``."""
+
+
+@dataclass(frozen=True)
+class LossSpec:
+    """``[loss]``: the operating point of the loss budget (compare.models.loss).
+
+    waveform : the core's flux waveform, "sine" (Steinmetz), "triangle" (a choke's ripple,
+        iGSE) or "square" (a square voltage, iGSE).
+    duty : triangle: the rising fraction of the period; square: the fraction at +-V (1 = a
+        plain square wave).
+    frequency : Hz (None: the winding's [winding.ac] or drive frequency).
+    ripple : a choke's ripple current, peak (A; None: [winding.ac] current).
+    load_current : a transformer's rated load current in its second winding, rms (A).
+    load_fraction : the stated fraction of the rated load for the second efficiency.
+    power_factor : of the load (lagging), 0 to 1.
+    resistances : each winding's resistance (ohm), in winding order (empty: the AC winding's
+        R_dc, or no copper loss).
+    surface_area : the wound part's outside surface (m^2; None: the box round core and coils).
+    """
+
+    waveform: str = "sine"
+    duty: float = 0.5
+    frequency: float | None = None
+    ripple: float | None = None
+    load_current: float | None = None
+    load_fraction: float = 0.5
+    power_factor: float = 1.0
+    resistances: tuple[float, ...] = ()
+    surface_area: float | None = None
 
 
 @dataclass(frozen=True)
@@ -296,6 +339,11 @@ class Case:
     """Stored target solves ([[targets]]) that magcheck verify runs."""
     measured: tuple[Any, ...] = ()
     """Measurements of the built part ([[measured]]: compare.design.measured.Measured)."""
+    core_loss: Any = None
+    """The core's loss data (analytic.core_loss.MaterialLoss: a built-in's, overridden by
+    ``[materials.core_loss]``); None when the material has none."""
+    loss: LossSpec | None = None
+    """``[loss]``: the loss budget's operating point; None: no loss budget."""
     stacking: float = 1.0
     """Lamination stacking factor k_s ([core] stacking): iron over gross
     cross-section.  The FE always uses the homogenised core (polarisation

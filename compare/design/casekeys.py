@@ -28,8 +28,8 @@ __all__ = ["Key", "Spec", "UndeclaredKey", "quantity", "number", "integer", "str
            "table", "tables", "listof", "oneof", "lengths", "ROOT", "ROOT_KEYS", "CORE_COMMON",
            "AGREEMENT_KEYS", "INDUCTANCE_KINDS", "DISTRIBUTIONS", "FE_BOUNDARIES",
            "WINDING_KEYS", "CONDUCTOR_KEYS", "AC_KEYS", "CONDUCTOR_KINDS", "CONDUCTOR_MATERIALS",
-           "MATERIAL", "child", "check_read", "MOTION_KEYS", "SPRING_KEYS", "GRAVITY_SENSES",
-           "SUPPRESSIONS", "MOTION_MARGINS"]
+           "MATERIAL", "CORE_LOSS_KEYS", "LOSS_KEYS", "child", "check_read", "MOTION_KEYS",
+           "SPRING_KEYS", "GRAVITY_SENSES", "SUPPRESSIONS", "MOTION_MARGINS"]
 
 
 class UndeclaredKey(LookupError):
@@ -115,7 +115,9 @@ AGREEMENT_KEYS = ("gap_B", "core_B", "path_H", "flux", "flux_linkage", "inductan
                   "magnetizing_current_peak", "magnetizing_current_rms",
                   "magnetizing_inductance", "leakage_inductance", "inrush_current_peak",
                   "B_limb_peak", "R_dc", "R_ac", "R_ac_ratio", "winding_loss", "L_ac",
-                  "pull_in_current", "drop_out_current", "operate_time", "release_time")
+                  "pull_in_current", "drop_out_current", "operate_time", "release_time",
+                  "core_loss", "copper_loss", "winding_loss_ac", "total_loss", "efficiency",
+                  "efficiency_part", "regulation", "temperature_rise")
 """The quantities a ``[margins.agreement]`` limit (percent) may name."""
 
 INDUCTANCE_KINDS = ("secant", "incremental")
@@ -197,6 +199,42 @@ MATERIAL_TABLE = {"mu_r": number("a linear material's relative permeability"),
 MATERIAL = oneof(string("a built-in B-H curve's name (magcheck materials)"),
                  table(MATERIAL_TABLE), doc="a built-in name, {csv = ...}, {H = [...], "
                                                 "B = [...]} or {mu_r = ...}")
+
+CORE_LOSS_KEYS: dict[str, Key] = {
+    "k": number("Steinmetz k, loss per unit (see unit) at 1 Hz and 1 T"),
+    "alpha": number("Steinmetz frequency exponent"),
+    "beta": number("Steinmetz flux-density exponent"),
+    "unit": string("the unit of k", ("W/kg", "W/m^3")),
+    "f_min": quantity("frequency", "lowest frequency the coefficients hold at"),
+    "f_max": quantity("frequency", "highest frequency the coefficients hold at"),
+    "B_min": quantity("flux density", "lowest peak flux density the coefficients hold at"),
+    "B_max": quantity("flux density", "highest peak flux density the coefficients hold at"),
+    "density": number("the core material's density, kg/m^3"),
+    "table": string("a loss table CSV (f [Hz], B [T], P [W/kg]) fitted for k, alpha, beta, "
+                    "relative to the case file"),
+    "thickness": quantity("length", "lamination thickness (Bertotti's classical eddy term)"),
+    "resistivity": quantity("resistivity", "the steel's resistivity"),
+    "k_h": number("Bertotti hysteresis coefficient, W/m^3 per (Hz T^beta_h)"),
+    "beta_h": number("Bertotti hysteresis exponent"),
+    "k_e": number("Bertotti excess-loss coefficient, W/m^3 per (Hz T)^1.5"),
+}
+"""``[materials.core_loss]``: the core's loss data (over a built-in's, key by key)."""
+
+LOSS_KEYS: dict[str, Key] = {
+    "waveform": string("the core's flux waveform", ("sine", "triangle", "square")),
+    "duty": number("triangle: rising fraction of the period; square: fraction at +-V"),
+    "frequency": quantity("frequency", "of the flux (default the AC or drive frequency)"),
+    "ripple": quantity("current", "a choke's ripple current, peak (default [winding.ac])"),
+    "load_current": quantity("current", "a transformer's rated load current in its second "
+                                        "winding, rms"),
+    "load_fraction": number("a stated fraction of the rated load for a second efficiency"),
+    "power_factor": number("the load's power factor (lagging), 0 to 1"),
+    "resistances": listof(quantity("resistance"), "each winding's resistance, in winding "
+                                                  "order"),
+    "surface_area": quantity("area", "the wound part's outside surface, for the temperature "
+                                     "rise (default the box round core and coils)"),
+}
+"""``[loss]``: the loss budget's operating point."""
 
 HAND = {"fringing": string("the gap fringing model", tuple(FRINGING_MODELS)),
         "leakage": boolean("add the across-window leakage permeance"),
@@ -280,6 +318,11 @@ MARGINS = {
     "operate_time": quantity("time", "[motion]: largest allowed operate time at rated "
                                      "voltage"),
     "release_time": quantity("time", "[motion]: largest allowed release time"),
+    "total_loss": quantity("power", "largest allowed total loss (core and windings)"),
+    "core_loss": quantity("power", "largest allowed core loss"),
+    "efficiency": number("transformer: smallest allowed efficiency at rated load, percent"),
+    "regulation": number("transformer: largest allowed voltage regulation, percent"),
+    "temperature_rise": number("largest allowed temperature rise estimate, K"),
     "inductance": tables({"at": quantity("current", "the current the limit holds at"),
                           "min": quantity("inductance"), "max": quantity("inductance"),
                           "kind": string("", INDUCTANCE_KINDS)}, "inductance limits"),
@@ -333,7 +376,11 @@ ROOT_KEYS: dict[str, Key] = {
     "gaps": tables(GAP, "the gaps of a limb family"),
     "winding": table(WINDING_KEYS, "one winding (or [[windings]])"),
     "windings": tables(WINDING_KEYS, "one table per winding (or [winding])"),
-    "materials": table({"core": MATERIAL}, "core (and a part's own material)", extra=MATERIAL),
+    "materials": table({"core": MATERIAL,
+                        "core_loss": table(CORE_LOSS_KEYS, "the core's loss data")},
+                       "core (and a part's own material)", extra=MATERIAL),
+    "loss": table(LOSS_KEYS, "the loss budget: core and winding loss, efficiency, temperature "
+                             "rise"),
     "hand": table(HAND, "the hand model's switches"),
     "fe": table(FE, "the field model's settings"),
     "margins": table(MARGINS, "design margins and agreement limits"),

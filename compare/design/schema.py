@@ -125,7 +125,7 @@ def _family_rules(fam: Any) -> dict[str, Any]:
     out["winding"] = winding
     out["windings"] = {"items": winding}
     if not hasattr(fam, "part_names"):  # parts fixed by the family
-        out["materials"] = {"propertyNames": {"enum": ["core", *fam.parts]}}
+        out["materials"] = {"propertyNames": {"enum": ["core", "core_loss", *fam.parts]}}
     return out
 
 

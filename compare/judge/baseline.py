@@ -69,6 +69,12 @@ def snapshot(res: CheckResult) -> dict:
     mo = getattr(res, "motion", None)
     if mo is not None:  # a moving armature (compare.models.motion): each model's figures
         extra["motion"] = {name: dict(m.values) for name, m in mo.models.items()}
+    loss = getattr(res, "loss", None)
+    if loss is not None:  # the loss budget (compare.models.loss): hand planar, hand 3D, FE
+        extra["loss"] = {"hand_planar": {k: v["hand"] for k, v in loss.entries.items()},
+                         "hand": {k: v["hand_3d"] for k, v in loss.entries.items()},
+                         "fe": {k: v["fe"] for k, v in loss.entries.items()},
+                         "fe_uncertainty": {k: v["uncertainty"] for k, v in loss.entries.items()}}
     return extra | {
         "hand": {k: res.hand_3d.values()[k] for k in HAND_KEYS} | hw | res.hand_3d.force_values,
         "hand_planar": ({k: res.hand_planar.values()[k] for k in HAND_KEYS} | hpw
@@ -187,6 +193,7 @@ def drift(current: dict, stored: dict) -> list[Drift]:
                 c = cmo.get(name, {}).get(k)
                 if not _close(c, s, rt * abs(s) if s is not None else 0.0):
                     out.append(Drift(f"motion.{name}", k, s, c, rt))
+    out += _block_drift("loss", stored, current)
     ref = stored.get("fe", {})
     for k, s in unc.items():
         c = current.get("fe_uncertainty", {}).get(k)
@@ -195,6 +202,29 @@ def drift(current: dict, stored: dict) -> list[Drift]:
         floor = UNC_FLOOR * abs(ref.get(k) or 0.0)
         if max(c, floor) > UNC_FACTOR * max(s, floor) or max(s, floor) > UNC_FACTOR * max(c, floor):
             out.append(Drift("fe_uncertainty", k, s, c, UNC_FACTOR))
+    return out
+
+
+def _block_drift(name: str, stored: dict, current: dict) -> list[Drift]:
+    """A block of hand_planar / hand / fe / fe_uncertainty values (the loss budget): hand as the
+    hand blocks, FE within its uncertainty, as the AC block."""
+    sb, cb = stored.get(name), current.get(name) or {}
+    out: list[Drift] = []
+    if sb is None:
+        return out
+    for block in ("hand_planar", "hand"):
+        for k, s in sb[block].items():
+            c = cb.get(block, {}).get(k)
+            if not _close(c, s, HAND_RTOL * abs(s) if s is not None else 0.0):
+                out.append(Drift(f"{name}.{block}", k, s, c, HAND_RTOL))
+    for k, s in sb["fe"].items():
+        u = sb.get("fe_uncertainty", {}).get(k)
+        u = u if u is not None and math.isfinite(u) else 0.0
+        mag = abs(s or 0.0)
+        tol = max(FE_RTOL_FLOOR * mag, min(2.0 * u, FE_UNC_CAP * mag))
+        c = cb.get("fe", {}).get(k)
+        if not _close(c, s, tol):
+            out.append(Drift(f"{name}.fe", k, s, c, tol))
     return out
 
 

@@ -180,6 +180,8 @@ class CheckResult:
     case's operating point (the measured column; empty without measurements)."""
     motion: Any = None
     """compare.models.motion.MotionResult of a case with ``[motion]`` (None otherwise)."""
+    loss: Any = None
+    """compare.models.loss.LossBudget of a case with ``[loss]`` (None otherwise)."""
 
     @property
     def design_passed(self) -> bool:
@@ -1280,6 +1282,21 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
         motion = run_motion(case, core_model(case).axisymmetric)
         rows = rows + tuple(motion_rows(case, motion))
         notes = notes + motion_notes(case, motion)
+    loss = None
+    from ..models.loss import has_loss
+
+    if has_loss(case):  # the loss budget (compare.models.loss, compare.judge.lossbudget)
+        from ..models.loss import run_budget
+        from .lossbudget import budget_notes, budget_rows
+
+        loss = run_budget(case, fe, ac, leakage)
+        for spec in budget_rows(case, loss):  # Row fields; the agreement verdicts made here
+            if "verdict" not in spec:
+                spec["diff_pct"] = _diff_pct(spec["hand"], spec["fe"])
+                spec["verdict"] = _verdict(spec["diff_pct"], spec["hand"], spec["fe"],
+                                           spec["uncertainty"], spec["limit_pct"])
+            rows = rows + (Row(**spec),)
+        notes = notes + budget_notes(case, loss)
     measured: tuple = ()
     if case.measured:
         from .measurement import measured_note, measured_rows
@@ -1299,7 +1316,7 @@ def run_check(case: Case, *, all_fringing: bool = False, estimate_error: bool = 
                                 "total": t3 - t0,
                                 **({"motion": motion.seconds} if motion is not None else {})},
                        fringing_ranking=ranking, breakdown=breakdown, drive=drive,
-                       leakage=leakage, depth=depth, ac=ac, measured=measured, motion=motion)
+                       leakage=leakage, depth=depth, ac=ac, measured=measured, motion=motion, loss=loss)
 
 
 def dataframe(records: list[dict], index: str | None = None) -> Any:

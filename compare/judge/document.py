@@ -121,6 +121,9 @@ def check_json(res: Any, agreement: str = "fatal") -> dict:
         hand_block.update(res.ac.to_dict("hand"))
         planar_block.update(res.ac.to_dict("hand_planar"))
         fe_block.update(res.ac.to_dict("fe"))
+    if getattr(res, "loss", None) is not None:  # the loss budget (compare.models.loss)
+        hand_block["loss"] = res.loss.to_dict("hand")
+        fe_block["loss"] = res.loss.to_dict("fe")
     for block in (hand_block, planar_block, fe_block):  # k_jk = L_jk / sqrt(L_jj L_kk)
         lm = [[math.nan if v is None else v for v in row] for row in block["inductance_matrix"]]
         block["coupling"] = [[v if math.isfinite(v) else None for v in row]

@@ -490,8 +490,10 @@ def run_fe_checked(case: Case, *, estimate_error: bool = True) -> FEResult:
     unc["force_virtual_work"] = unc.get("force", math.nan)
     from .acmesh import has_ac
 
+    # an AC winding or a loss budget (compare.models.loss) reads all three solutions
+    keep = has_ac(case) or (case.loss is not None and case.core_loss is not None)
     return FEResult(fine, coarse, unc, sol, samples,
-                    solutions=(sol0, coarse_sol, sol) if has_ac(case) else ())
+                    solutions=(sol0, coarse_sol, sol) if keep else ())
 
 
 def _with_virtual_work(case: Case, q: FEQuantities, sol: FieldSolution) -> FEQuantities:

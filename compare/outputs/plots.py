@@ -931,6 +931,80 @@ def fig_motion(res: CheckResult):
     return fig
 
 
+def fig_loss_density(res: CheckResult):
+    """The core-loss density of the FE (W/m^3, log colour scale) on the finer mesh's core
+    elements, with the hand's uniform density per segment in the title; None without a loss
+    budget."""
+    b = getattr(res, "loss", None)
+    if b is None or b.core.map_triangles is None:
+        return None
+    from matplotlib.collections import PolyCollection
+
+    c = b.core
+    tri = np.asarray(c.map_triangles) * 1e3
+    dens = np.asarray(c.map_density, dtype=float)
+    pos = dens[dens > 0]
+    fig, ax = plt.subplots(figsize=(6.4, 5.0))
+    if pos.size:
+        norm = LogNorm(vmin=max(float(pos.min()), float(pos.max()) * 1e-3), vmax=float(pos.max()))
+        coll = PolyCollection(list(tri), array=np.clip(dens, norm.vmin, None), cmap="inferno",
+                              norm=norm, edgecolors="none")
+        ax.add_collection(coll)
+        fig.colorbar(coll, ax=ax, label="core-loss density (W/m³)")
+    ax.set_xlim(tri[..., 0].min(), tri[..., 0].max())
+    ax.set_ylim(tri[..., 1].min(), tri[..., 1].max())
+    ax.set_aspect("equal")
+    ax.set_xlabel("r (mm)" if res.case.family_model and _is_rz(res) else "x (mm)")
+    ax.set_ylabel("z (mm)" if _is_rz(res) else "y (mm)")
+    hand = ", ".join(f"{s['name']} {s['density'] / 1e3:.3g}" for s in c.hand_segments[:4])
+    ax.set_title(f"FE core-loss density ({c.waveform}, {c.frequency:g} Hz): {c.fe:.4g} W; "
+                 f"hand {c.hand:.4g} W\nhand per segment (kW/m³): {hand}", fontsize=8)
+    return fig
+
+
+def _is_rz(res: CheckResult) -> bool:
+    from ..design.coremodel import core_model
+
+    return bool(core_model(res.case).axisymmetric)
+
+
+def fig_loss_budget(res: CheckResult):
+    """The loss budget as bars, hand (3D) beside FE (3D, with its uncertainty): core, copper,
+    AC winding loss and the total; None without a loss budget."""
+    b = getattr(res, "loss", None)
+    if b is None:
+        return None
+    keys = [k for k in ("core_loss", "copper_loss", "winding_loss_ac", "total_loss")
+            if k in b.entries]
+    labels = {"core_loss": "core", "copper_loss": "copper (DC)" if not b.transformer
+              else "copper (rated load)", "winding_loss_ac": "winding (AC part)",
+              "total_loss": "total"}
+    x = np.arange(len(keys))
+    h = [b.entries[k]["hand_3d"] for k in keys]
+    f = [b.entries[k]["fe_3d"] for k in keys]
+    u = [b.entries[k]["uncertainty"] * (b.entries[k]["fe_3d"] / b.entries[k]["fe"]
+                                        if b.entries[k]["fe"] else 1.0) for k in keys]
+    u = [v if math.isfinite(v) else 0.0 for v in u]
+    fig, ax = plt.subplots(figsize=(6.4, 4.0))
+    ax.bar(x - 0.2, h, 0.4, color=HAND_COLOUR, label="hand (3D)")
+    ax.bar(x + 0.2, f, 0.4, color=FE_COLOUR, yerr=u, capsize=3, label="FE (depth-corrected)")
+    limit = res.case.margins.total_loss
+    if limit is not None:
+        ax.axhline(limit, color=MARGIN_COLOUR, ls="--", lw=1.0, label=f"total loss max {limit:g} W")
+    ax.set_xticks(x, [labels[k] for k in keys])
+    ax.set_ylabel("loss (W)")
+    extra = ""
+    if "efficiency" in b.entries:
+        e = b.entries["efficiency"]
+        extra = f"; efficiency {e['hand_3d']:.2f} % (hand), {e['fe_3d']:.2f} % (FE)"
+    rise = b.entries["temperature_rise"]
+    ax.set_title(f"loss budget: rise {rise['hand_3d']:.3g} K (hand), {rise['fe_3d']:.3g} K (FE), "
+                 f"estimate{extra}", fontsize=8)
+    ax.grid(alpha=0.3, axis="y")
+    ax.legend(fontsize=7)
+    return fig
+
+
 FIGURES = {
     "geometry.png": fig_geometry,
     "flux.png": fig_flux,
@@ -943,10 +1017,20 @@ FIGURES = {
     "magnetizing.png": fig_magnetizing,
     "inrush.png": fig_inrush,
     "motion.png": fig_motion,
+    "loss_density.png": fig_loss_density,
+    "loss_budget.png": fig_loss_budget,
 }
 
 
 _CAPTIONS = {
+    "loss_density.png": "The FE's core-loss density (log scale) from each element's flux-density "
+                        "swing, where flux crowding at inner corners and round the gap puts the "
+                        "loss; the hand model takes one uniform density per segment (title). "
+                        "Rotational flux and minor loops left out.",
+    "loss_budget.png": "The loss budget, hand beside FE (3D values, the FE with its three-mesh "
+                       "uncertainty): core, copper and AC winding loss and the total; the "
+                       "temperature rise is an estimate from the loss per surface area "
+                       "(docs/references.md section 15), not a thermal analysis.",
     "geometry.png": "Regions and the finer mesh: each core part with its material, the gaps "
                     "with their lengths, every winding in its own colour (return sides "
                     "hatched), magnets with their magnetisation, the parts' overall dimensions "

@@ -135,7 +135,9 @@ def check_csv(res: CheckResult) -> str:
     return _csv_text(keys, [list(r.to_dict().values()) for r in res.rows])
 
 
-SWEEP_EXTRA_UNITS = {"hand_planar_peak_B": "T", "fe_peak_B": "T", "fe_seconds": "s"}
+SWEEP_EXTRA_UNITS = {"hand_planar_peak_B": "T", "fe_peak_B": "T", "fe_seconds": "s",
+                     "hand_loss_core_loss": "W", "hand_planar_loss_core_loss": "W",
+                     "fe_loss_core_loss": "W"}
 """Units of the sweep row columns that are not a swept key or a hand quantity."""
 
 

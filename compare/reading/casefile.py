@@ -20,7 +20,7 @@ from magcheck.analytic.fringing import FRINGING_MODELS
 from magcheck.analytic.materials import bh_from_table, builtin, builtin_names, load_bh_csv
 
 from ..design.case import (Case, FESettings, HandSettings, InductanceLimit, Margins, MaterialSpec,
-                           SaturationLimit, SweepDecl, TargetDecl, Tolerance, ForceLimit)
+                           LOSS_WAVEFORMS, LossSpec, SaturationLimit, SweepDecl, TargetDecl, Tolerance, ForceLimit)
 from ..errors import CaseError, CaseWarning, RunError, format_value, warn
 from ..design.families import Family, get_family
 from ..design.geometry import ACSpec, ConductorSpec, Gap, Limb, WindingSpec, coil_rects
@@ -32,7 +32,7 @@ from ..design.reader import TableReader
 
 __all__ = ["load_case", "case_from_dict", "plausibility_issues", "referenced_files"]
 
-FILE_KEYS = ("csv", "dxf")
+FILE_KEYS = ("csv", "dxf", "table")
 """Case keys whose value names a file the case reads (a B-H table, a drawing)."""
 
 MATERIAL_REGIONS = ("core",)
@@ -155,7 +155,10 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                 raise CaseError(f"windings[{k}].{'conductor' if wd.conductor else 'ac'}",
                                 wd.name, "turns drawn one by one and an AC current are "
                                 "supported on a case of one winding for now")
-    materials = _read_materials(root.table("materials"), base_dir, family, core)
+    mat_t = root.table("materials")
+    core_loss = _read_core_loss(mat_t, base_dir)
+    materials = _read_materials(mat_t, base_dir, family, core)
+    loss = _read_loss(root.table("loss"), len(windings)) if root.has("loss") else None
     hand = _read_hand(root.table("hand", {}))
     fe = _read_fe(root.table("fe", {}))
     margins = _read_margins(root.table("margins", {}))
@@ -174,7 +177,8 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                 extra_windings=windings[1:],
                 materials=materials, hand=hand, fe=fe, margins=margins, sweeps=sweeps,
                 tolerances=tolerances, stacking=stacking, targets=targets, measured=measured,
-                description=description, source=source, sha256=sha256)
+                description=description, source=source, sha256=sha256, core_loss=core_loss,
+                loss=loss)
     check = getattr(family, "check_case", None)
     if check is not None:  # what the family checks across tables (coils name windings, ...)
         check(case)
@@ -228,6 +232,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                         "judges the inrush estimate of a voltage drive: give the first winding "
                         "voltage, frequency and residual_flux (a fraction of the peak flux "
                         "linkage, e.g. 0.8), or drop it")
+    _check_loss(case)
     return case
 
 
@@ -719,8 +724,160 @@ def _read_materials(t: TableReader, base_dir: Path | None, family: Family,
             specs.append(_read_material(t, part, base_dir))
         elif part in required:
             raise CaseError(t.key(part), None, f"missing: {required[part]}")
-    t.finish(valid=(*MATERIAL_REGIONS, *parts))
+    t.finish(valid=(*MATERIAL_REGIONS, *parts, "core_loss"))
     return tuple(specs)
+
+
+def _read_core_loss(t: TableReader, base_dir: Path | None) -> Any:
+    """The core's loss data (analytic.core_loss.MaterialLoss): the built-in core material's,
+    overridden key by key by ``[materials.core_loss]`` (a loss table given there is fitted for
+    k, alpha and beta, its residual kept); None when neither gives Steinmetz coefficients."""
+    from magcheck.analytic.core_loss import (LaminationLoss, MaterialLoss, SteinmetzCoefficients,
+                                             fit_steinmetz, parse_loss_table)
+    from magcheck.analytic.materials import builtin_loss
+
+    raw_core = t.data.get("core")
+    base = builtin_loss(raw_core) if isinstance(raw_core, str) else None
+    if not t.has("core_loss"):
+        return base
+    ct = t.table("core_loss")
+    c0 = base.steinmetz if base is not None else None
+    fit = None
+    source = ct.key("")[:-1]
+    if ct.has("table"):
+        rel = ct.string("table")
+        p = Path(rel)
+        if not p.is_absolute() and base_dir is not None:
+            p = base_dir / p
+        if not p.is_file():
+            raise CaseError(ct.key("table"), rel, f"no such loss table ({p})")
+        try:
+            f, b, pl, unit = parse_loss_table(p.read_text(encoding="utf-8-sig"), rel)
+            fit = fit_steinmetz(f, b, pl, unit)
+        except (ValueError, OSError) as exc:
+            raise CaseError(ct.key("table"), rel, str(exc)) from None
+        c0 = fit.coefficients
+        source = (f"loss table {rel}, fitted over {fit.n_points} points (rms error "
+                  f"{100 * fit.rms_log_error:.2g} %, worst {100 * fit.max_relative_error:.2g} %)")
+        for given in ("k", "alpha", "beta", "unit"):
+            if ct.has(given):
+                raise CaseError(ct.key(given), ct.raw(given), "the loss table gives k, alpha and "
+                                                              "beta: give the table or the "
+                                                              "coefficients")
+    k = ct.number("k", c0.k if c0 else None, lo=0.0)
+    alpha = ct.number("alpha", c0.alpha if c0 else None, lo=0.5, hi=3.0)
+    beta = ct.number("beta", c0.beta if c0 else None, lo=1.0, hi=4.0)
+    unit = ct.string("unit", c0.unit if c0 else "W/kg", choices=("W/kg", "W/m^3"))
+    if k is None or alpha is None or beta is None:
+        raise CaseError(ct.key("k"), None, "give k, alpha and beta (or a loss table); the core "
+                                           "material has no loss data of its own")
+    if k <= 0.0:
+        raise CaseError(ct.key("k"), ct.raw("k"), "must be positive")
+    lims = {}
+    for name, dim, dflt in (("f_min", "frequency", c0.f_min if c0 else 0.0),
+                            ("f_max", "frequency", c0.f_max if c0 else math.inf),
+                            ("B_min", "flux density", c0.b_min if c0 else 0.0),
+                            ("B_max", "flux density", c0.b_max if c0 else math.inf)):
+        lims[name] = ct.quantity(name, dim, dflt, allow_zero=True)
+    for lo, hi in (("f_min", "f_max"), ("B_min", "B_max")):
+        if lims[lo] >= lims[hi]:
+            raise CaseError(ct.key(hi), ct.raw(hi, lims[hi]), f"must be above {lo}")
+    density = ct.number("density", base.density if base else None, lo=100.0, hi=30000.0)
+    if density is None:
+        raise CaseError(ct.key("density"), None, "missing: the core material's density, kg/m^3 "
+                                                 "(for the loss per kilogram and the mass)")
+    thickness = ct.quantity("thickness", "length", base.thickness if base else None)
+    rho = ct.quantity("resistivity", "resistivity", base.resistivity if base else None)
+    lam0 = base.lamination if base is not None else None
+    kh = ct.number("k_h", lam0.k_h if lam0 else None, lo=0.0)
+    bh = ct.number("beta_h", lam0.beta_h if lam0 else None, lo=1.0, hi=3.0)
+    ke = ct.number("k_e", lam0.k_e if lam0 else 0.0, lo=0.0)
+    ct.finish()
+    lam = (LaminationLoss(kh, bh, 1.0 / rho, thickness, ke, density)
+           if None not in (kh, bh, thickness, rho) else None)
+    coeffs = SteinmetzCoefficients(k, alpha, beta, unit, lims["f_min"], lims["f_max"],
+                                   lims["B_min"], lims["B_max"])
+    if fit is not None:
+        fit = dataclasses.replace(fit, coefficients=coeffs)
+    return MaterialLoss(coeffs, density, thickness, rho, lam, fit,
+                        source if fit is not None or base is None
+                        else f"{base.source}, with [materials.core_loss]")
+
+
+def _read_loss(t: TableReader, n_windings: int) -> LossSpec:
+    """``[loss]``: the loss budget's operating point (compare.design.case.LossSpec)."""
+    waveform = t.string("waveform", "sine", choices=LOSS_WAVEFORMS)
+    duty = t.number("duty", 1.0 if waveform == "square" else 0.5, lo=0.0, hi=1.0)
+    if duty <= 0.0 or (waveform == "triangle" and duty >= 1.0):
+        raise CaseError(t.key("duty"), t.raw("duty"),
+                        "must lie strictly between 0 and 1" if waveform == "triangle"
+                        else "must be positive")
+    freq = t.quantity("frequency", "frequency", None)
+    ripple = t.quantity("ripple", "current", None)
+    load = t.quantity("load_current", "current", None)
+    frac = t.number("load_fraction", 0.5, lo=0.0, hi=2.0)
+    if frac <= 0.0:
+        raise CaseError(t.key("load_fraction"), t.raw("load_fraction"), "must be positive")
+    pf = t.number("power_factor", 1.0, lo=0.0, hi=1.0)
+    res: list[float] = []
+    if t.has("resistances"):
+        raw = t.raw("resistances")
+        if not isinstance(raw, list) or not raw:
+            raise CaseError(t.key("resistances"), raw, "must be a list of resistances, one per "
+                                                       "winding (\"0.5 ohm\")")
+        from ..design.units import UnitError, parse_quantity
+
+        for i, v in enumerate(raw):
+            try:
+                r = parse_quantity(v, "resistance")
+            except UnitError as exc:
+                raise CaseError(f"{t.key('resistances')}[{i}]", v, str(exc)) from None
+            if not (math.isfinite(r) and r >= 0.0):
+                raise CaseError(f"{t.key('resistances')}[{i}]", v, "must be a finite resistance "
+                                                                  ">= 0")
+            res.append(r)
+        if len(res) != n_windings:
+            raise CaseError(t.key("resistances"), raw, f"{len(res)} values for {n_windings} "
+                                                       "windings: give one per winding")
+    area = t.quantity("surface_area", "area", None)
+    t.finish()
+    return LossSpec(waveform, duty, freq, ripple, load, frac, pf, tuple(res), area)
+
+
+def _check_loss(case: Case) -> None:
+    """What a loss budget needs across tables: loss data, a frequency, a flux swing."""
+    m = case.margins
+    given = [(k, getattr(m, k)) for k in ("total_loss", "core_loss", "efficiency", "regulation",
+                                          "temperature_rise") if getattr(m, k) is not None]
+    spec = case.loss
+    if spec is None:
+        if given:
+            raise CaseError(f"margins.{given[0][0]}", given[0][1], "a loss-budget margin: give "
+                            "the case a [loss] table, or drop it")
+        return
+    if case.core_loss is None:
+        raise CaseError("materials.core_loss", None, "the loss budget needs the core's loss data: "
+                        "a built-in material that has it (magcheck materials) or "
+                        "[materials.core_loss] k, alpha, beta, density (or a loss table)")
+    w = case.winding
+    f = spec.frequency or (w.ac.frequency if w.ac is not None else None) or w.frequency
+    if not f:
+        raise CaseError("loss.frequency", None, "missing: give the flux's frequency (or "
+                        "[winding.ac] or a voltage drive)")
+    if not w.driven and not (spec.ripple or w.ac is not None):
+        raise CaseError("loss.ripple", None, "missing: a current-driven winding needs its ripple "
+                        "current (peak), or [winding.ac]")
+    two = len(case.extra_windings) >= 1
+    for k in ("efficiency", "regulation"):
+        if getattr(m, k) is not None and not (two and spec.load_current):
+            raise CaseError(f"margins.{k}", getattr(m, k), "a transformer margin: give two "
+                            "windings and [loss] load_current")
+    if spec.load_current is not None and not two:
+        raise CaseError("loss.load_current", spec.load_current, "a transformer's load: the case "
+                        "has one winding")
+    if spec.load_current is not None and not spec.resistances:
+        raise CaseError("loss.resistances", None, "missing: the windings' resistances, for the "
+                        "copper loss and the regulation at load")
 
 
 def _read_material(t: TableReader, region: str, base_dir: Path | None) -> MaterialSpec:
@@ -845,6 +1002,11 @@ def _read_margins(t: TableReader) -> Margins:
     im_rms = t.quantity("magnetizing_current_rms", "current", None)
     inrush = t.quantity("inrush_current_peak", "current", None)
     loss_max = t.quantity("winding_loss", "power", None)
+    total_max = t.quantity("total_loss", "power", None)
+    core_max = t.quantity("core_loss", "power", None)
+    eff_min = t.number("efficiency", None, lo=0.0, hi=100.0)
+    reg_max = t.number("regulation", None, lo=0.0, hi=100.0)
+    rise_max = t.number("temperature_rise", None, lo=0.0, hi=1000.0)
     ratio_max = t.number("resistance_ratio", None, lo=1.0, hi=1e6)
     fill = t.number("copper_fill", 1.0, lo=0.0, hi=1.0)
     if fill <= 0.0:
@@ -886,7 +1048,10 @@ def _read_margins(t: TableReader) -> Margins:
                    force_min=force_min, force=tuple(forces), B_peak=b_peak,
                    magnetizing_current_peak=im_peak, magnetizing_current_rms=im_rms,
                    inrush_current_peak=inrush, winding_loss=loss_max,
-                   resistance_ratio=ratio_max, motion=motion)
+                   resistance_ratio=ratio_max, motion=motion, total_loss=total_max, core_loss=core_max,
+                   efficiency=None if eff_min is None else eff_min / 100.0,
+                   regulation=None if reg_max is None else reg_max / 100.0,
+                   temperature_rise=rise_max)
 
 
 def _check_force_limit_stroke(key: str, stroke: float, spec: Any, data: dict, family: Family,

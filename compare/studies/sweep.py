@@ -257,6 +257,11 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
             hh = hand_ac(case, hp.values()["incremental_inductance"],
                          h3.values()["incremental_inductance"])
             ac_h = {form: {f"ac_{k}": v for k, v in hh[form].items()} for form in ac_h}
+        if case.loss is not None and case.core_loss is not None:  # the core loss (models.loss)
+            from ..models.loss import hand_core_loss
+
+            for form, planar in (("planar", True), ("3d", False)):
+                ac_h[form]["loss_core_loss"] = hand_core_loss(case, planar=planar)["total"]
         base: dict[str, Any] = dict(index=idx, settings=settings, current=current,
                     hand=h3.values() | h3.force_values | ac_h["3d"],
                     hand_planar=hp.values() | hp.force_values | ac_h["planar"],
@@ -318,6 +323,11 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
 
             q = dataclasses.replace(q, values={**q.values, **{
                 f"ac_{k}": v for k, v in fe_ac(case, sol)["values"].items()}})
+        if case.loss is not None and case.core_loss is not None:  # the FE core loss, this mesh
+            from ..models.loss import fe_core_loss
+
+            q = dataclasses.replace(q, values={**q.values,
+                                               "loss_core_loss": fe_core_loss(case, sol)["total"]})
         out.append(PointResult(**base, fe=dict(q.values) | q.force_values | q.magnet_values,
                                fe_peak_B=q.peak_B,
                                iterations=q.iterations, seconds=time.perf_counter() - t0,
@@ -429,7 +439,8 @@ def sweep_rows(res: SweepResult) -> list[dict]:
         if CURRENT_KEY not in p.settings:
             r[CURRENT_KEY] = p.current
         forces = [k for k in FORCE_KEYS if k in p.hand]  # a moving part's (N)
-        ac = [k for k in p.hand_planar if k.startswith("ac_")]  # an AC winding's (ohm, W, H)
+        # an AC winding's (ohm, W, H) and a loss budget's core loss (W)
+        ac = [k for k in p.hand_planar if k.startswith(("ac_", "loss_"))]
         r.update({f"hand_{k}": p.hand.get(k, math.nan) for k in (*HAND_KEYS, *forces, *ac)})
         r.update({f"hand_planar_{k}": p.hand_planar.get(k, math.nan)
                   for k in (*HAND_KEYS, *forces, *ac)})

@@ -7,7 +7,8 @@ import argparse
 import difflib
 
 from magcheck.analytic.magnets import MAGNET_GRADES
-from magcheck.analytic.materials import bh_csv_text, builtin, builtin_csv_text, builtin_names
+from magcheck.analytic.materials import (bh_csv_text, builtin, builtin_csv_text, builtin_loss,
+                                         builtin_names)
 
 from ...errors import CaseError
 from ...outputs.output import (STDOUT, STDOUT_HELP, atomic_write_text, figure_format,
@@ -50,6 +51,27 @@ def _magnets(names: list[str], out) -> None:
                  out)
 
 
+def _losses(names: list[str], out) -> None:
+    """The core-loss data of the built-in materials that have it (invented for the demo)."""
+    rows = []
+    for n in names:
+        m = builtin_loss(n)
+        if m is None:
+            continue
+        c = m.steinmetz
+        lam = (f"{m.thickness * 1e3:.3g} mm, {m.resistivity * 1e8:.3g} uohm cm"
+               + (", Bertotti split" if m.lamination is not None else "")
+               if m.thickness is not None and m.resistivity is not None else "-")
+        rows.append([n, f"{c.k:.4g} {c.unit}", f"{c.alpha:.3g}", f"{c.beta:.3g}",
+                     f"{c.f_min:g}-{c.f_max:g}", f"{c.b_min:g}-{c.b_max:g}", f"{m.density:g}",
+                     lam])
+    if rows:
+        out.write("\n")
+        render_table("core loss P = k f^alpha B_pk^beta (invented for the demo)",
+                     ["name", "k", "alpha", "beta", "f Hz", "B_pk T", "density kg/m^3",
+                      "lamination"], rows, out)
+
+
 def csv_text(name: str) -> str:
     """Built-in material ``name`` as B-H CSV text (`bh_csv_text`): its table
     points in A/m and T, under the packaged file's first comment line (what
@@ -88,6 +110,7 @@ def run(args: argparse.Namespace) -> int:
     render_table("built-in B-H curves (invented for the demo)",
                  ["name", "initial mu_r", "B at 1 kA/m T", "B at 10 kA/m T",
                   "last B T", "last H A/m", "origin"], rows, out)
+    _losses(names, out)
     if not args.name:
         out.write("\n")
         _magnets(list(MAGNET_GRADES), out)
