@@ -20,7 +20,8 @@ __all__ = ["CAUTION", "check_json", "json_ready", "versions"]
 CAUTION = (
     "Caution: magcheck's results are design estimates. Confirm them by measurement "
     "on a prototype and against the applicable codes and licensed engineering practice; "
-    "magcheck checks neither insulation nor temperature rise."
+    "magcheck does not check insulation, and its temperature rise is a rough estimate, not a "
+    "thermal analysis."
 )
 
 
