@@ -1127,7 +1127,46 @@ def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]
         out.append((name, fig))
     if res.points and "force" in res.points[0].hand_planar:
         out.append(("sweep_force.png", fig_sweep_force(res, groups, x_of, x_label)))
+    if res.points and "ac_R_ac_ratio" in res.points[0].hand_planar:
+        out.append(("sweep_ac.png", fig_sweep_ac(res, x_key, x_of, x_label)))
     return out
+
+
+def fig_sweep_ac(res, x_key: str, x_of, x_label: str):
+    """An AC winding along a sweep (compare.models.ac): R_ac/R_dc (Dowell's
+    1D layer formula and the FE) and L_ac (the hand's incremental inductance
+    at the DC current and the FE's Im Z / w), both planar; log axes when the
+    AC frequency is swept."""
+    pts = sorted(res.points, key=x_of)
+    x = [x_of(p) for p in pts]
+    fig, (a1, a2) = plt.subplots(1, 2, figsize=(10, 4.2))
+    for model, get in (("hand", lambda p: p.hand_planar), ("FE", lambda p: p.fe)):
+        if model == "FE" and not res.with_fe:
+            continue
+        style = dict(_SWEEP_STYLE[(model, 0)])
+        a1.plot(x, [get(p).get("ac_R_ac_ratio", math.nan) for p in pts], "-", lw=1.2,
+                label=f"{model} R_ac/R_dc" + (" (Dowell 1D)" if model == "hand" else ""),
+                **style)
+        a2.plot(x, [get(p).get("ac_L_ac", math.nan) * 1e6 for p in pts], "-", lw=1.2,
+                label=f"{model} L_ac" + (" (incremental, DC point)" if model == "hand" else
+                                         " (Im Z / w)"), **style)
+    lim = res.case.margins.resistance_ratio
+    if lim is not None:
+        a1.axhline(lim, color=MARGIN_COLOUR, lw=1.4, ls="--", label=f"R_ac/R_dc limit {lim:g}")
+    log_x = x_key.endswith("frequency") and all(v > 0 for v in x)
+    for ax, ylabel in ((a1, "R_ac / R_dc"), (a2, "L_ac (uH)")):
+        if log_x:
+            ax.set_xscale("log")
+        ax.set_xlabel(x_label)
+        ax.set_ylabel(ylabel)
+        ax.grid(alpha=0.3, which="both")
+        ax.legend(fontsize=7)
+    if log_x:
+        a1.set_yscale("log")
+    hand_form, fe_form = comparison_forms(res.case)
+    fig.suptitle(f"{res.case.name}: AC winding, hand ({hand_form}) and {fe_form}", fontsize=10)
+    fig.tight_layout()
+    return fig
 
 
 def fig_sweep_force(res, groups, x_of, x_label):
