@@ -48,8 +48,9 @@ def surface_sizes(case: Case, refine: float = 1.0) -> tuple:
     from magcheck.fem2d.harmonic import mesh_settings_for
     from magcheck.fem2d.layout import MeshSettings
 
-    sigma = c.conductivity
-    turns = {r: sigma for r, _ in core_model(case).coils[0].sides}
+    coils = core_model(case).coils
+    turns = {r: w.conductor.conductivity for w, c in zip(case.windings, coils)
+             if w.conductor is not None and w.ac is not None for r, _ in c.sides}
     ms = mesh_settings_for(MeshSettings(), turns, ac.frequency, per_depth=AC_PER_DEPTH,
                            band_depths=AC_BAND_DEPTHS)
     return tuple((n, s / refine, b) for n, s, b in ms.surface_sizes)

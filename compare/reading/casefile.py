@@ -149,12 +149,28 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     gaps = tuple(_read_gap(t, family, limbs) for t in root.tables("gaps"))
     _check_gap_overlap(gaps)
     windings = _read_windings(root, family, limbs)
-    if len(windings) > 1:
+    if len(windings) > 1 and any(wd.conductor is not None or wd.ac is not None
+                                 for wd in windings):
+        # several windings drawn turn by turn (a transformer, interleaved or
+        # not): every one with its conductor and AC current, on one limb, at
+        # one frequency (compare.models.ac)
         for k, wd in enumerate(windings):
-            if wd.conductor is not None or wd.ac is not None:
-                raise CaseError(f"windings[{k}].{'conductor' if wd.conductor else 'ac'}",
-                                wd.name, "turns drawn one by one and an AC current are "
-                                "supported on a case of one winding for now")
+            for part in ("conductor", "ac"):
+                if getattr(wd, part) is None:
+                    raise CaseError(f"windings[{k}].{part}", None,
+                                    "missing: with several windings drawn turn by turn, give "
+                                    "every winding [windings.conductor] and [windings.ac] "
+                                    "(a winding's AC current is its peak phasor, negative "
+                                    "for the opposite phase: -N1/N2 I1 for a loaded secondary)")
+            if wd.limb != windings[0].limb:
+                raise CaseError(f"windings[{k}].limb", wd.limb,
+                                f"windings drawn turn by turn share one limb "
+                                f"('{windings[0].limb}') for now")
+            if wd.ac is not None and windings[0].ac is not None and \
+                    wd.ac.frequency != windings[0].ac.frequency:
+                raise CaseError(f"windings[{k}].ac.frequency", wd.ac.frequency,
+                                f"differs from the first winding's {windings[0].ac.frequency:g} "
+                                "Hz: the AC windings share one frequency")
     materials = _read_materials(root.table("materials"), base_dir, family, core)
     hand = _read_hand(root.table("hand", {}))
     fe = _read_fe(root.table("fe", {}))
@@ -586,8 +602,11 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
             raise CaseError(t.key("ac"), t.raw("ac"), "the AC resistance needs the conductor: "
                             "give [winding.conductor] (foil or round wire) with it")
         at = t.table("ac")
-        ac = ACSpec(at.quantity("frequency", "frequency"),
-                    at.quantity("current", "current"))
+        i_ac = at.quantity("current", "current", positive=False)
+        if i_ac == 0.0:
+            raise CaseError(at.key("current"), at.raw("current"), "must not be zero (the "
+                            "peak AC current; negative for the opposite phase)")
+        ac = ACSpec(at.quantity("frequency", "frequency"), i_ac)
         at.finish()
     t.finish()
     return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner,
