@@ -334,8 +334,15 @@ def run_ac(case: Case, fe: Any, hand_p: Any = None, hand_3d: Any = None) -> ACRe
     Lp = hand_p.values()["incremental_inductance"] if hand_p is not None else math.nan
     L3 = hand_3d.values()["incremental_inductance"] if hand_3d is not None else math.nan
     h = hand_ac(case, Lp, L3)
+    from magcheck.fem2d.errors import SolverInputError
+
+    from ..errors import RunError
+
     sols = tuple(fe.solutions) or (fe.solution,)
-    runs = [fe_ac(case, s) for s in sols]
+    try:
+        runs = [fe_ac(case, s) for s in sols]
+    except SolverInputError as exc:  # the factorisation's memory guard
+        raise RunError(f"AC solve of {case.name}: {exc}") from None
     fine = runs[-1]
     keys = tuple(fine["values"])  # AC_KEYS, and per winding with several
     if len(runs) == 3:
