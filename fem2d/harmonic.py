@@ -439,6 +439,13 @@ class HarmonicProblem:
                            "%.4g Hz (resolve delta: fem2d.harmonic.surface_mesh_size)",
                            self.size_over_delta, f)
 
+    def release_factorisation(self) -> None:
+        """Drop the factors (and the conductors' Schur columns) to free their
+        memory: the solutions made so far keep their post-processing (loss,
+        J, B, VTU), a later :meth:`solve` is refused."""
+        self.lu = None
+        self._X = self._C = None
+
     def at_frequency(self, frequency: float) -> "HarmonicProblem":
         """The same problem at another frequency (Hz): the operators K and M, the
         conductors and the boundary are reused, only the factorisation is new
@@ -472,6 +479,9 @@ class HarmonicProblem:
         Wb/m or Wb/rad) on the Dirichlet DOFs.  Unnamed windings and coils carry 0.
         """
         t0 = time.perf_counter()
+        if self.lu is None:
+            raise SolverInputError("solve: the factorisation was released "
+                                   "(HarmonicProblem.release_factorisation)")
         asm, w = self.asm, self.omega
         known = {wd.name for wd in self.windings} | {c.name for c in self.coils}
         cur = {n: 0j for n in known}

@@ -270,7 +270,7 @@ def fe_ac(case: Case, sol: Any, problem: Any = None) -> dict[str, Any]:
                 **vals}
     return {"values": vals, "layer_loss": tuple(layer_loss), "side_loss": side,
             "ndofs": int(prob.nunknowns), "seconds": secs,
-            "size_over_delta": float(prob.size_over_delta)}
+            "size_over_delta": float(prob.size_over_delta), "solution": hs}
 
 
 @dataclass(frozen=True)
@@ -303,6 +303,9 @@ class ACResult:
     seconds: float
     size_over_delta: float
     layer_factors: tuple = field(default=())
+    solution: Any = field(default=None, repr=False, compare=False)
+    """The finest mesh's fem2d.harmonic.HarmonicSolution (its factorisation
+    released): the loss-density figure (ac_loss.png) and the AC VTU."""
     windings: tuple = field(default=())
     """Names of the AC windings (several: a transformer; per-winding keys
     ``R_dc:NAME``, ``R_ac:NAME``, ``R_ac_ratio:NAME`` in hand, fe, ...)."""
@@ -344,6 +347,8 @@ def run_ac(case: Case, fe: Any, hand_p: Any = None, hand_3d: Any = None) -> ACRe
     except SolverInputError as exc:  # the factorisation's memory guard
         raise RunError(f"AC solve of {case.name}: {exc}") from None
     fine = runs[-1]
+    for r in runs:  # keep the finest field for the figure, not the factors
+        r["solution"].problem.release_factorisation()
     keys = tuple(fine["values"])  # AC_KEYS, and per winding with several
     if len(runs) == 3:
         unc = {k: uncertainty_rule(*(r["values"][k] for r in runs)) for k in keys}
@@ -378,5 +383,5 @@ def run_ac(case: Case, fe: Any, hand_p: Any = None, hand_3d: Any = None) -> ACRe
                     skin_depth=h["delta"], delta_ratio=h["delta_ratio"], porosity=h["porosity"],
                     ndofs=fine["ndofs"], seconds=fine["seconds"],
                     size_over_delta=fine["size_over_delta"], layer_factors=h["layer_factors"],
-                    windings=tuple(w.name for _, w in wds),
+                    solution=fine["solution"], windings=tuple(w.name for _, w in wds),
                     layer_windings=h["layer_windings"])
