@@ -73,14 +73,19 @@ def ac_frequency(case: Case) -> float:
 
 
 def with_ac_frequency(case: Case, frequency: float) -> Case:
-    """The case with its AC frequency set (Hz); unchanged without AC.  A
+    """The case with its AC frequency set (Hz), on every AC winding; unchanged
+    without AC.  A
     sweep's mesh key takes the case at a fixed frequency, so that the points
     of a frequency sweep share one mesh, made at the chain's highest frequency
     (the finest skin-depth band, so every lower frequency is resolved too)."""
     import dataclasses
 
-    ac = case.winding.ac
-    if ac is None:
+    def at(w):
+        if w.ac is None:
+            return w
+        return dataclasses.replace(w, ac=dataclasses.replace(w.ac, frequency=float(frequency)))
+
+    if case.winding.ac is None:
         return case
-    return dataclasses.replace(case, winding=dataclasses.replace(
-        case.winding, ac=dataclasses.replace(ac, frequency=float(frequency))))
+    return dataclasses.replace(case, winding=at(case.winding),
+                               extra_windings=tuple(at(w) for w in case.extra_windings))

@@ -885,7 +885,9 @@ def fig_ac_loss(res: CheckResult):
     the gaps outlined: where the winding loses (next to a gap, the layers
     at the boundary of primary and secondary); None without AC."""
     ac = getattr(res, "ac", None)
-    hs = getattr(ac, "solution", None) if ac is not None else None
+    if ac is None:
+        return None
+    hs = getattr(ac, "solution", None)
     if hs is None or hs.problem.mesh is not res.fe.solution.mesh:
         return None
     from magcheck.fem2d.harmonic import loss_density
