@@ -737,6 +737,18 @@ def ac_notes(case: Case, ac: Any) -> tuple[str, ...]:
             "I^2). The 1D model cannot see the coil side outside the window (no iron beyond "
             "it), the 2D ends of layers short of the window height, or a gap's fringing field."]
         return tuple(notes_multi) + tuple(_loss_excess_notes(case, ac))
+    from ..design.coremodel import core_model as _core_model
+
+    if _core_model(case).axisymmetric:
+        notes = [f"AC winding: {c.layers} layers of {c.kind} at {ac.frequency / 1e3:.4g} kHz, "
+                 f"skin depth {ac.skin_depth * 1e3:.3g} mm at {c.temperature:g} degC, h/delta "
+                 f"{ac.delta_ratio:.3g} with porosity {ac.porosity:.3g}; the hand R_ac is "
+                 "Dowell's 1D layer formula (zero MMF at the post's face), which cannot see "
+                 "the post gap's fringing field crossing the winding or the 2D ends of layers "
+                 "short of the window height; the axisymmetric FE solves every turn as a ring "
+                 "about the DC operating point (small ripple, no hysteresis), the hand takes each "
+                 "layer's turns at its mean radius."]
+        return tuple(notes) + tuple(_loss_excess_notes(case, ac))
     notes = [f"AC winding: {c.layers} layers of {c.kind} at {ac.frequency / 1e3:.4g} kHz, skin "
              f"depth {ac.skin_depth * 1e3:.3g} mm at {c.temperature:g} degC, h/delta "
              f"{ac.delta_ratio:.3g} with porosity {ac.porosity:.3g}; the hand R_ac is Dowell's "
@@ -756,12 +768,16 @@ def _loss_excess_notes(case: Case, ac: Any) -> list[str]:
     if dl and ac.fe["R_ac"] > 1.15 * ac.hand["R_ac"]:
         j = max(range(len(dl)), key=dl.__getitem__)
         extra = 0.5 * ac.current_ac ** 2 * (ac.fe["R_ac"] - ac.hand["R_ac"])
+        from ..design.coremodel import core_model as _core_model
+
+        rz = _core_model(case).axisymmetric
+        form = "" if rz else " (planar)"
+        beside_gap = rz or (case.gaps and any(g.limb == case.winding.limb for g in case.gaps))
         notes.append(f"The FE's AC loss is {ac.fe['R_ac'] / ac.hand['R_ac']:.3g} x Dowell's: "
-                     f"{extra:.3g} W (planar) the hand model misses, most in layer {j + 1} "
+                     f"{extra:.3g} W{form} the hand model misses, most in layer {j + 1} "
                      f"({ac.fe_layers[j]:.3g} W against {ac.hand_layers[j]:.3g} W by hand)"
                      + (": the gap's fringing field crosses the winding beside it."
-                        if case.gaps and any(g.limb == case.winding.limb for g in case.gaps)
-                        else "."))
+                        if beside_gap else "."))
     return notes
 
 

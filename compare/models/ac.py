@@ -96,6 +96,7 @@ def _hand_layers(case: Case) -> list[dict[str, Any]]:
     (peak, signed), copper side h and the radial faces of its copper (m from
     the limb face)."""
     out = []
+    rz = core_model(case).axisymmetric
     for k, w in ac_windings(case):
         c, ac = w.conductor, w.ac
         limb = case.limbs[w.limb]
@@ -105,9 +106,14 @@ def _hand_layers(case: Case) -> list[dict[str, Any]]:
         eta = min(1.0, c.turns_per_layer * (c.width if c.kind == "foil" else c.side) / b)
         D = math.sqrt(eta) * c.side / delta
         for j, off in enumerate(_layer_offsets(case, w)):
-            mlt = 2.0 * (limb.width + case.depth) + 2.0 * math.pi * off
+            if rz:  # a ring round the post's face at radius limb.c1: both columns alike
+                mlt = 2.0 * math.pi * (limb.c1 + off)
+                r_p = c.turns_per_layer * rho * mlt / c.area
+            else:
+                mlt = 2.0 * (limb.width + case.depth) + 2.0 * math.pi * off
+                r_p = c.turns_per_layer * rho * 2.0 * case.depth / c.area
             out.append(dict(winding=k, name=w.name, layer=j + 1, D=D, eta=eta, delta=delta,
-                            r_p=c.turns_per_layer * rho * 2.0 * case.depth / c.area,
+                            r_p=r_p,
                             r_3=c.turns_per_layer * rho * mlt / c.area, mlt=mlt,
                             at=c.turns_per_layer * ac.current, side=c.side,
                             x0=off - 0.5 * c.side, x1=off + 0.5 * c.side, b=b))
@@ -157,7 +163,7 @@ def hand_ac(case: Case, L_planar: float = math.nan, L_3d: float = math.nan) -> d
                 vals.update({f"R_dc:{w.name}": r_dc, f"R_ac:{w.name}": r_ac,
                              f"R_ac_ratio:{w.name}": r_ac / r_dc})
         if len(wds) > 1:
-            length = (2.0 * case.depth if form == "planar"
+            length = (2.0 * case.depth if form == "planar" and not core_model(case).axisymmetric
                       else float(np.mean([ly["mlt"] for ly in layers])))
             gaps = [max(0.0, layers[j + 1]["x0"] - layers[j]["x1"]) for j in range(len(layers) - 1)]
             L = wl.mmf_leakage_inductance([ly["at"] for ly in layers],
@@ -233,16 +239,26 @@ def fe_ac(case: Case, sol: Any, problem: Any = None) -> dict[str, Any]:
     prob = problem if problem is not None else ac_problem(case, sol)
     windings, _, cur = _solid_windings(case)
     hs = prob.solve(cur)
-    areas = prob.asm.areas
-    r_dc = {w.name: float(sum(w.conductor.resistivity * case.depth / areas[r]
-                              for r, _ in coils[k].sides)) for k, w in wds}
+    asm = prob.asm
+    if core_model(case).axisymmetric:
+        # a solid ring: its filaments 2 pi r long in parallel, R = 2 pi rho / int dA / r
+        def ring(r: str) -> float:
+            idx = asm.rmesh.subdomains[r]
+            return 2.0 * math.pi / float(np.sum(asm.dx[idx] / asm.xq[0][idx]))
+        r_dc = {w.name: float(sum(w.conductor.resistivity * ring(r) for r, _ in coils[k].sides))
+                for k, w in wds}
+    else:
+        areas = asm.areas
+        r_dc = {w.name: float(sum(w.conductor.resistivity * case.depth / areas[r]
+                                  for r, _ in coils[k].sides)) for k, w in wds}
     layer_loss = []
     for k, w in wds:
         for j in range(1, w.conductor.layers + 1):
             regs = [r for r, lay in coils[k].layers if lay == j]
             layer_loss.append(region_loss(hs, regs))
+    back = [r for k, _ in wds for r in coils[k].back]  # none in r-z: a turn is a whole ring
     side = {"window": region_loss(hs, [r for k, _ in wds for r in coils[k].go]),
-            "outside": region_loss(hs, [r for k, _ in wds for r in coils[k].back])}
+            "outside": region_loss(hs, back) if back else 0.0}
     secs = time.perf_counter() - t0
     if len(wds) == 1:
         w = wds[0][1]
