@@ -21,7 +21,8 @@ Both are J = sigma m(x) (-j w u + e_c) with m = Formulation.eddy_weight
     I_c = int_c J dx = -j w b_c . u + G_c e_c,
     b_c,i = int_c sigma m phi_i dx,   G_c = int_c sigma m dx,
 one extra unknown e_c and one extra row per solid conductor: a bordered
-sparse system, solved by SuperLU (complex).  The turns of a winding
+sparse system, solved by SuperLU (complex) on the field block with the
+conductors reduced to their Schur complement (HarmonicProblem._factorise).  The turns of a winding
 (:class:`SolidWinding`) are in series: each carries sign x the winding's
 current, and the winding's voltage is the sum of sign x V_c.  Stranded
 coils (fem2d.sources.Coil) carry their uniform J as in the static solve,

@@ -149,7 +149,7 @@ def _write_geometry(args: argparse.Namespace, case) -> bool:
 
         if not args.dxf:
             raise CaseError("--geometry-only", None, "writes the --dxf drawing: give --dxf FILE")
-        other = [o for o in OUTPUTS if o != "--dxf" and getattr(args, o[2:])]
+        other = [o for o in OUTPUTS if o != "--dxf" and getattr(args, o[2:].replace("-", "_"))]
         if other:
             raise CaseError("--geometry-only", None, f"solves nothing, so {other[0]} has "
                                                      "nothing to write: drop one of them")
