@@ -240,6 +240,7 @@ def tables_of(path: Path) -> dict:
     (lambda d: d["windings"][1].pop("ac"), "windings[1].ac"),
     (lambda d: d["windings"][1]["ac"].update(frequency="60 kHz"), "windings[1].ac.frequency"),
     (lambda d: d["windings"][1]["ac"].update(current="0 A"), "windings[1].ac.current"),
+    (lambda d: d["windings"][0]["ac"].pop("frequency"), "windings[0].ac.frequency"),
 ])
 def test_several_ac_windings_bad_keys(edit, key):
     d = tables_of(TRANSFORMER)
@@ -251,6 +252,11 @@ def test_several_ac_windings_bad_keys(edit, key):
 
 def test_several_windings_hand_is_the_mmf_pattern():
     case = case_of(tables_of(INTERLEAVED))
+    # the later windings take the first's frequency (a frequency sweep varies it alone)
+    assert "frequency" not in tables_of(INTERLEAVED)["windings"][1]["ac"]
+    assert {w.ac.frequency for w in case.windings} == {50e3}
+    moved = case.with_values({"winding.ac.frequency": 80e3})
+    assert {w.ac.frequency for w in moved.windings} == {80e3}
     h = hand_ac(case)
     names = ("primary-a", "secondary", "primary-b")
     assert h["layer_windings"] == tuple(n for n in names for _ in range(3))

@@ -166,6 +166,10 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                 raise CaseError(f"windings[{k}].limb", wd.limb,
                                 f"windings drawn turn by turn share one limb "
                                 f"('{windings[0].limb}') for now")
+            if wd.ac is not None and math.isnan(wd.ac.frequency) and windings[0].ac is not None:
+                wd = dataclasses.replace(wd, ac=dataclasses.replace(
+                    wd.ac, frequency=windings[0].ac.frequency))
+                windings = windings[:k] + (wd,) + windings[k + 1:]
             if wd.ac is not None and windings[0].ac is not None and \
                     wd.ac.frequency != windings[0].ac.frequency:
                 raise CaseError(f"windings[{k}].ac.frequency", wd.ac.frequency,
@@ -606,7 +610,12 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
         if i_ac == 0.0:
             raise CaseError(at.key("current"), at.raw("current"), "must not be zero (the "
                             "peak AC current; negative for the opposite phase)")
-        ac = ACSpec(at.quantity("frequency", "frequency"), i_ac)
+        # a later winding may leave its frequency to the first's (read_case):
+        # a frequency sweep then varies winding.ac.frequency alone
+        f_ac = at.quantity("frequency", "frequency", None)
+        if f_ac is None and t.path in ("winding", "windings[0]"):
+            at.quantity("frequency", "frequency")  # the missing-key error
+        ac = ACSpec(math.nan if f_ac is None else f_ac, i_ac)
         at.finish()
     t.finish()
     return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner,
