@@ -399,3 +399,23 @@ def test_pot_core_rings_dc_limit_and_gap_loss():
     # no reference value: the sign and size of what Dowell's 1D formula misses
     assert fe["layer_loss"][0] > 10 * h["layer_loss"][0]
     assert fe["side_loss"]["outside"] == 0.0  # an r-z turn is the whole ring
+
+
+def test_sweep_ac_figure_hand_only():
+    from magcheck.compare.design.keys import parse_vary
+    from magcheck.compare.outputs.plots import sweep_figures
+    from magcheck.compare.reading.variants import case_source
+    from magcheck.compare.studies.sweep import run_sweep
+
+    src, _ = case_source(DEMO)
+    res = run_sweep(src, [parse_vary("winding.ac.frequency=10kHz:1MHz:5:log")], with_fe=False)
+    figs = dict(sweep_figures(res))
+    ax = figs["sweep_ac.png"].axes[0]
+    assert ax.get_xscale() == "log" and ax.get_yscale() == "log"
+    # the hand curve is Dowell's factor at each frequency, the R_ac/R_dc limit drawn
+    (line, limit) = ax.get_lines()[:2]
+    case = case_of(demo_tables())
+    want = [hand_ac(case.with_values({"winding.ac.frequency": f}))["planar"]["R_ac_ratio"]
+            for f in res["winding.ac.frequency"]]
+    assert list(line.get_ydata()) == pytest.approx(want, rel=1e-12)
+    assert limit.get_ydata()[0] == pytest.approx(40.0)
