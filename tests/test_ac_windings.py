@@ -348,6 +348,9 @@ def test_loss_map_figure_and_ac_vtu(tmp_path):
     assert res.ac.solution is not None and res.ac.solution.problem.lu is None  # factors freed
     fig = fig_ac_loss(res)
     assert fig is not None
+    doc = res.to_dict()
+    assert doc["hand"]["ac"]["windings"] == ["primary-a", "secondary", "primary-b"]
+    assert doc["fe"]["ac"]["R_ac:secondary"] == pytest.approx(res["R_ac:secondary"].fe)
     write_ac_vtu(res, tmp_path / "ac.vtu")
     m = meshio.read(tmp_path / "ac.vtu")
     q = m.cell_data["loss_density"][0]

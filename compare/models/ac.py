@@ -334,7 +334,10 @@ class ACResult:
             return {"ac": {**self.hand_3d, "frequency": self.frequency,
                            "current_ac_peak": self.current_ac, "skin_depth": self.skin_depth,
                            "delta_ratio": self.delta_ratio, "porosity": self.porosity,
-                           "layer_factors": list(self.layer_factors)}}
+                           "layer_factors": list(self.layer_factors),
+                           **({"windings": list(self.windings),
+                               "layer_windings": list(self.layer_windings)}
+                              if len(self.windings) > 1 else {})}}
         if which == "hand_planar":
             return {"ac": {**self.hand, "layer_loss": list(self.hand_layers)}}
         return {"ac": {**self.fe, "layer_loss": list(self.fe_layers),
