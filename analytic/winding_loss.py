@@ -38,6 +38,14 @@ Sources (docs/references.md section 12)
   (e.g. Vandelac and Ziogas, "A novel approach for minimizing
   high-frequency transformer copper losses", IEEE Trans. Power Electron.
   3(3), 1988 [from memory]).
+- Leakage inductance from the MMF pattern (the 1D window field of the same
+  model, low frequency): H(x) = MMF(x) / b across the window height b,
+  linear through a conductor layer, constant across the insulation between
+  layers; the energy mu0/2 int H^2 b l dx over the turn length l gives
+  L = mu0 l / (b I^2) int MMF(x)^2 dx, which for two windings of builds a1,
+  a2 a distance d apart is the classic mu0 N^2 l / b (d + (a1 + a2) / 3)
+  (analytic.leakage.concentric_leakage_inductance; docs/references.md
+  section 9) [derived].
 - Litz wire: left out (no published strand-level formula is carried here).
 
 What these 1D formulas cannot see: the fringing field of a nearby air gap
@@ -55,7 +63,8 @@ from scipy.constants import mu_0
 
 __all__ = ["COPPER", "ALUMINIUM", "Conductor", "resistivity", "dc_resistance", "skin_depth",
            "layer_factor", "dowell_factor", "dowell_layer_factors", "mmf_pattern_factors",
-           "round_wire_equivalent_foil", "foil_delta_ratio", "round_wire_delta_ratio"]
+           "round_wire_equivalent_foil", "foil_delta_ratio", "round_wire_delta_ratio",
+           "face_mmfs", "mmf_leakage_inductance"]
 
 
 class Conductor(tuple):
@@ -196,3 +205,38 @@ def round_wire_delta_ratio(diameter: float, turns_per_layer: int, window_height:
     """D = sqrt(eta) h / delta for round wire (equivalent foil, porosity)."""
     h, eta = round_wire_equivalent_foil(diameter, turns_per_layer, window_height)
     return math.sqrt(eta) * h / skin_depth(frequency, rho)
+
+
+def face_mmfs(layer_ampere_turns: Sequence[float]) -> np.ndarray:
+    """The MMF (A) at the layer boundaries, from zero at the first layer's
+    inner face: the cumulative sum of each layer's ampere-turns (signed: a
+    secondary layer's current is opposite the primary's), m + 1 values."""
+    at = np.asarray(layer_ampere_turns, dtype=float)
+    if at.ndim != 1 or len(at) < 1:
+        raise ValueError(f"layer_ampere_turns = {layer_ampere_turns!r} must list >= 1 layer")
+    return np.concatenate([[0.0], np.cumsum(at)])
+
+
+def mmf_leakage_inductance(layer_ampere_turns: Sequence[float], layer_thickness: Sequence[float],
+                           gaps: Sequence[float], window_height: float, turn_length: float,
+                           current: float) -> float:
+    """Leakage inductance (H) referred to a winding carrying ``current`` (A)
+    from the 1D window field of the layers (module docstring): layers in
+    radial order with their ampere-turns (A, signed) and copper thickness
+    (m), ``gaps`` the m - 1 distances between successive layers (m),
+    L = mu0 l / (b I^2) [sum_k t_k (a_k^2 + a_k b_k + b_k^2) / 3
+    + sum_k g_k b_k^2], a_k, b_k the face MMFs of layer k.  The MMF beyond
+    the last layer is taken as zero (balanced ampere-turns): an unbalanced
+    remainder is the magnetizing MMF, which the core's reluctance carries."""
+    f = face_mmfs(layer_ampere_turns)
+    t = np.asarray(layer_thickness, dtype=float)
+    g = np.asarray(gaps, dtype=float)
+    m = len(f) - 1
+    if t.shape != (m,) or g.shape != (max(m - 1, 0),):
+        raise ValueError("layer_thickness needs one value per layer and gaps one fewer")
+    if np.any(t <= 0) or np.any(g < 0):
+        raise ValueError("layer thicknesses must be > 0 and gaps >= 0")
+    a, b = f[:-1], f[1:]
+    integral = float(np.sum(t * (a * a + a * b + b * b) / 3.0) + np.sum(g * b[:-1] ** 2))
+    return (mu_0 * _positive("turn_length", turn_length) / _positive("window_height", window_height)
+            * integral / _positive("current", abs(current)) ** 2)

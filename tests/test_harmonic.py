@@ -581,3 +581,26 @@ def test_frequency_sweep_reuses_the_operators():
     assert hs1.problem.frequency != prob2.frequency
     assert H.winding_loss(hs1, "w") == pytest.approx(H.total_loss(hs1), rel=1e-12)
     assert prob2.timings["assemble"] == 0.0
+
+
+def test_factorisation_guard_and_release(monkeypatch):
+    _, hs = wire_solution(2.0)
+    prob = hs.problem
+    lu = prob.lu
+    # the estimate bounds the factors SuperLU made (L + U entries at 20 bytes,
+    # doubled for its working storage) and grows with the unknowns
+    # (common practice, no source: a memory guard errs on the large side)
+    made = 2.0 * 20.0 * (lu.L.nnz + lu.U.nnz)
+    est = H.factorisation_bytes(len(prob.I), len(prob.conductors))
+    assert made < est < 20 * made
+    assert H.factorisation_bytes(4 * len(prob.I)) > 4 * H.factorisation_bytes(len(prob.I))
+    # released factors: the post-processing stays, a new solve is refused
+    loss = H.winding_loss(hs, prob.windings[0].name)
+    prob.release_factorisation()
+    assert H.winding_loss(hs, prob.windings[0].name) == loss
+    with pytest.raises(H.SolverInputError, match="released"):
+        prob.solve({prob.windings[0].name: 1.0})
+    # a factorisation beyond the limit is refused before it starts, naming the limit
+    monkeypatch.setattr(H, "MAX_FACTOR_BYTES", 1e3)
+    with pytest.raises(H.SolverInputError, match="MAX_FACTOR_BYTES"):
+        prob.at_frequency(2 * prob.frequency)

@@ -111,3 +111,35 @@ def test_round_wire_equivalent_foil():
                               rel=1e-12)
     with pytest.raises(ValueError, match="porosity"):
         WL.round_wire_equivalent_foil(1e-3, 20, 10e-3)
+
+
+def test_mmf_leakage_is_the_classic_two_winding_formula():
+    from magcheck.analytic.leakage import concentric_leakage_inductance
+
+    # two windings as one layer each (N I = 12 A, builds a1, a2, spacing d):
+    # Source: the classic concentric-winding leakage formula
+    # mu0 N^2 MLT / h (a1/3 + a2/3 + d) (docs/references.md section 9),
+    # exact for the 1D window field; tolerance 1e-12 (rounding)
+    N, I, a1, a2, d, h, mlt = 6, 2.0, 1.45e-3, 1.3e-3, 0.2e-3, 18e-3, 0.07
+    L = WL.mmf_leakage_inductance([N * I, -N * I], [a1, a2], [d], h, mlt, I)
+    assert L == pytest.approx(concentric_leakage_inductance(N, mlt, h, a1, a2, d), rel=1e-12)
+    # the same windings split into layers with no space between them: the MMF
+    # is still linear across each build, the integral unchanged (exact)
+    L6 = WL.mmf_leakage_inductance([I] * 6 + [-2 * I] * 3, [a1 / 6] * 6 + [a2 / 3] * 3,
+                                   [0.0] * 5 + [d] + [0.0] * 2, h, mlt, I)
+    assert L6 == pytest.approx(L, rel=1e-12)
+
+
+def test_mmf_leakage_interleaving_quarters_it():
+    # P/2 - S - P/2 against P - S with equal builds per ampere-turn and no
+    # spaces: the peak MMF halves and the field region of each section is
+    # half as wide: the energy, and L, are a quarter of the unsplit one
+    # Source: exact integral of the piecewise-linear MMF (derived; the 1D
+    # window field of Dowell 1966's model); tolerance 1e-12 (rounding)
+    t, I, h, mlt = 0.1e-3, 1.0, 18e-3, 0.07
+    plain = WL.mmf_leakage_inductance([I] * 4 + [-I] * 4, [t] * 8, [0.0] * 7, h, mlt, I)
+    inter = WL.mmf_leakage_inductance([I] * 2 + [-I] * 4 + [I] * 2, [t] * 8, [0.0] * 7, h, mlt, I)
+    assert inter == pytest.approx(plain / 4.0, rel=1e-12)
+    assert list(WL.face_mmfs([2.0, 2.0, -4.0])) == [0.0, 2.0, 4.0, 0.0]
+    with pytest.raises(ValueError):
+        WL.mmf_leakage_inductance([I, -I], [t], [], h, mlt, I)  # one thickness for two layers

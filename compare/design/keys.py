@@ -2,7 +2,9 @@
 
 A key names one value of a case file: ``gaps[0].length``, ``winding.current``,
 ``materials.core.scale_H``. A spec gives its values: a range
-``start:stop:count`` (``winding.current=0:20A:41``) or a list ``v1,v2,...``
+``start:stop:count`` (``winding.current=0:20A:41``), evenly spaced, or
+``start:stop:count:log`` (``winding.ac.frequency=10kHz:1MHz:9:log``), in
+geometric progression (both ends > 0), or a list ``v1,v2,...``
 (``gaps[0].length=0.5mm,0.8mm,1.2mm``); a unit written on one item applies to
 the items written without one, plain numbers are SI.
 
@@ -255,8 +257,14 @@ def resolve_vary(text: str, dim: str) -> tuple[float, ...]:
     """Values of a range ``a:b:n`` or list ``v1,v2,...`` in SI (see module doc)."""
     if ":" in text:
         parts = text.split(":")
+        spacing = "lin"
+        if len(parts) == 4:
+            spacing = parts.pop().strip().lower()
+            if spacing not in ("lin", "log"):
+                raise ValueError(f"spacing '{spacing}' must be lin or log "
+                                 "(start:stop:count:log)")
         if len(parts) != 3:
-            raise ValueError("a range is start:stop:count")
+            raise ValueError("a range is start:stop:count (or start:stop:count:log)")
         try:
             n = int(parts[2])
         except ValueError:
@@ -267,7 +275,16 @@ def resolve_vary(text: str, dim: str) -> tuple[float, ...]:
             raise ValueError(f"count {n} is too large")
         a, b = _to_si(_items(parts[0]) + _items(parts[1]), "dimensionless" if dim == "integer"
                       else dim)
-        vals = np.linspace(a, b, n).tolist() if n > 1 else [a]
+        if spacing == "log":
+            if dim == "integer":
+                raise ValueError("a whole-number key takes no log range")
+            if not (a > 0 and b > 0):
+                raise ValueError("a log range needs start and stop > 0")
+            vals = np.geomspace(a, b, n).tolist() if n > 1 else [a]
+            if n > 1:  # the ends exactly as written
+                vals[0], vals[-1] = a, b
+        else:
+            vals = np.linspace(a, b, n).tolist() if n > 1 else [a]
         if dim == "integer":
             if any(v != round(v) for v in vals):
                 raise ValueError("the range does not give whole numbers")

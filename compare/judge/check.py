@@ -683,19 +683,33 @@ def ac_rows(case: Case, ac: Any) -> list[Row]:
 
     out = []
     f_khz = ac.frequency / 1e3
-    for k in AC_KEYS:
+    several = len(getattr(ac, "windings", ())) > 1
+    # several windings: the set referred to the first winding, then each winding's own
+    per_winding = [k for k in ac.hand if ":" in k and k in ac.fe]
+    for k in (*AC_KEYS, *per_winding):
+        base, _, who = k.partition(":")
         h, f, u = ac.hand[k], ac.fe[k], ac.uncertainty.get(k, math.nan)
         d = _diff_pct(h, f)
-        lim = case.margins.agreement_limit(k, DEFAULT_LIMITS.get(k))
+        lim = case.margins.agreement_limit(base, DEFAULT_LIMITS.get(base))
         scale = ac.fe_3d[k] / f if f else math.nan
-        label = LABELS[k] + ("" if k in ("R_dc",) else f" at {f_khz:.4g} kHz")
-        out.append(Row(k, label, AC_UNITS[k], h, f, u, d, lim, _verdict(d, h, f, u, lim),
+        if who:
+            label = f"{LABELS[base]}, {who}"
+        elif several and base == "L_ac":
+            label = f"{LABELS[base]} (leakage, to the first)"
+        elif several and base in ("R_dc", "R_ac", "R_ac_ratio"):
+            label = f"{LABELS[base]} (all windings)"
+        else:
+            label = LABELS[base]
+        label += "" if base == "R_dc" else f" at {f_khz:.4g} kHz"
+        out.append(Row(k, label, AC_UNITS[base], h, f, u, d, lim, _verdict(d, h, f, u, lim),
                        hand_3d=ac.hand_3d[k], fe_3d=ac.fe_3d[k],
                        fe_3d_uncertainty=u * abs(scale) if math.isfinite(scale) else math.nan))
     for j, (h, f) in enumerate(zip(ac.hand_layers, ac.fe_layers), start=1):
         u = ac.fe_layers_uncertainty[j - 1]
         d = _diff_pct(h, f)
         where = " (next to the limb)" if j == 1 else ""
+        if several and len(ac.layer_windings) >= j:
+            where += f" ({ac.layer_windings[j - 1]})"
         out.append(Row(f"layer_loss:{j}", f"AC loss, layer {j}{where}", "W", h, f,
                        u, d, None, _verdict(d, h, f, u, None)))
     fe3 = {**ac.fe_3d, "R_ac_ratio": ac.fe["R_ac_ratio"]}
@@ -736,6 +750,31 @@ def ac_notes(case: Case, ac: Any) -> tuple[str, ...]:
     c = case.winding.conductor
     if c is None:
         return ()
+    names = getattr(ac, "windings", ())
+    if len(names) > 1:
+        order = " / ".join(names)
+        notes_multi = [
+            f"AC windings: {order} (from the limb outward) at {ac.frequency / 1e3:.4g} kHz, each "
+            "with its own peak current phasor; the hand R_ac is Dowell's 1D layer formula with "
+            "the MMF pattern of the layers (each layer's factor from the MMFs on its faces, "
+            "zero at the limb face), the hand L_ac the leakage inductance of the same 1D window "
+            "field; R_dc, R_ac and R_ac/R_dc of the set are referred to the first winding (1/2 "
+            "I_1^2 R_ac is the whole AC loss), the rows ', NAME' are each winding's own (2 P / "
+            "I^2). The 1D model cannot see the coil side outside the window (no iron beyond "
+            "it), the 2D ends of layers short of the window height, or a gap's fringing field."]
+        return tuple(notes_multi) + tuple(_loss_excess_notes(case, ac))
+    from ..design.coremodel import core_model as _core_model
+
+    if _core_model(case).axisymmetric:
+        notes = [f"AC winding: {c.layers} layers of {c.kind} at {ac.frequency / 1e3:.4g} kHz, "
+                 f"skin depth {ac.skin_depth * 1e3:.3g} mm at {c.temperature:g} degC, h/delta "
+                 f"{ac.delta_ratio:.3g} with porosity {ac.porosity:.3g}; the hand R_ac is "
+                 "Dowell's 1D layer formula (zero MMF at the post's face), which cannot see "
+                 "the post gap's fringing field crossing the winding or the 2D ends of layers "
+                 "short of the window height; the axisymmetric FE solves every turn as a ring "
+                 "about the DC operating point (small ripple, no hysteresis), the hand takes each "
+                 "layer's turns at its mean radius."]
+        return tuple(notes) + tuple(_loss_excess_notes(case, ac))
     notes = [f"AC winding: {c.layers} layers of {c.kind} at {ac.frequency / 1e3:.4g} kHz, skin "
              f"depth {ac.skin_depth * 1e3:.3g} mm at {c.temperature:g} degC, h/delta "
              f"{ac.delta_ratio:.3g} with porosity {ac.porosity:.3g}; the hand R_ac is Dowell's "
@@ -745,17 +784,27 @@ def ac_notes(case: Case, ac: Any) -> tuple[str, ...]:
              "by one about the DC operating point (small ripple, no hysteresis). Hand and FE "
              "are per stack depth; the 3D columns add the end turns at the mean turn length "
              "with the same R_ac/R_dc."]
+    return tuple(notes) + tuple(_loss_excess_notes(case, ac))
+
+
+def _loss_excess_notes(case: Case, ac: Any) -> list[str]:
+    """Where the FE's AC loss is well above Dowell's: how much and where."""
+    notes = []
     dl = [f - h for h, f in zip(ac.hand_layers, ac.fe_layers)]
     if dl and ac.fe["R_ac"] > 1.15 * ac.hand["R_ac"]:
         j = max(range(len(dl)), key=dl.__getitem__)
         extra = 0.5 * ac.current_ac ** 2 * (ac.fe["R_ac"] - ac.hand["R_ac"])
+        from ..design.coremodel import core_model as _core_model
+
+        rz = _core_model(case).axisymmetric
+        form = "" if rz else " (planar)"
+        beside_gap = rz or (case.gaps and any(g.limb == case.winding.limb for g in case.gaps))
         notes.append(f"The FE's AC loss is {ac.fe['R_ac'] / ac.hand['R_ac']:.3g} x Dowell's: "
-                     f"{extra:.3g} W (planar) the hand model misses, most in layer {j + 1} "
+                     f"{extra:.3g} W{form} the hand model misses, most in layer {j + 1} "
                      f"({ac.fe_layers[j]:.3g} W against {ac.hand_layers[j]:.3g} W by hand)"
                      + (": the gap's fringing field crosses the winding beside it."
-                        if case.gaps and any(g.limb == case.winding.limb for g in case.gaps)
-                        else "."))
-    return tuple(notes)
+                        if beside_gap else "."))
+    return notes
 
 
 def depth_factor(case: Case) -> float:

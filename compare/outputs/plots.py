@@ -1005,6 +1005,56 @@ def fig_loss_budget(res: CheckResult):
     return fig
 
 
+def fig_ac_loss(res: CheckResult):
+    """The AC loss density (W/m^3, time average, log scale over 3 decades)
+    in the turns of the AC windings on the finest mesh, the core in grey and
+    the gaps outlined: where the winding loses (next to a gap, the layers
+    at the boundary of primary and secondary); None without AC."""
+    ac = getattr(res, "ac", None)
+    if ac is None:
+        return None
+    hs = getattr(ac, "solution", None)
+    if hs is None or hs.problem.mesh is not res.fe.solution.mesh:
+        return None
+    from magcheck.fem2d.harmonic import loss_density
+
+    rmesh = hs.problem.mesh
+    asm = hs.problem.asm
+    q = loss_density(hs)
+    w = asm.wv_geometric
+    qe = np.sum(q * w, axis=1) / np.sum(w, axis=1)  # element means
+    cond = hs.problem.sigma > 0
+    tri = _tri(res)
+    fig, ax = plt.subplots(figsize=(7.2, 5.6))
+    iron = _iron_mask(res)
+    ax.tripcolor(tri, facecolors=np.where(iron, 1.0, 0.0), cmap="Greys", vmin=0, vmax=4,
+                 edgecolors="none")
+    top = float(qe[cond].max()) if np.any(cond) and qe[cond].max() > 0 else 1.0
+    norm = LogNorm(vmin=top * 1e-3, vmax=top, clip=True)
+    tri_c = Triangulation(tri.x, tri.y, tri.triangles, mask=~cond)  # the conductors only
+    pc = ax.tripcolor(tri_c, facecolors=np.maximum(qe, top * 1e-3), norm=norm, cmap="inferno",
+                      edgecolors="none")
+    fig.colorbar(pc, ax=ax, label="AC loss density (W/m³, time average)")
+    for region in rmesh.layout.regions:
+        if region.kind == "gap":
+            for shape in region.shapes:
+                for loop in _loops(shape):
+                    xs, ys = zip(*loop)
+                    ax.plot(np.array(xs + xs[:1]) * 1e3, np.array(ys + ys[:1]) * 1e3,
+                            color=MARGIN_COLOUR, lw=1.0)
+    idx = np.nonzero(cond)[0]
+    pts = rmesh.mesh.p[:, rmesh.mesh.t[:3, idx].ravel()] * 1e3
+    pad = 0.25 * max(float(np.ptp(pts[0])), float(np.ptp(pts[1])))
+    ax.set_xlim(pts[0].min() - pad, pts[0].max() + pad)
+    ax.set_ylim(pts[1].min() - pad, pts[1].max() + pad)
+    ax.set_aspect("equal")
+    ax.set_xlabel("x (mm)")
+    ax.set_ylabel("y (mm)")
+    ax.set_title(f"{res.case.name}: AC loss density at {ac.frequency / 1e3:.4g} kHz "
+                 f"(finest mesh, gaps outlined)", fontsize=9)
+    return fig
+
+
 FIGURES = {
     "geometry.png": fig_geometry,
     "flux.png": fig_flux,
@@ -1019,6 +1069,7 @@ FIGURES = {
     "motion.png": fig_motion,
     "loss_density.png": fig_loss_density,
     "loss_budget.png": fig_loss_budget,
+    "ac_loss.png": fig_ac_loss,
 }
 
 
@@ -1050,6 +1101,10 @@ _CAPTIONS = {
                         "(3D form), both FE methods at the case's stroke (depth-corrected, with "
                         "their uncertainty; along the stroke too with magcheck check "
                         "--force-curve), and the force limits at their strokes.",
+    "ac_loss.png": "The AC windings' loss density (time average, log scale over three decades "
+                   "below its peak) on the finest mesh: the turns beside an air gap (outlined) "
+                   "lose most where the gap's fringing field crosses them, which Dowell's 1D "
+                   "layer formula cannot see; the core in grey.",
     "breakdown.png": "The hand-vs-FE difference of each quantity after each refinement of the "
                      "hand model (planar forms), in the order of the table above.",
     "magnetizing.png": "The magnetizing current of the voltage-driven winding over one period, "
@@ -1269,7 +1324,46 @@ def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]
         out.append((name, fig))
     if res.points and "force" in res.points[0].hand_planar:
         out.append(("sweep_force.png", fig_sweep_force(res, groups, x_of, x_label)))
+    if res.points and "ac_R_ac_ratio" in res.points[0].hand_planar:
+        out.append(("sweep_ac.png", fig_sweep_ac(res, x_key, x_of, x_label)))
     return out
+
+
+def fig_sweep_ac(res, x_key: str, x_of, x_label: str):
+    """An AC winding along a sweep (compare.models.ac): R_ac/R_dc (Dowell's
+    1D layer formula and the FE) and L_ac (the hand's incremental inductance
+    at the DC current and the FE's Im Z / w), both planar; log axes when the
+    AC frequency is swept."""
+    pts = sorted(res.points, key=x_of)
+    x = [x_of(p) for p in pts]
+    fig, (a1, a2) = plt.subplots(1, 2, figsize=(10, 4.2))
+    for model, get in (("hand", lambda p: p.hand_planar), ("FE", lambda p: p.fe)):
+        if model == "FE" and not res.with_fe:
+            continue
+        style = dict(_SWEEP_STYLE[(model, 0)])
+        a1.plot(x, [get(p).get("ac_R_ac_ratio", math.nan) for p in pts], "-", lw=1.2,
+                label=f"{model} R_ac/R_dc" + (" (Dowell 1D)" if model == "hand" else ""),
+                **style)
+        a2.plot(x, [get(p).get("ac_L_ac", math.nan) * 1e6 for p in pts], "-", lw=1.2,
+                label=f"{model} L_ac" + (" (incremental, DC point)" if model == "hand" else
+                                         " (Im Z / w)"), **style)
+    lim = res.case.margins.resistance_ratio
+    if lim is not None:
+        a1.axhline(lim, color=MARGIN_COLOUR, lw=1.4, ls="--", label=f"R_ac/R_dc limit {lim:g}")
+    log_x = x_key.endswith("frequency") and all(v > 0 for v in x)
+    for ax, ylabel in ((a1, "R_ac / R_dc"), (a2, "L_ac (uH)")):
+        if log_x:
+            ax.set_xscale("log")
+        ax.set_xlabel(x_label)
+        ax.set_ylabel(ylabel)
+        ax.grid(alpha=0.3, which="both")
+        ax.legend(fontsize=7)
+    if log_x:
+        a1.set_yscale("log")
+    hand_form, fe_form = comparison_forms(res.case)
+    fig.suptitle(f"{res.case.name}: AC winding, hand ({hand_form}) and {fe_form}", fontsize=10)
+    fig.tight_layout()
+    return fig
 
 
 def fig_sweep_force(res, groups, x_of, x_label):

@@ -15,7 +15,7 @@ from typing import Any
 
 from .output import write_produced
 
-__all__ = ["field_solution", "write_vtu"]
+__all__ = ["field_solution", "write_vtu", "write_ac_vtu"]
 
 
 def field_solution(result: Any) -> Any:
@@ -46,4 +46,22 @@ def write_vtu(result: Any, path: str | Path) -> Path | None:
     from magcheck.fem2d.export import vtu_mesh, write_vtu_file
 
     mesh = vtu_mesh(field_solution(result))
+    return write_produced(path, lambda tmp: write_vtu_file(mesh, tmp), ".vtu")
+
+
+def write_ac_vtu(result: Any, path: str | Path) -> Path | None:
+    """Write the time-harmonic field of a check's AC windings (the finest
+    mesh's, ``CheckResult.ac.solution``) as VTU: point data ``u_re``,
+    ``u_im`` (the potential's phasor), cell data ``Jmag`` (|J| peak, A/m^2),
+    ``loss_density`` (W/m^3, time average), ``Bmag`` (|B| peak, T) and
+    ``region`` (fem2d.harmonic.vtu_mesh)."""
+    from magcheck.fem2d.harmonic import vtu_mesh
+    from magcheck.fem2d.export import write_vtu_file
+
+    ac = getattr(result, "ac", None)
+    hs = getattr(ac, "solution", None)
+    if hs is None:
+        raise TypeError("write_ac_vtu: the result has no AC solution (a case with "
+                        "[winding.ac], checked with the FE)")
+    mesh = vtu_mesh(hs)
     return write_produced(path, lambda tmp: write_vtu_file(mesh, tmp), ".vtu")

@@ -149,12 +149,32 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     gaps = tuple(_read_gap(t, family, limbs) for t in root.tables("gaps"))
     _check_gap_overlap(gaps)
     windings = _read_windings(root, family, limbs)
-    if len(windings) > 1:
+    if len(windings) > 1 and any(wd.conductor is not None or wd.ac is not None
+                                 for wd in windings):
+        # several windings drawn turn by turn (a transformer, interleaved or
+        # not): every one with its conductor and AC current, on one limb, at
+        # one frequency (compare.models.ac)
         for k, wd in enumerate(windings):
-            if wd.conductor is not None or wd.ac is not None:
-                raise CaseError(f"windings[{k}].{'conductor' if wd.conductor else 'ac'}",
-                                wd.name, "turns drawn one by one and an AC current are "
-                                "supported on a case of one winding for now")
+            for part in ("conductor", "ac"):
+                if getattr(wd, part) is None:
+                    raise CaseError(f"windings[{k}].{part}", None,
+                                    "missing: with several windings drawn turn by turn, give "
+                                    "every winding [windings.conductor] and [windings.ac] "
+                                    "(a winding's AC current is its peak phasor, negative "
+                                    "for the opposite phase: -N1/N2 I1 for a loaded secondary)")
+            if wd.limb != windings[0].limb:
+                raise CaseError(f"windings[{k}].limb", wd.limb,
+                                f"windings drawn turn by turn share one limb "
+                                f"('{windings[0].limb}') for now")
+            if wd.ac is not None and math.isnan(wd.ac.frequency) and windings[0].ac is not None:
+                wd = dataclasses.replace(wd, ac=dataclasses.replace(
+                    wd.ac, frequency=windings[0].ac.frequency))
+                windings = windings[:k] + (wd,) + windings[k + 1:]
+            if wd.ac is not None and windings[0].ac is not None and \
+                    wd.ac.frequency != windings[0].ac.frequency:
+                raise CaseError(f"windings[{k}].ac.frequency", wd.ac.frequency,
+                                f"differs from the first winding's {windings[0].ac.frequency:g} "
+                                "Hz: the AC windings share one frequency")
     mat_t = root.table("materials")
     core_loss = _read_core_loss(mat_t, base_dir)
     materials = _read_materials(mat_t, base_dir, family, core)
@@ -599,8 +619,16 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
             raise CaseError(t.key("ac"), t.raw("ac"), "the AC resistance needs the conductor: "
                             "give [winding.conductor] (foil or round wire) with it")
         at = t.table("ac")
-        ac = ACSpec(at.quantity("frequency", "frequency"),
-                    at.quantity("current", "current"))
+        i_ac = at.quantity("current", "current", positive=False)
+        if i_ac == 0.0:
+            raise CaseError(at.key("current"), at.raw("current"), "must not be zero (the "
+                            "peak AC current; negative for the opposite phase)")
+        # a later winding may leave its frequency to the first's (read_case):
+        # a frequency sweep then varies winding.ac.frequency alone
+        f_ac = at.quantity("frequency", "frequency", None)
+        if f_ac is None and t.path in ("winding", "windings[0]"):
+            at.quantity("frequency", "frequency")  # the missing-key error
+        ac = ACSpec(math.nan if f_ac is None else f_ac, i_ac)
         at.finish()
     t.finish()
     return WindingSpec(limb_name, turns, current, thickness, length, clearance, name, inner,

@@ -37,7 +37,7 @@ from magcheck.analytic.bh import scale_law  # noqa: F401 (re-exported)
 
 from ..design.case import DEFAULT_DROPS, Case
 from ..errors import CaseError, RunError
-from ..models.acmesh import has_ac
+from ..models.acmesh import AC_KEY_PREFIX, ac_frequency, has_ac, with_ac_frequency
 from ..models.hand import FORCE_KEYS, HAND_KEYS, run_hand
 from ..design.keys import CURRENT_KEY, VarySpec, key_dimension, parse_key, parse_vary, resolve_vary
 from ..reading.variants import CaseSource, case_source, make_case
@@ -189,6 +189,9 @@ class BlockTask:
     cases: tuple[Case, ...]
     with_fe: bool = True
     predictor: str = "tangent"
+    mesh_case: Case | None = None
+    """The case the block's mesh is made from (None: its first point's): an
+    AC chain's point at its highest frequency (models.acmesh.with_ac_frequency)."""
 
 
 def _block_linear_solver() -> Any:
@@ -210,6 +213,11 @@ def _only_current_changes(a: dict, b: dict) -> bool:
     return all(a.get(k) == b.get(k) for k in set(a) | set(b) if k != CURRENT_KEY)
 
 
+def _only_ac_changes(a: dict, b: dict) -> bool:
+    """Only ``winding.ac.*`` keys differ: the DC operating point is the same."""
+    return all(a.get(k) == b.get(k) for k in set(a) | set(b) if not k.startswith(AC_KEY_PREFIX))
+
+
 def run_block(task: BlockTask) -> tuple[PointResult, ...]:
     """Solve the points of one block in order (runs in a worker process).
 
@@ -227,6 +235,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
     from ..models.fe import _with_virtual_work, mesh_case, solve_case_full
 
     mesh = None
+    ac_state: tuple = ()  # (settings, FESolve, HarmonicProblem) of the last AC point
     # One linear-solver factory for the whole block: the factorisation (or
     # AMG hierarchy) built for one tangent preconditions the next points' too
     # (same mesh, same sparsity) until CG slows down; the CG operator is
@@ -286,10 +295,16 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
                 start = "secant"
         try:
             if mesh is None:
-                mesh = mesh_case(case)
+                mesh = mesh_case(task.mesh_case or case)
+            if ac_state and _only_ac_changes(ac_state[0], settings):
+                # the same DC state (only the AC frequency or ripple moved)
+                fs, start = ac_state[1], "same DC state"
+            else:
+                fs = None
             try:
-                with threadpool_limits(limits=1):
-                    fs = solve_case_full(case, mesh, A0=A0, linear_solver=linear)
+                if fs is None:
+                    with threadpool_limits(limits=1):
+                        fs = solve_case_full(case, mesh, A0=A0, linear_solver=linear)
             except RunError:
                 if A0 is None:
                     raise
@@ -319,10 +334,13 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
         except RunError as exc:  # another model's hand solve failed: the case's model stays
             log.info("point %d: depth-model ranking failed (%s); case's model kept", idx, exc)
         if has_ac(case):  # an AC winding: its harmonic solve on this point's mesh and DC state
-            from ..models.ac import fe_ac
+            from ..models.ac import ac_problem, fe_ac
 
-            q = dataclasses.replace(q, values={**q.values, **{
-                f"ac_{k}": v for k, v in fe_ac(case, sol)["values"].items()}})
+            prob = ac_problem(case, sol, reuse=ac_state[2] if ac_state else None)
+            ac_state = (settings, fs, prob)
+            with threadpool_limits(limits=1):
+                acv = fe_ac(case, sol, problem=prob)["values"]
+            q = dataclasses.replace(q, values={**q.values, **{f"ac_{k}": v for k, v in acv.items()}})
         if case.loss is not None and case.core_loss is not None:  # the FE core loss, this mesh
             from ..models.loss import fe_core_loss
 
@@ -371,15 +389,22 @@ def plan_sweep(src: CaseSource, specs: Sequence[VarySpec], *, with_fe: bool = Tr
         from ..models.fe import geometry_key
 
         for p in points:
-            chains.setdefault(repr(geometry_key(p[2])), []).append(p)
+            # an AC case's mesh key is taken without its skin-depth band: the
+            # points of a frequency sweep share the chain's mesh, made at its
+            # highest frequency
+            key = with_ac_frequency(p[2], 0.0) if has_ac(p[2]) else p[2]
+            chains.setdefault(repr(geometry_key(key)), []).append(p)
     else:
         chains["hand"] = points
     tasks = []
     for chain in chains.values():
+        top = max(chain, key=lambda p: ac_frequency(p[2]))[2]
+        mesh_from = top if with_fe and has_ac(top) else None
         for k in range(0, len(chain), block):
             part = chain[k:k + block]
             tasks.append(BlockTask(tuple(p[0] for p in part), tuple(p[1] for p in part),
-                                   tuple(p[2] for p in part), with_fe, predictor))
+                                   tuple(p[2] for p in part), with_fe, predictor,
+                                   mesh_case=mesh_from))
     return tasks
 
 

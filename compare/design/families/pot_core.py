@@ -50,7 +50,7 @@ from magcheck.fem2d.layout import Rect, Region
 
 from ..coremodel import CircuitGap, CircuitSegment, CoilModel, CoreModel, GapLine, HandCircuit
 from ...errors import CaseError
-from ..geometry import Limb
+from ..geometry import Limb, turn_rects
 from ..casekeys import Key, lengths
 from ..reader import TableReader
 from .base import INF, Segment, Window, coil_space_leakage, radial_run
@@ -88,6 +88,10 @@ class PotCore:
     schema too)."""
     core_keys: tuple[str, ...] = ("radius", "wall", "post_radius", "hole_radius", "base",
                                   "height", "gap")
+    turn_by_turn: bool = True
+    """A winding may be drawn turn by turn ([winding.conductor]): each turn a
+    ring region of its own beside the post (compare.design.geometry.turn_rects,
+    the go side only: an r-z turn is the whole ring)."""
     parts: tuple[str, ...] = ()
     core_spec: dict[str, Key] = lengths(core_keys)
     """The ``[core]`` keys (compare.design.casekeys): the dimensions."""
@@ -164,9 +168,20 @@ class PotCore:
         regions = [Region("core", tuple(self.core_rects(c)), "core", kind="core"),
                    Region("gap", (Rect(r0, lo, r1, hi),), "air", kind="gap")]
         coils = []
+        limb = self.limbs(c)["post"]
         for k, w in enumerate(case.windings):
             x0 = r1 + w.inner + w.clearance
             name = "coil" if k == 0 else f"coil{k}"
+            if w.conductor is not None:  # the turns one by one: solid rings in series
+                sides, layers = [], []
+                for layer, turn, rect in turn_rects(limb, w)[0]:
+                    tname = f"{name}L{layer}T{turn}"
+                    regions.append(Region(tname, (rect,), "air", kind="coil"))
+                    sides.append((tname, 1))
+                    layers.append((tname, layer))
+                coils.append(CoilModel(tuple(sides), w.turns * w.conductor.area,
+                                       turn_regions=True, layers=tuple(layers)))
+                continue
             regions.append(Region(name, (Rect(x0, c.mid - 0.5 * w.length, x0 + w.thickness,
                                               c.mid + 0.5 * w.length),), "air", kind="coil"))
             coils.append(CoilModel(((name, 1),), w.thickness * w.length))

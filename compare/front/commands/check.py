@@ -11,7 +11,7 @@ from ...outputs.output import (CAUTION, STDOUT_HELP, atomic_write_text, can_prin
 from ...outputs.serialize import check_csv, check_json, check_lines, check_markdown
 
 OUTPUTS = {"--json": "file", "--csv": "file", "--markdown": "file", "--report": "folder",
-           "--vtu": "file", "--dxf": "file"}
+           "--vtu": "file", "--dxf": "file", "--ac-vtu": "file"}
 """Output options and what each writes (checked before the run)."""
 
 
@@ -29,6 +29,10 @@ def add_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--markdown", metavar="FILE", help=f"write the comparison as Markdown ({STDOUT_HELP})")
     p.add_argument("--report", metavar="DIR", help="write an HTML report with figures to DIR")
     p.add_argument("--vtu", metavar="FILE", help=f"write the FE fields as VTU ({STDOUT_HELP})")
+    p.add_argument("--ac-vtu", metavar="FILE",
+                   help="an AC winding's case: write the time-harmonic fields of the finest mesh "
+                        "as VTU (|J| peak, loss density, |B| peak, Re/Im of the potential; "
+                        f"{STDOUT_HELP})")
     p.add_argument("--dxf", metavar="FILE",
                    help="write the built geometry as a DXF drawing before solving: every region "
                         "of the FE model (core parts, gaps, coil sides, magnets) as closed "
@@ -92,6 +96,11 @@ def run(args: argparse.Namespace) -> int:
         from dataclasses import replace
 
         case = replace(case, fe=replace(case.fe, allow_large=True))
+    if args.ac_vtu and (case.winding.ac is None or case.winding.conductor is None):
+        from ...errors import CaseError
+
+        raise CaseError("--ac-vtu", args.ac_vtu, "the case has no AC winding "
+                        "([winding.conductor] and [winding.ac])")
     if args.force_curve and not args.report:
         from ...errors import CaseError
 
@@ -108,7 +117,7 @@ def run(args: argparse.Namespace) -> int:
         from dataclasses import replace as _replace
 
         res = _replace(res, force_curve=curve)
-    out = text_stream(args.json, args.csv, args.markdown, args.vtu, args.dxf)
+    out = text_stream(args.json, args.csv, args.markdown, args.vtu, args.dxf, args.ac_vtu)
     print_check(res, out, args.agreement, wide=args.wide, breakdown=args.breakdown)
     if args.json:
         write_json(args.json, check_json(res, args.agreement))
@@ -120,6 +129,10 @@ def run(args: argparse.Namespace) -> int:
         from ...outputs.vtu import write_vtu
 
         write_vtu(res, args.vtu)
+    if args.ac_vtu:
+        from ...outputs.vtu import write_ac_vtu
+
+        write_ac_vtu(res, args.ac_vtu)
     if args.report:
         from ...outputs.report import write_report
 
@@ -136,7 +149,7 @@ def _write_geometry(args: argparse.Namespace, case) -> bool:
 
         if not args.dxf:
             raise CaseError("--geometry-only", None, "writes the --dxf drawing: give --dxf FILE")
-        other = [o for o in OUTPUTS if o != "--dxf" and getattr(args, o[2:])]
+        other = [o for o in OUTPUTS if o != "--dxf" and getattr(args, o[2:].replace("-", "_"))]
         if other:
             raise CaseError("--geometry-only", None, f"solves nothing, so {other[0]} has "
                                                      "nothing to write: drop one of them")

@@ -89,6 +89,9 @@ def print_sweep(res: SweepResult, margins, sat_table, out) -> None:
     force = bool(res.points) and "force" in res.points[0].hand_planar  # a moving part
     if force:
         cols += ["hand F", "pull F"]
+    ac = bool(res.points) and "ac_R_ac_ratio" in res.points[0].hand_planar  # an AC winding
+    if ac:
+        cols += ["hand R_ac/R_dc"] + (["FE R_ac/R_dc", "FE L_ac"] if res.with_fe else [])
     if res.with_fe:
         cols += ["FE L", "FE dL/dI"] + (["FE F", "FE F (VW)"] if force else []) + [
             "FE peak B", "Newton", "start"]
@@ -101,6 +104,11 @@ def print_sweep(res: SweepResult, margins, sat_table, out) -> None:
         if force:
             r += [_fmt(p.hand_planar.get("force", math.nan), "N"),
                   _fmt(p.hand_planar.get("force_pull", math.nan), "N")]
+        if ac:
+            r += [f"{p.hand_planar.get('ac_R_ac_ratio', math.nan):.4g}"]
+            if res.with_fe:
+                r += [f"{p.fe.get('ac_R_ac_ratio', math.nan):.4g}",
+                      _fmt(p.fe.get("ac_L_ac", math.nan), "H")]
         if res.with_fe:
             r += [_fmt(p.fe.get("inductance", math.nan), "H"),
                   _fmt(p.fe.get("incremental_inductance", math.nan), "H")]
