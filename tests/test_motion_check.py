@@ -24,6 +24,7 @@ from magcheck.compare.reading.casefile import case_from_dict
 
 ROOT = Path(__file__).resolve().parents[1]
 RELAY = ROOT / "cases" / "demo_clapper_relay.toml"
+MAGNET = ROOT / "cases" / "demo_holding_magnet.toml"
 
 # an invented ideal-gap actuator: K = N^2 mu0 A (H m), closed gap 0.2 mm, travel 2 mm
 K, GC, T = 2.0e-5, 0.2e-3, 2.0e-3
@@ -237,6 +238,51 @@ def test_fe_map_pull_in_against_single_fe_solves():
     # saturation, so a relative force error e moves the current by about e / 2
     assert abs(i_map / i_direct - 1) <= 0.5 * res.interpolation["force"]
     assert res.maps.fe_solves == spec.map_strokes * spec.map_currents
+
+
+@pytest.mark.slow
+def test_fe_map_release_current_against_single_fe_solves():
+    """The holding magnet's release current found on the FE map (magnitude;
+    the coil reverse, opposing the magnet), against a direct search with
+    single FE solves at the closed gap (regula falsi on F(i) - F_load), within
+    the map's stated interpolation error moved into the current through the
+    force's slope dF/di there."""
+    from magcheck.compare.design.case import with_current
+    from magcheck.compare.models.fe import REFINE, mesh_case, solve_case
+    from magcheck.compare.models.motion import case_at, run_motion
+    from magcheck.compare.reading.variants import case_source
+
+    case = case_source(MAGNET)[1]
+    res = run_motion(case, axisymmetric=True)
+    i_map = -res.models["fe"].values["release_current"]  # signed: reverse is negative
+    spec = case.motion
+    at = case_at(case, spec.closed_gap)
+    mesh = mesh_case(at, refine=1.0 / REFINE)  # the map's own mesh size
+    load = float(spec.load.force(spec.travel))
+
+    def margin(i):
+        q, _, _ = solve_case(with_current(at, i), mesh)
+        return q.force_values["force"] - load
+
+    a, b = 1.2 * i_map, 0.8 * i_map  # a: more reverse, released; b: still holding
+    fa, fb = margin(a), margin(b)
+    assert fa < 0 < fb
+    slope = (fb - fa) / (b - a)
+    assert slope > 0  # the hold weakens as the current goes reverse (above the minimum)
+    for _ in range(4):  # regula falsi on a smooth margin
+        c = b - fb * (b - a) / (fb - fa)
+        fc = margin(c)
+        a, fa, b, fb = (c, fc, b, fb) if fc < 0 else (a, fa, c, fc)
+    i_direct = c
+    # Source: the map's own leave-one-out error (an upper estimate), a relative
+    # force error e at the load moving the crossing by e F_load / |dF/di|
+    tol = res.interpolation["force"] * load / abs(slope)
+    print(f"release current: map {i_map:.6g} A, direct {i_direct:.6g} A, tolerance {tol:.3g} A")
+    assert abs(i_map - i_direct) <= tol
+    assert res.maps.fe_solves == spec.map_strokes * (spec.map_currents + 1)
+    # the map spans reverse currents only, down to 1.5 x the release supply's current
+    assert res.maps.currents[0] == pytest.approx(-1.5 * spec.rated_current)
+    assert res.maps.currents[-1] == 0.0
 
 
 def _ideal_gap_result():
