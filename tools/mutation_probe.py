@@ -843,6 +843,14 @@ MUTATIONS: tuple[Mutation, ...] = (
       "worst_i = max(worst_i, 0.0 * abs(got - table[k, j]) / scale)",
       "the map's interpolation error along the current left out",
       ("tests/test_motion_check.py",)),
+    M("motion-release-aiding-side", "analytic/motion.py",
+      "grid = np.linspace(0.0, i_min, samples)", "grid = np.linspace(0.0, -i_min, samples)",
+      "the holding magnet's release searched with the coil aiding the magnet, not opposing",
+      ("tests/test_motion.py",)),
+    M("motion-release-open-stop", "analytic/motion.py",
+      "return force(c, s) - f_load", "return force(c, 0.0) - f_load",
+      "the release current's holding force taken at the open stop, not the closed gap",
+      ("tests/test_motion.py",)),
 )
 
 
