@@ -274,9 +274,11 @@ def test_fe_map_release_current_against_single_fe_solves():
         fc = margin(c)
         a, fa, b, fb = (c, fc, b, fb) if fc < 0 else (a, fa, c, fc)
     i_direct = c
-    # Source: the map's own leave-one-out error (an upper estimate), a relative
-    # force error e at the load moving the crossing by e F_load / |dF/di|
-    tol = res.interpolation["force"] * load / abs(slope)
+    # Source: the map's own leave-one-out error (an upper estimate) carried to the
+    # current through dF/di (the rows' uncertainty, interpolation_uncertainty);
+    # checked against this test's own secant slope and the load: the same order
+    tol = res.uncertainty["release_current"]
+    assert tol >= res.interpolation["force"] * load / abs(slope) * 0.8
     print(f"release current: map {i_map:.6g} A, direct {i_direct:.6g} A, tolerance {tol:.3g} A")
     assert abs(i_map - i_direct) <= tol
     assert res.maps.fe_solves == spec.map_strokes * (spec.map_currents + 1)
@@ -357,3 +359,51 @@ def test_energy_bookkeeping_of_the_operate_on_a_map():
     # tolerance 1e-6 of the energy in: the integrator's rtol 1e-8 over the motion
     assert op.e_in == pytest.approx(op.e_copper + w_field + op.w_mech, rel=1e-6)
     assert op.w_mech > 0.01 * op.e_in
+
+
+def test_interpolation_error_carried_to_the_limits_through_the_force_slope():
+    """interpolation_uncertainty on the ideal-gap map: the pull-in and
+    drop-out currents' uncertainty is the force's error over dF/di."""
+    from magcheck.compare.models.motion import interpolation_uncertainty
+
+    spec, res = _ideal_gap_result()
+    mm = res.models["fe"]
+    e_i, e_s, e_l = 0.02, 0.01, 0.03
+    err = {"force": e_i, "force_current": e_i, "force_stroke": e_s, "linkage": e_l}
+    u = interpolation_uncertainty(res.maps.grid_map("fe"), spec, mm, err)
+    top = float(res.maps.currents[-1])
+    for key, s in (("pull_in_current", mm.pull_in_stroke), ("drop_out_current", T)):
+        i = mm.values[key]
+        g = GC + T - s
+        # Source: exact closed forms of the ideal gap, F = i^2 K / (2 g^2), dF/di = i K / g^2;
+        # the force's error e_i over the stroke's largest grid force (at the top current)
+        # or e_s of the load (F(i) there): the larger, over the slope. Tolerance: the
+        # central difference's and the map's round-off (the map is exact for this gap)
+        d_f = max(e_i * ACT.force(top, s), e_s * ACT.force(i, s))
+        assert u[key] == pytest.approx(d_f / (i * K / g**2), rel=1e-6)
+        assert u[key.replace("current", "voltage")] == pytest.approx(u[key] * 30.0, rel=1e-12)
+    v = mm.values
+    assert u["operate_time"] == pytest.approx((e_l + e_i / 2) * v["operate_time"], rel=1e-12)
+    assert math.isnan(u["release_current"])
+
+
+def test_motion_rows_judge_with_the_interpolation_uncertainty():
+    """A motion row beyond its limit but within the map's uncertainty is
+    inconclusive, as a three-mesh uncertainty makes it; beyond both, FAIL."""
+    import dataclasses
+
+    from magcheck.compare.judge.check import motion_rows
+    from magcheck.compare.models.motion import ModelMotion
+
+    spec, res = _ideal_gap_result()
+    fe = res.models["fe"]
+    hand_v = dict(fe.values, pull_in_current=fe.values["pull_in_current"] * 1.15)
+    models = dict(res.models, hand=dataclasses.replace(fe, model="hand", values=hand_v))
+    case = type("C", (), {"motion": spec, "margins": type("M", (), {
+        "motion": (), "agreement_limit": staticmethod(lambda k, d: d)})()})()
+    for u_rel, verdict in ((0.2, "inconclusive"), (0.05, "FAIL")):
+        unc = {"pull_in_current": u_rel * fe.values["pull_in_current"]}
+        mo = dataclasses.replace(res, models=models, uncertainty=unc)
+        row = {r.key: r for r in motion_rows(case, mo)}["motion:pull_in_current"]
+        assert row.uncertainty == unc["pull_in_current"]
+        assert row.verdict == verdict, (u_rel, row)

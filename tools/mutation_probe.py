@@ -851,6 +851,16 @@ MUTATIONS: tuple[Mutation, ...] = (
       "return force(c, s) - f_load", "return force(c, 0.0) - f_load",
       "the release current's holding force taken at the open stop, not the closed gap",
       ("tests/test_motion.py",)),
+    M("motion-unc-not-through-slope", "compare/models/motion.py",
+      "return d_f / abs(slope) if slope != 0.0 else math.nan",
+      "return d_f if slope != 0.0 else math.nan",
+      "the map's force error taken as the current's uncertainty, not carried through dF/di",
+      ("tests/test_motion_check.py",)),
+    M("motion-unc-not-judged", "compare/judge/check.py",
+      "verdict = (_verdict(d, h, f, u, lim) if both",
+      "verdict = (_verdict(d, h, f, math.nan, lim) if both",
+      "the motion rows judged without the map's interpolation uncertainty",
+      ("tests/test_motion_check.py",)),
 )
 
 

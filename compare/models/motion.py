@@ -57,7 +57,7 @@ from ..errors import CaseError, RunError
 
 __all__ = ["CURRENT_TOP", "MODELS", "MotionMaps", "ModelMotion", "MotionResult", "map_strokes",
            "map_currents", "hand_maps", "fe_point", "fe_maps", "leave_one_out_error", "model_motion",
-           "run_motion", "case_at", "KEYS", "UNITS", "MAP_TOL"]
+           "run_motion", "case_at", "KEYS", "UNITS", "MAP_TOL", "interpolation_uncertainty"]
 
 CURRENT_TOP = 1.5
 """The map's top current over the rated current: room for the pull-in of a
@@ -408,6 +408,54 @@ def _magnet_limits(name: str, gm: GridMap, spec: Any) -> ModelMotion:
     return ModelMotion(name, v, pull_s, math.nan, None, None, tuple(notes))
 
 
+def interpolation_uncertainty(gm: GridMap, spec: Any, mm: ModelMotion,
+                              err: dict[str, float]) -> dict[str, float]:
+    """The map's interpolation error as an uncertainty (SI, the unit of each
+    value) on a model's figures ``mm`` from its map ``gm``; ``err`` the
+    fractions of :func:`leave_one_out_error` (e_F = ``err["force"]``, e_L =
+    ``err["linkage"]``, each the larger of its two directions; e_Fi, e_Fs
+    the force's along the current and the stroke).
+
+    The rule, first order in the map's error:
+    - a static current (pull-in, drop-out, release) sits where F(i, s*) meets
+      the load F_load(s*); the force there is uncertain by dF = max(e_Fi
+      max_k |F(i_k, s*)|, e_Fs F_load(s*)) (each fraction on the scale it was
+      measured against: the current's over the stroke's largest force on the
+      grid, the stroke's over the value), which moves the crossing by
+      u_i = dF / |dF/di| (the slope from the map, a central difference at the
+      limit; s* the pull-in's tightest stroke, the closed stop for drop-out
+      and release); its voltage by u_i R;
+    - the load margin: e_F F(i_rated, s_margin);
+    - the operate and release times, the current dip and the impact speed:
+      (e_L + e_F / 2) |value| (the electrical delay scales with lambda, the
+      flight time as F^(-1/2));
+    NaN where the value is."""
+    e_f, e_l = err.get("force", math.nan), err.get("linkage", math.nan)
+    v, r, load = mm.values, spec.coil_resistance, spec.load
+    out = {k: math.nan for k in KEYS}
+    di = 1e-4 * max(abs(float(gm.currents[0])), abs(float(gm.currents[-1])))
+
+    e_fi, e_fs = err.get("force_current", e_f), err.get("force_stroke", e_f)
+
+    def through_slope(i: float, s: float) -> float:
+        slope = (gm.force(i + di, s) - gm.force(i - di, s)) / (2.0 * di)
+        row = max(abs(gm.force(float(c), s)) for c in gm.currents)
+        d_f = max(e_fi * row, e_fs * abs(float(load.force(s))))
+        return d_f / abs(slope) if slope != 0.0 else math.nan
+
+    for cur, volt, sign, s in (("pull_in_current", "pull_in_voltage", 1.0, mm.pull_in_stroke),
+                               ("drop_out_current", "drop_out_voltage", 1.0, spec.travel),
+                               ("release_current", "release_voltage", -1.0, spec.travel)):
+        if math.isfinite(v[cur]) and math.isfinite(s):
+            out[cur] = through_slope(sign * v[cur], s)
+            out[volt] = out[cur] * r
+    if math.isfinite(v["load_margin"]) and math.isfinite(mm.margin_stroke):
+        out["load_margin"] = e_f * abs(gm.force(spec.rated_current, mm.margin_stroke))
+    for k in ("operate_time", "release_time", "current_dip", "impact_speed"):
+        out[k] = (e_l + 0.5 * e_f) * abs(v[k])
+    return out
+
+
 @dataclass(frozen=True)
 class MotionResult:
     """Both models' limits and motions on their maps, and the FE map's cost
@@ -420,6 +468,9 @@ class MotionResult:
     rated_current: float
     resistance: float
     seconds: float
+    uncertainty: dict[str, float] = field(default_factory=dict)
+    """The FE's figures' uncertainty from its map's interpolation error (SI,
+    :func:`interpolation_uncertainty`), the rows' uncertainty column."""
 
     def value(self, model: str, key: str) -> float:
         m = self.models.get(model)
@@ -436,7 +487,8 @@ class MotionResult:
             "map": {"strokes": self.maps.strokes.tolist(), "currents": self.maps.currents.tolist(),
                     "fe_solves": self.maps.fe_solves, "fe_seconds": self.maps.fe_seconds,
                     "hand_seconds": self.maps.hand_seconds,
-                    "interpolation_error": dict(self.interpolation)},
+                    "interpolation_error": dict(self.interpolation),
+                    "interpolation_uncertainty": dict(self.uncertainty)},
             "seconds": self.seconds,
         }
 
@@ -474,5 +526,6 @@ def run_motion(case: Case, axisymmetric: bool) -> MotionResult:
         except MotionError as exc:
             raise RunError(f"motion ({name} map): {exc}") from None
     err = leave_one_out_error(strokes, currents, f, lam, spec.open_gap, square)
+    unc = interpolation_uncertainty(maps.grid_map("fe"), spec, models["fe"], err)
     return MotionResult(maps, models, err, spec.rated_current, spec.coil_resistance,
-                        time.perf_counter() - t0)
+                        time.perf_counter() - t0, unc)
