@@ -74,6 +74,7 @@ def test_gravity_and_keeper_load_add_to_the_load_line():
     (lambda m: m.update(voltage_table={"time": [0.0, 0.0], "voltage": [1.0, 2.0]}),
      "motion.voltage_table.time"),
     (lambda m: m.update(map_strokes=2), "motion.map_strokes"),
+    (lambda m: (m.pop("mass"), m.update(gravity="opening")), "motion.gravity"),
 ])
 def test_bad_motion_values_are_refused_naming_the_key(edit, key):
     data = _relay_tables()
@@ -81,6 +82,22 @@ def test_bad_motion_values_are_refused_naming_the_key(edit, key):
     with pytest.raises(CaseError) as err:
         case_from_dict(data)
     assert err.value.key == key
+
+
+def test_motion_without_mass_gives_the_static_limits_only():
+    from magcheck.compare.models.motion import model_motion
+
+    data = _relay_tables()
+    del data["motion"]["mass"]
+    spec = case_from_dict(data).motion
+    assert spec.mass is None
+    import dataclasses
+
+    spec0, res = _ideal_gap_result()
+    spec = dataclasses.replace(spec0, mass=None)
+    mm = model_motion("fe", res.maps.grid_map("fe"), spec)
+    assert mm.values["pull_in_current"] == res.models["fe"].values["pull_in_current"]
+    assert mm.operate is None and mm.release is None and math.isnan(mm.values["operate_time"])
 
 
 def test_motion_margin_without_a_motion_table_is_refused():
