@@ -503,6 +503,14 @@ def run_motion(case: Case, axisymmetric: bool) -> MotionResult:
     from ..design.coremodel import core_model
 
     magnets = bool(core_model(case).magnets)
+    if magnets:
+        from .hand import magnet_sense
+
+        if magnet_sense(case) < 0:  # the map's lambda would fall with i (GridMap refuses)
+            raise CaseError("motion", "[motion]", "the case's magnet drives its flux against "
+                            "a positive winding current; the motion's map takes the release "
+                            "(reverse) current negative: not supported yet for this "
+                            "orientation")
     strokes, currents = map_strokes(spec), map_currents(spec, magnets)
     cases = [case_at(case, spec.gap(s)) for s in strokes]
     th = time.perf_counter()
