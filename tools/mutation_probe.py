@@ -861,6 +861,11 @@ MUTATIONS: tuple[Mutation, ...] = (
       "verdict = (_verdict(d, h, f, math.nan, lim) if both",
       "the motion rows judged without the map's interpolation uncertainty",
       ("tests/test_motion_check.py",)),
+    M("motion-magnet-map-aiding", "compare/models/motion.py",
+      "k = np.arange(-n, 1) if magnets else np.arange(n + 1)",
+      "k = np.arange(n + 1)",
+      "a magnet's map over the aiding currents only (its release lies at reverse currents)",
+      ("tests/test_motion_check.py",)),
 )
 
 
