@@ -48,6 +48,7 @@ from .winding_loss import COPPER
 
 __all__ = ["MotionError", "Spring", "series_springs", "Load", "ForceMap", "GridMap", "pchip_slopes", "GapActuator",
            "coil_resistance", "StaticLimit", "Margin", "load_margin", "pull_in_current", "drop_out_current",
+           "release_current",
            "limit_voltage", "Motion", "simulate", "operate", "release"]
 
 Surface = Callable[[float, float], float]  # f(i in A, s in m)
@@ -504,6 +505,40 @@ def drop_out_current(force: Surface, load: Load, i_max: float) -> StaticLimit:
     s = load.travel
     i = _bracket_root(lambda c: force(c, s) - float(load.force(s)), i_max, "drop-out")
     return StaticLimit(i, s)
+
+
+def release_current(force: Surface, load: Load, i_min: float, samples: int = 201) -> StaticLimit:
+    """A holding magnet's release current (A, negative: the coil opposing
+    the magnet): the first current from zero downward at which the holding
+    force at the closed stop, F(i, travel), falls to the load there.
+
+    With a magnet F(i) is not even in i: it falls as the reverse current
+    cancels the magnet's flux, has its least value where the gap flux is
+    zero, and rises again as the coil overpowers the magnet (the flux
+    reversed), crossing the load a second time; that second crossing is no
+    release (the keeper is held again) and is not returned.  Sampled at
+    ``samples`` currents from 0 to ``i_min`` (< 0) for the first sign change of
+    F - F_load, then brentq inside it.  Raises MotionError when the load does
+    not hold at zero current or no crossing lies above ``i_min``."""
+    if not (math.isfinite(i_min) and i_min < 0.0):
+        raise MotionError(f"lowest current = {i_min!r} A must be finite and negative")
+    s = load.travel
+    f_load = float(load.force(s))
+
+    def fun(c: float) -> float:
+        return force(c, s) - f_load
+
+    if fun(0.0) <= 0.0:
+        raise MotionError("release: the load opens the closed armature at zero current "
+                          "(nothing to release)")
+    grid = np.linspace(0.0, i_min, samples)
+    prev = 0.0
+    for c in grid[1:]:
+        if fun(float(c)) <= 0.0:
+            i = float(brentq(fun, float(c), prev, xtol=1e-13 * abs(i_min), rtol=1e-13))
+            return StaticLimit(i, s)
+        prev = float(c)
+    raise MotionError(f"release: the holding force stays above the load down to {i_min!r} A")
 
 
 def limit_voltage(limit: StaticLimit, r20: float, temperature: float = 20.0,

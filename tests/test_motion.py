@@ -8,7 +8,8 @@ import math
 import numpy as np
 import pytest
 
-from magcheck.analytic.motion import (ForceMap, GapActuator, Load, MotionError, Spring,
+from magcheck.analytic.motion import (ForceMap, GapActuator, GridMap, Load, MotionError, Spring,
+                                      release_current,
                                       coil_resistance, drop_out_current, limit_voltage, load_margin,
                                       operate, pull_in_current, release, series_springs,
                                       simulate)
@@ -232,3 +233,66 @@ def test_voltage_table_and_bad_settings():
         simulate(ACT.linkage, ACT.force, load, 0.0, r, 1.0, 1.0)
     with pytest.raises(MotionError, match="pull-in"):
         pull_in_current(ACT.force, Load(T, (Spring(1e6, 1e3),)), 1.0)
+
+
+# --- a holding magnet's release current (analytic.motion.release_current) ---
+# An invented linear ideal-gap magnet actuator (ideal iron, no fringing): the
+# magnet an MMF H_c l_m behind its recoil reluctance, in series with the gap.
+MU0 = 4e-7 * math.pi
+BR, MUR, LM, AM = 0.4, 1.08, 5e-3, 2.0e-4       # T, -, m, m^2: a ferrite-like disc
+AG, NT = 2.0e-4, 100                            # gap face (m^2), coil turns
+HC = BR / (MU0 * MUR)                            # A/m, the linear recoil's coercivity
+RM = LM / (MU0 * MUR * AM)                       # A/Wb, the magnet's recoil reluctance
+MG_CLOSED, MG_TRAVEL = 0.3e-3, 0.7e-3
+
+
+def _mag_flux(i: float, s: float) -> float:
+    # Source: docs/references.md section 8 (the magnet an MMF source H_c l_m in
+    # series with l_m/(mu0 mu_r A_m)), exact for a linear circuit
+    g = MG_CLOSED + MG_TRAVEL - s
+    return (HC * LM + NT * i) / (RM + g / (MU0 * AG))
+
+
+def _mag_force(i: float, s: float) -> float:
+    # Source: docs/references.md section 5/14: the gap's pull B^2 A / (2 mu0), exact
+    # for ideal iron (the co-energy's derivative of this linear circuit)
+    return _mag_flux(i, s) ** 2 / (2.0 * MU0 * AG)
+
+
+def _mag_linkage(i: float, s: float) -> float:
+    return NT * _mag_flux(i, s)
+
+
+def test_release_current_of_an_ideal_gap_magnet_is_the_closed_form():
+    keeper = 4.0  # N, the keeper load
+    load = Load(MG_TRAVEL, (), weight=keeper)
+    # by hand: the flux at release phi_r = sqrt(2 mu0 A F_load); the MMF balance
+    # H_c l_m + N i = phi_r (R_m + R_g(closed)) gives i (negative, opposing);
+    # the other root (phi = -phi_r, the coil overpowering the magnet) lies below
+    phi_r = math.sqrt(2.0 * MU0 * AG * keeper)
+    r_tot = RM + MG_CLOSED / (MU0 * AG)
+    i_exact = (phi_r * r_tot - HC * LM) / NT
+    i_second = (-phi_r * r_tot - HC * LM) / NT
+    assert i_second < i_exact < 0.0
+    got = release_current(_mag_force, load, 3.0 * i_second)
+    # Source: exact solution above; tolerance: brentq's xtol 1e-13 of the range
+    assert got.current == pytest.approx(i_exact, rel=1e-9)
+    assert got.stroke == MG_TRAVEL
+    # the force's minimum (zero flux) lies between the two crossings, F there 0
+    assert _mag_force(-HC * LM / NT, MG_TRAVEL) == pytest.approx(0.0, abs=1e-12)
+    # on a map (GridMap: monotone cubic in i, no i^2 law with a magnet) the release
+    # moves by the interpolation error only: 9 currents over +-1.2 |i_second|
+    top = 1.2 * abs(i_second)
+    cur = np.linspace(-top, top, 9)
+    st = np.linspace(0.0, MG_TRAVEL, 5)
+    f = np.array([[_mag_force(c, s) for s in st] for c in cur])
+    lam = np.array([[_mag_linkage(c, s) for s in st] for c in cur])
+    gm = GridMap(cur, st, f, lam, gap_open=MG_CLOSED + MG_TRAVEL)
+    on_map = release_current(gm.force, load, -top).current
+    # tolerance: a monotone cubic through 9 samples of this quadratic in i (with
+    # its zero-slope minimum flattened) is within a few percent (measured 1-3 %)
+    assert on_map == pytest.approx(i_exact, rel=0.05)
+    with pytest.raises(MotionError, match="zero current"):
+        release_current(_mag_force, Load(MG_TRAVEL, (), weight=1e3), 3.0 * i_second)
+    with pytest.raises(MotionError, match="stays above"):
+        release_current(_mag_force, load, 0.2 * i_exact)

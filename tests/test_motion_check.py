@@ -24,6 +24,7 @@ from magcheck.compare.reading.casefile import case_from_dict
 
 ROOT = Path(__file__).resolve().parents[1]
 RELAY = ROOT / "cases" / "demo_clapper_relay.toml"
+MAGNET = ROOT / "cases" / "demo_holding_magnet.toml"
 
 # an invented ideal-gap actuator: K = N^2 mu0 A (H m), closed gap 0.2 mm, travel 2 mm
 K, GC, T = 2.0e-5, 0.2e-3, 2.0e-3
@@ -73,6 +74,7 @@ def test_gravity_and_keeper_load_add_to_the_load_line():
     (lambda m: m.update(voltage_table={"time": [0.0, 0.0], "voltage": [1.0, 2.0]}),
      "motion.voltage_table.time"),
     (lambda m: m.update(map_strokes=2), "motion.map_strokes"),
+    (lambda m: (m.pop("mass"), m.update(gravity="opening")), "motion.gravity"),
 ])
 def test_bad_motion_values_are_refused_naming_the_key(edit, key):
     data = _relay_tables()
@@ -80,6 +82,22 @@ def test_bad_motion_values_are_refused_naming_the_key(edit, key):
     with pytest.raises(CaseError) as err:
         case_from_dict(data)
     assert err.value.key == key
+
+
+def test_motion_without_mass_gives_the_static_limits_only():
+    from magcheck.compare.models.motion import model_motion
+
+    data = _relay_tables()
+    del data["motion"]["mass"]
+    spec = case_from_dict(data).motion
+    assert spec.mass is None
+    import dataclasses
+
+    spec0, res = _ideal_gap_result()
+    spec = dataclasses.replace(spec0, mass=None)
+    mm = model_motion("fe", res.maps.grid_map("fe"), spec)
+    assert mm.values["pull_in_current"] == res.models["fe"].values["pull_in_current"]
+    assert mm.operate is None and mm.release is None and math.isnan(mm.values["operate_time"])
 
 
 def test_motion_margin_without_a_motion_table_is_refused():
@@ -239,6 +257,53 @@ def test_fe_map_pull_in_against_single_fe_solves():
     assert res.maps.fe_solves == spec.map_strokes * spec.map_currents
 
 
+@pytest.mark.slow
+def test_fe_map_release_current_against_single_fe_solves():
+    """The holding magnet's release current found on the FE map (magnitude;
+    the coil reverse, opposing the magnet), against a direct search with
+    single FE solves at the closed gap (regula falsi on F(i) - F_load), within
+    the map's stated interpolation error moved into the current through the
+    force's slope dF/di there."""
+    from magcheck.compare.design.case import with_current
+    from magcheck.compare.models.fe import REFINE, mesh_case, solve_case
+    from magcheck.compare.models.motion import case_at, run_motion
+    from magcheck.compare.reading.variants import case_source
+
+    case = case_source(MAGNET)[1]
+    res = run_motion(case, axisymmetric=True)
+    i_map = -res.models["fe"].values["release_current"]  # signed: reverse is negative
+    spec = case.motion
+    at = case_at(case, spec.closed_gap)
+    mesh = mesh_case(at, refine=1.0 / REFINE)  # the map's own mesh size
+    load = float(spec.load.force(spec.travel))
+
+    def margin(i):
+        q, _, _ = solve_case(with_current(at, i), mesh)
+        return q.force_values["force"] - load
+
+    a, b = 1.2 * i_map, 0.8 * i_map  # a: more reverse, released; b: still holding
+    fa, fb = margin(a), margin(b)
+    assert fa < 0 < fb
+    slope = (fb - fa) / (b - a)
+    assert slope > 0  # the hold weakens as the current goes reverse (above the minimum)
+    for _ in range(4):  # regula falsi on a smooth margin
+        c = b - fb * (b - a) / (fb - fa)
+        fc = margin(c)
+        a, fa, b, fb = (c, fc, b, fb) if fc < 0 else (a, fa, c, fc)
+    i_direct = c
+    # Source: the map's own leave-one-out error (an upper estimate) carried to the
+    # current through dF/di (the rows' uncertainty, interpolation_uncertainty);
+    # checked against this test's own secant slope and the load: the same order
+    tol = res.uncertainty["release_current"]
+    assert tol >= res.interpolation["force"] * load / abs(slope) * 0.8
+    print(f"release current: map {i_map:.6g} A, direct {i_direct:.6g} A, tolerance {tol:.3g} A")
+    assert abs(i_map - i_direct) <= tol
+    assert res.maps.fe_solves == spec.map_strokes * (spec.map_currents + 1)
+    # the map spans reverse currents only, down to 1.5 x the release supply's current
+    assert res.maps.currents[0] == pytest.approx(-1.5 * spec.rated_current)
+    assert res.maps.currents[-1] == 0.0
+
+
 def _ideal_gap_result():
     """A MotionResult from ideal-gap maps (hand and "FE" the same closed forms)."""
     from magcheck.compare.design.actuator import ActuatorSpec
@@ -311,3 +376,51 @@ def test_energy_bookkeeping_of_the_operate_on_a_map():
     # tolerance 1e-6 of the energy in: the integrator's rtol 1e-8 over the motion
     assert op.e_in == pytest.approx(op.e_copper + w_field + op.w_mech, rel=1e-6)
     assert op.w_mech > 0.01 * op.e_in
+
+
+def test_interpolation_error_carried_to_the_limits_through_the_force_slope():
+    """interpolation_uncertainty on the ideal-gap map: the pull-in and
+    drop-out currents' uncertainty is the force's error over dF/di."""
+    from magcheck.compare.models.motion import interpolation_uncertainty
+
+    spec, res = _ideal_gap_result()
+    mm = res.models["fe"]
+    e_i, e_s, e_l = 0.02, 0.01, 0.03
+    err = {"force": e_i, "force_current": e_i, "force_stroke": e_s, "linkage": e_l}
+    u = interpolation_uncertainty(res.maps.grid_map("fe"), spec, mm, err)
+    top = float(res.maps.currents[-1])
+    for key, s in (("pull_in_current", mm.pull_in_stroke), ("drop_out_current", T)):
+        i = mm.values[key]
+        g = GC + T - s
+        # Source: exact closed forms of the ideal gap, F = i^2 K / (2 g^2), dF/di = i K / g^2;
+        # the force's error e_i over the stroke's largest grid force (at the top current)
+        # or e_s of the load (F(i) there): the larger, over the slope. Tolerance: the
+        # central difference's and the map's round-off (the map is exact for this gap)
+        d_f = max(e_i * ACT.force(top, s), e_s * ACT.force(i, s))
+        assert u[key] == pytest.approx(d_f / (i * K / g**2), rel=1e-6)
+        assert u[key.replace("current", "voltage")] == pytest.approx(u[key] * 30.0, rel=1e-12)
+    v = mm.values
+    assert u["operate_time"] == pytest.approx((e_l + e_i / 2) * v["operate_time"], rel=1e-12)
+    assert math.isnan(u["release_current"])
+
+
+def test_motion_rows_judge_with_the_interpolation_uncertainty():
+    """A motion row beyond its limit but within the map's uncertainty is
+    inconclusive, as a three-mesh uncertainty makes it; beyond both, FAIL."""
+    import dataclasses
+
+    from magcheck.compare.judge.check import motion_rows
+    from magcheck.compare.models.motion import ModelMotion
+
+    spec, res = _ideal_gap_result()
+    fe = res.models["fe"]
+    hand_v = dict(fe.values, pull_in_current=fe.values["pull_in_current"] * 1.15)
+    models = dict(res.models, hand=dataclasses.replace(fe, model="hand", values=hand_v))
+    case = type("C", (), {"motion": spec, "margins": type("M", (), {
+        "motion": (), "agreement_limit": staticmethod(lambda k, d: d)})()})()
+    for u_rel, verdict in ((0.2, "inconclusive"), (0.05, "FAIL")):
+        unc = {"pull_in_current": u_rel * fe.values["pull_in_current"]}
+        mo = dataclasses.replace(res, models=models, uncertainty=unc)
+        row = {r.key: r for r in motion_rows(case, mo)}["motion:pull_in_current"]
+        assert row.uncertainty == unc["pull_in_current"]
+        assert row.verdict == verdict, (u_rel, row)

@@ -219,6 +219,17 @@ def block_motion_demos() -> str:
     return "\n" + "\n".join(rows) + "\n\n"
 
 
+def block_magnet_release() -> str:
+    """The holding-magnet demo's release current and voltage, hand and FE,
+    from the stored results (cases/baseline.json, block ``motion``)."""
+    mo = _baseline()["demo-holding-magnet"]["motion"]
+    h, f = mo["hand"], mo["fe"]
+    ohm = h["release_voltage"] / h["release_current"]  # the coil at its temperature
+    return (f"{_sig(h['release_current'], 3)} A by hand, {_sig(f['release_current'], 3)} A FE "
+            f"({_sig(h['release_voltage'], 3)} V and {_sig(f['release_voltage'], 3)} V at "
+            f"{ohm:.3g} Ω)")
+
+
 def block_agreement_limits() -> str:
     """The default agreement limits of the main rows (compare.judge.check.DEFAULT_LIMITS)."""
     from magcheck.compare.judge.check import DEFAULT_LIMITS
@@ -555,6 +566,7 @@ QUICK: dict[str, Callable[[], str]] = {
     "loss-budget": block_loss_budget,
     "commands": block_commands,
     "motion-demos": block_motion_demos,
+    "magnet-release": block_magnet_release,
     "choke-gap-B": block_choke_gap_B,
     "choke-L": block_choke_L,
     "choke-breakdown": block_choke_breakdown,

@@ -32,7 +32,7 @@ class ActuatorSpec:
 
     stroke_key : the case key the motion moves (the working gap, e.g. "core.stroke").
     open_gap, closed_gap : that key's value at the open and closed stops (m).
-    mass : the moving mass (kg).
+    mass : the moving mass (kg); None: the static limits only (no motion simulated).
     springs : analytic.motion.Spring, strokes from the open stop, in parallel.
     constant_load : a constant opening load (N): a keeper's, a contact pressure.
     gravity : "none", "opening" or "closing": the weight m g along the stroke.
@@ -49,7 +49,7 @@ class ActuatorSpec:
     stroke_key: str
     open_gap: float
     closed_gap: float
-    mass: float
+    mass: Optional[float]
     springs: "tuple[Spring, ...]" = ()
     constant_load: float = 0.0
     gravity: str = "none"
@@ -75,6 +75,8 @@ class ActuatorSpec:
         """The constant opening load (N): the keeper's or contact load and
         the weight along the stroke (m g, positive opening)."""
         g = {"none": 0.0, "opening": 1.0, "closing": -1.0}[self.gravity]
+        if g == 0.0 or self.mass is None:  # no mass: gravity refused at reading
+            return self.constant_load
         return self.constant_load + g * self.mass * STANDARD_GRAVITY
 
     @property

@@ -269,7 +269,8 @@ SPRING_KEYS: dict[str, Key] = {
 MOTION_KEYS: dict[str, Key] = {
     "open_gap": quantity("length", "the stroke key's value at the open stop"),
     "closed_gap": quantity("length", "the stroke key's value at the closed stop"),
-    "mass": quantity("mass", "the moving mass (armature, plunger, contacts)"),
+    "mass": quantity("mass", "the moving mass (armature, plunger, contacts); without it "
+                             "the static limits only (no operate or release motion)"),
     "springs": tables(SPRING_KEYS, "the springs of the load, in parallel"),
     "constant_load": quantity("force", "a constant opening load (a keeper's, a contact "
                                        "pressure), default 0"),
@@ -294,9 +295,10 @@ MOTION_KEYS: dict[str, Key] = {
 }
 """``[motion]``: the moving part's mechanics and the coil's drive (compare.models.motion)."""
 
-MOTION_MARGINS = ("pull_in_voltage", "drop_out_voltage", "operate_time", "release_time")
+MOTION_MARGINS = ("pull_in_voltage", "drop_out_voltage", "operate_time", "release_time",
+                  "release_current")
 """The ``[margins]`` keys judged on the motion: pull-in voltage and operate and release
-time maxima, the drop-out voltage a minimum."""
+time maxima, the drop-out voltage a minimum; a holding magnet's release current a maximum."""
 
 MARGINS = {
     "peak_B": quantity("flux density", "largest allowed peak |B| in the core"),
@@ -318,6 +320,8 @@ MARGINS = {
     "operate_time": quantity("time", "[motion]: largest allowed operate time at rated "
                                      "voltage"),
     "release_time": quantity("time", "[motion]: largest allowed release time"),
+    "release_current": quantity("current", "[motion], a holding magnet: largest allowed "
+                                           "reverse current that releases the keeper"),
     "total_loss": quantity("power", "largest allowed total loss (core and windings)"),
     "core_loss": quantity("power", "largest allowed core loss"),
     "efficiency": number("transformer: smallest allowed efficiency at rated load, percent"),

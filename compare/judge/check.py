@@ -724,18 +724,23 @@ def ac_rows(case: Case, ac: Any) -> list[Row]:
 def motion_rows(case: Case, motion: Any) -> list[Row]:
     """A moving armature (compare.models.motion, compare.judge.motionrows):
     pull-in, drop-out, operate and release hand (planar form) against FE,
-    each on its own maps (no uncertainty column: the map's interpolation
-    error is in the notes); a value one model lacks fails a judged row; then
-    the motion's margins."""
+    each on its own maps; the uncertainty column the FE map's interpolation
+    error carried to each figure (compare.models.motion.interpolation_uncertainty),
+    judged as the three-mesh uncertainty is (_verdict: beyond the limit but
+    within it "inconclusive"); the FE 3D's scaled by FE 3D / FE; a value one
+    model lacks fails a judged row; then the motion's margins."""
     from .motionrows import motion_items, motion_margins
 
     out = []
     for key, label, unit, h, f, h3, f3, lim in motion_items(case, motion):
         d = _diff_pct(h, f)
+        u = getattr(motion, "uncertainty", {}).get(key.split(":", 1)[1], math.nan)
+        u3 = u * abs(f3 / f) if math.isfinite(f3) and f != 0 else math.nan
         both = math.isfinite(h) and math.isfinite(f)
-        verdict = (_verdict(d, h, f, math.nan, lim) if both
+        verdict = (_verdict(d, h, f, u, lim) if both
                    else ("FAIL" if lim is not None else "info"))
-        out.append(Row(key, label, unit, h, f, math.nan, d, lim, verdict, hand_3d=h3, fe_3d=f3))
+        out.append(Row(key, label, unit, h, f, u, d, lim, verdict, hand_3d=h3, fe_3d=f3,
+                       fe_3d_uncertainty=u3))
     for r in motion_margins(case, motion):
         out.append(Row(f"margin:{r.key}", f"{r.label}, {r.kind}", r.unit, r.hand, r.value,
                        math.nan, math.nan, None, r.verdict, limit_value=r.limit,

@@ -22,6 +22,11 @@ MOTION_LIMITS: dict[str, float] = {
     # linkage's at the holding current (common practice, no source)
     "pull_in_current": 10.0, "drop_out_current": 10.0, "operate_time": 20.0,
     "release_time": 20.0,
+    # a holding magnet's release current: N i = phi_r (R_m + R_g) - H_c l_m,
+    # a difference of two MMFs, so the force's 20 % (10 % on the release
+    # flux phi_r) is held to the same 10 % on the current (common practice,
+    # no source)
+    "release_current": 10.0,
 }
 """Default agreement limits (percent), beside compare.judge.check.DEFAULT_LIMITS."""
 
@@ -31,11 +36,14 @@ MOTION_LABELS = {
     "load_margin": "force over the load at rated current, tightest",
     "operate_time": "operate time at rated voltage", "current_dip": "current dip while moving",
     "impact_speed": "impact speed at closing", "release_time": "release time",
+    "release_current": "release current (reverse, opposing the magnet)",
+    "release_voltage": "release voltage (reverse)",
 }
 
 _MARGINS = {"pull_in_voltage": ("max", "pull-in voltage"),
             "drop_out_voltage": ("min", "drop-out voltage"),
-            "operate_time": ("max", "operate time"), "release_time": ("max", "release time")}
+            "operate_time": ("max", "operate time"), "release_time": ("max", "release time"),
+            "release_current": ("max", "release current (reverse)")}
 
 
 def motion_items(case: Case, motion: Any) -> list[tuple]:
@@ -48,7 +56,8 @@ def motion_items(case: Case, motion: Any) -> list[tuple]:
     third = "fe_3d" if "fe_3d" in motion.models else "fe"
     out = []
     for k in ("pull_in_current", "pull_in_voltage", "drop_out_current", "drop_out_voltage",
-              "load_margin", "operate_time", "current_dip", "impact_speed", "release_time"):
+              "load_margin", "operate_time", "current_dip", "impact_speed", "release_time",
+              "release_current", "release_voltage"):
         h, f = motion.value("hand", k), motion.value("fe", k)
         if not (math.isfinite(h) or math.isfinite(f)):
             continue
@@ -80,16 +89,24 @@ def motion_notes(case: Case, motion: Any) -> tuple[str, ...]:
     interpolation error; what the models leave out; why a value is missing."""
     maps, err = motion.maps, motion.interpolation
     spec = case.motion
+    span = (f"to {maps.currents[-1]:.4g} A" if maps.currents[0] >= 0.0 else
+            f"from {maps.currents[0]:.4g} A (reverse, opposing the magnet) to 0")
     lines = [
         f"Motion: both models on their own F(i, s) and lambda(i, s) maps, {maps.strokes.size} "
         f"strokes ({spec.open_gap * 1e3:.3g} to {spec.closed_gap * 1e3:.3g} mm) x "
-        f"{maps.currents.size - 1} currents to {maps.currents[-1]:.4g} A; the FE map "
+        f"{maps.currents.size - 1} currents {span}; the FE map "
         f"{maps.fe_solves} solves on the coarsest mesh in {maps.fe_seconds:.1f} s. Its "
         f"interpolation error (leaving out each inner grid line, an upper estimate): force "
         f"{100 * err['force']:.2g} %, flux linkage {100 * err['linkage']:.2g} %. Coil "
         f"{motion.resistance:.4g} ohm at {spec.temperature:g} degC, rated "
         f"{motion.rated_current:.4g} A. Eddy currents in solid iron (which slow a real "
         "actuator), friction and the switching arc are left out."]
+    if maps.currents[0] < 0.0:
+        lines.append("Motion: the release current is the first reverse current from zero "
+                     "downward at which the holding force at the closed gap falls to the load; "
+                     "further down the force has its least value (the gap flux cancelled) and "
+                     "rises again as the coil overpowers the magnet (that second crossing is "
+                     "no release).")
     for name in ("hand", "fe"):
         for n in motion.models[name].notes:
             lines.append(f"Motion ({'hand' if name == 'hand' else 'FE'}): {n}.")

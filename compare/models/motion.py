@@ -17,7 +17,8 @@ the rated current.
   element size times REFINE), its currents solved in rising order, each
   Newton solve started from the last point's solution scaled by the current
   ratio (exact for a linear circuit, A ~ i; no tangent solve for a
-  predictor), one direct factorisation shared along the stroke
+  predictor; with a magnet, from zero current outward, each from its solved
+  neighbour's solution as it is), one direct factorisation shared along the stroke
   (fem2d.linsolve.DirectReuse);
   the next stroke is meshed on a helper thread meanwhile (gmsh runs outside
   the GIL). Force: the weighted Maxwell stress along the closing stroke;
@@ -48,14 +49,15 @@ from typing import Any, Optional
 import numpy as np
 
 from magcheck.analytic.motion import (GridMap, Motion, MotionError, drop_out_current,
-                                      load_margin, operate, pull_in_current, release)
+                                      load_margin, operate, pull_in_current, release,
+                                      release_current)
 
 from ..design.case import Case, with_current
 from ..errors import CaseError, RunError
 
 __all__ = ["CURRENT_TOP", "MODELS", "MotionMaps", "ModelMotion", "MotionResult", "map_strokes",
            "map_currents", "hand_maps", "fe_point", "fe_maps", "leave_one_out_error", "model_motion",
-           "run_motion", "case_at", "KEYS", "UNITS", "MAP_TOL"]
+           "run_motion", "case_at", "KEYS", "UNITS", "MAP_TOL", "interpolation_uncertainty"]
 
 CURRENT_TOP = 1.5
 """The map's top current over the rated current: room for the pull-in of a
@@ -64,12 +66,13 @@ design that needs more than rated, and for the release's holding current."""
 MODELS = ("hand", "hand_3d", "fe", "fe_3d")
 
 KEYS = ("pull_in_current", "pull_in_voltage", "drop_out_current", "drop_out_voltage",
-        "load_margin", "operate_time", "current_dip", "impact_speed", "release_time")
+        "load_margin", "operate_time", "current_dip", "impact_speed", "release_time",
+        "release_current", "release_voltage")
 """The figures each model gives (ModelMotion.values)."""
 
 UNITS = {"pull_in_current": "A", "pull_in_voltage": "V", "drop_out_current": "A",
          "drop_out_voltage": "V", "load_margin": "N", "operate_time": "s", "current_dip": "A",
-         "impact_speed": "m/s", "release_time": "s"}
+         "impact_speed": "m/s", "release_time": "s", "release_current": "A", "release_voltage": "V"}
 
 MAP_TOL = 1e-6
 """The FE map's Newton tolerance (relative residual; the case's when tighter):
@@ -91,10 +94,15 @@ def map_strokes(spec: Any) -> np.ndarray:
     return s
 
 
-def map_currents(spec: Any) -> np.ndarray:
-    """The grid's currents (A): 0 and ``map_currents`` evenly to CURRENT_TOP x rated."""
+def map_currents(spec: Any, magnets: bool = False) -> np.ndarray:
+    """The grid's currents (A): 0 and ``map_currents`` evenly to CURRENT_TOP x rated;
+    with a magnet from -CURRENT_TOP x rated to 0 instead (the reverse current
+    that releases a holding magnet, the rated current the release supply's:
+    the force is not even in i, so the reverse side is solved itself)."""
     top = CURRENT_TOP * spec.rated_current
-    return top * np.arange(spec.map_currents + 1) / spec.map_currents
+    n = spec.map_currents
+    k = np.arange(-n, 1) if magnets else np.arange(n + 1)
+    return top * k / n
 
 
 def case_at(case: Case, gap: float) -> Case:
@@ -200,6 +208,7 @@ def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
     from ..design.coremodel import core_model
 
     magnets = bool(core_model(case).magnets)
+    solved: dict[int, Any] = {}
     with ThreadPoolExecutor(max_workers=1) as pool:
         meshes = [pool.submit(mesh_case, cs, refine=1.0 / REFINE) for cs in cases]
         for j, cs in enumerate(cases):
@@ -207,15 +216,22 @@ def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
             cs = dataclasses.replace(cs, fe=dataclasses.replace(cs.fe,
                                                                 tol=max(cs.fe.tol, MAP_TOL)))
             linear = DirectReuse()
+            solved.clear()  # this stroke's solutions (its own mesh)
             A: Any = None
             prev = 0.0
-            for k, i in enumerate(currents):
+            for k in _solve_order(currents, magnets):
+                i = currents[k]
                 if i == 0.0 and not magnets:  # no source: A = 0, F = 0, lambda = 0 exactly
                     f[k, j] = lam[k, j] = 0.0
                     continue
-                # the last solution scaled by the current: exact for a linear
-                # circuit (A ~ i), close below saturation; costs no tangent solve
-                A0: Any = None if A is None else A * (float(i) / prev)
+                if magnets:
+                    # with a magnet A is not ~ i: the nearest solved point as it
+                    # is (the zero-current solution for each first step out)
+                    A0: Any = None if A is None else solved[_nearest_solved(k, solved)]
+                else:
+                    # the last solution scaled by the current: exact for a linear
+                    # circuit (A ~ i), close below saturation; costs no tangent solve
+                    A0 = None if A is None else A * (float(i) / prev)
                 try:
                     f[k, j], lam[k, j], sol = fe_point(with_current(cs, float(i)), mesh, A0,
                                                        linear)
@@ -224,7 +240,22 @@ def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
                                    f"m, {float(i):.6g} A: {exc}") from None
                 solves += 1
                 A, prev = sol.A, float(i)
+                solved[k] = sol.A
     return f, lam, solves, time.perf_counter() - t0
+
+
+def _solve_order(currents: np.ndarray, magnets: bool) -> list[int]:
+    """The order a stroke's currents are solved in: rising; with a magnet
+    from zero current outward, downward first, then upward (each point
+    started from its solved neighbour toward zero)."""
+    if not magnets:
+        return list(range(currents.size))
+    k0 = int(np.argmin(np.abs(currents)))
+    return [k0] + list(range(k0 - 1, -1, -1)) + list(range(k0 + 1, currents.size))
+
+
+def _nearest_solved(k: int, solved: dict[int, Any]) -> int:
+    return min(solved, key=lambda m: abs(m - k))
 
 
 def leave_one_out_error(strokes: np.ndarray, currents: np.ndarray, f: np.ndarray,
@@ -291,9 +322,22 @@ def _time_scales(gm: GridMap, spec: Any) -> float:
     return 50.0 * abs(tau) + 20.0 * t_m
 
 
-def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL) -> ModelMotion:
+def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
+                 magnets: bool = False) -> ModelMotion:
     """Pull-in, drop-out, the load margin at rated current, the operate and
-    release motions of one model's map ``gm`` under ``spec`` (ActuatorSpec)."""
+    release motions of one model's map ``gm`` under ``spec`` (ActuatorSpec).
+
+    With a magnet (``magnets``: a holding magnet, the map spanning reverse
+    currents): the release current only, instead of the pull-in, drop-out,
+    load margin and motion: the first reverse current from zero
+    downward at which the closed stop's holding force falls to the load
+    (analytic.motion.release_current; beyond the force's least value the coil
+    overpowers the magnet and the force rises again: that second crossing is
+    not a release), reported as its magnitude, with its voltage |i| R.
+    Without ``spec.mass`` the static limits only (no operate or release
+    motion)."""
+    if magnets:
+        return _magnet_limits(name, gm, spec)
     load, r = spec.load, spec.coil_resistance
     i_top = float(gm.currents[-1])
     v: dict[str, float] = {k: math.nan for k in KEYS}
@@ -311,6 +355,9 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL) -> Mo
         notes.append("the closed armature does not hold below the map's top current")
     m = load_margin(gm.force, load, spec.rated_current, samples=81)
     v["load_margin"], margin_s = m.margin, m.stroke
+    if spec.mass is None:
+        return ModelMotion(name, v, pull_s, margin_s, None, None,
+                           tuple(notes) + ("no moving mass given: the static limits only",))
     t_end = _time_scales(gm, spec)
     volt = spec.voltage_table if spec.voltage_table is not None else spec.voltage
     # max_step: the traces (and the current dip read off them) sampled finely enough
@@ -342,6 +389,73 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL) -> Mo
     return ModelMotion(name, v, pull_s, margin_s, op, rl, tuple(notes))
 
 
+def _magnet_limits(name: str, gm: GridMap, spec: Any) -> ModelMotion:
+    """A magnet's static limit (model_motion): the release current
+    (magnitude, the coil opposing) and its voltage.  No pull-in: a holding
+    magnet's keeper is set on it, and the map spans the reverse currents."""
+    load, r = spec.load, spec.coil_resistance
+    i_low = float(gm.currents[0])
+    v: dict[str, float] = {k: math.nan for k in KEYS}
+    notes = []
+    pull_s = math.nan
+    try:
+        rc = release_current(gm.force, load, i_low, samples=401)
+        v["release_current"], v["release_voltage"] = abs(rc.current), abs(rc.current) * r
+    except MotionError as exc:
+        notes.append(f"no release current above {i_low:.4g} A: {exc}")
+    if spec.mass is not None:
+        notes.append("a magnet: the static limits only (no operate or release motion)")
+    return ModelMotion(name, v, pull_s, math.nan, None, None, tuple(notes))
+
+
+def interpolation_uncertainty(gm: GridMap, spec: Any, mm: ModelMotion,
+                              err: dict[str, float]) -> dict[str, float]:
+    """The map's interpolation error as an uncertainty (SI, the unit of each
+    value) on a model's figures ``mm`` from its map ``gm``; ``err`` the
+    fractions of :func:`leave_one_out_error` (e_F = ``err["force"]``, e_L =
+    ``err["linkage"]``, each the larger of its two directions; e_Fi, e_Fs
+    the force's along the current and the stroke).
+
+    The rule, first order in the map's error:
+    - a static current (pull-in, drop-out, release) sits where F(i, s*) meets
+      the load F_load(s*); the force there is uncertain by dF = max(e_Fi
+      max_k |F(i_k, s*)|, e_Fs F_load(s*)) (each fraction on the scale it was
+      measured against: the current's over the stroke's largest force on the
+      grid, the stroke's over the value), which moves the crossing by
+      u_i = dF / |dF/di| (the slope from the map, a central difference at the
+      limit; s* the pull-in's tightest stroke, the closed stop for drop-out
+      and release); its voltage by u_i R;
+    - the load margin: e_F F(i_rated, s_margin);
+    - the operate and release times, the current dip and the impact speed:
+      (e_L + e_F / 2) |value| (the electrical delay scales with lambda, the
+      flight time as F^(-1/2));
+    NaN where the value is."""
+    e_f, e_l = err.get("force", math.nan), err.get("linkage", math.nan)
+    v, r, load = mm.values, spec.coil_resistance, spec.load
+    out = {k: math.nan for k in KEYS}
+    di = 1e-4 * max(abs(float(gm.currents[0])), abs(float(gm.currents[-1])))
+
+    e_fi, e_fs = err.get("force_current", e_f), err.get("force_stroke", e_f)
+
+    def through_slope(i: float, s: float) -> float:
+        slope = (gm.force(i + di, s) - gm.force(i - di, s)) / (2.0 * di)
+        row = max(abs(gm.force(float(c), s)) for c in gm.currents)
+        d_f = max(e_fi * row, e_fs * abs(float(load.force(s))))
+        return d_f / abs(slope) if slope != 0.0 else math.nan
+
+    for cur, volt, sign, s in (("pull_in_current", "pull_in_voltage", 1.0, mm.pull_in_stroke),
+                               ("drop_out_current", "drop_out_voltage", 1.0, spec.travel),
+                               ("release_current", "release_voltage", -1.0, spec.travel)):
+        if math.isfinite(v[cur]) and math.isfinite(s):
+            out[cur] = through_slope(sign * v[cur], s)
+            out[volt] = out[cur] * r
+    if math.isfinite(v["load_margin"]) and math.isfinite(mm.margin_stroke):
+        out["load_margin"] = e_f * abs(gm.force(spec.rated_current, mm.margin_stroke))
+    for k in ("operate_time", "release_time", "current_dip", "impact_speed"):
+        out[k] = (e_l + 0.5 * e_f) * abs(v[k])
+    return out
+
+
 @dataclass(frozen=True)
 class MotionResult:
     """Both models' limits and motions on their maps, and the FE map's cost
@@ -354,6 +468,9 @@ class MotionResult:
     rated_current: float
     resistance: float
     seconds: float
+    uncertainty: dict[str, float] = field(default_factory=dict)
+    """The FE's figures' uncertainty from its map's interpolation error (SI,
+    :func:`interpolation_uncertainty`), the rows' uncertainty column."""
 
     def value(self, model: str, key: str) -> float:
         m = self.models.get(model)
@@ -370,7 +487,8 @@ class MotionResult:
             "map": {"strokes": self.maps.strokes.tolist(), "currents": self.maps.currents.tolist(),
                     "fe_solves": self.maps.fe_solves, "fe_seconds": self.maps.fe_seconds,
                     "hand_seconds": self.maps.hand_seconds,
-                    "interpolation_error": dict(self.interpolation)},
+                    "interpolation_error": dict(self.interpolation),
+                    "interpolation_uncertainty": dict(self.uncertainty)},
             "seconds": self.seconds,
         }
 
@@ -382,7 +500,18 @@ def run_motion(case: Case, axisymmetric: bool) -> MotionResult:
     when the geometry refuses a stroke of the travel."""
     t0 = time.perf_counter()
     spec = case.motion
-    strokes, currents = map_strokes(spec), map_currents(spec)
+    from ..design.coremodel import core_model
+
+    magnets = bool(core_model(case).magnets)
+    if magnets:
+        from .hand import magnet_sense
+
+        if magnet_sense(case) < 0:  # the map's lambda would fall with i (GridMap refuses)
+            raise CaseError("motion", "[motion]", "the case's magnet drives its flux against "
+                            "a positive winding current; the motion's map takes the release "
+                            "(reverse) current negative: not supported yet for this "
+                            "orientation")
+    strokes, currents = map_strokes(spec), map_currents(spec, magnets)
     cases = [case_at(case, spec.gap(s)) for s in strokes]
     th = time.perf_counter()
     tables = hand_maps(case, strokes, currents, cases)
@@ -396,16 +525,15 @@ def run_motion(case: Case, axisymmetric: bool) -> MotionResult:
             kf = np.where(hf != 0, h3f / hf, 1.0)
             kl = np.where(hl != 0, h3l / hl, 1.0)
         tables["fe_3d"] = (f * kf, lam * kl)
-    from ..design.coremodel import core_model
-
-    square = not core_model(case).magnets
+    square = not magnets
     maps = MotionMaps(strokes, currents, tables, solves, secs, th, spec.open_gap, square)
     models = {}
     for name in tables:
         try:
-            models[name] = model_motion(name, maps.grid_map(name), spec)
+            models[name] = model_motion(name, maps.grid_map(name), spec, magnets=magnets)
         except MotionError as exc:
             raise RunError(f"motion ({name} map): {exc}") from None
     err = leave_one_out_error(strokes, currents, f, lam, spec.open_gap, square)
+    unc = interpolation_uncertainty(maps.grid_map("fe"), spec, models["fe"], err)
     return MotionResult(maps, models, err, spec.rated_current, spec.coil_resistance,
-                        time.perf_counter() - t0)
+                        time.perf_counter() - t0, unc)

@@ -885,9 +885,10 @@ def fig_motion(res: CheckResult):
     stroke from switch-off, and the operate's trajectory on the
     flux-linkage-current plane over each model's lambda(i) at the open and
     closed stops; hand (planar form) and FE, each on its own maps.  None
-    without ``[motion]``."""
+    without ``[motion]``, or with its static limits only (no mass, a magnet's
+    release current: no motion simulated)."""
     mo = getattr(res, "motion", None)
-    if mo is None:
+    if mo is None or all(m.operate is None and m.release is None for m in mo.models.values()):
         return None
     spec = res.case.motion
     fig, (ax1, ax2, ax3) = plt.subplots(1, 3, figsize=(11.5, 3.8))

@@ -19,7 +19,8 @@ __all__ = ["read_motion", "read_motion_margins"]
 def read_motion_margins(t: TableReader) -> tuple[tuple[str, float], ...]:
     """The motion's limits of ``[margins]`` (MOTION_MARGINS), SI, as (key, value)."""
     dims = {"pull_in_voltage": "voltage", "drop_out_voltage": "voltage",
-            "operate_time": "time", "release_time": "time"}
+            "operate_time": "time", "release_time": "time",
+            "release_current": "current"}
     out = []
     for key in MOTION_MARGINS:
         v = t.quantity(key, dims[key], None)
@@ -89,10 +90,13 @@ def read_motion(t: TableReader, case: Case) -> ActuatorSpec:
                         f"must be below open_gap ({open_gap * 1e3:g} mm): the travel is "
                         "open_gap - closed_gap")
     travel = open_gap - closed_gap
-    mass = t.quantity("mass", "mass")
+    mass = t.quantity("mass", "mass", None)  # None: the static limits only
     springs = tuple(_spring(st, travel) for st in t.tables("springs"))
     constant = t.quantity("constant_load", "force", 0.0, positive=False)
     gravity = t.string("gravity", "none", choices=GRAVITY_SENSES)
+    if mass is None and gravity != "none":
+        raise CaseError(t.key("gravity"), gravity, "the weight along the stroke needs the "
+                                                   "moving mass: give mass with it")
     restitution = t.number("restitution", 0.0, lo=0.0, hi=0.99)
     resistance = t.quantity("resistance", "resistance")
     r_temp = t.number("resistance_temperature", 20.0, lo=-60.0, hi=250.0)
