@@ -1460,21 +1460,33 @@ def _tolerance_limits(res) -> dict[str, list[tuple[str, float]]]:
     for lim in m.saturation:
         if lim.kind == "incremental" and math.isclose(lim.drop, res.drop):
             out["saturation_current"].append((f"min {lim.min:.4g} A", lim.min))
+    for k, kind, scale in _LOSS_LIMITS:  # the loss budget's margins (percent from fractions)
+        limit = getattr(m, k, None)
+        if k in res.values and limit is not None:
+            unit = _TOLERANCE_UNITS[k][1]
+            out[k].append((f"{kind} {scale * limit:.4g} {unit}", scale * limit))
     return out
 
 
+_LOSS_LIMITS = (("total_loss", "max", 1.0), ("core_loss", "max", 1.0),
+                ("efficiency", "min", 100.0), ("regulation", "max", 100.0),
+                ("temperature_rise", "max", 1.0))
 _TOLERANCE_UNITS = {"inductance": (1e3, "mH"), "peak_B": (1.0, "T"),
-                    "saturation_current": (1.0, "A")}
+                    "saturation_current": (1.0, "A"), "total_loss": (1.0, "W"),
+                    "core_loss": (1.0, "W"), "efficiency": (1.0, "%"),
+                    "regulation": (1.0, "%"), "temperature_rise": (1.0, "K")}
 
 
 def tolerance_panels(res) -> list[str]:
     """The figures the tolerance figure draws, one panel each: the
     inductance as each window judges it (``inductance_<kind>@<I>A``, at the
     window's own current) or, with no window, the L at the case's current;
-    then peak B and the saturation current."""
+    then peak B, the saturation current and the loss margins' figures (total and core loss,
+    efficiency, regulation, temperature rise, as judged)."""
     windows = [k for k in res.values if k.startswith("inductance_")]
     return (windows or ["inductance"]) + [k for k in ("peak_B", "saturation_current")
-                                          if k in res.values]
+                                          if k in res.values] + [
+        k for k, _, _ in _LOSS_LIMITS if k in res.values]  # the loss margins' figures
 
 
 def tolerance_figure(res, labels: dict[str, str]):

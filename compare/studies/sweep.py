@@ -568,11 +568,13 @@ def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "in
     """Margins judged along each L(I) curve of a sweep, and the saturation
     table (:func:`compare.judge.margins.curve_margins`, with each point's depth
     correction of the FE values as ``magcheck check`` applies it)."""
+    from ..judge.lossbudget import sweep_loss_margins
     from ..judge.margins import stroke_margins, sweep_demagnetisation
 
     margins, table = curve_margins(res.case, curves(res), res.with_fe, drops, kind, fe_3d=_fe_3d)
     return (margins + stroke_margins(res.case, res.points, res.with_fe)
-            + sweep_demagnetisation(res.case, res.points, res.with_fe)), table
+            + sweep_demagnetisation(res.case, res.points, res.with_fe)
+            + sweep_loss_margins(res.case, res.points, res.with_fe)), table
 
 
 # --------------------------------------------------------------------------- force curve
