@@ -228,3 +228,23 @@ def test_tolerance_fe_sample_is_judged_on_its_fe_3d_loss(tmp_path):
         assert by_key[k].value == pytest.approx(b[k]["fe_3d"], rel=1e-6), k
         assert by_key[k].hand == pytest.approx(b[k]["hand_3d"], rel=1e-12), k
         assert by_key[k].basis == "FE"
+
+
+def test_square_drive_takes_the_triangular_flux_and_a_sine_drive_is_unchanged():
+    from magcheck.compare.models.drive import drive_linkage, drive_waveform
+    from magcheck.compare.models.hand import run_hand
+    from magcheck.compare.reading.casefile import load_case
+
+    ferrite = load_case(CASES / "demo_ferrite_transformer.toml")
+    w = ferrite.winding
+    assert drive_waveform(ferrite) == ("square", 1.0)
+    # Source: Faraday's law over one pulse of the square voltage (exact): lambda_pk =
+    # V sqrt(D) / (4 f); the driven winding's current is where the hand network reaches it
+    assert abs(run_hand(ferrite).flux_linkage) == pytest.approx(w.voltage / (4 * w.frequency),
+                                                                rel=1e-9)
+    assert drive_linkage(ferrite) == pytest.approx(ml.target_linkage(ferrite), rel=1e-15)
+    ei = load_case(CASES / "demo_ei_transformer.toml")
+    assert drive_waveform(ei) == ("sine", 1.0)
+    # Source: the EMF equation lambda_pk = sqrt(2) V / (2 pi f) (Faraday's law over a half sine)
+    assert abs(run_hand(ei).flux_linkage) == pytest.approx(
+        math.sqrt(2) * ei.winding.voltage / (2 * math.pi * ei.winding.frequency), rel=1e-9)
