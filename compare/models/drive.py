@@ -293,7 +293,8 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
 
     w = case.winding
     lam_pk = drive_linkage(case)
-    wave = dict(zip(("shape", "duty"), drive_waveform(case)))
+    shape, duty = drive_waveform(case)
+    wave: dict[str, Any] = {"shape": shape, "duty": duty}
     i3 = hand_peak_current(case)
     ip = hand_peak_current(case, planar=True)
     # 2 % past the peak current, so the curve's top is not the peak itself to rounding

@@ -363,7 +363,7 @@ def _hand_budget(case: Case, hh: dict | None, ac_h: dict) -> dict[str, Any]:
     hand_core = (hand_core_loss(case, planar=True)["total"],
                  hand_core_loss(case, planar=False)["total"])
     leakage = {"hand": hand_leakage(case)} if concentric_pair(case) is not None else None
-    args = {"hand_core": hand_core, "ac_hand": hh, "leakage": leakage}
+    args: dict[str, Any] = {"hand_core": hand_core, "ac_hand": hh, "leakage": leakage}
     for key, v in point_budget(case, **args).items():
         ac_h["planar"][f"loss_{key}"] = v["hand"]
         ac_h["3d"][f"loss_{key}"] = v["hand_3d"]
