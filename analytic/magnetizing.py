@@ -8,7 +8,15 @@ carries the flux linkage lambda(t) = lambda_pk sin(wt) with
 
 (Faraday's law integrated over a half period; with lambda = N B A_c this is
 the transformer EMF equation V = 4.44 f N A_c B_pk, e.g. Kulkarni and
-Khaparde, Transformer Engineering, 2004, ch. 1).  The magnetizing current
+Khaparde, Transformer Engineering, 2004, ch. 1).  A square voltage of rms V
+and duty D (+-V/sqrt(D) for a fraction D of each half period, zero between)
+drives a trapezoidal flux linkage (a triangle for D = 1) of peak
+
+    lambda_pk = V sqrt(D) / (4 f)                                 (2)
+
+[derived: the volt-seconds (V/sqrt(D)) D / (2 f) of one pulse swing lambda
+from -lambda_pk to +lambda_pk; for D = 1 the square-wave form V = 4 f N A_c
+B_pk of the same equation].  The magnetizing current
 is i(t) = i(lambda(t)), the lambda-i curve inverted at each instant; the
 knee of the B-H curve makes it peaked, rich in odd harmonics.  No
 hysteresis and no eddy currents: the curve is single-valued.
@@ -22,7 +30,8 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.interpolate import PchipInterpolator
 
-__all__ = ["peak_flux_linkage", "MagnetizingCurrent", "magnetizing_current",
+__all__ = ["peak_flux_linkage", "square_peak_flux_linkage", "flux_linkage_wave",
+           "MagnetizingCurrent", "magnetizing_current",
            "DriveError", "SAMPLES", "inrush_flux_linkage", "InrushPeak",
            "inrush_peak"]
 
@@ -41,6 +50,32 @@ def peak_flux_linkage(voltage_rms: float, frequency: float) -> float:
     if not (math.isfinite(frequency) and frequency > 0):
         raise DriveError(f"frequency = {frequency!r} Hz must be finite and positive")
     return math.sqrt(2.0) * voltage_rms / (2.0 * math.pi * frequency)
+
+
+def square_peak_flux_linkage(voltage_rms: float, frequency: float, duty: float = 1.0) -> float:
+    """lambda_pk = V sqrt(D) / (4 f) (Wb-turns) of a square voltage of rms V and duty D,
+    equation (2)."""
+    peak_flux_linkage(voltage_rms, frequency)  # the same input checks
+    if not (math.isfinite(duty) and 0.0 < duty <= 1.0):
+        raise DriveError(f"duty = {duty!r} must lie in (0, 1]")
+    return voltage_rms * math.sqrt(duty) / (4.0 * frequency)
+
+
+def flux_linkage_wave(lambda_peak: float, phase: np.ndarray, shape: str = "sine",
+                      duty: float = 1.0) -> np.ndarray:
+    """The flux linkage (Wb-turns) at ``phase`` = f t (cycles) of a sine, lambda_pk
+    sin(2 pi f t), or of a square voltage of duty D (``shape`` "square"): rising linearly
+    from -lambda_pk to lambda_pk over the pulse centred on t = 0 (|f t| <= D/4), flat between
+    the pulses, falling over the pulse centred on half a period; odd about t = 0 and about
+    a quarter period like the sine [derived: Faraday's law over the pulses of equation
+    (2)]."""
+    s = np.asarray(phase, dtype=float)
+    if shape == "sine":
+        return lambda_peak * np.sin(2.0 * np.pi * s)
+    if shape != "square":
+        raise DriveError(f"waveform {shape!r}: expected 'sine' or 'square'")
+    tri = 0.25 - np.abs(np.mod(s + 0.25, 1.0) - 0.5)  # a triangle of +-1/4, slope 1
+    return lambda_peak * np.clip(tri * 4.0 / duty, -1.0, 1.0)
 
 
 @dataclass(frozen=True)
@@ -93,8 +128,11 @@ def _inverse(currents: np.ndarray, linkages: np.ndarray):
 
 
 def magnetizing_current(currents, linkages, lambda_peak: float, frequency: float,
-                        samples: int = SAMPLES) -> MagnetizingCurrent:
-    """The magnetizing current for lambda(t) = lambda_pk sin(2 pi f t).
+                        samples: int = SAMPLES, shape: str = "sine",
+                        duty: float = 1.0) -> MagnetizingCurrent:
+    """The magnetizing current for lambda(t) = lambda_pk sin(2 pi f t), or for the
+    trapezoidal flux linkage of a square voltage of duty ``duty`` (``shape`` "square",
+    :func:`flux_linkage_wave`).
 
     ``currents``, ``linkages``: samples of the winding's lambda-i curve (A,
     Wb-turns), lambda rising with i; only i >= 0 may be given (the curve is
@@ -110,7 +148,7 @@ def magnetizing_current(currents, linkages, lambda_peak: float, frequency: float
                          f"flux linkage {lambda_peak:.6g} Wb-turns: extend it to a higher current")
     period = 1.0 / frequency
     t = np.arange(samples) * period / samples
-    lam_t = lambda_peak * np.sin(2.0 * np.pi * frequency * t)
+    lam_t = flux_linkage_wave(lambda_peak, frequency * t, shape, duty)
     lam_t = np.clip(lam_t, -lambda_peak, lambda_peak)
     i_t = np.asarray(inv(lam_t), dtype=float)
     spec = np.fft.rfft(i_t) * 2.0 / samples

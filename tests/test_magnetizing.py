@@ -176,3 +176,45 @@ def test_damped_inrush_on_a_saturating_curve_by_an_independent_integration():
             inrush_peak(i, lam, v, f, r, bad)
     with pytest.raises(DriveError, match="extend it"):
         inrush_peak(i[:300], lam[:300], v, f, r, 0.0)
+
+
+@pytest.mark.parametrize("duty", [1.0, 0.5, 0.2])
+def test_square_voltage_flux_linkage_is_faradays_law(duty):
+    from magcheck.analytic.magnetizing import flux_linkage_wave, square_peak_flux_linkage
+
+    v, f = 48.0, 1e5
+    lam = square_peak_flux_linkage(v, f, duty)
+    # Source: Faraday's law (exact): a pulse of +-V/sqrt(D) lasting D/(2f) swings lambda by
+    # 2 lambda_pk, so lambda_pk = V sqrt(D)/(4 f); at D = 1 the square-wave form
+    # V = 4 f N A_c B_pk of the EMF equation (Kulkarni and Khaparde, Transformer Engineering)
+    assert lam == pytest.approx(v * math.sqrt(duty) / (4 * f), rel=1e-15)
+    phase = np.linspace(0.0, 1.0, 4001)
+    wave = flux_linkage_wave(lam, phase, "square", duty)
+    slope = np.diff(wave) / np.diff(phase / f)  # d lambda / dt = v(t)
+    v_pk = v / math.sqrt(duty)
+    on = np.abs(slope) > 1e-6 * v_pk
+    np.testing.assert_allclose(np.abs(slope[on]), v_pk, rtol=1e-9)  # exact but for the knees
+    # the voltage's rms over the period is the case's V (the fraction D of the time at V/sqrt(D))
+    assert math.sqrt(np.mean(np.where(on, v_pk, 0.0) ** 2)) == pytest.approx(v, rel=2e-3)
+    assert wave.max() == pytest.approx(lam, rel=1e-12) and wave.min() == pytest.approx(-lam)
+    for bad in (0.0, 1.5, math.nan):
+        with pytest.raises(DriveError):
+            square_peak_flux_linkage(v, f, bad)
+
+
+def test_linear_core_under_a_square_voltage_gives_a_triangular_current():
+    # Source: exact for lambda = L i: i(t) is a triangle of peak lambda_pk / L, whose rms is
+    # peak / sqrt(3) and whose odd harmonics are 8/(pi^2 n^2) of its peak (the Fourier series
+    # of a triangle wave; any table of Fourier series, e.g. Kreyszig, Advanced Engineering
+    # Mathematics, ch. 11 [from memory]): n-th in percent of the fundamental 100/n^2.
+    L, lam_pk = 0.5, 0.25
+    i = np.linspace(0.0, 1.0, 11)
+    m = magnetizing_current(i, L * i, lam_pk, 100.0, shape="square")
+    peak = lam_pk / L
+    assert m.peak == pytest.approx(peak, rel=1e-12)
+    assert m.rms == pytest.approx(peak / math.sqrt(3.0), rel=1e-4)  # 256 samples of a triangle
+    assert m.fundamental == pytest.approx(8.0 / math.pi ** 2 * peak, rel=1e-4)  # aliasing
+    for n in (3, 5, 7):
+        # the 256-sample DFT aliases the harmonics 256 k +- n onto n: 0.24 % on the 7th
+        assert m.harmonics_pct[n] == pytest.approx(100.0 / n ** 2, rel=5e-3)
+    assert m.inductance == pytest.approx(L * math.pi ** 2 / 8.0, rel=1e-4)

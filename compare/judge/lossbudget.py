@@ -134,3 +134,54 @@ def budget_notes(case: Case, budget: Any) -> tuple[str, ...]:
 def budget_warnings(budget: Any) -> list[str]:
     """The loss data's range warnings (one line each)."""
     return [f"core loss: {m}" for m in budget.core.out_of_range] if budget is not None else []
+
+
+def _where(p: Any) -> str:
+    return ", ".join(f"{k} = {v:g}" for k, v in p.settings.items()) or f"point {p.index}"
+
+
+def point_loss_value(p: Any, key: str, with_fe: bool) -> float:
+    """A sweep point's (or a sample's) value of a loss figure as the check judges it: the FE's
+    3D column (``fe["loss_<key>_3d"]``, compare.models.loss.point_budget), the hand 3D value
+    for a hand-only run."""
+    if with_fe:
+        return float(p.fe.get(f"loss_{key}_3d", math.nan))
+    return float(p.hand.get(f"loss_{key}", math.nan))
+
+
+def sweep_loss_margins(case: Case, points: Any, with_fe: bool) -> list:
+    """The loss margins (``[margins]`` total_loss, core_loss, efficiency (min), regulation,
+    temperature_rise) judged along a sweep: each on the worst point (the largest value of a
+    maximum, the smallest of a minimum; the FE's 3D column, the hand's 3D value for a
+    hand-only sweep), its note naming that point and the first point in grid order that
+    fails the limit (or that every point meets it). Keys ``<margin>:sweep``. Empty for a case
+    without a loss budget."""
+    from .margins import MarginResult
+
+    out: list = []
+    if case.loss is None or case.core_loss is None:
+        return out
+    from ..models.loss import BUDGET_UNITS
+
+    m = case.margins
+    for key, attr, kind in _MARGINS:
+        limit = getattr(m, attr)
+        if limit is None:
+            continue
+        if key in ("efficiency", "regulation"):
+            limit = 100.0 * limit
+        vals = [(point_loss_value(p, key, with_fe), p) for p in points]
+        vals = [(v, p) for v, p in vals if math.isfinite(v)]
+        if not vals:
+            continue
+        pick = max if kind == "max" else min
+        worst, at = pick(vals, key=lambda vp: vp[0])
+        fails = [p for v, p in vals if (v > limit if kind == "max" else v < limit)]
+        first = (f"first fails at {_where(fails[0])}" if fails
+                 else f"met at all {len(vals)} points")
+        hand = float(at.hand.get(f"loss_{key}", math.nan))
+        out.append(MarginResult(f"{key}:sweep", f"{LABELS[key]}, worst over the sweep, {kind}",
+                                BUDGET_UNITS[key], kind, limit, worst, hand=hand,
+                                basis="FE" if with_fe else "hand",
+                                note=f"worst at {_where(at)}; {first}"))
+    return out

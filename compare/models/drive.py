@@ -4,7 +4,12 @@ each model needs, and the peak flux density.
 The first winding may be driven by a sinusoidal voltage (``voltage``, rms,
 and ``frequency``) instead of a current.  Its resistance is neglected, so
 the flux linkage is lambda(t) = lambda_pk sin(wt) with lambda_pk =
-sqrt(2) V / (2 pi f) (analytic.magnetizing), and the other windings carry
+sqrt(2) V / (2 pi f) (analytic.magnetizing); a case whose ``[loss]`` says
+the voltage is a square wave (``waveform = "square"``, duty D) gets the
+trapezoidal flux linkage of that square (a triangle for D = 1) with
+lambda_pk = V sqrt(D) / (4 f) (:func:`drive_linkage`; the inrush estimate
+keeps the sine's first-cycle bound (2 + r) lambda_pk, which a square's first
+pulse also gives, and its damped ODE a sine).  The other windings carry
 their stated currents (0 A: open).  Each model gives the magnetizing
 current from its own lambda-i curve (analytic.magnetizing.magnetizing_current):
 
@@ -55,7 +60,7 @@ from scipy.optimize import brentq
 from magcheck.analytic.bh import BHRangeWarning
 from magcheck.analytic.magnetizing import (DriveError, InrushPeak, MagnetizingCurrent,
                                            inrush_flux_linkage, inrush_peak, magnetizing_current,
-                                           peak_flux_linkage)
+                                           peak_flux_linkage, square_peak_flux_linkage)
 
 from ..errors import RunError
 
@@ -102,12 +107,32 @@ def _lambda_of(case: Any, planar: bool, fringing: str | None) -> float:
     return abs(run_hand(case, planar=planar, fringing=fringing).flux_linkage)
 
 
+def drive_waveform(case: Any) -> tuple[str, float]:
+    """The drive voltage's shape and duty: ("square", D) when the case's ``[loss]`` says the
+    voltage is a square wave (``waveform = "square"``, its ``duty``), else ("sine", 1)."""
+    spec = getattr(case, "loss", None)
+    if spec is not None and spec.waveform == "square":
+        return "square", float(spec.duty)
+    return "sine", 1.0
+
+
+def drive_linkage(case: Any) -> float:
+    """The driven winding's peak flux linkage (Wb-turns): sqrt(2) V / (2 pi f) for a sine,
+    V sqrt(D) / (4 f) for a square voltage (:func:`drive_waveform`;
+    analytic.magnetizing equations (1) and (2))."""
+    w = case.winding
+    shape, duty = drive_waveform(case)
+    if shape == "square":
+        return square_peak_flux_linkage(w.voltage, w.frequency, duty)
+    return peak_flux_linkage(w.voltage, w.frequency)
+
+
 def hand_peak_current(case: Any, planar: bool = False, fringing: str | None = None) -> float:
     """The current (A) at which the hand network's flux linkage of the
     driven winding is lambda_pk (``fringing``: a fringing model other than
     the case's)."""
     w = case.winding
-    return hand_current_at(case, peak_flux_linkage(w.voltage, w.frequency), planar, fringing)
+    return hand_current_at(case, drive_linkage(case), planar, fringing)
 
 
 def hand_current_at(case: Any, linkage: float, planar: bool = False,
@@ -152,12 +177,13 @@ def hand_depth_ratios(case: Any, fringing: str | None = None) -> dict[str, float
     curves as :func:`run_drive` makes them.  The peak flux densities keep
     1 (the EMF equation's B does not depend on the gaps)."""
     w = case.winding
-    lam_pk = peak_flux_linkage(w.voltage, w.frequency)
+    lam_pk = drive_linkage(case)
+    shape, duty = drive_waveform(case)
     m = {}
     for planar in (True, False):
         i_top = 1.02 * hand_peak_current(case, planar, fringing)
         m[planar] = magnetizing_current(*hand_curve(case, planar, i_top, fringing), lam_pk,
-                                        w.frequency)
+                                        w.frequency, shape=shape, duty=duty)
     out = {"B_peak": 1.0, "B_limb_peak": 1.0}
     for k, attr in (("magnetizing_current_peak", "peak"), ("magnetizing_current_rms", "rms"),
                     ("magnetizing_inductance", "inductance")):
@@ -266,15 +292,17 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
     from ..design.case import with_current
 
     w = case.winding
-    lam_pk = peak_flux_linkage(w.voltage, w.frequency)
+    lam_pk = drive_linkage(case)
+    shape, duty = drive_waveform(case)
+    wave: dict[str, Any] = {"shape": shape, "duty": duty}
     i3 = hand_peak_current(case)
     ip = hand_peak_current(case, planar=True)
     # 2 % past the peak current, so the curve's top is not the peak itself to rounding
     curves = {"hand": hand_curve(case, True, 1.02 * ip),
               "hand_3d": hand_curve(case, False, 1.02 * i3)}
     f = w.frequency
-    hand_p = magnetizing_current(*curves["hand"], lam_pk, f)
-    hand_3 = magnetizing_current(*curves["hand_3d"], lam_pk, f)
+    hand_p = magnetizing_current(*curves["hand"], lam_pk, f, **wave)
+    hand_3 = magnetizing_current(*curves["hand_3d"], lam_pk, f, **wave)
     # FE currents where the (planar) hand curve passes lambda_pk k / FE_POINTS, and 5 % past it
     inv = PchipInterpolator(curves["hand"][1], curves["hand"][0])
     targets = [float(inv(lam_pk * k / FE_POINTS)) for k in range(1, FE_POINTS)] + [ip, 1.05 * ip]
@@ -327,11 +355,12 @@ def run_drive(case: Any, fe_result: Any) -> DriveResult:
         solve(top)
     curves["fe"] = (np.array(i_fe), np.array(lam_fe))
     try:
-        fe_m = magnetizing_current(*curves["fe"], lam_pk, f)
+        fe_m = magnetizing_current(*curves["fe"], lam_pk, f, **wave)
         # the inversion's own error, bounded by the same waveform from every
         # other point (twice the spacing; the last point, past lambda_pk, kept)
         keep = sorted(set(range(0, len(i_fe), 2)) | {len(i_fe) - 1})
-        fe_half = magnetizing_current(np.array(i_fe)[keep], np.array(lam_fe)[keep], lam_pk, f)
+        fe_half = magnetizing_current(np.array(i_fe)[keep], np.array(lam_fe)[keep], lam_pk, f,
+                                      **wave)
     except DriveError as exc:
         raise RunError(f"FE magnetizing current: {exc}") from None
     i_at = float(PchipInterpolator(curves["fe"][1], curves["fe"][0])(lam_pk))

@@ -52,7 +52,8 @@ from ..design.case import Case, LossSpec, with_current
 from ..design.coremodel import core_model
 
 __all__ = ["has_loss", "flux_frequency", "target_linkage", "density_law", "hand_core_loss",
-           "fe_core_loss", "CoreLoss", "run_core_loss", "surface_area"]
+           "fe_core_loss", "CoreLoss", "run_core_loss", "surface_area", "budget_entries",
+           "point_budget", "POINT_KEYS", "layout_surface_area"]
 
 
 def has_loss(case: Case) -> bool:
@@ -441,13 +442,32 @@ def run_budget(case: Case, fe: Any, ac: Any = None, leakage: dict | None = None)
     ``ac``; else ``[loss] resistances`` with the ripple's rms), the total, a transformer's
     efficiency at rated load and at ``load_fraction`` and its regulation (R of both windings
     and the leakage reactance ``leakage`` {"hand", "fe"} (H, referred to the first winding),
-    referred to the second; analytic.loss_budget), and the temperature-rise estimate."""
+    referred to the second; analytic.loss_budget), and the temperature-rise estimate
+    (:func:`budget_entries` assembles them)."""
     from magcheck.analytic import loss_budget as lb
 
     core = run_core_loss(case, fe)
+    area = surface_area(case, fe.solution)
+    e, tr = budget_entries(case, _entry(core.hand, core.fe, core.uncertainty, core.hand_3d,
+                                        core.fe_3d), ac, leakage, area)
+    return LossBudget(core, e, area, tr, lb.RISE_SOURCE)
+
+
+def budget_entries(case: Case, core: dict, ac: Any = None, leakage: dict | None = None,
+                   area: float = math.nan) -> tuple[dict, dict]:
+    """The budget's entries (key -> {"hand", "fe", "uncertainty", "hand_3d", "fe_3d"}) and a
+    transformer's load figures from the core loss ``core`` (such an entry, W), the AC
+    winding's figures ``ac`` (an object with ``hand``, ``fe``, ``hand_3d``, ``fe_3d``,
+    ``uncertainty`` dicts holding R_dc and R_ac, and ``current_ac``; compare.models.ac's
+    ACResult), the leakage inductance ``leakage`` {"hand", "fe"} (H) and the outside
+    surface ``area`` (m^2). The one assembly of the check (:func:`run_budget`) and of a sweep
+    point (:func:`point_budget`)."""
+    from magcheck.analytic import loss_budget as lb
+
     spec = _spec(case)
-    e: dict[str, dict] = {"core_loss": _entry(core.hand, core.fe, core.uncertainty,
-                                              core.hand_3d, core.fe_3d)}
+    e: dict[str, dict] = {"core_loss": dict(core)}
+    c_h, c_f, c_h3, c_f3 = core["hand"], core["fe"], core["hand_3d"], core["fe_3d"]
+    u_core = core["uncertainty"]
     w = case.winding
     tr: dict[str, Any] = {}
     if spec.load_current is not None and case.extra_windings:
@@ -462,7 +482,7 @@ def run_budget(case: Case, fe: Any, ac: Any = None, leakage: dict | None = None)
         tr = {"v_nl": v_nl, "load_current": i2, "fraction": spec.load_fraction,
               "power_factor": spec.power_factor, "r": r, "x_hand": xs["hand"], "x_fe": xs["fe"]}
         pts = {}
-        for m, p_core, p_core3 in (("hand", core.hand, core.hand_3d), ("fe", core.fe, core.fe_3d)):
+        for m, p_core, p_core3 in (("hand", c_h, c_h3), ("fe", c_f, c_f3)):
             x = xs[m] if math.isfinite(xs[m]) else 0.0
             pts[m] = (lb.load_point(v_nl, i2, 1.0, r, x, spec.power_factor, p_core),
                       lb.load_point(v_nl, i2, spec.load_fraction, r, x, spec.power_factor,
@@ -472,7 +492,7 @@ def run_budget(case: Case, fe: Any, ac: Any = None, leakage: dict | None = None)
                                     p_core3))
         cu_val = pts["hand"][0].copper_loss
         e["copper_loss"] = _entry(cu_val, cu_val, 0.0, cu_val, cu_val)
-        u = core.uncertainty
+        u = u_core
         for key, j in (("efficiency", 0), ("efficiency_part", 1)):
             fe_pt = pts["fe"][j]
             loss_fe = fe_pt.output * (1.0 / fe_pt.efficiency - 1.0)
@@ -504,10 +524,76 @@ def run_budget(case: Case, fe: Any, ac: Any = None, leakage: dict | None = None)
               if k in ("core_loss", "copper_loss", "winding_loss_ac")
               and math.isfinite(v["uncertainty"]))
     e["total_loss"] = _entry(total["hand"], total["fe"], unc, total["hand_3d"], total["fe_3d"])
-    area = surface_area(case, fe.solution)
     rise = {col: lb.temperature_rise(total[col], area) for col in total}
     e["temperature_rise"] = _entry(rise["hand"], rise["fe"],
                                    lb.RISE_EXPONENT * rise["fe"] * unc / total["fe"]
                                    if total["fe"] > 0 else math.nan,
                                    rise["hand_3d"], rise["fe_3d"])
-    return LossBudget(core, e, area, tr, lb.RISE_SOURCE)
+    return e, tr
+
+
+# ------------------------------------------------------------------ one operating point
+POINT_KEYS = ("core_loss", "copper_loss", "winding_loss_ac", "total_loss", "efficiency",
+              "efficiency_part", "regulation", "temperature_rise")
+"""The budget's keys a sweep point or a tolerance sample carries (``loss_<key>``; those the
+case has)."""
+
+
+def layout_surface_area(case: Case) -> float:
+    """:func:`surface_area` without a mesh (a hand-only sweep point): the same box round the
+    layout's regions (their bounding boxes; equal to the mesh's for straight-sided regions,
+    a curved outline's polygon lies within it)."""
+    if case.loss is not None and case.loss.surface_area:
+        return float(case.loss.surface_area)
+    from .fe import case_layout
+
+    boxes = np.array([r.bbox() for r in case_layout(case).regions
+                      if r.name not in ("air", "exterior")])
+    x0, y0 = boxes[:, 0].min(), boxes[:, 1].min()
+    x1, y1 = boxes[:, 2].max(), boxes[:, 3].max()
+    if core_model(case).axisymmetric:
+        radius, height = float(x1), float(y1 - y0)
+        return 2.0 * math.pi * radius ** 2 + 2.0 * math.pi * radius * height
+    build = max((w.inner + w.clearance + w.thickness for w in case.windings), default=0.0)
+    d = case.depth + 2.0 * build
+    w_, h_ = float(x1 - x0), float(y1 - y0)
+    return 2.0 * (w_ * h_ + w_ * d + h_ * d)
+
+
+def point_budget(case: Case, sol: Any = None, *, hand_core: tuple[float, float] | None = None,
+                 ac_hand: dict | None = None, ac_fe: dict | None = None,
+                 leakage: dict | None = None) -> dict[str, dict]:
+    """The loss budget at one operating point (a sweep point, a tolerance sample) from the
+    point's own static solution ``sol`` (None: hand only, the FE columns NaN): no solve of its
+    own beyond the linear tangent solve of the core's swing. The same assembly as the check
+    (:func:`budget_entries`), so at the case's own operating point on the check's finest mesh
+    it gives the check's values; no three-mesh uncertainty.
+
+    hand_core : the planar and 3D hand core loss (W) when already computed, else computed.
+    ac_hand : compare.models.ac.hand_ac's {"planar": {...}, "3d": {...}} (an AC winding).
+    ac_fe : compare.models.ac.fe_ac's "values" (planar FE) on ``sol``.
+    leakage : {"hand", "fe"} leakage inductance (H) of a transformer's concentric pair.
+    Returns key -> {"hand", "hand_3d", "fe", "fe_3d"} for the keys of :data:`POINT_KEYS` the
+    case has (W, K; efficiency and regulation in percent)."""
+    from types import SimpleNamespace
+
+    if hand_core is None:
+        hand_core = (hand_core_loss(case, planar=True)["total"],
+                     hand_core_loss(case, planar=False)["total"])
+    hp, h3 = hand_core
+    ratio = h3 / hp if hp > 0 else 1.0
+    fe = fe_core_loss(case, sol)["total"] if sol is not None else math.nan
+    core = _entry(hp, fe, math.nan, h3, fe * ratio)
+    ac = None
+    if ac_hand is not None and case.winding.ac is not None:
+        hand, hand3 = ac_hand["planar"], ac_hand["3d"]
+        fev = ac_fe if ac_fe is not None else {k: math.nan for k in hand}
+        r3 = {k: (hand3[k] / hand[k] if hand.get(k) and math.isfinite(hand3[k] / hand[k])
+                  else 1.0) for k in ("R_dc", "R_ac")}  # compare.models.ac.run_ac's 3D ratio
+        ac = SimpleNamespace(hand=hand, hand_3d=hand3, fe=fev, uncertainty={},
+                             fe_3d={k: fev[k] * r3[k] for k in ("R_dc", "R_ac")},
+                             current_ac=float(case.winding.ac.current))
+    area = surface_area(case, sol) if sol is not None else layout_surface_area(case)
+    entries, _ = budget_entries(case, core, ac, leakage, area)
+    return {k: {c: float(v[c]) for c in ("hand", "hand_3d", "fe", "fe_3d")}
+            for k, v in entries.items()}

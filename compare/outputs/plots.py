@@ -1327,7 +1327,64 @@ def sweep_figures(res, saturation: Sequence[dict] = ()) -> list[tuple[str, Any]]
         out.append(("sweep_force.png", fig_sweep_force(res, groups, x_of, x_label)))
     if res.points and "ac_R_ac_ratio" in res.points[0].hand_planar:
         out.append(("sweep_ac.png", fig_sweep_ac(res, x_key, x_of, x_label)))
+    if res.points and "loss_total_loss" in res.points[0].hand:
+        out.append(("sweep_loss.png", fig_sweep_loss(res, x_key, x_of, x_label)))
     return out
+
+
+_LOSS_UNIT = {"core_loss": "W", "total_loss": "W", "temperature_rise": "K", "efficiency": "%"}
+
+
+def _loss_value(p, key: str, model: str) -> float:
+    """A sweep point's loss-budget figure as the check's 3D columns give it: the hand's 3D
+    value, the FE's 3D column (compare.models.loss.point_budget)."""
+    if model == "hand":
+        return p.hand.get(f"loss_{key}", math.nan)
+    return p.fe.get(f"loss_{key}_3d", math.nan)
+
+
+def fig_sweep_loss(res, x_key: str, x_of, x_label: str):
+    """The loss budget along a sweep (compare.models.loss.point_budget): core and total loss
+    (W), the temperature-rise estimate (K) and a transformer's efficiency at rated load (%),
+    hand and FE side by side (both 3D, the values the margins are judged on), each limit of
+    ``[margins]`` drawn; log axes when a frequency is swept."""
+    from ..judge.lossbudget import sweep_loss_margins
+
+    pts = sorted(res.points, key=x_of)
+    x = [x_of(p) for p in pts]
+    m = res.case.margins
+    panels = [("loss (W)", (("core_loss", "core loss", m.core_loss, 1.0),
+                            ("total_loss", "total loss", m.total_loss, 1.0))),
+              ("temperature rise, estimate (K)",
+               (("temperature_rise", "temperature rise", m.temperature_rise, 1.0),))]
+    if "loss_efficiency" in pts[0].hand:
+        panels.append(("efficiency at rated load (%)",
+                       (("efficiency", "efficiency", m.efficiency, 100.0),)))
+    models = ("hand", "FE") if res.with_fe else ("hand",)
+    fig, axes = plt.subplots(1, len(panels), figsize=(5.2 * len(panels), 4.2), squeeze=False)
+    log_x = x_key.endswith("frequency") and all(v > 0 for v in x)
+    for ax, (ylabel, series) in zip(axes[0], panels):
+        for s, (key, what, limit, scale) in enumerate(series):
+            for model in models:
+                style: dict[str, Any] = dict(_SWEEP_STYLE[(model, s)])
+                ax.plot(x, [_loss_value(p, key, model.lower()) for p in pts], _SERIES_LINE[s],
+                        lw=1.2, label=f"{model} {what}" + (" (3D, judged)" if model == "FE"
+                                                           else " (3D)"), **style)
+            if limit is not None:
+                ax.axhline(scale * limit, color=MARGIN_COLOUR, lw=1.4, ls="--" if s == 0 else ":",
+                           label=f"{what} limit {scale * limit:.4g} {_LOSS_UNIT[key]}")
+        if log_x:
+            ax.set_xscale("log")
+        ax.set_xlabel(x_label)
+        ax.set_ylabel(ylabel)
+        ax.grid(alpha=0.3, which="both")
+        ax.legend(fontsize=7)
+    failed = [r for r in sweep_loss_margins(res.case, res.points, res.with_fe)
+              if r.margin_pct < 0]
+    fig.suptitle(f"{res.case.name}: loss budget along the sweep, hand and FE (3D)"
+                 + (f"; {len(failed)} loss margin(s) missed" if failed else ""), fontsize=10)
+    fig.tight_layout()
+    return fig
 
 
 def fig_sweep_ac(res, x_key: str, x_of, x_label: str):
@@ -1461,21 +1518,33 @@ def _tolerance_limits(res) -> dict[str, list[tuple[str, float]]]:
     for lim in m.saturation:
         if lim.kind == "incremental" and math.isclose(lim.drop, res.drop):
             out["saturation_current"].append((f"min {lim.min:.4g} A", lim.min))
+    for k, kind, scale in _LOSS_LIMITS:  # the loss budget's margins (percent from fractions)
+        limit = getattr(m, k, None)
+        if k in res.values and limit is not None:
+            unit = _TOLERANCE_UNITS[k][1]
+            out[k].append((f"{kind} {scale * limit:.4g} {unit}", scale * limit))
     return out
 
 
+_LOSS_LIMITS = (("total_loss", "max", 1.0), ("core_loss", "max", 1.0),
+                ("efficiency", "min", 100.0), ("regulation", "max", 100.0),
+                ("temperature_rise", "max", 1.0))
 _TOLERANCE_UNITS = {"inductance": (1e3, "mH"), "peak_B": (1.0, "T"),
-                    "saturation_current": (1.0, "A")}
+                    "saturation_current": (1.0, "A"), "total_loss": (1.0, "W"),
+                    "core_loss": (1.0, "W"), "efficiency": (1.0, "%"),
+                    "regulation": (1.0, "%"), "temperature_rise": (1.0, "K")}
 
 
 def tolerance_panels(res) -> list[str]:
     """The figures the tolerance figure draws, one panel each: the
     inductance as each window judges it (``inductance_<kind>@<I>A``, at the
     window's own current) or, with no window, the L at the case's current;
-    then peak B and the saturation current."""
+    then peak B, the saturation current and the loss margins' figures (total and core loss,
+    efficiency, regulation, temperature rise, as judged)."""
     windows = [k for k in res.values if k.startswith("inductance_")]
     return (windows or ["inductance"]) + [k for k in ("peak_B", "saturation_current")
-                                          if k in res.values]
+                                          if k in res.values] + [
+        k for k, _, _ in _LOSS_LIMITS if k in res.values]  # the loss margins' figures
 
 
 def tolerance_figure(res, labels: dict[str, str]):

@@ -158,6 +158,10 @@ def sweep_column_unit(column: str, swept: Sequence[str] = (), family: Any = None
     for prefix in ("hand_planar_", "hand_", "fe_3d_", "fe_"):
         if column.startswith(prefix) and column[len(prefix):] in UNITS:
             return UNITS[column[len(prefix):]]
+        if column.startswith(prefix + "loss_"):  # the loss budget's (compare.models.loss)
+            from ..models.loss import BUDGET_UNITS
+
+            return BUDGET_UNITS.get(column[len(prefix) + 5:], "")
     return SWEEP_EXTRA_UNITS.get(column, "")
 
 

@@ -236,6 +236,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
 
     mesh = None
     ac_state: tuple = ()  # (settings, FESolve, HarmonicProblem) of the last AC point
+    leak_cache: dict = {}  # a transformer's FE leakage inductance per mesh and geometry
     # One linear-solver factory for the whole block: the factorisation (or
     # AMG hierarchy) built for one tangent preconditions the next points' too
     # (same mesh, same sparsity) until CG slows down; the CG operator is
@@ -266,11 +267,9 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
             hh = hand_ac(case, hp.values()["incremental_inductance"],
                          h3.values()["incremental_inductance"])
             ac_h = {form: {f"ac_{k}": v for k, v in hh[form].items()} for form in ac_h}
-        if case.loss is not None and case.core_loss is not None:  # the core loss (models.loss)
-            from ..models.loss import hand_core_loss
-
-            for form, planar in (("planar", True), ("3d", False)):
-                ac_h[form]["loss_core_loss"] = hand_core_loss(case, planar=planar)["total"]
+        budget_args: dict[str, Any] = {}
+        if case.loss is not None and case.core_loss is not None:  # the loss budget (models.loss)
+            budget_args = _hand_budget(case, hh if has_ac(case) else None, ac_h)
         base: dict[str, Any] = dict(index=idx, settings=settings, current=current,
                     hand=h3.values() | h3.force_values | ac_h["3d"],
                     hand_planar=hp.values() | hp.force_values | ac_h["planar"],
@@ -341,17 +340,70 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
             with threadpool_limits(limits=1):
                 acv = fe_ac(case, sol, problem=prob)["values"]
             q = dataclasses.replace(q, values={**q.values, **{f"ac_{k}": v for k, v in acv.items()}})
-        if case.loss is not None and case.core_loss is not None:  # the FE core loss, this mesh
-            from ..models.loss import fe_core_loss
-
-            q = dataclasses.replace(q, values={**q.values,
-                                               "loss_core_loss": fe_core_loss(case, sol)["total"]})
+        if budget_args:  # the loss budget on this point's solution (no further nonlinear solve)
+            loss_fe = _fe_budget(case, sol, mesh, settings, budget_args, ac_h,
+                                 acv if has_ac(case) else None, leak_cache)
+            q = dataclasses.replace(q, values={**q.values, **loss_fe})
+            base["hand"] = {**base["hand"], **ac_h["3d"]}
+            base["hand_planar"] = {**base["hand_planar"], **ac_h["planar"]}
         out.append(PointResult(**base, fe=dict(q.values) | q.force_values | q.magnet_values,
                                fe_peak_B=q.peak_B,
                                iterations=q.iterations, seconds=time.perf_counter() - t0,
                                start=start, ndofs=q.ndofs,
                                first_residual=float(sol.residual_history[0])))
     return tuple(out)
+
+
+def _hand_budget(case: Case, hh: dict | None, ac_h: dict) -> dict[str, Any]:
+    """Add the hand loss budget of a point (compare.models.loss.point_budget, hand only) to
+    ``ac_h`` as ``loss_<key>`` (planar and 3D forms); returns what the FE stage reuses."""
+    from ..models.coupling import concentric_pair, hand_leakage
+    from ..models.loss import hand_core_loss, point_budget
+
+    hand_core = (hand_core_loss(case, planar=True)["total"],
+                 hand_core_loss(case, planar=False)["total"])
+    leakage = {"hand": hand_leakage(case)} if concentric_pair(case) is not None else None
+    args: dict[str, Any] = {"hand_core": hand_core, "ac_hand": hh, "leakage": leakage}
+    for key, v in point_budget(case, **args).items():
+        ac_h["planar"][f"loss_{key}"] = v["hand"]
+        ac_h["3d"][f"loss_{key}"] = v["hand_3d"]
+    return args
+
+
+_DRIVE_SUFFIXES = (".current", ".voltage", ".frequency")
+
+
+def _leakage_key(settings: dict) -> tuple:
+    """The settings an FE leakage inductance depends on: all but the drive (currents,
+    voltages, frequencies, ``winding.ac.*``, ``loss.*``): its solve has its own balanced
+    ampere-turns."""
+    return tuple(sorted((k, v) for k, v in settings.items()
+                        if not (k.endswith(_DRIVE_SUFFIXES) or ".ac." in k
+                                or k.startswith("loss."))))
+
+
+def _fe_budget(case: Case, sol: Any, mesh: Any, settings: dict, args: dict, ac_h: dict,
+               acv: dict | None, leak_cache: dict) -> dict[str, float]:
+    """The FE loss budget of a point on its solution ``sol``: ``loss_<key>`` (planar FE) and
+    ``loss_<key>_3d`` (the FE's 3D column, as the check's); the hand columns in ``ac_h``
+    refreshed from the same call (the surface area from the mesh, as the check's)."""
+    from ..models.loss import point_budget
+
+    args = dict(args)
+    if args.get("leakage") is not None:  # a transformer's FE leakage (one linear-range solve)
+        from ..models.coupling import fe_leakage
+
+        key = (id(mesh), _leakage_key(settings))
+        if key not in leak_cache:
+            leak_cache[key] = fe_leakage(case, mesh)
+        args["leakage"] = {**args["leakage"], "fe": leak_cache[key]}
+    out: dict[str, float] = {}
+    for k, v in point_budget(case, sol, ac_fe=acv, **args).items():
+        ac_h["planar"][f"loss_{k}"] = v["hand"]
+        ac_h["3d"][f"loss_{k}"] = v["hand_3d"]
+        out[f"loss_{k}"] = v["fe"]
+        out[f"loss_{k}_3d"] = v["fe_3d"]
+    return out
 
 
 CLI_OPTIONS: dict[str, str] = {"vary": "--vary", "predictor": "--predictor", "block": "--block"}
@@ -478,6 +530,9 @@ def sweep_rows(res: SweepResult) -> list[dict]:
         if res.with_fe:
             r.update({f"fe_{k}": p.fe.get(k, math.nan) for k in (*HAND_KEYS, *ac)})
             r["fe_3d_inductance"] = p.fe.get("inductance", math.nan) * _fe_3d(p, "inductance")
+            # the loss budget's FE 3D column (compare.models.loss.point_budget, as the check's)
+            r.update({f"fe_3d_{k}": p.fe.get(f"{k}_3d", math.nan)
+                      for k in ac if k.startswith("loss_")})
             r.update({f"fe_{k}": p.fe.get(k, math.nan)
                       for k in ("force_maxwell", "force_virtual_work") if forces})
             r["fe_peak_B"] = p.fe_peak_B
@@ -513,11 +568,13 @@ def sweep_margins(res: SweepResult, drops: Sequence[float] = (), kind: str = "in
     """Margins judged along each L(I) curve of a sweep, and the saturation
     table (:func:`compare.judge.margins.curve_margins`, with each point's depth
     correction of the FE values as ``magcheck check`` applies it)."""
+    from ..judge.lossbudget import sweep_loss_margins
     from ..judge.margins import stroke_margins, sweep_demagnetisation
 
     margins, table = curve_margins(res.case, curves(res), res.with_fe, drops, kind, fe_3d=_fe_3d)
     return (margins + stroke_margins(res.case, res.points, res.with_fe)
-            + sweep_demagnetisation(res.case, res.points, res.with_fe)), table
+            + sweep_demagnetisation(res.case, res.points, res.with_fe)
+            + sweep_loss_margins(res.case, res.points, res.with_fe)), table
 
 
 # --------------------------------------------------------------------------- force curve

@@ -170,13 +170,14 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
             h = run_hand(case)
             sat = hand_saturation_current(case, task.drop, kind="incremental", rtol=1e-4)
             hp = _hand_peak(h)
+            sol, mesh = None, None
             fe_peak, fe_l, fe_at = math.nan, math.nan, None
             fe_force, fe_h_min = math.nan, math.nan
             hand_force = h.force_values.get("force", math.nan)
             if task.with_fe:
                 mesh = mesh_case(case)
                 with threadpool_limits(limits=1):  # one BLAS thread per worker (see sweep.run_block)
-                    q, _, _ = solve_case(case, mesh)
+                    q, sol, _ = solve_case(case, mesh)
                 # the depth model ranked against this sample's planar FE, as
                 # magcheck check chooses it (compare.judge.check.choose_depth_model)
                 depth = choose_depth_model(case, q.values, own=(run_hand(case, planar=True), h))
@@ -207,12 +208,66 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
                                      fe_force=fe_force, hand_force=hand_force,
                                      fe_magnet_H_min=fe_h_min,
                                      nominal_stroke=task.nominal_stroke)
+            margins += sample_loss_margins(case, sol, mesh, h)
             out.append(SampleResult(idx, settings, h.inductance, hp, sat, fe_l, fe_peak,
                                     task.with_fe, tuple(margins)))
         except RunError as exc:
             out.append(SampleResult(idx, settings, math.nan, math.nan, math.nan, ok=False,
                                     message=str(exc)))
     return tuple(out)
+
+
+LOSS_FIGURES = ("total_loss", "core_loss", "efficiency", "regulation", "temperature_rise")
+"""The loss budget's margins a sample is judged on (``[margins]``; compare.judge.lossbudget),
+each also a figure of the study (W, W, %, %, K)."""
+
+
+def sample_loss_margins(case: Case, sol: object, mesh: object, h: object) -> list[MarginResult]:
+    """A sample's loss margins (those of :data:`LOSS_FIGURES` the case declares; none without
+    a loss budget): the loss budget at the sample's operating point
+    (compare.models.loss.point_budget) on its own FE solution ``sol`` (None: hand only), the
+    value the FE's 3D column (the hand's 3D value without FE), as the check judges it; an AC
+    winding's harmonic solve (linear) and a transformer's leakage solve on the sample's mesh
+    ``mesh``, only when a loss margin is declared. ``h``: the sample's 3D hand result."""
+    from ..judge.lossbudget import LABELS, _MARGINS
+    from ..models.loss import BUDGET_UNITS, has_loss, hand_core_loss, point_budget
+
+    m = case.margins
+    wanted = [(k, kind, getattr(m, a)) for k, a, kind in _MARGINS if getattr(m, a) is not None]
+    if not has_loss(case) or not wanted:
+        return []
+    from ..models.ac import has_ac
+    from ..models.coupling import concentric_pair, fe_leakage, hand_leakage
+
+    ac_hand = ac_fe = leakage = None
+    if has_ac(case):
+        from ..models.ac import fe_ac, hand_ac
+        from ..models.hand import run_hand
+
+        ac_hand = hand_ac(case, run_hand(case, planar=True).values()["incremental_inductance"],
+                          h.values()["incremental_inductance"])  # type: ignore[attr-defined]
+        if sol is not None:
+            ac_fe = fe_ac(case, sol)["values"]
+    if concentric_pair(case) is not None:
+        leakage = {"hand": hand_leakage(case)}
+        if mesh is not None:
+            leakage["fe"] = fe_leakage(case, mesh)
+    hand_core = (hand_core_loss(case, planar=True)["total"],
+                 hand_core_loss(case, planar=False)["total"])
+    b = point_budget(case, sol, hand_core=hand_core, ac_hand=ac_hand, ac_fe=ac_fe,
+                     leakage=leakage)
+    out = []
+    for key, kind, limit in wanted:
+        if key not in b:
+            continue
+        if key in ("efficiency", "regulation"):
+            limit = 100.0 * limit  # the case model's fraction, the rows' percent
+        v = b[key]
+        value = v["fe_3d"] if sol is not None else v["hand_3d"]
+        out.append(MarginResult(key, f"{LABELS[key]}, {kind}", BUDGET_UNITS[key], kind, limit,
+                                value, hand=v["hand_3d"],
+                                basis="FE" if sol is not None else "hand"))
+    return out
 
 
 def inductance_figure(margin_key: str) -> str:
@@ -382,6 +437,10 @@ def run_tolerance(src: CaseSource, *, samples: int, seed: int, fe_samples: int |
             judged[inductance_figure(key)] = val  # the L a window is judged on, at its current
             if fit_text:
                 fits[inductance_figure(key)] = fit_text
+        if key in LOSS_FIGURES:  # a loss margin: its figure as judged (FE 3D, or corrected hand)
+            judged[key] = val
+            if fit_text:
+                fits[key] = fit_text
         with np.errstate(invalid="ignore"):
             ok = val <= m0.limit if m0.kind == "max" else val >= m0.limit
         passed &= ok | ~np.isfinite(val)

@@ -13,7 +13,14 @@ from ...design.units import format_si
 
 PERCENTILES = (5.0, 50.0, 95.0)  # as compare.studies.tolerance.PERCENTILES (not imported: start-up time)
 
-_UNITS = {"inductance": "H", "peak_B": "T", "saturation_current": "A"}
+_UNITS = {"inductance": "H", "peak_B": "T", "saturation_current": "A",
+          # the loss budget's margins as judged (compare.studies.tolerance.LOSS_FIGURES)
+          "total_loss": "W", "core_loss": "W", "efficiency": "%", "regulation": "%",
+          "temperature_rise": "K"}
+_LOSS_LABELS = {"total_loss": "total loss", "core_loss": "core loss",
+                "efficiency": "efficiency at rated load",
+                "regulation": "voltage regulation at rated load",
+                "temperature_rise": "temperature rise (estimate)"}
 
 OUTPUTS = {"--json": "file", "--plot": "file"}
 """Output options and what each writes (checked before the run)."""
@@ -52,6 +59,8 @@ def _labels(res) -> dict[str, str]:
            "peak_B": "peak core B",
            "saturation_current": f"saturation current (hand, L -{100 * res.drop:g} %)"}
     for k in res.values:
+        if k in _LOSS_LABELS:
+            out[k] = f"{_LOSS_LABELS[k]}, as judged"
         if k.startswith("inductance_"):
             kind, at = k[len("inductance_"):].split("@", 1)
             out[k] = f"L ({kind}) at {at[:-1]} A, as judged"
