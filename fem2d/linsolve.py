@@ -185,6 +185,17 @@ class AmgCgReuse:
             self._base_rate = solver.rate
 
 
+STALL_PACE = 0.5
+"""CG on a stale factorisation is abandoned after a third of its budget when
+it has reduced the residual by fewer than STALL_PACE x (the decades asked)
+x (iterations so far / budget) decades: at that pace it would need more than
+twice the budget.  0 turns the test off."""
+
+
+class _Stalled(Exception):
+    """CG's pace says it will not converge within its budget."""
+
+
 class _FactorSolve(IterativeSolve):
     """One tangent's solve inside :class:`DirectReuse`: an exact back-
     substitution when the tangent was factorised itself, else CG on the
@@ -205,18 +216,32 @@ class _FactorSolve(IterativeSolve):
             return own.lu_solve(rhs)
         rtol = self.rtol if rtol is None else max(float(rtol), self.rtol)
         count = [0]
+        look = max(self.maxiter // 3, 1)
+        norm_b = float(np.linalg.norm(rhs))
 
-        def cb(_xk):
+        def cb(xk):
             count[0] += 1
+            if count[0] == look and look < self.maxiter and STALL_PACE > 0:
+                # a third of the budget spent: give up when the pace so far
+                # (decades of residual per iteration) would reach rtol only
+                # in more than twice the budget (CG with a stale factorisation
+                # that stalls does not recover: bench/fe_bench.py's cold solves)
+                res = float(np.linalg.norm(rhs - self.K @ xk)) / max(norm_b, 1e-300)
+                done = -np.log10(max(res, 1e-300))
+                if not done * self.maxiter >= STALL_PACE * (-np.log10(rtol)) * look:
+                    raise _Stalled
 
         t0 = time.perf_counter()
-        x, info = spla.cg(self.K, rhs, rtol=rtol, atol=0.0, maxiter=self.maxiter,
-                          M=own.preconditioner(), callback=cb)
+        try:
+            x, info = spla.cg(self.K, rhs, rtol=rtol, atol=0.0, maxiter=self.maxiter,
+                              M=own.preconditioner(), callback=cb)
+            outcome = "cg" if info == 0 and np.all(np.isfinite(x)) else "cg-failed"
+        except _Stalled:
+            x, info, outcome = np.full_like(rhs, np.nan, dtype=float), 1, "cg-stalled"
         own.cg_seconds += time.perf_counter() - t0
         self.iterations += count[0]
         own.cg_iterations += count[0]
-        own.log.append(("cg" if info == 0 and np.all(np.isfinite(x)) else "cg-failed",
-                        count[0], self.maxiter))
+        own.log.append((outcome, count[0], self.maxiter))
         if info != 0 or not np.all(np.isfinite(x)):
             # the old factorisation no longer fits: a new one, and the next
             # tangent (still changing fast) factorised without trying CG first
