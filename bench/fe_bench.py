@@ -187,7 +187,11 @@ def main(argv=None):
     p.add_argument("--against", metavar="REF",
                    help="also run the engine of git revision REF, side by side")
     p.add_argument("--case", help=argparse.SUPPRESS)
+    p.add_argument("--record", metavar="FILE",
+                   help="write the printout to FILE too (bench/results/ feeds README.md)")
     args = p.parse_args(argv)
+    if not args.case:
+        _record(args.record, argv)
     NI_low, NI_high = 250.0, 2000.0
     if args.case:
         spec = json.loads(args.case)
@@ -251,6 +255,12 @@ def main(argv=None):
                   f"{r['t_total_high']:>8.2f} {r['maxrss_MiB']:>6.0f} {r['bgap_high']:>8.3f}")
             sys.stdout.flush()
     return 0
+
+
+def _record(path, argv) -> None:
+    from worktree import record_output  # bench/worktree.py, beside this script
+
+    record_output(path, "python bench/fe_bench.py " + " ".join(sys.argv[1:] if argv is None else argv))
 
 
 if __name__ == "__main__":

@@ -74,7 +74,10 @@ def main(argv=None) -> int:
                     help="points per task (default: all points in one block on one process)")
     ap.add_argument("--quick", action="store_true",
                     help="only the tangent-predicted sweep and the linear reference")
+    ap.add_argument("--record", metavar="FILE",
+                   help="write the printout to FILE too (bench/results/ feeds README.md)")
     args = ap.parse_args(argv)
+    _record(args.record, argv)
     src, case = case_source(args.case)
     spec = [parse_vary(f"winding.current=0:{args.max:g}A:{args.points}")]
     block = args.block or args.points
@@ -126,6 +129,12 @@ def main(argv=None) -> int:
                      sum(p.iterations for p in runs["sweep, tangent"].points))
     print(f"total bench time {time.perf_counter() - t:.0f} s")
     return 0
+
+
+def _record(path, argv) -> None:
+    from worktree import record_output  # bench/worktree.py, beside this script
+
+    record_output(path, "python bench/sweep_bench.py " + " ".join(sys.argv[1:] if argv is None else argv))
 
 
 if __name__ == "__main__":
