@@ -1,6 +1,6 @@
 """Wall and CPU time of `magcheck` commands: this tree beside a git revision.
 
-Plain script: ``python bench/check_bench.py [--against REV] [--repeat N]
+Plain script: ``python bench/check_bench.py [--against REV] [--repeat N] [--record FILE]
 [--cases NAME,...] [--quick]``; prints a table.  Each row is one command:
 ``magcheck --help``, ``magcheck hand`` and ``magcheck check`` of every
 bundled case (``--quick``: all but the voltage-driven transformer).  With

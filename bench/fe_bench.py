@@ -1,13 +1,14 @@
 """Benchmark of the fem2d engine: a planar window core and an r-z pot core.
 
-Plain script: ``python bench/fe_bench.py [--quick] [--against REF]``;
+Plain script: ``python bench/fe_bench.py [--quick] [--against REF] [--repeat N] [--record FILE]``;
 prints a table.  "default" is the engine's default linear solver; "NL/dir"
 is the nonlinear solve's time (cold, from A = 0) over one direct solve (SuperLU
 factorisation and back-substitution) of its final tangent on the same mesh;
 "warm/dir" the same for a solve started from the solution on a mesh 1.5x
 coarser interpolated onto this one (what a check's two finer meshes do), "it w"
 its Newton steps.  ``--against REF`` runs the same cases on the engine of the
-git revision REF too (a temporary worktree), row by row beside this tree's,
+git revision REF too (a temporary worktree), row by row beside this tree's
+(``--repeat N``: N runs each, the trees alternately, each figure's median),
 so that a change is measured side by side in one run.  The cores, coils and
 B-H law are invented for the demo (a Brauer-type steel-like law,
 nu(s) = k1 exp(k2 s) + k3, Brauer, IEEE Trans. Magn. MAG-11, 1975).  Each
@@ -174,6 +175,19 @@ def run_case(size, order, solver, NI_low, NI_high, geometry="planar"):
     return out
 
 
+def _median_run(runs: list[dict]) -> dict:
+    """Each numeric figure's median over repeated runs of one case (counts
+    and the mesh's figures too: the mesher may differ by a few elements)."""
+    import statistics
+
+    out = dict(runs[0])
+    for k, v in runs[0].items():
+        if isinstance(v, (int, float)) and not isinstance(v, bool):
+            m = statistics.median(r[k] for r in runs if k in r)
+            out[k] = int(round(m)) if isinstance(v, int) else m
+    return out
+
+
 def _worktree(ref: str) -> str:
     """A temporary git worktree of ``ref`` (removed at exit)."""
     from worktree import temporary_worktree  # bench/worktree.py, beside this script
@@ -186,6 +200,8 @@ def main(argv=None):
     p.add_argument("--quick", action="store_true", help="small meshes only")
     p.add_argument("--against", metavar="REF",
                    help="also run the engine of git revision REF, side by side")
+    p.add_argument("--repeat", type=int, default=1,
+                   help="runs per case and tree, alternating; the median of each figure")
     p.add_argument("--case", help=argparse.SUPPRESS)
     p.add_argument("--record", metavar="FILE",
                    help="write the printout to FILE too (bench/results/ feeds README.md)")
@@ -234,18 +250,26 @@ def main(argv=None):
            f"{'Bgap hi':>8}")
     print(hdr)
     for size, order, solver, geometry in cases:
-        for label, tree in trees:
-            env = dict(os.environ)
-            if tree is not None:
-                env["FE_BENCH_TREE"] = tree
-            cmd = [sys.executable, os.path.abspath(__file__), "--case",
-                   json.dumps([size, order, solver, geometry])]
-            res = subprocess.run(cmd, capture_output=True, text=True, env=env)
-            if res.returncode != 0:
+        runs: dict[str, list[dict]] = {label: [] for label, _ in trees}
+        failed: dict[str, str] = {}
+        for _ in range(args.repeat):  # the trees alternately, so both see the same load
+            for label, tree in trees:
+                env = dict(os.environ)
+                if tree is not None:
+                    env["FE_BENCH_TREE"] = tree
+                cmd = [sys.executable, os.path.abspath(__file__), "--case",
+                       json.dumps([size, order, solver, geometry])]
+                res = subprocess.run(cmd, capture_output=True, text=True, env=env)
+                if res.returncode != 0:
+                    failed[label] = res.stderr.strip().splitlines()[-1] if res.stderr.strip() else "?"
+                    continue
+                runs[label].append(json.loads(res.stdout.strip().splitlines()[-1]))
+        for label, _ in trees:
+            if not runs[label]:
                 print(f"{label:>10} {geometry:>6} case {size} {order} {solver} failed: "
-                      f"{res.stderr.strip().splitlines()[-1] if res.stderr.strip() else '?'}")
+                      f"{failed.get(label, '?')}")
                 continue
-            r = json.loads(res.stdout.strip().splitlines()[-1])
+            r = _median_run(runs[label])
             print(f"{label:>10} {geometry:>6} {r['ntri']:>7} {order:>2} {solver:>8} {r['ndofs']:>7} "
                   f"{r['t_mesh']:>7.2f} {r['t_asm_high']:>8.3f} {r['t_lin_step_high']:>8.3f} "
                   f"{r['it_low']:>5} {r['it_high']:>5} {r['t_nl_high']:>8.2f} "

@@ -36,7 +36,7 @@ import scipy.sparse.linalg as spla
 
 __all__ = ["LinearSolverError", "SOLVERS", "get_linear_solver", "superlu", "amg_cg",
            "DEFAULT_SOLVER", "IterativeSolve", "AmgCgReuse", "DirectReuse", "Auto",
-           "AUTO_DIRECT_MAX"]
+           "AUTO_DIRECT_MAX", "one_blas_thread"]
 
 logger = logging.getLogger(__name__)
 
@@ -44,6 +44,26 @@ Factory = Callable[[sp.csr_matrix], Callable[[np.ndarray], np.ndarray]]
 
 
 from .errors import LinearSolverError  # noqa: E402  (re-exported)
+
+_CONTROLLER: tuple[int, Any] | None = None
+
+
+def one_blas_thread():
+    """A context that holds the BLAS and OpenMP pools to one thread (threadpoolctl),
+    as ``threadpool_limits(limits=1)`` does, from a controller kept while no
+    module has been imported since: ``threadpool_limits`` looks up the loaded
+    libraries each time (~4 ms, several times per solve and per sweep point),
+    ``ThreadpoolController.limit`` on a kept controller ~0.2 ms.  A new import
+    (which may load a library with a pool of its own) makes a new controller."""
+    import sys
+
+    from threadpoolctl import ThreadpoolController
+
+    global _CONTROLLER
+    key = len(sys.modules)
+    if _CONTROLLER is None or _CONTROLLER[0] != key:
+        _CONTROLLER = (key, ThreadpoolController())
+    return _CONTROLLER[1].limit(limits=1)
 
 
 ORDERINGS_KEPT = 8

@@ -11,10 +11,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from threadpoolctl import threadpool_limits
 
 from .layout import LayoutError
-from .linsolve import IterativeSolve
+from .linsolve import IterativeSolve, one_blas_thread
 
 __all__ = [
     "PostError",
@@ -481,7 +480,7 @@ def _tangent_solver(sol):
     asm = _asm(sol)
     # One thread for the pip-bundled BLAS, as in the Newton loop: threaded
     # BLAS inside the AMG setup made one solve ~10x slower on 2 cores.
-    with threadpool_limits(limits=1):
+    with one_blas_thread():
         g = asm.grad(sol.A)
         nu, dnu = asm.coefficients(asm.s_of(g))
         K = asm.tangent(g, nu, None if asm.linear else dnu)
@@ -489,7 +488,7 @@ def _tangent_solver(sol):
 
     def apply(db: np.ndarray, rtol: float) -> np.ndarray:
         dA = np.zeros(asm.ndofs)
-        with threadpool_limits(limits=1):
+        with one_blas_thread():
             if isinstance(solve_k, IterativeSolve):
                 dA[asm.I] = solve_k(db[asm.I], rtol=rtol)
             else:
