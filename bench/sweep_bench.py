@@ -11,6 +11,7 @@ median of 3 times the points); target: the tangent-predicted sweep at most
 2x that.  ``--quick``: only the tangent sweep and the linear reference.
 
     python bench/sweep_bench.py [--case cases/demo_choke.toml] [--points 41] [--max 20] [--quick]
+    python bench/sweep_bench.py --quick --against REV [--repeat N] [--record FILE]
 """
 
 from __future__ import annotations
@@ -20,7 +21,11 @@ import sys
 import time
 from pathlib import Path
 
-ROOT = Path(__file__).resolve().parents[1]
+import os  # noqa: E402
+
+HERE = Path(__file__).resolve().parent
+# the code under test: this tree, or the worktree of --against (set for the child)
+ROOT = Path(os.environ.get("SWEEP_BENCH_TREE") or HERE.parent)
 sys.path.insert(0, str(ROOT))
 
 from magcheck.compare.judge.margins import hand_saturation_current  # noqa: E402
@@ -65,9 +70,50 @@ def _print_reference(ref: dict, points: int, seconds: float, newton: int) -> Non
           f"{seconds / ref['total']:.2f}x the linear reference (goal <= 2x)")
 
 
+def _against(args) -> int:
+    """The quick figures of this tree and of ``args.against`` (a temporary
+    worktree), each run in a child process, the trees alternately; medians."""
+    import json
+    import statistics
+    import subprocess
+
+    sys.path.insert(0, str(HERE))
+    from worktree import temporary_worktree  # bench/worktree.py, beside this script
+
+    trees = [("this", None), (args.against[:10], temporary_worktree(args.against, "sweep-bench-"))]
+    runs: dict[str, list[dict]] = {t: [] for t, _ in trees}
+    for _ in range(args.repeat):
+        for tag, tree in trees:
+            env = dict(os.environ)
+            env.pop("SWEEP_BENCH_TREE", None)
+            if tree is not None:
+                env["SWEEP_BENCH_TREE"] = tree
+            env["PYTHONPATH"] = tree or str(HERE.parent)
+            cmd = [sys.executable, str(Path(__file__).resolve()), "--json", "--case", args.case,
+                   "--points", str(args.points), "--max", str(args.max)]
+            res = subprocess.run(cmd, capture_output=True, text=True, env=env, check=True)
+            runs[tag].append(json.loads(res.stdout.strip().splitlines()[-1]))
+    print(f"{Path(args.case).stem}: {args.points}-point current sweep 0-{args.max:g} A, one process, "
+          f"tangent predictor; {args.repeat} runs per tree, alternating, medians")
+    print(f"{'tree':>10} {'DOFs':>6} {'sweep s':>8} {'Newton':>7} {'mesh s':>7} {'lin s':>6} "
+          f"{'ref s':>6} {'sweep/ref':>9}")
+    for tag, _ in trees:
+        rs = runs[tag]
+
+        def med(k: str) -> float:
+            return statistics.median(r[k] for r in rs)
+
+        ratio = statistics.median(r["sweep"] / r["reference"] for r in rs)
+        print(f"{tag:>10} {int(med('ndofs')):>6} {med('sweep'):>8.2f} {int(med('newton')):>7} "
+              f"{med('mesh'):>7.2f} {med('linear'):>6.3f} {med('reference'):>6.2f} {ratio:>9.2f}")
+    print(f"sweep/ref: the tangent-predicted sweep over the linear reference (meshing + "
+          f"{args.points} linear solves); goal <= 2")
+    return 0
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--case", default=str(ROOT / "cases" / "demo_choke.toml"))
+    ap.add_argument("--case", default=str(HERE.parent / "cases" / "demo_choke.toml"))
     ap.add_argument("--points", type=int, default=41)
     ap.add_argument("--max", type=float, default=20.0, help="highest current (A)")
     ap.add_argument("--block", type=int, default=None,
@@ -76,12 +122,28 @@ def main(argv=None) -> int:
                     help="only the tangent-predicted sweep and the linear reference")
     ap.add_argument("--record", metavar="FILE",
                    help="write the printout to FILE too (bench/results/ feeds README.md)")
+    ap.add_argument("--against", metavar="REV",
+                    help="with --quick: also run git revision REV's code, alternately, medians")
+    ap.add_argument("--repeat", type=int, default=1, help="with --against: runs per tree")
+    ap.add_argument("--json", action="store_true", help=argparse.SUPPRESS)
     args = ap.parse_args(argv)
-    _record(args.record, argv)
+    if args.against:
+        _record(args.record, argv)
+        return _against(args)
+    if not args.json:
+        _record(args.record, argv)
     src, case = case_source(args.case)
     spec = [parse_vary(f"winding.current=0:{args.max:g}A:{args.points}")]
     block = args.block or args.points
     ref = linear_reference(case, args.points)
+    if args.json:  # one quick run for --against's parent
+        import json
+
+        sw = run_sweep(src, spec, predictor="tangent", block=block, workers=1)
+        print(json.dumps({"sweep": sw.seconds, "reference": ref["total"], "linear": ref["linear"],
+                          "mesh": ref["mesh"], "ndofs": ref["ndofs"],
+                          "newton": sum(p.iterations for p in sw.points)}))
+        return 0
     if args.quick:
         sw = run_sweep(src, spec, predictor="tangent", block=block, workers=1)
         it = sum(p.iterations for p in sw.points)

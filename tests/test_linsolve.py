@@ -178,3 +178,15 @@ def test_default_solver_reuses_the_factorisation_and_matches_a_fresh_direct_solv
     # dA/dI is solved to 1e-9, so both agree to ~1e-8 (1e-7 leaves round-off room)
     assert np.max(np.abs(sol.A - ref.A)) <= 1e-7 * np.max(np.abs(ref.A))
     assert L == pytest.approx(post.incremental_flux_linkage(ref, 50, "cin", "cout"), rel=1e-7)
+
+
+def test_one_blas_thread_limits_every_pool_and_restores_it():
+    from threadpoolctl import threadpool_info
+
+    before = [(p["filepath"], p["num_threads"]) for p in threadpool_info()]
+    with linsolve.one_blas_thread():
+        inside = threadpool_info()
+        assert inside and all(p["num_threads"] == 1 for p in inside)
+    with linsolve.one_blas_thread():  # the kept controller, a second time
+        assert all(p["num_threads"] == 1 for p in threadpool_info())
+    assert [(p["filepath"], p["num_threads"]) for p in threadpool_info()] == before
