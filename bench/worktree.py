@@ -43,7 +43,7 @@ class _Tee:
 
 def record_output(path: str | None, command: str) -> None:
     """From now on, what the bench prints goes to ``path`` too, after a
-    header line: the UTC date, this tree's revision (``+`` when it has
+    header line: the UTC date, this tree's revision (``+`` when its code has
     uncommitted changes), the load average and the command.  README.md's
     speed tables are these files (tools/make_readme.py, blocks ``bench-*``)."""
     import sys
@@ -53,7 +53,9 @@ def record_output(path: str | None, command: str) -> None:
         return
     rev = subprocess.run(["git", "-C", ROOT, "rev-parse", "--short", "HEAD"],
                          capture_output=True, text=True).stdout.strip() or "?"
-    dirty = subprocess.run(["git", "-C", ROOT, "status", "--porcelain", "--untracked-files=no"],
+    # uncommitted changes to the code (not to the records or the docs)
+    dirty = subprocess.run(["git", "-C", ROOT, "status", "--porcelain", "--untracked-files=no",
+                            "--", ".", ":!bench/results", ":!*.md"],
                            capture_output=True, text=True).stdout.strip()
     load = os.getloadavg()[0] if hasattr(os, "getloadavg") else float("nan")
     fh = open(path, "w", encoding="utf-8")
