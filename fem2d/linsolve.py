@@ -79,8 +79,8 @@ def _pattern_key(K: sp.csc_matrix) -> tuple:
     import hashlib
 
     h = hashlib.blake2b(digest_size=16)
-    h.update(np.ascontiguousarray(K.indptr).view(np.uint8))
-    h.update(np.ascontiguousarray(K.indices).view(np.uint8))
+    h.update(np.ascontiguousarray(K.indptr).data)
+    h.update(np.ascontiguousarray(K.indices).data)
     return (K.shape, K.nnz, h.hexdigest())
 
 
