@@ -249,10 +249,9 @@ def test_point_locator_shared_per_mesh_and_its_memo_exact():
     p1 = np.vstack([rng.uniform(0.0005, 0.0095, 50), rng.uniform(0.0005, 0.0095, 50)])
     p2 = np.vstack([rng.uniform(0.0005, 0.0095, 50), rng.uniform(0.0005, 0.0095, 50)])
     b1 = post.sample_b(one, p1)
-    fresh = _Locator(two.assembler)
     for pts in (p1, p2, p1):  # p1 from the memo, p2 (same shape) located anew
         got = post.sample_b(two, pts)
-        _, g, _ = fresh.evaluate(two.A, pts)
+        _, g, _ = _Locator(two.assembler).evaluate(two.A, pts)  # a new one: no memo
         # Source: the same field by a locator without memo (the same arithmetic: exact)
         np.testing.assert_array_equal(got, two.assembler.formulation.b(g, pts))
     assert not np.allclose(b1, post.sample_b(two, p1))  # another solution, another field
