@@ -1,6 +1,6 @@
 """Wall and CPU time of `magcheck` commands: this tree beside a git revision.
 
-Plain script: ``python bench/check_bench.py [--against REV] [--repeat N]
+Plain script: ``python bench/check_bench.py [--against REV] [--repeat N] [--record FILE]
 [--cases NAME,...] [--quick]``; prints a table.  Each row is one command:
 ``magcheck --help``, ``magcheck hand`` and ``magcheck check`` of every
 bundled case (``--quick``: all but the voltage-driven transformer).  With
@@ -70,7 +70,10 @@ def main(argv=None) -> int:
     p.add_argument("--repeat", type=int, default=3, help="runs per command and tree (default 3)")
     p.add_argument("--cases", help="comma-separated case file stems (default: every bundled case)")
     p.add_argument("--quick", action="store_true", help="leave out the voltage-driven transformer")
+    p.add_argument("--record", metavar="FILE",
+                   help="write the printout to FILE too (bench/results/ feeds README.md)")
     args = p.parse_args(argv)
+    _record(args.record, argv)
     stems = sorted(f[:-5] for f in os.listdir(os.path.join(ROOT, "cases")) if f.endswith(".toml"))
     if args.cases:
         stems = [s for s in args.cases.split(",") if s]
@@ -114,6 +117,12 @@ def main(argv=None) -> int:
                   f"{brk}  {ratio}")
         sys.stdout.flush()
     return 0
+
+
+def _record(path, argv) -> None:
+    from worktree import record_output  # bench/worktree.py, beside this script
+
+    record_output(path, "python bench/check_bench.py " + " ".join(sys.argv[1:] if argv is None else argv))
 
 
 if __name__ == "__main__":

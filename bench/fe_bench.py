@@ -1,10 +1,14 @@
 """Benchmark of the fem2d engine: a planar window core and an r-z pot core.
 
-Plain script: ``python bench/fe_bench.py [--quick] [--against REF]``;
+Plain script: ``python bench/fe_bench.py [--quick] [--against REF] [--repeat N] [--record FILE]``;
 prints a table.  "default" is the engine's default linear solver; "NL/dir"
-is the nonlinear solve's time over one direct solve (SuperLU factorisation
-and back-substitution) of its final tangent on the same mesh.  ``--against REF`` runs the same cases on the engine of the
-git revision REF too (a temporary worktree), row by row beside this tree's,
+is the nonlinear solve's time (cold, from A = 0) over one direct solve (SuperLU
+factorisation and back-substitution) of its final tangent on the same mesh;
+"warm/dir" the same for a solve started from the solution on a mesh 1.5x
+coarser interpolated onto this one (what a check's two finer meshes do), "it w"
+its Newton steps.  ``--against REF`` runs the same cases on the engine of the
+git revision REF too (a temporary worktree), row by row beside this tree's
+(``--repeat N``: N runs each, the trees alternately, each figure's median),
 so that a change is measured side by side in one run.  The cores, coils and
 B-H law are invented for the demo (a Brauer-type steel-like law,
 nu(s) = k1 exp(k2 s) + k3, Brauer, IEEE Trans. Magn. MAG-11, 1975).  Each
@@ -38,6 +42,7 @@ if not os.path.isdir(os.path.join(TREE, "magcheck")):
 # invented for the demo: a steel-like Brauer law (mu_r(0) ~ 2000, ~1.9 T at 20 kA/m)
 K1, K2, K3 = 3.8, 2.17, 396.2
 DEPTH = 0.02
+WARM_REFINE = 1.5  # element-size ratio of the mesh a warm start comes from (compare.models.fe.REFINE)
 VACUUM = os.environ.get("FE_BENCH_PURE_BRAUER") is None
 
 
@@ -124,6 +129,11 @@ def run_case(size, order, solver, NI_low, NI_high, geometry="planar"):
     from magcheck.fem2d.linsolve import superlu
     from threadpoolctl import threadpool_limits
 
+    from magcheck.fem2d import linsolve
+
+    # the unit is a whole factorisation, its ordering included: a revision
+    # that keeps orderings per sparsity pattern (linsolve._ORDERINGS) forgets them here
+    getattr(linsolve, "_ORDERINGS", {}).clear()
     asm = sol.assembler
     with threadpool_limits(limits=1):
         g = asm.grad(sol.A)
@@ -134,6 +144,20 @@ def run_case(size, order, solver, NI_low, NI_high, geometry="planar"):
         superlu(K)(rhs)
         out["t_direct"] = time.perf_counter() - t1
     out["ratio_direct"] = out["t_nl_high"] / out["t_direct"]
+    # the check's sequence: the high solve on a mesh coarser by WARM_REFINE,
+    # interpolated onto this mesh (post.transfer) as the Newton start; the
+    # ratio of that warm solve to the same direct solve
+    if hasattr(post, "transfer"):
+        layout = pot_core(size * WARM_REFINE, order) if rz else window_core(size * WARM_REFINE, order)
+        cur = {"coil_in": NI_high} if rz else {"coil_in": NI_high, "coil_out": -NI_high}
+        solver_arg = None if solver == "default" else solver
+        coarse = solve(build_mesh(layout), mats, currents=cur, linear_solver=solver_arg)
+        A0 = post.transfer(coarse, rm)
+        t1 = time.perf_counter()
+        warm = solve(rm, mats, currents=cur, linear_solver=solver_arg, A0=A0)
+        out["t_nl_warm"] = time.perf_counter() - t1
+        out["it_warm"] = warm.iterations
+        out["ratio_warm"] = out["t_nl_warm"] / out["t_direct"]
     # a linear reference solve: same mesh and solver, linear material (mu_r(0))
     from magcheck.fem2d.materials import AIR, LinearReluctivity
 
@@ -151,6 +175,19 @@ def run_case(size, order, solver, NI_low, NI_high, geometry="planar"):
     return out
 
 
+def _median_run(runs: list[dict]) -> dict:
+    """Each numeric figure's median over repeated runs of one case (counts
+    and the mesh's figures too: the mesher may differ by a few elements)."""
+    import statistics
+
+    out = dict(runs[0])
+    for k, v in runs[0].items():
+        if isinstance(v, (int, float)) and not isinstance(v, bool):
+            m = statistics.median(r[k] for r in runs if k in r)
+            out[k] = int(round(m)) if isinstance(v, int) else m
+    return out
+
+
 def _worktree(ref: str) -> str:
     """A temporary git worktree of ``ref`` (removed at exit)."""
     from worktree import temporary_worktree  # bench/worktree.py, beside this script
@@ -163,8 +200,14 @@ def main(argv=None):
     p.add_argument("--quick", action="store_true", help="small meshes only")
     p.add_argument("--against", metavar="REF",
                    help="also run the engine of git revision REF, side by side")
+    p.add_argument("--repeat", type=int, default=1,
+                   help="runs per case and tree, alternating; the median of each figure")
     p.add_argument("--case", help=argparse.SUPPRESS)
+    p.add_argument("--record", metavar="FILE",
+                   help="write the printout to FILE too (bench/results/ feeds README.md)")
     args = p.parse_args(argv)
+    if not args.case:
+        _record(args.record, argv)
     NI_low, NI_high = 250.0, 2000.0
     if args.case:
         spec = json.loads(args.case)
@@ -202,30 +245,46 @@ def main(argv=None):
     hdr = (f"{'engine':>10} {'geom':>6} {'ntri':>7} {'P':>2} {'solver':>8} {'ndofs':>7} "
            f"{'mesh s':>7} {'asm/it s':>8} {'lin/it s':>8} {'it lo':>5} {'it hi':>5} "
            f"{'NL hi s':>8} {'us/dof/it':>9} {'lin s':>6} {'ratio':>6} {'dir s':>6} {'NL/dir':>6} "
+           f"{'it w':>4} {'warm/dir':>8} "
            f"{'total s':>8} {'MiB':>6} "
            f"{'Bgap hi':>8}")
     print(hdr)
     for size, order, solver, geometry in cases:
-        for label, tree in trees:
-            env = dict(os.environ)
-            if tree is not None:
-                env["FE_BENCH_TREE"] = tree
-            cmd = [sys.executable, os.path.abspath(__file__), "--case",
-                   json.dumps([size, order, solver, geometry])]
-            res = subprocess.run(cmd, capture_output=True, text=True, env=env)
-            if res.returncode != 0:
+        runs: dict[str, list[dict]] = {label: [] for label, _ in trees}
+        failed: dict[str, str] = {}
+        for _ in range(args.repeat):  # the trees alternately, so both see the same load
+            for label, tree in trees:
+                env = dict(os.environ)
+                if tree is not None:
+                    env["FE_BENCH_TREE"] = tree
+                cmd = [sys.executable, os.path.abspath(__file__), "--case",
+                       json.dumps([size, order, solver, geometry])]
+                res = subprocess.run(cmd, capture_output=True, text=True, env=env)
+                if res.returncode != 0:
+                    failed[label] = res.stderr.strip().splitlines()[-1] if res.stderr.strip() else "?"
+                    continue
+                runs[label].append(json.loads(res.stdout.strip().splitlines()[-1]))
+        for label, _ in trees:
+            if not runs[label]:
                 print(f"{label:>10} {geometry:>6} case {size} {order} {solver} failed: "
-                      f"{res.stderr.strip().splitlines()[-1] if res.stderr.strip() else '?'}")
+                      f"{failed.get(label, '?')}")
                 continue
-            r = json.loads(res.stdout.strip().splitlines()[-1])
+            r = _median_run(runs[label])
             print(f"{label:>10} {geometry:>6} {r['ntri']:>7} {order:>2} {solver:>8} {r['ndofs']:>7} "
                   f"{r['t_mesh']:>7.2f} {r['t_asm_high']:>8.3f} {r['t_lin_step_high']:>8.3f} "
                   f"{r['it_low']:>5} {r['it_high']:>5} {r['t_nl_high']:>8.2f} "
                   f"{r['us_per_dof_it']:>9.2f} {r['t_linear_solve']:>6.2f} {r['ratio_high']:>6.1f} "
                   f"{r['t_direct']:>6.3f} {r['ratio_direct']:>6.1f} "
+                  f"{r.get('it_warm', '-'):>4} {r.get('ratio_warm', float('nan')):>8.1f} "
                   f"{r['t_total_high']:>8.2f} {r['maxrss_MiB']:>6.0f} {r['bgap_high']:>8.3f}")
             sys.stdout.flush()
     return 0
+
+
+def _record(path, argv) -> None:
+    from worktree import record_output  # bench/worktree.py, beside this script
+
+    record_output(path, "python bench/fe_bench.py " + " ".join(sys.argv[1:] if argv is None else argv))
 
 
 if __name__ == "__main__":

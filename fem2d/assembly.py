@@ -71,6 +71,7 @@ class Assembler:
         if geom is None:
             geom = cached[1][form] = self._geometry(rmesh, form)
         self.__dict__.update(geom)
+        self.shared = geom  # the mesh's cache: what a post-processor keeps per mesh goes here too
         G, nloc, ne, nq = self.G, self.nloc, self.ne, self.nq
         lay = rmesh.layout
         mat_of_region = {"air": "air"}

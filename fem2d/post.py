@@ -11,10 +11,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-from threadpoolctl import threadpool_limits
 
 from .layout import LayoutError
-from .linsolve import IterativeSolve
+from .linsolve import IterativeSolve, one_blas_thread
 
 __all__ = [
     "PostError",
@@ -154,6 +153,7 @@ class _Locator:
         J = np.stack([c[:, 1] - c[:, 0], c[:, 2] - c[:, 0]], axis=1)  # (2, 2, ne)
         self.invJ = np.linalg.inv(J.transpose(2, 0, 1))  # (ne, 2, 2)
         self._tree = cKDTree(self.centroids.T)
+        self._memo: dict[tuple, tuple[np.ndarray, np.ndarray]] = {}
 
     def _find(self, x: np.ndarray) -> np.ndarray:
         """Index of a straight-sided triangle containing each point (2, n), or
@@ -220,7 +220,22 @@ class _Locator:
     def locate(self, x, strict: bool = True):
         """Element index and reference coordinates of each point; raises if
         outside (``strict=False``: a point just outside a curved boundary
-        keeps its nearest element, whose polynomial is extrapolated)."""
+        keeps its nearest element, whose polynomial is extrapolated).
+
+        The last few point sets located are kept (the same path is sampled
+        on every solve of a mesh): the same points give the same answer
+        without the search."""
+        key = (x.shape, bool(strict), x.tobytes())
+        hit = self._memo.get(key)
+        if hit is not None:
+            return hit[0].copy(), hit[1].copy()
+        tind, X = self._locate(x, strict)
+        if len(self._memo) >= 4:
+            self._memo.pop(next(iter(self._memo)))
+        self._memo[key] = (tind.copy(), X.copy())
+        return tind, X
+
+    def _locate(self, x, strict: bool):
         tind = self._find(x)
         X = self.inverse_map(x, tind)
         out = self._outside(X)
@@ -263,10 +278,20 @@ class _Locator:
 
 
 def _locator(sol) -> _Locator:
+    """The point locator of the solution's mesh: built once per mesh (it
+    depends on the geometry only) and kept in the assembler's per-mesh cache,
+    so every solve on that mesh (a sweep's points, a drive curve) shares it."""
     asm = _asm(sol)
-    if not hasattr(asm, "_locator"):
-        asm._locator = _Locator(asm)
-    return asm._locator
+    loc = getattr(asm, "_locator", None)
+    if loc is None:
+        shared = getattr(asm, "shared", None)
+        loc = shared.get("_locator") if shared is not None else None
+        if loc is None:
+            loc = _Locator(asm)
+            if shared is not None:
+                shared["_locator"] = loc
+        asm._locator = loc
+    return loc
 
 
 def _points(points) -> np.ndarray:
@@ -481,7 +506,7 @@ def _tangent_solver(sol):
     asm = _asm(sol)
     # One thread for the pip-bundled BLAS, as in the Newton loop: threaded
     # BLAS inside the AMG setup made one solve ~10x slower on 2 cores.
-    with threadpool_limits(limits=1):
+    with one_blas_thread():
         g = asm.grad(sol.A)
         nu, dnu = asm.coefficients(asm.s_of(g))
         K = asm.tangent(g, nu, None if asm.linear else dnu)
@@ -489,7 +514,7 @@ def _tangent_solver(sol):
 
     def apply(db: np.ndarray, rtol: float) -> np.ndarray:
         dA = np.zeros(asm.ndofs)
-        with threadpool_limits(limits=1):
+        with one_blas_thread():
             if isinstance(solve_k, IterativeSolve):
                 dA[asm.I] = solve_k(db[asm.I], rtol=rtol)
             else:

@@ -15,12 +15,11 @@ from dataclasses import dataclass, field
 from typing import Any, Callable
 
 import numpy as np
-from threadpoolctl import threadpool_limits
 
 from .assembly import Assembler
 from .errors import ConvergenceError, SolverInputError
 from .sources import Sources
-from .linsolve import IterativeSolve, LinearSolverError, get_linear_solver
+from .linsolve import IterativeSolve, LinearSolverError, get_linear_solver, one_blas_thread
 from .mesh import RegionMesh
 
 __all__ = ["FieldSolution", "ConvergenceError", "SolverInputError", "solve", "dirichlet_values",
@@ -305,7 +304,7 @@ def solve(mesh: RegionMesh, materials: dict, *, currents: dict | None = None, to
     message = ""
     it = 0
     lin_solve = None
-    with threadpool_limits(limits=1), np.errstate(over="ignore", invalid="ignore"):
+    with one_blas_thread(), np.errstate(over="ignore", invalid="ignore"):
         # reference norm: the load, or the boundary drive at A_I = 0
         Az = A.copy()
         Az[I] = 0.0

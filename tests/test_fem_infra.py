@@ -233,3 +233,25 @@ def test_assembler_geometry_shared_per_mesh_and_same_answer():
     np.testing.assert_array_equal(second.A, fresh.A)
     other = solve(rm, {"iron": LinearReluctivity(1000.0), "copper": AIR})
     assert not np.array_equal(other.A, fresh.A)
+
+
+def test_point_locator_shared_per_mesh_and_its_memo_exact():
+    """The point locator is built once per mesh and shared by solves on it; a
+    point set located before is answered from its memo, and a different point
+    set of the same size is located anew: each probe equals a fresh locator's."""
+    from magcheck.fem2d.post import _Locator, _locator
+
+    rm = build_mesh(small_layout())
+    one = solve(rm, {"iron": LinearReluctivity(100.0), "copper": AIR})
+    two = solve(rm, {"iron": LinearReluctivity(1000.0), "copper": AIR})
+    assert _locator(one) is _locator(two)
+    rng = np.random.default_rng(5)
+    p1 = np.vstack([rng.uniform(0.0005, 0.0095, 50), rng.uniform(0.0005, 0.0095, 50)])
+    p2 = np.vstack([rng.uniform(0.0005, 0.0095, 50), rng.uniform(0.0005, 0.0095, 50)])
+    b1 = post.sample_b(one, p1)
+    for pts in (p1, p2, p1):  # p1 from the memo, p2 (same shape) located anew
+        got = post.sample_b(two, pts)
+        _, g, _ = _Locator(two.assembler).evaluate(two.A, pts)  # a new one: no memo
+        # Source: the same field by a locator without memo (the same arithmetic: exact)
+        np.testing.assert_array_equal(got, two.assembler.formulation.b(g, pts))
+    assert not np.allclose(b1, post.sample_b(two, p1))  # another solution, another field

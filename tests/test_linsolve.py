@@ -63,8 +63,9 @@ def test_reuse_solves_each_operator_to_its_tolerance(mats):
     assert np.linalg.norm(K1 @ x1 - b) <= 1.01e-10 * np.linalg.norm(b)
 
 
-def test_reuse_refactorises_when_cg_stalls(mats):
+def test_reuse_refactorises_when_cg_runs_out_of_budget(mats, monkeypatch):
     K0, _, K2, b = mats
+    monkeypatch.setattr(linsolve, "STALL_PACE", 0.0)  # the budget alone decides
     f = DirectReuse()
     f(K0)(b)
     f.cg_budget = 5
@@ -74,6 +75,52 @@ def test_reuse_refactorises_when_cg_stalls(mats):
     # Source: exact solution by a fresh direct solve (scipy spsolve)
     assert rel_err(x2, sp.linalg.spsolve(K2.tocsc(), b)) < 1e-10
     assert f.stale, "after a failed CG the next tangent is factorised at once"
+
+
+def test_reuse_abandons_a_stalling_cg_after_a_third_of_its_budget(mats):
+    K0, K1, K2, b = mats
+    f = DirectReuse()
+    f(K0)(b)
+    x2 = f(K2)(b, rtol=1e-12)
+    # the far tangent: after 10 of 30 iterations CG on K0's factors is far off
+    # the pace it needs, so it is dropped for a factorisation then, not at 30
+    assert f.log[-2] == ("cg-stalled", 10, 30) and f.log[-1][0] == "factor"
+    # Source: exact solution by a fresh direct solve (scipy spsolve)
+    assert rel_err(x2, sp.linalg.spsolve(K2.tocsc(), b)) < 1e-10  # round-off of a direct solve
+    assert f.stale
+    # a nearby tangent keeps its pace and is solved by CG
+    g = DirectReuse()
+    g(K0)(b)
+    x1 = g(K1)(b, rtol=1e-10)
+    assert g.log[-1][0] == "cg" and g.factorisations == 1
+    assert np.linalg.norm(K1 @ x1 - b) <= 1.01e-10 * np.linalg.norm(b)
+
+
+def test_superlu_reuses_the_ordering_of_a_pattern_and_solves_exactly(mats, monkeypatch):
+    K0, _, K2, b = mats
+    linsolve._ORDERINGS.clear()
+    specs = []
+    real = linsolve.spla.splu
+
+    def spy(A, permc_spec=None, **kw):
+        specs.append(permc_spec)
+        return real(A, permc_spec=permc_spec, **kw)
+
+    monkeypatch.setattr(linsolve.spla, "splu", spy)
+    x0 = linsolve.superlu(K0)(b)
+    x2 = linsolve.superlu(K2)(b)  # same pattern, other values: the kept ordering
+    assert specs == ["MMD_AT_PLUS_A", "NATURAL"]
+    # Source: exact solutions by a fresh direct solve (scipy spsolve); round-off only
+    assert rel_err(x0, sp.linalg.spsolve(K0.tocsc(), b)) < 1e-10
+    assert rel_err(x2, sp.linalg.spsolve(K2.tocsc(), b)) < 1e-10
+    B = np.stack([b, np.arange(len(b), dtype=float)], axis=1)  # several right-hand sides
+    X = linsolve.superlu(K2)(B)
+    assert rel_err(X[:, 1], sp.linalg.spsolve(K2.tocsc(), B[:, 1])) < 1e-10
+    # another pattern gets its own ordering
+    small = K0[:100, :100].tocsr()
+    xs = linsolve.superlu(small)(b[:100])
+    assert specs[-1] == "MMD_AT_PLUS_A"
+    assert rel_err(xs, sp.linalg.spsolve(small.tocsc(), b[:100])) < 1e-10
 
 
 def test_reuse_refactorises_on_a_new_size(mats):
@@ -131,3 +178,15 @@ def test_default_solver_reuses_the_factorisation_and_matches_a_fresh_direct_solv
     # dA/dI is solved to 1e-9, so both agree to ~1e-8 (1e-7 leaves round-off room)
     assert np.max(np.abs(sol.A - ref.A)) <= 1e-7 * np.max(np.abs(ref.A))
     assert L == pytest.approx(post.incremental_flux_linkage(ref, 50, "cin", "cout"), rel=1e-7)
+
+
+def test_one_blas_thread_limits_every_pool_and_restores_it():
+    from threadpoolctl import threadpool_info
+
+    before = [(p["filepath"], p["num_threads"]) for p in threadpool_info()]
+    with linsolve.one_blas_thread():
+        inside = threadpool_info()
+        assert inside and all(p["num_threads"] == 1 for p in inside)
+    with linsolve.one_blas_thread():  # the kept controller, a second time
+        assert all(p["num_threads"] == 1 for p in threadpool_info())
+    assert [(p["filepath"], p["num_threads"]) for p in threadpool_info()] == before

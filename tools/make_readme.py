@@ -273,6 +273,142 @@ def block_selftest_force_count() -> str:
     return words.get(n, str(n))
 
 
+# ------------------------------------------------------------- bench records
+BENCH_RESULTS = ROOT / "bench" / "results"
+
+
+def _bench_text(name: str) -> str:
+    """A bench's recorded printout (``python bench/NAME.py ... --record
+    bench/results/NAME.txt``), trailing blanks dropped."""
+    path = BENCH_RESULTS / f"{name}.txt"
+    if not path.exists():
+        return f"(not recorded: python bench/{name}.py ... --record bench/results/{name}.txt)"
+    return "\n".join(line.rstrip() for line in path.read_text(encoding="utf-8").strip().splitlines())
+
+
+def _bench_block(name: str) -> str:
+    return "\n```text\n" + _bench_text(name) + "\n```\n"
+
+
+def block_bench_check() -> str:
+    """bench/check_bench.py's recorded table (bench/results/check_bench.txt)."""
+    return _bench_block("check_bench")
+
+
+def block_bench_fe() -> str:
+    """bench/fe_bench.py's recorded table (bench/results/fe_bench.txt)."""
+    return _bench_block("fe_bench")
+
+
+def block_bench_sweep() -> str:
+    """bench/sweep_bench.py's recorded printout (bench/results/sweep_bench.txt)."""
+    return _bench_block("sweep_bench")
+
+
+_CHECK_ROW = re.compile(r"^(?P<label>\S.*?)\s+(?P<tree>\S+)\s+(?P<wall>[0-9.]+) \([0-9.]+-[0-9.]+\)\s+"
+                        r"(?P<cpu>[0-9.]+) \(")
+
+
+def _check_walls() -> dict[str, dict[str, tuple[float, float]]]:
+    """tree -> command label -> median (wall, CPU) seconds, from the recorded check bench."""
+    out: dict[str, dict[str, tuple[float, float]]] = {}
+    for line in _bench_text("check_bench").splitlines()[3:]:
+        m = _CHECK_ROW.match(line)
+        if m:
+            out.setdefault(m["tree"], {})[m["label"]] = (float(m["wall"]), float(m["cpu"]))
+    return out
+
+
+def _recorded(name: str) -> str:
+    """'DATE at load L' from a record's header line."""
+    m = re.match(r"recorded (\S+) [0-9:]+ UTC, tree \S+, load ([0-9.]+)", _bench_text(name))
+    return f"{m[1]} at load {m[2]}" if m else "?"
+
+
+def _fe_ratios() -> dict[str, dict[str, list[float]]]:
+    """tree -> {"cold": [NL/dir ...], "warm_p1": [warm/dir ...], "warm_p2": [...]}
+    of the default solver's rows of the recorded FE bench."""
+    out: dict[str, dict[str, list[float]]] = {}
+    for line in _bench_text("fe_bench").splitlines():
+        f = line.split()
+        if len(f) < 19 or f[4] != "default" or not f[2].isdigit():
+            continue
+        d = out.setdefault(f[0], {"cold": [], "warm_p1": [], "warm_p2": []})
+        d["cold"].append(float(f[16]))
+        d["warm_p2" if f[3] == "2" else "warm_p1"].append(float(f[18]))
+    return out
+
+
+def _sweep_ratios() -> dict[str, str]:
+    """tree -> the sweep / linear-reference ratio of the recorded sweep bench
+    (``--quick --against REV``: a row per tree, the ratio last)."""
+    out = {}
+    for line in _bench_text("sweep_bench").splitlines():
+        f = line.split()
+        if len(f) == 8 and f[1].isdigit():
+            out[f[0]] = f[7]
+    return out
+
+
+def _span(xs: list[float], digits: int = 1) -> str:
+    lo, hi = min(xs), max(xs)
+    return f"{lo:.{digits}f}" if f"{lo:.{digits}f}" == f"{hi:.{digits}f}" else \
+        f"{lo:.{digits}f}-{hi:.{digits}f}"
+
+
+def block_bench_goals() -> str:
+    """The speed goals beside the recorded benches: this tree and the
+    revision each bench ran against, side by side."""
+    walls = _check_walls()
+    fe = _fe_ratios()
+    if not walls or not fe:
+        return "\n(not recorded: run bench/check_bench.py and bench/fe_bench.py with --record)\n"
+    trees = list(walls)
+    this, other = trees[0], trees[1] if len(trees) > 1 else None
+    fe_trees = list(fe)
+    fe_other = fe_trees[1] if len(fe_trees) > 1 else None
+
+    def cw(tree: str | None, label: str) -> str:
+        if not tree or label not in walls.get(tree, {}):
+            return "-"
+        w, c = walls[tree][label]
+        return f"{w:.2f} ({c:.2f})"
+
+    def others(tree: str | None) -> str:
+        if tree is None:
+            return "-"
+        xs = [v for k, v in walls[tree].items() if k.startswith("check ")
+              and k not in ("check demo_choke", "check demo_ei_transformer")]
+        return f"{_span([w for w, _ in xs])} ({_span([c for _, c in xs])})" if xs else "-"
+
+    def ratio(tree: str | None, key: str) -> str:
+        return _span(fe[tree][key]) if tree and fe.get(tree, {}).get(key) else "-"
+
+    sweep = _sweep_ratios()
+    rows = [("`magcheck --help`, wall (CPU) s", "<= 0.5", cw(other, "--help"), cw(this, "--help")),
+            ("`magcheck hand` demo choke, wall (CPU) s", "<= 1", cw(other, "hand demo_choke"),
+             cw(this, "hand demo_choke")),
+            ("`check` demo choke, wall (CPU) s", "<= 2.5", cw(other, "check demo_choke"),
+             cw(this, "check demo_choke")),
+            ("`check` demo EI transformer, wall (CPU) s", "<= 20", cw(other, "check demo_ei_transformer"),
+             cw(this, "check demo_ei_transformer")),
+            ("`check` every other bundled case, wall (CPU) s", "<= 10 each", others(other), others(this)),
+            ("nonlinear solve / one direct solve, cold start (fe_bench NL/dir)", "<= 4",
+             ratio(fe_other, "cold"), ratio(fe_trees[0], "cold")),
+            ("the same, warm start from the next coarser mesh, P2 (fe_bench warm/dir)", "<= 4",
+             ratio(fe_other, "warm_p2"), ratio(fe_trees[0], "warm_p2")),
+            ("the same, warm start, P1 (small meshes)", "<= 4",
+             ratio(fe_other, "warm_p1"), ratio(fe_trees[0], "warm_p1")),
+            ("41-point current sweep of the demo choke / (meshing + 41 linear solves)", "<= 2",
+             sweep.get(other or "", "-"), sweep.get(this, "-"))]
+    lines = [f"| figure | goal | {other or '-'} | {this} |", "|---|---|---|---|"]
+    lines += [f"| {a} | {b} | {c} | {d} |" for a, b, c, d in rows]
+    lines += ["", f"Recorded: check bench {_recorded('check_bench')}, FE bench "
+              f"{_recorded('fe_bench')}, sweep bench {_recorded('sweep_bench')} (2 cores; "
+              "the wall-time goals are for an idle machine, where wall is about CPU)."]
+    return "\n" + "\n".join(lines) + "\n"
+
+
 # ------------------------------------------------------------- slow blocks
 def block_choke_check() -> str:
     """The printout of ``magcheck check cases/demo_choke.toml`` (FE run)."""
@@ -564,6 +700,10 @@ def block_loss_budget() -> str:
 
 QUICK: dict[str, Callable[[], str]] = {
     "loss-budget": block_loss_budget,
+    "bench-goals": block_bench_goals,
+    "bench-check": block_bench_check,
+    "bench-fe": block_bench_fe,
+    "bench-sweep": block_bench_sweep,
     "commands": block_commands,
     "motion-demos": block_motion_demos,
     "magnet-release": block_magnet_release,

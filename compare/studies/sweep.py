@@ -229,7 +229,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
     Never raises for a failed solve: the point comes back with
     ``converged=False`` and the message, and the next point starts cold.
     """
-    from threadpoolctl import threadpool_limits
+    from magcheck.fem2d.linsolve import one_blas_thread
 
     from ..judge.check import choose_depth_model
     from ..models.fe import _with_virtual_work, mesh_case, solve_case_full
@@ -302,7 +302,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
                 fs = None
             try:
                 if fs is None:
-                    with threadpool_limits(limits=1):
+                    with one_blas_thread():
                         fs = solve_case_full(case, mesh, A0=A0, linear_solver=linear)
             except RunError:
                 if A0 is None:
@@ -311,7 +311,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
                 # equals a single-point run.
                 log.info("point %d: %s start failed, retrying cold", idx, start)
                 start = f"cold (after {start})"
-                with threadpool_limits(limits=1):
+                with one_blas_thread():
                     fs = solve_case_full(case, mesh, linear_solver=linear)
         except Exception as exc:  # a meshing or solve failure ends this point only
             if not isinstance(exc, RunError):
@@ -337,7 +337,7 @@ def run_block(task: BlockTask) -> tuple[PointResult, ...]:
 
             prob = ac_problem(case, sol, reuse=ac_state[2] if ac_state else None)
             ac_state = (settings, fs, prob)
-            with threadpool_limits(limits=1):
+            with one_blas_thread():
                 acv = fe_ac(case, sol, problem=prob)["values"]
             q = dataclasses.replace(q, values={**q.values, **{f"ac_{k}": v for k, v in acv.items()}})
         if budget_args:  # the loss budget on this point's solution (no further nonlinear solve)

@@ -158,7 +158,7 @@ def _hand_peak(h) -> float:
 
 def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
     """Evaluate samples (runs in a worker process; failures come back as ok=False)."""
-    from threadpoolctl import threadpool_limits
+    from magcheck.fem2d.linsolve import one_blas_thread
 
     from ..judge.check import choose_depth_model
     from ..models.fe import mesh_case, solve_case
@@ -176,7 +176,7 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
             hand_force = h.force_values.get("force", math.nan)
             if task.with_fe:
                 mesh = mesh_case(case)
-                with threadpool_limits(limits=1):  # one BLAS thread per worker (see sweep.run_block)
+                with one_blas_thread():  # one BLAS thread per worker (see sweep.run_block)
                     q, sol, _ = solve_case(case, mesh)
                 # the depth model ranked against this sample's planar FE, as
                 # magcheck check chooses it (compare.judge.check.choose_depth_model)
@@ -191,7 +191,7 @@ def run_samples(task: SampleTask) -> tuple[SampleResult, ...]:
                 def fe_at(current: float, kind: str, case=case, mesh=mesh, cache=cache) -> float:
                     at = with_current(case, current)
                     if current not in cache:
-                        with threadpool_limits(limits=1):
+                        with one_blas_thread():
                             cache[current] = solve_case(at, mesh)[0].values
                     key = "inductance" if kind == "secant" else "incremental_inductance"
                     return (inductance_of(cache[current], kind)
