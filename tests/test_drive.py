@@ -31,15 +31,22 @@ def test_the_driven_windings_current_is_where_the_hand_reaches_lambda_pk():
     assert case.winding.voltage == 230.0 and case.winding.frequency == 50.0
 
 
+def _linear(d: dict) -> dict:
+    """The EI transformer's document with a linear core (mu_r 2000): a linear
+    material has no loss data, so no loss budget (nor its margins)."""
+    d["materials"]["core"] = {"mu_r": 2000}
+    d.pop("loss")
+    for k in ("total_loss", "core_loss", "efficiency", "regulation", "temperature_rise"):
+        d["margins"].pop(k)
+    return d
+
+
 def test_linear_ideal_core_drive_in_closed_form():
     # Source: exact for a linear circuit: i_pk = lambda_pk / L, L = N^2 / R
     # with the EI core's two outer loops in parallel (typed from the
     # dimensions; ideal-gap network, mu_r 2000)
     d = _doc()
-    d["materials"]["core"] = {"mu_r": 2000}
-    d.pop("loss")  # a linear material has no loss data: no loss budget (nor its margins)
-    for k in ("total_loss", "core_loss", "efficiency", "regulation", "temperature_rise"):
-        d["margins"].pop(k)
+    _linear(d)
     case = case_from_dict(d)
     lam_pk = math.sqrt(2) * 230 / (2 * math.pi * 50)
     L = run_hand(case).inductance
@@ -119,8 +126,7 @@ def test_linear_core_fe_magnetizing_current_is_sinusoidal():
     from magcheck.compare.judge.check import run_check
 
     # and the inrush estimate's first peak (2 + r) lambda_pk / L_FE on the same line
-    d = _doc()
-    d["materials"]["core"] = {"mu_r": 2000}
+    d = _linear(_doc())
     d["fe"] = {"mesh_size": "4 mm"}
     d["windings"][0]["residual_flux"] = 0.6
     d["windings"][0].pop("resistance")  # undamped
@@ -165,8 +171,7 @@ def test_linear_core_damped_inrush_is_the_switched_rl_circuit():
     from magcheck.compare.outputs.serialize import check_json
     from tests.test_magnetizing import rl_first_peak
 
-    d = _doc()
-    d["materials"]["core"] = {"mu_r": 2000}
+    d = _linear(_doc())
     d["fe"] = {"mesh_size": "4 mm"}
     d["windings"][0].update(residual_flux=0.6, resistance="400 ohm")
     res = run_check(case_from_dict(d))
@@ -265,8 +270,7 @@ def test_fe_leakage_equals_the_short_circuit_inductance_of_its_matrix():
     from magcheck.compare.models.fe import mesh_case, solve_case
     from magcheck.fem2d import post
 
-    d = _doc()
-    d["materials"]["core"] = {"mu_r": 2000}
+    d = _linear(_doc())
     d["fe"] = {"mesh_size": "4 mm"}
     case = case_from_dict(d)
     mesh = mesh_case(case)
