@@ -920,6 +920,22 @@ MUTATIONS: tuple[Mutation, ...] = (
       "psi = max(loss, 0.0) / area  # W/cm^2",
       "the temperature-rise relation fed W/m^2 instead of W/cm^2",
       ("tests/test_loss_budget.py",)),
+    # ---------------------------------------------------------------- conducting parts
+    M("eddy-rod-low-frequency-8", "analytic/eddy.py",
+      "return math.pi * s * w ** 2 * float(b_peak) ** 2 * a ** 4 * L / 16.0",
+      "return math.pi * s * w ** 2 * float(b_peak) ** 2 * a ** 4 * L / 8.0",
+      "the rod's low-frequency eddy loss with 1/8 instead of 1/16 (the time average's 1/2 lost)",
+      ("tests/test_conducting_parts.py",)),
+    M("eddy-rod-mu-dropped", "analytic/eddy.py",
+      "k = np.sqrt(-1j * w * mu_0 * mr * s)",
+      "k = np.sqrt(-1j * w * mu_0 * s)",
+      "the rod's propagation constant without the part's permeability",
+      ("tests/test_conducting_parts.py",)),
+    M("ac-parts-not-conducting", "compare/models/ac.py",
+      "conductivity = {**part_conductivity(case), **conductivity}",
+      "conductivity = dict(conductivity)",
+      "the case's conducting parts left out of the AC field problem",
+      ("tests/test_conducting_parts.py",)),
 )
 
 
