@@ -17,10 +17,12 @@ from scipy import special
 from scipy.constants import mu_0
 from scipy.integrate import quad
 
-from magcheck.analytic.eddy import rod_eddy_loss, rod_eddy_loss_low_frequency
+from magcheck.analytic.eddy import (rod_eddy_loss, rod_eddy_loss_imposed_flux,
+                                    rod_eddy_loss_low_frequency)
 from magcheck.compare.errors import CaseError
 from magcheck.compare.models.ac import fe_ac, hand_part_loss, part_conductivity
 from magcheck.compare.models.fe import run_fe
+from magcheck.compare.models.hand import run_hand
 from magcheck.compare.reading.variants import case_from_tables
 from magcheck.fem2d import harmonic as H
 from magcheck.fem2d.formulation import Axisymmetric
@@ -84,6 +86,31 @@ def test_rod_loss_low_frequency_limit_and_deep_skin():
     assert rod_eddy_loss(SIGMA, mu_r, f, h0, a, L) == pytest.approx(surf, rel=1e-4)
 
 
+def test_rod_loss_imposed_flux_limits():
+    a, L, mu_r = 4e-3, 0.03, 800.0
+    phi = 1e-6
+    b = phi / (math.pi * a ** 2)
+    delta = a / 0.05
+    f = 2.0 / (delta ** 2 * mu_0 * mu_r * SIGMA) / (2 * math.pi)
+    # Source: low-frequency limit (derived in analytic.eddy): the flux's
+    # uniform B = phi / (pi a^2) in the low-frequency formula; 1e-3
+    low = rod_eddy_loss_low_frequency(SIGMA, f, b, a, L)
+    assert rod_eddy_loss_imposed_flux(SIGMA, mu_r, f, phi, a, L) == pytest.approx(low, rel=1e-3)
+    # Source: exact Bessel solution: the flux of H_z = H0 J0(kr)/J0(ka)
+    # integrated over the section by quadrature gives back phi (1e-9)
+    delta = a / 4.0
+    f = 2.0 / (delta ** 2 * mu_0 * mu_r * SIGMA) / (2 * math.pi)
+    k = np.sqrt(-1j * 2 * math.pi * f * mu_0 * mu_r * SIGMA)
+    p = rod_eddy_loss_imposed_flux(SIGMA, mu_r, f, phi, a, L)
+    # the H0 that gives loss p by rod_eddy_loss (loss ~ H0^2)
+    h0 = math.sqrt(p / rod_eddy_loss(SIGMA, mu_r, f, 1.0, a, L))
+    j0 = special.jv(0, k * a)
+    bz = lambda r, part: getattr(mu_0 * mu_r * h0 * special.jv(0, k * r) / j0, part)
+    fl = [quad(lambda r: bz(r, part) * 2 * math.pi * r, 0, a, epsabs=0, epsrel=1e-12,
+               limit=200)[0] for part in ("real", "imag")]
+    assert math.hypot(*fl) == pytest.approx(phi, rel=1e-9)
+
+
 def test_rod_loss_bad_input():
     with pytest.raises(ValueError, match="radius"):
         rod_eddy_loss(SIGMA, 1.0, 50.0, 1.0, -1e-3, 1.0)
@@ -117,6 +144,26 @@ def test_fe_permeable_conducting_rod_against_exact(a_over_delta):
     # Source: exact Bessel solution (derived; analytic.eddy); tolerance 1e-3
     # (the P2 field at elements delta/3, as the copper rod of test_harmonic)
     ref = rod_eddy_loss(SIGMA, mu_r, f, abs(h0), a, 2 * R)
+    assert H.region_loss(hs, "rod") == pytest.approx(ref, rel=1e-3)
+
+
+def test_fe_rod_filling_the_bore_imposed_flux():
+    """The iron rod (mu_r 100) fills the bore r < R between ideal-iron end
+    poles; the flux pi R^2 B0 imposed at r = R: the field model's loss against
+    analytic.eddy.rod_eddy_loss_imposed_flux (the hand plunger estimate's form)."""
+    R, B0, mu_r = 1e-3, 0.01, 100.0
+    delta = R / 3.0
+    f = 2.0 / (delta ** 2 * mu_0 * mu_r * SIGMA) / (2 * math.pi)
+    lay = Layout((Region("rod", (Rect(0, -R, R, R),), "iron"),),
+                 air=AirBox("rz-box", size=2 * R),
+                 mesh=MeshSettings(size=delta / 3, air_size_factor=1.0))
+    prob = H.HarmonicProblem(build_mesh(lay), {"iron": LinearReluctivity(mu_r), "air": AIR},
+                             {"rod": SIGMA}, f, formulation=Axisymmetric(),
+                             natural_boundary=lambda r, z: (r > 1e-12) & (r < R * (1 - 1e-9)))
+    hs = prob.solve(background=Background((0.0, B0)))
+    # Source: exact Bessel solution with the flux imposed (derived;
+    # analytic.eddy); tolerance 1e-3 (P2 at delta/3, as above)
+    ref = rod_eddy_loss_imposed_flux(SIGMA, mu_r, f, math.pi * R ** 2 * B0, R, 2 * R)
     assert H.region_loss(hs, "rod") == pytest.approx(ref, rel=1e-3)
 
 
@@ -168,5 +215,14 @@ def test_plunger_loss_through_compare_low_frequency_scaling():
     # (derived): P ~ w^2; the first correction is (a/delta)^4 relative,
     # a/delta ~ 0.2 at 0.02 Hz with the operating point's mu_r (a few 1e-4 here)
     assert losses[1] / losses[0] == pytest.approx(4.0, rel=3e-3)
-    h = hand_part_loss(case, None)
-    assert math.isnan(h["plunger"])  # no hand circuit given: no estimate
+    assert math.isnan(hand_part_loss(case, None)["plunger"])  # no hand circuit: no estimate
+    # the hand estimate at 0.02 Hz is the low-frequency rod formula on the
+    # hand's AC gap flux over the plunger's face to the bottom plate's middle
+    hr = run_hand(c)
+    v = hr.values()
+    n = c.winding.turns
+    phi = v["incremental_inductance"] * 2.0 / n * v["flux"] * n / v["flux_linkage"]
+    length = c.core.plunger_top - 0.5 * c.core.plate
+    # Source: low-frequency limit (derived, analytic.eddy); 1e-3: a/delta ~ 0.2
+    low = rod_eddy_loss_low_frequency(1e7, 0.02, phi / (math.pi * 0.006 ** 2), 0.006, length)
+    assert hand_part_loss(c, hr)["plunger"] == pytest.approx(low, rel=1e-3)

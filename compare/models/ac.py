@@ -231,24 +231,28 @@ def part_conductivity(case: Case) -> dict[str, float]:
 def hand_part_loss(case: Case, hand_3d: Any = None) -> dict[str, float]:
     """The hand estimate of each conducting part's eddy loss (W, time
     average) where the family gives one in closed form (a round part in an
-    axial field: ``family.eddy_rod(case, part)`` -> (radius, length, area
-    share) or None), else NaN.
+    axial field: ``family.eddy_rod(case, part)`` -> (radius, length) or
+    None), else NaN (the row is then FE only).
 
-    The rod's peak B is the hand model's AC flux through the part: the
-    incremental inductance times the peak AC current over the turns gives
-    the flux per turn, of which the working gap's share (flux x N / flux
-    linkage: the leakage across the coil space not counted) runs the part;
-    over the rod's area.  The loss is the low-frequency limit
-    pi sigma w^2 B^2 a^4 L / 16 (analytic.eddy; docs/references.md section
-    16): it misses the skin effect (the part's own reaction) once the
-    radius nears the skin depth, and a field that is not uniform along the
-    rod."""
-    from magcheck.analytic.eddy import rod_eddy_loss_low_frequency
+    The rod's peak AC flux is the hand model's: the incremental inductance
+    times the peak AC current over the turns gives the flux per turn, of
+    which the working gap's share (flux x N / flux linkage: the leakage
+    across the coil space not counted) runs the part.  The flux is taken as
+    imposed (the circuit's reluctance is the air gap's), and the loss is
+    the long rod's exact Bessel form for that flux (skin effect included;
+    analytic.eddy.rod_eddy_loss_imposed_flux, docs/references.md section 16)
+    at the part's differential permeability at the hand's DC flux density
+    (its B-H law: the operating point's linear permeability).  It misses a
+    field that is not uniform along the rod (flux leaving its side, the
+    ends) and the rod's own reaction on the circuit."""
+    from magcheck.analytic.eddy import rod_eddy_loss_imposed_flux
+    from scipy.constants import mu_0
 
     from ..design.families import get_family
 
     fam = get_family(case.family)
     _, ac = _parts(case)
+    laws = {m.region: m.law for m in case.materials}
     out = {}
     for part, sigma in case.conducting:
         rod = getattr(fam, "eddy_rod", None)
@@ -261,10 +265,13 @@ def hand_part_loss(case: Case, hand_3d: Any = None) -> dict[str, float]:
         n = case.winding.turns
         share = (v["flux"] * n / v["flux_linkage"]
                  if v["flux_linkage"] and math.isfinite(v["flux"] * n / v["flux_linkage"]) else 1.0)
-        phi = v["incremental_inductance"] * abs(ac.current) / n * share
-        b = phi / (math.pi * radius ** 2)
-        out[part] = (rod_eddy_loss_low_frequency(sigma, ac.frequency, b, radius, length)
-                     if math.isfinite(b) else math.nan)
+        phi_ac = v["incremental_inductance"] * abs(ac.current) / n * share
+        law = laws.get(part, laws["core"])
+        s_dc = (v["flux"] / (math.pi * radius ** 2)) ** 2
+        nu_d = float(law.nu(s_dc)) + 2.0 * s_dc * float(law.dnu_ds(s_dc))
+        mu_r = 1.0 / (mu_0 * nu_d)
+        out[part] = (rod_eddy_loss_imposed_flux(sigma, mu_r, ac.frequency, phi_ac, radius, length)
+                     if math.isfinite(phi_ac) and phi_ac > 0 and mu_r > 0 else math.nan)
     return out
 
 
