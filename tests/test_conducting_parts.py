@@ -215,6 +215,15 @@ def test_plunger_loss_through_compare_low_frequency_scaling():
     # (derived): P ~ w^2; the first correction is (a/delta)^4 relative,
     # a/delta ~ 0.2 at 0.02 Hz with the operating point's mu_r (a few 1e-4 here)
     assert losses[1] / losses[0] == pytest.approx(4.0, rel=3e-3)
+    # at the case's 50 Hz: the winding's R_ac is its copper's; its terminal
+    # resistance adds the plunger's loss reflected, 2 P / I^2
+    r = fe_ac(case, sol)
+    z = H.winding_impedance(r["solution"], "winding")
+    # Source: Poynting's theorem (complex power balance, exact for the discrete
+    # problem: test_harmonic's ring power balance); 1e-6 for the sums' roundoff
+    assert r["values"]["R_ac"] + 2 * r["part_loss"]["plunger"] / 2.0 ** 2 == pytest.approx(
+        z.R, rel=1e-6)
+    assert r["part_loss"]["plunger"] > 0.05 * 0.5 * 2.0 ** 2 * r["values"]["R_ac"]
     assert math.isnan(hand_part_loss(case, None)["plunger"])  # no hand circuit: no estimate
     # the hand estimate at 0.02 Hz is the low-frequency rod formula on the
     # hand's AC gap flux over the plunger's face to the bottom plate's middle

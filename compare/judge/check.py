@@ -758,7 +758,29 @@ def motion_rows(case: Case, motion: Any) -> list[Row]:
 
 
 def ac_notes(case: Case, ac: Any) -> tuple[str, ...]:
-    """What the hand AC model cannot see, and how far the FE's loss lies above it."""
+    """What the hand AC model cannot see, and how far the FE's loss lies above it;
+    then the conducting parts' note."""
+    return _ac_winding_notes(case, ac) + _part_notes(case, ac)
+
+
+def _part_notes(case: Case, ac: Any) -> tuple[str, ...]:
+    """One note on the conducting parts ([conducting_parts]), if any."""
+    parts = getattr(ac, "part_loss_fe", None) if ac is not None else None
+    if not parts:
+        return ()
+    i_ac = abs(ac.current_ac)
+    each = ", ".join(f"{p} {1e3 * v:.4g} mW (adds {2.0 * v / i_ac ** 2:.4g} ohm to the "
+                     "terminal resistance)" for p, v in parts.items())
+    closed = [p for p, v in ac.part_loss_hand.items() if math.isfinite(v)]
+    how = ("the hand estimate is the long rod's exact Bessel loss for the hand circuit's AC "
+           "flux at the part's differential permeability (analytic.eddy), blind to a flux "
+           "that is not uniform along the part" if closed else
+           "no hand estimate in closed form for this family's parts (FE only)")
+    return (f"Conducting parts, eddy loss at {ac.frequency / 1e3:.4g} kHz (FE): {each}; the "
+            "winding's R_ac rows are its copper's own (2 P_copper / I^2); " + how + ".",)
+
+
+def _ac_winding_notes(case: Case, ac: Any) -> tuple[str, ...]:
     if ac is None:
         return ()
     c = case.winding.conductor

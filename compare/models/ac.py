@@ -339,8 +339,13 @@ def fe_ac(case: Case, sol: Any, problem: Any = None) -> dict[str, Any]:
         w = wds[0][1]
         z = winding_impedance(hs, "winding")
         rd = r_dc[w.name]
-        vals = {"R_dc": rd, "R_ac": z.R, "R_ac_ratio": z.R / rd,
-                "winding_loss": w.current ** 2 * rd + 0.5 * w.ac.current ** 2 * z.R, "L_ac": z.L}
+        # R_ac is the copper's: with conducting parts the terminal Re(Z) also
+        # holds their eddy loss, reflected (2 P_part / I^2), which is the
+        # part-loss row's; without them the two are the same (Poynting)
+        r_ac = (2.0 * winding_loss(hs, "winding") / abs(w.ac.current) ** 2 if part_loss
+                else z.R)
+        vals = {"R_dc": rd, "R_ac": r_ac, "R_ac_ratio": r_ac / rd,
+                "winding_loss": w.current ** 2 * rd + 0.5 * w.ac.current ** 2 * r_ac, "L_ac": z.L}
     else:
         i1 = wds[0][1].ac.current
         vals = {}
