@@ -610,7 +610,7 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
         if not getattr(family, "turn_by_turn", False):
             raise CaseError(t.key("conductor"), t.raw("conductor"),
                             f"the {family.name} family does not draw turns yet (the "
-                            "window-core family does): drop it")
+                            "window-core, pot-core and plunger families do): drop it")
         conductor = _read_conductor(t.table("conductor"), turns, thickness, length, limb,
                                     t.key("turns"))
     if t.has("ac"):
