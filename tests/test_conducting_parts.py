@@ -235,3 +235,28 @@ def test_plunger_loss_through_compare_low_frequency_scaling():
     # Source: low-frequency limit (derived, analytic.eddy); 1e-3: a/delta ~ 0.2
     low = rod_eddy_loss_low_frequency(1e7, 0.02, phi / (math.pi * 0.006 ** 2), 0.006, length)
     assert hand_part_loss(c, hr)["plunger"] == pytest.approx(low, rel=1e-3)
+
+
+def test_planar_conducting_core_row_is_fe_only(tmp_path):
+    """A planar window core given a conductivity (a ferrite's ~1 ohm m): its
+    regions become passive bars, the row is FE only (no closed form) and info,
+    and the winding's R_ac is its copper's (the core's loss reflected at the
+    terminals is the row's, not the winding's)."""
+    from magcheck.compare.front.api import check
+
+    text = (ROOT / "cases" / "demo_foil_choke.toml").read_text()
+    text = text.replace("[materials]", '[conducting_parts]\ncore = "1 ohm*m"\n\n[materials]', 1)
+    p = tmp_path / "foil.toml"
+    p.write_text(text)
+    for f in (ROOT / "cases").glob("*.csv"):
+        (tmp_path / f.name).write_text(f.read_text())
+    res = check(p)
+    row = res["part_loss:core"]
+    assert row.verdict == "info" and "FE only" in row.label and math.isnan(row.hand)
+    assert row.fe > 0
+    ac = res.ac
+    z = H.winding_impedance(ac.solution, "winding")
+    # Source: Poynting's theorem (complex power balance of the discrete
+    # problem); 1e-6 for the sums' roundoff
+    assert ac.fe["R_ac"] + 2 * ac.part_loss_fe["core"] / ac.current_ac ** 2 == pytest.approx(
+        z.R, rel=1e-6)
