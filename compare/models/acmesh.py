@@ -70,15 +70,15 @@ def _part_sigma_mu(case: Case) -> dict[str, float]:
 
     regions = core_model(case).regions
     laws = {m.region: m.law for m in case.materials}
-    out = {}
+    out: dict[str, float] = {}
     for part, sigma in case.conducting:
         for r in regions:
             if r.kind != "core" or not (part == "core" or r.name == part
                                         or r.material == f"core-{part}"):
                 continue
             law = laws.get(r.material[5:] if r.material.startswith("core-") else "core",
-                           laws.get("core"))
-            nu = np.asarray(law.nu(np.linspace(0.0, 2.5, 251) ** 2), dtype=float)
+                           laws["core"])
+            nu = law.nu(np.linspace(0.0, 2.5, 251) ** 2)
             mu_r = 1.0 / (mu_0 * float(np.min(nu)))
             out[r.name] = max(out.get(r.name, 0.0), sigma * mu_r)
     return out
