@@ -349,6 +349,12 @@ class Case:
     cross-section.  The FE always uses the homogenised core (polarisation
     scaled by k_s, analytic.bh.scale_law); the hand model uses the net iron
     area k_s A when ``[hand] stacking = true``."""
+    conducting: tuple[tuple[str, float], ...] = ()
+    """``[conducting_parts]``: (part, conductivity S/m) of solid conducting core
+    parts ("core": every core region; a family part such as "plunger": its
+    region).  The AC field model (compare.models.ac) gives them eddy currents
+    at the operating point's linear(ised) permeability; laminated parts are
+    left out (their loss is the core-loss budget's)."""
     motion: Any = None
     """The moving part's mechanics and drive ([motion]:
     compare.design.actuator.ActuatorSpec; None without one)."""

@@ -392,6 +392,9 @@ ROOT_KEYS: dict[str, Key] = {
     "tolerances": tables(TOLERANCE, "the tolerances of a Monte Carlo study"),
     "targets": tables(TARGETS, "stored target solves that magcheck verify runs"),
     "measured": tables(MEASURED, "measurements of the built part (a value or a CSV curve)"),
+    "conducting_parts": table({}, "solid conducting core parts for the AC field model: "
+                                    "core or a part name = its resistivity (\"0.1 uohm*m\")",
+                              extra=quantity("resistivity", "the part's resistivity")),
     "motion": table(MOTION_KEYS, "a moving part's load, mass and coil drive: pull-in, "
                                  "drop-out, operate and release"),
 }

@@ -62,6 +62,10 @@ DEFAULT_LIMITS: dict[str, float] = {
     # layer formula is held to 15 % on R_ac, R_ac/R_dc and the loss, L_ac as
     # the incremental inductance it stands for (common practice, no source)
     "R_dc": 1.0, "R_ac": 15.0, "R_ac_ratio": 15.0, "winding_loss": 15.0, "L_ac": 20.0,
+    # a solid part's eddy loss by the low-frequency rod formula with the hand
+    # circuit's flux (compare.models.ac.hand_part_loss): the loss goes as B^2,
+    # so a 10 % flux error is 20 % (common practice, no source)
+    "part_loss": 25.0,
 }
 
 LABELS = {
@@ -712,6 +716,16 @@ def ac_rows(case: Case, ac: Any) -> list[Row]:
             where += f" ({ac.layer_windings[j - 1]})"
         out.append(Row(f"layer_loss:{j}", f"AC loss, layer {j}{where}", "W", h, f,
                        u, d, None, _verdict(d, h, f, u, None)))
+    for part, f in getattr(ac, "part_loss_fe", {}).items():
+        h = ac.part_loss_hand.get(part, math.nan)
+        u = ac.part_loss_uncertainty.get(part, math.nan)
+        both = math.isfinite(h)
+        d = _diff_pct(h, f) if both else math.nan
+        lim = case.margins.agreement_limit("part_loss", DEFAULT_LIMITS["part_loss"]) if both else None
+        label = (f"conducting-part loss, {part} at {f_khz:.4g} kHz"
+                 + ("" if both else " (FE only: no closed form)"))
+        out.append(Row(f"part_loss:{part}", label, "W", h, f, u, d, lim,
+                       _verdict(d, h, f, u, lim) if both else "info", hand_3d=h, fe_3d=f))
     fe3 = {**ac.fe_3d, "R_ac_ratio": ac.fe["R_ac_ratio"]}
     h3 = {**ac.hand_3d, "R_ac_ratio": ac.hand["R_ac_ratio"]}
     for r in ac_margins(case, fe3, h3):
@@ -749,7 +763,29 @@ def motion_rows(case: Case, motion: Any) -> list[Row]:
 
 
 def ac_notes(case: Case, ac: Any) -> tuple[str, ...]:
-    """What the hand AC model cannot see, and how far the FE's loss lies above it."""
+    """What the hand AC model cannot see, and how far the FE's loss lies above it;
+    then the conducting parts' note."""
+    return _ac_winding_notes(case, ac) + _part_notes(case, ac)
+
+
+def _part_notes(case: Case, ac: Any) -> tuple[str, ...]:
+    """One note on the conducting parts ([conducting_parts]), if any."""
+    parts = getattr(ac, "part_loss_fe", None) if ac is not None else None
+    if not parts:
+        return ()
+    i_ac = abs(ac.current_ac)
+    each = ", ".join(f"{p} {1e3 * v:.4g} mW (adds {2.0 * v / i_ac ** 2:.4g} ohm to the "
+                     "terminal resistance)" for p, v in parts.items())
+    closed = [p for p, v in ac.part_loss_hand.items() if math.isfinite(v)]
+    how = ("the hand estimate is the long rod's exact Bessel loss for the hand circuit's AC "
+           "flux at the part's differential permeability (analytic.eddy), blind to a flux "
+           "that is not uniform along the part" if closed else
+           "no hand estimate in closed form for this family's parts (FE only)")
+    return (f"Conducting parts, eddy loss at {ac.frequency / 1e3:.4g} kHz (FE): {each}; the "
+            "winding's R_ac rows are its copper's own (2 P_copper / I^2); " + how + ".",)
+
+
+def _ac_winding_notes(case: Case, ac: Any) -> tuple[str, ...]:
     if ac is None:
         return ()
     c = case.winding.conductor

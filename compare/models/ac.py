@@ -54,7 +54,7 @@ from ..design.coremodel import core_model
 from .acmesh import default_mesh_size, has_ac, surface_sizes
 
 __all__ = ["AC_KEYS", "ACResult", "has_ac", "hand_ac", "fe_ac", "ac_problem", "ac_windings", "run_ac", "surface_sizes",
-           "default_mesh_size"]
+           "default_mesh_size", "part_regions", "part_conductivity", "hand_part_loss"]
 
 AC_KEYS = ("R_dc", "R_ac", "R_ac_ratio", "winding_loss", "L_ac")
 """The AC quantities, keyed alike by hand and FE (SI: ohm, ohm, -, W, H)."""
@@ -202,6 +202,79 @@ def _solid_windings(case: Case) -> tuple[Any, dict, dict]:
     return tuple(sol_w), cond, cur
 
 
+def part_regions(case: Case) -> dict[str, tuple[str, ...]]:
+    """The field model's regions of each conducting part ([conducting_parts]):
+    "core" every core region, a part the region of that name or of its own
+    material ("core-PART")."""
+    regions = core_model(case).regions
+    out = {}
+    for part, _ in case.conducting:
+        if part == "core":
+            regs = tuple(r.name for r in regions if r.kind == "core")
+        else:
+            regs = tuple(r.name for r in regions
+                         if r.kind == "core" and (r.name == part or r.material == f"core-{part}"))
+        out[part] = regs
+    return out
+
+
+def part_conductivity(case: Case) -> dict[str, float]:
+    """sigma (S/m) per field region of the case's conducting parts (a part
+    listed later overrides "core" on its own regions)."""
+    regs = part_regions(case)
+    out: dict[str, float] = {}
+    for part, sigma in sorted(case.conducting, key=lambda ps: ps[0] != "core"):
+        out.update({r: sigma for r in regs[part]})
+    return out
+
+
+def hand_part_loss(case: Case, hand_3d: Any = None) -> dict[str, float]:
+    """The hand estimate of each conducting part's eddy loss (W, time
+    average) where the family gives one in closed form (a round part in an
+    axial field: ``family.eddy_rod(case, part)`` -> (radius, length) or
+    None), else NaN (the row is then FE only).
+
+    The rod's peak AC flux is the hand model's: the incremental inductance
+    times the peak AC current over the turns gives the flux per turn, of
+    which the working gap's share (flux x N / flux linkage: the leakage
+    across the coil space not counted) runs the part.  The flux is taken as
+    imposed (the circuit's reluctance is the air gap's), and the loss is
+    the long rod's exact Bessel form for that flux (skin effect included;
+    analytic.eddy.rod_eddy_loss_imposed_flux, docs/references.md section 16)
+    at the part's differential permeability at the hand's DC flux density
+    (its B-H law: the operating point's linear permeability).  It misses a
+    field that is not uniform along the rod (flux leaving its side, the
+    ends) and the rod's own reaction on the circuit."""
+    from magcheck.analytic.eddy import rod_eddy_loss_imposed_flux
+    from scipy.constants import mu_0
+
+    from ..design.families import get_family
+
+    fam = get_family(case.family)
+    _, ac = _parts(case)
+    laws = {m.region: m.law for m in case.materials}
+    out = {}
+    for part, sigma in case.conducting:
+        rod = getattr(fam, "eddy_rod", None)
+        geo = rod(case, part) if rod is not None else None
+        if geo is None or hand_3d is None:
+            out[part] = math.nan
+            continue
+        radius, length = geo
+        v = hand_3d.values()
+        n = case.winding.turns
+        share = (v["flux"] * n / v["flux_linkage"]
+                 if v["flux_linkage"] and math.isfinite(v["flux"] * n / v["flux_linkage"]) else 1.0)
+        phi_ac = v["incremental_inductance"] * abs(ac.current) / n * share
+        law = laws.get(part, laws["core"])
+        s_dc = (v["flux"] / (math.pi * radius ** 2)) ** 2
+        nu_d = float(law.nu(s_dc)) + 2.0 * s_dc * float(law.dnu_ds(s_dc))
+        mu_r = 1.0 / (mu_0 * nu_d)
+        out[part] = (rod_eddy_loss_imposed_flux(sigma, mu_r, ac.frequency, phi_ac, radius, length)
+                     if math.isfinite(phi_ac) and phi_ac > 0 and mu_r > 0 else math.nan)
+    return out
+
+
 def ac_problem(case: Case, sol: Any, reuse: Any = None) -> Any:
     """The fem2d.harmonic.HarmonicProblem of the case's AC windings about the
     static solution ``sol`` (the DC operating point, on its mesh), at the
@@ -214,6 +287,7 @@ def ac_problem(case: Case, sol: Any, reuse: Any = None) -> Any:
 
     _, ac = _parts(case)
     windings, conductivity, _ = _solid_windings(case)
+    conductivity = {**part_conductivity(case), **conductivity}
     if (reuse is not None and reuse.operating_point is sol
             and dict(reuse.conductivity) == conductivity and tuple(reuse.windings) == windings):
         return reuse if reuse.frequency == ac.frequency else reuse.at_frequency(ac.frequency)
@@ -259,13 +333,19 @@ def fe_ac(case: Case, sol: Any, problem: Any = None) -> dict[str, Any]:
     back = [r for k, _ in wds for r in coils[k].back]  # none in r-z: a turn is a whole ring
     side = {"window": region_loss(hs, [r for k, _ in wds for r in coils[k].go]),
             "outside": region_loss(hs, back) if back else 0.0}
+    part_loss = {part: region_loss(hs, list(regs)) for part, regs in part_regions(case).items()}
     secs = time.perf_counter() - t0
     if len(wds) == 1:
         w = wds[0][1]
         z = winding_impedance(hs, "winding")
         rd = r_dc[w.name]
-        vals = {"R_dc": rd, "R_ac": z.R, "R_ac_ratio": z.R / rd,
-                "winding_loss": w.current ** 2 * rd + 0.5 * w.ac.current ** 2 * z.R, "L_ac": z.L}
+        # R_ac is the copper's: with conducting parts the terminal Re(Z) also
+        # holds their eddy loss, reflected (2 P_part / I^2), which is the
+        # part-loss row's; without them the two are the same (Poynting)
+        r_ac = (2.0 * winding_loss(hs, "winding") / abs(w.ac.current) ** 2 if part_loss
+                else z.R)
+        vals = {"R_dc": rd, "R_ac": r_ac, "R_ac_ratio": r_ac / rd,
+                "winding_loss": w.current ** 2 * rd + 0.5 * w.ac.current ** 2 * r_ac, "L_ac": z.L}
     else:
         i1 = wds[0][1].ac.current
         vals = {}
@@ -285,7 +365,7 @@ def fe_ac(case: Case, sol: Any, problem: Any = None) -> dict[str, Any]:
                 "winding_loss": loss, "L_ac": 2.0 * q / (w_ * i1 ** 2) if w_ > 0 else math.nan,
                 **vals}
     return {"values": vals, "layer_loss": tuple(layer_loss), "side_loss": side,
-            "ndofs": int(prob.nunknowns), "seconds": secs,
+            "part_loss": part_loss, "ndofs": int(prob.nunknowns), "seconds": secs,
             "size_over_delta": float(prob.size_over_delta), "solution": hs}
 
 
@@ -327,6 +407,12 @@ class ACResult:
     ``R_dc:NAME``, ``R_ac:NAME``, ``R_ac_ratio:NAME`` in hand, fe, ...)."""
     layer_windings: tuple = field(default=())
     """The winding of each layer of hand_layers/fe_layers (radial order)."""
+    part_loss_hand: dict = field(default_factory=dict)
+    """Eddy loss per conducting part ([conducting_parts]; W, 3D): the hand
+    estimate (hand_part_loss; NaN where no closed form: FE only)."""
+    part_loss_fe: dict = field(default_factory=dict)
+    """The same from the field solution (W; planar: in the stack depth)."""
+    part_loss_uncertainty: dict = field(default_factory=dict)
 
     def to_dict(self, which: str) -> dict:
         """The JSON block of one column: "hand" (3D), "hand_planar", "fe"."""
@@ -337,14 +423,19 @@ class ACResult:
                            "layer_factors": list(self.layer_factors),
                            **({"windings": list(self.windings),
                                "layer_windings": list(self.layer_windings)}
-                              if len(self.windings) > 1 else {})}}
+                              if len(self.windings) > 1 else {}),
+                           **({"part_loss": dict(self.part_loss_hand)}
+                              if self.part_loss_hand else {})}}
         if which == "hand_planar":
             return {"ac": {**self.hand, "layer_loss": list(self.hand_layers)}}
         return {"ac": {**self.fe, "layer_loss": list(self.fe_layers),
                        "layer_loss_uncertainty": list(self.fe_layers_uncertainty),
                        "side_loss": dict(self.side_loss), "depth_corrected": dict(self.fe_3d),
                        "uncertainty": dict(self.uncertainty), "ndofs": self.ndofs,
-                       "seconds": self.seconds, "size_over_delta": self.size_over_delta}}
+                       "seconds": self.seconds, "size_over_delta": self.size_over_delta,
+                       **({"part_loss": dict(self.part_loss_fe),
+                           "part_loss_uncertainty": dict(self.part_loss_uncertainty)}
+                          if self.part_loss_fe else {})}}
 
 
 def run_ac(case: Case, fe: Any, hand_p: Any = None, hand_3d: Any = None) -> ACResult:
@@ -377,7 +468,9 @@ def run_ac(case: Case, fe: Any, hand_p: Any = None, hand_3d: Any = None) -> ACRe
         unc = {k: 0.0 if u <= 1e-12 * abs(fine["values"][k]) else u for k, u in unc.items()}
         lunc = tuple(uncertainty_rule(*(r["layer_loss"][j] for r in runs))
                      for j in range(len(fine["layer_loss"])))
+        punc = {p: uncertainty_rule(*(r["part_loss"][p] for r in runs)) for p in fine["part_loss"]}
     else:
+        punc = {p: math.nan for p in fine["part_loss"]}
         unc = {k: math.nan for k in keys}
         lunc = tuple(math.nan for _ in fine["layer_loss"])
     hp, h3 = h["planar"], h["3d"]
@@ -403,4 +496,6 @@ def run_ac(case: Case, fe: Any, hand_p: Any = None, hand_3d: Any = None) -> ACRe
                     ndofs=fine["ndofs"], seconds=fine["seconds"],
                     size_over_delta=fine["size_over_delta"], layer_factors=h["layer_factors"],
                     solution=fine["solution"], windings=tuple(w.name for _, w in wds),
-                    layer_windings=h["layer_windings"])
+                    layer_windings=h["layer_windings"],
+                    part_loss_hand=hand_part_loss(case, hand_3d), part_loss_fe=fine["part_loss"],
+                    part_loss_uncertainty=punc)

@@ -51,9 +51,37 @@ def surface_sizes(case: Case, refine: float = 1.0) -> tuple:
     coils = core_model(case).coils
     turns = {r: w.conductor.conductivity for w, c in zip(case.windings, coils)
              if w.conductor is not None and w.ac is not None for r, _ in c.sides}
+    turns.update(_part_sigma_mu(case))
     ms = mesh_settings_for(MeshSettings(), turns, ac.frequency, per_depth=AC_PER_DEPTH,
                            band_depths=AC_BAND_DEPTHS)
     return tuple((n, s / refine, b) for n, s, b in ms.surface_sizes)
+
+
+def _part_sigma_mu(case: Case) -> dict[str, float]:
+    """sigma x mu_r per region of the case's conducting parts ([conducting_parts]),
+    mu_r the largest relative permeability of the part's B-H law over
+    0..2.5 T: the skin depth sqrt(2 / (w mu0 mu_r sigma)) depends on the
+    product only, so the turns' band rule meshes the part at its smallest
+    skin depth (the operating point's permeability is at most that)."""
+    if not case.conducting:
+        return {}
+    import numpy as np
+    from scipy.constants import mu_0
+
+    regions = core_model(case).regions
+    laws = {m.region: m.law for m in case.materials}
+    out: dict[str, float] = {}
+    for part, sigma in case.conducting:
+        for r in regions:
+            if r.kind != "core" or not (part == "core" or r.name == part
+                                        or r.material == f"core-{part}"):
+                continue
+            law = laws.get(r.material[5:] if r.material.startswith("core-") else "core",
+                           laws["core"])
+            nu = law.nu(np.linspace(0.0, 2.5, 251) ** 2)
+            mu_r = 1.0 / (mu_0 * float(np.min(nu)))
+            out[r.name] = max(out.get(r.name, 0.0), sigma * mu_r)
+    return out
 
 
 def default_mesh_size(case: Case) -> float | None:

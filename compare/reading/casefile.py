@@ -179,6 +179,8 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
     core_loss = _read_core_loss(mat_t, base_dir)
     materials = _read_materials(mat_t, base_dir, family, core)
     loss = _read_loss(root.table("loss"), len(windings)) if root.has("loss") else None
+    conducting = (_read_conducting(root.table("conducting_parts"), family, core)
+                  if root.has("conducting_parts") else ())
     hand = _read_hand(root.table("hand", {}))
     fe = _read_fe(root.table("fe", {}))
     margins = _read_margins(root.table("margins", {}))
@@ -198,7 +200,7 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
                 materials=materials, hand=hand, fe=fe, margins=margins, sweeps=sweeps,
                 tolerances=tolerances, stacking=stacking, targets=targets, measured=measured,
                 description=description, source=source, sha256=sha256, core_loss=core_loss,
-                loss=loss)
+                loss=loss, conducting=conducting)
     check = getattr(family, "check_case", None)
     if check is not None:  # what the family checks across tables (coils name windings, ...)
         check(case)
@@ -608,7 +610,7 @@ def _read_winding(t: TableReader, family: Family, limbs: dict[str, Limb], defaul
         if not getattr(family, "turn_by_turn", False):
             raise CaseError(t.key("conductor"), t.raw("conductor"),
                             f"the {family.name} family does not draw turns yet (the "
-                            "window-core family does): drop it")
+                            "window-core, pot-core and plunger families do): drop it")
         conductor = _read_conductor(t.table("conductor"), turns, thickness, length, limb,
                                     t.key("turns"))
     if t.has("ac"):
@@ -754,6 +756,25 @@ def _read_materials(t: TableReader, base_dir: Path | None, family: Family,
             raise CaseError(t.key(part), None, f"missing: {required[part]}")
     t.finish(valid=(*MATERIAL_REGIONS, *parts, "core_loss"))
     return tuple(specs)
+
+
+def _read_conducting(t: TableReader, family: Family, core: object) -> tuple[tuple[str, float], ...]:
+    """``[conducting_parts]``: a solid part's resistivity per part name ("core"
+    for the whole core, or one of the family's parts), as (part, conductivity
+    S/m).  Parts that conduct need an AC winding to matter; laminated parts
+    are not listed (their eddy loss is the core-loss budget's)."""
+    parts = ("core", *family_parts(family, core))
+    out = []
+    for name in t.data:
+        if name not in parts:
+            continue  # finish() names it
+        rho = t.quantity(name, "resistivity")
+        if not 1e-9 <= rho <= 1.0:  # copper 1.7e-8 ... ferrite's ~1 ohm m (common practice, no source)
+            raise CaseError(t.key(name), t.raw(name), "a part's resistivity must lie in "
+                            "[1e-9, 1] ohm m (e.g. \"0.1 uohm*m\" for soft iron)")
+        out.append((name, 1.0 / rho))
+    t.finish(valid=parts)
+    return tuple(out)
 
 
 def _read_core_loss(t: TableReader, base_dir: Path | None) -> Any:

@@ -71,7 +71,7 @@ from magcheck.fem2d.layout import Rect, Region
 from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel, ForceSpec, GapLine,
                          HandCircuit)
 from ...errors import CaseError
-from ..geometry import Limb
+from ..geometry import Limb, turn_rects
 from ..casekeys import Key, lengths
 from ..reader import TableReader
 from .base import INF, Segment, Window, check_stroke_case, coil_space_leakage, radial_run
@@ -126,6 +126,10 @@ class Plunger:
     core_keys: tuple[str, ...] = ("radius", "shell", "plate", "length", "plunger_radius",
                                   "sliding_gap", "stop_length", "plunger_length", "stroke")
     parts: tuple[str, ...] = ("plunger",)
+    turn_by_turn: bool = True
+    """A winding may be drawn turn by turn ([winding.conductor]): each turn a
+    ring region of its own in the bobbin (compare.design.geometry.turn_rects,
+    the go side only: an r-z turn is the whole ring)."""
     core_spec: dict[str, Key] = lengths(core_keys)
     """The ``[core]`` keys (compare.design.casekeys): the dimensions."""
 
@@ -208,6 +212,20 @@ class Plunger:
     def windows(self, c: PlungerDims, limb: str) -> list[Window]:
         return []
 
+    def eddy_rod(self, case: Any, part: str) -> tuple[float, float] | None:
+        """(radius, length) (m) of the plunger as a round rod in an axial
+        field, for the hand estimate of its eddy loss
+        (compare.models.ac.hand_part_loss): the flux runs the plunger from
+        its face down to the bottom plate, where it leaves radially across
+        the sliding gap over the plate's thickness, so the length is face to
+        the plate's mid-thickness (the part below carries none); None for a
+        part that is not the plunger alone ("core": the frame's parts are
+        not rods)."""
+        if part != "plunger":
+            return None
+        c: PlungerDims = case.core
+        return c.plunger_radius, c.plunger_top - max(c.plunger_bottom, 0.5 * c.plate)
+
     def effective_path(self, c: PlungerDims) -> tuple[list, tuple[str, ...]]:
         raise CaseError("hand.effective_parameters", True, "not modelled for a plunger solenoid")
 
@@ -229,6 +247,16 @@ class Plunger:
         for k, w in enumerate(case.windings):
             r0 = c.bore + w.inner + w.clearance
             name = "coil" if k == 0 else f"coil{k}"
+            if w.conductor is not None:  # the turns one by one: solid rings in series
+                sides, layers = [], []
+                for layer, turn, rect in turn_rects(limb, w)[0]:
+                    tname = f"{name}L{layer}T{turn}"
+                    regions.append(Region(tname, (rect,), "air", kind="coil"))
+                    sides.append((tname, 1))
+                    layers.append((tname, layer))
+                coils.append(CoilModel(tuple(sides), w.turns * w.conductor.area,
+                                       turn_regions=True, layers=tuple(layers)))
+                continue
             regions.append(Region(name, (Rect(r0, mid - 0.5 * w.length, r0 + w.thickness,
                                               mid + 0.5 * w.length),), "air", kind="coil"))
             coils.append(CoilModel(((name, 1),), w.thickness * w.length))
