@@ -424,3 +424,41 @@ def test_motion_rows_judge_with_the_interpolation_uncertainty():
         row = {r.key: r for r in motion_rows(case, mo)}["motion:pull_in_current"]
         assert row.uncertainty == unc["pull_in_current"]
         assert row.verdict == verdict, (u_rel, row)
+
+
+def test_motion_margins_fail_when_the_armature_never_pulls_in():
+    """A spring the coil cannot beat at 1.5 x rated: the pull-in voltage and
+    operate time maxima are FAILED on the bound the motion explored (no
+    pull-in below the map's top current, not closed by the end time), not
+    left "n/a" under a design PASS."""
+    from magcheck.compare.design.actuator import ActuatorSpec
+    from magcheck.compare.judge.motionrows import motion_margins, motion_notes
+    from magcheck.compare.models.motion import MotionMaps, MotionResult, model_motion
+
+    # Source: exact closed form (tests/test_motion.py): pull-in at the open stop needs
+    # i = (GC + T) sqrt(2 P / K) = 1.56 A for a 5 N preload, above the map's 1.2 A top
+    spec = ActuatorSpec("core.stroke", GC + T, GC, 5e-3, (Spring(300.0, 5.0),),
+                        resistance=30.0, voltage=24.0, suppression="diode")
+    currents, strokes, f, lam = _gap_grid(n_i=8)
+    currents = currents * 1.2 / currents[-1]
+    f = np.array([[ACT.force(i, s) for s in strokes] for i in currents])
+    lam = np.array([[ACT.linkage(i, s) for s in strokes] for i in currents])
+    maps = MotionMaps(strokes, currents, {"hand": (f, lam), "fe": (f, lam)}, gap_open=GC + T,
+                      square=True)
+    models = {k: model_motion(k, maps.grid_map(k), spec) for k in ("hand", "fe")}
+    res = MotionResult(maps, models, {"force": 0.0, "linkage": 0.0}, spec.rated_current,
+                       spec.coil_resistance, 0.0)
+    assert math.isnan(models["fe"].values["pull_in_voltage"])
+    limits = (("pull_in_voltage", 19.2), ("operate_time", 10e-3), ("drop_out_voltage", 2.4))
+    case = type("C", (), {"motion": spec, "margins": type("M", (), {
+        "motion": limits, "agreement_limit": staticmethod(lambda k, d: d)})()})()
+    got = {r.key: r for r in motion_margins(case, res)}
+    assert got["pull_in_voltage"].verdict == "FAIL"
+    assert got["pull_in_voltage"].value == pytest.approx(1.2 * 30.0, rel=1e-9)
+    assert got["operate_time"].verdict == "FAIL"
+    assert "bound" in got["operate_time"].note
+    # a limit above the bound stays unjudged: the true value may lie below it
+    case.margins.motion = (("pull_in_voltage", 40.0),)
+    assert motion_margins(case, res)[0].verdict == "n/a"
+    case.margins.motion = limits
+    assert any("FAILs beyond the motion's range" in n for n in motion_notes(case, res))

@@ -991,6 +991,11 @@ MUTATIONS: tuple[Mutation, ...] = (
       "k = np.arange(n + 1)",
       "a magnet's map over the aiding currents only (its release lies at reverse currents)",
       ("tests/test_motion_check.py",)),
+    M("motion-margin-beyond-unjudged", "compare/judge/motionrows.py",
+      "if kind == \"max\" and math.isfinite(bound) and bound > limit:",
+      "if kind == \"max\" and math.isfinite(bound) and bound < limit:",
+      "a pull-in or operate-time maximum left n/a when the armature never pulls in or closes",
+      ("tests/test_motion_check.py::test_motion_margins_fail_when_the_armature_never_pulls_in",)),
 )
 
 

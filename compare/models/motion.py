@@ -299,7 +299,12 @@ class ModelMotion:
 
     values : KEYS -> value; pull_in_stroke, margin_stroke, drop_out_stroke (m
     from the open stop): the tightest strokes; operate, release: the motions
-    (analytic.motion.Motion: t, i, lam, s) or None; notes: why a value is NaN.
+    (analytic.motion.Motion: t, i, lam, s) or None; notes: why a value is NaN;
+    beyond: for a value NaN because it lies beyond what the model explored,
+    the bound it exceeds (pull_in_voltage: the map's top current times R, no
+    pull-in below it; operate_time, release_time: the integration's end time,
+    not closed or not opened by then), so a maximum below the bound is
+    judged failed rather than not judged.
     """
 
     model: str
@@ -309,6 +314,7 @@ class ModelMotion:
     operate: Optional[Motion] = field(default=None, repr=False)
     release: Optional[Motion] = field(default=None, repr=False)
     notes: tuple[str, ...] = ()
+    beyond: dict[str, float] = field(default_factory=dict)
 
 
 def _time_scales(gm: GridMap, spec: Any) -> float:
@@ -341,6 +347,7 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
     load, r = spec.load, spec.coil_resistance
     i_top = float(gm.currents[-1])
     v: dict[str, float] = {k: math.nan for k in KEYS}
+    beyond: dict[str, float] = {}
     notes = []
     pull_s = margin_s = math.nan
     try:
@@ -348,6 +355,7 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
         v["pull_in_current"], v["pull_in_voltage"], pull_s = p.current, p.current * r, p.stroke
     except MotionError:
         notes.append(f"no pull-in below {i_top:.4g} A ({CURRENT_TOP:g} x rated)")
+        beyond["pull_in_current"], beyond["pull_in_voltage"] = i_top, i_top * r
     try:
         d = drop_out_current(gm.force, load, i_top)
         v["drop_out_current"], v["drop_out_voltage"] = d.current, d.current * r
@@ -357,7 +365,8 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
     v["load_margin"], margin_s = m.margin, m.stroke
     if spec.mass is None:
         return ModelMotion(name, v, pull_s, margin_s, None, None,
-                           tuple(notes) + ("no moving mass given: the static limits only",))
+                           tuple(notes) + ("no moving mass given: the static limits only",),
+                           beyond)
     t_end = _time_scales(gm, spec)
     volt = spec.voltage_table if spec.voltage_table is not None else spec.voltage
     # max_step: the traces (and the current dip read off them) sampled finely enough
@@ -371,6 +380,7 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
             v["current_dip"] = op.i_motion_peak - op.i_motion_min
     else:
         notes.append(f"does not close within {t_end * 1e3:.3g} ms at the drive")
+        beyond["operate_time"] = t_end
     i_hold = spec.rated_current
     rel_kw: dict[str, Any] = {}
     if spec.suppression == "resistor":
@@ -384,9 +394,11 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
             v["release_time"] = rl.open_time
         else:
             notes.append(f"does not open within {t_end * 1e3:.3g} ms of switch-off")
+            beyond["release_time"] = t_end
     else:
         notes.append("held closed at zero current (the load does not open it)")
-    return ModelMotion(name, v, pull_s, margin_s, op, rl, tuple(notes))
+        beyond["release_time"] = t_end
+    return ModelMotion(name, v, pull_s, margin_s, op, rl, tuple(notes), beyond)
 
 
 def _magnet_limits(name: str, gm: GridMap, spec: Any) -> ModelMotion:
