@@ -374,6 +374,13 @@ def test_loss_frequency_other_than_the_voltage_drive_is_refused():
     assert "\n" not in str(exc.value)
     data["loss"]["frequency"] = "100 kHz"  # the drive's own: accepted
     assert ml.flux_frequency(case_from_dict(data)) == 1e5
+    # a choke's [winding.ac] ripple likewise (its AC-winding rows take that frequency)
+    choke = tomllib.loads((CASES / "demo_foil_choke.toml").read_text())
+    choke["loss"]["frequency"] = "50 kHz"
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(choke)
+    assert exc.value.key == "loss.frequency" and "[winding.ac] ripples at 100000 Hz" in str(
+        exc.value)
 
 
 def test_load_beyond_the_series_impedance_is_a_case_error_naming_the_load():

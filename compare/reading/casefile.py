@@ -892,14 +892,15 @@ def _check_loss(case: Case) -> None:
     if not f:
         raise CaseError("loss.frequency", None, "missing: give the flux's frequency (or "
                         "[winding.ac] or a voltage drive)")
-    if (w.driven and spec.frequency and w.frequency
-            and abs(spec.frequency - w.frequency) > 1e-9 * w.frequency):
-        # the drive sets the flux (V / f): a loss at another frequency would be
-        # the loss of a flux swing the winding does not make
+    # the drive sets the flux (V / f), [winding.ac] the ripple the AC-winding
+    # rows take: a core loss at another frequency would be the loss of a flux
+    # swing the winding does not make (and a total of two operating points)
+    f_own, own = ((w.frequency, "the first winding is driven at") if w.driven else
+                  (w.ac.frequency if w.ac is not None else None, "[winding.ac] ripples at"))
+    if spec.frequency and f_own and abs(spec.frequency - f_own) > 1e-9 * f_own:
         raise CaseError("loss.frequency", f"{spec.frequency:g} Hz",
-                        f"the first winding is driven at {w.frequency:g} Hz, and the flux "
-                        "swings at the drive's frequency: leave loss.frequency out (it "
-                        "defaults to the drive's)")
+                        f"{own} {f_own:g} Hz, and the flux swings at that frequency: leave "
+                        "loss.frequency out (it defaults to it)")
     if not w.driven and not (spec.ripple or w.ac is not None):
         raise CaseError("loss.ripple", None, "missing: a current-driven winding needs its ripple "
                         "current (peak), or [winding.ac]")
