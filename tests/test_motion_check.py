@@ -462,3 +462,15 @@ def test_motion_margins_fail_when_the_armature_never_pulls_in():
     assert motion_margins(case, res)[0].verdict == "n/a"
     case.margins.motion = limits
     assert any("FAILs beyond the motion's range" in n for n in motion_notes(case, res))
+
+
+def test_voltage_table_without_the_rated_voltage_says_what_is_missing():
+    """A drive table without the rated voltage: the message asks for the rated
+    voltage, not whether voltage_table is a misspelling of voltage."""
+    data = _relay_tables()
+    data["motion"].pop("voltage")
+    data["motion"]["voltage_table"] = {"time": [0.0, 0.01], "voltage": [24.0, 24.0]}
+    with pytest.raises(CaseError) as err:
+        case_from_dict(data)
+    assert err.value.key == "motion.voltage"
+    assert "rated voltage" in str(err.value) and "misspelling" not in str(err.value)
