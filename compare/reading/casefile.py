@@ -459,6 +459,11 @@ def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
     limb_name = t.string("limb", choices=family.limb_names)
     limb = limbs[limb_name]
     length = t.quantity("length", "length")
+    if length < 1e-6 * limb.width:  # below it the gap's edges meet in floating point
+        raise CaseError(t.key("length"), t.data["length"],
+                        f"gap too thin to draw: below 1e-6 of the face it crosses "
+                        f"({limb_name} limb is {limb.width * 1e3:g} mm wide)"
+                        + metres_hint(t.data["length"]))
     if length >= limb.span:
         raise CaseError(t.key("length"), t.data["length"],
                         f"gap not shorter than its limb ({limb_name} limb straight part is "
