@@ -296,7 +296,11 @@ def test_loss_table_parser_units_and_errors():
     assert unit == "W/m^3"
     for text, msg in (("f [Hz],B [T]\n1,2\n", "f, B and P"), ("f [Hz],B [T],P [W/g]\n", "unit"),
                       ("f [Hz],B [T],P [W/kg]\n1,2\n", "3 columns"),
-                      ("f [Hz],B [T],P [W/kg]\n1,x,2\n", "not a number")):
+                      ("f [Hz],B [T],P [W/kg]\n1,x,2\n", "not a number"),
+                      ("f [Hz],B [T],P [W/kg]\n1,0.1,2\n1,-0.1,2\n",
+                       "line 3: '1,-0.1,2': f, B and P must be positive"),
+                      ("f [Hz],B [T],P [W/kg]\n1,0.1,0\n", "line 2: .*must be positive"),
+                      ("f [Hz],B [T],P [W/kg]\nnan,0.1,2\n", "line 2: .*finite")):
         with pytest.raises(ValueError, match=msg):
             cl.parse_loss_table(text, "t.csv")
 
