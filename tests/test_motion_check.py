@@ -474,3 +474,24 @@ def test_voltage_table_without_the_rated_voltage_says_what_is_missing():
         case_from_dict(data)
     assert err.value.key == "motion.voltage"
     assert "rated voltage" in str(err.value) and "misspelling" not in str(err.value)
+
+
+def test_motion_margin_met_within_the_map_uncertainty_is_inconclusive():
+    """A motion margin met by less than the FE map's interpolation uncertainty
+    is inconclusive, as the three-mesh band makes the other margins; met by
+    more, a pass; missed, a FAIL."""
+    import dataclasses
+
+    from magcheck.compare.judge.check import motion_rows
+
+    spec, res = _ideal_gap_result()
+    v = res.models["fe"].values["pull_in_voltage"]
+    for limit, u_rel, verdict in ((1.05 * v, 0.10, "inconclusive"), (1.05 * v, 0.02, "pass"),
+                                  (0.95 * v, 0.10, "FAIL")):
+        case = type("C", (), {"motion": spec, "margins": type("M", (), {
+            "motion": (("pull_in_voltage", limit),),
+            "agreement_limit": staticmethod(lambda k, d: d)})()})()
+        mo = dataclasses.replace(res, uncertainty={"pull_in_voltage": u_rel * v})
+        row = {r.key: r for r in motion_rows(case, mo)}["margin:pull_in_voltage"]
+        assert row.verdict == verdict, (limit, u_rel, row.verdict)
+        assert row.fe_3d_uncertainty == pytest.approx(u_rel * v, rel=1e-12)

@@ -1001,6 +1001,11 @@ MUTATIONS: tuple[Mutation, ...] = (
       "if spec.frequency and f_own and abs(spec.frequency - f_own) > 1e9 * f_own:",
       "a voltage drive's core loss taken at a [loss] frequency other than the drive's",
       ("tests/test_loss_budget.py::test_loss_frequency_other_than_the_voltage_drive_is_refused",)),
+    M("motion-margin-band-ignored", "compare/judge/check.py",
+      "if verdict == \"pass\" and abs(r.value - r.limit) <= band:  # False for a NaN band",
+      "if verdict == \"pass\" and abs(r.value - r.limit) < 0.0:",
+      "a motion margin met within the map's interpolation uncertainty judged a plain pass",
+      ("tests/test_motion_check.py::test_motion_margin_met_within_the_map_uncertainty_is_inconclusive",)),
 )
 
 
