@@ -495,3 +495,32 @@ def test_motion_margin_met_within_the_map_uncertainty_is_inconclusive():
         row = {r.key: r for r in motion_rows(case, mo)}["margin:pull_in_voltage"]
         assert row.verdict == verdict, (limit, u_rel, row.verdict)
         assert row.fe_3d_uncertainty == pytest.approx(u_rel * v, rel=1e-12)
+
+
+def test_limits_below_the_maps_first_current_step_are_flagged():
+    """A pull-in or drop-out current below the map's first nonzero current is
+    interpolated from zero: the model's notes say so (and the clapper demo's
+    do not: its limits lie inside the map)."""
+    from magcheck.compare.design.actuator import ActuatorSpec
+    from magcheck.compare.models.motion import MotionMaps, model_motion
+
+    spec, res = _ideal_gap_result()
+    assert not any("first current step" in n for n in res.models["fe"].notes)
+    # rated 100 x higher: the same map shape spread over currents 100 x higher
+    hot = ActuatorSpec("core.stroke", GC + T, GC, 5e-3, (Spring(300.0, 1.0),),
+                       resistance=30.0, voltage=2400.0, suppression="diode")
+    currents, strokes, _, _ = _gap_grid(n_i=4)
+    currents = currents * 1.5 * hot.rated_current / currents[-1]
+    f = np.array([[ACT.force(i, s) for s in strokes] for i in currents])
+    lam = np.array([[ACT.linkage(i, s) for s in strokes] for i in currents])
+    maps = MotionMaps(strokes, currents, {"fe": (f, lam)}, gap_open=GC + T, square=True)
+    mm = model_motion("fe", maps.grid_map("fe"), hot)
+    assert mm.values["pull_in_current"] < currents[1]
+    # the ideal gap's F ~ i^2 holds everywhere: interpolated from zero, and right
+    assert not any("first current step" in n for n in mm.notes)
+    # a map saturating by its first steps (F capped at the first step's force)
+    f_sat = np.minimum(f, f[1][None, :])
+    maps = MotionMaps(strokes, currents, {"fe": (f_sat, lam)}, gap_open=GC + T, square=True)
+    mm = model_motion("fe", maps.grid_map("fe"), hot)
+    note = [n for n in mm.notes if "first current step" in n]
+    assert note and "pull-in (-75 %) and drop-out (-75 %)" in note[0], mm.notes

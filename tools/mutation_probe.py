@@ -1006,6 +1006,12 @@ MUTATIONS: tuple[Mutation, ...] = (
       "if verdict == \"pass\" and abs(r.value - r.limit) < 0.0:",
       "a motion margin met within the map's interpolation uncertainty judged a plain pass",
       ("tests/test_motion_check.py::test_motion_margin_met_within_the_map_uncertainty_is_inconclusive",)),
+    M("motion-saturating-first-step-unflagged", "compare/models/motion.py",
+      "if k1 > 0.0 and abs(k2 / k1 - 1.0) > SATURATING_STEP:",
+      "if k1 > 0.0 and abs(k2 / k1 - 1.0) > 10 * SATURATING_STEP:",
+      "a pull-in or drop-out interpolated from zero on a map saturating by its first steps, "
+      "not flagged",
+      ("tests/test_motion_check.py::test_limits_below_the_maps_first_current_step_are_flagged",)),
 )
 
 

@@ -317,6 +317,13 @@ class ModelMotion:
     beyond: dict[str, float] = field(default_factory=dict)
 
 
+SATURATING_STEP = 0.25
+"""The change of F/i^2 between the map's first two nonzero currents beyond
+which a limit interpolated below the first is flagged (a soft iron's F/i^2
+moves by some percent with its initial permeability; saturation by tens;
+common practice, no source)."""
+
+
 def _time_scales(gm: GridMap, spec: Any) -> float:
     """A generous end time (s): 50 electrical time constants at the open stop
     and 20 mechanical ones (the time to cross the travel under the open
@@ -361,6 +368,24 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
         v["drop_out_current"], v["drop_out_voltage"] = d.current, d.current * r
     except MotionError:
         notes.append("the closed armature does not hold below the map's top current")
+    # below the map's first current step the force is interpolated from zero:
+    # right while F ~ i^2 holds up to there; not when the map already
+    # saturates by its first steps (a rated voltage far above pull-in)
+    i1, i2 = float(gm.currents[1]), float(gm.currents[2])
+    low = []
+    for lbl, k, s_at in (("pull-in", "pull_in_current", pull_s),
+                         ("drop-out", "drop_out_current", spec.travel)):
+        if 0.0 < v[k] < i1 and math.isfinite(s_at):
+            k1, k2 = gm.force(i1, s_at) / i1 ** 2, gm.force(i2, s_at) / i2 ** 2
+            if k1 > 0.0 and abs(k2 / k1 - 1.0) > SATURATING_STEP:
+                low.append(f"{lbl} ({100 * (k2 / k1 - 1.0):+.0f} %)")
+    if low:
+        notes.append(f"the {' and '.join(low)} current{'s lie' if len(low) > 1 else ' lies'} "
+                     f"below the map's first current step "
+                     f"({i1:.4g} A), interpolated from zero, where F/i^2 already changes by "
+                     f"the percent given from that step to the next: the map saturates by its "
+                     "first steps, so that limit is unreliable (a rated voltage far above "
+                     "pull-in spreads the map's currents thin: raise map_currents)")
     m = load_margin(gm.force, load, spec.rated_current, samples=81)
     v["load_margin"], margin_s = m.margin, m.stroke
     if spec.mass is None:
