@@ -524,3 +524,21 @@ def test_limits_below_the_maps_first_current_step_are_flagged():
     mm = model_motion("fe", maps.grid_map("fe"), hot)
     note = [n for n in mm.notes if "first current step" in n]
     assert note and "pull-in (-75 %) and drop-out (-75 %)" in note[0], mm.notes
+
+
+def test_motion_margin_the_actuator_cannot_have_is_refused():
+    """A release-current limit on a relay (no magnet) and a pull-in limit on a
+    holding magnet (its [motion] gives the release current only) would stay
+    n/a for ever: refused naming the margin."""
+    data = _relay_tables()
+    data["margins"]["release_current"] = "1 A"
+    with pytest.raises(CaseError) as err:
+        case_from_dict(data)
+    assert err.value.key == "margins.release_current" and "no magnet" in str(err.value)
+    data = tomllib.loads(MAGNET.read_text())
+    data["margins"]["pull_in_voltage"] = "10 V"
+    with pytest.raises(CaseError) as err:
+        case_from_dict(data)
+    assert err.value.key == "margins.pull_in_voltage" and "release current only" in str(
+        err.value)
+    case_from_dict(tomllib.loads(MAGNET.read_text()))  # the demo's own: accepted

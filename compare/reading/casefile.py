@@ -204,6 +204,19 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
         check(case)
     if motion_t is not None:
         case = dataclasses.replace(case, motion=read_motion(motion_t, case))
+        from ..design.coremodel import core_model as _core_model
+
+        magnets = bool(_core_model(case).magnets)
+        for key, value in case.margins.motion:
+            # a holding magnet gets its release current only; a relay or
+            # solenoid never a release current: such a margin would stay n/a
+            if (key == "release_current") != magnets:
+                unit = "A" if key == "release_current" else ("V" if "voltage" in key else "s")
+                raise CaseError(f"margins.{key}", f"{value:g} {unit}",
+                                "a holding magnet's limit (its release current): the case has "
+                                "no magnet" if not magnets else
+                                "a relay's or solenoid's limit: a holding magnet's [motion] "
+                                "gives its release current only (margins.release_current)")
     elif case.margins.motion:
         raise CaseError(f"margins.{case.margins.motion[0][0]}", case.margins.motion[0][1],
                         "a motion limit: give the case a [motion] table, or drop it")
