@@ -542,3 +542,27 @@ def test_motion_margin_the_actuator_cannot_have_is_refused():
     assert err.value.key == "margins.pull_in_voltage" and "release current only" in str(
         err.value)
     case_from_dict(tomllib.loads(MAGNET.read_text()))  # the demo's own: accepted
+
+
+def test_no_release_time_when_the_closed_armature_is_not_held_at_rated_current():
+    """The release starts from the armature held closed at rated current: a
+    contact load the coil cannot hold closed has no release time (it was a
+    release 'time' of an armature the load threw open at once)."""
+    from magcheck.compare.design.actuator import ActuatorSpec
+    from magcheck.compare.models.motion import MotionMaps, model_motion
+
+    # Source: exact closed form (tests/test_motion.py): holding at the closed gap GC needs
+    # i = GC sqrt(2 F / K) = 2.8 A for the 2000 N contact load, above the 0.8 A rated
+    contact = Spring(0.0, 2000.0, engage=0.9 * T)
+    for springs, held in (((Spring(300.0, 1.0),), True), ((Spring(300.0, 1.0), contact), False)):
+        spec = ActuatorSpec("core.stroke", GC + T, GC, 5e-3, springs,
+                            resistance=30.0, voltage=24.0, suppression="diode")
+        currents, strokes, f, lam = _gap_grid(n_i=8)
+        currents = currents * 1.2 / currents[-1]
+        f = np.array([[ACT.force(i, s) for s in strokes] for i in currents])
+        lam = np.array([[ACT.linkage(i, s) for s in strokes] for i in currents])
+        maps = MotionMaps(strokes, currents, {"fe": (f, lam)}, gap_open=GC + T, square=True)
+        mm = model_motion("fe", maps.grid_map("fe"), spec)
+        assert math.isfinite(mm.values["release_time"]) == held
+        assert any("not held closed at rated current" in n for n in mm.notes) != held
+        assert "release_time" not in mm.beyond  # unjudged, not failed: no release to time

@@ -1012,6 +1012,12 @@ MUTATIONS: tuple[Mutation, ...] = (
       "a pull-in or drop-out interpolated from zero on a map saturating by its first steps, "
       "not flagged",
       ("tests/test_motion_check.py::test_limits_below_the_maps_first_current_step_are_flagged",)),
+    M("motion-release-of-an-unheld-armature", "compare/models/motion.py",
+      "held = float(gm.force(i_hold, spec.travel)) > float(load.force(spec.travel))",
+      "held = True",
+      "a release time reported for an armature the coil cannot hold closed at rated current",
+      ("tests/test_motion_check.py::"
+       "test_no_release_time_when_the_closed_armature_is_not_held_at_rated_current",)),
 )
 
 

@@ -413,7 +413,13 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
     elif spec.suppression == "diode":
         rel_kw["diode_drop"] = spec.diode_drop
     rl = None
-    if math.isnan(v["drop_out_current"]) or v["drop_out_current"] > 0.0:
+    held = float(gm.force(i_hold, spec.travel)) > float(load.force(spec.travel))
+    if not held:
+        # the release starts from the armature held closed at rated current;
+        # a load the coil cannot hold there has no release time
+        notes.append("not held closed at rated current (the load beats the force at the "
+                     "closed stop): no release time")
+    elif math.isnan(v["drop_out_current"]) or v["drop_out_current"] > 0.0:
         rl = release(gm.linkage, gm.force, load, spec.mass, r, i_hold, t_end, **rel_kw, **kw)
         if rl.open_time is not None:
             v["release_time"] = rl.open_time
