@@ -177,6 +177,9 @@ def parse_quantity(value: object, dimension: str) -> float:
     try:
         scale, dim = _parse_unit(m.group(2))
     except UnitError as exc:
+        if m.group(2).strip().lower() in ("degc", "deg c", "°c", "celsius", "c"):
+            raise UnitError(f"'{value}': a temperature is a plain number in degC (write "
+                            f"{number:g})") from None
         raise UnitError(f"'{value}': {exc}") from None
     if dimension == "current" and _TURN_UNIT_RE.match(m.group(2).replace(" ", "")):
         raise UnitError(f"'{value}' is ampere-turns (an MMF), but this is the current per "
