@@ -365,6 +365,8 @@ def parse_loss_table(text: str, label: str) -> tuple[np.ndarray, np.ndarray, np.
             rows.append([float(c) for c in cells])
         except ValueError:
             raise ValueError(f"{where}: {s!r} holds a cell that is not a number") from None
+        if not all(math.isfinite(x) and x > 0.0 for x in rows[-1]):
+            raise ValueError(f"{where}: {s!r}: f, B and P must be positive and finite")
     if cols is None or not rows:
         raise ValueError(f"{label}: no header row and data (expected e.g. 'f [Hz],B [T],P [W/kg]')")
     data = np.array(rows)

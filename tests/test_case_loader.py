@@ -93,6 +93,7 @@ BAD = [
     ("core.outer_width", "0 mm", "core.outer_width", "must be positive"),
     ("gaps.0.length", "50 mm", "gaps[0].length", "gap not shorter than its limb"),
     ("gaps.0.length", "13 mm", "gaps[0].length", "not shorter than the width"),
+    ("gaps.0.length", "1e-20 m", "gaps[0].length", "gap too thin to draw"),
     ("winding.thickness", "40 mm", "winding.thickness", "does not fit the window"),
     ("winding.length", "47 mm", "winding.length", "does not fit the window"),
     ("winding.turns", 0, "winding.turns", "at least 1"),

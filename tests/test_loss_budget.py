@@ -296,7 +296,11 @@ def test_loss_table_parser_units_and_errors():
     assert unit == "W/m^3"
     for text, msg in (("f [Hz],B [T]\n1,2\n", "f, B and P"), ("f [Hz],B [T],P [W/g]\n", "unit"),
                       ("f [Hz],B [T],P [W/kg]\n1,2\n", "3 columns"),
-                      ("f [Hz],B [T],P [W/kg]\n1,x,2\n", "not a number")):
+                      ("f [Hz],B [T],P [W/kg]\n1,x,2\n", "not a number"),
+                      ("f [Hz],B [T],P [W/kg]\n1,0.1,2\n1,-0.1,2\n",
+                       "line 3: '1,-0.1,2': f, B and P must be positive"),
+                      ("f [Hz],B [T],P [W/kg]\n1,0.1,0\n", "line 2: .*must be positive"),
+                      ("f [Hz],B [T],P [W/kg]\nnan,0.1,2\n", "line 2: .*finite")):
         with pytest.raises(ValueError, match=msg):
             cl.parse_loss_table(text, "t.csv")
 
@@ -358,3 +362,46 @@ def test_fe_swing_of_a_linear_core_is_the_field_scaled():
     B = post.b_field(sol)[:, idx]
     np.testing.assert_allclose(swing, 2 * np.hypot(B[0], B[1]) * ml.target_linkage(tr) / lam,
                                rtol=1e-6, atol=1e-9 * float(np.max(swing)))
+
+
+def test_loss_frequency_other_than_the_voltage_drive_is_refused():
+    """A voltage drive sets the flux (V / f): a [loss] frequency other than the
+    drive's would be the loss of a flux the winding does not make."""
+    import tomllib
+
+    data = tomllib.loads((CASES / "demo_ferrite_transformer.toml").read_text())
+    data["materials"].pop("core_loss")  # the built-in's data: no table path to resolve
+    data["loss"]["frequency"] = "5 MHz"
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(data)
+    assert exc.value.key == "loss.frequency" and "100000 Hz" in str(exc.value)
+    assert "\n" not in str(exc.value)
+    data["loss"]["frequency"] = "100 kHz"  # the drive's own: accepted
+    assert ml.flux_frequency(case_from_dict(data)) == 1e5
+    # a choke's [winding.ac] ripple likewise (its AC-winding rows take that frequency)
+    choke = tomllib.loads((CASES / "demo_foil_choke.toml").read_text())
+    choke["loss"]["frequency"] = "50 kHz"
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(choke)
+    assert exc.value.key == "loss.frequency" and "[winding.ac] ripples at 100000 Hz" in str(
+        exc.value)
+
+
+def test_load_beyond_the_series_impedance_is_a_case_error_naming_the_load():
+    """A rated load whose drop through R + jX exceeds the no-load voltage has
+    no load voltage (analytic.loss_budget.full_load_voltage): refused naming
+    loss.load_current, not a traceback."""
+    import tomllib
+
+    data = tomllib.loads((CASES / "demo_ferrite_transformer.toml").read_text())
+    data["materials"].pop("core_loss")
+    data["loss"]["load_current"] = "400 A"
+    case = case_from_dict(data)
+    core = {"hand": 0.5, "fe": 0.5, "uncertainty": 0.0, "hand_3d": 0.5, "fe_3d": 0.5}
+    # 12:6 turns, 48 V: 24 V no load; X = 2 pi 100 kHz 1 uH / 4 = 0.157 ohm: 63 V at 400 A
+    with pytest.raises(CaseError) as exc:
+        ml.budget_entries(case, core, None, {"hand": 1e-6, "fe": 1e-6}, 1e-3)
+    assert exc.value.key == "loss.load_current" and "24 V" in str(exc.value)
+    data["loss"]["load_current"] = "4 A"  # the demo's load: a load point
+    e, tr = ml.budget_entries(case_from_dict(data), core, None, {"hand": 1e-6, "fe": 1e-6}, 1e-3)
+    assert 0.0 < e["regulation"]["hand"] < 5.0 and tr["v_nl"] == pytest.approx(24.0)

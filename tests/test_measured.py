@@ -61,7 +61,7 @@ def test_a_force_curve_with_an_absolute_u_column_and_one_given_uncertainty():
 @pytest.mark.parametrize("text, words", [
     ("I [A],L [mH]\n1,3.5\n", "no u column and no uncertainty given"),
     ("I [A],F [N],u [N]\n1,3.5,0.1\n", "column 2 must be 'L [unit]'"),
-    ("I [A],L [T],u [%]\n1,3.5,1\n", "is not a inductance"),
+    ("I [A],L [T],u [%]\n1,3.5,1\n", "is not an inductance"),
     ("I [A],L [mH],u [%]\n1,3.5,1\n2,\"3,4\",1\n", "line 3"),
     ("I [A],L [mH],u [%]\n1;3.5;1\n", "expected 3 columns"),
     ("I [A],L [mH],u [%]\n1,3.5,-1\n", "must not be negative"),

@@ -424,3 +424,145 @@ def test_motion_rows_judge_with_the_interpolation_uncertainty():
         row = {r.key: r for r in motion_rows(case, mo)}["motion:pull_in_current"]
         assert row.uncertainty == unc["pull_in_current"]
         assert row.verdict == verdict, (u_rel, row)
+
+
+def test_motion_margins_fail_when_the_armature_never_pulls_in():
+    """A spring the coil cannot beat at 1.5 x rated: the pull-in voltage and
+    operate time maxima are FAILED on the bound the motion explored (no
+    pull-in below the map's top current, not closed by the end time), not
+    left "n/a" under a design PASS."""
+    from magcheck.compare.design.actuator import ActuatorSpec
+    from magcheck.compare.judge.motionrows import motion_margins, motion_notes
+    from magcheck.compare.models.motion import MotionMaps, MotionResult, model_motion
+
+    # Source: exact closed form (tests/test_motion.py): pull-in at the open stop needs
+    # i = (GC + T) sqrt(2 P / K) = 1.56 A for a 5 N preload, above the map's 1.2 A top
+    spec = ActuatorSpec("core.stroke", GC + T, GC, 5e-3, (Spring(300.0, 5.0),),
+                        resistance=30.0, voltage=24.0, suppression="diode")
+    currents, strokes, f, lam = _gap_grid(n_i=8)
+    currents = currents * 1.2 / currents[-1]
+    f = np.array([[ACT.force(i, s) for s in strokes] for i in currents])
+    lam = np.array([[ACT.linkage(i, s) for s in strokes] for i in currents])
+    maps = MotionMaps(strokes, currents, {"hand": (f, lam), "fe": (f, lam)}, gap_open=GC + T,
+                      square=True)
+    models = {k: model_motion(k, maps.grid_map(k), spec) for k in ("hand", "fe")}
+    res = MotionResult(maps, models, {"force": 0.0, "linkage": 0.0}, spec.rated_current,
+                       spec.coil_resistance, 0.0)
+    assert math.isnan(models["fe"].values["pull_in_voltage"])
+    limits = (("pull_in_voltage", 19.2), ("operate_time", 10e-3), ("drop_out_voltage", 2.4))
+    case = type("C", (), {"motion": spec, "margins": type("M", (), {
+        "motion": limits, "agreement_limit": staticmethod(lambda k, d: d)})()})()
+    got = {r.key: r for r in motion_margins(case, res)}
+    assert got["pull_in_voltage"].verdict == "FAIL"
+    assert got["pull_in_voltage"].value == pytest.approx(1.2 * 30.0, rel=1e-9)
+    assert got["operate_time"].verdict == "FAIL"
+    assert "bound" in got["operate_time"].note
+    # a limit above the bound stays unjudged: the true value may lie below it
+    case.margins.motion = (("pull_in_voltage", 40.0),)
+    assert motion_margins(case, res)[0].verdict == "n/a"
+    case.margins.motion = limits
+    assert any("FAILs beyond the motion's range" in n for n in motion_notes(case, res))
+
+
+def test_voltage_table_without_the_rated_voltage_says_what_is_missing():
+    """A drive table without the rated voltage: the message asks for the rated
+    voltage, not whether voltage_table is a misspelling of voltage."""
+    data = _relay_tables()
+    data["motion"].pop("voltage")
+    data["motion"]["voltage_table"] = {"time": [0.0, 0.01], "voltage": [24.0, 24.0]}
+    with pytest.raises(CaseError) as err:
+        case_from_dict(data)
+    assert err.value.key == "motion.voltage"
+    assert "rated voltage" in str(err.value) and "misspelling" not in str(err.value)
+
+
+def test_motion_margin_met_within_the_map_uncertainty_is_inconclusive():
+    """A motion margin met by less than the FE map's interpolation uncertainty
+    is inconclusive, as the three-mesh band makes the other margins; met by
+    more, a pass; missed, a FAIL."""
+    import dataclasses
+
+    from magcheck.compare.judge.check import motion_rows
+
+    spec, res = _ideal_gap_result()
+    v = res.models["fe"].values["pull_in_voltage"]
+    for limit, u_rel, verdict in ((1.05 * v, 0.10, "inconclusive"), (1.05 * v, 0.02, "pass"),
+                                  (0.95 * v, 0.10, "FAIL")):
+        case = type("C", (), {"motion": spec, "margins": type("M", (), {
+            "motion": (("pull_in_voltage", limit),),
+            "agreement_limit": staticmethod(lambda k, d: d)})()})()
+        mo = dataclasses.replace(res, uncertainty={"pull_in_voltage": u_rel * v})
+        row = {r.key: r for r in motion_rows(case, mo)}["margin:pull_in_voltage"]
+        assert row.verdict == verdict, (limit, u_rel, row.verdict)
+        assert row.fe_3d_uncertainty == pytest.approx(u_rel * v, rel=1e-12)
+
+
+def test_limits_below_the_maps_first_current_step_are_flagged():
+    """A pull-in or drop-out current below the map's first nonzero current is
+    interpolated from zero: the model's notes say so (and the clapper demo's
+    do not: its limits lie inside the map)."""
+    from magcheck.compare.design.actuator import ActuatorSpec
+    from magcheck.compare.models.motion import MotionMaps, model_motion
+
+    spec, res = _ideal_gap_result()
+    assert not any("first current step" in n for n in res.models["fe"].notes)
+    # rated 100 x higher: the same map shape spread over currents 100 x higher
+    hot = ActuatorSpec("core.stroke", GC + T, GC, 5e-3, (Spring(300.0, 1.0),),
+                       resistance=30.0, voltage=2400.0, suppression="diode")
+    currents, strokes, _, _ = _gap_grid(n_i=4)
+    currents = currents * 1.5 * hot.rated_current / currents[-1]
+    f = np.array([[ACT.force(i, s) for s in strokes] for i in currents])
+    lam = np.array([[ACT.linkage(i, s) for s in strokes] for i in currents])
+    maps = MotionMaps(strokes, currents, {"fe": (f, lam)}, gap_open=GC + T, square=True)
+    mm = model_motion("fe", maps.grid_map("fe"), hot)
+    assert mm.values["pull_in_current"] < currents[1]
+    # the ideal gap's F ~ i^2 holds everywhere: interpolated from zero, and right
+    assert not any("first current step" in n for n in mm.notes)
+    # a map saturating by its first steps (F capped at the first step's force)
+    f_sat = np.minimum(f, f[1][None, :])
+    maps = MotionMaps(strokes, currents, {"fe": (f_sat, lam)}, gap_open=GC + T, square=True)
+    mm = model_motion("fe", maps.grid_map("fe"), hot)
+    note = [n for n in mm.notes if "first current step" in n]
+    assert note and "pull-in (-75 %) and drop-out (-75 %)" in note[0], mm.notes
+
+
+def test_motion_margin_the_actuator_cannot_have_is_refused():
+    """A release-current limit on a relay (no magnet) and a pull-in limit on a
+    holding magnet (its [motion] gives the release current only) would stay
+    n/a for ever: refused naming the margin."""
+    data = _relay_tables()
+    data["margins"]["release_current"] = "1 A"
+    with pytest.raises(CaseError) as err:
+        case_from_dict(data)
+    assert err.value.key == "margins.release_current" and "no magnet" in str(err.value)
+    data = tomllib.loads(MAGNET.read_text())
+    data["margins"]["pull_in_voltage"] = "10 V"
+    with pytest.raises(CaseError) as err:
+        case_from_dict(data)
+    assert err.value.key == "margins.pull_in_voltage" and "release current only" in str(
+        err.value)
+    case_from_dict(tomllib.loads(MAGNET.read_text()))  # the demo's own: accepted
+
+
+def test_no_release_time_when_the_closed_armature_is_not_held_at_rated_current():
+    """The release starts from the armature held closed at rated current: a
+    contact load the coil cannot hold closed has no release time (it was a
+    release 'time' of an armature the load threw open at once)."""
+    from magcheck.compare.design.actuator import ActuatorSpec
+    from magcheck.compare.models.motion import MotionMaps, model_motion
+
+    # Source: exact closed form (tests/test_motion.py): holding at the closed gap GC needs
+    # i = GC sqrt(2 F / K) = 2.8 A for the 2000 N contact load, above the 0.8 A rated
+    contact = Spring(0.0, 2000.0, engage=0.9 * T)
+    for springs, held in (((Spring(300.0, 1.0),), True), ((Spring(300.0, 1.0), contact), False)):
+        spec = ActuatorSpec("core.stroke", GC + T, GC, 5e-3, springs,
+                            resistance=30.0, voltage=24.0, suppression="diode")
+        currents, strokes, f, lam = _gap_grid(n_i=8)
+        currents = currents * 1.2 / currents[-1]
+        f = np.array([[ACT.force(i, s) for s in strokes] for i in currents])
+        lam = np.array([[ACT.linkage(i, s) for s in strokes] for i in currents])
+        maps = MotionMaps(strokes, currents, {"fe": (f, lam)}, gap_open=GC + T, square=True)
+        mm = model_motion("fe", maps.grid_map("fe"), spec)
+        assert math.isfinite(mm.values["release_time"]) == held
+        assert any("not held closed at rated current" in n for n in mm.notes) != held
+        assert "release_time" not in mm.beyond  # unjudged, not failed: no release to time

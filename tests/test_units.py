@@ -37,6 +37,9 @@ def test_parse(text, dim, si):
 
 @pytest.mark.parametrize("text,dim,words", [
     ("3 A", "length", "'3 A' is not a length"),
+    ("10 mm", "area", "'10 mm' is not an area"),
+    ("40 degC", "dimensionless", "a temperature is a plain number in degC .write 40."),
+    ("10 ohm", "inductance", "'10 ohm' is not an inductance"),
     ("1 T", "field strength", "is not a field strength"),
     ("abc", "length", "not a number with a unit"),
     ("0.020", "length", "has no unit"),

@@ -1017,6 +1017,33 @@ MUTATIONS: tuple[Mutation, ...] = (
       "conductivity = dict(conductivity)",
       "the case's conducting parts left out of the AC field problem",
       ("tests/test_conducting_parts.py",)),
+    M("motion-margin-beyond-unjudged", "compare/judge/motionrows.py",
+      "if kind == \"max\" and math.isfinite(bound) and bound > limit:",
+      "if kind == \"max\" and math.isfinite(bound) and bound < limit:",
+      "a pull-in or operate-time maximum left n/a when the armature never pulls in or closes",
+      ("tests/test_motion_check.py::test_motion_margins_fail_when_the_armature_never_pulls_in",)),
+    M("loss-frequency-off-the-drive", "compare/reading/casefile.py",
+      "if spec.frequency and f_own and abs(spec.frequency - f_own) > 1e-9 * f_own:",
+      "if spec.frequency and f_own and abs(spec.frequency - f_own) > 1e9 * f_own:",
+      "a voltage drive's core loss taken at a [loss] frequency other than the drive's",
+      ("tests/test_loss_budget.py::test_loss_frequency_other_than_the_voltage_drive_is_refused",)),
+    M("motion-margin-band-ignored", "compare/judge/check.py",
+      "if verdict == \"pass\" and abs(r.value - r.limit) <= band:  # False for a NaN band",
+      "if verdict == \"pass\" and abs(r.value - r.limit) < 0.0:",
+      "a motion margin met within the map's interpolation uncertainty judged a plain pass",
+      ("tests/test_motion_check.py::test_motion_margin_met_within_the_map_uncertainty_is_inconclusive",)),
+    M("motion-saturating-first-step-unflagged", "compare/models/motion.py",
+      "if k1 > 0.0 and abs(k2 / k1 - 1.0) > SATURATING_STEP:",
+      "if k1 > 0.0 and abs(k2 / k1 - 1.0) > 10 * SATURATING_STEP:",
+      "a pull-in or drop-out interpolated from zero on a map saturating by its first steps, "
+      "not flagged",
+      ("tests/test_motion_check.py::test_limits_below_the_maps_first_current_step_are_flagged",)),
+    M("motion-release-of-an-unheld-armature", "compare/models/motion.py",
+      "held = float(gm.force(i_hold, spec.travel)) > float(load.force(spec.travel))",
+      "held = True",
+      "a release time reported for an armature the coil cannot hold closed at rated current",
+      ("tests/test_motion_check.py::"
+       "test_no_release_time_when_the_closed_armature_is_not_held_at_rated_current",)),
 )
 
 

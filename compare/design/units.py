@@ -136,6 +136,11 @@ def _parse_unit(text: str) -> tuple[float, Dimension]:
     return scale, tuple(dim)  # type: ignore[return-value]
 
 
+def _article(word: str) -> str:
+    """'an' before a vowel ('an area', 'an inductance'), else 'a'."""
+    return "an" if word[:1] in "aeiou" else "a"
+
+
 def parse_quantity(value: object, dimension: str) -> float:
     """Convert a case-file value to an SI float of the given dimension.
 
@@ -160,11 +165,11 @@ def parse_quantity(value: object, dimension: str) -> float:
     """
     want = DIMENSIONS[dimension]
     if isinstance(value, bool):
-        raise UnitError(f"{value!r} is not a {dimension}")
+        raise UnitError(f"{value!r} is not {_article(dimension)} {dimension}")
     if isinstance(value, (int, float)):
         return float(value)
     if not isinstance(value, str):
-        raise UnitError(f"{value!r} is not a {dimension}")
+        raise UnitError(f"{value!r} is not {_article(dimension)} {dimension}")
     m = _QUANTITY_RE.match(value)
     if not m:
         raise UnitError(f"'{value}' is not a number with a unit")
@@ -172,6 +177,9 @@ def parse_quantity(value: object, dimension: str) -> float:
     try:
         scale, dim = _parse_unit(m.group(2))
     except UnitError as exc:
+        if m.group(2).strip().lower() in ("degc", "deg c", "°c", "celsius", "c"):
+            raise UnitError(f"'{value}': a temperature is a plain number in degC (write "
+                            f"{number:g})") from None
         raise UnitError(f"'{value}': {exc}") from None
     if dimension == "current" and _TURN_UNIT_RE.match(m.group(2).replace(" ", "")):
         raise UnitError(f"'{value}' is ampere-turns (an MMF), but this is the current per "
@@ -180,7 +188,7 @@ def parse_quantity(value: object, dimension: str) -> float:
         if not m.group(2).strip():
             raise UnitError(f"'{value}' has no unit; add one, or write the number unquoted "
                               "for SI")
-        raise UnitError(f"'{value}' is not a {dimension}")
+        raise UnitError(f"'{value}' is not {_article(dimension)} {dimension}")
     return number * scale
 
 

@@ -755,10 +755,20 @@ def motion_rows(case: Case, motion: Any) -> list[Row]:
                    else ("FAIL" if lim is not None else "info"))
         out.append(Row(key, label, unit, h, f, u, d, lim, verdict, hand_3d=h3, fe_3d=f3,
                        fe_3d_uncertainty=u3))
+    third = "fe_3d" if "fe_3d" in motion.models else "fe"
     for r in motion_margins(case, motion):
+        # the judged value's band: the map's interpolation uncertainty, scaled
+        # to the judged column as the rows' FE 3D; a margin met by less than
+        # it is inconclusive, as the three-mesh band makes the other margins
+        u = getattr(motion, "uncertainty", {}).get(r.key, math.nan)
+        f, f3 = motion.value("fe", r.key), motion.value(third, r.key)
+        band = u * abs(f3 / f) if math.isfinite(f3) and f else math.nan
+        verdict = r.verdict
+        if verdict == "pass" and abs(r.value - r.limit) <= band:  # False for a NaN band
+            verdict = INCONCLUSIVE
         out.append(Row(f"margin:{r.key}", f"{r.label}, {r.kind}", r.unit, r.hand, r.value,
-                       math.nan, math.nan, None, r.verdict, limit_value=r.limit,
-                       margin_pct=r.margin_pct, limit_kind=r.kind))
+                       math.nan, math.nan, None, verdict, limit_value=r.limit,
+                       margin_pct=r.margin_pct, limit_kind=r.kind, fe_3d_uncertainty=band))
     return out
 
 

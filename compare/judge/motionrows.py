@@ -79,9 +79,28 @@ def motion_margins(case: Case, motion: Any) -> list[MarginResult]:
     out = []
     for key, limit in case.margins.motion:
         kind, label = _MARGINS[key]
-        out.append(MarginResult(key, label, UNITS[key], kind, limit, motion.value(third, key),
-                                hand=motion.value("hand_3d", key)))
+        value, hand, note = motion.value(third, key), motion.value("hand_3d", key), ""
+        if math.isnan(value):
+            # beyond what the model explored (no pull-in on the map, not
+            # closed or opened by the end time): a maximum below that bound
+            # has failed; judged on the bound, the note saying so
+            bound = _beyond(motion, third, key)
+            if kind == "max" and math.isfinite(bound) and bound > limit:
+                value = bound
+                note = (f"beyond the motion's range: more than {bound:.4g} {UNITS[key]} "
+                        "(the value shown is that bound)")
+        if math.isnan(hand) and kind == "max":
+            hb = _beyond(motion, "hand_3d", key)
+            hand = hb if math.isfinite(hb) and hb > limit else hand
+        out.append(MarginResult(key, label, UNITS[key], kind, limit, value, hand=hand,
+                                note=note))
     return out
+
+
+def _beyond(motion: Any, model: str, key: str) -> float:
+    """The bound a model's NaN figure lies beyond (ModelMotion.beyond), NaN if none."""
+    m = motion.models.get(model)
+    return float(getattr(m, "beyond", {}).get(key, math.nan)) if m is not None else math.nan
 
 
 def motion_notes(case: Case, motion: Any) -> tuple[str, ...]:
@@ -110,4 +129,8 @@ def motion_notes(case: Case, motion: Any) -> tuple[str, ...]:
     for name in ("hand", "fe"):
         for n in motion.models[name].notes:
             lines.append(f"Motion ({'hand' if name == 'hand' else 'FE'}): {n}.")
+    for r in motion_margins(case, motion):
+        if r.note:
+            lines.append(f"Motion: the margin {r.label}, {r.kind} ({r.limit:.4g} {r.unit}) "
+                         f"FAILs {r.note}.")
     return tuple(lines)

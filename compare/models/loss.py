@@ -50,6 +50,7 @@ from magcheck.analytic import core_loss as cl
 
 from ..design.case import Case, LossSpec, with_current
 from ..design.coremodel import core_model
+from ..errors import CaseError
 
 __all__ = ["has_loss", "flux_frequency", "target_linkage", "density_law", "hand_core_loss",
            "fe_core_loss", "CoreLoss", "run_core_loss", "surface_area", "budget_entries",
@@ -484,12 +485,21 @@ def budget_entries(case: Case, core: dict, ac: Any = None, leakage: dict | None 
         pts = {}
         for m, p_core, p_core3 in (("hand", c_h, c_h3), ("fe", c_f, c_f3)):
             x = xs[m] if math.isfinite(xs[m]) else 0.0
-            pts[m] = (lb.load_point(v_nl, i2, 1.0, r, x, spec.power_factor, p_core),
-                      lb.load_point(v_nl, i2, spec.load_fraction, r, x, spec.power_factor,
-                                    p_core),
-                      lb.load_point(v_nl, i2, 1.0, r, x, spec.power_factor, p_core3),
-                      lb.load_point(v_nl, i2, spec.load_fraction, r, x, spec.power_factor,
-                                    p_core3))
+            try:
+                pts[m] = (lb.load_point(v_nl, i2, 1.0, r, x, spec.power_factor, p_core),
+                          lb.load_point(v_nl, i2, spec.load_fraction, r, x,
+                                        spec.power_factor, p_core),
+                          lb.load_point(v_nl, i2, 1.0, r, x, spec.power_factor, p_core3),
+                          lb.load_point(v_nl, i2, spec.load_fraction, r, x, spec.power_factor,
+                                        p_core3))
+            except ValueError:
+                z = math.hypot(r, x)
+                raise CaseError("loss.load_current", f"{i2:g} A",
+                                f"the load's drop through the series impedance ({z:.4g} ohm "
+                                f"by the {m} model: R {r:.4g} ohm, X {x:.4g} ohm, referred "
+                                f"to the secondary) exceeds the no-load voltage "
+                                f"{v_nl:.4g} V: no load voltage (check loss.resistances, "
+                                "the turns and the load)") from None
         cu_val = pts["hand"][0].copper_loss
         e["copper_loss"] = _entry(cu_val, cu_val, 0.0, cu_val, cu_val)
         u = u_core

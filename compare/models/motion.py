@@ -299,7 +299,12 @@ class ModelMotion:
 
     values : KEYS -> value; pull_in_stroke, margin_stroke, drop_out_stroke (m
     from the open stop): the tightest strokes; operate, release: the motions
-    (analytic.motion.Motion: t, i, lam, s) or None; notes: why a value is NaN.
+    (analytic.motion.Motion: t, i, lam, s) or None; notes: why a value is NaN;
+    beyond: for a value NaN because it lies beyond what the model explored,
+    the bound it exceeds (pull_in_voltage: the map's top current times R, no
+    pull-in below it; operate_time, release_time: the integration's end time,
+    not closed or not opened by then), so a maximum below the bound is
+    judged failed rather than not judged.
     """
 
     model: str
@@ -309,6 +314,14 @@ class ModelMotion:
     operate: Optional[Motion] = field(default=None, repr=False)
     release: Optional[Motion] = field(default=None, repr=False)
     notes: tuple[str, ...] = ()
+    beyond: dict[str, float] = field(default_factory=dict)
+
+
+SATURATING_STEP = 0.25
+"""The change of F/i^2 between the map's first two nonzero currents beyond
+which a limit interpolated below the first is flagged (a soft iron's F/i^2
+moves by some percent with its initial permeability; saturation by tens;
+common practice, no source)."""
 
 
 def _time_scales(gm: GridMap, spec: Any) -> float:
@@ -341,6 +354,7 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
     load, r = spec.load, spec.coil_resistance
     i_top = float(gm.currents[-1])
     v: dict[str, float] = {k: math.nan for k in KEYS}
+    beyond: dict[str, float] = {}
     notes = []
     pull_s = margin_s = math.nan
     try:
@@ -348,16 +362,36 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
         v["pull_in_current"], v["pull_in_voltage"], pull_s = p.current, p.current * r, p.stroke
     except MotionError:
         notes.append(f"no pull-in below {i_top:.4g} A ({CURRENT_TOP:g} x rated)")
+        beyond["pull_in_current"], beyond["pull_in_voltage"] = i_top, i_top * r
     try:
         d = drop_out_current(gm.force, load, i_top)
         v["drop_out_current"], v["drop_out_voltage"] = d.current, d.current * r
     except MotionError:
         notes.append("the closed armature does not hold below the map's top current")
+    # below the map's first current step the force is interpolated from zero:
+    # right while F ~ i^2 holds up to there; not when the map already
+    # saturates by its first steps (a rated voltage far above pull-in)
+    i1, i2 = float(gm.currents[1]), float(gm.currents[2])
+    low = []
+    for lbl, k, s_at in (("pull-in", "pull_in_current", pull_s),
+                         ("drop-out", "drop_out_current", spec.travel)):
+        if 0.0 < v[k] < i1 and math.isfinite(s_at):
+            k1, k2 = gm.force(i1, s_at) / i1 ** 2, gm.force(i2, s_at) / i2 ** 2
+            if k1 > 0.0 and abs(k2 / k1 - 1.0) > SATURATING_STEP:
+                low.append(f"{lbl} ({100 * (k2 / k1 - 1.0):+.0f} %)")
+    if low:
+        notes.append(f"the {' and '.join(low)} current{'s lie' if len(low) > 1 else ' lies'} "
+                     f"below the map's first current step "
+                     f"({i1:.4g} A), interpolated from zero, where F/i^2 already changes by "
+                     f"the percent given from that step to the next: the map saturates by its "
+                     "first steps, so that limit is unreliable (a rated voltage far above "
+                     "pull-in spreads the map's currents thin: raise map_currents)")
     m = load_margin(gm.force, load, spec.rated_current, samples=81)
     v["load_margin"], margin_s = m.margin, m.stroke
     if spec.mass is None:
         return ModelMotion(name, v, pull_s, margin_s, None, None,
-                           tuple(notes) + ("no moving mass given: the static limits only",))
+                           tuple(notes) + ("no moving mass given: the static limits only",),
+                           beyond)
     t_end = _time_scales(gm, spec)
     volt = spec.voltage_table if spec.voltage_table is not None else spec.voltage
     # max_step: the traces (and the current dip read off them) sampled finely enough
@@ -371,6 +405,7 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
             v["current_dip"] = op.i_motion_peak - op.i_motion_min
     else:
         notes.append(f"does not close within {t_end * 1e3:.3g} ms at the drive")
+        beyond["operate_time"] = t_end
     i_hold = spec.rated_current
     rel_kw: dict[str, Any] = {}
     if spec.suppression == "resistor":
@@ -378,15 +413,23 @@ def model_motion(name: str, gm: GridMap, spec: Any, *, rtol: float = RTOL,
     elif spec.suppression == "diode":
         rel_kw["diode_drop"] = spec.diode_drop
     rl = None
-    if math.isnan(v["drop_out_current"]) or v["drop_out_current"] > 0.0:
+    held = float(gm.force(i_hold, spec.travel)) > float(load.force(spec.travel))
+    if not held:
+        # the release starts from the armature held closed at rated current;
+        # a load the coil cannot hold there has no release time
+        notes.append("not held closed at rated current (the load beats the force at the "
+                     "closed stop): no release time")
+    elif math.isnan(v["drop_out_current"]) or v["drop_out_current"] > 0.0:
         rl = release(gm.linkage, gm.force, load, spec.mass, r, i_hold, t_end, **rel_kw, **kw)
         if rl.open_time is not None:
             v["release_time"] = rl.open_time
         else:
             notes.append(f"does not open within {t_end * 1e3:.3g} ms of switch-off")
+            beyond["release_time"] = t_end
     else:
         notes.append("held closed at zero current (the load does not open it)")
-    return ModelMotion(name, v, pull_s, margin_s, op, rl, tuple(notes))
+        beyond["release_time"] = t_end
+    return ModelMotion(name, v, pull_s, margin_s, op, rl, tuple(notes), beyond)
 
 
 def _magnet_limits(name: str, gm: GridMap, spec: Any) -> ModelMotion:

@@ -206,6 +206,19 @@ def case_from_dict(data: dict, *, base_dir: Path | None = None, source: str = ""
         check(case)
     if motion_t is not None:
         case = dataclasses.replace(case, motion=read_motion(motion_t, case))
+        from ..design.coremodel import core_model as _core_model
+
+        magnets = bool(_core_model(case).magnets)
+        for key, value in case.margins.motion:
+            # a holding magnet gets its release current only; a relay or
+            # solenoid never a release current: such a margin would stay n/a
+            if (key == "release_current") != magnets:
+                unit = "A" if key == "release_current" else ("V" if "voltage" in key else "s")
+                raise CaseError(f"margins.{key}", f"{value:g} {unit}",
+                                "a holding magnet's limit (its release current): the case has "
+                                "no magnet" if not magnets else
+                                "a relay's or solenoid's limit: a holding magnet's [motion] "
+                                "gives its release current only (margins.release_current)")
     elif case.margins.motion:
         raise CaseError(f"margins.{case.margins.motion[0][0]}", case.margins.motion[0][1],
                         "a motion limit: give the case a [motion] table, or drop it")
@@ -461,6 +474,11 @@ def _read_gap(t: TableReader, family: Family, limbs: dict[str, Limb]) -> Gap:
     limb_name = t.string("limb", choices=family.limb_names)
     limb = limbs[limb_name]
     length = t.quantity("length", "length")
+    if length < 1e-6 * limb.width:  # below it the gap's edges meet in floating point
+        raise CaseError(t.key("length"), t.data["length"],
+                        f"gap too thin to draw: below 1e-6 of the face it crosses "
+                        f"({limb_name} limb is {limb.width * 1e3:g} mm wide)"
+                        + metres_hint(t.data["length"]))
     if length >= limb.span:
         raise CaseError(t.key("length"), t.data["length"],
                         f"gap not shorter than its limb ({limb_name} limb straight part is "
@@ -913,6 +931,15 @@ def _check_loss(case: Case) -> None:
     if not f:
         raise CaseError("loss.frequency", None, "missing: give the flux's frequency (or "
                         "[winding.ac] or a voltage drive)")
+    # the drive sets the flux (V / f), [winding.ac] the ripple the AC-winding
+    # rows take: a core loss at another frequency would be the loss of a flux
+    # swing the winding does not make (and a total of two operating points)
+    f_own, own = ((w.frequency, "the first winding is driven at") if w.driven else
+                  (w.ac.frequency if w.ac is not None else None, "[winding.ac] ripples at"))
+    if spec.frequency and f_own and abs(spec.frequency - f_own) > 1e-9 * f_own:
+        raise CaseError("loss.frequency", f"{spec.frequency:g} Hz",
+                        f"{own} {f_own:g} Hz, and the flux swings at that frequency: leave "
+                        "loss.frequency out (it defaults to it)")
     if not w.driven and not (spec.ripple or w.ac is not None):
         raise CaseError("loss.ripple", None, "missing: a current-driven winding needs its ripple "
                         "current (peak), or [winding.ac]")

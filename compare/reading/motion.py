@@ -101,6 +101,10 @@ def read_motion(t: TableReader, case: Case) -> ActuatorSpec:
     resistance = t.quantity("resistance", "resistance")
     r_temp = t.number("resistance_temperature", 20.0, lo=-60.0, hi=250.0)
     temp = t.number("temperature", 20.0, lo=-60.0, hi=250.0)
+    if t.has("voltage_table") and not t.has("voltage"):
+        raise CaseError(t.key("voltage"), None, "missing: give the rated voltage with "
+                        "voltage_table too (the map's currents, the holding current at "
+                        "release and the margins' rated figures take it)")
     voltage = t.quantity("voltage", "voltage")
     table = None
     if t.has("voltage_table"):
