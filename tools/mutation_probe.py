@@ -1044,6 +1044,11 @@ MUTATIONS: tuple[Mutation, ...] = (
       "a release time reported for an armature the coil cannot hold closed at rated current",
       ("tests/test_motion_check.py::"
        "test_no_release_time_when_the_closed_armature_is_not_held_at_rated_current",)),
+    M("gap-too-thin-unrefused", "compare/reading/casefile.py",
+      "if length < 1e-6 * limb.width:  # below it the gap's edges meet in floating point",
+      "if length < 0.0:  # below it the gap's edges meet in floating point",
+      "a gap too thin to draw let through to the mesher (a LayoutError traceback, not a case error)",
+      ("tests/test_case_loader.py",)),
 )
 
 
