@@ -96,9 +96,12 @@ def main(argv=None) -> int:
         walls: dict[str, list[float]] = {t: [] for t, _ in trees}
         cpus: dict[str, list[float]] = {t: [] for t, _ in trees}
         last: dict[str, dict] = {}
+        # a case added since the revision compared against: this tree only
+        here = [(tag, tree) for tag, tree in trees
+                if not is_check or os.path.exists(os.path.join(tree, cmd[1]))]
         try:
             for _ in range(args.repeat):
-                for tag, tree in trees:
+                for tag, tree in here:
                     out = os.path.join(tmp, f"{tag}.json") if is_check else None
                     w, c, tm = run_once(tree, cmd, out)
                     walls[tag].append(w)
@@ -108,7 +111,10 @@ def main(argv=None) -> int:
             print(f"{label:<36} failed: {exc}")
             continue
         base = statistics.median(walls[trees[0][0]])
-        for tag, _ in trees:
+        for tag, tree in trees:
+            if (tag, tree) not in here:
+                print(f"{label:<36} {tag:>10} {'(no such case in this revision)':>39}")
+                continue
             tm = last.get(tag, {})
             brk = (f"{tm.get('hand', float('nan')):6.2f} {tm.get('fe', float('nan')):6.2f} "
                    f"{tm.get('compare', float('nan')):7.2f}" if tm else f"{'':6} {'':6} {'':7}")

@@ -32,7 +32,7 @@ from .geometry import Limb, coil_rects, gap_rect, turn_rects
 
 __all__ = ["CoreModel", "CoilModel", "GapLine", "HandCircuit", "CircuitSegment", "CircuitGap",
            "ForceSpec",
-           "core_model", "comparison_forms", "coil_name", "coil_regions", "WINDING", "COIL_PLUS", "COIL_MINUS"]
+           "core_model", "comparison_forms", "coil_name", "coil_regions", "turn_coil", "WINDING", "COIL_PLUS", "COIL_MINUS"]
 
 Point = tuple[float, float]
 
@@ -40,6 +40,24 @@ WINDING = "winding"
 """Name of the case's (first) winding as a fem2d coil."""
 
 COIL_PLUS, COIL_MINUS = "coil+", "coil-"
+
+
+def turn_coil(limb: Limb, winding: Any, sides: tuple[tuple[str, int], ...],
+              regions: list) -> "CoilModel":
+    """A winding drawn turn by turn as solid conductors in series: one region
+    per turn appended to ``regions`` (named ``<side>L<layer>T<turn>``), the
+    j-th of ``sides`` = (name, sign) taking the j-th side of
+    compare.design.geometry.turn_rects (a planar family its two coil sides,
+    an r-z family one ring side); the winding's CoilModel."""
+    turn_sides, layers = [], []
+    for (side_name, sign), turns in zip(sides, turn_rects(limb, winding)):
+        for layer, turn, rect in turns:
+            name = f"{side_name}L{layer}T{turn}"
+            regions.append(Region(name, (rect,), material="air", kind="coil"))
+            turn_sides.append((name, sign))
+            layers.append((name, layer))
+    return CoilModel(tuple(turn_sides), winding.turns * winding.conductor.area,
+                     turn_regions=True, layers=tuple(layers))
 
 
 def coil_name(k: int) -> str:
@@ -299,16 +317,7 @@ def _limb_model(case: Any) -> CoreModel:
     for k, w in enumerate(case.windings):
         p_name, m_name = coil_regions(k)
         if w.conductor is not None:  # the turns one by one: solid conductors in series
-            sides, layers = [], []
-            for side_name, sign, turns in zip((p_name, m_name), (1, -1),
-                                              turn_rects(limbs[w.limb], w)):
-                for layer, turn, rect in turns:
-                    name = f"{side_name}L{layer}T{turn}"
-                    regions.append(Region(name, (rect,), material="air", kind="coil"))
-                    sides.append((name, sign))
-                    layers.append((name, layer))
-            coils.append(CoilModel(tuple(sides), w.turns * w.conductor.area, turn_regions=True,
-                                   layers=tuple(layers)))
+            coils.append(turn_coil(limbs[w.limb], w, ((p_name, 1), (m_name, -1)), regions))
             continue
         plus, minus = coil_rects(limbs[w.limb], w)
         regions.append(Region(p_name, (plus,), material="air", kind="coil"))

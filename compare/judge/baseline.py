@@ -170,21 +170,7 @@ def drift(current: dict, stored: dict) -> list[Drift]:
             tol = fe_tol(k if block != "margins" else "", s)
             if not _close(c, s, tol):
                 out.append(Drift(block, k, s, c, tol))
-    sac, cac = stored.get("ac"), current.get("ac") or {}
-    if sac is not None:  # an AC winding: hand as the hand blocks, FE within its uncertainty
-        for block in ("hand_planar", "hand"):
-            for k, s in sac[block].items():
-                c = cac.get(block, {}).get(k)
-                if not _close(c, s, HAND_RTOL * abs(s) if s is not None else 0.0):
-                    out.append(Drift(f"ac.{block}", k, s, c, HAND_RTOL))
-        for k, s in sac["fe"].items():
-            u = sac.get("fe_uncertainty", {}).get(k)
-            u = u if u is not None and math.isfinite(u) else 0.0
-            mag = abs(s or 0.0)
-            tol = max(FE_RTOL_FLOOR * mag, min(2.0 * u, FE_UNC_CAP * mag))
-            c = cac.get("fe", {}).get(k)
-            if not _close(c, s, tol):
-                out.append(Drift("ac.fe", k, s, c, tol))
+    out += _block_drift("ac", stored, current)  # an AC winding
     smo, cmo = stored.get("motion"), current.get("motion") or {}
     if smo is not None:  # a moving armature: the hand's to 1e-6, the FE's maps' to 0.2 %
         for name, vals in smo.items():
@@ -206,8 +192,8 @@ def drift(current: dict, stored: dict) -> list[Drift]:
 
 
 def _block_drift(name: str, stored: dict, current: dict) -> list[Drift]:
-    """A block of hand_planar / hand / fe / fe_uncertainty values (the loss budget): hand as the
-    hand blocks, FE within its uncertainty, as the AC block."""
+    """A block of hand_planar / hand / fe / fe_uncertainty values (an AC winding, the loss
+    budget): hand as the hand blocks, FE within its uncertainty."""
     sb, cb = stored.get(name), current.get(name) or {}
     out: list[Drift] = []
     if sb is None:

@@ -48,9 +48,10 @@ from typing import Any
 from magcheck.analytic.fringing import GapFace, GapSides
 from magcheck.fem2d.layout import Rect, Region
 
-from ..coremodel import CircuitGap, CircuitSegment, CoilModel, CoreModel, GapLine, HandCircuit
+from ..coremodel import (CircuitGap, CircuitSegment, CoilModel, CoreModel, GapLine, HandCircuit,
+                         turn_coil)
 from ...errors import CaseError
-from ..geometry import Limb, turn_rects
+from ..geometry import Limb
 from ..casekeys import Key, lengths
 from ..reader import TableReader
 from .base import INF, Segment, Window, coil_space_leakage, radial_run
@@ -173,14 +174,7 @@ class PotCore:
             x0 = r1 + w.inner + w.clearance
             name = "coil" if k == 0 else f"coil{k}"
             if w.conductor is not None:  # the turns one by one: solid rings in series
-                sides, layers = [], []
-                for layer, turn, rect in turn_rects(limb, w)[0]:
-                    tname = f"{name}L{layer}T{turn}"
-                    regions.append(Region(tname, (rect,), "air", kind="coil"))
-                    sides.append((tname, 1))
-                    layers.append((tname, layer))
-                coils.append(CoilModel(tuple(sides), w.turns * w.conductor.area,
-                                       turn_regions=True, layers=tuple(layers)))
+                coils.append(turn_coil(limb, w, ((name, 1),), regions))
                 continue
             regions.append(Region(name, (Rect(x0, c.mid - 0.5 * w.length, x0 + w.thickness,
                                               c.mid + 0.5 * w.length),), "air", kind="coil"))
