@@ -386,13 +386,7 @@ def surface_area(case: Case, sol: Any) -> float:
     pts = mesh.p[:, np.unique(mesh.t[:3, idx])]
     x0, y0 = pts.min(axis=1)
     x1, y1 = pts.max(axis=1)
-    if core_model(case).axisymmetric:
-        radius, height = float(x1), float(y1 - y0)
-        return 2.0 * math.pi * radius ** 2 + 2.0 * math.pi * radius * height
-    build = max((w.inner + w.clearance + w.thickness for w in case.windings), default=0.0)
-    d = case.depth + 2.0 * build
-    w_, h_ = float(x1 - x0), float(y1 - y0)
-    return 2.0 * (w_ * h_ + w_ * d + h_ * d)
+    return _box_surface(case, float(x0), float(y0), float(x1), float(y1))
 
 
 # ------------------------------------------------------------------ the budget
@@ -549,6 +543,18 @@ POINT_KEYS = ("core_loss", "copper_loss", "winding_loss_ac", "total_loss", "effi
 case has)."""
 
 
+def _box_surface(case: Case, x0: float, y0: float, x1: float, y1: float) -> float:
+    """The outside surface (m^2) of the box round the drawing's extent x0..x1, y0..y1 (m), as
+    :func:`surface_area` describes it."""
+    if core_model(case).axisymmetric:
+        radius, height = x1, y1 - y0
+        return 2.0 * math.pi * radius ** 2 + 2.0 * math.pi * radius * height
+    build = max((w.inner + w.clearance + w.thickness for w in case.windings), default=0.0)
+    d = case.depth + 2.0 * build
+    w_, h_ = x1 - x0, y1 - y0
+    return 2.0 * (w_ * h_ + w_ * d + h_ * d)
+
+
 def layout_surface_area(case: Case) -> float:
     """:func:`surface_area` without a mesh (a hand-only sweep point): the same box round the
     layout's regions (their bounding boxes; equal to the mesh's for straight-sided regions,
@@ -561,13 +567,7 @@ def layout_surface_area(case: Case) -> float:
                       if r.name not in ("air", "exterior")])
     x0, y0 = boxes[:, 0].min(), boxes[:, 1].min()
     x1, y1 = boxes[:, 2].max(), boxes[:, 3].max()
-    if core_model(case).axisymmetric:
-        radius, height = float(x1), float(y1 - y0)
-        return 2.0 * math.pi * radius ** 2 + 2.0 * math.pi * radius * height
-    build = max((w.inner + w.clearance + w.thickness for w in case.windings), default=0.0)
-    d = case.depth + 2.0 * build
-    w_, h_ = float(x1 - x0), float(y1 - y0)
-    return 2.0 * (w_ * h_ + w_ * d + h_ * d)
+    return _box_surface(case, float(x0), float(y0), float(x1), float(y1))
 
 
 def point_budget(case: Case, sol: Any = None, *, hand_core: tuple[float, float] | None = None,
