@@ -121,8 +121,8 @@ MUTATIONS: tuple[Mutation, ...] = (
       "Dowell's h/delta without the porosity factor",
       ("tests/test_ac_windings.py",)),
     M("ac-return-side-same-sign", "compare/design/coremodel.py",
-      "zip((p_name, m_name), (1, -1),",
-      "zip((p_name, m_name), (1, 1),",
+      "((p_name, 1), (m_name, -1)), regions)",
+      "((p_name, 1), (m_name, 1)), regions)",
       "the return coil side's turns carry the current the same way as the go side's",
       ("tests/test_ac_windings.py",)),
     # ---------------------------------------------------------------- compare: FE measurements
