@@ -52,6 +52,13 @@ def _positive(name: str, value: float) -> float:
     return v
 
 
+def _frequency(value: float) -> float:
+    f = float(value)
+    if not (math.isfinite(f) and f >= 0):
+        raise ValueError(f"frequency = {value!r} must be >= 0")
+    return f
+
+
 def rod_eddy_loss_low_frequency(conductivity: float, frequency: float, b_peak: float,
                                 radius: float, length: float) -> float:
     """Time-average eddy loss (W) of a solid round rod (radius m, length m,
@@ -61,9 +68,7 @@ def rod_eddy_loss_low_frequency(conductivity: float, frequency: float, b_peak: f
     s = _positive("conductivity", conductivity)
     a = _positive("radius", radius)
     L = _positive("length", length)
-    f = float(frequency)
-    if not (math.isfinite(f) and f >= 0):
-        raise ValueError(f"frequency = {frequency!r} must be >= 0")
+    f = _frequency(frequency)
     w = 2.0 * math.pi * f
     return math.pi * s * w ** 2 * float(b_peak) ** 2 * a ** 4 * L / 16.0
 
@@ -79,9 +84,7 @@ def rod_eddy_loss(conductivity: float, mu_r: float, frequency: float, h_peak: fl
     mr = _positive("mu_r", mu_r)
     a = _positive("radius", radius)
     L = _positive("length", length)
-    f = float(frequency)
-    if not (math.isfinite(f) and f >= 0):
-        raise ValueError(f"frequency = {frequency!r} must be >= 0")
+    f = _frequency(frequency)
     if f == 0.0:
         return 0.0
     w = 2.0 * math.pi * f
@@ -107,9 +110,7 @@ def rod_eddy_loss_imposed_flux(conductivity: float, mu_r: float, frequency: floa
     mr = _positive("mu_r", mu_r)
     a = _positive("radius", radius)
     _positive("length", length)
-    f = float(frequency)
-    if not (math.isfinite(f) and f >= 0):
-        raise ValueError(f"frequency = {frequency!r} must be >= 0")
+    f = _frequency(frequency)
     if f == 0.0:
         return 0.0
     mu = mu_0 * mr
