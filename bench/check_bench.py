@@ -128,7 +128,7 @@ def main(argv=None) -> int:
 def _record(path, argv) -> None:
     from worktree import record_output  # bench/worktree.py, beside this script
 
-    record_output(path, "python bench/check_bench.py " + " ".join(sys.argv[1:] if argv is None else argv))
+    record_output(path, "check_bench.py", argv)
 
 
 if __name__ == "__main__":

@@ -196,7 +196,7 @@ def main(argv=None) -> int:
 def _record(path, argv) -> None:
     from worktree import record_output  # bench/worktree.py, beside this script
 
-    record_output(path, "python bench/sweep_bench.py " + " ".join(sys.argv[1:] if argv is None else argv))
+    record_output(path, "sweep_bench.py", argv)
 
 
 if __name__ == "__main__":

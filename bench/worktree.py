@@ -41,16 +41,18 @@ class _Tee:
             s.flush()
 
 
-def record_output(path: str | None, command: str) -> None:
+def record_output(path: str | None, script: str, argv: list[str] | None = None) -> None:
     """From now on, what the bench prints goes to ``path`` too, after a
     header line: the UTC date, this tree's revision (``+`` when its code has
-    uncommitted changes), the load average and the command.  README.md's
+    uncommitted changes), the load average and the command (``python
+    bench/<script>`` with ``argv``, else this process's arguments).  README.md's
     speed tables are these files (tools/make_readme.py, blocks ``bench-*``)."""
     import sys
     import time
 
     if not path:
         return
+    command = f"python bench/{script} " + " ".join(sys.argv[1:] if argv is None else argv)
     rev = subprocess.run(["git", "-C", ROOT, "rev-parse", "--short", "HEAD"],
                          capture_output=True, text=True).stdout.strip() or "?"
     # uncommitted changes to the code (not to the records or the docs)

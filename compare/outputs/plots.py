@@ -1343,6 +1343,21 @@ def _loss_value(p, key: str, model: str) -> float:
     return p.fe.get(f"loss_{key}_3d", math.nan)
 
 
+def _log_frequency(x_key: str, x) -> bool:
+    """A swept frequency (every value positive) is drawn on a log axis."""
+    return x_key.endswith("frequency") and all(v > 0 for v in x)
+
+
+def _sweep_axes(ax, x_label: str, ylabel: str, log_x: bool) -> None:
+    """A sweep panel's axes: labels, the log frequency axis, grid and legend."""
+    if log_x:
+        ax.set_xscale("log")
+    ax.set_xlabel(x_label)
+    ax.set_ylabel(ylabel)
+    ax.grid(alpha=0.3, which="both")
+    ax.legend(fontsize=7)
+
+
 def fig_sweep_loss(res, x_key: str, x_of, x_label: str):
     """The loss budget along a sweep (compare.models.loss.point_budget): core and total loss
     (W), the temperature-rise estimate (K) and a transformer's efficiency at rated load (%),
@@ -1362,7 +1377,7 @@ def fig_sweep_loss(res, x_key: str, x_of, x_label: str):
                        (("efficiency", "efficiency", m.efficiency, 100.0),)))
     models = ("hand", "FE") if res.with_fe else ("hand",)
     fig, axes = plt.subplots(1, len(panels), figsize=(5.2 * len(panels), 4.2), squeeze=False)
-    log_x = x_key.endswith("frequency") and all(v > 0 for v in x)
+    log_x = _log_frequency(x_key, x)
     for ax, (ylabel, series) in zip(axes[0], panels):
         for s, (key, what, limit, scale) in enumerate(series):
             for model in models:
@@ -1373,12 +1388,7 @@ def fig_sweep_loss(res, x_key: str, x_of, x_label: str):
             if limit is not None:
                 ax.axhline(scale * limit, color=MARGIN_COLOUR, lw=1.4, ls="--" if s == 0 else ":",
                            label=f"{what} limit {scale * limit:.4g} {_LOSS_UNIT[key]}")
-        if log_x:
-            ax.set_xscale("log")
-        ax.set_xlabel(x_label)
-        ax.set_ylabel(ylabel)
-        ax.grid(alpha=0.3, which="both")
-        ax.legend(fontsize=7)
+        _sweep_axes(ax, x_label, ylabel, log_x)
     failed = [r for r in sweep_loss_margins(res.case, res.points, res.with_fe)
               if r.margin_pct < 0]
     fig.suptitle(f"{res.case.name}: loss budget along the sweep, hand and FE (3D)"
@@ -1408,14 +1418,9 @@ def fig_sweep_ac(res, x_key: str, x_of, x_label: str):
     lim = res.case.margins.resistance_ratio
     if lim is not None:
         a1.axhline(lim, color=MARGIN_COLOUR, lw=1.4, ls="--", label=f"R_ac/R_dc limit {lim:g}")
-    log_x = x_key.endswith("frequency") and all(v > 0 for v in x)
+    log_x = _log_frequency(x_key, x)
     for ax, ylabel in ((a1, "R_ac / R_dc"), (a2, "L_ac (uH)")):
-        if log_x:
-            ax.set_xscale("log")
-        ax.set_xlabel(x_label)
-        ax.set_ylabel(ylabel)
-        ax.grid(alpha=0.3, which="both")
-        ax.legend(fontsize=7)
+        _sweep_axes(ax, x_label, ylabel, log_x)
     if log_x:
         a1.set_yscale("log")
     hand_form, fe_form = comparison_forms(res.case)
