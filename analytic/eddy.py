@@ -59,6 +59,18 @@ def _frequency(value: float) -> float:
     return f
 
 
+def j1_over_j0(x: complex) -> complex:
+    """J1(x) / J0(x) for x = k a, k = (1 - j) / delta: the series x/2 + x^3/16 + x^5/96 for
+    |x| < 1e-3 [derived from the Bessel series], the deep-skin limit -j when Im x < -600
+    (where J0 and J1 overflow), else scipy.special.jv."""
+    x = complex(x)
+    if abs(x) < 1e-3:
+        return x / 2.0 + x ** 3 / 16.0 + x ** 5 / 96.0
+    if x.imag < -600:
+        return -1j
+    return complex(special.jv(1, x) / special.jv(0, x))
+
+
 def rod_eddy_loss_low_frequency(conductivity: float, frequency: float, b_peak: float,
                                 radius: float, length: float) -> float:
     """Time-average eddy loss (W) of a solid round rod (radius m, length m,
@@ -89,13 +101,7 @@ def rod_eddy_loss(conductivity: float, mu_r: float, frequency: float, h_peak: fl
         return 0.0
     w = 2.0 * math.pi * f
     k = np.sqrt(-1j * w * mu_0 * mr * s)
-    x = k * a
-    if abs(x) < 1e-3:  # the series, where J1/J0 loses digits
-        ratio = x / 2.0 + x ** 3 / 16.0 + x ** 5 / 96.0
-    elif x.imag < -600:  # deep skin: J1/J0 -> -j (asymptotic), no overflow
-        ratio = -1j * (1.0 + 0j)
-    else:
-        ratio = special.jv(1, x) / special.jv(0, x)
+    ratio = j1_over_j0(k * a)
     return float(-math.pi * a * L * abs(h_peak) ** 2 * np.real(k * ratio / s))
 
 
@@ -116,11 +122,6 @@ def rod_eddy_loss_imposed_flux(conductivity: float, mu_r: float, frequency: floa
     mu = mu_0 * mr
     k = np.sqrt(-1j * 2.0 * math.pi * f * mu * s)
     x = k * a
-    if abs(x) < 1e-3:
-        g = 1.0 - x ** 2 / 8.0  # 2 J1(x) / (x J0(x)), series
-    elif x.imag < -600:
-        g = 2.0 * (-1j) / x  # J1/J0 -> -j, deep skin
-    else:
-        g = 2.0 * special.jv(1, x) / (x * special.jv(0, x))
+    g = 2.0 * j1_over_j0(x) / x  # 2 J1(x) / (x J0(x))
     h0 = abs(float(flux_peak)) / (mu * math.pi * a ** 2 * abs(g))
     return rod_eddy_loss(s, mr, f, h0, a, length)

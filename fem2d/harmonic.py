@@ -58,11 +58,11 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.constants import mu_0
 from scipy.sparse.linalg import splu
-from threadpoolctl import threadpool_limits
 
 from .assembly import Assembler
 from .errors import PostError, SolverInputError, finite_number
 from .layout import MeshSettings
+from .linsolve import one_blas_thread
 from .mesh import RegionMesh
 from .sources import Background, Coil
 
@@ -423,7 +423,7 @@ class HarmonicProblem:
         # symmetric mode (Z is complex symmetric): 12k P2 DOFs 0.3 s
         # against 0.4 s for COLAMD and twice its fill; on 72k unknowns
         # 0.64 s against 10.6 s (COLAMD) and 60 s (reverse Cuthill-McKee)
-        with threadpool_limits(limits=1):
+        with one_blas_thread():
             self.lu = splu(ZII.astype(complex), permc_spec="MMD_AT_PLUS_A",
                            options=dict(SymmetricMode=True))
             if conds:
@@ -516,7 +516,7 @@ class HarmonicProblem:
         rhs_c = (np.array([cur[c.winding] * c.sign if c.winding is not None else 0.0
                            for c in self.conductors], dtype=complex)
                  + 1j * w * (self.B[self.D].T @ u[self.D]))
-        with threadpool_limits(limits=1):
+        with one_blas_thread():
             y = self.lu.solve(rhs_u)
             if self.conductors:
                 from scipy.linalg import lu_solve

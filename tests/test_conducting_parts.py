@@ -257,3 +257,15 @@ def test_planar_conducting_core_row_is_fe_only(tmp_path):
     # problem); 1e-6 for the sums' roundoff
     assert ac.fe["R_ac"] + 2 * ac.part_loss_fe["core"] / ac.current_ac ** 2 == pytest.approx(
         z.R, rel=1e-6)
+
+
+@pytest.mark.parametrize("x", [5e-4 * (1 - 1j), 9e-4 * (1 - 1j), 2e-3 * (1 - 1j), 3.0 * (1 - 1j)])
+def test_j1_over_j0_branches_are_scipys(x):
+    # Source: scipy.special.jv (a general-purpose reference library); the small-x series
+    # x/2 + x^3/16 + x^5/96 of J1/J0 is derived from the Bessel series and is exact to
+    # O(x^7): at |x| < 1e-3 the two agree to 1e-13 (a sign slip in the x^3 term would
+    # show as x^2/8 ~ 1e-7)
+    from magcheck.analytic.eddy import j1_over_j0
+
+    ref = special.jv(1, x) / special.jv(0, x)
+    assert abs(j1_over_j0(x) - ref) <= 1e-13 * abs(ref)

@@ -452,13 +452,16 @@ def run_ac(case: Case, fe: Any, hand_p: Any = None, hand_3d: Any = None) -> ACRe
     from ..errors import RunError
 
     sols = tuple(fe.solutions) or (fe.solution,)
+    runs = []
     try:
-        runs = [fe_ac(case, s) for s in sols]
+        for s in sols:
+            runs.append(fe_ac(case, s))
+            # keep each mesh's field (the finest for the figure), not its factors: one
+            # factorisation in memory at a time
+            runs[-1]["solution"].problem.release_factorisation()
     except SolverInputError as exc:  # the factorisation's memory guard
         raise RunError(f"AC solve of {case.name}: {exc}") from None
     fine = runs[-1]
-    for r in runs:  # keep the finest field for the figure, not the factors
-        r["solution"].problem.release_factorisation()
     keys = tuple(fine["values"])  # AC_KEYS, and per winding with several
     if len(runs) == 3:
         unc = {k: uncertainty_rule(*(r["values"][k] for r in runs)) for k in keys}

@@ -106,14 +106,13 @@ def density_law(case: Case) -> Any:
     c = case.core_loss.per_volume()
     spec = _spec(case)
     f = flux_frequency(case)
-    ki = cl.igse_ki(c)
+    # each law is analytic.core_loss's at Delta B = 1 T, scaled by |Delta B|^beta
     if spec.waveform == "triangle":
-        d, a = spec.duty, c.alpha
-        factor = ki * f ** a * (d ** (1.0 - a) + (1.0 - d) ** (1.0 - a))
+        factor = cl.igse_triangle_loss(c, f, 1.0, spec.duty)
     elif spec.waveform == "square":
-        factor = ki * f ** c.alpha * 2.0 ** c.alpha * spec.duty ** (1.0 - c.alpha)
+        factor = cl.igse_square_voltage_loss(c, f, 1.0, spec.duty)
     else:  # Steinmetz at B_pk = Delta B / 2
-        factor = c.k * f ** c.alpha * 0.5 ** c.beta
+        factor = cl.steinmetz_loss(c, f, 0.5)
 
     def law(delta_b: Any) -> Any:
         return factor * np.abs(delta_b) ** c.beta
@@ -360,14 +359,14 @@ def run_core_loss(case: Case, fe: Any) -> CoreLoss:
     tri, dens = fine["map"]
     from ..errors import CaseWarning, warn
 
-    for msg in range_notes(case, hp["segments"] + h3["segments"]):
+    notes = range_notes(case, hp["segments"] + h3["segments"])
+    for msg in notes:
         warn(CaseWarning("materials.core_loss", case.core_loss.source, msg))
     spec = _spec(case)
     return CoreLoss(flux_frequency(case), spec.waveform, spec.duty, hp["total"],
                     h3["total"], fine["total"], fine["total"] * ratio, unc, fine["uniform"],
                     tuple(hp["segments"]), tuple(fine["legs"]), h3["split"],
-                    range_notes(case, hp["segments"] + h3["segments"]),
-                    tri, dens, case.core_loss.source, fine["volume"],
+                    notes, tri, dens, case.core_loss.source, fine["volume"],
                     time.perf_counter() - t0)
 
 

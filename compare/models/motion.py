@@ -267,29 +267,33 @@ def leave_one_out_error(strokes: np.ndarray, currents: np.ndarray, f: np.ndarray
     row's largest, the linkage over its own), as fractions, under
     ``force_current``, ``force_stroke``, ``linkage_current``, ``linkage_stroke``
     and ``force``/``linkage`` (the larger of the two directions)."""
-    out: dict[str, float] = {}
-    for what, table in (("force", f), ("linkage", lam)):
-        worst_i = worst_s = 0.0
-        for k in range(1, currents.size - 1):
-            keep = np.arange(currents.size) != k
-            g = GridMap(currents[keep], strokes, f[keep], lam[keep], gap_open, square)
+    tables = {"force": f, "linkage": lam}
+    worst = {(what, d): 0.0 for what in tables for d in ("current", "stroke")}
+    for k in range(1, currents.size - 1):  # each left-out map built once, both quantities on it
+        keep = np.arange(currents.size) != k
+        g = GridMap(currents[keep], strokes, f[keep], lam[keep], gap_open, square)
+        for what, table in tables.items():
+            at = g.force if what == "force" else g.linkage
             for j, s in enumerate(strokes):
-                got = (g.force if what == "force" else g.linkage)(currents[k], s)
                 scale = abs(table[:, j]).max() if what == "force" else abs(table[k, j])
                 if scale > 0:
-                    worst_i = max(worst_i, abs(got - table[k, j]) / scale)
-        for j in range(1, strokes.size - 1):
-            keep = np.arange(strokes.size) != j
-            g = GridMap(currents, strokes[keep], f[:, keep], lam[:, keep], gap_open, square)
+                    worst[what, "current"] = max(worst[what, "current"],
+                                                 abs(at(currents[k], s) - table[k, j]) / scale)
+    for j in range(1, strokes.size - 1):
+        keep = np.arange(strokes.size) != j
+        g = GridMap(currents, strokes[keep], f[:, keep], lam[:, keep], gap_open, square)
+        for what, table in tables.items():
+            at = g.force if what == "force" else g.linkage
             for k, i in enumerate(currents):
-                if i == 0.0:
-                    continue
-                got = (g.force if what == "force" else g.linkage)(i, strokes[j])
                 scale = abs(table[k, j])
-                if scale > 0:
-                    worst_s = max(worst_s, abs(got - table[k, j]) / scale)
-        out[f"{what}_current"], out[f"{what}_stroke"] = worst_i, worst_s
-        out[what] = max(worst_i, worst_s)
+                if i == 0.0 or not scale > 0:
+                    continue
+                worst[what, "stroke"] = max(worst[what, "stroke"],
+                                            abs(at(i, strokes[j]) - table[k, j]) / scale)
+    out: dict[str, float] = {}
+    for what in tables:
+        out[f"{what}_current"], out[f"{what}_stroke"] = worst[what, "current"], worst[what, "stroke"]
+        out[what] = max(worst[what, "current"], worst[what, "stroke"])
     return out
 
 

@@ -955,18 +955,18 @@ def fig_loss_density(res: CheckResult):
     ax.set_xlim(tri[..., 0].min(), tri[..., 0].max())
     ax.set_ylim(tri[..., 1].min(), tri[..., 1].max())
     ax.set_aspect("equal")
-    ax.set_xlabel("r (mm)" if res.case.family_model and _is_rz(res) else "x (mm)")
-    ax.set_ylabel("z (mm)" if _is_rz(res) else "y (mm)")
+    _section_labels(ax, res)
     hand = ", ".join(f"{s['name']} {s['density'] / 1e3:.3g}" for s in c.hand_segments[:4])
     ax.set_title(f"FE core-loss density ({c.waveform}, {c.frequency:g} Hz): {c.fe:.4g} W; "
                  f"hand {c.hand:.4g} W\nhand per segment (kW/m³): {hand}", fontsize=8)
     return fig
 
 
-def _is_rz(res: CheckResult) -> bool:
-    from ..design.coremodel import core_model
-
-    return bool(core_model(res.case).axisymmetric)
+def _section_labels(ax, res: CheckResult) -> None:
+    """Axis names of a drawing of the section: r, z for an r-z solution, else x, y."""
+    rz = _mirrored(res)
+    ax.set_xlabel("r (mm)" if rz else "x (mm)")
+    ax.set_ylabel("z (mm)" if rz else "y (mm)")
 
 
 def fig_loss_budget(res: CheckResult):
@@ -1049,8 +1049,7 @@ def fig_ac_loss(res: CheckResult):
     ax.set_xlim(pts[0].min() - pad, pts[0].max() + pad)
     ax.set_ylim(pts[1].min() - pad, pts[1].max() + pad)
     ax.set_aspect("equal")
-    ax.set_xlabel("x (mm)")
-    ax.set_ylabel("y (mm)")
+    _section_labels(ax, res)
     ax.set_title(f"{res.case.name}: AC loss density at {ac.frequency / 1e3:.4g} kHz "
                  f"(finest mesh, gaps outlined)", fontsize=9)
     return fig
