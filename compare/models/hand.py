@@ -13,7 +13,7 @@ from __future__ import annotations
 import logging
 import math
 from dataclasses import dataclass, field, replace
-from typing import Any
+from typing import Any, Optional
 
 from magcheck.analytic.fringing import (GapFace, GapSides, effective_area, gap_permeance,
                                         gap_permeance_derivative, get_fringing)
@@ -520,13 +520,14 @@ def cancelling_windings(case: Case, hand: HandResult) -> tuple[str, ...]:
     return tuple(w.name for w in active)
 
 
-def sign_reference(case: Case, lam_raw: float) -> float:
+def sign_reference(case: Case, lam_raw: float, sense: Optional[int] = None) -> float:
     """The reference whose sign the signed quantities take (:func:`signed`):
     with magnets the first winding's raw flux linkage (own frame, Wb) times
-    :func:`magnet_sense`, so that values point along the magnet's own
-    direction; with several windings that raw linkage; with one winding its
-    current (A)."""
-    s_m = magnet_sense(case)
+    :func:`magnet_sense` (``sense``, when the caller has it: a geometric fact,
+    the same at every current of one geometry), so that values point along the
+    magnet's own direction; with several windings that raw linkage; with one
+    winding its current (A)."""
+    s_m = magnet_sense(case) if sense is None else sense
     if s_m:
         return s_m * lam_raw
     return lam_raw if len(case.windings) > 1 else case.winding.current

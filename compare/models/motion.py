@@ -56,7 +56,7 @@ from ..design.case import Case, with_current
 from ..errors import CaseError, RunError
 
 __all__ = ["CURRENT_TOP", "MODELS", "MotionMaps", "ModelMotion", "MotionResult", "map_strokes",
-           "map_currents", "hand_maps", "fe_point", "fe_maps", "leave_one_out_error", "model_motion",
+           "map_currents", "hand_maps", "point_setup", "fe_point", "fe_maps", "leave_one_out_error", "model_motion",
            "run_motion", "case_at", "KEYS", "UNITS", "MAP_TOL", "interpolation_uncertainty"]
 
 CURRENT_TOP = 1.5
@@ -162,34 +162,45 @@ def hand_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
     return out
 
 
-def fe_point(case: Case, mesh: Any, A0: Any, linear: Any) -> tuple[float, float, Any]:
+def point_setup(case: Case) -> tuple[Any, Any, Any, Any, int]:
+    """What the map's points at one stroke share, whatever their current:
+    (materials, sources, the first coil, the force spec, the magnets' sense;
+    compare.models.fe, compare.models.hand.magnet_sense)."""
+    from ..design.coremodel import core_model
+    from .fe import _materials, winding_sources
+    from .hand import magnet_sense
+
+    model = core_model(case)
+    spec = model.force
+    assert spec is not None  # a [motion] case has a moving part (compare.reading.motion)
+    return _materials(case), winding_sources(case), model.coils[0], spec, magnet_sense(case)
+
+
+def fe_point(case: Case, mesh: Any, A0: Any, linear: Any,
+             setup: Optional[tuple] = None) -> tuple[float, float, Any]:
     """One map point: the field solved (the check's solver, materials and
     sources: compare.models.fe) and only what the map needs measured, the
     closing force by the weighted Maxwell stress (N) and the winding's flux
-    linkage (Wb-turns, signed as the check's), with the solution.  Raises
+    linkage (Wb-turns, signed as the check's), with the solution.  ``setup``:
+    :func:`point_setup` of the same stroke (made here when not given).  Raises
     RunError when it does not converge."""
     from magcheck.fem2d import post
     from magcheck.fem2d.force import maxwell_force
     from magcheck.fem2d.solver import ConvergenceError, solve
 
-    from ..design.coremodel import core_model
-    from .fe import _materials, winding_currents, winding_sources
+    from .fe import winding_currents
     from .hand import sign_reference, signed
 
+    materials, sources, coil, spec, sense = setup or point_setup(case)
     try:
-        sol = solve(mesh, _materials(case), sources=winding_sources(case),
-                    currents=winding_currents(case), tol=case.fe.tol, A0=A0,
-                    linear_solver=linear)
+        sol = solve(mesh, materials, sources=sources, currents=winding_currents(case),
+                    tol=case.fe.tol, A0=A0, linear_solver=linear)
     except ConvergenceError as exc:
         raise RunError(f"field solve did not converge: {exc}") from None
-    model = core_model(case)
-    w, coil = case.winding, model.coils[0]
-    lam = post.flux_linkage(sol, w.turns, coil.go, coil.back)
-    spec = model.force
-    assert spec is not None  # a [motion] case has a moving part (compare.reading.motion)
+    lam = post.flux_linkage(sol, case.winding.turns, coil.go, coil.back)
     fx, fy = maxwell_force(sol, spec.body).force
     dx, dy = spec.direction
-    return fx * dx + fy * dy, signed(lam, sign_reference(case, lam)), sol
+    return fx * dx + fy * dy, signed(lam, sign_reference(case, lam, sense)), sol
 
 
 def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
@@ -216,6 +227,7 @@ def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
             cs = dataclasses.replace(cs, fe=dataclasses.replace(cs.fe,
                                                                 tol=max(cs.fe.tol, MAP_TOL)))
             linear = DirectReuse()
+            setup = point_setup(cs)  # the same at every current of this stroke
             solved.clear()  # this stroke's solutions (its own mesh)
             A: Any = None
             prev = 0.0
@@ -234,7 +246,7 @@ def fe_maps(case: Case, strokes: np.ndarray, currents: np.ndarray,
                     A0 = None if A is None else A * (float(i) / prev)
                 try:
                     f[k, j], lam[k, j], sol = fe_point(with_current(cs, float(i)), mesh, A0,
-                                                       linear)
+                                                       linear, setup)
                 except RunError as exc:
                     raise RunError(f"motion map at {spec.stroke_key} = {spec.gap(strokes[j]):.6g} "
                                    f"m, {float(i):.6g} A: {exc}") from None
