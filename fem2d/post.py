@@ -282,15 +282,9 @@ def _locator(sol) -> _Locator:
     depends on the geometry only) and kept in the assembler's per-mesh cache,
     so every solve on that mesh (a sweep's points, a drive curve) shares it."""
     asm = _asm(sol)
-    loc = getattr(asm, "_locator", None)
+    loc = asm.shared.get("_locator")
     if loc is None:
-        shared = getattr(asm, "shared", None)
-        loc = shared.get("_locator") if shared is not None else None
-        if loc is None:
-            loc = _Locator(asm)
-            if shared is not None:
-                shared["_locator"] = loc
-        asm._locator = loc
+        loc = asm.shared["_locator"] = _Locator(asm)
     return loc
 
 
